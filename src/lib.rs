@@ -1,0 +1,7 @@
+//! # skyclock
+//!
+//! Timing periodic astronomical sources: arrival times from any clock and any site are put
+//! on one scale at the solar-system barycentre (BJD_TDB); later stages search for periods
+//! and measure timings against ephemerides.
+
+pub mod time;
