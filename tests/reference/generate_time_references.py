@@ -230,8 +230,8 @@ def calendar():
     steps = erfa.leap_seconds.get()
     for y, m, _dat in steps:
         y, m = int(y), int(m)
-        if y < 1972:
-            continue
+        if (y, m) <= (1972, 1):
+            continue   # 1971-12-31 ended with a fractional (0.107758 s) step, not a leap second
         djm0, djm = erfa.cal2jd(y, m, 1)
         py, pm, pd, _ = erfa.jd2cal(djm0, djm - 1.0)
         for ss in (59.5, 60.5):
