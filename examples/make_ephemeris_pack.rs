@@ -20,7 +20,7 @@
 //! 3. Writes the pack (format: `src/ephemeris/pack.rs`) and prints its size and the
 //!    measured maximum position and velocity errors against DE440.
 //! 4. With `--slice-dir`: writes tiny kernels sliced from DE440 for the tests (EMB wrt SSB,
-//!    Earth wrt EMB and Sun wrt SSB over 32 days from 2024-01-14): little-endian
+//!    Earth wrt EMB and Sun wrt SSB over 32 days from 2023-12-26): little-endian
 //!    (`de440_slice_le.bsp`), big-endian (`de440_slice_be.bsp`), and the same records
 //!    rewritten as SPK type 3 with velocity coefficients from the derivative series
 //!    (`de440_slice_type3.bsp`).
@@ -233,9 +233,9 @@ fn write_slices(kernel: &SpkKernel, dir: &std::path::Path) -> Result<()> {
         let summary = &segments[index];
         let dir_info = kernel.directory(index).context("not a Chebyshev segment")?;
         // The 32-day block (aligned on DE440's record boundaries) that starts nearest
-        // 2024-01-01 TDB.
+        // 8760 days after J2000 (2023-12-26 TDB).
         let block = span_days * DAY;
-        let want = (24 * 365) as f64 * DAY; // ≈ 2024-01-01
+        let want = (24 * 365) as f64 * DAY; // 8760 days after J2000: 2023-12-26
         let k = ((want - dir_info.init_seconds) / block).round();
         let start = dir_info.init_seconds + k * block;
         let first = ((start - dir_info.init_seconds) / dir_info.interval_seconds).round() as usize;
