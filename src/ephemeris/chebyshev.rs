@@ -31,27 +31,35 @@ pub fn basis_with_derivative(x: f64, n: usize, t: &mut [f64], dt: &mut [f64]) {
 }
 
 /// Evaluates three series (x, y, z components stored one after another, `n` coefficients
-/// each, in `coefficients[0..3n]`) and their derivatives with respect to `x`.
+/// each, in `coefficients[0..3n]`) and their derivatives with respect to `x`, by the
+/// Clenshaw recurrence and its derivative (the three components interleaved).
 /// Returns `(values, d values / dx)`.
+/// Source: Clenshaw (1955), MTAC 9, 118; Numerical Recipes, 3rd ed., §5.8.
 #[inline]
 pub fn evaluate3(coefficients: &[f64], n: usize, x: f64) -> ([f64; 3], [f64; 3]) {
-    let mut t = [0.0; MAX_COEFFICIENTS];
-    let mut dt = [0.0; MAX_COEFFICIENTS];
-    let n = n.min(MAX_COEFFICIENTS);
-    basis_with_derivative(x, n, &mut t, &mut dt);
+    let (cx, rest) = coefficients[..3 * n].split_at(n);
+    let (cy, cz) = rest.split_at(n);
+    let two_x = 2.0 * x;
+    // b: Clenshaw sums; d: their derivatives with respect to x.
+    let (mut b1, mut b2) = ([0.0f64; 3], [0.0f64; 3]);
+    let (mut d1, mut d2) = ([0.0f64; 3], [0.0f64; 3]);
+    for k in (1..n).rev() {
+        let c = [cx[k], cy[k], cz[k]];
+        for j in 0..3 {
+            let d0 = 2.0 * b1[j] + two_x * d1[j] - d2[j];
+            let b0 = c[j] + two_x * b1[j] - b2[j];
+            d2[j] = d1[j];
+            d1[j] = d0;
+            b2[j] = b1[j];
+            b1[j] = b0;
+        }
+    }
+    let c0 = [cx[0], cy[0], cz[0]];
     let mut value = [0.0; 3];
     let mut slope = [0.0; 3];
-    for c in 0..3 {
-        let coef = &coefficients[c * n..(c + 1) * n];
-        let mut v = 0.0;
-        let mut s = 0.0;
-        // Highest order first: small terms summed before large ones.
-        for k in (0..n).rev() {
-            v += coef[k] * t[k];
-            s += coef[k] * dt[k];
-        }
-        value[c] = v;
-        slope[c] = s;
+    for j in 0..3 {
+        value[j] = c0[j] + x * b1[j] - b2[j];
+        slope[j] = b1[j] + x * d1[j] - d2[j];
     }
     (value, slope)
 }
@@ -115,6 +123,27 @@ pub fn derivative_coefficients(c: &[f64]) -> Vec<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Clenshaw (fast path) against direct summation of T_k and T_k' (the exact twin).
+    #[test]
+    fn clenshaw_matches_direct_summation() {
+        for n in [1usize, 2, 3, 13, 27, 40] {
+            let coefs: Vec<f64> =
+                (0..3 * n).map(|i| ((i * 7919 % 113) as f64 - 56.0) * 10f64.powi(-((i % n) as i32))).collect();
+            for x in [-1.0, -0.77, 0.0, 0.31, 1.0] {
+                let mut t = vec![0.0; n];
+                let mut dt = vec![0.0; n];
+                basis_with_derivative(x, n, &mut t, &mut dt);
+                let (v, s) = evaluate3(&coefs, n, x);
+                for c in 0..3 {
+                    let dv: f64 = (0..n).map(|k| coefs[c * n + k] * t[k]).sum();
+                    let ds: f64 = (0..n).map(|k| coefs[c * n + k] * dt[k]).sum();
+                    assert!((v[c] - dv).abs() <= 1e-12 * (1.0 + dv.abs()), "n={n} x={x}");
+                    assert!((s[c] - ds).abs() <= 1e-11 * (1.0 + ds.abs()), "n={n} x={x}: {} {ds}", s[c]);
+                }
+            }
+        }
+    }
 
     #[test]
     fn fit_reproduces_a_polynomial_and_its_derivative() {

@@ -32,21 +32,24 @@ pub use spk::SpkKernel;
 /// Speed of light in vacuum, km/s (exact, SI).
 pub const SPEED_OF_LIGHT_KM_PER_S: f64 = 299_792.458;
 
-/// Heliocentric gravitational constant GM_Sun, km³/s², from the DE440 header (`GMS` in
-/// au³/day² = 2.9591220828411951e-4, with au = 149 597 870.700 km): the TDB-compatible value.
-/// Source: Park et al. (2021), AJ 161, 105, Table 8; DE440 header constants.
+// Gravitational parameters GM, km³/s², of the DE440 integration, as published by NAIF in
+// the planetary constants kernel `gm_de440.tpc` (BODY10_GM, BODY5_GM, …); see also
+// Park et al. (2021), AJ 161, 105, "The JPL Planetary and Lunar Ephemerides DE440 and
+// DE441". Planet values are for the whole system (planet + satellites).
+
+/// GM of the Sun, km³/s² (DE440, TDB-compatible).
 pub const GM_SUN_KM3_PER_S2: f64 = 132_712_440_041.279_42;
-/// GM of the Jupiter system (planet + satellites), km³/s², DE440 (Park et al. 2021, Table 8).
+/// GM of the Jupiter system (planet + satellites), km³/s² (DE440).
 pub const GM_JUPITER_SYSTEM_KM3_PER_S2: f64 = 126_712_764.1;
-/// GM of the Saturn system, km³/s², DE440 (Park et al. 2021, Table 8).
+/// GM of the Saturn system, km³/s² (DE440).
 pub const GM_SATURN_SYSTEM_KM3_PER_S2: f64 = 37_940_584.841_800;
-/// GM of the Uranus system, km³/s², DE440 (Park et al. 2021, Table 8).
+/// GM of the Uranus system, km³/s² (DE440).
 pub const GM_URANUS_SYSTEM_KM3_PER_S2: f64 = 5_794_556.4;
-/// GM of the Neptune system, km³/s², DE440 (Park et al. 2021, Table 8).
+/// GM of the Neptune system, km³/s² (DE440).
 pub const GM_NEPTUNE_SYSTEM_KM3_PER_S2: f64 = 6_836_527.100_580;
-/// GM of the Earth, km³/s², DE440 (Park et al. 2021, Table 8).
+/// GM of the Earth, km³/s² (DE440).
 pub const GM_EARTH_KM3_PER_S2: f64 = 398_600.435_507;
-/// GM of the Moon, km³/s², DE440 (Park et al. 2021, Table 8).
+/// GM of the Moon, km³/s² (DE440).
 pub const GM_MOON_KM3_PER_S2: f64 = 4_902.800_118;
 
 /// The bodies skyclock asks an ephemeris for. Planets are their system barycentres
