@@ -4,4 +4,5 @@
 //! on one scale at the solar-system barycentre (BJD_TDB); later stages search for periods
 //! and measure timings against ephemerides.
 
+pub mod ephemeris;
 pub mod time;
