@@ -4,5 +4,11 @@
 //! on one scale at the solar-system barycentre (BJD_TDB); later stages search for periods
 //! and measure timings against ephemerides.
 
+pub mod arrival;
+pub mod cli;
+pub mod config;
+pub mod demo;
+pub mod table;
 pub mod ephemeris;
+pub mod observer;
 pub mod time;

@@ -287,7 +287,7 @@ mod tests {
         assert!(m.seconds_since(&t).abs() < 1e-9);
         let r = parse_time("59000.123456789012", TimeFormat::ReducedJd, TimeScale::Tdb, &table()).unwrap();
         assert!(r.seconds_since(&t).abs() < 1e-9);
-        let two = parse_time("2459000.5+0.623456789012", TimeFormat::Jd, TimeScale::Tdb, &table()).unwrap();
+        let two = parse_time("2458999.5+0.623456789012", TimeFormat::Jd, TimeScale::Tdb, &table()).unwrap();
         assert!(two.seconds_since(&t).abs() < 1e-9);
         let two = parse_time("2459000.5 -0.376543210988", TimeFormat::Jd, TimeScale::Tdb, &table()).unwrap();
         assert!(two.seconds_since(&t).abs() < 1e-9, "{}", two.seconds_since(&t));

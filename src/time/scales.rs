@@ -118,8 +118,31 @@ impl ScaleConverter {
     /// approximated by the TT fraction minus 69 s (error ≪ 1 ns in the term).
     pub fn tt_to_tdb(&self, tt: &Instant) -> Instant {
         let ut_fraction = (tt.seconds_of_day() - 69.0).rem_euclid(86_400.0) / 86_400.0;
-        let dt = tdb_minus_tt_s(tt, self.site.as_ref(), ut_fraction);
+        self.tt_to_tdb_with_ut(tt, ut_fraction)
+    }
+
+    /// TT → TDB at this converter's site with the UT fraction of day given (UTC or UT1;
+    /// the difference changes the topocentric term by < 2e-10 s).
+    pub fn tt_to_tdb_with_ut(&self, tt: &Instant, ut_day_fraction: f64) -> Instant {
+        let dt = tdb_minus_tt_s(tt, self.site.as_ref(), ut_day_fraction);
         tt.add_seconds(dt).relabel(TimeScale::Tdb)
+    }
+
+    /// A UTC instant from a SOFA-style two-part quasi-JD (`iauDtf2d` convention: on a day
+    /// ending with a leap second the fraction counts 86401-s days).
+    pub fn utc_from_sofa_two_part(&self, jd1: f64, jd2: f64) -> Result<Instant, TimeError> {
+        let rough = Instant::from_jd_two_part(TimeScale::Utc, jd1, jd2);
+        let day = rough.mjd_day();
+        let length = self.leap_seconds.utc_day_length_s(day)?;
+        if length == 86_400.0 {
+            return Ok(rough);
+        }
+        let seconds = rough.day_fraction() * length;
+        Ok(if seconds >= 86_400.0 {
+            Instant::from_utc_parts_unchecked(day, seconds)
+        } else {
+            Instant::from_mjd_parts(TimeScale::Utc, day, seconds)
+        })
     }
 
     /// TDB → TT at this converter's site (two fixed-point iterations; converged to < 1e-15 s).
@@ -175,7 +198,8 @@ fn since_t0(t: &Instant) -> f64 {
 /// TDB → TCB (IAU 2006 Resolution B3). Exact by definition.
 pub fn tdb_to_tcb(tdb: &Instant) -> Instant {
     let x = since_t0(tdb);
-    let offset = (x - TDB0_S) / (1.0 - L_B) - x;
+    // (x − TDB0)/(1 − L_B) − x written without cancellation (as SOFA iauTdbtcb).
+    let offset = (x - TDB0_S) * (L_B / (1.0 - L_B)) - TDB0_S;
     tdb.add_seconds(offset).relabel(TimeScale::Tcb)
 }
 

@@ -1,0 +1,155 @@
+//! Streaming barycentric correction of photon-event files too large for memory.
+//!
+//! Reads a CSV/TSV event list block by block (default 10⁶ rows), carries the event times
+//! (seconds after a stated zero instant, on a stated scale) to TT, corrects them with the
+//! [`InterpolatedCorrector`], and appends a column `barycentric_s`: seconds after the same
+//! zero instant read on TDB at the solar-system barycentre. Every input line is passed
+//! through unchanged. Memory is bounded by the block size, whatever the file length.
+//! The output is written to a temporary file beside the target and renamed at the end.
+
+use std::io::{BufRead, BufReader, BufWriter, Write};
+use std::path::Path;
+
+use thiserror::Error;
+
+use super::correction::ArrivalError;
+use super::interpolated::InterpolatedCorrector;
+use crate::time::{Instant, ScaleConverter, TimeScale};
+
+/// Problems while streaming events.
+#[derive(Debug, Error)]
+pub enum EventStreamError {
+    #[error("{file}: {message}")]
+    File { file: String, message: String },
+    #[error("{file}, row {row}, column '{column}': {message}")]
+    Cell { file: String, row: usize, column: String, message: String },
+    #[error("{file}, rows {first_row}-{last_row}: {source}")]
+    Correction { file: String, first_row: usize, last_row: usize, source: ArrivalError },
+}
+
+/// Result of a streamed correction.
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
+pub struct EventStreamSummary {
+    /// Events corrected.
+    pub events: usize,
+    /// Smallest and largest correction, s.
+    pub min_correction_s: f64,
+    /// Largest correction, s.
+    pub max_correction_s: f64,
+}
+
+/// Streams `input` → `output`. `time_zero` fixes the origin and scale of the event times
+/// (UTC, TAI, TT, GPS, TDB…); the interpolator's reference must be `time_zero` on TT.
+pub fn correct_event_file(
+    input: &Path,
+    output: &Path,
+    time_column: &str,
+    time_zero: &Instant,
+    converter: &ScaleConverter,
+    interpolator: &InterpolatedCorrector,
+    block_rows: usize,
+) -> Result<EventStreamSummary, EventStreamError> {
+    let file = input.display().to_string();
+    let fail = |message: String| EventStreamError::File { file: file.clone(), message };
+    crate::table::refuse_overwriting_inputs(output, &[input]).map_err(|e| fail(e.to_string()))?;
+    let separator = if matches!(input.extension().and_then(|e| e.to_str()), Some("tsv" | "tab")) { '\t' } else { ',' };
+    let reader = BufReader::with_capacity(1 << 20, std::fs::File::open(input).map_err(|e| fail(format!("cannot open: {e}")))?);
+    let mut lines = reader.lines();
+    let header = match lines.next() {
+        Some(Ok(h)) => h,
+        Some(Err(e)) => return Err(fail(format!("cannot read: {e}"))),
+        None => return Err(fail("the file is empty".into())),
+    };
+    let names: Vec<&str> = header.split(separator).map(str::trim).collect();
+    let index = names.iter().position(|n| *n == time_column).ok_or_else(|| {
+        fail(format!("column '{time_column}' is missing; the table has: {}", names.join(", ")))
+    })?;
+    let tmp = output.with_file_name(format!(
+        ".{}.{}.partial",
+        output.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(),
+        std::process::id()
+    ));
+    let result = (|| {
+        let mut writer = BufWriter::with_capacity(1 << 20, std::fs::File::create(&tmp).map_err(|e| fail(format!("cannot create {}: {e}", tmp.display())))?);
+        let io = |e: std::io::Error| fail(format!("cannot write {}: {e}", tmp.display()));
+        writeln!(writer, "{header}{separator}barycentric_s").map_err(io)?;
+        let tt_zero = converter.convert(time_zero, TimeScale::Tt).map_err(|e| fail(e.to_string()))?;
+        let uniform = time_zero.scale() != TimeScale::Utc;
+        let offset_s = tt_zero.seconds_since(&time_zero.relabel(TimeScale::Tt));
+        let mut summary = EventStreamSummary { min_correction_s: f64::INFINITY, max_correction_s: f64::NEG_INFINITY, ..Default::default() };
+        let mut block: Vec<String> = Vec::with_capacity(block_rows);
+        let mut row = 0_usize;
+        loop {
+            block.clear();
+            for line in lines.by_ref() {
+                let line = line.map_err(|e| fail(format!("cannot read: {e}")))?;
+                if line.trim().is_empty() {
+                    continue;
+                }
+                block.push(line);
+                if block.len() == block_rows {
+                    break;
+                }
+            }
+            if block.is_empty() {
+                break;
+            }
+            let first_row = row + 1;
+            let mut times = Vec::with_capacity(block.len());
+            for (k, line) in block.iter().enumerate() {
+                let cell = line.split(separator).nth(index).map(str::trim).unwrap_or("");
+                let value: f64 = cell.parse().ok().filter(|v: &f64| v.is_finite()).ok_or_else(|| EventStreamError::Cell {
+                    file: file.clone(),
+                    row: first_row + k,
+                    column: time_column.to_string(),
+                    message: format!("'{cell}' is not a number of seconds"),
+                })?;
+                // Seconds after the TT reference: uniform scales differ by a constant;
+                // UTC needs the leap seconds of each event.
+                let tt_seconds = if uniform {
+                    value - offset_s
+                } else {
+                    let t = time_zero.add_seconds(value);
+                    let tt = converter.convert(&t, TimeScale::Tt).map_err(|e| EventStreamError::Cell {
+                        file: file.clone(),
+                        row: first_row + k,
+                        column: time_column.to_string(),
+                        message: e.to_string(),
+                    })?;
+                    tt.seconds_since(&tt_zero)
+                };
+                times.push(tt_seconds);
+            }
+            let before = times.clone();
+            interpolator.correct_in_place(&mut times).map_err(|source| EventStreamError::Correction {
+                file: file.clone(),
+                first_row,
+                last_row: first_row + block.len() - 1,
+                source,
+            })?;
+            for (k, line) in block.iter().enumerate() {
+                // Output: seconds after time_zero's own numbers read on TDB at the barycentre.
+                let out = times[k] + offset_s;
+                let corr = times[k] - before[k];
+                summary.min_correction_s = summary.min_correction_s.min(corr);
+                summary.max_correction_s = summary.max_correction_s.max(corr);
+                writeln!(writer, "{line}{separator}{out:.9}").map_err(io)?;
+            }
+            row += block.len();
+            summary.events += block.len();
+        }
+        writer.flush().map_err(io)?;
+        writer.get_ref().sync_all().map_err(io)?;
+        drop(writer);
+        std::fs::rename(&tmp, output).map_err(|e| fail(format!("cannot move the finished file into place: {e}")))?;
+        if summary.events == 0 {
+            summary.min_correction_s = 0.0;
+            summary.max_correction_s = 0.0;
+        }
+        Ok(summary)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}

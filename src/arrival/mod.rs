@@ -1,0 +1,13 @@
+//! The arrival stage: carries arrival times from any clock and any observer to the
+//! solar-system barycentre (BJD_TDB), keeping every delay term for audit; repairs legacy
+//! heliocentric times; and inverts the correction for predictions.
+
+pub mod correction;
+pub mod delays;
+pub mod events;
+pub mod interpolated;
+pub mod source;
+pub mod table;
+
+pub use correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, DelayOptions, ReferencePoint};
+pub use source::{Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};

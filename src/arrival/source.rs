@@ -1,0 +1,200 @@
+//! The observed source: ICRS position with optional proper motion, parallax and radial
+//! velocity at a reference epoch, and its direction (and distance) at any date.
+//!
+//! Space motion is applied rigorously with SOFA `iauPmsafe` (via sofars), which propagates
+//! position, proper motion, parallax and radial velocity along a straight line in space
+//! (Kaplan et al. 1989, AJ 97, 1197; SOFA documentation).
+
+use std::f64::consts::PI;
+
+use crate::time::Instant;
+
+/// Milliarcseconds to radians.
+pub const MAS_TO_RAD: f64 = PI / 648_000_000.0;
+/// Astronomical unit, km (IAU 2012 Resolution B2).
+pub const AU_KM: f64 = 149_597_870.700;
+
+/// A source in the ICRS with optional space motion.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Source {
+    /// Name used in outputs.
+    pub name: String,
+    /// Right ascension at the reference epoch, rad.
+    pub ra_rad: f64,
+    /// Declination at the reference epoch, rad.
+    pub dec_rad: f64,
+    /// Proper motion in RA times cos(dec), mas/yr.
+    pub proper_motion_ra_mas_per_yr: f64,
+    /// Proper motion in Dec, mas/yr.
+    pub proper_motion_dec_mas_per_yr: f64,
+    /// Parallax, mas (0 = unknown/infinitely distant: no wavefront-curvature term).
+    pub parallax_mas: f64,
+    /// Radial velocity, km/s (positive receding).
+    pub radial_velocity_km_per_s: f64,
+    /// Reference epoch of position and motion, TDB.
+    pub epoch: Instant,
+}
+
+/// Direction and distance of the source at one date.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SourceDirection {
+    /// Unit vector from the barycentre towards the source, ICRS.
+    pub unit: [f64; 3],
+    /// Distance from the barycentre, km; `None` when no parallax was given.
+    pub distance_km: Option<f64>,
+}
+
+impl Source {
+    /// A fixed direction (no motion, infinite distance) from degrees; epoch J2000.0 TDB.
+    /// Errors if the declination is outside ±90° or a value is not finite.
+    pub fn fixed_degrees(name: &str, ra_deg: f64, dec_deg: f64) -> Result<Source, String> {
+        validate_position(name, ra_deg, dec_deg)?;
+        Ok(Source {
+            name: name.to_string(),
+            ra_rad: ra_deg.to_radians().rem_euclid(2.0 * PI),
+            dec_rad: dec_deg.to_radians(),
+            proper_motion_ra_mas_per_yr: 0.0,
+            proper_motion_dec_mas_per_yr: 0.0,
+            parallax_mas: 0.0,
+            radial_velocity_km_per_s: 0.0,
+            epoch: Instant::from_seconds_since_j2000(crate::time::TimeScale::Tdb, 0.0),
+        })
+    }
+
+    /// True when the source has any space motion or a parallax.
+    pub fn has_space_motion(&self) -> bool {
+        self.proper_motion_ra_mas_per_yr != 0.0
+            || self.proper_motion_dec_mas_per_yr != 0.0
+            || self.parallax_mas != 0.0
+            || self.radial_velocity_km_per_s != 0.0
+    }
+
+    /// Direction (and distance, if a parallax is given) at `tdb`.
+    /// Accuracy: that of SOFA `iauPmsafe` (sub-µas for ordinary stars over centuries).
+    pub fn direction_at(&self, tdb: &Instant) -> SourceDirection {
+        let (ra, dec, parallax_mas) = if self.has_space_motion() {
+            let (e1, e2) = self.epoch.jd_two_part();
+            let (t1, t2) = tdb.jd_two_part();
+            let pmr = self.proper_motion_ra_mas_per_yr * MAS_TO_RAD / self.dec_rad.cos().max(1e-12);
+            let pmd = self.proper_motion_dec_mas_per_yr * MAS_TO_RAD;
+            let px_arcsec = self.parallax_mas / 1000.0;
+            match sofars::astro::pmsafe(
+                self.ra_rad,
+                self.dec_rad,
+                pmr,
+                pmd,
+                px_arcsec,
+                self.radial_velocity_km_per_s,
+                e1,
+                e2,
+                t1,
+                t2,
+            ) {
+                Ok((v, _)) => (v[0], v[1], if self.parallax_mas > 0.0 { v[4] * 1000.0 } else { 0.0 }),
+                Err(_) => (self.ra_rad, self.dec_rad, self.parallax_mas),
+            }
+        } else {
+            (self.ra_rad, self.dec_rad, self.parallax_mas)
+        };
+        let (sd, cd) = dec.sin_cos();
+        let (sr, cr) = ra.sin_cos();
+        SourceDirection {
+            unit: [cd * cr, cd * sr, sd],
+            distance_km: (parallax_mas > 0.0).then(|| AU_KM / (parallax_mas * MAS_TO_RAD).tan()),
+        }
+    }
+}
+
+fn validate_position(name: &str, ra_deg: f64, dec_deg: f64) -> Result<(), String> {
+    if !ra_deg.is_finite() || !dec_deg.is_finite() {
+        return Err(format!("source '{name}': right ascension and declination must be finite numbers"));
+    }
+    if dec_deg.abs() > 90.0 {
+        return Err(format!("source '{name}': declination {dec_deg}° is outside -90..+90°"));
+    }
+    Ok(())
+}
+
+/// Reads a right ascension: decimal degrees (`123.456`) or sexagesimal hours
+/// (`12:34:56.7`, `12h34m56.7s`, `12 34 56.7`). Returns degrees.
+pub fn parse_right_ascension_deg(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    let v = match sexagesimal_parts(t) {
+        Some((sign, a, b, c)) => {
+            if sign < 0.0 || a >= 24.0 || b >= 60.0 || c >= 60.0 {
+                return Err(format!("right ascension '{text}': hours 0-23, minutes and seconds 0-59.999"));
+            }
+            15.0 * (a + b / 60.0 + c / 3600.0)
+        }
+        None => t.trim_end_matches(['d', '°']).parse::<f64>().map_err(|_| {
+            format!("right ascension '{text}' is neither decimal degrees (e.g. 201.365) nor hh:mm:ss.s (e.g. 13:25:27.6)")
+        })?,
+    };
+    if !(0.0..360.0).contains(&v) {
+        return Err(format!("right ascension '{text}' = {v}° is outside 0..360°"));
+    }
+    Ok(v)
+}
+
+/// Reads a declination: decimal degrees (`-43.019`) or sexagesimal (`-43:01:08.9`,
+/// `-43d01m08.9s`, `-43 01 08.9`). Returns degrees; refuses |dec| > 90°.
+pub fn parse_declination_deg(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    let v = match sexagesimal_parts(t) {
+        Some((sign, a, b, c)) => {
+            if b >= 60.0 || c >= 60.0 {
+                return Err(format!("declination '{text}': arcminutes and arcseconds must be below 60"));
+            }
+            sign * (a + b / 60.0 + c / 3600.0)
+        }
+        None => t.trim_end_matches(['d', '°']).parse::<f64>().map_err(|_| {
+            format!("declination '{text}' is neither decimal degrees (e.g. -43.019) nor ±dd:mm:ss.s (e.g. -43:01:08.9)")
+        })?,
+    };
+    if !v.is_finite() || v.abs() > 90.0 {
+        return Err(format!("declination '{text}' = {v}° is beyond ±90°"));
+    }
+    Ok(v)
+}
+
+/// Splits `±a:b:c`, `±a b c` or `±a[hd]b[m']c[s"]` into sign and three non-negative parts.
+fn sexagesimal_parts(t: &str) -> Option<(f64, f64, f64, f64)> {
+    let (sign, body) = match t.as_bytes().first()? {
+        b'-' => (-1.0, &t[1..]),
+        b'+' => (1.0, &t[1..]),
+        _ => (1.0, t),
+    };
+    let cleaned: String = body
+        .chars()
+        .map(|c| if matches!(c, ':' | 'h' | 'd' | 'm' | 's' | '\'' | '"' | '°') { ' ' } else { c })
+        .collect();
+    let parts: Vec<&str> = cleaned.split_whitespace().collect();
+    if parts.len() != 3 {
+        return None;
+    }
+    let a: f64 = parts[0].parse().ok()?;
+    let b: f64 = parts[1].parse().ok()?;
+    let c: f64 = parts[2].parse().ok()?;
+    if a < 0.0 || b < 0.0 || c < 0.0 {
+        return None;
+    }
+    Some((sign, a, b, c))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sexagesimal_and_decimal() {
+        assert!((parse_right_ascension_deg("12:00:00").unwrap() - 180.0).abs() < 1e-12);
+        assert!((parse_right_ascension_deg("01h30m00s").unwrap() - 22.5).abs() < 1e-12);
+        assert!((parse_declination_deg("-00:30:00").unwrap() + 0.5).abs() < 1e-12);
+        assert!((parse_declination_deg("+45 30 00").unwrap() - 45.5).abs() < 1e-12);
+        assert!((parse_declination_deg("12.25").unwrap() - 12.25).abs() < 1e-12);
+        assert!(parse_declination_deg("91").is_err());
+        assert!(parse_declination_deg("-90:00:01").is_err());
+        assert!(parse_right_ascension_deg("24:00:00").is_err());
+        assert!(parse_right_ascension_deg("abc").is_err());
+    }
+}

@@ -1,0 +1,213 @@
+//! Options shared by several commands: ephemeris, leap seconds, Earth orientation, site and
+//! source descriptions.
+
+use std::path::PathBuf;
+
+use anyhow::{Context, Result, bail};
+use clap::Args as ClapArgs;
+
+use crate::arrival::Source;
+use crate::config::{Description, parse_epoch, read_description};
+use crate::ephemeris::{Ephemeris, SpkKernel, embedded};
+use crate::observer::{EarthOrientation, EarthOrientationTable, Site};
+use crate::time::{LeapSecondTable, ScaleConverter};
+
+/// Where solar-system positions, leap seconds and Earth orientation come from.
+#[derive(Debug, Clone, ClapArgs)]
+pub struct ReferenceDataArgs {
+    /// JPL SPK kernel (DE440, DE441, DE421 …) to use instead of the built-in DE440 pack.
+    #[arg(long, value_name = "FILE")]
+    pub ephemeris_kernel: Option<PathBuf>,
+    /// Leap-second table (IERS Leap_Second.dat or leap-seconds.list) newer than the built-in one.
+    #[arg(long, value_name = "FILE")]
+    pub leap_seconds: Option<PathBuf>,
+    /// IERS finals2000A table for UT1-UTC and polar motion (without it UT1 = UTC, ≤1.5 µs error).
+    #[arg(long, value_name = "FILE")]
+    pub earth_orientation: Option<PathBuf>,
+}
+
+/// The loaded reference data.
+pub struct ReferenceData {
+    /// Solar-system ephemeris.
+    pub ephemeris: Box<dyn Ephemeris>,
+    /// Scale converter with the leap-second table.
+    pub converter: ScaleConverter,
+    /// Earth orientation.
+    pub orientation: EarthOrientation,
+}
+
+/// A static reference to the embedded pack, boxed behind the trait.
+struct EmbeddedRef;
+
+impl Ephemeris for EmbeddedRef {
+    fn name(&self) -> String {
+        embedded().name()
+    }
+    fn span(&self) -> (crate::time::Instant, crate::time::Instant) {
+        embedded().span()
+    }
+    fn state(
+        &self,
+        body: crate::ephemeris::Body,
+        tdb: &crate::time::Instant,
+    ) -> std::result::Result<crate::ephemeris::BodyState, crate::ephemeris::EphemerisError> {
+        embedded().state(body, tdb)
+    }
+}
+
+impl ReferenceDataArgs {
+    /// Loads what the options name, or the built-in defaults.
+    pub fn load(&self) -> Result<ReferenceData> {
+        let ephemeris: Box<dyn Ephemeris> = match &self.ephemeris_kernel {
+            Some(p) => Box::new(SpkKernel::open(p).with_context(|| format!("opening ephemeris kernel {}", p.display()))?),
+            None => Box::new(EmbeddedRef),
+        };
+        let leap = match &self.leap_seconds {
+            Some(p) => LeapSecondTable::from_file(p)?,
+            None => LeapSecondTable::builtin(),
+        };
+        let orientation = match &self.earth_orientation {
+            Some(p) => EarthOrientation::Table(EarthOrientationTable::from_file(p)?),
+            None => EarthOrientation::Ignored,
+        };
+        Ok(ReferenceData { ephemeris, converter: ScaleConverter::new(leap), orientation })
+    }
+}
+
+/// Where the source is described.
+#[derive(Debug, Clone, ClapArgs)]
+pub struct SourceArgs {
+    /// TOML file with a [source] table (name, ra, dec, optional proper motion, parallax, radial velocity, epoch).
+    #[arg(long, value_name = "FILE")]
+    pub source_file: Option<PathBuf>,
+    /// Right ascension: hh:mm:ss.s or decimal degrees (instead of --source-file).
+    #[arg(long, value_name = "ANGLE", allow_hyphen_values = true)]
+    pub ra: Option<String>,
+    /// Declination: ±dd:mm:ss.s or decimal degrees (instead of --source-file).
+    #[arg(long, value_name = "ANGLE", allow_hyphen_values = true)]
+    pub dec: Option<String>,
+    /// Proper motion in RA times cos(dec), mas/yr.
+    #[arg(long, default_value_t = 0.0, allow_hyphen_values = true)]
+    pub proper_motion_ra_mas_per_yr: f64,
+    /// Proper motion in Dec, mas/yr.
+    #[arg(long, default_value_t = 0.0, allow_hyphen_values = true)]
+    pub proper_motion_dec_mas_per_yr: f64,
+    /// Parallax, mas (adds the wavefront-curvature term).
+    #[arg(long, default_value_t = 0.0)]
+    pub parallax_mas: f64,
+    /// Radial velocity, km/s.
+    #[arg(long, default_value_t = 0.0, allow_hyphen_values = true)]
+    pub radial_velocity_km_per_s: f64,
+    /// Epoch of the position and motion: J2016.0, an ISO date (TDB) or a JD (TDB).
+    #[arg(long, default_value = "J2000.0")]
+    pub position_epoch: String,
+}
+
+impl SourceArgs {
+    /// The source, from the file or the command line.
+    pub fn load(&self, sites_file: Option<&Description>) -> Result<Source> {
+        if let Some(path) = &self.source_file {
+            let d = read_description(path)?;
+            return d.source.with_context(|| format!("{} has no [source] table", path.display()));
+        }
+        if let (Some(ra), Some(dec)) = (&self.ra, &self.dec) {
+            let ra_deg = crate::arrival::parse_right_ascension_deg(ra).map_err(anyhow::Error::msg)?;
+            let dec_deg = crate::arrival::parse_declination_deg(dec).map_err(anyhow::Error::msg)?;
+            let mut s = Source::fixed_degrees("source", ra_deg, dec_deg).map_err(anyhow::Error::msg)?;
+            s.proper_motion_ra_mas_per_yr = self.proper_motion_ra_mas_per_yr;
+            s.proper_motion_dec_mas_per_yr = self.proper_motion_dec_mas_per_yr;
+            if self.parallax_mas < 0.0 || !self.parallax_mas.is_finite() {
+                bail!("--parallax-mas must be a non-negative number, got {}", self.parallax_mas);
+            }
+            s.parallax_mas = self.parallax_mas;
+            s.radial_velocity_km_per_s = self.radial_velocity_km_per_s;
+            s.epoch = parse_epoch(&self.position_epoch).map_err(|m| anyhow::anyhow!("--position-epoch: {m}"))?;
+            return Ok(s);
+        }
+        if let Some(s) = sites_file.and_then(|d| d.source.clone()) {
+            return Ok(s);
+        }
+        bail!("no source given: use --source-file FILE or --ra and --dec")
+    }
+}
+
+/// Where the observer is.
+#[derive(Debug, Clone, ClapArgs)]
+pub struct ObserverArgs {
+    /// TOML file with one or more [[site]] tables (name, east_longitude_deg, latitude_deg, height_m).
+    #[arg(long, value_name = "FILE")]
+    pub sites_file: Option<PathBuf>,
+    /// Name of the site (from --sites-file) where all times were taken.
+    #[arg(long, value_name = "NAME")]
+    pub site: Option<String>,
+    /// Column naming the site of each row (names from --sites-file, or 'geocentre').
+    #[arg(long, value_name = "COLUMN")]
+    pub site_column: Option<String>,
+    /// A site given inline as east longitude deg, latitude deg, height m: "-105.1,39.4,2150".
+    #[arg(long, value_name = "LON,LAT,HEIGHT", allow_hyphen_values = true)]
+    pub site_coordinates: Option<String>,
+    /// Spacecraft position columns x,y,z in km (ICRS axes), e.g. "sc_x_km,sc_y_km,sc_z_km".
+    #[arg(long, value_name = "X,Y,Z")]
+    pub spacecraft_columns: Option<String>,
+    /// Whether spacecraft positions are geocentric or barycentric.
+    #[arg(long, value_enum, default_value_t = OriginArg::Geocentric)]
+    pub spacecraft_origin: OriginArg,
+}
+
+/// Origin of spacecraft positions.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum OriginArg {
+    /// Relative to the Earth's centre.
+    Geocentric,
+    /// Relative to the solar-system barycentre.
+    Barycentric,
+}
+
+impl ObserverArgs {
+    /// The description file, if any.
+    pub fn description(&self) -> Result<Option<Description>> {
+        Ok(match &self.sites_file {
+            Some(p) => Some(read_description(p)?),
+            None => None,
+        })
+    }
+
+    /// A single site from --site or --site-coordinates, if given.
+    pub fn single_site(&self, description: Option<&Description>) -> Result<Option<Site>> {
+        if let Some(coords) = &self.site_coordinates {
+            let parts: Vec<&str> = coords.split(',').map(str::trim).collect();
+            if parts.len() != 3 {
+                bail!("--site-coordinates wants 'east_longitude_deg,latitude_deg,height_m', got '{coords}'");
+            }
+            let mut v = [0.0; 3];
+            for (k, p) in parts.iter().enumerate() {
+                v[k] = p.parse().with_context(|| format!("--site-coordinates: '{p}' is not a number"))?;
+            }
+            return Ok(Some(Site::from_degrees("site", v[0], v[1], v[2]).map_err(anyhow::Error::msg)?));
+        }
+        if let Some(name) = &self.site {
+            let Some(d) = description else {
+                bail!("--site {name} needs --sites-file FILE describing it");
+            };
+            let site = d.sites.get(name).cloned().with_context(|| {
+                format!(
+                    "site '{name}' is not in the sites file; described: {}",
+                    d.sites.keys().cloned().collect::<Vec<_>>().join(", ")
+                )
+            })?;
+            return Ok(Some(site));
+        }
+        Ok(None)
+    }
+}
+
+/// Prints a warning about stale leap seconds if any UTC time lies beyond the table.
+pub fn leap_second_warning(rows: usize, max_days: i64, table: &LeapSecondTable) -> Option<String> {
+    (rows > 0).then(|| {
+        format!(
+            "warning: {rows} UTC time(s) lie up to {max_days} days beyond the leap-second table's validity ({}); \
+             if a leap second was announced since, those times are off by 1 s. Load a newer table with --leap-seconds FILE.",
+            table.source()
+        )
+    })
+}

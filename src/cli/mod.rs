@@ -1,0 +1,46 @@
+//! The command-line interface: argument parsing, help texts with worked examples and
+//! validation; each command hands typed values to the library and prints its results.
+//! No science lives here.
+
+pub mod barycentre;
+pub mod barycentre_events;
+pub mod common;
+pub mod convert_time;
+pub mod demo;
+pub mod observer_time;
+
+use clap::{Parser, Subcommand};
+
+/// skyclock: timing periodic astronomical sources.
+#[derive(Debug, Parser)]
+#[command(name = "skyclock", version, about, long_about = None, propagate_version = true)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Carry arrival times in any clock, from any site, to the solar-system barycentre (BJD_TDB).
+    Barycentre(barycentre::Args),
+    /// Stream a photon-event list of any length to the barycentre (interpolated, ≤1 ns).
+    BarycentreEvents(barycentre_events::Args),
+    /// From BJD_TDB instants back to the clock time at which the signal reaches an observer.
+    ObserverTime(observer_time::Args),
+    /// Convert single times between scales (UTC, TAI, TT, TDB, TCB, GPS) and formats.
+    ConvertTime(convert_time::Args),
+    /// Run the whole chain on the invented demonstration scenario in datasets/.
+    Demo(demo::Args),
+}
+
+/// Runs the parsed command; errors reach `main` which prints them and exits with 1.
+pub fn run(cli: Cli) -> anyhow::Result<()> {
+    match cli.command {
+        Command::Barycentre(a) => barycentre::run(a),
+        Command::BarycentreEvents(a) => barycentre_events::run(a),
+        Command::ObserverTime(a) => observer_time::run(a),
+        Command::ConvertTime(a) => convert_time::run(a),
+        Command::Demo(a) => demo::run(a),
+    }
+}

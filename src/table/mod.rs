@@ -1,0 +1,14 @@
+//! Tables: reading CSV, TSV and Parquet (polars), pulling typed columns out with errors that
+//! name file, row and column, and writing CSV/Parquet atomically with provenance.
+
+pub mod columns;
+pub mod error;
+pub mod provenance;
+pub mod read;
+pub mod write;
+
+pub use columns::{float_column, optional_float_column, text_column};
+pub use error::TableError;
+pub use provenance::Provenance;
+pub use read::{TableFormat, read_table};
+pub use write::{refuse_overwriting_inputs, write_table};
