@@ -256,7 +256,17 @@ fn full_de440_kernel_matches_jplephem_when_available() {
             "reader vs jplephem, {body}: |Δr| {:.2e} km, |Δv| {:.2e} km/s",
             d.position_km, d.velocity_km_per_s
         );
-        assert!(d.position_km <= 1e-6, "{body}: {} km", d.position_km);
+        // 1 mm (the CSV's rounding is 0.87 mm at most) plus a few ulp of the distance for
+        // the outer planets (Saturn is at 1.4e9 km, where one f64 ulp is 0.24 mm).
+        let radius_km = rows
+            .iter()
+            .map(|(_, v)| v[column(&header, &format!("{prefix}_x_km"))].abs())
+            .fold(0.0, f64::max);
+        assert!(
+            d.position_km <= 1e-6 + 4.0 * f64::EPSILON * 3.0 * radius_km,
+            "{body}: {} km",
+            d.position_km
+        );
         assert!(
             d.velocity_km_per_s <= 2e-9,
             "{body}: {} km/s",

@@ -143,7 +143,7 @@ pub struct BodyState {
 }
 
 /// What can go wrong when asking an ephemeris for a state or opening a kernel.
-#[derive(Debug, thiserror::Error)]
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum EphemerisError {
     /// The instant lies outside what the source covers for that body.
     #[error(
@@ -168,14 +168,10 @@ pub enum EphemerisError {
         "ephemeris states need an instant on the TDB scale, got {got} ({instant}); convert to TDB first"
     )]
     WrongTimeScale { got: TimeScale, instant: String },
-    /// The file could not be opened or read.
-    #[error("{path}: {message}: {source}")]
-    Io {
-        path: PathBuf,
-        message: String,
-        #[source]
-        source: std::io::Error,
-    },
+    /// The file could not be opened or read. `reason` is the operating system's message
+    /// (kept as text so that the error stays `Clone` and `PartialEq`).
+    #[error("{path}: {message}: {reason}")]
+    Io { path: PathBuf, message: String, reason: String },
     /// The file is not a DAF/SPK file, or is damaged or truncated.
     #[error("{path}: not a usable SPK kernel: {message}")]
     BadFile { path: PathBuf, message: String },

@@ -164,7 +164,7 @@ impl SpkKernel {
         let io = |message: &str, source: std::io::Error| EphemerisError::Io {
             path: path.clone(),
             message: message.to_string(),
-            source,
+            reason: source.to_string(),
         };
         let bad = |message: String| EphemerisError::BadFile {
             path: path.clone(),
@@ -356,7 +356,7 @@ impl SpkKernel {
                 message: format!(
                     "cannot read {count} words at address {address} (truncated file?)"
                 ),
-                source: e,
+                reason: e.to_string(),
             }
         })?;
         Ok(bytes
@@ -661,7 +661,7 @@ fn read_directory(
             "cannot read the directory of segment {:?} (truncated file?)",
             s.name
         ),
-        source: e,
+        reason: e.to_string(),
     })?;
     let init = f64_from(&bytes[0..8], big_endian);
     let intlen = f64_from(&bytes[8..16], big_endian);
