@@ -830,6 +830,64 @@ mod tests {
         dir.join(name)
     }
 
+    /// Segment types other than 2 and 3, and frames other than J2000, are named when used.
+    #[test]
+    fn unsupported_type_and_frame_are_reported() {
+        let day = 86_400.0;
+        let words = vec![
+            day / 2.0,
+            day / 2.0,
+            1.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            day,
+            5.0,
+            1.0,
+        ];
+        let seg = |target, frame, data_type, words: Vec<f64>| SegmentData {
+            name: format!("seg {target}"),
+            start_seconds_tdb: 0.0,
+            end_seconds_tdb: day,
+            target,
+            center: 0,
+            frame,
+            data_type,
+            words,
+        };
+        let mut type2 = vec![day / 2.0, day / 2.0];
+        type2.extend_from_slice(&[1.0, 2.0, 3.0]);
+        type2.extend_from_slice(&[0.0, day, 5.0, 1.0]);
+        let p = tmp("unsupported.bsp");
+        write_spk(
+            &p,
+            false,
+            "TEST",
+            &[seg(10, 1, 13, words), seg(5, 17, 2, type2)],
+        )
+        .unwrap();
+        let k = SpkKernel::open(&p).unwrap();
+        let t = Instant::from_seconds_since_j2000(TimeScale::Tdb, 0.5 * day);
+        let e = k.state(Body::Sun, &t).unwrap_err();
+        assert!(
+            matches!(
+                e,
+                EphemerisError::UnsupportedSegmentType { data_type: 13, .. }
+            ),
+            "{e}"
+        );
+        assert!(e.to_string().contains("unsupported.bsp") && e.to_string().contains("type 13"));
+        let e = k.state(Body::Jupiter, &t).unwrap_err();
+        assert!(
+            matches!(e, EphemerisError::UnsupportedFrame { frame: 17, .. }),
+            "{e}"
+        );
+    }
+
     /// A kernel written by `write_spk` with a known polynomial reads back in both byte orders.
     #[test]
     fn written_kernel_reads_back_in_both_byte_orders() {
