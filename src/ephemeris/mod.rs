@@ -171,7 +171,11 @@ pub enum EphemerisError {
     /// The file could not be opened or read. `reason` is the operating system's message
     /// (kept as text so that the error stays `Clone` and `PartialEq`).
     #[error("{path}: {message}: {reason}")]
-    Io { path: PathBuf, message: String, reason: String },
+    Io {
+        path: PathBuf,
+        message: String,
+        reason: String,
+    },
     /// The file is not a DAF/SPK file, or is damaged or truncated.
     #[error("{path}: not a usable SPK kernel: {message}")]
     BadFile { path: PathBuf, message: String },
