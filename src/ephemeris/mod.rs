@@ -143,7 +143,7 @@ pub struct BodyState {
 }
 
 /// What can go wrong when asking an ephemeris for a state or opening a kernel.
-#[derive(Debug, thiserror::Error)]
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum EphemerisError {
     /// The instant lies outside what the source covers for that body.
     #[error(
@@ -158,17 +158,23 @@ pub enum EphemerisError {
     },
     /// The source has no chain of segments leading from `body` to the barycentre.
     #[error("{source_name}: no data for {body}; bodies available: {available}")]
-    BodyNotAvailable { source_name: String, body: Body, available: String },
+    BodyNotAvailable {
+        source_name: String,
+        body: Body,
+        available: String,
+    },
     /// The instant is not on the TDB scale.
-    #[error("ephemeris states need an instant on the TDB scale, got {got} ({instant}); convert to TDB first")]
+    #[error(
+        "ephemeris states need an instant on the TDB scale, got {got} ({instant}); convert to TDB first"
+    )]
     WrongTimeScale { got: TimeScale, instant: String },
-    /// The file could not be opened or read.
-    #[error("{path}: {message}: {source}")]
+    /// The file could not be opened or read. `reason` is the operating system's message
+    /// (kept as text so that the error stays `Clone` and `PartialEq`).
+    #[error("{path}: {message}: {reason}")]
     Io {
         path: PathBuf,
         message: String,
-        #[source]
-        source: std::io::Error,
+        reason: String,
     },
     /// The file is not a DAF/SPK file, or is damaged or truncated.
     #[error("{path}: not a usable SPK kernel: {message}")]
@@ -188,7 +194,12 @@ pub enum EphemerisError {
     #[error(
         "{path}: segment {segment_name:?} (target {target}) is in NAIF frame {frame}; only frame 1 (J2000/ICRF) is supported"
     )]
-    UnsupportedFrame { path: PathBuf, segment_name: String, target: i32, frame: i32 },
+    UnsupportedFrame {
+        path: PathBuf,
+        segment_name: String,
+        target: i32,
+        frame: i32,
+    },
     /// The embedded pack (or a pack given as bytes) is malformed.
     #[error("ephemeris pack {name}: {message}")]
     BadPack { name: String, message: String },
@@ -212,7 +223,10 @@ pub(crate) fn require_tdb(t: &Instant) -> Result<(), EphemerisError> {
     if t.scale() == TimeScale::Tdb {
         Ok(())
     } else {
-        Err(EphemerisError::WrongTimeScale { got: t.scale(), instant: describe_instant(t) })
+        Err(EphemerisError::WrongTimeScale {
+            got: t.scale(),
+            instant: describe_instant(t),
+        })
     }
 }
 
@@ -275,7 +289,10 @@ mod tests {
     #[test]
     fn describe_instant_reads_as_date_and_jd() {
         let t = Instant::from_mjd_parts(TimeScale::Tdb, 51_544, 43_200.0);
-        assert_eq!(describe_instant(&t), "2000-01-01 12:00:00.000 TDB (JD 2451545.000000)");
+        assert_eq!(
+            describe_instant(&t),
+            "2000-01-01 12:00:00.000 TDB (JD 2451545.000000)"
+        );
     }
 
     #[test]
