@@ -59,7 +59,7 @@ fn bad_inputs_name_file_row_and_column_and_write_nothing() {
         ("time\n2017-12-31T23:59:60.5\n", "no leap second", &["--clock", "iso_utc"], &["row 1", "'time'", "leap second"]),
         ("time\n2016-12-31T23:59:60.5\n", "real leap second is fine", &["--clock", "iso_utc"], &[]),
         ("time\n2433000.5\n", "utc before 1960", &["--clock", "jd_utc"], &["row 1", "1960"]),
-        ("time\n2488434.5\n", "beyond the ephemeris", &["--clock", "jd_tt"], &["row 1", "'time'", "2100"]),
+        ("time\n2491000.5\n", "beyond the ephemeris", &["--clock", "jd_tt"], &["row 1", "'time'", "covers", "2101-01-01"]),
         ("mag\n12.0\n", "missing column", &["--clock", "jd_utc"], &["column 'time' is missing", "mag"]),
         ("", "empty file", &["--clock", "jd_utc"], &["no data rows"]),
         ("time\n2459000.5\n", "unknown clock", &["--clock", "jd_ut7"], &["jd_ut7", "utc"]),

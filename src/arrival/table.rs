@@ -111,7 +111,7 @@ pub const ADDED_COLUMNS: [&str; 13] = [
     "shapiro_planets_delay_s",
     "heliocentric_removed_s",
     "total_correction_s",
-    "clock",
+    "input_clock",
 ];
 
 /// Corrects every row of `df` (read from `file`), in parallel, and returns the table with
@@ -241,7 +241,7 @@ pub fn correct_table(
     for (k, name) in ADDED_COLUMNS[4..12].iter().enumerate() {
         add(name, Column::new((*name).into(), std::mem::take(&mut cols[k + 2])))?;
     }
-    add("clock", Column::new("clock".into(), clock_text))?;
+    add("input_clock", Column::new("input_clock".into(), clock_text))?;
     if n == 0 {
         summary.min_total_correction_s = 0.0;
         summary.max_total_correction_s = 0.0;

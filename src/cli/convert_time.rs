@@ -19,7 +19,7 @@ const EXAMPLE: &str = "Example:
 #[command(after_help = EXAMPLE)]
 pub struct Args {
     /// One or more times, written in --format.
-    #[arg(required = true, allow_hyphen_values = true)]
+    #[arg(required = true)]
     pub times: Vec<String>,
     /// Format of the given times: jd, mjd, reduced-jd, iso.
     #[arg(long, default_value = "jd")]

@@ -141,7 +141,7 @@ pub fn run_demo(output: &Path) -> Result<()> {
     let raw = fit_line(&cycles, &raw_s, &errors_s).context("too few timings for a fit")?;
     let fixed = fit_line(&cycles, &bjd_s, &errors_s).context("too few timings for a fit")?;
     println!("skyclock demo — invented eclipsing binary {} timed from {} invented sites", source.name, description.sites.len());
-    println!("  {} timings in mixed clocks (JD UTC, HJD UTC, BJD TDB, MJD TT, ISO UTC), 2018–2024", summary.rows);
+    println!("  {} timings in mixed clocks (JD UTC, HJD UTC, BJD TDB, MJD TT, ISO UTC), 2019–2024", summary.rows);
     println!("  corrected table: {} (delay terms in their own columns)", out_path.display());
     println!("  ephemeris: {}", embedded().name());
     println!();

@@ -2,7 +2,7 @@
 //!
 //! Truth: KX Inventa (invented), RA 05:12:33.21, Dec +21:07:44.0 (close to the ecliptic, so
 //! the Rømer delay swings by ±8 min over the year). Primary minima follow
-//! BJD_TDB = 2459000.34567890 + 0.83712345 · E exactly. Timings 2020–2024 from three
+//! BJD_TDB = 2459000.34567890 + 0.83712345 · E exactly. Timings 2019–2024 from three
 //! invented observatories, each with Gaussian timing noise of its own size, reported in
 //! mixed clocks: JD UTC, HJD UTC (legacy), BJD TDB, MJD TT and ISO UTC.
 
