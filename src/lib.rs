@@ -5,3 +5,6 @@
 //! and measure timings against ephemerides.
 
 pub mod time;
+
+pub mod fit;
+pub mod periodogram;
