@@ -8,3 +8,5 @@ pub mod time;
 
 pub mod fit;
 pub mod periodogram;
+pub mod fold;
+pub mod frequencies;
