@@ -7,7 +7,7 @@
 
 use super::grid::FrequencyGrid;
 use super::sums::{TrigSums, cis_cycles};
-use rustfft::{FftPlanner, num_complex::Complex64};
+use rustfft::{Fft, FftPlanner, num_complex::Complex64};
 
 /// Tuning of the fast sums.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -24,15 +24,17 @@ impl Default for FastOptions {
     }
 }
 
-/// Σ_i h_i exp(2πi·factor·(f0 + k·df)·t_i) for k = 0..m (complex), by extirpolation + FFT.
-fn trig_sum(t: &[f64], h: &[Complex64], f0: f64, df: f64, m: usize, opt: &FastOptions, planner: &mut FftPlanner<f64>) -> Vec<Complex64> {
+/// FFT length: a power of two ≥ oversampling × M (and ≥ 2 × order).
+fn fft_len(m: usize, opt: &FastOptions) -> usize {
+    (m * opt.fft_oversampling.max(2)).next_power_of_two().max(2 * opt.order.clamp(2, 16))
+}
+
+/// Raw extirpolated sums R_j = Σ_i h_i e^{iφ_i} exp(2πi j u_i), j = 0..nfft, where
+/// u_i = frac((t_i − t0)·df) and φ_i = 2π f0 (t_i − t0); the full FFT output (negative
+/// frequencies at nfft − j).
+fn raw_sums(t: &[f64], t0: f64, h: &[Complex64], f0: f64, df: f64, opt: &FastOptions, fft: &dyn Fft<f64>) -> Vec<Complex64> {
     let n = t.len().min(h.len());
-    let mut out = vec![Complex64::new(0.0, 0.0); m];
-    if n == 0 || m == 0 {
-        return out;
-    }
-    let t0 = t[..n].iter().cloned().fold(f64::INFINITY, f64::min);
-    let nfft = (m * opt.fft_oversampling.max(2)).next_power_of_two().max(2 * opt.order.max(2));
+    let nfft = fft.len();
     let order = opt.order.clamp(2, 16).min(nfft);
     let mut grid = vec![Complex64::new(0.0, 0.0); nfft];
     // Lagrange denominators: Π_{m≠j}(j − m) = (−1)^{order−1−j} j! (order−1−j)!
@@ -45,14 +47,17 @@ fn trig_sum(t: &[f64], h: &[Complex64], f0: f64, df: f64, m: usize, opt: &FastOp
         .collect();
     for i in 0..n {
         let dt = t[i] - t0;
-        let (c, s) = cis_cycles(f0 * dt);
-        let hv = h[i] * Complex64::new(c, s);
+        let hv = if f0 == 0.0 {
+            h[i]
+        } else {
+            let (c, s) = cis_cycles(f0 * dt);
+            h[i] * Complex64::new(c, s)
+        };
         let u = dt * df;
         let x = (u - u.floor()) * nfft as f64;
         let xi = x.floor();
         if x == xi {
-            let j = (xi as usize) % nfft;
-            grid[j] += hv;
+            grid[(xi as usize) % nfft] += hv;
             continue;
         }
         let ilo = xi as i64 - (order as i64 - 1) / 2;
@@ -63,16 +68,45 @@ fn trig_sum(t: &[f64], h: &[Complex64], f0: f64, df: f64, m: usize, opt: &FastOp
         for j in 0..order {
             let node = ilo + j as i64;
             let wgt = prod / ((x - node as f64) * denom[j]);
-            let idx = node.rem_euclid(nfft as i64) as usize;
-            grid[idx] += hv * wgt;
+            grid[node.rem_euclid(nfft as i64) as usize] += hv * wgt;
         }
     }
-    planner.plan_fft_inverse(nfft).process(&mut grid);
+    fft.process(&mut grid);
+    grid
+}
+
+/// Σ_i h_i exp(2πi·(f0 + k·df)·t_i) for k = 0..m (complex), by extirpolation + FFT.
+fn trig_sum(t: &[f64], h: &[Complex64], f0: f64, df: f64, m: usize, opt: &FastOptions, fft: &dyn Fft<f64>) -> Vec<Complex64> {
+    let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
+    let raw = raw_sums(t, t0, h, f0, df, opt, fft);
+    (0..m)
+        .map(|k| {
+            let (c, s) = cis_cycles((f0 + k as f64 * df) * t0);
+            raw[k] * Complex64::new(c, s)
+        })
+        .collect()
+}
+
+/// Two real sums at once, when f0 = j0·df: with h = a + i·b (a, b real) and start 0,
+/// Σ a e^{iθ} = (R_k + conj R_{−k})/2 and Σ b e^{iθ} = (R_k − conj R_{−k})/(2i).
+/// Needs nfft > 2(m + j0) so that positive and negative frequencies do not overlap.
+fn trig_sum_pair(t: &[f64], a: &[f64], b: &[f64], j0: usize, df: f64, m: usize, opt: &FastOptions, fft: &dyn Fft<f64>) -> (Vec<Complex64>, Vec<Complex64>) {
+    let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
+    let h: Vec<Complex64> = a.iter().zip(b).map(|(&x, &y)| Complex64::new(x, y)).collect();
+    let raw = raw_sums(t, t0, &h, 0.0, df, opt, fft);
+    let nfft = raw.len();
+    let mut out_a = Vec::with_capacity(m);
+    let mut out_b = Vec::with_capacity(m);
     for k in 0..m {
-        let (c, s) = cis_cycles((f0 + k as f64 * df) * t0);
-        out[k] = grid[k] * Complex64::new(c, s);
+        let kk = j0 + k;
+        let p = raw[kk];
+        let q = raw[(nfft - kk) % nfft].conj();
+        let (c, s) = cis_cycles(kk as f64 * df * t0);
+        let rot = Complex64::new(c, s);
+        out_a.push((p + q) * 0.5 * rot);
+        out_b.push((p - q) * Complex64::new(0.0, -0.5) * rot);
     }
-    out
+    (out_a, out_b)
 }
 
 /// Below this many points the exact kernel is both cheaper than three FFTs and immune to
@@ -91,9 +125,23 @@ pub fn fast_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, opt: &Fa
     let hc: Vec<Complex64> = h[..n].iter().map(|&v| Complex64::new(v, 0.0)).collect();
     let (f0, df) = (grid.start_per_day, grid.step_per_day);
     let t = &t[..n];
+    let nfft = fft_len(m, opt);
+    let fft = FftPlanner::new().plan_fft_inverse(nfft);
+    let fft = fft.as_ref();
+    // Start frequency an integer multiple of the step (the usual grid from the baseline):
+    // the weight and data sums share one FFT.
+    let ratio = f0 / df;
+    let j0 = ratio.round();
+    let packed = (ratio - j0).abs() < 1e-9 && 2 * (m + j0 as usize) < nfft;
     let ((a, b), c) = rayon::join(
-        || rayon::join(|| trig_sum(t, &wc, f0, df, m, opt, &mut FftPlanner::new()), || trig_sum(t, &hc, f0, df, m, opt, &mut FftPlanner::new())),
-        || trig_sum(t, &wc, 2.0 * f0, 2.0 * df, m, opt, &mut FftPlanner::new()),
+        || {
+            if packed {
+                trig_sum_pair(t, &w[..n], &h[..n], j0 as usize, df, m, opt, fft)
+            } else {
+                rayon::join(|| trig_sum(t, &wc, f0, df, m, opt, fft), || trig_sum(t, &hc, f0, df, m, opt, fft))
+            }
+        },
+        || trig_sum(t, &wc, 2.0 * f0, 2.0 * df, m, opt, fft),
     );
     TrigSums {
         c: a.iter().map(|z| z.re).collect(),

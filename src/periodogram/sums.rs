@@ -57,56 +57,7 @@ pub fn exact_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid) -> Trig
     let blocks: Vec<(usize, usize)> = (0..m).step_by(BLOCK).map(|k0| (k0, (k0 + BLOCK).min(m))).collect();
     let results: Vec<(usize, [Vec<f64>; 6])> = blocks
         .par_iter()
-        .map(|&(k0, k1)| {
-            let mut c = vec![0.0; n];
-            let mut s = vec![0.0; n];
-            let mut dc = vec![0.0; n];
-            let mut ds = vec![0.0; n];
-            let f0 = grid.freq_per_day(k0);
-            for i in 0..n {
-                (c[i], s[i]) = cis_cycles(f0 * t[i]);
-                (dc[i], ds[i]) = cis_cycles(grid.step_per_day * t[i]);
-            }
-            let len = k1 - k0;
-            let mut res: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; len]);
-            for k in 0..len {
-                let mut acc = [[0.0f64; LANES]; 6];
-                let nl = n / LANES * LANES;
-                let mut i = 0;
-                while i < nl {
-                    for l in 0..LANES {
-                        let j = i + l;
-                        let (cj, sj) = (c[j], s[j]);
-                        let (wj, hj) = (w[j], h[j]);
-                        acc[0][l] += wj * cj;
-                        acc[1][l] += wj * sj;
-                        acc[2][l] += hj * cj;
-                        acc[3][l] += hj * sj;
-                        acc[4][l] += wj * (cj - sj) * (cj + sj);
-                        acc[5][l] += wj * cj * sj;
-                        c[j] = cj * dc[j] - sj * ds[j];
-                        s[j] = sj * dc[j] + cj * ds[j];
-                    }
-                    i += LANES;
-                }
-                for j in nl..n {
-                    let (cj, sj) = (c[j], s[j]);
-                    acc[0][0] += w[j] * cj;
-                    acc[1][0] += w[j] * sj;
-                    acc[2][0] += h[j] * cj;
-                    acc[3][0] += h[j] * sj;
-                    acc[4][0] += w[j] * (cj - sj) * (cj + sj);
-                    acc[5][0] += w[j] * cj * sj;
-                    c[j] = cj * dc[j] - sj * ds[j];
-                    s[j] = sj * dc[j] + cj * ds[j];
-                }
-                for q in 0..6 {
-                    res[q][k] = acc[q].iter().sum::<f64>();
-                }
-                res[5][k] *= 2.0;
-            }
-            (k0, res)
-        })
+        .map(|&(k0, k1)| (k0, block_dispatch(t, w, h, grid, k0, k1)))
         .collect();
     for (k0, res) in results {
         let len = res[0].len();
@@ -118,6 +69,82 @@ pub fn exact_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid) -> Trig
         out.s2[k0..k0 + len].copy_from_slice(&res[5]);
     }
     out
+}
+
+/// Sums for frequencies k0..k1 of the grid (one re-seeded block of the recurrence).
+#[inline(always)]
+fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
+    let n = t.len();
+    let mut c = vec![0.0; n];
+    let mut s = vec![0.0; n];
+    let mut dc = vec![0.0; n];
+    let mut ds = vec![0.0; n];
+    let f0 = grid.freq_per_day(k0);
+    for i in 0..n {
+        (c[i], s[i]) = cis_cycles(f0 * t[i]);
+        (dc[i], ds[i]) = cis_cycles(grid.step_per_day * t[i]);
+    }
+    let len = k1 - k0;
+    let mut res: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; len]);
+    for k in 0..len {
+        let mut acc = [[0.0f64; LANES]; 6];
+        let nl = n / LANES * LANES;
+        for ((((cc, ss), (dcc, dss)), ww), hh) in c[..nl]
+            .chunks_exact_mut(LANES)
+            .zip(s[..nl].chunks_exact_mut(LANES))
+            .zip(dc[..nl].chunks_exact(LANES).zip(ds[..nl].chunks_exact(LANES)))
+            .zip(w[..nl].chunks_exact(LANES))
+            .zip(h[..nl].chunks_exact(LANES))
+        {
+            for l in 0..LANES {
+                let (cj, sj) = (cc[l], ss[l]);
+                let (wj, hj) = (ww[l], hh[l]);
+                let wc = wj * cj;
+                acc[0][l] += wc;
+                acc[1][l] += wj * sj;
+                acc[2][l] += hj * cj;
+                acc[3][l] += hj * sj;
+                acc[4][l] += wj * (cj - sj) * (cj + sj);
+                acc[5][l] += wc * sj;
+                cc[l] = cj * dcc[l] - sj * dss[l];
+                ss[l] = sj * dcc[l] + cj * dss[l];
+            }
+        }
+        for j in nl..n {
+            let (cj, sj) = (c[j], s[j]);
+            acc[0][0] += w[j] * cj;
+            acc[1][0] += w[j] * sj;
+            acc[2][0] += h[j] * cj;
+            acc[3][0] += h[j] * sj;
+            acc[4][0] += w[j] * (cj - sj) * (cj + sj);
+            acc[5][0] += w[j] * cj * sj;
+            c[j] = cj * dc[j] - sj * ds[j];
+            s[j] = sj * dc[j] + cj * ds[j];
+        }
+        for q in 0..6 {
+            res[q][k] = acc[q].iter().sum::<f64>();
+        }
+        res[5][k] *= 2.0;
+    }
+    res
+}
+
+/// The same block compiled for AVX (4 lanes of f64), chosen at run time when available.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx")]
+unsafe fn block_avx(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
+    block(t, w, h, grid, k0, k1)
+}
+
+fn block_dispatch(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx") {
+            // SAFETY: the CPU supports AVX (checked just above).
+            return unsafe { block_avx(t, w, h, grid, k0, k1) };
+        }
+    }
+    block(t, w, h, grid, k0, k1)
 }
 
 /// The same sums by direct sin/cos of every point at every frequency, single-threaded.
