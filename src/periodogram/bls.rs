@@ -95,6 +95,7 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
     let wy: Vec<f64> = w.iter().zip(&y).map(|(a, b)| a * b).collect();
     let sign = if options.values_are_magnitudes { 1.0 } else { -1.0 };
     let t0 = series.time_d[0];
+    let dt: Vec<f64> = series.time_d.iter().map(|t| t - t0).collect();
     let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
         .into_par_iter()
         .map_init(
@@ -107,12 +108,14 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                 bw.resize(2 * nb, 0.0);
                 bwy.clear();
                 bwy.resize(2 * nb, 0.0);
-                for i in 0..w.len() {
-                    let x = (series.time_d[i] - t0) * f;
-                    let ph = x - x.floor();
-                    let b = ((ph * nb as f64) as usize).min(nb - 1);
-                    bw[b] += w[i];
-                    bwy[b] += wy[i];
+                let nbf = nb as f64;
+                for ((&dt, &wi), &wyi) in dt.iter().zip(&w).zip(&wy) {
+                    // dt ≥ 0 and f > 0: truncation is the floor (and needs no libm call)
+                    let x = dt * f;
+                    let ph = x - (x as i64) as f64;
+                    let b = ((ph * nbf) as i64 as usize).min(nb - 1);
+                    bw[b] += wi;
+                    bwy[b] += wyi;
                 }
                 // prefix sums over the doubled (wrapped) bins
                 for b in 0..nb {

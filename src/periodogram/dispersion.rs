@@ -52,8 +52,8 @@ impl Periodogram for PhaseDispersion {
                     sum.iter_mut().for_each(|v| *v = 0.0);
                     sum2.iter_mut().for_each(|v| *v = 0.0);
                     for i in 0..n {
-                        let x = (series.time_d[i] - t0) * f;
-                        let b = (((x - x.floor()) * nb as f64) as usize).min(nb - 1);
+                        let x = (series.time_d[i] - t0) * f; // ≥ 0: truncation is the floor
+                        let b = (((x - (x as i64) as f64) * nb as f64) as i64 as usize).min(nb - 1);
                         cnt[b] += 1;
                         sum[b] += y[i];
                         sum2[b] += y[i] * y[i];

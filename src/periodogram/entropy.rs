@@ -52,8 +52,8 @@ impl Periodogram for ConditionalEntropy {
                     let f = grid.freq_per_day(k);
                     hist.iter_mut().for_each(|v| *v = 0);
                     for (i, &vb) in vbin.iter().enumerate() {
-                        let x = (series.time_d[i] - t0) * f;
-                        let b = (((x - x.floor()) * np as f64) as usize).min(np - 1);
+                        let x = (series.time_d[i] - t0) * f; // ≥ 0: truncation is the floor
+                        let b = (((x - (x as i64) as f64) * np as f64) as i64 as usize).min(np - 1);
                         hist[b * nv + vb] += 1;
                     }
                     let mut h = 0.0;

@@ -72,7 +72,6 @@ pub fn exact_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid) -> Trig
 }
 
 /// Sums for frequencies k0..k1 of the grid (one re-seeded block of the recurrence).
-#[inline(always)]
 fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
     let n = t.len();
     let mut c = vec![0.0; n];
@@ -86,54 +85,122 @@ fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: u
     }
     let len = k1 - k0;
     let mut res: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; len]);
+    let nl = n / LANES * LANES;
     for k in 0..len {
-        let mut acc = [[0.0f64; LANES]; 6];
-        let nl = n / LANES * LANES;
-        for ((((cc, ss), (dcc, dss)), ww), hh) in c[..nl]
-            .chunks_exact_mut(LANES)
-            .zip(s[..nl].chunks_exact_mut(LANES))
-            .zip(dc[..nl].chunks_exact(LANES).zip(ds[..nl].chunks_exact(LANES)))
-            .zip(w[..nl].chunks_exact(LANES))
-            .zip(h[..nl].chunks_exact(LANES))
-        {
+        let (mut a0, mut a1, mut a2) = ([0.0f64; LANES], [0.0f64; LANES], [0.0f64; LANES]);
+        let (mut a3, mut a4, mut a5) = ([0.0f64; LANES], [0.0f64; LANES], [0.0f64; LANES]);
+        let mut i = 0;
+        while i < nl {
+            let cc: &mut [f64; LANES] = (&mut c[i..i + LANES]).try_into().expect("lane slice");
+            let ss: &mut [f64; LANES] = (&mut s[i..i + LANES]).try_into().expect("lane slice");
+            let dcc: &[f64; LANES] = (&dc[i..i + LANES]).try_into().expect("lane slice");
+            let dss: &[f64; LANES] = (&ds[i..i + LANES]).try_into().expect("lane slice");
+            let ww: &[f64; LANES] = (&w[i..i + LANES]).try_into().expect("lane slice");
+            let hh: &[f64; LANES] = (&h[i..i + LANES]).try_into().expect("lane slice");
             for l in 0..LANES {
                 let (cj, sj) = (cc[l], ss[l]);
-                let (wj, hj) = (ww[l], hh[l]);
-                let wc = wj * cj;
-                acc[0][l] += wc;
-                acc[1][l] += wj * sj;
-                acc[2][l] += hj * cj;
-                acc[3][l] += hj * sj;
-                acc[4][l] += wj * (cj - sj) * (cj + sj);
-                acc[5][l] += wc * sj;
+                let wc = ww[l] * cj;
+                let ws = ww[l] * sj;
+                a0[l] += wc;
+                a1[l] += ws;
+                a2[l] += hh[l] * cj;
+                a3[l] += hh[l] * sj;
+                a4[l] += wc * cj - ws * sj;
+                a5[l] += wc * sj;
                 cc[l] = cj * dcc[l] - sj * dss[l];
                 ss[l] = sj * dcc[l] + cj * dss[l];
             }
+            i += LANES;
         }
         for j in nl..n {
             let (cj, sj) = (c[j], s[j]);
-            acc[0][0] += w[j] * cj;
-            acc[1][0] += w[j] * sj;
-            acc[2][0] += h[j] * cj;
-            acc[3][0] += h[j] * sj;
-            acc[4][0] += w[j] * (cj - sj) * (cj + sj);
-            acc[5][0] += w[j] * cj * sj;
+            a0[0] += w[j] * cj;
+            a1[0] += w[j] * sj;
+            a2[0] += h[j] * cj;
+            a3[0] += h[j] * sj;
+            a4[0] += w[j] * (cj * cj - sj * sj);
+            a5[0] += w[j] * cj * sj;
             c[j] = cj * dc[j] - sj * ds[j];
             s[j] = sj * dc[j] + cj * ds[j];
         }
-        for q in 0..6 {
-            res[q][k] = acc[q].iter().sum::<f64>();
-        }
-        res[5][k] *= 2.0;
+        let red = |a: [f64; LANES]| a.iter().sum::<f64>();
+        res[0][k] = red(a0);
+        res[1][k] = red(a1);
+        res[2][k] = red(a2);
+        res[3][k] = red(a3);
+        res[4][k] = red(a4);
+        res[5][k] = 2.0 * red(a5);
     }
     res
 }
 
-/// The same block compiled for AVX (4 lanes of f64), chosen at run time when available.
+/// The same block with explicit AVX intrinsics (4 lanes of f64), chosen at run time.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx")]
 unsafe fn block_avx(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
-    block(t, w, h, grid, k0, k1)
+    use std::arch::x86_64::*;
+    let n = t.len().min(w.len()).min(h.len());
+    let mut c = vec![0.0; n];
+    let mut s = vec![0.0; n];
+    let mut dc = vec![0.0; n];
+    let mut ds = vec![0.0; n];
+    let f0 = grid.freq_per_day(k0);
+    for i in 0..n {
+        (c[i], s[i]) = cis_cycles(f0 * t[i]);
+        (dc[i], ds[i]) = cis_cycles(grid.step_per_day * t[i]);
+    }
+    let len = k1 - k0;
+    let mut res: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; len]);
+    let nl = n / 4 * 4;
+    for k in 0..len {
+        let mut acc = [_mm256_setzero_pd(); 6];
+        let mut i = 0;
+        while i < nl {
+            // SAFETY: i + 4 ≤ nl ≤ the length of every array read or written.
+            unsafe {
+                let cj = _mm256_loadu_pd(c.as_ptr().add(i));
+                let sj = _mm256_loadu_pd(s.as_ptr().add(i));
+                let wj = _mm256_loadu_pd(w.as_ptr().add(i));
+                let hj = _mm256_loadu_pd(h.as_ptr().add(i));
+                let dcj = _mm256_loadu_pd(dc.as_ptr().add(i));
+                let dsj = _mm256_loadu_pd(ds.as_ptr().add(i));
+                let wc = _mm256_mul_pd(wj, cj);
+                let ws = _mm256_mul_pd(wj, sj);
+                acc[0] = _mm256_add_pd(acc[0], wc);
+                acc[1] = _mm256_add_pd(acc[1], ws);
+                acc[2] = _mm256_add_pd(acc[2], _mm256_mul_pd(hj, cj));
+                acc[3] = _mm256_add_pd(acc[3], _mm256_mul_pd(hj, sj));
+                acc[4] = _mm256_add_pd(acc[4], _mm256_sub_pd(_mm256_mul_pd(wc, cj), _mm256_mul_pd(ws, sj)));
+                acc[5] = _mm256_add_pd(acc[5], _mm256_mul_pd(wc, sj));
+                let cn = _mm256_sub_pd(_mm256_mul_pd(cj, dcj), _mm256_mul_pd(sj, dsj));
+                let sn = _mm256_add_pd(_mm256_mul_pd(sj, dcj), _mm256_mul_pd(cj, dsj));
+                _mm256_storeu_pd(c.as_mut_ptr().add(i), cn);
+                _mm256_storeu_pd(s.as_mut_ptr().add(i), sn);
+            }
+            i += 4;
+        }
+        let mut lanes = [[0.0f64; 4]; 6];
+        for q in 0..6 {
+            // SAFETY: lanes[q] holds exactly four f64.
+            unsafe { _mm256_storeu_pd(lanes[q].as_mut_ptr(), acc[q]) };
+        }
+        for j in nl..n {
+            let (cj, sj) = (c[j], s[j]);
+            lanes[0][0] += w[j] * cj;
+            lanes[1][0] += w[j] * sj;
+            lanes[2][0] += h[j] * cj;
+            lanes[3][0] += h[j] * sj;
+            lanes[4][0] += w[j] * (cj * cj - sj * sj);
+            lanes[5][0] += w[j] * cj * sj;
+            c[j] = cj * dc[j] - sj * ds[j];
+            s[j] = sj * dc[j] + cj * ds[j];
+        }
+        for q in 0..6 {
+            res[q][k] = lanes[q].iter().sum::<f64>();
+        }
+        res[5][k] *= 2.0;
+    }
+    res
 }
 
 fn block_dispatch(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
