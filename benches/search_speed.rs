@@ -27,9 +27,9 @@ fn time<T>(f: impl FnOnce() -> T) -> (f64, T) {
 }
 
 fn weights(s: &Series) -> (Vec<f64>, Vec<f64>) {
-    let sw: f64 = s.weight.iter().sum();
-    let w: Vec<f64> = s.weight.iter().map(|v| v / sw).collect();
-    let h: Vec<f64> = w.iter().zip(&s.value).map(|(a, b)| a * b).collect();
+    let sw: f64 = s.weight().iter().sum();
+    let w: Vec<f64> = s.weight().iter().map(|v| v / sw).collect();
+    let h: Vec<f64> = w.iter().zip(s.value()).map(|(a, b)| a * b).collect();
     (w, h)
 }
 
@@ -43,14 +43,14 @@ fn main() {
     let (t_fast, spec) = time(|| GeneralisedLombScargle { algorithm: Algorithm::Fast }.evaluate(&s, &grid).expect("fast GLS"));
     let (w, h) = weights(&s);
     let sub = FrequencyGrid::new(0.001, 1e-4, 200).expect("grid");
-    let (t_naive_sub, _) = time(|| naive_sums(&s.time_d, &w, &h, &sub));
+    let (t_naive_sub, _) = time(|| naive_sums(s.time_d(), &w, &h, &sub));
     let t_naive = t_naive_sub * grid.len as f64 / sub.len as f64;
-    let (t_exact_sub, _) = time(|| exact_sums(&s.time_d, &w, &h, &FrequencyGrid::new(0.001, 1e-4, 2048).expect("grid")));
+    let (t_exact_sub, _) = time(|| exact_sums(s.time_d(), &w, &h, &FrequencyGrid::new(0.001, 1e-4, 2048).expect("grid")));
     let t_exact_big = t_exact_sub * grid.len as f64 / 2048.0;
     println!("fast GLS    N=1e5 M=1e6: {t_fast:.3} s (peak power {:.4})", spec.argmax().map_or(0.0, |x| x.1));
     println!("  reference naive sin/cos loop (scaled from 200 freqs): {t_naive:.1} s  -> ratio {:.0}x", t_naive / t_fast);
     println!("  reference exact recurrence kernel (scaled from 2048 freqs): {t_exact_big:.1} s  -> ratio {:.0}x", t_exact_big / t_fast);
-    let (t_sums_only, _) = time(|| fast_sums(&s.time_d, &w, &h, &grid, &FastOptions::default()));
+    let (t_sums_only, _) = time(|| fast_sums(s.time_d(), &w, &h, &grid, &FastOptions::default()));
     println!("  of which trigonometric sums: {t_sums_only:.3} s");
 
     // 2. exact GLS, N = 1e3, M = 1e5
@@ -58,7 +58,7 @@ fn main() {
     let grid = FrequencyGrid::new(0.01, 1e-3, 100_000).expect("grid");
     let (t_exact, _) = time(|| GeneralisedLombScargle { algorithm: Algorithm::Exact }.evaluate(&s, &grid).expect("exact GLS"));
     let (w, h) = weights(&s);
-    let (t_naive, _) = time(|| naive_sums(&s.time_d, &w, &h, &grid));
+    let (t_naive, _) = time(|| naive_sums(s.time_d(), &w, &h, &grid));
     let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("pool");
     let (t_exact_1, _) = time(|| one.install(|| GeneralisedLombScargle { algorithm: Algorithm::Exact }.evaluate(&s, &grid).expect("exact GLS")));
     println!("exact GLS   N=1e3 M=1e5: {t_exact:.3} s ({t_exact_1:.3} s on 1 thread)");

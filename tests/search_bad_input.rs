@@ -18,8 +18,8 @@ fn nans_are_dropped_and_counted() {
     let e = [0.1, f64::NAN, 0.1, 0.1, 0.1, 0.1];
     let s = Series::from_arrays(&t, &y, Some(&e)).unwrap();
     assert_eq!(s.len(), 3);
-    assert_eq!(s.n_dropped, 3);
-    assert_eq!(s.row, vec![0, 4, 5]);
+    assert_eq!(s.n_dropped(), 3);
+    assert_eq!(s.row(), &[0, 4, 5]);
     let all_nan = [f64::NAN; 6];
     let err = Series::from_arrays(&t, &all_nan, None).unwrap_err();
     assert!(matches!(err, SearchError::TooFewPoints { got: 0, dropped: 6, .. }));

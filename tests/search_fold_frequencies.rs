@@ -61,8 +61,8 @@ fn period_refinement_recovers_truth() {
     assert!((r.period_d - p_true).abs() < 3.0 * r.period_err_d, "{} ± {}", r.period_d, r.period_err_d);
     assert!(r.period_err_d < 1e-4);
     // folding at the refined period: binned medians follow the model to ~noise/√n
-    let ph = fold_times(&s.time_d, r.period_d, 0.0).unwrap();
-    let bins = bin_folded(&ph, &s.value, None, 20, BinStatistic::Median).unwrap();
+    let ph = fold_times(s.time_d(), r.period_d, 0.0).unwrap();
+    let bins = bin_folded(&ph, s.value(), None, 20, BinStatistic::Median).unwrap();
     for b in bins.iter().filter(|b| b.count >= 5) {
         // bins are 0.05 wide: compare with the model's bin average, tolerance 4σ + slope term
         let model: f64 = (0..50).map(|j| 13.0 + sawtooth_mag(b.phase_center + (j as f64 / 50.0 - 0.5) * 0.05, 0.4)).sum::<f64>() / 50.0;

@@ -96,11 +96,12 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
     let sign = if options.values_are_magnitudes { 1.0 } else { -1.0 };
     let t0 = series.time_d[0];
     let dt: Vec<f64> = series.time_d.iter().map(|t| t - t0).collect();
+    let wpair: Vec<[f64; 2]> = w.iter().zip(&wy).map(|(&a, &b)| [a, b]).collect();
     let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
         .into_par_iter()
         .map_init(
-            || (Vec::<f64>::new(), Vec::<f64>::new()),
-            |(bw, bwy), k| {
+            || (Vec::<f64>::new(), Vec::<f64>::new(), Vec::<[f64; 2]>::new()),
+            |(bw, bwy, hist), k| {
                 let f = grid.freq_per_day(k);
                 let p = 1.0 / f;
                 let nb = ((p * options.bins_per_duration as f64 / dmin).ceil() as usize).clamp(2, 1 << 20);
@@ -108,14 +109,35 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                 bw.resize(2 * nb, 0.0);
                 bwy.clear();
                 bwy.resize(2 * nb, 0.0);
+                // Two interleaved histograms (even and odd points, pairs of weight and
+                // weighted value) break the store-to-load chains of consecutive points that
+                // fall into the same bin; merged afterwards.
                 let nbf = nb as f64;
-                for ((&dt, &wi), &wyi) in dt.iter().zip(&w).zip(&wy) {
+                hist.clear();
+                hist.resize(2 * nb, [0.0; 2]);
+                let (ha, hb) = hist.split_at_mut(nb);
+                let mut it = dt.chunks_exact(2).zip(wpair.chunks_exact(2));
+                for (d2, p2) in &mut it {
                     // dt ≥ 0 and f > 0: truncation is the floor (and needs no libm call)
-                    let x = dt * f;
-                    let ph = x - (x as i64) as f64;
-                    let b = ((ph * nbf) as i64 as usize).min(nb - 1);
-                    bw[b] += wi;
-                    bwy[b] += wyi;
+                    let x0 = d2[0] * f;
+                    let x1 = d2[1] * f;
+                    let b0 = (((x0 - (x0 as i64) as f64) * nbf) as i64 as usize).min(nb - 1);
+                    let b1 = (((x1 - (x1 as i64) as f64) * nbf) as i64 as usize).min(nb - 1);
+                    ha[b0][0] += p2[0][0];
+                    ha[b0][1] += p2[0][1];
+                    hb[b1][0] += p2[1][0];
+                    hb[b1][1] += p2[1][1];
+                }
+                if dt.len() % 2 == 1 {
+                    let i = dt.len() - 1;
+                    let x = dt[i] * f;
+                    let b = (((x - (x as i64) as f64) * nbf) as i64 as usize).min(nb - 1);
+                    ha[b][0] += wpair[i][0];
+                    ha[b][1] += wpair[i][1];
+                }
+                for b in 0..nb {
+                    bw[b] = ha[b][0] + hb[b][0];
+                    bwy[b] = ha[b][1] + hb[b][1];
                 }
                 // prefix sums over the doubled (wrapped) bins
                 for b in 0..nb {

@@ -36,6 +36,8 @@ impl Periodogram for PhaseDispersion {
         Ok(())
     }
     fn evaluate_unchecked(&self, series: &Series, grid: &FrequencyGrid) -> Result<Spectrum, SearchError> {
+        // parameters are public: re-check them here so that no call can index out of range
+        self.check_series(series)?;
         let y = series.band_centred_values();
         let n = y.len();
         let mean = y.iter().sum::<f64>() / n as f64;

@@ -36,6 +36,8 @@ impl Periodogram for ConditionalEntropy {
         Ok(())
     }
     fn evaluate_unchecked(&self, series: &Series, grid: &FrequencyGrid) -> Result<Spectrum, SearchError> {
+        // parameters are public: re-check them here so that no call can index out of range
+        self.check_series(series)?;
         let y = series.band_centred_values();
         let lo = y.iter().cloned().fold(f64::INFINITY, f64::min);
         let hi = y.iter().cloned().fold(f64::NEG_INFINITY, f64::max);

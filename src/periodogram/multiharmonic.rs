@@ -33,6 +33,8 @@ impl Periodogram for MultiHarmonic {
         Ok(())
     }
     fn evaluate_unchecked(&self, series: &Series, grid: &FrequencyGrid) -> Result<Spectrum, SearchError> {
+        // parameters are public: re-check them here so that no call can index out of range
+        self.check_series(series)?;
         let kh = self.harmonics;
         let nb = series.n_bands();
         let p = nb + 2 * kh;

@@ -7,10 +7,10 @@ use super::error::SearchError;
 /// 1-σ uncertainties in the units of the values; optional band label per point.
 #[derive(Debug, Clone, Copy)]
 pub struct LightCurve<'a> {
-    pub time_d: &'a [f64],
-    pub value: &'a [f64],
+    pub(crate) time_d: &'a [f64],
+    pub(crate) value: &'a [f64],
     pub error: Option<&'a [f64]>,
-    pub band: Option<&'a [u32]>,
+    pub(crate) band: Option<&'a [u32]>,
 }
 
 impl<'a> LightCurve<'a> {
@@ -31,24 +31,26 @@ impl<'a> LightCurve<'a> {
 }
 
 /// A validated light curve: finite values only, times non-decreasing, positive weights.
+/// Built only by [`Series::from_light_curve`] / [`Series::from_arrays`] so that every
+/// method can rely on its invariants; read it through the accessors.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Series {
     /// Times, days from the caller's epoch, non-decreasing.
-    pub time_d: Vec<f64>,
+    pub(crate) time_d: Vec<f64>,
     /// Values (magnitudes or fluxes).
-    pub value: Vec<f64>,
+    pub(crate) value: Vec<f64>,
     /// Weights 1/σ² (units of value⁻²), or 1 when no uncertainties were given.
-    pub weight: Vec<f64>,
+    pub(crate) weight: Vec<f64>,
     /// Band index 0..n_bands per point (labels mapped in order of first appearance).
-    pub band: Vec<usize>,
+    pub(crate) band: Vec<usize>,
     /// The caller's band labels, indexed by band index.
-    pub band_labels: Vec<u32>,
+    pub(crate) band_labels: Vec<u32>,
     /// Input row of each kept point.
-    pub row: Vec<usize>,
+    pub(crate) row: Vec<usize>,
     /// Rows dropped because a time, value or uncertainty was NaN or infinite.
-    pub n_dropped: usize,
+    pub(crate) n_dropped: usize,
     /// Whether the weights come from uncertainties.
-    pub has_errors: bool,
+    pub(crate) has_errors: bool,
 }
 
 impl Series {
@@ -140,6 +142,38 @@ impl Series {
         Self::from_light_curve(&LightCurve { time_d, value, error, band: None })
     }
 
+    /// Times, days from the caller's epoch, non-decreasing.
+    pub fn time_d(&self) -> &[f64] {
+        &self.time_d
+    }
+    /// Values (magnitudes or fluxes).
+    pub fn value(&self) -> &[f64] {
+        &self.value
+    }
+    /// Weights 1/σ² (or 1 without uncertainties).
+    pub fn weight(&self) -> &[f64] {
+        &self.weight
+    }
+    /// Band index per point.
+    pub fn band(&self) -> &[usize] {
+        &self.band
+    }
+    /// The caller's band labels, by band index.
+    pub fn band_labels(&self) -> &[u32] {
+        &self.band_labels
+    }
+    /// Input row of each kept point.
+    pub fn row(&self) -> &[usize] {
+        &self.row
+    }
+    /// Rows dropped for NaN or infinite values.
+    pub fn n_dropped(&self) -> usize {
+        self.n_dropped
+    }
+    /// Whether the weights come from uncertainties.
+    pub fn has_errors(&self) -> bool {
+        self.has_errors
+    }
     /// Number of kept points.
     pub fn len(&self) -> usize {
         self.time_d.len()

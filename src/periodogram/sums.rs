@@ -73,7 +73,7 @@ pub fn exact_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid) -> Trig
 
 /// Sums for frequencies k0..k1 of the grid (one re-seeded block of the recurrence).
 fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
-    let n = t.len();
+    let n = t.len().min(w.len()).min(h.len());
     let mut c = vec![0.0; n];
     let mut s = vec![0.0; n];
     let mut dc = vec![0.0; n];
@@ -91,24 +91,19 @@ fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: u
         let (mut a3, mut a4, mut a5) = ([0.0f64; LANES], [0.0f64; LANES], [0.0f64; LANES]);
         let mut i = 0;
         while i < nl {
-            let cc: &mut [f64; LANES] = (&mut c[i..i + LANES]).try_into().expect("lane slice");
-            let ss: &mut [f64; LANES] = (&mut s[i..i + LANES]).try_into().expect("lane slice");
-            let dcc: &[f64; LANES] = (&dc[i..i + LANES]).try_into().expect("lane slice");
-            let dss: &[f64; LANES] = (&ds[i..i + LANES]).try_into().expect("lane slice");
-            let ww: &[f64; LANES] = (&w[i..i + LANES]).try_into().expect("lane slice");
-            let hh: &[f64; LANES] = (&h[i..i + LANES]).try_into().expect("lane slice");
             for l in 0..LANES {
-                let (cj, sj) = (cc[l], ss[l]);
-                let wc = ww[l] * cj;
-                let ws = ww[l] * sj;
+                let j = i + l;
+                let (cj, sj) = (c[j], s[j]);
+                let wc = w[j] * cj;
+                let ws = w[j] * sj;
                 a0[l] += wc;
                 a1[l] += ws;
-                a2[l] += hh[l] * cj;
-                a3[l] += hh[l] * sj;
+                a2[l] += h[j] * cj;
+                a3[l] += h[j] * sj;
                 a4[l] += wc * cj - ws * sj;
                 a5[l] += wc * sj;
-                cc[l] = cj * dcc[l] - sj * dss[l];
-                ss[l] = sj * dcc[l] + cj * dss[l];
+                c[j] = cj * dc[j] - sj * ds[j];
+                s[j] = sj * dc[j] + cj * ds[j];
             }
             i += LANES;
         }
@@ -245,6 +240,11 @@ mod tests {
         let grid = FrequencyGrid::new(0.013, 0.0071, 700).unwrap();
         let a = exact_sums(&t, &w, &h, &grid);
         let b = naive_sums(&t, &w, &h, &grid);
+        // the portable block (used on CPUs without AVX) on the first 256 frequencies
+        let p = block(&t, &w, &h, &grid, 0, 256);
+        for k in 0..256 {
+            assert!((p[0][k] - b.c[k]).abs() < 1e-11 && (p[4][k] - b.c2[k]).abs() < 1e-11 && (p[5][k] - b.s2[k]).abs() < 1e-11);
+        }
         for k in 0..grid.len {
             for (x, y) in [(a.c[k], b.c[k]), (a.s[k], b.s[k]), (a.yc[k], b.yc[k]), (a.ys[k], b.ys[k]), (a.c2[k], b.c2[k]), (a.s2[k], b.s2[k])] {
                 assert!((x - y).abs() < 1e-11, "k={k} {x} {y}");
