@@ -67,7 +67,8 @@ fn main() {
     // 3. box least squares, N = 1e4, 2e4 periods x 3 durations
     let s = series(10_000, 200.0, 3);
     let grid = FrequencyGrid::new(1.0 / 20.0, (1.0 / 0.5 - 1.0 / 20.0) / 20_000.0, 20_000).expect("grid");
-    let opts = BoxOptions::flux(vec![0.05, 0.1, 0.2]);
+    // 10 phase bins per shortest duration: the same box-edge resolution as astropy's default
+    let opts = BoxOptions { durations_d: vec![0.05, 0.1, 0.2], bins_per_duration: 10, values_are_magnitudes: false };
     let (t_bls, _) = time(|| box_search(&s, &grid, &opts).expect("box search"));
     let sub = FrequencyGrid::new(grid.start_per_day, grid.step_per_day * 1000.0, 20).expect("grid");
     let (t_direct_sub, _) = time(|| box_search_direct(&s, &sub, &opts).expect("direct box search"));

@@ -39,6 +39,7 @@ fn fast_matches_exact_for_many_sizes() {
             let a = exact.evaluate(&s, &g).unwrap();
             let b = fast.evaluate(&s, &g).unwrap();
             let d = worst(&a.power, &b.power);
+            eprintln!("{} n={n}: worst {d:e}", exact.name());
             assert!(d <= 1e-4, "{} n={n}: {d:e}", exact.name());
         }
     }
