@@ -100,8 +100,8 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
     let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
         .into_par_iter()
         .map_init(
-            || (Vec::<f64>::new(), Vec::<f64>::new(), Vec::<[f64; 2]>::new()),
-            |(bw, bwy, hist), k| {
+            || (Vec::<f64>::new(), Vec::<f64>::new(), Vec::<[f64; 2]>::new(), Vec::<u32>::new()),
+            |(bw, bwy, hist, idx), k| {
                 let f = grid.freq_per_day(k);
                 let p = 1.0 / f;
                 let nb = ((p * options.bins_per_duration as f64 / dmin).ceil() as usize).clamp(2, 1 << 20);
@@ -112,17 +112,14 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                 // Two interleaved histograms (even and odd points, pairs of weight and
                 // weighted value) break the store-to-load chains of consecutive points that
                 // fall into the same bin; merged afterwards.
-                let nbf = nb as f64;
                 hist.clear();
                 hist.resize(2 * nb, [0.0; 2]);
                 let (ha, hb) = hist.split_at_mut(nb);
-                let mut it = dt.chunks_exact(2).zip(wpair.chunks_exact(2));
-                for (d2, p2) in &mut it {
-                    // dt ≥ 0 and f > 0: truncation is the floor (and needs no libm call)
-                    let x0 = d2[0] * f;
-                    let x1 = d2[1] * f;
-                    let b0 = (((x0 - (x0 as i64) as f64) * nbf) as i64 as usize).min(nb - 1);
-                    let b1 = (((x1 - (x1 as i64) as f64) * nbf) as i64 as usize).min(nb - 1);
+                idx.resize(dt.len(), 0);
+                phase_bins(&dt, f, nb, idx);
+                let mut it = idx.chunks_exact(2).zip(wpair.chunks_exact(2));
+                for (b2, p2) in &mut it {
+                    let (b0, b1) = (b2[0] as usize, b2[1] as usize);
                     ha[b0][0] += p2[0][0];
                     ha[b0][1] += p2[0][1];
                     hb[b1][0] += p2[1][0];
@@ -130,8 +127,7 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                 }
                 if dt.len() % 2 == 1 {
                     let i = dt.len() - 1;
-                    let x = dt[i] * f;
-                    let b = (((x - (x as i64) as f64) * nbf) as i64 as usize).min(nb - 1);
+                    let b = idx[i] as usize;
                     ha[b][0] += wpair[i][0];
                     ha[b][1] += wpair[i][1];
                 }
@@ -180,6 +176,36 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
         duration_d: rows.iter().map(|r| r.2).collect(),
         epoch_d: rows.iter().map(|r| r.3).collect(),
     })
+}
+
+/// Phase bin of each time offset `dt` (days ≥ 0) at frequency `f` with `nb` bins.
+#[inline(always)]
+fn phase_bins_body(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
+    let nbf = nb as f64;
+    let last = (nb - 1) as f64;
+    for (o, &d) in out.iter_mut().zip(dt) {
+        // d ≥ 0 and f > 0: truncation is the floor (and needs no libm call)
+        let x = d * f;
+        let ph = x - x.trunc();
+        *o = (ph * nbf).min(last) as u32;
+    }
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn phase_bins_avx2(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
+    phase_bins_body(dt, f, nb, out)
+}
+
+fn phase_bins(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU supports AVX2 (checked just above).
+            return unsafe { phase_bins_avx2(dt, f, nb, out) };
+        }
+    }
+    phase_bins_body(dt, f, nb, out)
 }
 
 /// Measures the best box at grid index `k` on the unbinned points and its SDE.
