@@ -25,6 +25,11 @@ impl Default for FastOptions {
     }
 }
 
+thread_local! {
+    static SCRATCH: std::cell::RefCell<Vec<Complex64>> = const { std::cell::RefCell::new(Vec::new()) };
+    static PLANNER: std::cell::RefCell<FftPlanner<f64>> = std::cell::RefCell::new(FftPlanner::new());
+}
+
 /// FFT length: a power of two ≥ oversampling × M (and ≥ 2 × order).
 fn fft_len(m: usize, opt: &FastOptions) -> usize {
     (m * opt.fft_oversampling.max(2)).next_power_of_two().max(2 * opt.order.clamp(2, 16))
@@ -37,7 +42,10 @@ fn raw_sums(t: &[f64], t0: f64, h: &[Complex64], f0: f64, df: f64, opt: &FastOpt
     let n = t.len().min(h.len());
     let nfft = fft.len();
     let order = opt.order.clamp(2, 16).min(nfft);
-    let mut grid = vec![Complex64::new(0.0, 0.0); nfft];
+    // Reuse this thread's last work array (avoids page-faulting a fresh allocation per call).
+    let mut grid = SCRATCH.with(|c| c.take());
+    grid.clear();
+    grid.resize(nfft, Complex64::new(0.0, 0.0));
     // Lagrange denominators: Π_{m≠j}(j − m) = (−1)^{order−1−j} j! (order−1−j)!
     let fact = |k: usize| (1..=k).fold(1.0f64, |a, b| a * b as f64);
     let denom: Vec<f64> = (0..order)
@@ -80,12 +88,27 @@ fn raw_sums(t: &[f64], t0: f64, h: &[Complex64], f0: f64, df: f64, opt: &FastOpt
 fn trig_sum(t: &[f64], h: &[Complex64], f0: f64, df: f64, m: usize, opt: &FastOptions, fft: &dyn Fft<f64>) -> Vec<Complex64> {
     let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
     let raw = raw_sums(t, t0, h, f0, df, opt, fft);
-    (0..m)
-        .map(|k| {
+    let mut out = Vec::with_capacity(m);
+    let step = phase_step(df * t0);
+    let mut rot = Complex64::new(1.0, 0.0);
+    for k in 0..m {
+        if k % RESEED == 0 {
             let (c, s) = cis_cycles((f0 + k as f64 * df) * t0);
-            raw[k] * Complex64::new(c, s)
-        })
-        .collect()
+            rot = Complex64::new(c, s);
+        }
+        out.push(raw[k] * rot);
+        rot *= step;
+    }
+    SCRATCH.with(|c| c.replace(raw));
+    out
+}
+
+/// Frequencies between exact re-seeds of the phase-factor recurrence (error ~RESEED·1e-16).
+const RESEED: usize = 64;
+
+fn phase_step(cycles: f64) -> Complex64 {
+    let (c, s) = cis_cycles(cycles);
+    Complex64::new(c, s)
 }
 
 /// Two real sums at once, when f0 = j0·df: with h = a + i·b (a, b real) and start 0,
@@ -98,15 +121,20 @@ fn trig_sum_pair(t: &[f64], a: &[f64], b: &[f64], j0: usize, df: f64, m: usize, 
     let nfft = raw.len();
     let mut out_a = Vec::with_capacity(m);
     let mut out_b = Vec::with_capacity(m);
+    let step = phase_step(df * t0);
+    let mut rot = Complex64::new(1.0, 0.0);
     for k in 0..m {
         let kk = j0 + k;
+        if k % RESEED == 0 {
+            rot = phase_step(kk as f64 * df * t0);
+        }
         let p = raw[kk];
         let q = raw[(nfft - kk) % nfft].conj();
-        let (c, s) = cis_cycles(kk as f64 * df * t0);
-        let rot = Complex64::new(c, s);
         out_a.push((p + q) * 0.5 * rot);
         out_b.push((p - q) * Complex64::new(0.0, -0.5) * rot);
+        rot *= step;
     }
+    SCRATCH.with(|c| c.replace(raw));
     (out_a, out_b)
 }
 
@@ -127,7 +155,9 @@ pub fn fast_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, opt: &Fa
     let (f0, df) = (grid.start_per_day, grid.step_per_day);
     let t = &t[..n];
     let nfft = fft_len(m, opt);
-    let fft = FftPlanner::new().plan_fft_inverse(nfft);
+    // One planner per thread: plans (twiddle tables) are reused across calls of the same
+    // size, which matters when many light curves are searched on one grid.
+    let fft = PLANNER.with(|p| p.borrow_mut().plan_fft_inverse(nfft));
     let fft = fft.as_ref();
     // Start frequency an integer multiple of the step (the usual grid from the baseline):
     // the weight and data sums share one FFT.

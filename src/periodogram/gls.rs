@@ -37,7 +37,7 @@ fn power_at(bands: &[TrigSums], w_band: &[f64], yy: f64, k: usize, floating_mean
     let p = (ss * yc * yc + cc * ys * ys - 2.0 * cs * yc * ys) / (yy * d);
     let a = (yc * ss - ys * cs) / d;
     let bb = (ys * cc - yc * cs) / d;
-    (p.clamp(0.0, 1.0), a.hypot(bb))
+    (p.clamp(0.0, 1.0), (a * a + bb * bb).sqrt())
 }
 
 /// Normalised weights, band-centred values and per-band weight sums.
