@@ -265,11 +265,11 @@ pub fn box_detection(series: &Series, spectrum: &BoxSpectrum, k: usize, options:
 
 /// Box least squares as a [`Periodogram`] (power = Δχ² of the best box).
 #[derive(Debug, Clone, PartialEq)]
-pub struct BoxLeastSquares {
+pub struct BoxFitPeriodogram {
     pub options: BoxOptions,
 }
 
-impl Periodogram for BoxLeastSquares {
+impl Periodogram for BoxFitPeriodogram {
     fn name(&self) -> &'static str {
         "box least squares"
     }
