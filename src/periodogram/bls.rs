@@ -135,36 +135,43 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                     bw[b] = ha[b][0] + hb[b][0];
                     bwy[b] = ha[b][1] + hb[b][1];
                 }
-                // prefix sums over the doubled (wrapped) bins
-                for b in 0..nb {
-                    bw[nb + b] = bw[b];
-                    bwy[nb + b] = bwy[b];
-                }
-                let mut acc_w = 0.0;
-                let mut acc_y = 0.0;
+                // prefix sums over the doubled (wrapped) bins with a leading zero:
+                // cw[b] = Σ_{j<b} w_bin[j mod nb], so a window [s, s+q) sums to cw[s+q] − cw[s]
+                hist.clear();
+                hist.resize(2 * nb + 1, [0.0; 2]);
                 for b in 0..2 * nb {
-                    acc_w += bw[b];
-                    acc_y += bwy[b];
-                    bw[b] = acc_w;
-                    bwy[b] = acc_y;
+                    let j = if b < nb { b } else { b - nb };
+                    hist[b + 1] = [hist[b][0] + bw[j], hist[b][1] + bwy[j]];
                 }
-                let mut best = (0.0, 0.0, 0.0, 0.0);
+                let cum: &[[f64; 2]] = hist;
+                // Best box by cross-multiplication (no division in the loop): keep the
+                // numerator sy² and denominator r(1−r) of the best statistic.
+                let (mut best_num, mut best_den) = (0.0f64, 1.0f64);
+                let (mut best_s, mut best_q, mut best_sy, mut best_r) = (0usize, 0usize, 0.0, 0.0);
                 for &d in &options.durations_d {
                     let q = ((d / p * nb as f64).round() as usize).clamp(1, nb - 1);
-                    for s in 0..nb {
-                        let (pw, py) = if s == 0 { (0.0, 0.0) } else { (bw[s - 1], bwy[s - 1]) };
-                        let r = bw[s + q - 1] - pw;
-                        let sy = bwy[s + q - 1] - py;
-                        if r <= 1e-12 || r >= 1.0 - 1e-12 || sign * sy <= 0.0 {
-                            continue;
-                        }
-                        let sr = sy * sy / (r * (1.0 - r));
-                        if sr > best.0 {
-                            let mid = (s as f64 + 0.5 * q as f64) / nb as f64;
-                            best = (sr, sy.abs() / (r * (1.0 - r)), q as f64 * p / nb as f64, t0 + (mid - mid.floor()) * p);
+                    for (s, (lo, hi)) in cum[..nb].iter().zip(&cum[q..q + nb]).enumerate() {
+                        let r = hi[0] - lo[0];
+                        let sy = hi[1] - lo[1];
+                        let den = r * (1.0 - r);
+                        let num = sy * sy;
+                        if sign * sy > 0.0 && r > 1e-12 && r < 1.0 - 1e-12 && num * best_den > best_num * den {
+                            best_num = num;
+                            best_den = den;
+                            best_s = s;
+                            best_q = q;
+                            best_sy = sy;
+                            best_r = r;
                         }
                     }
                 }
+                let best = if best_num > 0.0 {
+                    let mid = (best_s as f64 + 0.5 * best_q as f64) / nb as f64;
+                    let den = best_r * (1.0 - best_r);
+                    (best_num / den, best_sy.abs() / den, best_q as f64 * p / nb as f64, t0 + (mid - mid.floor()) * p)
+                } else {
+                    (0.0, 0.0, 0.0, 0.0)
+                };
                 (best.0 * w_raw, best.1, best.2, best.3)
             },
         )
@@ -191,18 +198,37 @@ fn phase_bins_body(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
     }
 }
 
+/// AVX twin of [`phase_bins_body`]: four offsets at a time with packed truncation and a
+/// packed f64 → i32 conversion (exact here: 0 ≤ bin < nb ≤ 2²⁰).
 #[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn phase_bins_avx2(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
-    phase_bins_body(dt, f, nb, out)
+#[target_feature(enable = "avx")]
+unsafe fn phase_bins_avx(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
+    use std::arch::x86_64::*;
+    let n = dt.len().min(out.len());
+    let n4 = n / 4 * 4;
+    let vf = _mm256_set1_pd(f);
+    let vnb = _mm256_set1_pd(nb as f64);
+    let vlast = _mm256_set1_pd((nb - 1) as f64);
+    let mut i = 0;
+    while i < n4 {
+        // SAFETY: i + 4 ≤ n4 ≤ the lengths of `dt` and `out`.
+        unsafe {
+            let x = _mm256_mul_pd(_mm256_loadu_pd(dt.as_ptr().add(i)), vf);
+            let ph = _mm256_sub_pd(x, _mm256_round_pd::<{ _MM_FROUND_TO_ZERO | _MM_FROUND_NO_EXC }>(x));
+            let b = _mm256_min_pd(_mm256_mul_pd(ph, vnb), vlast);
+            _mm_storeu_si128(out.as_mut_ptr().add(i) as *mut __m128i, _mm256_cvttpd_epi32(b));
+        }
+        i += 4;
+    }
+    phase_bins_body(&dt[n4..n], f, nb, &mut out[n4..n]);
 }
 
 fn phase_bins(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
     #[cfg(target_arch = "x86_64")]
     {
-        if std::arch::is_x86_feature_detected!("avx2") {
-            // SAFETY: the CPU supports AVX2 (checked just above).
-            return unsafe { phase_bins_avx2(dt, f, nb, out) };
+        if std::arch::is_x86_feature_detected!("avx") {
+            // SAFETY: the CPU supports AVX (checked just above).
+            return unsafe { phase_bins_avx(dt, f, nb, out) };
         }
     }
     phase_bins_body(dt, f, nb, out)
