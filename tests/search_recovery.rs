@@ -82,12 +82,13 @@ fn eclipses_recovered_by_phase_dispersion() {
 
 /// Transits: box-shaped 1 % dips lasting 0.1 d, flux noise 0.3 % per point (depth/noise =
 /// 3.3), periods 1.2–3.5 d, 50 nights. The box search's top peak is the true period in ≥95 %, and
-/// depth and duration agree with the truth within 3σ and one duration step in ≥95 %.
+/// depth and duration agree with the truth within 3σ and one duration step, and the
+/// mid-transit time within 0.02 d, in ≥95 %.
 #[test]
 fn transits_recovered_by_box_search() {
     let durations = vec![0.06, 0.08, 0.10, 0.12, 0.14];
     let opts = BoxOptions::flux(durations.clone());
-    let (mut hits, mut depth_ok, mut dur_ok) = (0, 0, 0);
+    let (mut hits, mut depth_ok, mut dur_ok, mut epoch_ok) = (0, 0, 0, 0);
     for trial in 0..TRIALS {
         let mut rng = SeededRng::for_stream(14, trial as u64);
         let t = nightly_times(&mut rng, 50, 0.75, 40, 7.0);
@@ -108,9 +109,13 @@ fn transits_recovered_by_box_search() {
         if ok {
             depth_ok += usize::from((det.depth - 0.01).abs() <= 3.0 * det.depth_err);
             dur_ok += usize::from((det.duration_d - 0.1).abs() <= 0.02 + 1e-9);
+            // mid-box time against the true mid-transit time, modulo the period
+            let de = (frac((det.epoch_d - t0) / p_true + 0.5) - 0.5) * p_true;
+            epoch_ok += usize::from(de.abs() <= 0.02);
         }
     }
     assert!(hits >= 95, "box search period {hits}/{TRIALS}");
     assert!(depth_ok >= 95 * hits / 100, "depth within 3σ in {depth_ok}/{hits}");
     assert!(dur_ok >= 95 * hits / 100, "duration within one step in {dur_ok}/{hits}");
+    assert!(epoch_ok >= 95 * hits / 100, "mid-transit time within 0.02 d in {epoch_ok}/{hits}");
 }
