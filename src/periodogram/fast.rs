@@ -211,6 +211,5 @@ mod tests {
             }
         }
         assert!(worst <= 1e-4, "worst power difference {worst}");
-        eprintln!("worst fast-exact power difference {worst:e}");
     }
 }
