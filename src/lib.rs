@@ -12,3 +12,8 @@ pub mod table;
 pub mod ephemeris;
 pub mod observer;
 pub mod time;
+
+pub mod fit;
+pub mod periodogram;
+pub mod fold;
+pub mod frequencies;

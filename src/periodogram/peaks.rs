@@ -1,0 +1,200 @@
+//! Peaks of a periodogram: the highest local maxima, refined by a least-squares sinusoid
+//! fit (frequency, amplitude, phase and Montgomery & O'Donoghue 1999 uncertainties), and
+//! annotated when a peak is a likely alias of a stronger one.
+
+use super::{SearchError, Series, Spectrum};
+use crate::frequencies::model::{Sinusoid, fit_sinusoids};
+
+/// Sidereal day in cycles per (solar) day: 1.0027379 c/d (common practice; the ratio of
+/// the mean solar to the mean sidereal day, e.g. Explanatory Supplement 3rd ed., §3.2).
+pub const SIDEREAL_FREQ_PER_DAY: f64 = 1.002_737_9;
+/// One cycle per Julian year, c/d (365.25 d; common practice).
+pub const YEAR_FREQ_PER_DAY: f64 = 1.0 / 365.25;
+
+/// Why a peak may be an alias of a stronger peak.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum AliasKind {
+    /// f ≈ |f_strong + n × 1.0027379| (daily gaps).
+    SiderealDay { n: i32 },
+    /// f ≈ |f_strong + n / 365.25| (seasonal gaps).
+    Year { n: i32 },
+    /// f ≈ n f_strong.
+    Harmonic { n: u32 },
+    /// f ≈ f_strong / n.
+    Subharmonic { n: u32 },
+    /// f ≈ |f_strong ± f_w| for a sidelobe f_w of the spectral window.
+    WindowSidelobe { window_freq_per_day: f64 },
+}
+
+/// An alias annotation: this peak relates to a stronger peak by `kind`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AliasNote {
+    /// Index (in the returned peak list) of the stronger peak.
+    pub stronger_peak: usize,
+    pub kind: AliasKind,
+    /// |f − predicted alias frequency|, c/d.
+    pub mismatch_per_day: f64,
+}
+
+/// A described periodogram peak.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Peak {
+    /// Grid index of the local maximum.
+    pub grid_index: usize,
+    /// Statistic at the grid maximum.
+    pub power: f64,
+    /// Refined frequency (c/d) and its uncertainty.
+    pub freq_per_day: f64,
+    pub freq_err_per_day: f64,
+    pub period_d: f64,
+    pub period_err_d: f64,
+    /// Semi-amplitude (units of the values) and uncertainty.
+    pub amplitude: f64,
+    pub amplitude_err: f64,
+    /// Phase of maximum of A cos(2π(f t − φ)), cycles, referred to t = 0.
+    pub phase_cycles: f64,
+    pub phase_err_cycles: f64,
+    /// Whether the least-squares refinement succeeded (else grid values, NaN errors).
+    pub refined: bool,
+    pub aliases: Vec<AliasNote>,
+}
+
+/// Options for [`describe_peaks`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct PeakOptions {
+    /// How many peaks to return.
+    pub count: usize,
+    /// Minimum distance between returned peaks, c/d; default 1/T.
+    pub min_separation_per_day: Option<f64>,
+    /// Tolerance for alias matching, c/d; default 0.5/T. Alias kinds whose offset is under
+    /// twice the tolerance are not tested (they cannot be resolved).
+    pub alias_tolerance_per_day: Option<f64>,
+    /// Frequencies of spectral-window sidelobes to test (see [`window_sidelobes`]).
+    pub window_sidelobes_per_day: Vec<f64>,
+    /// Refine each peak by a least-squares sinusoid fit.
+    pub refine: bool,
+}
+
+impl Default for PeakOptions {
+    fn default() -> Self {
+        PeakOptions { count: 5, min_separation_per_day: None, alias_tolerance_per_day: None, window_sidelobes_per_day: Vec::new(), refine: true }
+    }
+}
+
+/// Highest local maxima of `power`, in descending order, at least `min_sep` (c/d) apart.
+/// Returns grid indices.
+pub fn local_maxima(spectrum: &Spectrum, count: usize, min_sep_per_day: f64) -> Vec<usize> {
+    let p = &spectrum.power;
+    let m = p.len();
+    let mut cand: Vec<usize> = (0..m)
+        .filter(|&k| p[k].is_finite() && (k == 0 || p[k] >= p[k - 1]) && (k + 1 == m || p[k] > p[k + 1]))
+        .collect();
+    cand.sort_by(|&a, &b| p[b].total_cmp(&p[a]));
+    let mut out: Vec<usize> = Vec::new();
+    for k in cand {
+        if out.len() >= count {
+            break;
+        }
+        let f = spectrum.grid.freq_per_day(k);
+        if out.iter().all(|&j| (spectrum.grid.freq_per_day(j) - f).abs() >= min_sep_per_day) {
+            out.push(k);
+        }
+    }
+    out
+}
+
+/// Frequencies of the strongest sidelobes of a spectral window (c/d), excluding the main
+/// lobe below `1/T` c/d: the offsets at which the sampling repeats a signal.
+pub fn window_sidelobes(window: &Spectrum, baseline_d: f64, count: usize) -> Vec<f64> {
+    let lo = 1.5 / baseline_d;
+    let idx = local_maxima(window, count + 8, 1.0 / baseline_d);
+    idx.into_iter().map(|k| window.grid.freq_per_day(k)).filter(|&f| f > lo).take(count).collect()
+}
+
+/// The top peaks of a spectrum, refined and annotated (see [`PeakOptions`]).
+/// Source of the uncertainties: Montgomery & O'Donoghue (1999), DSSN 13, 28.
+pub fn describe_peaks(series: &Series, spectrum: &Spectrum, options: &PeakOptions) -> Result<Vec<Peak>, SearchError> {
+    if options.count == 0 {
+        return Err(SearchError::InvalidParameter { name: "peak count", value: 0.0, expected: "at least 1" });
+    }
+    let t_base = series.baseline_d();
+    let sep = options.min_separation_per_day.unwrap_or(1.0 / t_base);
+    let idx = local_maxima(spectrum, options.count, sep);
+    let mut peaks = Vec::with_capacity(idx.len());
+    for k in idx {
+        let f = spectrum.grid.freq_per_day(k);
+        let amp0 = spectrum.amplitude.as_ref().map_or(0.0, |a| a[k]);
+        let mut peak = Peak {
+            grid_index: k,
+            power: spectrum.power[k],
+            freq_per_day: f,
+            freq_err_per_day: f64::NAN,
+            period_d: 1.0 / f,
+            period_err_d: f64::NAN,
+            amplitude: amp0,
+            amplitude_err: f64::NAN,
+            phase_cycles: f64::NAN,
+            phase_err_cycles: f64::NAN,
+            refined: false,
+            aliases: Vec::new(),
+        };
+        if options.refine && f > 0.0 {
+            // Start from the linear fit at the grid frequency (phase 0 and amplitude from the
+            // spectrum are fine starting values: the fit is linear in a, b).
+            let start = Sinusoid { freq_per_day: f, amplitude: amp0.max(1e-12), phase_cycles: 0.0 };
+            if let Ok(fit) = fit_sinusoids(series, &[start]) {
+                let c = fit.components[0];
+                // Accept only refinements that stay within one grid step of the peak.
+                if (c.freq_per_day - f).abs() <= 2.0 * spectrum.grid.step_per_day {
+                    peak.freq_per_day = c.freq_per_day;
+                    peak.freq_err_per_day = c.freq_err_per_day;
+                    peak.period_d = c.period_d();
+                    peak.period_err_d = c.period_err_d();
+                    peak.amplitude = c.amplitude;
+                    peak.amplitude_err = c.amplitude_err;
+                    peak.phase_cycles = c.phase_cycles;
+                    peak.phase_err_cycles = c.phase_err_cycles;
+                    peak.refined = true;
+                }
+            }
+        }
+        peaks.push(peak);
+    }
+    let tol = options.alias_tolerance_per_day.unwrap_or(0.5 / t_base);
+    annotate_aliases(&mut peaks, tol, &options.window_sidelobes_per_day);
+    Ok(peaks)
+}
+
+/// Marks each peak that lies within `tol` (c/d) of an alias of a stronger peak: ±n sidereal
+/// days (n ≤ 3), ±n years (n ≤ 2), harmonics and subharmonics (n = 2..5), window sidelobes.
+/// Peaks must be in descending order of strength.
+pub fn annotate_aliases(peaks: &mut [Peak], tol: f64, sidelobes_per_day: &[f64]) {
+    for j in 1..peaks.len() {
+        let fj = peaks[j].freq_per_day;
+        let mut notes = Vec::new();
+        for i in 0..j {
+            let fi = peaks[i].freq_per_day;
+            let mut test = |target: f64, kind: AliasKind, offset: f64| {
+                if offset >= 2.0 * tol && (fj - target).abs() <= tol {
+                    notes.push(AliasNote { stronger_peak: i, kind, mismatch_per_day: (fj - target).abs() });
+                }
+            };
+            for n in [-3i32, -2, -1, 1, 2, 3] {
+                test((fi + n as f64 * SIDEREAL_FREQ_PER_DAY).abs(), AliasKind::SiderealDay { n }, (n as f64 * SIDEREAL_FREQ_PER_DAY).abs());
+            }
+            for n in [-2i32, -1, 1, 2] {
+                test((fi + n as f64 * YEAR_FREQ_PER_DAY).abs(), AliasKind::Year { n }, (n as f64 * YEAR_FREQ_PER_DAY).abs());
+            }
+            for n in 2u32..=5 {
+                test(fi * n as f64, AliasKind::Harmonic { n }, fi * (n as f64 - 1.0));
+                test(fi / n as f64, AliasKind::Subharmonic { n }, fi * (1.0 - 1.0 / n as f64));
+            }
+            for &fw in sidelobes_per_day {
+                for target in [fi + fw, (fi - fw).abs()] {
+                    test(target, AliasKind::WindowSidelobe { window_freq_per_day: fw }, fw);
+                }
+            }
+        }
+        peaks[j].aliases = notes;
+    }
+}
