@@ -241,50 +241,12 @@ pub(crate) fn j2000_seconds_two_part(t: &Instant) -> (f64, f64) {
 
 /// Human-readable description of an instant: "2101-01-01 00:00:00.000 TDB (JD 2488434.500000)".
 pub fn describe_instant(t: &Instant) -> String {
-    let (y, m, d) = gregorian_from_mjd(t.mjd_day());
-    let s = t.seconds_of_day();
-    let hh = (s / 3600.0).floor();
-    let mm = ((s - hh * 3600.0) / 60.0).floor();
-    let ss = s - hh * 3600.0 - mm * 60.0;
-    format!(
-        "{y:04}-{m:02}-{d:02} {:02}:{:02}:{:06.3} {} (JD {:.6})",
-        hh as i64,
-        mm as i64,
-        ss,
-        t.scale(),
-        t.jd_f64()
-    )
-}
-
-/// Proleptic Gregorian calendar date (year, month, day) of an MJD day number.
-/// Algorithm: Fliegel & Van Flandern (1968), CACM 11, 657, on JDN = MJD + 2400001.
-fn gregorian_from_mjd(mjd_day: i64) -> (i64, i64, i64) {
-    let jdn = mjd_day + 2_400_001;
-    let l = jdn + 68_569;
-    let n = (4 * l).div_euclid(146_097);
-    let l = l - (146_097 * n + 3).div_euclid(4);
-    let i = (4000 * (l + 1)).div_euclid(1_461_001);
-    let l = l - (1461 * i).div_euclid(4) + 31;
-    let j = (80 * l).div_euclid(2447);
-    let day = l - (2447 * j).div_euclid(80);
-    let l = j.div_euclid(11);
-    let month = j + 2 - 12 * l;
-    let year = 100 * (n - 49) + i + l;
-    (year, month, day)
+    format!("{} {} (JD {:.6})", crate::time::format::format_iso(t, 3).replacen('T', " ", 1), t.scale(), t.jd_f64())
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn calendar_dates_of_known_mjds() {
-        // MJD 51544 = 2000-01-01; MJD 0 = 1858-11-17; MJD 33282 = 1950-01-01.
-        assert_eq!(gregorian_from_mjd(51_544), (2000, 1, 1));
-        assert_eq!(gregorian_from_mjd(0), (1858, 11, 17));
-        assert_eq!(gregorian_from_mjd(33_282), (1950, 1, 1));
-        assert_eq!(gregorian_from_mjd(88_434), (2101, 1, 1));
-    }
 
     #[test]
     fn describe_instant_reads_as_date_and_jd() {
