@@ -177,7 +177,7 @@ fn survey_batch_reports_bad_sources_and_goes_on() {
     let output = d.join("periods.csv");
     let (code, out, err) = run(&[
         "survey-batch", "--input", input.to_str().unwrap(), "--source-column", "star", "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--max-freq-per-day", "3", "--peaks", "2", "--output", output.to_str().unwrap(), "--json",
+        "--max-freq-per-day", "3", "--peaks", "2", "--refine-peaks", "--output", output.to_str().unwrap(), "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
