@@ -18,3 +18,4 @@ pub mod periodogram;
 pub mod fold;
 pub mod frequencies;
 pub mod survey;
+pub mod plot;

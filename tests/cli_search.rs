@@ -51,7 +51,7 @@ fn find_periods_recovers_an_invented_pulsator() {
     let peaks = d.join("peaks.json");
     let (code, out, err) = run(&[
         "find-periods", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--max-freq-per-day", "12", "--output", spectrum.to_str().unwrap(), "--peaks-output", peaks.to_str().unwrap(), "--json",
+        "--max-freq-per-day", "12", "--output", spectrum.to_str().unwrap(), "--peaks-output", peaks.to_str().unwrap(), "--figure", d.join("p.svg").to_str().unwrap(), "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).expect("json on stdout");
@@ -66,6 +66,7 @@ fn find_periods_recovers_an_invented_pulsator() {
     assert!(text.starts_with("freq_per_day,period_d,power,amplitude"));
     assert!(d.join("spectrum.csv.provenance.json").exists());
     assert!(std::fs::read_to_string(&peaks).unwrap().contains("\"provenance\""));
+    assert!(std::fs::read_to_string(d.join("p.svg")).unwrap().contains("frequency (cycles per day)"));
 }
 
 #[test]
@@ -102,12 +103,13 @@ fn fold_and_extract_frequencies() {
     let binned = d.join("binned.csv");
     let (code, out, err) = run(&[
         "fold-curve", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--period-d", &format!("{}", 1.0 / 9.123), "--refine-harmonics", "1", "--bins", "20", "--binned-output", binned.to_str().unwrap(), "--json",
+        "--period-d", &format!("{}", 1.0 / 9.123), "--refine-harmonics", "1", "--bins", "20", "--binned-output", binned.to_str().unwrap(), "--figure", d.join("f.png").to_str().unwrap(), "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
     assert!((v["period_d"].as_f64().unwrap() - 1.0 / 9.123).abs() < 1e-5);
     assert_eq!(std::fs::read_to_string(&binned).unwrap().lines().count(), 21);
+    assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
     let table = d.join("freqs.csv");
     let (code, out, err) = run(&[
         "extract-frequencies", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",

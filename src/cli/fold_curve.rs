@@ -59,6 +59,9 @@ pub struct Args {
     /// Summary JSON file.
     #[arg(long, value_name = "FILE")]
     pub summary_output: Option<PathBuf>,
+    /// Figure of the folded points and the binned curve (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
     /// Print a machine-readable summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
@@ -138,6 +141,33 @@ pub fn run(a: Args) -> Result<()> {
     });
     if let Some(path) = &a.summary_output {
         write_text(path, &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?, &[input])?;
+    }
+    if let Some(path) = &a.figure {
+        use crate::plot::{Figure, Layer, Panel, write_figure};
+        crate::table::refuse_overwriting_inputs(path, &[input])?;
+        let fig = Figure {
+            title: format!("{} folded at P = {period_d:.8} d", input.display()),
+            panels: vec![Panel {
+                x_label: "phase (cycles)".into(),
+                y_label: format!("{} (input units)", a.light_curve.value_column),
+                invert_y: false,
+                height_weight: 1,
+                layers: vec![
+                    Layer::Points { label: "observations".into(), x: phase.clone(), y: series.value().to_vec(), y_err: errors.clone(), colour: (120, 140, 180), size: 2 },
+                    Layer::Points {
+                        label: "binned".into(),
+                        x: bins.iter().map(|b| b.phase_center).collect(),
+                        y: bins.iter().map(|b| b.value).collect(),
+                        y_err: Some(bins.iter().map(|b| b.error).collect()),
+                        colour: (200, 30, 30),
+                        size: 4,
+                    },
+                ],
+            }],
+            width: 1200,
+            height: 700,
+        };
+        write_figure(&fig, path)?;
     }
     if a.json {
         println!("{}", serde_json::to_string_pretty(&summary)?);
