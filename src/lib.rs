@@ -17,3 +17,5 @@ pub mod fit;
 pub mod periodogram;
 pub mod fold;
 pub mod frequencies;
+pub mod survey;
+pub mod plot;

@@ -7,7 +7,12 @@ pub mod barycentre_events;
 pub mod common;
 pub mod convert_time;
 pub mod demo;
+pub mod extract_frequencies;
+pub mod find_periods;
+pub mod fold_curve;
+pub mod light_curve_input;
 pub mod observer_time;
+pub mod survey_batch;
 
 use clap::{Parser, Subcommand};
 
@@ -30,6 +35,14 @@ pub enum Command {
     ObserverTime(observer_time::Args),
     /// Convert single times between scales (UTC, TAI, TT, TDB, TCB, GPS) and formats.
     ConvertTime(convert_time::Args),
+    /// Periodogram of one light curve: top peaks with errors, false-alarm probabilities, alias notes.
+    FindPeriods(find_periods::Args),
+    /// Phase-fold a light curve at a period and epoch; folded points and binned curve.
+    FoldCurve(fold_curve::Args),
+    /// Extract significant frequencies one by one (prewhitening) down to an S/N limit.
+    ExtractFrequencies(extract_frequencies::Args),
+    /// Period search of every source in a survey table, streamed, in parallel.
+    SurveyBatch(survey_batch::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -42,5 +55,9 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ObserverTime(a) => observer_time::run(a),
         Command::ConvertTime(a) => convert_time::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::FindPeriods(a) => find_periods::run(a),
+        Command::FoldCurve(a) => fold_curve::run(a),
+        Command::ExtractFrequencies(a) => extract_frequencies::run(a),
+        Command::SurveyBatch(a) => survey_batch::run(a),
     }
 }

@@ -1,0 +1,282 @@
+//! `skyclock find-periods`: periodogram of one light curve, its top peaks with
+//! uncertainties, false-alarm probabilities and alias notes.
+
+use std::path::PathBuf;
+
+use anyhow::Result;
+use clap::Args as ClapArgs;
+use polars::prelude::*;
+
+use super::light_curve_input::{LightCurveArgs, spinner, write_text};
+use crate::periodogram::significance::BootstrapOptions;
+use crate::periodogram::{Algorithm, GridRequest};
+use crate::survey::search::{SearchMethod, SearchOutcome, SearchPlan, describe_alias, search_series};
+use crate::table::{Provenance, write_table};
+
+const EXAMPLE: &str = "Example (invented star, times already BJD_TDB):
+  skyclock find-periods --input vx_invented.csv --time-column bjd --value-column mag \\
+      --error-column mag_err --max-freq-per-day 20 --peaks 5 \\
+      --output vx_spectrum.csv --peaks-output vx_peaks.json
+  Writes the spectrum (freq_per_day, period_d, power[, amplitude]) and the peaks as JSON:
+  frequency, period, amplitude and phase with least-squares errors, false-alarm
+  probability (Baluev 2008, for the sinusoid methods) and notes when a peak is a likely
+  alias of a stronger one (±n c/sidereal day, ±n c/yr, harmonics, window sidelobes).
+  Times in another clock: add --clock jd_utc --site-coordinates LON,LAT,H --ra .. --dec ..";
+
+/// Statistic to search.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum MethodArg {
+    /// Generalised Lomb-Scargle (floating mean; per-band zero points with --band-column).
+    Sinusoid,
+    /// Classical Lomb-Scargle on mean-subtracted values.
+    ClassicalSinusoid,
+    /// Fourier series with --harmonics terms (non-sinusoidal pulsators, eclipses).
+    Harmonics,
+    /// Phase dispersion minimisation (power = 1 - theta).
+    PhaseDispersion,
+    /// Conditional entropy (power = ln(value bins) - H_c).
+    ConditionalEntropy,
+    /// Box least squares for transits and eclipses over --durations-d.
+    Box,
+}
+
+/// Kernel for the Lomb-Scargle family.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum KernelArg {
+    /// Fast when points x frequencies is large, exact otherwise.
+    Auto,
+    /// Exact sums (slow on large grids).
+    Exact,
+    /// Extirpolation + FFT (power within 1e-4 of exact).
+    Fast,
+}
+
+impl KernelArg {
+    pub fn algorithm(self) -> Algorithm {
+        match self {
+            KernelArg::Auto => Algorithm::Auto,
+            KernelArg::Exact => Algorithm::Exact,
+            KernelArg::Fast => Algorithm::Fast,
+        }
+    }
+}
+
+/// Method and grid options shared with `survey-batch`.
+#[derive(Debug, Clone, ClapArgs)]
+pub struct SearchOptionArgs {
+    /// Statistic searched.
+    #[arg(long, value_enum, default_value_t = MethodArg::Sinusoid)]
+    pub method: MethodArg,
+    /// Harmonics for --method harmonics.
+    #[arg(long, default_value_t = 3)]
+    pub harmonics: usize,
+    /// Phase bins for phase-dispersion and conditional-entropy.
+    #[arg(long, default_value_t = 10)]
+    pub phase_bins: usize,
+    /// Box durations in days for --method box, comma-separated.
+    #[arg(long, value_name = "D1,D2,..", default_value = "0.05,0.1,0.2")]
+    pub durations_d: String,
+    /// Values are magnitudes (a dip is an increase) for --method box.
+    #[arg(long)]
+    pub magnitudes: bool,
+    /// Highest frequency searched, cycles per day.
+    #[arg(long, default_value_t = 10.0)]
+    pub max_freq_per_day: f64,
+    /// Lowest frequency searched, cycles per day (default 1/baseline).
+    #[arg(long)]
+    pub min_freq_per_day: Option<f64>,
+    /// Frequencies per resolution element 1/baseline.
+    #[arg(long, default_value_t = 5.0)]
+    pub oversampling: f64,
+    /// Kernel for the Lomb-Scargle family.
+    #[arg(long, value_enum, default_value_t = KernelArg::Auto)]
+    pub kernel: KernelArg,
+    /// Number of peaks reported.
+    #[arg(long, default_value_t = 5)]
+    pub peaks: usize,
+    /// Refuse grids needing more memory than this, GiB.
+    #[arg(long, default_value_t = 2.0)]
+    pub memory_limit_gib: f64,
+    /// Bootstrap false-alarm probability of the top peak with this many trials.
+    #[arg(long)]
+    pub bootstrap_trials: Option<usize>,
+    /// Seed of the bootstrap.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+}
+
+impl SearchOptionArgs {
+    /// The search plan these options describe.
+    pub fn plan(&self, window_sidelobes: usize) -> Result<SearchPlan> {
+        let method = match self.method {
+            MethodArg::Sinusoid => SearchMethod::Sinusoid,
+            MethodArg::ClassicalSinusoid => SearchMethod::ClassicalSinusoid,
+            MethodArg::Harmonics => SearchMethod::Harmonics(self.harmonics),
+            MethodArg::PhaseDispersion => SearchMethod::PhaseDispersion(self.phase_bins),
+            MethodArg::ConditionalEntropy => SearchMethod::ConditionalEntropy { phase_bins: self.phase_bins, value_bins: 10 },
+            MethodArg::Box => {
+                let mut d = Vec::new();
+                for part in self.durations_d.split(',') {
+                    let v: f64 = part.trim().parse().map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
+                    if !(v.is_finite() && v > 0.0) {
+                        anyhow::bail!("--durations-d: every duration must be > 0 days, got {v}");
+                    }
+                    d.push(v);
+                }
+                SearchMethod::Box { durations_d: d, values_are_magnitudes: self.magnitudes }
+            }
+        };
+        if !(self.memory_limit_gib.is_finite() && self.memory_limit_gib > 0.0) {
+            anyhow::bail!("--memory-limit-gib must be > 0, got {}", self.memory_limit_gib);
+        }
+        Ok(SearchPlan {
+            method,
+            algorithm: self.kernel.algorithm(),
+            grid: GridRequest {
+                oversampling: self.oversampling,
+                min_freq_per_day: self.min_freq_per_day,
+                max_freq_per_day: self.max_freq_per_day,
+                memory_limit_bytes: (self.memory_limit_gib * (1u64 << 30) as f64) as u128,
+            },
+            peaks: self.peaks,
+            refine_peaks: true,
+            window_sidelobes,
+            bootstrap: self.bootstrap_trials.map(|trials| BootstrapOptions { trials, seed: self.seed }),
+        })
+    }
+}
+
+/// Arguments of `skyclock find-periods`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    #[command(flatten)]
+    pub light_curve: LightCurveArgs,
+    #[command(flatten)]
+    pub search: SearchOptionArgs,
+    /// Spectrum table output (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Peaks as JSON.
+    #[arg(long, value_name = "FILE")]
+    pub peaks_output: Option<PathBuf>,
+    /// Figure of the periodogram with the peaks and alias notes marked (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
+    /// Print a machine-readable summary as JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+    /// Print nothing but errors.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+/// The peaks of a search as JSON.
+pub fn peaks_json(out: &SearchOutcome, epoch_jd: &str) -> serde_json::Value {
+    let num = |v: f64| if v.is_finite() { serde_json::json!(v) } else { serde_json::Value::Null };
+    serde_json::json!({
+        "phase_reference_bjd_tdb": epoch_jd,
+        "points": out.n_points,
+        "rows_dropped_nan": out.n_dropped,
+        "baseline_d": out.baseline_d,
+        "grid": {
+            "start_per_day": out.spectrum.grid.start_per_day,
+            "step_per_day": out.spectrum.grid.step_per_day,
+            "frequencies": out.spectrum.grid.len,
+        },
+        "window_sidelobes_per_day": out.window_sidelobes_per_day,
+        "bootstrap_fap_top_peak": out.bootstrap_fap.map(num),
+        "box": out.box_detection.as_ref().map(|b| serde_json::json!({
+            "period_d": b.period_d, "depth": b.depth, "depth_err": num(b.depth_err), "duration_d": b.duration_d,
+            "duration_resolution_d": b.duration_resolution_d, "mid_event_d_since_reference": b.epoch_d, "signal_detection_efficiency": num(b.sde), "points_in_box": b.n_in_box,
+        })),
+        "peaks": out.peaks.iter().enumerate().map(|(k, p)| serde_json::json!({
+            "rank": k + 1,
+            "freq_per_day": p.peak.freq_per_day,
+            "freq_err_per_day": num(p.peak.freq_err_per_day),
+            "period_d": p.peak.period_d,
+            "period_err_d": num(p.peak.period_err_d),
+            "power": p.peak.power,
+            "amplitude": num(p.peak.amplitude),
+            "amplitude_err": num(p.peak.amplitude_err),
+            "phase_of_maximum_cycles": num(p.peak.phase_cycles),
+            "phase_err_cycles": num(p.peak.phase_err_cycles),
+            "refined": p.peak.refined,
+            "false_alarm_probability": num(p.fap),
+            "alias_notes": p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>(),
+        })).collect::<Vec<_>>(),
+    })
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    let pb = spinner("searching", a.quiet);
+    let (lc, note) = a.light_curve.load()?;
+    let series = lc.series()?;
+    let plan = a.search.plan(3)?;
+    let out = search_series(&series, &plan).map_err(|e| lc.locate(e))?;
+    pb.finish_and_clear();
+    let input = a.light_curve.input.as_path();
+    let epoch = lc.epoch_jd_text();
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "find-periods")
+        .with("input", input.display().to_string())
+        .with("method", plan.method.label())
+        .with("times", note.clone())
+        .with("time_reference_bjd_tdb", epoch.clone());
+    if let Some(path) = &a.output {
+        let f = out.spectrum.grid.frequencies();
+        let period: Vec<f64> = f.iter().map(|x| 1.0 / x).collect();
+        let mut cols = vec![Column::new("freq_per_day".into(), f), Column::new("period_d".into(), period), Column::new("power".into(), out.spectrum.power.clone())];
+        if let Some(amp) = &out.spectrum.amplitude {
+            cols.push(Column::new("amplitude".into(), amp.clone()));
+        }
+        let mut df = DataFrame::new_infer_height(cols)?;
+        write_table(&mut df, path, &provenance, &[input])?;
+    }
+    let peaks = peaks_json(&out, &epoch);
+    if let Some(path) = &a.peaks_output {
+        let doc = serde_json::json!({"provenance": provenance, "method": plan.method.label(), "result": peaks});
+        write_text(path, &serde_json::to_string_pretty(&doc)?, &[input])?;
+    }
+    if let Some(path) = &a.figure {
+        use crate::plot::{Figure, Layer, Panel, write_figure};
+        crate::table::refuse_overwriting_inputs(path, &[input])?;
+        let marks: Vec<String> = out.peaks.iter().enumerate().map(|(k, p)| if p.peak.aliases.is_empty() { format!("{}", k + 1) } else { format!("{}*", k + 1) }).collect();
+        let fig = Figure {
+            title: format!("{} — {} (* = likely alias)", plan.method.label(), input.display()),
+            panels: vec![Panel {
+                x_label: "frequency (cycles per day)".into(),
+                y_label: "power".into(),
+                invert_y: false,
+                height_weight: 1,
+                layers: vec![
+                    Layer::Line { label: "periodogram".into(), x: out.spectrum.grid.frequencies(), y: out.spectrum.power.clone(), colour: (30, 60, 140) },
+                    Layer::Markers { label: "peaks (rank)".into(), x: out.peaks.iter().map(|p| p.peak.freq_per_day).collect(), text: marks, colour: (200, 30, 30) },
+                ],
+            }],
+            width: 1200,
+            height: 700,
+        };
+        write_figure(&fig, path)?;
+    }
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&serde_json::json!({"method": plan.method.label(), "times": note, "result": peaks}))?);
+    } else if !a.quiet {
+        println!("{} on {} points ({} rows with NaN dropped), baseline {:.3} d, {} frequencies", plan.method.label(), out.n_points, out.n_dropped, out.baseline_d, out.spectrum.grid.len);
+        for (k, p) in out.peaks.iter().enumerate() {
+            let notes = p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>().join("; ");
+            println!(
+                "  {}. period {:.8} ± {:.2e} d  power {:.4}  FAP {}{}",
+                k + 1,
+                p.peak.period_d,
+                p.peak.period_err_d,
+                p.peak.power,
+                if p.fap.is_finite() { format!("{:.2e}", p.fap) } else { "n/a".into() },
+                if notes.is_empty() { String::new() } else { format!("  [{notes}]") }
+            );
+        }
+        println!("  caution: a false-alarm probability assumes white noise; check aliases before trusting a period.");
+    }
+    Ok(())
+}

@@ -1,0 +1,178 @@
+//! `skyclock fold-curve`: phase-fold a light curve at a period and epoch, optionally
+//! refine the period by least squares, and write the folded points and the binned curve.
+
+use std::path::PathBuf;
+
+use anyhow::{Result, bail};
+use clap::Args as ClapArgs;
+use polars::prelude::*;
+
+use super::light_curve_input::{LightCurveArgs, write_text};
+use crate::fold::{BinStatistic, bin_folded, fold_times, refine_period};
+use crate::survey::input::days_since;
+use crate::table::{Provenance, write_table};
+use crate::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
+
+const EXAMPLE: &str = "Example (invented star):
+  skyclock fold-curve --input vx_invented.csv --time-column bjd --value-column mag \\
+      --error-column mag_err --period-d 0.3712841 --epoch-bjd 2460123.4567 \\
+      --bins 50 --output vx_folded.csv --binned-output vx_binned.csv
+  Phase 0 is at the epoch (a BJD_TDB Julian Date; default: the first time). Folded rows
+  keep the input row number; binned rows give phase centre, mean or median, error, count.";
+
+/// Statistic per phase bin.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum BinArg {
+    /// Weighted mean (1/σ²) with its error.
+    Mean,
+    /// Median with error √(π/2)·s/√n.
+    Median,
+}
+
+/// Arguments of `skyclock fold-curve`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    #[command(flatten)]
+    pub light_curve: LightCurveArgs,
+    /// Folding period, days.
+    #[arg(long)]
+    pub period_d: f64,
+    /// Epoch of phase zero, BJD_TDB as a Julian Date (text keeps every digit).
+    #[arg(long, value_name = "JD")]
+    pub epoch_bjd: Option<String>,
+    /// Refine the period by least squares with this many harmonics before folding.
+    #[arg(long, value_name = "HARMONICS")]
+    pub refine_harmonics: Option<usize>,
+    /// Number of phase bins.
+    #[arg(long, default_value_t = 50)]
+    pub bins: usize,
+    /// Statistic per bin.
+    #[arg(long, value_enum, default_value_t = BinArg::Mean)]
+    pub bin_statistic: BinArg,
+    /// Folded points (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Binned curve (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub binned_output: Option<PathBuf>,
+    /// Summary JSON file.
+    #[arg(long, value_name = "FILE")]
+    pub summary_output: Option<PathBuf>,
+    /// Figure of the folded points and the binned curve (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
+    /// Print a machine-readable summary as JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+    /// Print nothing but errors.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    if !(a.period_d.is_finite() && a.period_d > 0.0) {
+        bail!("--period-d must be a positive number of days, got {}", a.period_d);
+    }
+    let (lc, note) = a.light_curve.load()?;
+    let series = lc.series()?;
+    let epoch_d = match &a.epoch_bjd {
+        None => series.time_d()[0],
+        Some(text) => {
+            let t = parse_time(text, TimeFormat::Jd, TimeScale::Tdb, &LeapSecondTable::builtin()).map_err(|e| anyhow::anyhow!("--epoch-bjd: {e}"))?;
+            days_since(&t, &lc.epoch)
+        }
+    };
+    let (period_d, refined) = match a.refine_harmonics {
+        Some(h) => {
+            let r = refine_period(&series, 1.0 / a.period_d, h).map_err(|e| lc.locate(e))?;
+            (r.period_d, Some(r))
+        }
+        None => (a.period_d, None),
+    };
+    let phase = fold_times(series.time_d(), period_d, epoch_d).map_err(|e| lc.locate(e))?;
+    let errors: Option<Vec<f64>> = series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
+    let stat = match a.bin_statistic {
+        BinArg::Mean => BinStatistic::Mean,
+        BinArg::Median => BinStatistic::Median,
+    };
+    let bins = bin_folded(&phase, series.value(), errors.as_deref(), a.bins, stat).map_err(|e| lc.locate(e))?;
+    let input = a.light_curve.input.as_path();
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "fold-curve")
+        .with("input", input.display().to_string())
+        .with("period_d", format!("{period_d:.12}"))
+        .with("times", note.clone());
+    if let Some(path) = &a.output {
+        let rows: Vec<u64> = series.row().iter().map(|&i| lc.file_row[i] as u64).collect();
+        let mut cols = vec![
+            Column::new("input_row".into(), rows),
+            Column::new("phase".into(), phase.clone()),
+            Column::new("days_since_epoch".into(), series.time_d().iter().map(|t| t - epoch_d).collect::<Vec<f64>>()),
+            Column::new("value".into(), series.value().to_vec()),
+        ];
+        if let Some(e) = &errors {
+            cols.push(Column::new("error".into(), e.clone()));
+        }
+        let mut df = DataFrame::new_infer_height(cols)?;
+        write_table(&mut df, path, &provenance, &[input])?;
+    }
+    if let Some(path) = &a.binned_output {
+        let mut df = DataFrame::new_infer_height(vec![
+            Column::new("phase_center".into(), bins.iter().map(|b| b.phase_center).collect::<Vec<f64>>()),
+            Column::new("value".into(), bins.iter().map(|b| b.value).collect::<Vec<f64>>()),
+            Column::new("error".into(), bins.iter().map(|b| b.error).collect::<Vec<f64>>()),
+            Column::new("count".into(), bins.iter().map(|b| b.count as u64).collect::<Vec<u64>>()),
+        ])?;
+        write_table(&mut df, path, &provenance, &[input])?;
+    }
+    let num = |v: f64| if v.is_finite() { serde_json::json!(v) } else { serde_json::Value::Null };
+    let summary = serde_json::json!({
+        "points": series.len(),
+        "rows_dropped_nan": series.n_dropped(),
+        "period_d": period_d,
+        "period_err_d": refined.as_ref().map(|r| num(r.period_err_d)),
+        "refined_with_harmonics": refined.as_ref().map(|r| r.harmonics),
+        "epoch_days_after_first_noon": epoch_d,
+        "bins": bins.len(),
+        "empty_bins": bins.iter().filter(|b| b.count == 0).count(),
+        "times": note,
+    });
+    if let Some(path) = &a.summary_output {
+        write_text(path, &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?, &[input])?;
+    }
+    if let Some(path) = &a.figure {
+        use crate::plot::{Figure, Layer, Panel, write_figure};
+        crate::table::refuse_overwriting_inputs(path, &[input])?;
+        let fig = Figure {
+            title: format!("{} folded at P = {period_d:.8} d", input.display()),
+            panels: vec![Panel {
+                x_label: "phase (cycles)".into(),
+                y_label: format!("{} (input units)", a.light_curve.value_column),
+                invert_y: false,
+                height_weight: 1,
+                layers: vec![
+                    Layer::Points { label: "observations".into(), x: phase.clone(), y: series.value().to_vec(), y_err: errors.clone(), colour: (120, 140, 180), size: 2 },
+                    Layer::Points {
+                        label: "binned".into(),
+                        x: bins.iter().map(|b| b.phase_center).collect(),
+                        y: bins.iter().map(|b| b.value).collect(),
+                        y_err: Some(bins.iter().map(|b| b.error).collect()),
+                        colour: (200, 30, 30),
+                        size: 4,
+                    },
+                ],
+            }],
+            width: 1200,
+            height: 700,
+        };
+        write_figure(&fig, path)?;
+    }
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&summary)?);
+    } else if !a.quiet {
+        println!("folded {} points at P = {period_d:.10} d into {} bins ({} empty)", series.len(), bins.len(), bins.iter().filter(|b| b.count == 0).count());
+    }
+    Ok(())
+}

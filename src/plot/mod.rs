@@ -1,0 +1,226 @@
+//! # plot — figures as SVG or PNG, readable in print
+//!
+//! A small generic description ([`Figure`] of stacked [`Panel`]s, each holding [`Layer`]s:
+//! points with uncertainty bars, lines, vertical markers with labels) rendered by plotters.
+//! Periodograms, folded light curves, and later O–C diagrams and timing residuals (a main
+//! panel plus a residuals panel) all use the same pieces. Text uses the DejaVu Sans font
+//! committed beside this file (Bitstream Vera licence, see fonts/DejaVuSans-LICENSE.txt),
+//! so no system fonts are needed.
+
+use std::path::Path;
+
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+/// Layer drawn in a panel.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Layer {
+    /// Points with optional symmetric 1-σ y uncertainty bars.
+    Points { label: String, x: Vec<f64>, y: Vec<f64>, y_err: Option<Vec<f64>>, colour: (u8, u8, u8), size: u32 },
+    /// A connected line.
+    Line { label: String, x: Vec<f64>, y: Vec<f64>, colour: (u8, u8, u8) },
+    /// Vertical markers at x with a short text each (peaks, aliases).
+    Markers { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+}
+
+/// One panel: axes with labels (put units in them, e.g. "period (d)").
+#[derive(Debug, Clone, PartialEq)]
+pub struct Panel {
+    pub x_label: String,
+    pub y_label: String,
+    pub layers: Vec<Layer>,
+    /// Draw y increasing downwards (magnitudes).
+    pub invert_y: bool,
+    /// Relative height of the panel.
+    pub height_weight: u32,
+}
+
+/// A figure: a title and panels stacked vertically (a main panel and e.g. residuals).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figure {
+    pub title: String,
+    pub panels: Vec<Panel>,
+    /// Size in pixels.
+    pub width: u32,
+    pub height: u32,
+}
+
+/// Why a figure could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum PlotError {
+    #[error("{file}: figures are written as .svg or .png, not '{ext}'")]
+    Format { file: String, ext: String },
+    #[error("{file}: {message}")]
+    Draw { file: String, message: String },
+}
+
+static FONT: &[u8] = include_bytes!("fonts/DejaVuSans.ttf");
+const FAMILY: &str = "skyclock-sans";
+
+fn register_font() {
+    static ONCE: std::sync::Once = std::sync::Once::new();
+    ONCE.call_once(|| {
+        let _ = plotters::style::register_font(FAMILY, FontStyle::Normal, FONT);
+    });
+}
+
+fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    for v in values.filter(|v| v.is_finite()) {
+        lo = lo.min(v);
+        hi = hi.max(v);
+    }
+    if !lo.is_finite() {
+        return (0.0, 1.0);
+    }
+    let pad = if hi > lo { 0.05 * (hi - lo) } else { 0.5 };
+    (lo - pad, hi + pad)
+}
+
+fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, title: Option<&str>) -> Result<(), String> {
+    let xs = panel.layers.iter().flat_map(|l| match l {
+        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } => x.clone(),
+    });
+    let (x0, x1) = range(xs);
+    let ys = panel.layers.iter().flat_map(|l| match l {
+        Layer::Points { y, y_err, .. } => y.iter().enumerate().flat_map(|(i, v)| {
+            let e = y_err.as_ref().and_then(|e| e.get(i)).copied().filter(|e| e.is_finite()).unwrap_or(0.0);
+            [v - e, v + e]
+        }).collect::<Vec<f64>>(),
+        Layer::Line { y, .. } => y.clone(),
+        Layer::Markers { .. } => Vec::new(),
+    });
+    let (y0, y1) = range(ys);
+    let (ya, yb) = if panel.invert_y { (y1, y0) } else { (y0, y1) };
+    let mut builder = ChartBuilder::on(area);
+    builder.margin(12).x_label_area_size(48).y_label_area_size(72);
+    if let Some(t) = title {
+        builder.caption(t, (FAMILY, 22));
+    }
+    let mut chart = builder.build_cartesian_2d(x0..x1, ya..yb).map_err(|e| e.to_string())?;
+    chart
+        .configure_mesh()
+        .x_desc(panel.x_label.as_str())
+        .y_desc(panel.y_label.as_str())
+        .label_style((FAMILY, 16))
+        .axis_desc_style((FAMILY, 18))
+        .light_line_style(RGBColor(235, 235, 235))
+        .draw()
+        .map_err(|e| e.to_string())?;
+    for layer in &panel.layers {
+        match layer {
+            Layer::Points { label, x, y, y_err, colour, size } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                if let Some(e) = y_err {
+                    chart
+                        .draw_series(x.iter().zip(y).zip(e).filter(|((a, b), e)| a.is_finite() && b.is_finite() && e.is_finite()).map(|((&a, &b), &e)| {
+                            PathElement::new(vec![(a, b - e), (a, b + e)], c.mix(0.6).stroke_width(1))
+                        }))
+                        .map_err(|e| e.to_string())?;
+                }
+                let s = *size as i32;
+                chart
+                    .draw_series(x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| Circle::new((a, b), s, c.filled())))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| Circle::new((px + 8, py), s.max(3), c.filled()));
+            }
+            Layer::Line { label, x, y, colour } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                chart
+                    .draw_series(LineSeries::new(x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| (a, b)), c.stroke_width(2)))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| PathElement::new(vec![(px, py), (px + 16, py)], c.stroke_width(2)));
+            }
+            Layer::Markers { label, x, text, colour } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                chart
+                    .draw_series(x.iter().map(|&a| PathElement::new(vec![(a, ya), (a, yb)], c.mix(0.8).stroke_width(1))))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| PathElement::new(vec![(px + 8, py - 6), (px + 8, py + 6)], c.stroke_width(2)));
+                let ytext = yb - 0.04 * (yb - ya);
+                chart
+                    .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))))
+                    .map_err(|e| e.to_string())?;
+            }
+        }
+    }
+    chart
+        .configure_series_labels()
+        .label_font((FAMILY, 15))
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .position(SeriesLabelPosition::UpperRight)
+        .draw()
+        .map_err(|e| e.to_string())?;
+    Ok(())
+}
+
+fn draw_all<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, fig: &Figure) -> Result<(), String> {
+    root.fill(&WHITE).map_err(|e| e.to_string())?;
+    let total: u32 = fig.panels.iter().map(|p| p.height_weight.max(1)).sum::<u32>().max(1);
+    let mut rest = root.clone();
+    let h = fig.height;
+    for (k, panel) in fig.panels.iter().enumerate() {
+        let ph = (h as u64 * panel.height_weight.max(1) as u64 / total as u64) as u32;
+        let (top, bottom) = if k + 1 < fig.panels.len() { rest.split_vertically(ph) } else { (rest.clone(), rest.clone()) };
+        draw_panel(&top, panel, (k == 0).then_some(fig.title.as_str()))?;
+        rest = bottom;
+    }
+    root.present().map_err(|e| e.to_string())
+}
+
+/// Writes `fig` to `path` (.svg or .png), atomically (temporary file, then rename).
+pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
+    register_font();
+    let file = path.display().to_string();
+    let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("").to_ascii_lowercase();
+    let name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
+    let tmp = path.with_file_name(format!(".{name}.{}.partial.{ext}", std::process::id()));
+    let drawn = match ext.as_str() {
+        "svg" => draw_all(SVGBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig),
+        "png" => draw_all(BitMapBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig),
+        _ => return Err(PlotError::Format { file, ext }),
+    };
+    let done = drawn.and_then(|_| std::fs::rename(&tmp, path).map_err(|e| e.to_string()));
+    if let Err(message) = done {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(PlotError::Draw { file, message });
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn writes_svg_and_png_with_two_panels() {
+        let x: Vec<f64> = (0..50).map(|i| i as f64 * 0.02).collect();
+        let y: Vec<f64> = x.iter().map(|v| (6.28 * v).sin()).collect();
+        let fig = Figure {
+            title: "invented".into(),
+            panels: vec![
+                Panel { x_label: "phase (cycles)".into(), y_label: "magnitude".into(), invert_y: true, height_weight: 3, layers: vec![
+                    Layer::Points { label: "points".into(), x: x.clone(), y: y.clone(), y_err: Some(vec![0.1; 50]), colour: (40, 80, 160), size: 2 },
+                    Layer::Markers { label: "marks".into(), x: vec![0.5], text: vec!["P".into()], colour: (200, 0, 0) },
+                ] },
+                Panel { x_label: "phase (cycles)".into(), y_label: "residual (mag)".into(), invert_y: false, height_weight: 1, layers: vec![
+                    Layer::Line { label: "zero".into(), x: vec![0.0, 1.0], y: vec![0.0, 0.0], colour: (0, 0, 0) },
+                ] },
+            ],
+            width: 800,
+            height: 600,
+        };
+        let d = std::env::temp_dir().join(format!("skyclock_plot_{}", std::process::id()));
+        std::fs::create_dir_all(&d).unwrap();
+        write_figure(&fig, &d.join("f.svg")).unwrap();
+        let svg = std::fs::read_to_string(d.join("f.svg")).unwrap();
+        assert!(svg.contains("phase (cycles)") && svg.contains("magnitude"));
+        write_figure(&fig, &d.join("f.png")).unwrap();
+        assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
+        assert!(write_figure(&fig, &d.join("f.jpg")).is_err());
+    }
+}

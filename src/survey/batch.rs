@@ -1,0 +1,533 @@
+//! Survey batches: a table of many light curves keyed by a source-id column, streamed in
+//! bounded memory (CSV/TSV line by line, Parquet in row slices), grouped into one light
+//! curve per source, searched in parallel (rayon), one summary per source.
+//!
+//! Requirement: the rows of one source must be contiguous (any order of sources; sort the
+//! table by source id first otherwise). A source id met again after other sources is
+//! reported as a bad source ("not contiguous"), never merged silently. Memory holds one
+//! batch of sources (see [`BatchOptions::batch_points`]) plus the set of finished ids.
+//! A bad source (unreadable cell, too few points, constant values …) is reported with its
+//! message and skipped; the batch goes on.
+
+use std::collections::HashSet;
+use std::fs::File;
+use std::io::{BufRead, BufReader};
+use std::path::Path;
+
+use polars::prelude::*;
+use rayon::prelude::*;
+
+use super::input::{days_since, numeric_cell};
+use super::search::{SearchOutcome, SearchPlan, describe_alias, search_series};
+use crate::arrival::table::ClockSpec;
+use crate::periodogram::{LightCurve, Series};
+use crate::table::{TableError, TableFormat};
+use crate::time::{Instant, LeapSecondTable, TimeScale, parse_time};
+
+/// Columns of a survey table.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct BatchColumns {
+    pub source: String,
+    pub time: String,
+    pub value: String,
+    pub error: Option<String>,
+    pub band: Option<String>,
+}
+
+/// One data row as text cells (borrowed from the reader).
+#[derive(Debug, Clone, Copy)]
+pub struct RowCells<'a> {
+    /// 1-based data row in the file.
+    pub row: usize,
+    pub source: Option<&'a str>,
+    pub time: Option<&'a str>,
+    pub value: Option<&'a str>,
+    pub error: Option<&'a str>,
+    pub band: Option<&'a str>,
+}
+
+/// A table read row by row in bounded memory.
+pub trait RowStream {
+    /// Calls `visit` for every data row in file order; stops at the first error either side.
+    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError>;
+    /// A shared counter of the input consumed so far (for progress).
+    fn progress(&self) -> ReadProgress;
+}
+
+/// How much of an input has been read: `done` of `total` units (bytes or rows).
+#[derive(Debug, Clone)]
+pub struct ReadProgress {
+    pub done: std::sync::Arc<std::sync::atomic::AtomicU64>,
+    pub total: u64,
+}
+
+impl ReadProgress {
+    /// Fraction read, 0..1.
+    pub fn fraction(&self) -> f64 {
+        if self.total == 0 { 0.0 } else { (self.done.load(std::sync::atomic::Ordering::Relaxed) as f64 / self.total as f64).min(1.0) }
+    }
+}
+
+/// CSV/TSV streamed line by line. Fields may be quoted with `"` (a doubled `""` inside a
+/// quoted field is a quote); a field may not span lines. Lines starting with `#` are skipped.
+pub struct DelimitedRows {
+    file: String,
+    reader: BufReader<File>,
+    separator: char,
+    total_bytes: u64,
+    read_bytes: std::sync::Arc<std::sync::atomic::AtomicU64>,
+    index: [Option<usize>; 5],
+}
+
+fn split_fields<'a>(line: &'a str, sep: char, out: &mut Vec<std::borrow::Cow<'a, str>>) {
+    out.clear();
+    if !line.contains('"') {
+        out.extend(line.split(sep).map(std::borrow::Cow::Borrowed));
+        return;
+    }
+    let mut field = String::new();
+    let mut quoted = false;
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '"' if quoted && chars.peek() == Some(&'"') => {
+                field.push('"');
+                chars.next();
+            }
+            '"' => quoted = !quoted,
+            c if c == sep && !quoted => out.push(std::borrow::Cow::Owned(std::mem::take(&mut field))),
+            c => field.push(c),
+        }
+    }
+    out.push(std::borrow::Cow::Owned(field));
+}
+
+impl DelimitedRows {
+    /// Opens `path` and finds the columns in its header.
+    pub fn open(path: &Path, columns: &BatchColumns) -> Result<DelimitedRows, TableError> {
+        let file = path.display().to_string();
+        let format = TableFormat::from_path(path)?;
+        let separator = if format == TableFormat::Tsv { '\t' } else { ',' };
+        let f = File::open(path).map_err(|e| TableError::File { file: file.clone(), message: format!("cannot open: {e}") })?;
+        let total_bytes = f.metadata().map(|m| m.len()).unwrap_or(0);
+        let mut reader = BufReader::with_capacity(1 << 20, f);
+        let mut header = String::new();
+        let mut consumed = 0u64;
+        loop {
+            header.clear();
+            let n = reader.read_line(&mut header).map_err(|e| TableError::File { file: file.clone(), message: format!("cannot read: {e}") })?;
+            if n == 0 {
+                return Err(TableError::Empty { file });
+            }
+            consumed += n as u64;
+            if !header.trim().is_empty() && !header.starts_with('#') {
+                break;
+            }
+        }
+        let mut names = Vec::new();
+        split_fields(header.trim_end_matches(['\n', '\r']), separator, &mut names);
+        let names: Vec<String> = names.iter().map(|s| s.trim().to_string()).collect();
+        let find = |c: &str| -> Result<usize, TableError> {
+            names.iter().position(|n| n == c).ok_or_else(|| TableError::MissingColumn { file: file.clone(), column: c.to_string(), available: names.join(", ") })
+        };
+        let index = [
+            Some(find(&columns.source)?),
+            Some(find(&columns.time)?),
+            Some(find(&columns.value)?),
+            columns.error.as_deref().map(find).transpose()?,
+            columns.band.as_deref().map(find).transpose()?,
+        ];
+        Ok(DelimitedRows { file, reader, separator, total_bytes, read_bytes: std::sync::Arc::new(consumed.into()), index })
+    }
+}
+
+impl RowStream for DelimitedRows {
+    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError> {
+        let mut line = String::new();
+        let mut row = 0usize;
+        loop {
+            line.clear();
+            let n = self.reader.read_line(&mut line).map_err(|e| TableError::File { file: self.file.clone(), message: format!("cannot read after data row {row}: {e}") })?;
+            if n == 0 {
+                return Ok(());
+            }
+            self.read_bytes.fetch_add(n as u64, std::sync::atomic::Ordering::Relaxed);
+            let text = line.trim_end_matches(['\n', '\r']);
+            if text.trim().is_empty() || text.starts_with('#') {
+                continue;
+            }
+            row += 1;
+            let mut fields = Vec::with_capacity(8);
+            split_fields(text, self.separator, &mut fields);
+            let cell = |k: usize| -> Option<&str> { self.index[k].and_then(|i| fields.get(i)).map(|c| c.as_ref().trim()).filter(|s| !s.is_empty()) };
+            let needed = self.index.iter().flatten().max().copied().unwrap_or(0);
+            if fields.len() <= needed {
+                return Err(TableError::Cell {
+                    file: self.file.clone(),
+                    row,
+                    column: String::new(),
+                    message: format!("the row has {} fields but the header asks for at least {}; check the separator and quoting", fields.len(), needed + 1),
+                });
+            }
+            visit(RowCells { row, source: cell(0), time: cell(1), value: cell(2), error: cell(3), band: cell(4) })?;
+        }
+    }
+    fn progress(&self) -> ReadProgress {
+        ReadProgress { done: self.read_bytes.clone(), total: self.total_bytes }
+    }
+}
+
+/// Parquet read in slices of `slice_rows` rows, only the needed columns.
+pub struct ParquetRows {
+    file: String,
+    path: std::path::PathBuf,
+    columns: Vec<String>,
+    has_error: bool,
+    has_band: bool,
+    total_rows: usize,
+    done_rows: usize,
+    done_counter: std::sync::Arc<std::sync::atomic::AtomicU64>,
+    slice_rows: usize,
+}
+
+impl ParquetRows {
+    /// Opens `path`; `slice_rows` bounds the rows held at once (e.g. 200 000).
+    pub fn open(path: &Path, columns: &BatchColumns, slice_rows: usize) -> Result<ParquetRows, TableError> {
+        let file = path.display().to_string();
+        let fail = |m: String| TableError::File { file: file.clone(), message: m };
+        let f = File::open(path).map_err(|e| fail(format!("cannot open: {e}")))?;
+        let mut reader = ParquetReader::new(f);
+        let schema = reader.schema().map_err(|e| fail(format!("cannot read as Parquet: {e}")))?;
+        let total_rows = reader.num_rows().map_err(|e| fail(format!("cannot read as Parquet: {e}")))?;
+        let mut wanted = vec![columns.source.clone(), columns.time.clone(), columns.value.clone()];
+        wanted.extend(columns.error.clone());
+        wanted.extend(columns.band.clone());
+        let available: Vec<String> = schema.iter_names().map(|n| n.to_string()).collect();
+        for w in &wanted {
+            if !available.contains(w) {
+                return Err(TableError::MissingColumn { file: file.clone(), column: w.clone(), available: available.join(", ") });
+            }
+        }
+        if total_rows == 0 {
+            return Err(TableError::Empty { file });
+        }
+        Ok(ParquetRows { file, path: path.to_path_buf(), columns: wanted, has_error: columns.error.is_some(), has_band: columns.band.is_some(), total_rows, done_rows: 0, done_counter: Default::default(), slice_rows: slice_rows.max(1) })
+    }
+}
+
+impl RowStream for ParquetRows {
+    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError> {
+        let fail = |m: String| TableError::File { file: self.file.clone(), message: m };
+        while self.done_rows < self.total_rows {
+            let f = File::open(&self.path).map_err(|e| fail(format!("cannot open: {e}")))?;
+            let df = ParquetReader::new(f)
+                .with_columns(Some(self.columns.clone()))
+                .with_slice(Some((self.done_rows, self.slice_rows)))
+                .finish()
+                .map_err(|e| fail(format!("cannot read rows from {}: {e}", self.done_rows + 1)))?;
+            let n = df.height();
+            if n == 0 {
+                break;
+            }
+            let mut text = Vec::new();
+            for c in &self.columns {
+                let col = df.column(c).map_err(|e| fail(e.to_string()))?;
+                let s = col.cast(&DataType::String).map_err(|e| fail(format!("column '{c}' cannot be read as text: {e}")))?;
+                text.push(s.str().map_err(|e| fail(e.to_string()))?.clone());
+            }
+            let e_idx = 3;
+            let b_idx = if self.has_error { 4 } else { 3 };
+            for i in 0..n {
+                visit(RowCells {
+                    row: self.done_rows + i + 1,
+                    source: text[0].get(i),
+                    time: text[1].get(i),
+                    value: text[2].get(i),
+                    error: if self.has_error { text[e_idx].get(i) } else { None },
+                    band: if self.has_band { text[b_idx].get(i) } else { None },
+                })?;
+            }
+            self.done_rows += n;
+            self.done_counter.store(self.done_rows as u64, std::sync::atomic::Ordering::Relaxed);
+        }
+        Ok(())
+    }
+    fn progress(&self) -> ReadProgress {
+        ReadProgress { done: self.done_counter.clone(), total: self.total_rows as u64 }
+    }
+}
+
+/// Opens a CSV/TSV or Parquet table as a row stream.
+pub fn open_rows(path: &Path, columns: &BatchColumns, slice_rows: usize) -> Result<Box<dyn RowStream>, TableError> {
+    Ok(match TableFormat::from_path(path)? {
+        TableFormat::Parquet => Box::new(ParquetRows::open(path, columns, slice_rows)?),
+        _ => Box::new(DelimitedRows::open(path, columns)?),
+    })
+}
+
+/// The rows of one source, parsed.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SourceRows {
+    pub id: String,
+    /// 1-based data rows of the first and last row.
+    pub first_row: usize,
+    pub last_row: usize,
+    /// Days since `epoch` (NaN where missing).
+    pub time_d: Vec<f64>,
+    pub epoch: Option<Instant>,
+    pub value: Vec<f64>,
+    pub error: Option<Vec<f64>>,
+    pub band: Option<Vec<u32>>,
+    band_labels: Vec<String>,
+    file_row: Vec<usize>,
+    /// The first problem found while reading (the source is then skipped).
+    pub problem: Option<String>,
+}
+
+/// Options of a batch.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BatchOptions {
+    /// Clock of the times (must be barycentric TDB: bjd_tdb or bmjd_tdb).
+    pub clock: ClockSpec,
+    /// Points held before a batch of sources is searched (bounds memory; default 2 000 000).
+    pub batch_points: usize,
+}
+
+/// What a batch reports for one source.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SourceReport {
+    pub id: String,
+    pub first_row: usize,
+    pub last_row: usize,
+    /// JD (TDB) of the epoch the source's times were referred to.
+    pub epoch_jd: f64,
+    /// The search result without the spectrum, or why the source was skipped.
+    pub outcome: Result<SearchOutcome, String>,
+}
+
+/// Counts at the end of a batch.
+#[derive(Debug, Clone, Default, PartialEq, serde::Serialize)]
+pub struct BatchSummary {
+    pub sources: usize,
+    pub searched: usize,
+    pub skipped: usize,
+    pub rows: usize,
+}
+
+struct Grouper<'a> {
+    file: String,
+    columns: &'a BatchColumns,
+    options: &'a BatchOptions,
+    leap: &'a LeapSecondTable,
+    current: Option<SourceRows>,
+    seen: HashSet<String>,
+    pending: Vec<SourceRows>,
+    pending_points: usize,
+    rows: usize,
+}
+
+impl Grouper<'_> {
+    fn new_source(&self, id: &str, row: usize) -> SourceRows {
+        let mut s = SourceRows {
+            id: id.to_string(),
+            first_row: row,
+            last_row: row,
+            time_d: Vec::new(),
+            epoch: None,
+            value: Vec::new(),
+            error: self.columns.error.as_ref().map(|_| Vec::new()),
+            band: self.columns.band.as_ref().map(|_| Vec::new()),
+            band_labels: Vec::new(),
+            file_row: Vec::new(),
+            problem: None,
+        };
+        if self.seen.contains(id) {
+            s.problem = Some(format!(
+                "{}, row {row}, column '{}': rows of source '{id}' are not contiguous (the source appeared earlier); sort the table by source id first",
+                self.file, self.columns.source
+            ));
+        }
+        s
+    }
+
+    fn push(&mut self, c: RowCells<'_>) -> Option<SourceRows> {
+        self.rows += 1;
+        let id = c.source.unwrap_or("");
+        let mut finished = None;
+        if self.current.as_ref().is_none_or(|s| s.id != id) {
+            let fresh = self.new_source(id, c.row);
+            if let Some(done) = self.current.replace(fresh) {
+                self.seen.insert(done.id.clone());
+                finished = Some(done);
+            }
+        }
+        let (file, leap, clock) = (self.file.clone(), self.leap, self.options.clock);
+        let columns = self.columns;
+        let Some(s) = self.current.as_mut() else { return finished };
+        s.last_row = c.row;
+        if s.problem.is_some() {
+            return finished;
+        }
+        if id.is_empty() {
+            s.problem = Some(format!("{file}, row {}, column '{}': empty source id", c.row, columns.source));
+            return finished;
+        }
+        let t = match c.time.filter(|t| !t.eq_ignore_ascii_case("nan")) {
+            None => f64::NAN,
+            Some(text) => match parse_time(text, clock.format, clock.scale, leap) {
+                Ok(inst) => {
+                    let epoch = *s.epoch.get_or_insert_with(|| {
+                        let (a, b) = inst.jd_two_part();
+                        Instant::from_jd_two_part(TimeScale::Tdb, (a + b).floor(), 0.0)
+                    });
+                    days_since(&inst, &epoch)
+                }
+                Err(e) => {
+                    s.problem = Some(format!("{file}, row {}, column '{}': {e}", c.row, columns.time));
+                    return finished;
+                }
+            },
+        };
+        let v = match numeric_cell(c.value, &file, c.row, &columns.value) {
+            Ok(v) => v,
+            Err(e) => {
+                s.problem = Some(e.to_string());
+                return finished;
+            }
+        };
+        if let (Some(errs), Some(name)) = (s.error.as_mut(), columns.error.as_deref()) {
+            match numeric_cell(c.error, &file, c.row, name) {
+                Ok(e) => errs.push(e),
+                Err(e) => {
+                    s.problem = Some(e.to_string());
+                    return finished;
+                }
+            }
+        }
+        if let Some(bands) = s.band.as_mut() {
+            let label = c.band.unwrap_or("");
+            let k = match s.band_labels.iter().position(|l| l == label) {
+                Some(k) => k,
+                None => {
+                    s.band_labels.push(label.to_string());
+                    s.band_labels.len() - 1
+                }
+            };
+            bands.push(k as u32);
+        }
+        s.time_d.push(t);
+        s.value.push(v);
+        s.file_row.push(c.row);
+        finished
+    }
+}
+
+/// Searches one source's rows (no spectrum is kept).
+pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: &BatchColumns) -> SourceReport {
+    let epoch_jd = rows.epoch.map_or(f64::NAN, |e| {
+        let (a, b) = e.jd_two_part();
+        a + b
+    });
+    let report = |outcome| SourceReport { id: rows.id.clone(), first_row: rows.first_row, last_row: rows.last_row, epoch_jd, outcome };
+    if let Some(p) = &rows.problem {
+        return report(Err(p.clone()));
+    }
+    let mut lc = LightCurve::new(&rows.time_d, &rows.value);
+    if let Some(e) = &rows.error {
+        lc = lc.with_error(e);
+    }
+    if let Some(b) = &rows.band {
+        lc = lc.with_band(b);
+    }
+    let located = super::input::TableLightCurve {
+        file: file.to_string(),
+        columns: super::input::LightCurveColumns { time: columns.time.clone(), value: columns.value.clone(), error: columns.error.clone(), band: columns.band.clone() },
+        epoch: rows.epoch.unwrap_or_else(|| Instant::from_jd_two_part(TimeScale::Tdb, 2451545.0, 0.0)),
+        time_d: Vec::new(),
+        value: Vec::new(),
+        error: None,
+        band: rows.band.clone(),
+        band_labels: rows.band_labels.clone(),
+        file_row: rows.file_row.clone(),
+    };
+    let series = match Series::from_light_curve(&lc) {
+        Ok(s) => s,
+        Err(e) => return report(Err(format!("source '{}': {}", rows.id, located.locate(e)))),
+    };
+    match search_series(&series, plan) {
+        Ok(mut out) => {
+            out.spectrum.power = Vec::new();
+            out.spectrum.amplitude = None;
+            report(Ok(out))
+        }
+        Err(e) => report(Err(format!("{file}: source '{}' (rows {}–{}): {e}", rows.id, rows.first_row, rows.last_row))),
+    }
+}
+
+/// Runs a batch: streams `rows`, searches every source with `plan` in parallel batches,
+/// hands each batch's reports (in file order) to `sink`, and calls `progress` with
+/// (sources done, fraction of the input read) after each batch.
+/// Errors: only a table that cannot be read at all (missing file or column, bad
+/// separator); bad sources are reported through `sink`.
+#[allow(clippy::too_many_arguments)]
+pub fn run_batch(
+    rows: &mut dyn RowStream,
+    file: &str,
+    columns: &BatchColumns,
+    options: &BatchOptions,
+    plan: &SearchPlan,
+    leap: &LeapSecondTable,
+    sink: &mut dyn FnMut(Vec<SourceReport>) -> Result<(), TableError>,
+    progress: &dyn Fn(usize, f64),
+) -> Result<BatchSummary, TableError> {
+    if !super::input::is_barycentric_tdb(&options.clock) {
+        return Err(TableError::File {
+            file: file.to_string(),
+            message: "a survey batch reads barycentric times only (bjd_tdb or bmjd_tdb); carry other clocks to the barycentre first".into(),
+        });
+    }
+    let mut summary = BatchSummary::default();
+    let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0 };
+    let mut flush = |pending: Vec<SourceRows>, summary: &mut BatchSummary, fraction: f64| -> Result<(), TableError> {
+        let reports: Vec<SourceReport> = pending.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns)).collect();
+        summary.sources += reports.len();
+        summary.searched += reports.iter().filter(|r| r.outcome.is_ok()).count();
+        summary.skipped += reports.iter().filter(|r| r.outcome.is_err()).count();
+        sink(reports)?;
+        progress(summary.sources, fraction);
+        Ok(())
+    };
+    let batch_points = options.batch_points.max(1);
+    let read = rows.progress();
+    let mut ready: Vec<Vec<SourceRows>> = Vec::new();
+    rows.for_each_row(&mut |c| {
+        if let Some(done) = g.push(c) {
+            g.pending_points += done.value.len();
+            g.pending.push(done);
+            if g.pending_points >= batch_points || g.pending.len() >= 65_536 {
+                ready.push(std::mem::take(&mut g.pending));
+                g.pending_points = 0;
+            }
+        }
+        if let Some(batch) = ready.pop() {
+            flush(batch, &mut summary, read.fraction())?;
+        }
+        Ok(())
+    })?;
+    if let Some(last) = g.current.take() {
+        g.pending.push(last);
+    }
+    summary.rows = g.rows;
+    if !g.pending.is_empty() {
+        flush(std::mem::take(&mut g.pending), &mut summary, 1.0)?;
+    }
+    if summary.rows == 0 {
+        return Err(TableError::Empty { file: file.to_string() });
+    }
+    Ok(summary)
+}
+
+/// Describes the alias notes of a peak as one text ("" when none).
+pub fn alias_text(outcome: &SearchOutcome, k: usize) -> String {
+    outcome.peaks.get(k).map_or(String::new(), |p| p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>().join("; "))
+}

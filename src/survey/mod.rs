@@ -1,0 +1,12 @@
+//! # survey — light curves from tables, one-call period searches, and survey batches
+//!
+//! The glue between tables and the search-stage science: [`input`] pulls a light curve out
+//! of a table (times as two-part BJD_TDB instants, values, uncertainties, bands) and ties
+//! every search error back to the file row and column; [`search`] runs a periodogram,
+//! its peaks and significance in one call; [`batch`] streams a table of many light curves
+//! keyed by a source id, searches each in parallel, and reports bad sources without
+//! stopping. No terminal I/O here: the CLI drives these and prints.
+
+pub mod batch;
+pub mod input;
+pub mod search;

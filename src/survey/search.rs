@@ -1,0 +1,240 @@
+//! One-call period search of a validated light curve: plan the grid from the baseline,
+//! evaluate the chosen method, pick and refine the top peaks, annotate aliases (including
+//! spectral-window sidelobes), and attach false-alarm probabilities.
+
+use crate::periodogram::bls::{BoxDetection, BoxFitPeriodogram, BoxOptions, box_detection, box_search};
+use crate::periodogram::dispersion::PhaseDispersion;
+use crate::periodogram::entropy::ConditionalEntropy;
+use crate::periodogram::multiharmonic::MultiHarmonic;
+use crate::periodogram::peaks::{Peak, PeakOptions, describe_peaks, window_sidelobes};
+use crate::periodogram::significance::{BootstrapOptions, baluev_fap, bootstrap_fap};
+use crate::periodogram::{
+    Algorithm, ClassicalLombScargle, GeneralisedLombScargle, GridRequest, MultiBandLombScargle, Periodogram, SearchError, Series, SpectralWindow, Spectrum, plan_grid,
+};
+
+/// The statistic searched.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SearchMethod {
+    /// Generalised Lomb–Scargle (floating mean, weights); per-band zero points when the
+    /// light curve has several bands.
+    Sinusoid,
+    /// Classical Lomb–Scargle on mean-subtracted data.
+    ClassicalSinusoid,
+    /// Fourier series of this many harmonics.
+    Harmonics(usize),
+    /// Phase dispersion minimisation with this many phase bins (power = 1 − θ).
+    PhaseDispersion(usize),
+    /// Conditional entropy with phase × value bins (power = ln n_value − H_c).
+    ConditionalEntropy { phase_bins: usize, value_bins: usize },
+    /// Box least squares over these durations, days.
+    Box { durations_d: Vec<f64>, values_are_magnitudes: bool },
+}
+
+impl SearchMethod {
+    /// Whether the analytic (Baluev 2008) false-alarm probability applies: the
+    /// Lomb–Scargle family with power normalised to [0, 1].
+    pub fn has_analytic_fap(&self) -> bool {
+        matches!(self, SearchMethod::Sinusoid | SearchMethod::ClassicalSinusoid)
+    }
+
+    /// Short descriptive name for outputs.
+    pub fn label(&self) -> String {
+        match self {
+            SearchMethod::Sinusoid => "sinusoid (generalised Lomb-Scargle)".into(),
+            SearchMethod::ClassicalSinusoid => "classical Lomb-Scargle".into(),
+            SearchMethod::Harmonics(k) => format!("{k}-harmonic Fourier series"),
+            SearchMethod::PhaseDispersion(b) => format!("phase dispersion, {b} bins"),
+            SearchMethod::ConditionalEntropy { phase_bins, value_bins } => format!("conditional entropy, {phase_bins}x{value_bins} bins"),
+            SearchMethod::Box { durations_d, .. } => format!("box least squares, {} durations", durations_d.len()),
+        }
+    }
+}
+
+/// What to search and how much to report.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SearchPlan {
+    pub method: SearchMethod,
+    /// Kernel for the Lomb–Scargle family.
+    pub algorithm: Algorithm,
+    /// Grid request (its `max_freq_per_day` is the highest frequency searched, c/d).
+    pub grid: GridRequest,
+    /// Number of peaks to describe.
+    pub peaks: usize,
+    /// Refine peaks by least squares (Montgomery & O'Donoghue 1999 errors).
+    pub refine_peaks: bool,
+    /// Number of spectral-window sidelobes tested as alias sources (0: no window).
+    pub window_sidelobes: usize,
+    /// Bootstrap false-alarm probability of the top peak (trials, seed), any method.
+    pub bootstrap: Option<BootstrapOptions>,
+}
+
+impl SearchPlan {
+    /// GLS with the auto kernel up to `max_freq_per_day`, 5 peaks, 3 window sidelobes.
+    pub fn sinusoid_up_to(max_freq_per_day: f64) -> SearchPlan {
+        SearchPlan {
+            method: SearchMethod::Sinusoid,
+            algorithm: Algorithm::Auto,
+            grid: GridRequest::up_to(max_freq_per_day),
+            peaks: 5,
+            refine_peaks: true,
+            window_sidelobes: 3,
+            bootstrap: None,
+        }
+    }
+}
+
+/// A described peak with its false-alarm probability.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RatedPeak {
+    pub peak: Peak,
+    /// Analytic (Baluev 2008) FAP of a peak this high, where the method has one (NaN otherwise).
+    pub fap: f64,
+}
+
+/// Everything a search returns.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SearchOutcome {
+    pub spectrum: Spectrum,
+    pub peaks: Vec<RatedPeak>,
+    /// Spectral-window sidelobes used for alias notes, c/d.
+    pub window_sidelobes_per_day: Vec<f64>,
+    /// Bootstrap FAP of the top peak, when asked.
+    pub bootstrap_fap: Option<f64>,
+    /// Box details at the top peak, for the box method.
+    pub box_detection: Option<BoxDetection>,
+    /// Points used and rows dropped (NaN).
+    pub n_points: usize,
+    pub n_dropped: usize,
+    pub baseline_d: f64,
+}
+
+/// Runs `plan` on `series`. Errors: an unresolvable frequency range or an oversized grid
+/// (with the estimate), too few points for the method, bad method parameters.
+pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome, SearchError> {
+    if plan.peaks == 0 {
+        return Err(SearchError::InvalidParameter { name: "number of peaks", value: 0.0, expected: "at least 1" });
+    }
+    let baseline_d = series.baseline_d();
+    let grid = plan_grid(baseline_d, &plan.grid)?.grid;
+    let multiband = series.n_bands() > 1;
+    let (spectrum, box_det) = match &plan.method {
+        SearchMethod::Sinusoid if multiband => (MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
+        SearchMethod::Sinusoid => (GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
+        SearchMethod::ClassicalSinusoid => (ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
+        SearchMethod::Harmonics(k) => {
+            if *k == 0 || *k > 20 {
+                return Err(SearchError::InvalidParameter { name: "harmonics", value: *k as f64, expected: "1 to 20" });
+            }
+            (MultiHarmonic { harmonics: *k }.evaluate(series, &grid)?, None)
+        }
+        SearchMethod::PhaseDispersion(b) => {
+            if *b < 2 || *b > 1000 {
+                return Err(SearchError::InvalidParameter { name: "phase bins", value: *b as f64, expected: "2 to 1000" });
+            }
+            (PhaseDispersion { n_bins: *b }.evaluate(series, &grid)?, None)
+        }
+        SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
+            if *phase_bins < 2 || *value_bins < 2 || *phase_bins > 1000 || *value_bins > 1000 {
+                return Err(SearchError::InvalidParameter { name: "entropy bins", value: (*phase_bins).min(*value_bins) as f64, expected: "2 to 1000 phase and value bins" });
+            }
+            (ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }.evaluate(series, &grid)?, None)
+        }
+        SearchMethod::Box { durations_d, values_are_magnitudes } => {
+            let options = BoxOptions { durations_d: durations_d.clone(), bins_per_duration: 5, values_are_magnitudes: *values_are_magnitudes };
+            BoxFitPeriodogram { options: options.clone() }.check_series(series)?;
+            let bs = box_search(series, &grid, &options)?;
+            let best = bs.power.iter().enumerate().filter(|(_, p)| p.is_finite()).max_by(|a, b| a.1.total_cmp(b.1)).map(|(k, _)| k).unwrap_or(0);
+            let det = box_detection(series, &bs, best, &options)?;
+            (Spectrum { grid: bs.grid, power: bs.power, amplitude: None, algorithm: None }, Some(det))
+        }
+    };
+    let sidelobes = if plan.window_sidelobes > 0 {
+        let window = SpectralWindow { algorithm: plan.algorithm }.evaluate(series, &grid)?;
+        window_sidelobes(&window, baseline_d, plan.window_sidelobes)
+    } else {
+        Vec::new()
+    };
+    let options = PeakOptions {
+        count: plan.peaks,
+        min_separation_per_day: None,
+        alias_tolerance_per_day: None,
+        window_sidelobes_per_day: sidelobes.clone(),
+        refine: plan.refine_peaks && !matches!(plan.method, SearchMethod::Box { .. }),
+    };
+    let peaks = describe_peaks(series, &spectrum, &options)?;
+    let fmax = grid.max_freq_per_day();
+    let analytic = plan.method.has_analytic_fap() && series.len() >= 5;
+    let peaks = peaks
+        .into_iter()
+        .map(|peak| {
+            let fap = if analytic && (0.0..=1.0).contains(&peak.power) { baluev_fap(peak.power, series, fmax).unwrap_or(f64::NAN) } else { f64::NAN };
+            RatedPeak { peak, fap }
+        })
+        .collect::<Vec<_>>();
+    let bootstrap = match (&plan.bootstrap, peaks.first()) {
+        (Some(b), Some(top)) => {
+            let method: Box<dyn Periodogram> = match &plan.method {
+                SearchMethod::Sinusoid if multiband => Box::new(MultiBandLombScargle { algorithm: plan.algorithm }),
+                SearchMethod::Sinusoid => Box::new(GeneralisedLombScargle { algorithm: plan.algorithm }),
+                SearchMethod::ClassicalSinusoid => Box::new(ClassicalLombScargle { algorithm: plan.algorithm }),
+                SearchMethod::Harmonics(k) => Box::new(MultiHarmonic { harmonics: *k }),
+                SearchMethod::PhaseDispersion(n) => Box::new(PhaseDispersion { n_bins: *n }),
+                SearchMethod::ConditionalEntropy { phase_bins, value_bins } => Box::new(ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }),
+                SearchMethod::Box { durations_d, values_are_magnitudes } => Box::new(BoxFitPeriodogram {
+                    options: BoxOptions { durations_d: durations_d.clone(), bins_per_duration: 5, values_are_magnitudes: *values_are_magnitudes },
+                }),
+            };
+            Some(bootstrap_fap(series, &grid, method.as_ref(), top.peak.power, b)?.fap)
+        }
+        _ => None,
+    };
+    Ok(SearchOutcome {
+        spectrum,
+        peaks,
+        window_sidelobes_per_day: sidelobes,
+        bootstrap_fap: bootstrap,
+        box_detection: box_det,
+        n_points: series.len(),
+        n_dropped: series.n_dropped(),
+        baseline_d,
+    })
+}
+
+/// Short text for an alias note, e.g. "+1 c/sidereal-day alias of peak 1".
+pub fn describe_alias(note: &crate::periodogram::peaks::AliasNote) -> String {
+    use crate::periodogram::peaks::AliasKind;
+    let what = match note.kind {
+        AliasKind::SiderealDay { n } => format!("{n:+} cycle/sidereal day alias"),
+        AliasKind::Year { n } => format!("{n:+} cycle/year alias"),
+        AliasKind::Harmonic { n } => format!("harmonic x{n}"),
+        AliasKind::Subharmonic { n } => format!("subharmonic /{n}"),
+        AliasKind::WindowSidelobe { window_freq_per_day } => format!("window sidelobe at {window_freq_per_day:.5} c/d"),
+    };
+    format!("{what} of peak {}", note.stronger_peak + 1)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fit::SeededRng;
+
+    #[test]
+    fn finds_an_invented_sinusoid_with_nightly_gaps() {
+        // Invented: 300 points over 60 nights, 0.3 d period, amplitude 0.2, noise 0.05.
+        let mut rng = SeededRng::new(7);
+        let mut t = Vec::new();
+        for night in 0..60 {
+            for k in 0..5 {
+                t.push(night as f64 + 0.1 * k as f64 + 0.02 * rng.uniform());
+            }
+        }
+        let y: Vec<f64> = t.iter().map(|&x| 0.2 * (std::f64::consts::TAU * x / 0.3).sin() + 0.05 * rng.normal()).collect();
+        let s = Series::from_arrays(&t, &y, None).unwrap();
+        let out = search_series(&s, &SearchPlan::sinusoid_up_to(10.0)).unwrap();
+        let top = &out.peaks[0];
+        assert!((top.peak.period_d - 0.3).abs() < 1e-3, "{}", top.peak.period_d);
+        assert!(top.fap < 1e-10);
+        // the ±1 c/d aliases must be marked when they appear among the peaks
+        assert!(out.peaks[1..].iter().any(|p| !p.peak.aliases.is_empty()));
+    }
+}
