@@ -16,7 +16,7 @@
 //! epoch, an [`crate::time::Instant`]; ±3 years is 1e8 s, resolved to 15 ns by an `f64`.
 
 //ARRpub mod arrival_times;
-//MODpub mod model;
+pub mod model;
 //PROpub mod profile;
 pub mod search;
 pub mod spin;
