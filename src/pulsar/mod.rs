@@ -21,7 +21,7 @@ pub mod model;
 pub mod search;
 pub mod spin;
 pub mod statistics;
-//FITpub mod timing_fit;
+pub mod timing_fit;
 
 /// Errors of the pulsar stage; each says what was wrong and what would be accepted.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
