@@ -141,31 +141,32 @@ pub fn z2_grid(times_s: &[f64], weights: Option<&[f64]>, harmonics: usize, grid:
                 // acc[(k·h + m)·2 + {0: cos, 1: sin}]
                 let mut acc = vec![0.0; nf * h * 2];
                 let mut pw = vec![(0.0f64, 0.0f64); h];
-                for (j, &t) in ts.iter().enumerate() {
-                    let w = weights.map_or(1.0, |w| w[ci * CHUNK + j]);
-                    let base = 0.5 * fdot * t * t;
-                    let step_phase = (grid.step_freq_hz * t).rem_euclid(1.0) * std::f64::consts::TAU;
-                    let (ss, sc) = step_phase.sin_cos();
-                    let (mut zs, mut zc) = (0.0, 0.0);
-                    for k in 0..nf {
-                        if k % RESEED_EVERY == 0 {
-                            let ph = ((grid.freq_hz(k) * t).rem_euclid(1.0) + base.rem_euclid(1.0)) * std::f64::consts::TAU;
-                            (zs, zc) = ph.sin_cos();
+                // Blocks of RESEED_EVERY frequencies, photons inside: the block's sums
+                // (RESEED_EVERY·h·2 values) stay in the first-level cache.
+                for k0 in (0..nf).step_by(RESEED_EVERY) {
+                    let k1 = (k0 + RESEED_EVERY).min(nf);
+                    let block = &mut acc[k0 * h * 2..k1 * h * 2];
+                    for (j, &t) in ts.iter().enumerate() {
+                        let w = weights.map_or(1.0, |w| w[ci * CHUNK + j]);
+                        let base = (0.5 * fdot * t * t).rem_euclid(1.0);
+                        let step_phase = (grid.step_freq_hz * t).rem_euclid(1.0) * std::f64::consts::TAU;
+                        let (ss, sc) = step_phase.sin_cos();
+                        let ph = ((grid.freq_hz(k0) * t).rem_euclid(1.0) + base) * std::f64::consts::TAU;
+                        let (mut zs, mut zc) = ph.sin_cos();
+                        for row in block.chunks_exact_mut(h * 2) {
+                            pw[0] = (zc, zs);
+                            for m in 1..h {
+                                let (pc, ps) = pw[m - 1];
+                                pw[m] = (pc * zc - ps * zs, ps * zc + pc * zs);
+                            }
+                            for m in 0..h {
+                                row[2 * m] += w * pw[m].0;
+                                row[2 * m + 1] += w * pw[m].1;
+                            }
+                            let nc = zc * sc - zs * ss;
+                            zs = zs * sc + zc * ss;
+                            zc = nc;
                         }
-                        // harmonic powers of the phasor
-                        pw[0] = (zc, zs);
-                        for m in 1..h {
-                            let (pc, ps) = pw[m - 1];
-                            pw[m] = (pc * zc - ps * zs, ps * zc + pc * zs);
-                        }
-                        let row = &mut acc[k * h * 2..(k + 1) * h * 2];
-                        for m in 0..h {
-                            row[2 * m] += w * pw[m].0;
-                            row[2 * m + 1] += w * pw[m].1;
-                        }
-                        let nc = zc * sc - zs * ss;
-                        zs = zs * sc + zc * ss;
-                        zc = nc;
                     }
                 }
                 acc
