@@ -7,6 +7,7 @@ pub mod barycentre_events;
 pub mod common;
 pub mod convert_time;
 pub mod demo;
+pub mod fit_timing;
 pub mod observer_time;
 
 use clap::{Parser, Subcommand};
@@ -30,6 +31,8 @@ pub enum Command {
     ObserverTime(observer_time::Args),
     /// Convert single times between scales (UTC, TAI, TT, TDB, TCB, GPS) and formats.
     ConvertTime(convert_time::Args),
+    /// Fit a pulsar spin (+ binary) timing model to arrival times, phase-connected.
+    FitTiming(fit_timing::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -42,5 +45,6 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ObserverTime(a) => observer_time::run(a),
         Command::ConvertTime(a) => convert_time::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::FitTiming(a) => fit_timing::run(a),
     }
 }

@@ -10,14 +10,12 @@
 //!   Einstein and Shapiro terms) and its TOML file.
 //! * [`timing_fit`]: phase-connected weighted least squares by iterated linearisation.
 //! * [`arrival_times`]: the arrival-time (TOA) table: reading and barycentring.
-//! * [`profile`]: folded profiles, Fourier templates and template-matched TOAs.
 //!
 //! Times inside this module are `f64` seconds (TDB, at the barycentre) after the model's
 //! epoch, an [`crate::time::Instant`]; ±3 years is 1e8 s, resolved to 15 ns by an `f64`.
 
-//ARRpub mod arrival_times;
+pub mod arrival_times;
 pub mod model;
-//PROpub mod profile;
 pub mod search;
 pub mod spin;
 pub mod statistics;
