@@ -39,3 +39,31 @@ fn fits_and_writes_outputs_and_names_bad_cells() {
     assert!(e.contains("row 4") && e.contains("error_us"), "{e}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn search_pulsations_finds_an_invented_pulsar() {
+    let dir = std::env::temp_dir().join(format!("skyclock_cli_search_{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut rng = skyclock::fit::SeededRng::new(4);
+    let mut s = String::from("time\n");
+    let mut n = 0;
+    while n < 1500 {
+        let x = rng.uniform() * 20_000.0;
+        if rng.uniform() * 1.6 < 1.0 + 0.6 * (std::f64::consts::TAU * 3.3 * x).cos() {
+            s.push_str(&format!("{:.13}\n", 60200.0 + x / 86_400.0));
+            n += 1;
+        }
+    }
+    std::fs::write(dir.join("ev.csv"), s).unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
+        .current_dir(&dir)
+        .args(["search-pulsations", "--events", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--min-freq-hz", "3.2", "--max-freq-hz", "3.4", "--output", "z.csv", "--json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let f = json["best"]["freq_hz"].as_f64().unwrap();
+    assert!((f - 3.3).abs() < 1.0 / 20_000.0, "{f}");
+    assert!(json["best"]["false_alarm"].as_f64().unwrap() < 1e-20);
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -8,6 +8,7 @@ pub mod common;
 pub mod convert_time;
 pub mod demo;
 pub mod fit_timing;
+pub mod search_pulsations;
 pub mod observer_time;
 
 use clap::{Parser, Subcommand};
@@ -33,6 +34,8 @@ pub enum Command {
     ConvertTime(convert_time::Args),
     /// Fit a pulsar spin (+ binary) timing model to arrival times, phase-connected.
     FitTiming(fit_timing::Args),
+    /// Search a photon-event table for pulsations (Z²ₙ over frequency and its derivative).
+    SearchPulsations(search_pulsations::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -46,5 +49,6 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ConvertTime(a) => convert_time::run(a),
         Command::Demo(a) => demo::run(a),
         Command::FitTiming(a) => fit_timing::run(a),
+        Command::SearchPulsations(a) => search_pulsations::run(a),
     }
 }
