@@ -19,3 +19,4 @@ pub mod fold;
 pub mod frequencies;
 pub mod survey;
 pub mod plot;
+pub mod pulsar;

@@ -11,6 +11,8 @@ pub mod extract_frequencies;
 pub mod find_periods;
 pub mod fold_curve;
 pub mod light_curve_input;
+pub mod fit_timing;
+pub mod search_pulsations;
 pub mod observer_time;
 pub mod survey_batch;
 
@@ -43,6 +45,10 @@ pub enum Command {
     ExtractFrequencies(extract_frequencies::Args),
     /// Period search of every source in a survey table, streamed, in parallel.
     SurveyBatch(survey_batch::Args),
+    /// Fit a pulsar spin (+ binary) timing model to arrival times, phase-connected.
+    FitTiming(fit_timing::Args),
+    /// Search a photon-event table for pulsations (Z²ₙ over frequency and its derivative).
+    SearchPulsations(search_pulsations::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -59,5 +65,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::FoldCurve(a) => fold_curve::run(a),
         Command::ExtractFrequencies(a) => extract_frequencies::run(a),
         Command::SurveyBatch(a) => survey_batch::run(a),
+        Command::FitTiming(a) => fit_timing::run(a),
+        Command::SearchPulsations(a) => search_pulsations::run(a),
     }
 }

@@ -1,0 +1,155 @@
+//! `skyclock fit-timing`: phase-connected fit of a pulsar timing model to arrival times.
+
+use std::path::PathBuf;
+
+use anyhow::{Context, Result, bail};
+use clap::Args as ClapArgs;
+
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use crate::arrival::{BarycentricCorrector, DelayOptions};
+use crate::pulsar::arrival_times::arrival_times_from_table;
+use crate::pulsar::model::TimingModel;
+use crate::pulsar::timing_fit::fit_timing_model;
+use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
+use crate::table::{Provenance, read_table};
+
+const EXAMPLE: &str = "Example:
+  skyclock fit-timing --arrival-times pulses.csv --time-column time --clock mjd_utc \\
+      --site-column site --sites-file sites.toml --ra 287.4 --dec -12.9 \\
+      --model starting_model.toml --output-residuals residuals.csv \\
+      --output-model fitted_model.toml --output-summary fit.json
+
+  The arrival-time table has: the time column (any clock label), error_us (1-σ, µs),
+  optional freq_mhz (observing frequency; empty = no dispersion) and optional instrument.
+  The model TOML names the parameters to fit in `fit = [\"freq_hz\", ...]`.
+  residuals.csv: seconds_after_epoch_tdb, residual_us, residual_cycles, error_us,
+  freq_mhz, instrument, orbital_phase (figure data: residuals vs time and vs orbital phase).";
+
+/// Arguments of `skyclock fit-timing`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    /// Arrival-time table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub arrival_times: PathBuf,
+    /// Column of arrival times.
+    #[arg(long, default_value = "time")]
+    pub time_column: String,
+    /// Clock of all times, e.g. mjd_utc, bjd_tdb (or use --clock-column).
+    #[arg(long)]
+    pub clock: Option<String>,
+    /// Column holding a clock label per row.
+    #[arg(long)]
+    pub clock_column: Option<String>,
+    #[command(flatten)]
+    pub observer: ObserverArgs,
+    #[command(flatten)]
+    pub source: SourceArgs,
+    #[command(flatten)]
+    pub reference_data: ReferenceDataArgs,
+    /// Starting timing model (TOML).
+    #[arg(long, value_name = "FILE")]
+    pub model: PathBuf,
+    /// Most Gauss–Newton iterations.
+    #[arg(long, default_value_t = 20)]
+    pub max_iterations: usize,
+    /// Residual table to write (.csv).
+    #[arg(long, value_name = "FILE")]
+    pub output_residuals: PathBuf,
+    /// Fitted model to write (TOML).
+    #[arg(long, value_name = "FILE")]
+    pub output_model: PathBuf,
+    /// JSON file with parameters, uncertainties, covariance and χ².
+    #[arg(long, value_name = "FILE")]
+    pub output_summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    let clock = match (&a.clock, &a.clock_column) {
+        (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
+        (None, None) => bail!("say how the times are written: --clock mjd_utc (for example) or --clock-column COLUMN"),
+        (Some(label), None) => Some(ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?),
+        (None, Some(_)) => None,
+    };
+    let inputs = [a.arrival_times.as_path(), a.model.as_path()];
+    for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref()].into_iter().flatten() {
+        refuse_overwriting_inputs(out, &inputs)?;
+    }
+    let model_text = std::fs::read_to_string(&a.model).with_context(|| format!("reading {}", a.model.display()))?;
+    let start = TimingModel::from_toml(&model_text, &a.model.display().to_string())?;
+    let description = a.observer.description()?;
+    let source = a.source.load(description.as_ref())?;
+    let observer = if let Some(column) = &a.observer.site_column {
+        let Some(d) = &description else { bail!("--site-column needs --sites-file FILE describing the sites") };
+        ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() }
+    } else if let Some(site) = a.observer.single_site(description.as_ref())? {
+        ObserverSpec::Site(site)
+    } else {
+        ObserverSpec::Geocentre
+    };
+    let reference = a.reference_data.load()?;
+    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
+    let mut text_columns = vec![a.time_column.as_str()];
+    if let Some(c) = &a.clock_column {
+        text_columns.push(c);
+    }
+    if let Some(c) = &a.observer.site_column {
+        text_columns.push(c);
+    }
+    let file = a.arrival_times.display().to_string();
+    let df = read_table(&a.arrival_times, &text_columns)?;
+    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
+    let toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
+    let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()))?;
+
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "fit-timing")
+        .with("input", file.clone())
+        .with("model", a.model.display().to_string())
+        .with("ephemeris", reference.ephemeris.name())
+        .with("leap_seconds", reference.converter.leap_seconds().source());
+    let mut csv = String::from("seconds_after_epoch_tdb,residual_us,residual_cycles,error_us,freq_mhz,instrument,orbital_phase\n");
+    for (i, t) in toas.iter().enumerate() {
+        let orbital = fit.model.orbit.as_ref().map(|o| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * 86_400.0)).rem_euclid(1.0));
+        csv.push_str(&format!(
+            "{:.9},{:.6},{:.9},{:.6},{},{},{}\n",
+            t.t_s,
+            fit.residual_s[i] * 1e6,
+            fit.residual_cycles[i],
+            t.error_s * 1e6,
+            t.freq_mhz.map_or(String::new(), |f| f.to_string()),
+            t.instrument,
+            orbital.map_or(String::new(), |p| format!("{p:.6}"))
+        ));
+    }
+    write_atomically(&a.output_residuals, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&sidecar_path(&a.output_residuals), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string()))?;
+    let toml_text = fit.model.to_toml()?;
+    write_atomically(&a.output_model, |f| std::io::Write::write_all(f, toml_text.as_bytes()).map_err(|e| e.to_string()))?;
+    let summary = serde_json::json!({
+        "arrival_times": toas.len(),
+        "fit": fit,
+        "reduced_chi2": fit.chi2 / fit.dof.max(1) as f64,
+        "ephemeris": reference.ephemeris.name(),
+        "outputs": [a.output_residuals.display().to_string(), a.output_model.display().to_string()],
+    });
+    let text = serde_json::to_string_pretty(&summary)?;
+    if let Some(p) = &a.output_summary {
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+    }
+    if a.json {
+        println!("{text}");
+    } else {
+        println!("fitted {} parameters to {} arrival times: χ² = {:.2} for {} degrees of freedom", fit.parameters.len(), toas.len(), fit.chi2, fit.dof);
+        for ((n, v), s) in fit.parameters.iter().zip(&fit.values).zip(&fit.uncertainties) {
+            println!("  {n:<34} {v:>24.15e} ± {s:.3e}");
+        }
+    }
+    Ok(())
+}

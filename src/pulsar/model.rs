@@ -1,0 +1,408 @@
+//! The timing model: spin, dispersion, instrument offsets and a Keplerian binary orbit with
+//! Einstein and Shapiro terms, and the analytic derivatives of the pulse phase with respect
+//! to every parameter.
+//!
+//! Emission time t_e = t − Δ_disp − Δ_inst − Δ_bin(t_e), t the barycentric (TDB) arrival in
+//! seconds after the epoch. Dispersion Δ_disp = K·DM/f², K = 4.148808×10³ s MHz² pc⁻¹ cm³
+//! (common practice), f the observing frequency (the topocentric frequency stands in for the
+//! barycentric one: the Doppler factor ≤1e-4 changes Δ_disp by ≤2e-4 of itself).
+//! Binary (Blandford & Teukolsky 1976, ApJ 205, 580, eqs. 2.33–2.36; Shapiro term of
+//! Damour & Deruelle 1986 in the BT geometry): with α = x sin ω, β = x√(1−e²) cos ω,
+//! Δ_bin = α(cos E − e) + (β + γ) sin E − 2r ln[1 − e cos E − s(sin ω (cos E − e) +
+//! √(1−e²) cos ω sin E)], E from Kepler's equation at the emission time (solved exactly by
+//! iteration, which replaces BT's first-order factor). Phase φ = φ₀ + ν t_e + ν̇ t_e²/2 + ν̈ t_e³/6.
+
+use std::collections::BTreeMap;
+use std::f64::consts::{PI, TAU};
+
+use super::PulsarError;
+use super::spin::Spin;
+
+/// Dispersion constant K, s MHz² pc⁻¹ cm³ (common practice).
+pub const DISPERSION_CONSTANT_S_MHZ2: f64 = 4.148808e3;
+const DAY_S: f64 = 86_400.0;
+
+/// A Keplerian orbit with relativistic timing terms.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Orbit {
+    /// Orbital period, days.
+    pub orbital_period_d: f64,
+    /// Projected semi-major axis a sin i / c, light seconds.
+    pub projected_semi_major_axis_lt_s: f64,
+    /// Eccentricity (0 ≤ e < 1).
+    #[serde(default)]
+    pub eccentricity: f64,
+    /// Longitude of periastron ω, degrees.
+    #[serde(default)]
+    pub periastron_longitude_deg: f64,
+    /// Time of periastron, seconds after the model epoch (TDB).
+    pub periastron_time_s: f64,
+    /// Einstein delay amplitude γ, s.
+    #[serde(default)]
+    pub einstein_amplitude_s: f64,
+    /// Shapiro range r = T☉ m_c, s.
+    #[serde(default)]
+    pub shapiro_range_s: f64,
+    /// Shapiro shape s = sin i.
+    #[serde(default)]
+    pub shapiro_shape: f64,
+}
+
+/// The full timing model (TOML: see [`TimingModel::from_toml`]).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TimingModel {
+    /// Source name (free text).
+    #[serde(default)]
+    pub name: String,
+    /// Epoch: integer MJD day (TDB).
+    pub epoch_mjd_day_tdb: i64,
+    /// Epoch: seconds of that day (TDB).
+    #[serde(default)]
+    pub epoch_seconds_of_day_tdb: f64,
+    /// Phase at the epoch, cycles.
+    #[serde(default)]
+    pub phase_offset_cycles: f64,
+    /// Spin frequency ν, Hz.
+    pub freq_hz: f64,
+    /// ν̇, Hz/s.
+    #[serde(default)]
+    pub freq_deriv_hz_per_s: f64,
+    /// ν̈, Hz/s².
+    #[serde(default)]
+    pub freq_second_deriv_hz_per_s2: f64,
+    /// Dispersion measure, pc cm⁻³.
+    #[serde(default)]
+    pub dispersion_measure_pc_per_cm3: f64,
+    /// Constant delay per instrument, s (the first instrument of a fit is the zero point).
+    #[serde(default)]
+    pub instrument_delays_s: BTreeMap<String, f64>,
+    /// Binary orbit, if any.
+    #[serde(default)]
+    pub orbit: Option<Orbit>,
+    /// Names of the parameters to fit (keys of this file; instrument delays as
+    /// `instrument_delay_s:NAME`). The phase offset is always fitted.
+    #[serde(default)]
+    pub fit: Vec<String>,
+}
+
+/// One barycentred arrival time.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ArrivalTime {
+    /// Barycentric arrival, seconds after the model epoch (TDB).
+    pub t_s: f64,
+    /// 1-σ uncertainty, s.
+    pub error_s: f64,
+    /// Observing frequency, MHz (None: no dispersion, e.g. X-rays).
+    pub freq_mhz: Option<f64>,
+    /// Instrument name (for instrument delays).
+    pub instrument: String,
+}
+
+/// Parameter names the model knows, with the order used in design matrices.
+pub const SPIN_PARAMETERS: [&str; 4] = ["phase_offset_cycles", "freq_hz", "freq_deriv_hz_per_s", "freq_second_deriv_hz_per_s2"];
+/// Orbit parameter names.
+pub const ORBIT_PARAMETERS: [&str; 8] = [
+    "orbital_period_d",
+    "projected_semi_major_axis_lt_s",
+    "eccentricity",
+    "periastron_longitude_deg",
+    "periastron_time_s",
+    "einstein_amplitude_s",
+    "shapiro_range_s",
+    "shapiro_shape",
+];
+
+/// Emission time and the pieces needed for derivatives.
+#[derive(Debug, Clone, Copy)]
+struct Emission {
+    t_e: f64,
+    /// ∂Δ_bin/∂q at fixed t_e, for the orbit parameters, before the implicit factor.
+    orbit_partials: [f64; 8],
+    /// ∂Δ_bin/∂t_e.
+    orbit_rate: f64,
+}
+
+impl TimingModel {
+    /// Reads a model from TOML text; `origin` names the file in errors.
+    pub fn from_toml(text: &str, origin: &str) -> Result<TimingModel, PulsarError> {
+        let m: TimingModel = toml::from_str(text).map_err(|e| PulsarError::Model(format!("{origin}: {e}")))?;
+        m.validate().map_err(|e| PulsarError::Model(format!("{origin}: {e}")))?;
+        Ok(m)
+    }
+
+    /// The model as TOML text.
+    pub fn to_toml(&self) -> Result<String, PulsarError> {
+        toml::to_string_pretty(self).map_err(|e| PulsarError::Model(e.to_string()))
+    }
+
+    /// The spin part.
+    pub fn spin(&self) -> Spin {
+        Spin { freq_hz: self.freq_hz, freq_deriv_hz_per_s: self.freq_deriv_hz_per_s, freq_second_deriv_hz_per_s2: self.freq_second_deriv_hz_per_s2 }
+    }
+
+    /// The epoch as an instant (TDB).
+    pub fn epoch(&self) -> crate::time::Instant {
+        crate::time::Instant::from_mjd_parts(crate::time::TimeScale::Tdb, self.epoch_mjd_day_tdb, self.epoch_seconds_of_day_tdb)
+    }
+
+    /// Checks physical ranges and that every fitted name is known.
+    pub fn validate(&self) -> Result<(), String> {
+        self.spin().validate().map_err(|e| e.to_string())?;
+        if !self.dispersion_measure_pc_per_cm3.is_finite() || self.dispersion_measure_pc_per_cm3 < 0.0 {
+            return Err(format!("dispersion_measure_pc_per_cm3 = {}: must be ≥ 0", self.dispersion_measure_pc_per_cm3));
+        }
+        if let Some(o) = &self.orbit {
+            if !(o.orbital_period_d > 0.0 && o.orbital_period_d.is_finite()) {
+                return Err(format!("orbit.orbital_period_d = {}: must be > 0", o.orbital_period_d));
+            }
+            if !(0.0..1.0).contains(&o.eccentricity) {
+                return Err(format!("orbit.eccentricity = {}: must be in [0, 1)", o.eccentricity));
+            }
+            if !(o.projected_semi_major_axis_lt_s >= 0.0) || !(o.shapiro_range_s >= 0.0) || !(-1.0..=1.0).contains(&o.shapiro_shape) {
+                return Err("orbit: projected_semi_major_axis_lt_s and shapiro_range_s must be ≥ 0 and shapiro_shape in [−1, 1]".into());
+            }
+        }
+        for name in &self.fit {
+            let known = SPIN_PARAMETERS.contains(&name.as_str())
+                || name == "dispersion_measure_pc_per_cm3"
+                || (ORBIT_PARAMETERS.contains(&name.as_str()) && self.orbit.is_some())
+                || name.strip_prefix("instrument_delay_s:").is_some_and(|n| !n.is_empty());
+            if !known {
+                return Err(format!(
+                    "fit names '{name}', which this model cannot fit; use {}, dispersion_measure_pc_per_cm3, instrument_delay_s:NAME{}",
+                    SPIN_PARAMETERS.join(", "),
+                    if self.orbit.is_some() { format!(", {}", ORBIT_PARAMETERS.join(", ")) } else { " (orbit parameters need an [orbit] table)".into() }
+                ));
+            }
+        }
+        Ok(())
+    }
+
+    /// Value of a named parameter.
+    pub fn get(&self, name: &str) -> Option<f64> {
+        if let Some(i) = name.strip_prefix("instrument_delay_s:") {
+            return Some(*self.instrument_delays_s.get(i).unwrap_or(&0.0));
+        }
+        let o = self.orbit.as_ref();
+        Some(match name {
+            "phase_offset_cycles" => self.phase_offset_cycles,
+            "freq_hz" => self.freq_hz,
+            "freq_deriv_hz_per_s" => self.freq_deriv_hz_per_s,
+            "freq_second_deriv_hz_per_s2" => self.freq_second_deriv_hz_per_s2,
+            "dispersion_measure_pc_per_cm3" => self.dispersion_measure_pc_per_cm3,
+            "orbital_period_d" => o?.orbital_period_d,
+            "projected_semi_major_axis_lt_s" => o?.projected_semi_major_axis_lt_s,
+            "eccentricity" => o?.eccentricity,
+            "periastron_longitude_deg" => o?.periastron_longitude_deg,
+            "periastron_time_s" => o?.periastron_time_s,
+            "einstein_amplitude_s" => o?.einstein_amplitude_s,
+            "shapiro_range_s" => o?.shapiro_range_s,
+            "shapiro_shape" => o?.shapiro_shape,
+            _ => return None,
+        })
+    }
+
+    /// Sets a named parameter (ignored for unknown names).
+    pub fn set(&mut self, name: &str, v: f64) {
+        if let Some(i) = name.strip_prefix("instrument_delay_s:") {
+            self.instrument_delays_s.insert(i.to_string(), v);
+            return;
+        }
+        match name {
+            "phase_offset_cycles" => self.phase_offset_cycles = v,
+            "freq_hz" => self.freq_hz = v,
+            "freq_deriv_hz_per_s" => self.freq_deriv_hz_per_s = v,
+            "freq_second_deriv_hz_per_s2" => self.freq_second_deriv_hz_per_s2 = v,
+            "dispersion_measure_pc_per_cm3" => self.dispersion_measure_pc_per_cm3 = v,
+            _ => {
+                if let Some(o) = self.orbit.as_mut() {
+                    match name {
+                        "orbital_period_d" => o.orbital_period_d = v,
+                        "projected_semi_major_axis_lt_s" => o.projected_semi_major_axis_lt_s = v,
+                        "eccentricity" => o.eccentricity = v,
+                        "periastron_longitude_deg" => o.periastron_longitude_deg = v,
+                        "periastron_time_s" => o.periastron_time_s = v,
+                        "einstein_amplitude_s" => o.einstein_amplitude_s = v,
+                        "shapiro_range_s" => o.shapiro_range_s = v,
+                        "shapiro_shape" => o.shapiro_shape = v,
+                        _ => {}
+                    }
+                }
+            }
+        }
+    }
+
+    /// Dispersion delay, s, at observing frequency `freq_mhz`.
+    pub fn dispersion_delay_s(&self, freq_mhz: Option<f64>) -> f64 {
+        match freq_mhz {
+            Some(f) if f > 0.0 => DISPERSION_CONSTANT_S_MHZ2 * self.dispersion_measure_pc_per_cm3 / (f * f),
+            _ => 0.0,
+        }
+    }
+
+    /// Binary delay Δ_bin, s, at emission time `t_e` (s after epoch), its rate ∂Δ/∂t_e and
+    /// its partials with respect to the orbit parameters (in [`ORBIT_PARAMETERS`] order and units).
+    fn orbit_delay(o: &Orbit, t_e: f64) -> (f64, f64, [f64; 8]) {
+        let pb_s = o.orbital_period_d * DAY_S;
+        let e = o.eccentricity;
+        let w = o.periastron_longitude_deg.to_radians();
+        let (sw, cw) = w.sin_cos();
+        let mean = TAU * ((t_e - o.periastron_time_s) / pb_s);
+        let m_red = mean.rem_euclid(TAU);
+        let mut big_e = if e < 0.8 { m_red } else { PI };
+        for _ in 0..50 {
+            let step = (big_e - e * big_e.sin() - m_red) / (1.0 - e * big_e.cos());
+            big_e -= step;
+            if step.abs() < 1e-15 {
+                break;
+            }
+        }
+        let (se, ce) = big_e.sin_cos();
+        let rt = (1.0 - e * e).sqrt();
+        let x = o.projected_semi_major_axis_lt_s;
+        let alpha = x * sw;
+        let beta = x * rt * cw;
+        let geom = sw * (ce - e) + rt * cw * se;
+        let d = 1.0 - e * ce - o.shapiro_shape * geom;
+        let shapiro = if o.shapiro_range_s > 0.0 { -2.0 * o.shapiro_range_s * d.max(1e-12).ln() } else { 0.0 };
+        let delay = alpha * (ce - e) + (beta + o.einstein_amplitude_s) * se + shapiro;
+        // partial derivatives
+        let s = o.shapiro_shape;
+        let r = o.shapiro_range_s;
+        let dd_de_anom = e * se - s * (-sw * se + rt * cw * ce);
+        let dd_ecc = -ce - s * (-sw - e / rt * cw * se);
+        let dd_w = -s * (cw * (ce - e) - rt * sw * se);
+        let ds = |dd: f64| -2.0 * r / d * dd;
+        let d_eanom = -alpha * se + (beta + o.einstein_amplitude_s) * ce + ds(dd_de_anom);
+        let de_dm = 1.0 / (1.0 - e * ce);
+        let de_decc = se / (1.0 - e * ce);
+        let rate = d_eanom * de_dm * TAU / pb_s;
+        let p_pb = d_eanom * de_dm * (-mean / o.orbital_period_d);
+        let p_x = geom;
+        let p_e = d_eanom * de_decc + (-alpha - x * cw * e / rt * se) + ds(dd_ecc);
+        let p_w = (x * cw * (ce - e) - x * rt * sw * se + ds(dd_w)) * PI / 180.0;
+        let p_t0 = -rate;
+        let p_gamma = se;
+        let p_r = -2.0 * d.max(1e-12).ln();
+        let p_s = ds(-geom);
+        (delay, rate, [p_pb, p_x, p_e, p_w, p_t0, p_gamma, p_r, p_s])
+    }
+
+    fn emission(&self, toa: &ArrivalTime) -> Emission {
+        let t_fixed = toa.t_s - self.dispersion_delay_s(toa.freq_mhz) - self.instrument_delays_s.get(&toa.instrument).copied().unwrap_or(0.0);
+        let Some(o) = &self.orbit else {
+            return Emission { t_e: t_fixed, orbit_partials: [0.0; 8], orbit_rate: 0.0 };
+        };
+        // t_e = t_fixed − Δ(t_e): Newton iteration on g(t_e) = t_e + Δ(t_e) − t_fixed.
+        let mut t_e = t_fixed;
+        for _ in 0..6 {
+            let (d, rate, _) = Self::orbit_delay(o, t_e);
+            let step = (t_e + d - t_fixed) / (1.0 + rate);
+            t_e -= step;
+            if step.abs() < 1e-12 {
+                break;
+            }
+        }
+        let (_, rate, partials) = Self::orbit_delay(o, t_e);
+        Emission { t_e, orbit_partials: partials, orbit_rate: rate }
+    }
+
+    /// Pulse phase (cycles, including the whole turns) of one arrival time.
+    pub fn phase_cycles(&self, toa: &ArrivalTime) -> f64 {
+        self.phase_offset_cycles + self.spin().phase_cycles(self.emission(toa).t_e)
+    }
+
+    /// Analytic ∂φ/∂p (cycles per parameter unit) for the named parameters.
+    /// Delays enter through t_e: ∂φ/∂q = −ν(t_e)·∂Δ/∂q/(1 + ∂Δ_bin/∂t_e) (implicit derivative).
+    pub fn phase_derivatives(&self, toa: &ArrivalTime, names: &[String]) -> Vec<f64> {
+        let em = self.emission(toa);
+        let t = em.t_e;
+        let nu = self.spin().freq_at_hz(t);
+        let implicit = 1.0 / (1.0 + em.orbit_rate);
+        names
+            .iter()
+            .map(|n| match n.as_str() {
+                "phase_offset_cycles" => 1.0,
+                "freq_hz" => t,
+                "freq_deriv_hz_per_s" => 0.5 * t * t,
+                "freq_second_deriv_hz_per_s2" => t * t * t / 6.0,
+                "dispersion_measure_pc_per_cm3" => match toa.freq_mhz {
+                    Some(f) if f > 0.0 => -nu * implicit * DISPERSION_CONSTANT_S_MHZ2 / (f * f),
+                    _ => 0.0,
+                },
+                other => {
+                    if let Some(inst) = other.strip_prefix("instrument_delay_s:") {
+                        if inst == toa.instrument { -nu * implicit } else { 0.0 }
+                    } else if let Some(k) = ORBIT_PARAMETERS.iter().position(|p| *p == other) {
+                        -nu * implicit * em.orbit_partials[k]
+                    } else {
+                        0.0
+                    }
+                }
+            })
+            .collect()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    pub(crate) fn binary_model() -> TimingModel {
+        TimingModel {
+            name: "invented".into(),
+            epoch_mjd_day_tdb: 60000,
+            epoch_seconds_of_day_tdb: 0.0,
+            phase_offset_cycles: 0.1,
+            freq_hz: 173.7,
+            freq_deriv_hz_per_s: -1.3e-15,
+            freq_second_deriv_hz_per_s2: 0.0,
+            dispersion_measure_pc_per_cm3: 21.3,
+            instrument_delays_s: [("b".to_string(), 3e-6)].into_iter().collect(),
+            orbit: Some(Orbit {
+                orbital_period_d: 1.7,
+                projected_semi_major_axis_lt_s: 2.4,
+                eccentricity: 0.2,
+                periastron_longitude_deg: 70.0,
+                periastron_time_s: 1.0e4,
+                einstein_amplitude_s: 2e-4,
+                shapiro_range_s: 3e-6,
+                shapiro_shape: 0.9,
+            }),
+            fit: vec![],
+        }
+    }
+
+    #[test]
+    fn analytic_derivatives_match_numeric() {
+        let m = binary_model();
+        let mut names: Vec<String> = SPIN_PARAMETERS.iter().chain(ORBIT_PARAMETERS.iter()).map(|s| s.to_string()).collect();
+        names.push("dispersion_measure_pc_per_cm3".into());
+        names.push("instrument_delay_s:b".into());
+        for (k, t) in [-3.1e6, 1.0e4, 4.4e5, 2.9e7].into_iter().enumerate() {
+            let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: Some(1400.0), instrument: if k % 2 == 0 { "b".into() } else { "a".into() } };
+            let a = m.phase_derivatives(&toa, &names);
+            for (j, n) in names.iter().enumerate() {
+                let v = m.get(n).unwrap();
+                let h = 1e-6 * v.abs().max(1e-3) * if n.starts_with("freq") { 1e-4 } else { 1.0 };
+                let (mut up, mut dn) = (m.clone(), m.clone());
+                up.set(n, v + h);
+                dn.set(n, v - h);
+                let num = (up.phase_cycles(&toa) - dn.phase_cycles(&toa)) / (2.0 * h);
+                let tol = 1e-5 * a[j].abs().max(num.abs()) + 1e-6 * (m.phase_cycles(&toa).abs() * 1e-15 / h).max(1e-9);
+                assert!((a[j] - num).abs() <= tol.max(2e-16 * m.phase_cycles(&toa).abs() / h * 4.0), "{n} at t={t}: analytic {} numeric {num}", a[j]);
+            }
+        }
+    }
+
+    #[test]
+    fn toml_round_trip_and_unknown_keys() {
+        let m = binary_model();
+        let text = m.to_toml().unwrap();
+        assert_eq!(TimingModel::from_toml(&text, "x.toml").unwrap(), m);
+        let e = TimingModel::from_toml("epoch_mjd_day_tdb = 60000\nfreq_hz = 1.0\nspin_rate = 3\n", "m.toml").unwrap_err().to_string();
+        assert!(e.contains("m.toml") && e.contains("spin_rate"), "{e}");
+    }
+}
