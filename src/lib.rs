@@ -17,3 +17,4 @@ pub mod fit;
 pub mod periodogram;
 pub mod fold;
 pub mod frequencies;
+pub mod oc;
