@@ -8,6 +8,7 @@ pub mod common;
 pub mod convert_time;
 pub mod demo;
 pub mod observer_time;
+pub mod timing_residuals;
 
 use clap::{Parser, Subcommand};
 
@@ -30,6 +31,8 @@ pub enum Command {
     ObserverTime(observer_time::Args),
     /// Convert single times between scales (UTC, TAI, TT, TDB, TCB, GPS) and formats.
     ConvertTime(convert_time::Args),
+    /// Cycle numbers, O–C and fitted ephemeris models (period change, light-time companion) from event timings.
+    TimingResiduals(timing_residuals::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -41,6 +44,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::BarycentreEvents(a) => barycentre_events::run(a),
         Command::ObserverTime(a) => observer_time::run(a),
         Command::ConvertTime(a) => convert_time::run(a),
+        Command::TimingResiduals(a) => timing_residuals::run(a),
         Command::Demo(a) => demo::run(a),
     }
 }

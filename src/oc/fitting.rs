@@ -13,7 +13,7 @@ use super::companion::{mass_function_msun, projected_semi_major_axis_au};
 use super::cycles::OcSeries;
 use super::models::{ModelKind, OcModel, eccentricity_omega, evaluate};
 use super::orbit::irwin_semi_amplitude;
-use crate::fit::{LevenbergOptions, NonlinearFit, SeededRng, levenberg_marquardt, small::cholesky_solve_in_place, weighted_linear_lsq};
+use crate::fit::{LsqModel, LevenbergOptions, NonlinearFit, SeededRng, levenberg_marquardt, small::cholesky_solve_in_place, weighted_linear_lsq};
 
 const SECONDS_PER_DAY: f64 = 86_400.0;
 const DAYS_PER_YEAR: f64 = 365.25;
@@ -249,6 +249,65 @@ fn default_range(series: &OcSeries) -> (f64, f64) {
     (lo, 1.5 * baseline.max(lo))
 }
 
+/// A model seen through parameter scales θ = s ⊙ u, so that Levenberg–Marquardt works on
+/// columns of comparable size (Jacobi scaling; Moré 1978, LNM 630, 105).
+struct Scaled<'m, M: LsqModel> {
+    inner: &'m M,
+    scale: Vec<f64>,
+}
+
+impl<M: LsqModel> LsqModel for Scaled<'_, M> {
+    fn n_params(&self) -> usize {
+        self.inner.n_params()
+    }
+    fn n_obs(&self) -> usize {
+        self.inner.n_obs()
+    }
+    fn predict(&self, u: &[f64], out: &mut [f64]) {
+        let t: Vec<f64> = u.iter().zip(&self.scale).map(|(a, b)| a * b).collect();
+        self.inner.predict(&t, out)
+    }
+    fn jacobian(&self, u: &[f64], jac: &mut [f64]) {
+        let t: Vec<f64> = u.iter().zip(&self.scale).map(|(a, b)| a * b).collect();
+        self.inner.jacobian(&t, jac);
+        let p = self.scale.len();
+        for (k, v) in jac.iter_mut().enumerate() {
+            *v *= self.scale[k % p];
+        }
+    }
+    fn observed(&self) -> &[f64] {
+        self.inner.observed()
+    }
+    fn weight(&self) -> &[f64] {
+        self.inner.weight()
+    }
+}
+
+/// Levenberg–Marquardt on Jacobi-scaled parameters; returns the fit in the original units.
+fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFit, crate::fit::FitError> {
+    let p = model.n_params();
+    let n = model.n_obs();
+    let mut jac = vec![0.0; n * p];
+    model.jacobian(start, &mut jac);
+    let w = model.weight();
+    let scale: Vec<f64> = (0..p)
+        .map(|j| {
+            let d: f64 = (0..n).map(|i| w[i] * jac[i * p + j] * jac[i * p + j]).sum();
+            if d > 0.0 && d.is_finite() { 1.0 / d.sqrt() } else { 1.0 }
+        })
+        .collect();
+    let scaled = Scaled { inner: model, scale: scale.clone() };
+    let u0: Vec<f64> = start.iter().zip(&scale).map(|(a, b)| a / b).collect();
+    let mut f = levenberg_marquardt(&scaled, &u0, &lm_options())?;
+    for (a, b) in f.params.iter_mut().zip(&scale) {
+        *a *= b;
+    }
+    for (k, v) in f.covariance.iter_mut().enumerate() {
+        *v *= scale[k / p] * scale[k % p];
+    }
+    Ok(f)
+}
+
 fn lm_options() -> LevenbergOptions {
     LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3 }
 }
@@ -274,7 +333,7 @@ fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options
             start.extend([amp.max(1e-9), p3, c, s, phase - omega]);
             // A sinusoid's mean anomaly: 2π t/P₃ + M₀ + ω = 2π t/P₃ + phase.
             let _ = np;
-            match levenberg_marquardt(&model, &start, &lm_options()) {
+            match scaled_levenberg(&model, &start) {
                 Ok(f) if f.chi2.is_finite() => {
                     if best.as_ref().is_none_or(|b| f.chi2 < b.chi2) {
                         best = Some(f);
@@ -402,7 +461,7 @@ pub fn bootstrap(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions) 
             let w: Vec<f64> = idx.iter().map(|&i| fit.weights[i]).collect();
             let params = if kind.has_light_time() {
                 let model = OcModel { kind, series: &sub, weights: w };
-                match levenberg_marquardt(&model, &fit.params, &lm_options()) {
+                match scaled_levenberg(&model, &fit.params) {
                     Ok(f) if f.chi2.is_finite() => f.params,
                     _ => return None,
                 }
