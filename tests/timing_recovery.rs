@@ -81,8 +81,10 @@ fn quadratic_term_covariance_and_bootstrap_intervals_are_calibrated() {
     assert!((0.61..=0.75).contains(&boot), "bootstrap coverage {boot}");
 }
 
-// Too slow as it stands (minutes: eight Levenberg–Marquardt starts per periodogram peak with
-// finite-difference Jacobians); run by hand with `--ignored` until the search is made cheaper.
+// Not yet passing and too slow (minutes: eight Levenberg–Marquardt starts per periodogram peak
+// with finite-difference Jacobians). Single trials fit well (χ² ≈ n, P₃ and amplitude near the
+// truth) but the quadratic term came out biased (~2×) in the combined model: to investigate.
+// Run by hand with `--ignored`.
 #[test]
 #[ignore]
 fn light_time_and_quadratic_terms_are_recovered_with_calibrated_intervals() {
@@ -117,13 +119,3 @@ fn light_time_and_quadratic_terms_are_recovered_with_calibrated_intervals() {
     }
 }
 
-#[test]
-#[ignore]
-fn debug_one() {
-    for k in 0..4 {
-        let s = assign_cycles(&simulate(5000 + k, true), &reference(), &CycleOptions::default()).unwrap();
-        let f = fit_model(&s, ModelKind::QuadraticLightTime, &FitOptions::default()).unwrap();
-        eprintln!("{:?} chi2 {} n {}", f.params, f.chi2, f.n);
-        eprintln!("{:?}", f.derived);
-    }
-}
