@@ -20,3 +20,4 @@ pub mod frequencies;
 pub mod survey;
 pub mod plot;
 pub mod pulsar;
+pub mod oc;

@@ -15,6 +15,7 @@ pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
 pub mod survey_batch;
+pub mod timing_residuals;
 
 use clap::{Parser, Subcommand};
 
@@ -49,6 +50,8 @@ pub enum Command {
     FitTiming(fit_timing::Args),
     /// Search a photon-event table for pulsations (Z²ₙ over frequency and its derivative).
     SearchPulsations(search_pulsations::Args),
+    /// Cycle numbers, O–C and fitted ephemeris models (period change, light-time companion) from event timings.
+    TimingResiduals(timing_residuals::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -60,6 +63,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::BarycentreEvents(a) => barycentre_events::run(a),
         Command::ObserverTime(a) => observer_time::run(a),
         Command::ConvertTime(a) => convert_time::run(a),
+        Command::TimingResiduals(a) => timing_residuals::run(a),
         Command::Demo(a) => demo::run(a),
         Command::FindPeriods(a) => find_periods::run(a),
         Command::FoldCurve(a) => fold_curve::run(a),

@@ -1,0 +1,287 @@
+//! `skyclock timing-residuals`: event timings in any clock → BJD_TDB → cycle numbers and
+//! observed-minus-computed values against a reference ephemeris → fitted ephemeris models
+//! with covariance and bootstrap uncertainties, and a verdict on which model the data need.
+
+use std::path::PathBuf;
+
+use anyhow::{Context, Result, bail};
+use clap::Args as ClapArgs;
+use polars::prelude::{Column, DataFrame};
+
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use crate::arrival::{BarycentricCorrector, DelayOptions};
+use crate::oc::{
+    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, bootstrap,
+    compare_nested, fit_model, information, minimum_companion_mass_msun,
+};
+use crate::table::write::write_atomically;
+use crate::table::{Provenance, float_column, read_table, text_column, write_table};
+use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+
+const EXAMPLE: &str = "Example (invented star):
+  skyclock timing-residuals --input minima.csv --time-column time --clock hjd_utc \\
+      --error-column error_d --kind-column kind --source-file star.toml \\
+      --epoch-bjd-tdb 2451234.56789 --period-d 0.7345123 --period-sigma-d 2e-7 \\
+      --models linear,quadratic,quadratic+light-time --bootstrap 500 \\
+      --output residuals.csv --summary residuals.json
+
+  The kind column holds primary / secondary / maximum (secondaries get half cycles); errors
+  are 1σ in days. The output table has, per timing in time order: row, bjd_tdb, cycle,
+  kind, source, error_d, observed_minus_computed_d and, per model, model_<name>_d,
+  model_sigma_<name>_d and residual_<name>_d (the data of an O–C diagram with its model
+  and 1σ band). The summary JSON holds parameters, covariance and bootstrap errors, derived
+  quantities (dP/dt in s/yr, light-time semi-amplitude in s, a12 sin i in au, mass
+  function, minimum companion mass) and the model comparison.";
+
+/// Arguments of `skyclock timing-residuals`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    /// Timing table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub input: PathBuf,
+    /// Column holding the event times.
+    #[arg(long, value_name = "COLUMN")]
+    pub time_column: String,
+    /// Clock of all times (jd_utc, hjd_utc, bjd_tdb, mjd_tt, …).
+    #[arg(long, value_name = "LABEL")]
+    pub clock: Option<String>,
+    /// Column holding a clock label per row.
+    #[arg(long, value_name = "COLUMN")]
+    pub clock_column: Option<String>,
+    /// Column holding the 1σ error of each time, in days.
+    #[arg(long, value_name = "COLUMN")]
+    pub error_column: String,
+    /// Column holding the event kind (primary, secondary, maximum); default: all primary.
+    #[arg(long, value_name = "COLUMN")]
+    pub kind_column: Option<String>,
+    /// Column naming the source/observer of each timing (for --rescale-per-source).
+    #[arg(long, value_name = "COLUMN")]
+    pub origin_column: Option<String>,
+    #[command(flatten)]
+    pub observer: ObserverArgs,
+    #[command(flatten)]
+    pub source: SourceArgs,
+    #[command(flatten)]
+    pub reference_data: ReferenceDataArgs,
+    /// Reference epoch of a primary event (cycle 0), BJD_TDB as a Julian Date.
+    #[arg(long, value_name = "JD")]
+    pub epoch_bjd_tdb: String,
+    /// Reference period, days.
+    #[arg(long, value_name = "DAYS")]
+    pub period_d: f64,
+    /// 1σ uncertainty of the reference period, days (for the cycle-count ambiguity check).
+    #[arg(long, value_name = "DAYS", default_value_t = 0.0)]
+    pub period_sigma_d: f64,
+    /// Keep going when the cycle count is ambiguous (a warning instead of an error).
+    #[arg(long)]
+    pub allow_ambiguous_cycles: bool,
+    /// Models to fit, comma-separated: linear, quadratic, light-time, quadratic+light-time.
+    #[arg(long, value_name = "LIST", default_value = "linear,quadratic")]
+    pub models: String,
+    /// Companion periods to search, days: LOW,HIGH (default from the data span).
+    #[arg(long, value_name = "LOW,HIGH")]
+    pub companion_period_range_d: Option<String>,
+    /// Rescale each origin's errors to reduced χ² = 1.
+    #[arg(long)]
+    pub rescale_per_source: bool,
+    /// Bootstrap resamples (0: covariance errors only).
+    #[arg(long, value_name = "N", default_value_t = 0)]
+    pub bootstrap: usize,
+    /// Seed of the bootstrap.
+    #[arg(long, value_name = "SEED", default_value_t = 1)]
+    pub seed: u64,
+    /// Mass of the eclipsing pair M1+M2, solar masses (for the minimum companion mass).
+    #[arg(long, value_name = "MSUN")]
+    pub binary_mass_msun: Option<f64>,
+    /// Output O–C table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub output: PathBuf,
+    /// JSON summary file.
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    let clock = match (&a.clock, &a.clock_column) {
+        (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
+        (None, None) => bail!("say how the times are written: --clock hjd_utc (for example) or --clock-column COLUMN"),
+        (Some(label), None) => Some(ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?),
+        (None, Some(_)) => None,
+    };
+    let models: Vec<ModelKind> = a
+        .models
+        .split(',')
+        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time or quadratic+light-time")))
+        .collect::<Result<_>>()?;
+    let range = match &a.companion_period_range_d {
+        None => None,
+        Some(t) => {
+            let v: Vec<f64> = t.split(',').map(|x| x.trim().parse::<f64>()).collect::<Result<_, _>>().with_context(|| format!("--companion-period-range-d '{t}': expected LOW,HIGH in days"))?;
+            if v.len() != 2 {
+                bail!("--companion-period-range-d '{t}': expected two numbers LOW,HIGH");
+            }
+            Some((v[0], v[1]))
+        }
+    };
+    let description = a.observer.description()?;
+    let source = a.source.load(description.as_ref())?;
+    let observer = if let Some(column) = &a.observer.site_column {
+        let Some(d) = &description else { bail!("--site-column needs --sites-file FILE describing the sites") };
+        ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() }
+    } else if let Some(site) = a.observer.single_site(description.as_ref())? {
+        ObserverSpec::Site(site)
+    } else {
+        ObserverSpec::Geocentre
+    };
+    let reference = a.reference_data.load()?;
+    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
+    let file = a.input.display().to_string();
+    let mut text_columns = vec![a.time_column.as_str()];
+    for c in [&a.clock_column, &a.observer.site_column, &a.kind_column, &a.origin_column].into_iter().flatten() {
+        text_columns.push(c);
+    }
+    let df = read_table(&a.input, &text_columns)?;
+    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
+    let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
+    let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
+    let errors = float_column(&df, &file, &a.error_column)?;
+    let kinds = match &a.kind_column {
+        Some(c) => Some(text_column(&df, &file, c)?),
+        None => None,
+    };
+    let origins = match &a.origin_column {
+        Some(c) => Some(text_column(&df, &file, c)?),
+        None => None,
+    };
+    let mut timings = Vec::with_capacity(df.height());
+    for i in 0..df.height() {
+        let kind = match &kinds {
+            None => EventKind::Primary,
+            Some(k) => {
+                let text = k[i].as_deref().unwrap_or("");
+                EventKind::parse(text).with_context(|| {
+                    format!("{file}, row {}, column '{}': event kind '{text}' is not one of primary, secondary, maximum", i + 1, a.kind_column.as_deref().unwrap_or(""))
+                })?
+            }
+        };
+        if !(errors[i].is_finite() && errors[i] > 0.0) {
+            bail!("{file}, row {}, column '{}': error {} d must be finite and > 0", i + 1, a.error_column, errors[i]);
+        }
+        timings.push(Timing {
+            bjd_tdb: crate::time::Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]),
+            error_d: errors[i],
+            kind,
+            source: origins.as_ref().and_then(|o| o[i].clone()),
+            row: i + 1,
+        });
+    }
+    let epoch = parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
+        .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
+    let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
+    let series = assign_cycles(&timings, &eph, &CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles }).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+    let options = FitOptions { rescale_per_source: a.rescale_per_source, companion_period_range_d: range, ..Default::default() };
+    let mut fits = Vec::new();
+    for &m in &models {
+        fits.push(fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"))?);
+    }
+    // The O–C table.
+    let mut columns = vec![
+        Column::new("row".into(), series.row.iter().map(|&r| r as u64).collect::<Vec<_>>()),
+        Column::new("bjd_tdb".into(), series.time_d.iter().map(|&t| format_time(&epoch.add_seconds(t * 86_400.0), TimeFormat::Jd)).collect::<Vec<_>>()),
+        Column::new("cycle".into(), series.cycle.clone()),
+        Column::new("kind".into(), series.kind.iter().map(|k| k.name().to_string()).collect::<Vec<_>>()),
+        Column::new("source".into(), series.source_index.iter().map(|&s| series.sources[s].clone()).collect::<Vec<_>>()),
+        Column::new("error_d".into(), series.error_d.clone()),
+        Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
+    ];
+    let mut model_json = Vec::new();
+    for f in &fits {
+        let name = f.kind.name().replace('+', "_").replace('-', "_");
+        let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
+        let sigma: Vec<f64> = (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
+        let resid: Vec<f64> = series.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect();
+        columns.push(Column::new(format!("model_{name}_d").into(), model));
+        columns.push(Column::new(format!("model_sigma_{name}_d").into(), sigma));
+        columns.push(Column::new(format!("residual_{name}_d").into(), resid));
+        let boot = if a.bootstrap > 0 { Some(bootstrap(&series, f, &BootstrapOptions { resamples: a.bootstrap, seed: a.seed }).map_err(|e| anyhow::anyhow!("{e}"))?) } else { None };
+        let names = f.kind.parameter_names();
+        let params: Vec<serde_json::Value> = names
+            .iter()
+            .enumerate()
+            .map(|(j, n)| serde_json::json!({"name": n, "value": f.params[j], "sigma_covariance": f.sigma(j), "sigma_bootstrap": boot.as_ref().map(|b| b.parameter_sigma[j])}))
+            .collect();
+        let mut derived: Vec<serde_json::Value> = f
+            .derived
+            .iter()
+            .enumerate()
+            .map(|(j, d)| serde_json::json!({"name": d.0, "value": d.1, "sigma_covariance": d.2, "sigma_bootstrap": boot.as_ref().map(|b| b.derived_sigma[j].1)}))
+            .collect();
+        if let (Some(m12), Some((fm, fm_s))) = (a.binary_mass_msun, f.derived_value("mass_function_msun")) {
+            let m3 = minimum_companion_mass_msun(fm, m12);
+            let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
+            derived.push(serde_json::json!({"name": "minimum_companion_mass_msun", "value": m3, "sigma_covariance": m3.zip(m3_hi).map(|(a, b)| b - a), "binary_mass_msun": m12}));
+        }
+        model_json.push(serde_json::json!({
+            "model": f.kind.name(), "fit": information(f), "parameters": params, "derived": derived,
+            "covariance": f.covariance, "source_error_scale": f.source_scale, "notes": f.notes,
+            "bootstrap": boot.as_ref().map(|b| serde_json::json!({"resamples": b.resamples, "failed": b.failed, "seed": a.seed})),
+        }));
+    }
+    let mut comparisons = Vec::new();
+    for i in 0..fits.len() {
+        for j in 0..fits.len() {
+            let nested = match (fits[i].kind, fits[j].kind) {
+                (x, y) if x == y => false,
+                (ModelKind::Linear, _) => true,
+                (ModelKind::Quadratic, ModelKind::QuadraticLightTime) => true,
+                (ModelKind::LinearLightTime, ModelKind::QuadraticLightTime) => true,
+                _ => false,
+            };
+            if nested && let Some(t) = compare_nested(&fits[i], &fits[j]) {
+                comparisons.push(t);
+            }
+        }
+    }
+    let mut out = DataFrame::new(series.len(), columns).context("building the output table")?;
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "timing-residuals")
+        .with("input", file.clone())
+        .with("ephemeris", reference.ephemeris.name())
+        .with("reference_epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
+        .with("reference_period_d", a.period_d.to_string());
+    write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+    let summary = serde_json::json!({
+        "input": file, "output": a.output.display().to_string(), "timings": series.len(),
+        "reference_ephemeris": {"epoch_bjd_tdb": a.epoch_bjd_tdb, "period_d": a.period_d, "period_sigma_d": a.period_sigma_d},
+        "warnings": series.warnings, "models": model_json, "comparisons": comparisons,
+        "verdicts": comparisons.iter().map(|c| c.verdict.clone()).collect::<Vec<_>>(),
+    });
+    let text = serde_json::to_string_pretty(&summary)?;
+    if let Some(path) = &a.summary {
+        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
+        write_atomically(path, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+    }
+    for w in &series.warnings {
+        eprintln!("warning: {w}");
+    }
+    if a.json {
+        println!("{text}");
+    } else {
+        println!("{} timings on cycles {} … {} → {}", series.len(), series.cycle.first().unwrap_or(&0.0), series.cycle.last().unwrap_or(&0.0), a.output.display());
+        for f in &fits {
+            let i = information(f);
+            println!("  {:<22} χ² = {:.1} for {} dof (reduced {:.2}), BIC = {:.1}", i.model, i.chi2, i.dof, i.reduced_chi2, i.bic);
+        }
+        for c in &comparisons {
+            println!("  {}", c.verdict);
+        }
+    }
+    Ok(())
+}

