@@ -119,6 +119,17 @@ pub fn run(a: Args) -> Result<()> {
         .split(',')
         .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time or quadratic+light-time")))
         .collect::<Result<_>>()?;
+    // Known limitation, stated to the user until the synthetic calibration passes.
+    let cautions: Vec<String> = if models.iter().any(|m| matches!(m, ModelKind::LinearLightTime | ModelKind::QuadraticLightTime)) {
+        vec!["caution: the light-time companion models have not yet passed their interval calibration on synthetic data; \
+              in tests the quadratic term of quadratic+light-time fits came out biased by ~10 sigma, so treat companion \
+              parameters, dP/dt and their intervals from these models as unverified".to_string()]
+    } else {
+        Vec::new()
+    };
+    for c in &cautions {
+        eprintln!("{c}");
+    }
     let range = match &a.companion_period_range_d {
         None => None,
         Some(t) => {
@@ -260,7 +271,7 @@ pub fn run(a: Args) -> Result<()> {
     let summary = serde_json::json!({
         "input": file, "output": a.output.display().to_string(), "timings": series.len(),
         "reference_ephemeris": {"epoch_bjd_tdb": a.epoch_bjd_tdb, "period_d": a.period_d, "period_sigma_d": a.period_sigma_d},
-        "warnings": series.warnings, "models": model_json, "comparisons": comparisons,
+        "warnings": series.warnings, "cautions": cautions, "models": model_json, "comparisons": comparisons,
         "verdicts": comparisons.iter().map(|c| c.verdict.clone()).collect::<Vec<_>>(),
     });
     let text = serde_json::to_string_pretty(&summary)?;
