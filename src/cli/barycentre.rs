@@ -2,13 +2,12 @@
 
 use std::path::PathBuf;
 
-use anyhow::{Result, bail};
+use anyhow::Result;
 use clap::Args as ClapArgs;
 
-use super::common::{ObserverArgs, OriginArg, ReferenceDataArgs, SourceArgs, leap_second_warning};
-use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs, leap_second_warning};
+use crate::arrival::table::{TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::observer::PositionOrigin;
 use crate::table::{Provenance, read_table, write_table};
 
 const EXAMPLE: &str = "Example:
@@ -63,36 +62,10 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    let clock = match (&a.clock, &a.clock_column) {
-        (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
-        (None, None) => bail!("say how the times are written: --clock jd_utc (for example) or --clock-column COLUMN"),
-        (Some(label), None) => Some(ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?),
-        (None, Some(_)) => None,
-    };
+    let clock = super::common::clock_choice(&a.clock, &a.clock_column, "jd_utc")?;
     let description = a.observer.description()?;
     let source = a.source.load(description.as_ref())?;
-    let observer = if let Some(cols) = &a.observer.spacecraft_columns {
-        let parts: Vec<String> = cols.split(',').map(|s| s.trim().to_string()).collect();
-        if parts.len() != 3 {
-            bail!("--spacecraft-columns wants three column names x,y,z, got '{cols}'");
-        }
-        ObserverSpec::Spacecraft {
-            columns: [parts[0].clone(), parts[1].clone(), parts[2].clone()],
-            origin: match a.observer.spacecraft_origin {
-                OriginArg::Geocentric => PositionOrigin::Geocentric,
-                OriginArg::Barycentric => PositionOrigin::Barycentric,
-            },
-        }
-    } else if let Some(column) = &a.observer.site_column {
-        let Some(d) = &description else {
-            bail!("--site-column needs --sites-file FILE describing the sites");
-        };
-        ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() }
-    } else if let Some(site) = a.observer.single_site(description.as_ref())? {
-        ObserverSpec::Site(site)
-    } else {
-        ObserverSpec::Geocentre
-    };
+    let observer = a.observer.observer_spec(description.as_ref())?;
     let reference = a.reference_data.load()?;
     let options = DelayOptions { shapiro_sun: !a.without_solar_shapiro, shapiro_planets: a.with_planet_shapiro };
     let corrector = BarycentricCorrector::new(

@@ -211,3 +211,49 @@ pub fn leap_second_warning(rows: usize, max_days: i64, table: &LeapSecondTable) 
         )
     })
 }
+
+/// The clock of a table: one label for all rows (`--clock`) or a column of labels
+/// (`--clock-column`, returned as `None`); exactly one must be given. `example` is the
+/// label shown in the message when neither is.
+pub fn clock_choice(
+    clock: &Option<String>,
+    clock_column: &Option<String>,
+    example: &str,
+) -> Result<Option<crate::arrival::table::ClockSpec>> {
+    match (clock, clock_column) {
+        (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
+        (None, None) => bail!("say how the times are written: --clock {example} (for example) or --clock-column COLUMN"),
+        (Some(label), None) => Ok(Some(crate::arrival::table::ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?)),
+        (None, Some(_)) => Ok(None),
+    }
+}
+
+impl ObserverArgs {
+    /// Who observed each row: spacecraft columns, a site column, one site, or the geocentre.
+    pub fn observer_spec(&self, description: Option<&Description>) -> Result<crate::arrival::table::ObserverSpec> {
+        use crate::arrival::table::ObserverSpec;
+        if let Some(cols) = &self.spacecraft_columns {
+            let parts: Vec<String> = cols.split(',').map(|s| s.trim().to_string()).collect();
+            if parts.len() != 3 {
+                bail!("--spacecraft-columns wants three column names x,y,z, got '{cols}'");
+            }
+            return Ok(ObserverSpec::Spacecraft {
+                columns: [parts[0].clone(), parts[1].clone(), parts[2].clone()],
+                origin: match self.spacecraft_origin {
+                    OriginArg::Geocentric => crate::observer::PositionOrigin::Geocentric,
+                    OriginArg::Barycentric => crate::observer::PositionOrigin::Barycentric,
+                },
+            });
+        }
+        if let Some(column) = &self.site_column {
+            let Some(d) = description else {
+                bail!("--site-column needs --sites-file FILE describing the sites");
+            };
+            return Ok(ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() });
+        }
+        Ok(match self.single_site(description)? {
+            Some(site) => ObserverSpec::Site(site),
+            None => ObserverSpec::Geocentre,
+        })
+    }
+}

@@ -2,11 +2,11 @@
 
 use std::path::PathBuf;
 
-use anyhow::{Context, Result, bail};
+use anyhow::{Context, Result};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use crate::arrival::table::{TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
 use crate::pulsar::arrival_times::arrival_times_from_table;
 use crate::pulsar::model::TimingModel;
@@ -70,12 +70,7 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    let clock = match (&a.clock, &a.clock_column) {
-        (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
-        (None, None) => bail!("say how the times are written: --clock mjd_utc (for example) or --clock-column COLUMN"),
-        (Some(label), None) => Some(ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?),
-        (None, Some(_)) => None,
-    };
+    let clock = super::common::clock_choice(&a.clock, &a.clock_column, "mjd_utc")?;
     let inputs = [a.arrival_times.as_path(), a.model.as_path()];
     for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref()].into_iter().flatten() {
         refuse_overwriting_inputs(out, &inputs)?;
@@ -84,14 +79,7 @@ pub fn run(a: Args) -> Result<()> {
     let start = TimingModel::from_toml(&model_text, &a.model.display().to_string())?;
     let description = a.observer.description()?;
     let source = a.source.load(description.as_ref())?;
-    let observer = if let Some(column) = &a.observer.site_column {
-        let Some(d) = &description else { bail!("--site-column needs --sites-file FILE describing the sites") };
-        ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() }
-    } else if let Some(site) = a.observer.single_site(description.as_ref())? {
-        ObserverSpec::Site(site)
-    } else {
-        ObserverSpec::Geocentre
-    };
+    let observer = a.observer.observer_spec(description.as_ref())?;
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
     let mut text_columns = vec![a.time_column.as_str()];

@@ -4,11 +4,11 @@
 
 use std::path::PathBuf;
 
-use anyhow::{Result, bail};
+use anyhow::Result;
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
 use crate::survey::input::{LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times};
 use crate::table::{read_table, text_column};
@@ -75,14 +75,7 @@ impl LightCurveArgs {
         } else {
             let description = self.observer.description()?;
             let source = self.source.load(description.as_ref())?;
-            let observer = if let Some(column) = &self.observer.site_column {
-                let Some(d) = &description else { bail!("--site-column needs --sites-file FILE describing the sites") };
-                ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() }
-            } else if let Some(site) = self.observer.single_site(description.as_ref())? {
-                ObserverSpec::Site(site)
-            } else {
-                ObserverSpec::Geocentre
-            };
+            let observer = self.observer.observer_spec(description.as_ref())?;
             let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
             let request = TableRequest {
                 time_column: self.time_column.clone(),

@@ -9,7 +9,7 @@ use clap::Args as ClapArgs;
 use polars::prelude::{Column, DataFrame};
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use crate::arrival::table::{TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
 use crate::oc::{
     BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, bootstrap,
@@ -108,12 +108,7 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    let clock = match (&a.clock, &a.clock_column) {
-        (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
-        (None, None) => bail!("say how the times are written: --clock hjd_utc (for example) or --clock-column COLUMN"),
-        (Some(label), None) => Some(ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?),
-        (None, Some(_)) => None,
-    };
+    let clock = super::common::clock_choice(&a.clock, &a.clock_column, "hjd_utc")?;
     let models: Vec<ModelKind> = a
         .models
         .split(',')
@@ -142,14 +137,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let description = a.observer.description()?;
     let source = a.source.load(description.as_ref())?;
-    let observer = if let Some(column) = &a.observer.site_column {
-        let Some(d) = &description else { bail!("--site-column needs --sites-file FILE describing the sites") };
-        ObserverSpec::SiteColumn { column: column.clone(), sites: d.sites.clone() }
-    } else if let Some(site) = a.observer.single_site(description.as_ref())? {
-        ObserverSpec::Site(site)
-    } else {
-        ObserverSpec::Geocentre
-    };
+    let observer = a.observer.observer_spec(description.as_ref())?;
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
     let file = a.input.display().to_string();
