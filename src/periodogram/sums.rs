@@ -71,18 +71,27 @@ pub fn exact_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid) -> Trig
     out
 }
 
+/// Starting phasors cos/sin 2π f_k0 t and the per-step rotation cos/sin 2π Δf t of each point
+/// (the exact re-seed of a block of the recurrence).
+fn seed_rotations(t: &[f64], grid: &FrequencyGrid, k0: usize) -> (Vec<f64>, Vec<f64>, Vec<f64>, Vec<f64>) {
+    let f0 = grid.freq_per_day(k0);
+    let (mut c, mut s) = (Vec::with_capacity(t.len()), Vec::with_capacity(t.len()));
+    let (mut dc, mut ds) = (Vec::with_capacity(t.len()), Vec::with_capacity(t.len()));
+    for &ti in t {
+        let (a, b) = cis_cycles(f0 * ti);
+        c.push(a);
+        s.push(b);
+        let (a, b) = cis_cycles(grid.step_per_day * ti);
+        dc.push(a);
+        ds.push(b);
+    }
+    (c, s, dc, ds)
+}
+
 /// Sums for frequencies k0..k1 of the grid (one re-seeded block of the recurrence).
 fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
     let n = t.len().min(w.len()).min(h.len());
-    let mut c = vec![0.0; n];
-    let mut s = vec![0.0; n];
-    let mut dc = vec![0.0; n];
-    let mut ds = vec![0.0; n];
-    let f0 = grid.freq_per_day(k0);
-    for i in 0..n {
-        (c[i], s[i]) = cis_cycles(f0 * t[i]);
-        (dc[i], ds[i]) = cis_cycles(grid.step_per_day * t[i]);
-    }
+    let (mut c, mut s, dc, ds) = seed_rotations(&t[..n], grid, k0);
     let len = k1 - k0;
     let mut res: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; len]);
     let nl = n / LANES * LANES;
@@ -135,15 +144,7 @@ fn block(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: u
 unsafe fn block_avx(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, k0: usize, k1: usize) -> [Vec<f64>; 6] {
     use std::arch::x86_64::*;
     let n = t.len().min(w.len()).min(h.len());
-    let mut c = vec![0.0; n];
-    let mut s = vec![0.0; n];
-    let mut dc = vec![0.0; n];
-    let mut ds = vec![0.0; n];
-    let f0 = grid.freq_per_day(k0);
-    for i in 0..n {
-        (c[i], s[i]) = cis_cycles(f0 * t[i]);
-        (dc[i], ds[i]) = cis_cycles(grid.step_per_day * t[i]);
-    }
+    let (mut c, mut s, dc, ds) = seed_rotations(&t[..n], grid, k0);
     let len = k1 - k0;
     let mut res: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; len]);
     let nl = n / 4 * 4;
