@@ -178,8 +178,8 @@ impl<'a> BarycentricCorrector<'a> {
     /// what a legacy HJD added to the observed time (Eastman, Siverd & Gaudi 2010 eq. 2,
     /// without Shapiro or Einstein terms).
     pub fn heliocentric_delay_s(&self, clock: &Instant, observer: &Observer) -> Result<f64, ArrivalError> {
-        let tdb = self.observer_tdb(clock, observer)?.0;
-        let r_obs = self.observer_barycentric_km(&tdb, clock, observer)?.0;
+        let (tdb, _, tt) = self.observer_tdb(clock, observer)?;
+        let r_obs = self.observer_barycentric_km(&tdb, &tt, clock, observer)?.0;
         let sun = self.ephemeris.state(Body::Sun, &tdb)?;
         let rel = [r_obs[0] - sun.position_km[0], r_obs[1] - sun.position_km[1], r_obs[2] - sun.position_km[2]];
         Ok(roemer_delay_s(&rel, &self.source.direction_at(&tdb).unit))
@@ -220,9 +220,9 @@ impl<'a> BarycentricCorrector<'a> {
         Ok((tdb, clock_to_tt, tt))
     }
 
-    /// Barycentric position of the observer, km, at observer TDB `tdb` (`clock` is the same
-    /// instant on any scale, used for UTC/UT1 at a site).
-    fn observer_barycentric_km(&self, tdb: &Instant, clock: &Instant, observer: &Observer) -> Result<([f64; 3], bool), ArrivalError> {
+    /// Barycentric position of the observer, km, at observer TDB `tdb` (`tt` and `clock` are
+    /// the same instant on TT and on the input scale, used for the Earth's rotation at a site).
+    fn observer_barycentric_km(&self, tdb: &Instant, tt: &Instant, clock: &Instant, observer: &Observer) -> Result<([f64; 3], bool), ArrivalError> {
         let earth = || self.ephemeris.state(Body::Earth, tdb);
         Ok(match observer {
             Observer::Geocentre => (earth()?.position_km, false),
@@ -238,9 +238,8 @@ impl<'a> BarycentricCorrector<'a> {
                     TimeError::UtcBefore1960 { .. } => ArrivalError::SiteBeforeUtc(crate::ephemeris::describe_instant(clock)),
                     other => ArrivalError::Time(other),
                 })?;
-                let tt = self.converter.convert(clock, TimeScale::Tt)?;
                 let (eop, from_table) = self.orientation.at_utc_mjd(utc.mjd_f64());
-                let g = site.gcrs_state(&tt, &utc, &eop);
+                let g = site.gcrs_state(tt, &utc, &eop);
                 let e = earth()?.position_km;
                 ([e[0] + g.position_km[0], e[1] + g.position_km[1], e[2] + g.position_km[2]], from_table)
             }
@@ -249,7 +248,7 @@ impl<'a> BarycentricCorrector<'a> {
 
     fn correct_observer_time(&self, time: &Instant, observer: &Observer, helio_removed: f64) -> Result<Corrected, ArrivalError> {
         let (tdb, clock_to_tt, tt) = self.observer_tdb(time, observer)?;
-        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, time, observer)?;
+        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, time, observer)?;
         let delays = self.delays_at(&tdb, &r_obs, clock_to_tt, tdb.seconds_since(&tt), helio_removed)?;
         Ok(Corrected {
             bjd_tdb: tdb.add_seconds(delays.barycentric_s()),

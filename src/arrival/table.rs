@@ -80,6 +80,19 @@ pub struct TableRequest {
     pub observer: ObserverSpec,
 }
 
+impl TableRequest {
+    /// Columns that must be read as text (times, clock labels, site names) so that no digit
+    /// or label is altered by type inference.
+    pub fn text_columns(&self) -> Vec<&str> {
+        let mut columns = vec![self.time_column.as_str()];
+        columns.extend(self.clock_column.as_deref());
+        if let ObserverSpec::SiteColumn { column, .. } = &self.observer {
+            columns.push(column);
+        }
+        columns
+    }
+}
+
 /// Summary of a table correction.
 #[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
 pub struct TableSummary {

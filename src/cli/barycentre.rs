@@ -75,16 +75,9 @@ pub fn run(a: Args) -> Result<()> {
         source.clone(),
         options,
     );
-    let mut text_columns = vec![a.time_column.as_str()];
-    if let Some(c) = &a.clock_column {
-        text_columns.push(c);
-    }
-    if let Some(c) = &a.observer.site_column {
-        text_columns.push(c);
-    }
-    let file = a.input.display().to_string();
-    let df = read_table(&a.input, &text_columns)?;
     let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let file = a.input.display().to_string();
+    let df = read_table(&a.input, &request.text_columns())?;
     let (mut out, summary) = correct_table(&df, &file, &request, &corrector)?;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "barycentre")

@@ -82,16 +82,9 @@ pub fn run(a: Args) -> Result<()> {
     let observer = a.observer.observer_spec(description.as_ref())?;
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
-    let mut text_columns = vec![a.time_column.as_str()];
-    if let Some(c) = &a.clock_column {
-        text_columns.push(c);
-    }
-    if let Some(c) = &a.observer.site_column {
-        text_columns.push(c);
-    }
-    let file = a.arrival_times.display().to_string();
-    let df = read_table(&a.arrival_times, &text_columns)?;
     let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let file = a.arrival_times.display().to_string();
+    let df = read_table(&a.arrival_times, &request.text_columns())?;
     let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
     let toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
     let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()))?;

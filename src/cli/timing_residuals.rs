@@ -141,12 +141,10 @@ pub fn run(a: Args) -> Result<()> {
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
     let file = a.input.display().to_string();
-    let mut text_columns = vec![a.time_column.as_str()];
-    for c in [&a.clock_column, &a.observer.site_column, &a.kind_column, &a.origin_column].into_iter().flatten() {
-        text_columns.push(c);
-    }
-    let df = read_table(&a.input, &text_columns)?;
     let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let mut text_columns = request.text_columns();
+    text_columns.extend([&a.kind_column, &a.origin_column].into_iter().flatten().map(String::as_str));
+    let df = read_table(&a.input, &text_columns)?;
     let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
     let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
