@@ -11,6 +11,7 @@ pub mod extract_frequencies;
 pub mod find_periods;
 pub mod fold_curve;
 pub mod light_curve_input;
+pub mod measure_light_time;
 pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
@@ -52,6 +53,8 @@ pub enum Command {
     SearchPulsations(search_pulsations::Args),
     /// Cycle numbers, O–C and fitted ephemeris models (period change, light-time companion) from event timings.
     TimingResiduals(timing_residuals::Args),
+    /// Measure the light time per au (and c) from timings never corrected to the barycentre.
+    MeasureLightTime(measure_light_time::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -65,6 +68,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ConvertTime(a) => convert_time::run(a),
         Command::TimingResiduals(a) => timing_residuals::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::MeasureLightTime(a) => measure_light_time::run(a),
         Command::FindPeriods(a) => find_periods::run(a),
         Command::FoldCurve(a) => fold_curve::run(a),
         Command::ExtractFrequencies(a) => extract_frequencies::run(a),
