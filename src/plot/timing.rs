@@ -77,7 +77,7 @@ pub fn oc_diagram(title: &str, series: &OcSeries, fit: &ModelFit, epoch_jd: f64)
         title: title.to_string(),
         panels: vec![
             Panel { x_label: "BJD_TDB − 2400000 (d)".into(), y_label: "O − C (d)".into(), layers: main_layers, invert_y: false, height_weight: 3 },
-            Panel { x_label: "BJD_TDB − 2400000 (d)".into(), y_label: "residual O − C − model (d)".into(), layers: resid_layers, invert_y: false, height_weight: 1 },
+            Panel { x_label: "BJD_TDB − 2400000 (d)".into(), y_label: "O − C − model (d)".into(), layers: resid_layers, invert_y: false, height_weight: 1 },
         ],
         width: 1100,
         height: 800,
