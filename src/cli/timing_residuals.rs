@@ -87,6 +87,14 @@ pub struct Args {
     /// Rescale each origin's errors to reduced χ² = 1.
     #[arg(long)]
     pub rescale_per_source: bool,
+    /// Down-weight outlying timings with Huber's robust loss (iteratively reweighted least
+    /// squares); the notes list the rows that lost more than half their weight.
+    #[arg(long)]
+    pub robust_loss: bool,
+    /// Tuning constant of the robust loss, in units of each timing's 1σ (1.345: 95 %
+    /// efficiency for Gaussian errors).
+    #[arg(long, value_name = "K", default_value_t = crate::fit::robust::HUBER_DEFAULT_K, requires = "robust_loss")]
+    pub robust_tuning_constant: f64,
     /// Bootstrap resamples (0: covariance errors only).
     #[arg(long, value_name = "N", default_value_t = 0)]
     pub bootstrap: usize,
@@ -192,7 +200,12 @@ pub fn run(a: Args) -> Result<()> {
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
     let series = assign_cycles(&timings, &eph, &CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles }).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-    let options = FitOptions { rescale_per_source: a.rescale_per_source, companion_period_range_d: range, ..Default::default() };
+    let options = FitOptions {
+        rescale_per_source: a.rescale_per_source,
+        companion_period_range_d: range,
+        huber_k: a.robust_loss.then_some(a.robust_tuning_constant),
+        ..Default::default()
+    };
     let mut fits = Vec::new();
     for &m in &models {
         fits.push(fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"))?);

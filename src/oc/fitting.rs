@@ -28,11 +28,14 @@ pub struct FitOptions {
     pub companion_period_range_d: Option<(f64, f64)>,
     /// Periodogram peaks used as starting points.
     pub peaks: usize,
+    /// Huber robust loss with this tuning constant (normalised residuals beyond k are
+    /// down-weighted by k/|r|; `fit::robust`), or `None` for plain least squares.
+    pub huber_k: Option<f64>,
 }
 
 impl Default for FitOptions {
     fn default() -> Self {
-        FitOptions { rescale_per_source: false, companion_period_range_d: None, peaks: 3 }
+        FitOptions { rescale_per_source: false, companion_period_range_d: None, peaks: 3, huber_k: None }
     }
 }
 
@@ -473,6 +476,40 @@ pub fn fit_model(series: &OcSeries, kind: ModelKind, options: &FitOptions) -> Re
             .collect();
     }
     let mut notes = Vec::new();
+    if let Some(k) = options.huber_k {
+        if !(k.is_finite() && k > 0.0) {
+            return Err(OcError::Invalid(format!("the Huber tuning constant must be > 0, got {k}")));
+        }
+        // Iteratively reweighted least squares (Huber 1964), from the weights used so far;
+        // later refits start from the previous solution's companion search again.
+        let base = weights.clone();
+        let mut factors = vec![1.0; series.len()];
+        for _ in 0..8 {
+            let normalised: Vec<f64> = (0..series.len())
+                .map(|i| (series.oc_d[i] - evaluate(kind, &params, series.cycle[i], series.time_d[i])) * base[i].sqrt())
+                .collect();
+            let new = crate::fit::robust::huber_weight_factors(&normalised, k);
+            let change = new.iter().zip(&factors).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+            factors = new;
+            for i in 0..series.len() {
+                weights[i] = base[i] * factors[i];
+            }
+            let refit = fit_with_weights(series, kind, &weights, options)?;
+            params = refit.0;
+            cov = refit.1;
+            chi2 = refit.2;
+            if change < 1e-3 {
+                break;
+            }
+        }
+        let down: Vec<String> = (0..series.len()).filter(|&i| factors[i] < 0.5).map(|i| series.row[i].to_string()).collect();
+        notes.push(format!(
+            "Huber robust loss (k = {k}): {} timings down-weighted, {} of them below half weight{}",
+            factors.iter().filter(|f| **f < 1.0).count(),
+            down.len(),
+            if down.is_empty() { String::new() } else { format!(" (rows {})", down.join(", ")) }
+        ));
+    }
     for c in 0..kind.companions() {
         let first = kind.n_polynomial() + 5 * c;
         let which = if c == 0 { "companion" } else { "second companion" };
