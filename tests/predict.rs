@@ -162,10 +162,10 @@ fn events_for(source: Source, start: &str, end: &str) -> Vec<skyclock::predict::
 /// 180° from the Sun.
 #[test]
 fn sun_caution_triggers_near_the_sun_only() {
-    let tdb = Instant::from_jd_two_part(TimeScale::Tdb, 2_461_200.5, 0.0); // 2026-06-26
+    let tdb = Instant::from_jd_two_part(TimeScale::Tdb, 2_461_394.5, 0.0); // 2026-12-20
     let (ra, dec) = sun_ra_dec_deg(&tdb);
     let at_sun = Source::fixed_degrees("at-sun", ra, dec).unwrap();
-    let ev = events_for(at_sun, "2026-06-25T12:00", "2026-06-27T12:00");
+    let ev = events_for(at_sun, "2026-12-19T12:00", "2026-12-21T12:00");
     assert!(ev.len() >= 8, "{}", ev.len());
     for e in &ev {
         assert!(e.sky.sun_separation_deg < 3.0, "{}", e.sky.sun_separation_deg);
@@ -175,17 +175,17 @@ fn sun_caution_triggers_near_the_sun_only() {
     }
     // 10° and 20° north of the Sun along its hour circle; 180°: the antisolar point.
     let near = Source::fixed_degrees("near", ra, dec + 10.0).unwrap();
-    for e in events_for(near, "2026-06-25T12:00", "2026-06-27T12:00") {
+    for e in events_for(near, "2026-12-19T12:00", "2026-12-21T12:00") {
         assert!((9.0..11.5).contains(&e.sky.sun_separation_deg), "{}", e.sky.sun_separation_deg);
         assert!(e.sun_caution.is_some() && !e.observable);
     }
     let clear = Source::fixed_degrees("clear", ra, dec + 20.0).unwrap();
-    for e in events_for(clear, "2026-06-25T12:00", "2026-06-27T12:00") {
+    for e in events_for(clear, "2026-12-19T12:00", "2026-12-21T12:00") {
         assert!(e.sky.sun_separation_deg > 18.0);
         assert!(e.sun_caution.is_none());
     }
     let opposite = Source::fixed_degrees("opposite", (ra + 180.0) % 360.0, -dec).unwrap();
-    let ev = events_for(opposite, "2026-06-25T12:00", "2026-06-27T12:00");
+    let ev = events_for(opposite, "2026-12-19T12:00", "2026-12-21T12:00");
     assert!(ev.iter().all(|e| e.sun_caution.is_none() && e.sky.sun_separation_deg > 175.0));
     // At the antisolar point the target is high around local midnight: some events observable.
     assert!(ev.iter().any(|e| e.observable), "no observable event at opposition");
@@ -204,7 +204,7 @@ fn site_clock_time_returns_to_the_predicted_bjd() {
     let conv = converter();
     let corrector = BarycentricCorrector::new(embedded(), conv, EarthOrientation::Ignored, source, DelayOptions::default());
     let obs = Observer::Site(quarry_hill());
-    assert_eq!(ev.len(), 16, "3 days of a 0.377-d period with secondaries");
+    assert!((15..=17).contains(&ev.len()), "3 days of a 0.377-d period with secondaries: {}", ev.len());
     for e in &ev {
         let back = corrector.correct(&e.utc, &obs, ReferencePoint::Observer).unwrap();
         assert!(back.bjd_tdb.seconds_since(&e.bjd_tdb).abs() < 1e-6);
@@ -269,8 +269,12 @@ fn command_round_trip_from_a_timing_summary() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     let events = v["events"].as_array().unwrap();
-    // 10 days / 0.612 d per cycle, two kinds: 32 or 33 events.
-    assert!((32..=33).contains(&events.len()), "{}", events.len());
+    // The σ written is the propagation of the summary's quadratic covariance.
+    let sv: serde_json::Value = serde_json::from_slice(&std::fs::read(&summary).unwrap()).unwrap();
+    let model = sv["models"].as_array().unwrap().iter().find(|m| m["model"] == "quadratic").unwrap();
+    let c: Vec<f64> = model["covariance"].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
+    // 10 days / 0.612 d per cycle, two kinds: 32 to 34 events.
+    assert!((32..=34).contains(&events.len()), "{}", events.len());
     let table = std::fs::read_to_string(&out).unwrap();
     assert_eq!(table.lines().count(), events.len() + 1);
     let header: Vec<&str> = table.lines().next().unwrap().split(',').collect();
@@ -279,16 +283,17 @@ fn command_round_trip_from_a_timing_summary() {
     }
     let prov = std::fs::read_to_string(d.join("upcoming.csv.provenance.json")).unwrap();
     assert!(prov.contains("predict-events") && prov.contains("DE440") && prov.contains("quadratic model"), "{prov}");
-    // Times follow the true ephemeris within 5σ; σ grows with the cycle.
-    let mut last_sigma = 0.0;
+    // Times follow the true ephemeris within 5σ.
     for e in events {
         let cycle = e["cycle"].as_f64().unwrap();
         let bjd: f64 = e["bjd_tdb"].as_str().unwrap().parse().unwrap();
         let truth = t0 + p * cycle + q * cycle * cycle;
         let sigma = e["sigma_d"].as_f64().unwrap();
-        assert!(sigma > 0.0 && sigma >= last_sigma, "{sigma} after {last_sigma}");
+        assert!(sigma > 1e-6 && sigma < 1e-3, "{sigma}");
+        let g = [1.0, cycle, cycle * cycle];
+        let var: f64 = (0..3).map(|i| (0..3).map(|j| g[i] * c[i * 3 + j] * g[j]).sum::<f64>()).sum();
+        assert!((sigma / var.sqrt() - 1.0).abs() < 1e-9, "{sigma} vs {}", var.sqrt());
         assert!((bjd - truth).abs() < 5.0 * sigma + 1e-6, "cycle {cycle}: {bjd} vs {truth} ± {sigma}");
-        last_sigma = sigma;
     }
     // The output may not replace an input: the summary is left untouched.
     let before = std::fs::read(&summary).unwrap();
@@ -301,7 +306,7 @@ fn command_round_trip_from_a_timing_summary() {
         .output()
         .unwrap();
     assert_eq!(o.status.code(), Some(1));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("residuals.json"));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("residuals.json") && String::from_utf8_lossy(&o.stderr).contains("also an input"));
     assert_eq!(std::fs::read(&summary).unwrap(), before);
     // The human listing.
     let o = skyclock()
@@ -320,7 +325,7 @@ fn command_round_trip_from_a_timing_summary() {
 #[test]
 fn command_prints_the_sun_caution() {
     let d = workdir("caution");
-    let tdb = Instant::from_jd_two_part(TimeScale::Tdb, 2_461_100.5, 0.0); // 2026-03-18
+    let tdb = Instant::from_jd_two_part(TimeScale::Tdb, 2_461_117.5, 0.0); // 2026-03-18
     let (ra, dec) = sun_ra_dec_deg(&tdb);
     let out = d.join("near-sun.parquet");
     let o = skyclock()
