@@ -338,6 +338,15 @@ fn command_prints_the_sun_caution() {
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(err.contains("cannot be observed safely"), "{err}");
     assert!(String::from_utf8_lossy(&o.stdout).contains("CAUTION"));
+    assert!(!err.contains("leap-second table"), "{err}");
+    // Far beyond the built-in leap-second table the UTC times carry a warning.
+    let o = skyclock()
+        .args(["predict-events", "--ra", "100.0", "--dec", "20.0", SITE])
+        .args(["--epoch-bjd-tdb", "2461000.25", "--period-d", "0.9", "--from", "2034-01-01", "--until", "2034-01-03"])
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("leap-second table"), "{}", String::from_utf8_lossy(&o.stderr));
     assert!(std::fs::metadata(&out).unwrap().len() > 0);
 }
 

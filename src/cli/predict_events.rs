@@ -142,6 +142,11 @@ pub fn run(a: Args) -> Result<()> {
     for c in &cautions {
         eprintln!("{c}");
     }
+    let beyond: Vec<i64> = events.iter().filter_map(|e| leap.days_beyond_horizon(e.utc.mjd_day())).collect();
+    let leap_warning = super::common::leap_second_warning(beyond.len(), beyond.iter().copied().max().unwrap_or(0), &leap);
+    if let Some(w) = &leap_warning {
+        eprintln!("{w}");
+    }
     if a.only_observable {
         events.retain(|e| e.observable && e.window_observable.unwrap_or(true));
     }
@@ -202,7 +207,7 @@ pub fn run(a: Args) -> Result<()> {
             .collect();
         let summary = serde_json::json!({
             "event_ephemeris": ephemeris_text, "site": site.name, "source": source.name,
-            "from_utc": a.from, "until_utc": a.until, "events": rows, "cautions": cautions,
+            "from_utc": a.from, "until_utc": a.until, "events": rows, "cautions": cautions, "warnings": leap_warning.iter().collect::<Vec<_>>(),
             "output": a.output.as_ref().map(|p| p.display().to_string()),
         });
         println!("{}", serde_json::to_string_pretty(&summary)?);
