@@ -189,10 +189,24 @@ fn sun_caution_triggers_near_the_sun_only() {
     assert!(ev.iter().all(|e| e.sun_caution.is_none() && e.sky.sun_separation_deg > 175.0));
     // At the antisolar point the target is high around local midnight: some events observable.
     assert!(ev.iter().any(|e| e.observable), "no observable event at opposition");
-    // Observable events satisfy the limits.
+    // Observable events satisfy the limits; a fully observable window satisfies them at
+    // both of its ends too (duration 0.1 d, centred on the event).
+    let conv = converter();
+    let sky = SkyGeometry::new(embedded(), conv, EarthOrientation::Ignored);
+    let opposite = Source::fixed_degrees("opposite", (ra + 180.0) % 360.0, -dec).unwrap();
     for e in ev.iter().filter(|e| e.observable) {
         assert!(e.sky.target.altitude_deg >= 30.0 && e.sky.sun.altitude_deg <= -12.0);
     }
+    let mut windows = 0;
+    for e in ev.iter().filter(|e| e.window_observable == Some(true)) {
+        for half in [-0.05, 0.05] {
+            let s = sky.snapshot(&quarry_hill(), &e.utc.add_seconds(half * 86_400.0), &opposite).unwrap();
+            assert!(s.target.altitude_deg >= 30.0 && s.sun.altitude_deg <= -12.0, "{half}: {s:?}");
+        }
+        windows += 1;
+    }
+    assert!(windows > 0);
+    assert!(ev.iter().all(|e| e.observable || e.window_observable != Some(true)));
 }
 
 /// The clock time at the site maps back to the event's BJD_TDB through the forward
@@ -348,6 +362,33 @@ fn command_prints_the_sun_caution() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     assert!(String::from_utf8_lossy(&o.stderr).contains("leap-second table"), "{}", String::from_utf8_lossy(&o.stderr));
     assert!(std::fs::metadata(&out).unwrap().len() > 0);
+}
+
+/// A quadratic ephemeris from the command line: T(E) = T₀ + P·E + ½(dP/dE)·E² (common
+/// practice), σ² = σ_T0² + E²σ_P² + E⁴(½σ_dP/dE)² for independent errors.
+#[test]
+fn command_quadratic_ephemeris_from_values() {
+    let (t0, p, dpde) = (2_458_000.4_f64, 1.3_f64, 4e-9_f64);
+    let (s0, sp, sd) = (2e-4_f64, 1e-7_f64, 1e-10_f64);
+    let o = skyclock()
+        .args(["predict-events", SITE])
+        .args(STAR)
+        .args(["--epoch-bjd-tdb", "2458000.4", "--period-d", "1.3", "--period-change-per-cycle-d", "4e-9"])
+        .args(["--epoch-sigma-d", "2e-4", "--period-sigma-d", "1e-7", "--period-change-per-cycle-sigma-d", "1e-10"])
+        .args(["--from", "2026-05-01", "--until", "2026-05-08", "--json"])
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let events = v["events"].as_array().unwrap();
+    assert!((5..=6).contains(&events.len()), "{}", events.len());
+    for e in events {
+        let cycle = e["cycle"].as_f64().unwrap();
+        let bjd: f64 = e["bjd_tdb"].as_str().unwrap().parse().unwrap();
+        assert!((bjd - (t0 + p * cycle + 0.5 * dpde * cycle * cycle)).abs() < 1e-8, "cycle {cycle}");
+        let want = (s0 * s0 + (cycle * sp).powi(2) + (0.5 * sd * cycle * cycle).powi(2)).sqrt();
+        assert!((e["sigma_d"].as_f64().unwrap() / want - 1.0).abs() < 1e-9);
+    }
 }
 
 #[test]
