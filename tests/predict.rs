@@ -206,6 +206,23 @@ fn sun_caution_triggers_near_the_sun_only() {
         windows += 1;
     }
     assert!(windows > 0);
+    // A Moon limit removes exactly the events closer to the Moon than it.
+    let limit = 50.0; // the Moon is 38°–61° from this target over these days
+    let conv = converter();
+    let start = parse_time("2026-12-19T12:00", TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
+    let end = parse_time("2026-12-21T12:00", TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
+    let eph = EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
+    let corrector = BarycentricCorrector::new(embedded(), conv.clone(), EarthOrientation::Ignored, opposite.clone(), DelayOptions::default());
+    let options = PredictionOptions { event_duration_d: Some(0.1), min_moon_separation_deg: limit, ..Default::default() };
+    let limited = predict_events(&eph, &[EventKind::Primary, EventKind::Secondary], &start, &end, &quarry_hill(), &corrector, &sky, &options).unwrap();
+    assert_eq!(limited.len(), ev.len());
+    let (mut kept, mut removed) = (0, 0);
+    for (a, b) in ev.iter().zip(&limited) {
+        assert_eq!(b.observable, a.observable && a.sky.moon_separation_deg >= limit);
+        kept += usize::from(b.observable);
+        removed += usize::from(a.observable && !b.observable);
+    }
+    assert!(kept > 0 && removed > 0, "kept {kept}, removed {removed}");
     assert!(ev.iter().all(|e| e.observable || e.window_observable != Some(true)));
 }
 

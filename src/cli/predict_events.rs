@@ -33,7 +33,8 @@ const EXAMPLE: &str = "Example (invented star and site):
   Altitudes are geometric (no refraction). Twilight classes: day (Sun above -0.833°),
   civil (to -6°), nautical (to -12°), astronomical (to -18°), night. An event is
   observable when the target is at least --min-target-altitude-deg high, the Sun at most
-  --max-sun-altitude-deg, and the target at least 15° from the Sun. Events with the target
+  --max-sun-altitude-deg, the Moon at least --min-moon-separation-deg away (default: no
+  limit; the Moon is computed to ~0.3°), and the target at least 15° from the Sun. Events with the target
   closer than 15° to the Sun carry a caution in the table and on stderr: they cannot be
   observed safely and no optics should be pointed near the Sun.
 
@@ -85,6 +86,9 @@ pub struct Args {
     /// Highest acceptable Sun altitude, degrees (-12: end of nautical twilight).
     #[arg(long, value_name = "DEG", default_value_t = -12.0, allow_hyphen_values = true)]
     pub max_sun_altitude_deg: f64,
+    /// Smallest acceptable distance between target and Moon, degrees (0: no limit).
+    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    pub min_moon_separation_deg: f64,
     /// Full duration of the event, hours: the whole window centred on the event is checked.
     #[arg(long, value_name = "HOURS")]
     pub event_duration_hours: Option<f64>,
@@ -131,6 +135,7 @@ pub fn run(a: Args) -> Result<()> {
         max_sun_altitude_deg: a.max_sun_altitude_deg,
         event_duration_d: a.event_duration_hours.map(|h| h / 24.0),
         sun_caution_deg: a.sun_caution_deg,
+        min_moon_separation_deg: a.min_moon_separation_deg,
     };
     let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
     let sky = SkyGeometry::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone());

@@ -9,8 +9,8 @@
 //! Each event's BJD_TDB is carried back to the clock time at the site (UTC) with the
 //! inverse barycentric correction ([`BarycentricCorrector::arrival_at_observer`]), and the
 //! sky there is described by [`SkyGeometry`]. An event is observable when the target is at
-//! least `min_target_altitude_deg` high and the Sun at most `max_sun_altitude_deg`; with an
-//! event duration the whole window is checked every ≤ 10 minutes. An event with the target
+//! least `min_target_altitude_deg` high, the Sun at most `max_sun_altitude_deg` and the
+//! Moon at least `min_moon_separation_deg` away; with an event duration the whole window is checked every ≤ 10 minutes. An event with the target
 //! within [`SUN_CAUTION_DEG`] (or a larger chosen limit) of the Sun is never observable and
 //! carries a caution message.
 
@@ -170,6 +170,9 @@ pub struct PredictionOptions {
     /// Angular distance from the Sun inside which an event carries the caution, degrees;
     /// at least [`SUN_CAUTION_DEG`].
     pub sun_caution_deg: f64,
+    /// Smallest acceptable angular distance from the Moon, degrees (default 0: no limit).
+    /// The Moon is computed to ~0.3°.
+    pub min_moon_separation_deg: f64,
 }
 
 impl Default for PredictionOptions {
@@ -179,6 +182,7 @@ impl Default for PredictionOptions {
             max_sun_altitude_deg: -12.0,
             event_duration_d: None,
             sun_caution_deg: SUN_CAUTION_DEG,
+            min_moon_separation_deg: 0.0,
         }
     }
 }
@@ -196,6 +200,9 @@ impl PredictionOptions {
             && !(d.is_finite() && d > 0.0 && d <= 10.0)
         {
             return Err(PredictError::BadOption(format!("the event duration must be a positive number of days up to 10, got {d}")));
+        }
+        if !(0.0..=180.0).contains(&self.min_moon_separation_deg) {
+            return Err(PredictError::BadOption(format!("the minimum Moon separation must lie in 0..180°, got {}", self.min_moon_separation_deg)));
         }
         if !(self.sun_caution_deg >= SUN_CAUTION_DEG && self.sun_caution_deg <= 180.0) {
             return Err(PredictError::BadOption(format!(
@@ -307,6 +314,7 @@ pub fn predict_events(
             s.target.altitude_deg >= options.min_target_altitude_deg
                 && s.sun.altitude_deg <= options.max_sun_altitude_deg
                 && s.sun_separation_deg >= options.sun_caution_deg
+                && s.moon_separation_deg >= options.min_moon_separation_deg
         };
         let observable = ok(&snap);
         let mut min_sun_sep = snap.sun_separation_deg;
