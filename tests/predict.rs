@@ -413,7 +413,10 @@ fn bad_inputs_fail_with_clear_messages() {
     let d = workdir("bad");
     let base = |extra: &[&str]| {
         let mut c = skyclock();
-        c.arg("predict-events").args(STAR).args(["--epoch-bjd-tdb", "2461000.25", "--period-d", "0.9"]).args(extra);
+        c.arg("predict-events").args(STAR).args(["--epoch-bjd-tdb", "2461000.25"]).args(extra);
+        if !extra.iter().any(|a| a.starts_with("--period-d")) {
+            c.args(["--period-d", "0.9"]);
+        }
         c.output().unwrap()
     };
     let cases: &[(&[&str], &[&str])] = &[
@@ -423,6 +426,8 @@ fn bad_inputs_fail_with_clear_messages() {
         (&["--from", "2026-02-30", "--until", "2026-03-10", SITE], &["--from", "2026-02-30"]),
         (&["--from", "2026-03-01", "--until", "2026-03-10", "--sun-caution-deg", "5", SITE], &["cannot be below 15"]),
         (&["--from", "2026-03-01", "--until", "2026-03-10", "--min-target-altitude-deg", "95", SITE], &["-90..90"]),
+        (&["--from", "2026-03-01", "--until", "2027-03-10", "--period-d", "0.0001", SITE], &["more than the limit", "narrow the date range"]),
+        (&["--from", "2026-03-01", "--until", "2026-03-10", "--period-d=-2", SITE], &["period must be a positive"]),
     ];
     for (args, want) in cases {
         let o = base(args);

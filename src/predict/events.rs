@@ -251,6 +251,7 @@ pub fn sun_caution_message(separation_deg: f64) -> String {
 /// compared as TDB), seen from `site`: clock time, uncertainty and observing conditions,
 /// in time order. `corrector` carries the source, ephemeris and leap seconds used for the
 /// inverse barycentric correction; `sky` computes the conditions.
+#[allow(clippy::too_many_arguments)]
 pub fn predict_events(
     ephemeris: &EventEphemeris,
     kinds: &[EventKind],
