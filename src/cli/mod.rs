@@ -15,6 +15,7 @@ pub mod measure_light_time;
 pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
+pub mod predict_events;
 pub mod survey_batch;
 pub mod timing_residuals;
 
@@ -55,6 +56,8 @@ pub enum Command {
     TimingResiduals(timing_residuals::Args),
     /// Measure the light time per au (and c) from timings never corrected to the barycentre.
     MeasureLightTime(measure_light_time::Args),
+    /// Upcoming events of an ephemeris at a site: UTC, uncertainty, altitudes, twilight, Moon, Sun caution.
+    PredictEvents(predict_events::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -67,6 +70,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ObserverTime(a) => observer_time::run(a),
         Command::ConvertTime(a) => convert_time::run(a),
         Command::TimingResiduals(a) => timing_residuals::run(a),
+        Command::PredictEvents(a) => predict_events::run(a),
         Command::Demo(a) => demo::run(a),
         Command::MeasureLightTime(a) => measure_light_time::run(a),
         Command::FindPeriods(a) => find_periods::run(a),
