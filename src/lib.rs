@@ -21,3 +21,4 @@ pub mod survey;
 pub mod plot;
 pub mod pulsar;
 pub mod oc;
+pub mod minima;

@@ -15,6 +15,7 @@ pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
 pub mod survey_batch;
+pub mod time_events;
 pub mod timing_residuals;
 
 use clap::{Parser, Subcommand};
@@ -52,6 +53,8 @@ pub enum Command {
     SearchPulsations(search_pulsations::Args),
     /// Cycle numbers, O–C and fitted ephemeris models (period change, light-time companion) from event timings.
     TimingResiduals(timing_residuals::Args),
+    /// Times of minimum (or maximum) of every event in a light curve around a linear ephemeris.
+    TimeEvents(time_events::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -64,6 +67,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ObserverTime(a) => observer_time::run(a),
         Command::ConvertTime(a) => convert_time::run(a),
         Command::TimingResiduals(a) => timing_residuals::run(a),
+        Command::TimeEvents(a) => time_events::run(a),
         Command::Demo(a) => demo::run(a),
         Command::FindPeriods(a) => find_periods::run(a),
         Command::FoldCurve(a) => fold_curve::run(a),
