@@ -65,8 +65,9 @@ fn kwee_van_woerden_error_against_the_scatter_of_repeated_trials() {
     // compared with the actual scatter of the centres. The literature (from memory: e.g.
     // Mikulášek et al. and others revisiting the method) finds the KvW error unreliable — it
     // is often too small for few points or correlated noise and depends on the choice of Z;
-    // we assert only that it is within a factor of 2 of the truth for white noise and many
-    // points, and record the measured ratio in docs/minima.md.
+    // with Z = N/4 as in the paper it over-estimates the white-noise scatter here (measured
+    // 2026-12-02: ratio 1.21 at 80 points, 1.38 at 24 points, 76 % and 80 % inside 1σ); we
+    // assert the ratio within 0.8–1.8 and record it in docs/minima.md.
     let trials = 300;
     for (n, label) in [(80usize, "80 points"), (24, "24 points")] {
         let mut offsets = Vec::new();
@@ -93,7 +94,7 @@ fn kwee_van_woerden_error_against_the_scatter_of_repeated_trials() {
             100.0 * inside
         );
         assert!(mean.abs() < 4.0 * scatter / (trials as f64).sqrt() + 1e-6, "bias {mean} d");
-        assert!((0.5..2.0).contains(&ratio), "{label}: KvW error / scatter = {ratio}");
+        assert!((0.8..1.8).contains(&ratio), "{label}: KvW error / scatter = {ratio}");
     }
 }
 
@@ -276,6 +277,9 @@ fn time_events_bad_input_names_file_column_and_rows() {
     let (_, _, _, t, v) = long_curve(3);
     write_curve(&input, &t, &v);
     let out = d.join("out.csv");
+    let (code, help, _) = run(&["time-events", "--help"]);
+    assert_eq!(code, 0);
+    assert!(help.contains("Example (invented star)") && help.contains("--method kwee-van-woerden"), "{help}");
     let base = ["time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--epoch-bjd-tdb", "2460300.1234", "--period-d", "0.61", "--half-width-d", "0.05", "--output", out.to_str().unwrap()];
     // Missing column.
     let mut args = base.to_vec();
