@@ -307,3 +307,57 @@ fn time_events_bad_input_names_file_column_and_rows() {
     assert_ne!(code, 0);
     assert!(err.contains("kq_bad.csv") && err.contains("row 5") && err.contains("mag") && err.contains("faint"), "{err}");
 }
+
+#[test]
+fn time_events_times_maxima_of_an_invented_pulsator_in_flux_to_parquet() {
+    // Invented pulsator: period 0.4 d, symmetric flux pulses, nightly runs of 0.35 d; the
+    // epoch is a time of maximum. Maxima are timed with a degree-4 even polynomial and the
+    // Parquet table goes into timing-residuals as kind 'maximum'.
+    let d = dir("pulsator");
+    let p = 0.4;
+    let mut rng = SeededRng::new(99);
+    let mut s = String::from("bjd,flux,flux_err\n");
+    for night in 0..12 {
+        let mut x = night as f64;
+        while x < night as f64 + 0.35 {
+            let c = 0.0777 + ((x - 0.0777) / p).round() * p;
+            let flux = 1.0 + 0.5 * (-0.5 * ((x - c) / 0.03).powi(2)).exp() + 0.004 * rng.normal();
+            s.push_str(&format!("{:.8},{flux:.6},0.004\n", 2_460_500.0 + x));
+            x += 0.0015 + 0.001 * rng.uniform();
+        }
+    }
+    let input = d.join("rr_invented.csv");
+    std::fs::write(&input, s).unwrap();
+    let events = d.join("rr_maxima.parquet");
+    let (code, out, err) = run(&[
+        "time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "flux", "--error-column", "flux_err",
+        "--brightness", "flux", "--event-kind", "maximum", "--epoch-bjd-tdb", "2460500.0777", "--period-d", "0.4", "--half-width-phase", "0.08",
+        "--method", "symmetric-polynomial", "--polynomial-degree", "4", "--bootstrap", "100", "--output", events.to_str().unwrap(), "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert!(v["timed"].as_u64().unwrap() >= 10, "{v}");
+    assert_eq!(v["event_kind"], "maximum");
+    // Asking for minima of the same flux around the maximum times finds the wrong curvature
+    // in every window: nothing can be timed, and the message says why per event.
+    let (code, _, err) = run(&[
+        "time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "flux", "--brightness", "flux",
+        "--event-kind", "primary", "--epoch-bjd-tdb", "2460500.0777", "--period-d", "0.4", "--half-width-phase", "0.08",
+        "--method", "symmetric-gaussian", "--output", d.join("wrong.csv").to_str().unwrap(),
+    ]);
+    assert_ne!(code, 0);
+    assert!(err.contains("no event could be timed") && (err.contains("opposite extremum") || err.contains("curve the wrong way")), "{err}");
+    let oc = d.join("rr_oc.csv");
+    let (code, out, err) = run(&[
+        "timing-residuals", "--input", events.to_str().unwrap(), "--time-column", "time", "--clock", "bjd_tdb", "--error-column", "error_d",
+        "--kind-column", "kind", "--ra", "14:02:11.0", "--dec", "-12:30:05", "--epoch-bjd-tdb", "2460500.0777", "--period-d", "0.4",
+        "--models", "linear", "--output", oc.to_str().unwrap(), "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let r: serde_json::Value = serde_json::from_str(&out).unwrap();
+    for q in r["models"][0]["parameters"].as_array().unwrap() {
+        let (value, sigma) = (q["value"].as_f64().unwrap(), q["sigma_covariance"].as_f64().unwrap());
+        assert!(value.abs() < 4.0 * sigma, "{q}");
+    }
+    assert!(std::fs::read_to_string(&oc).unwrap().contains("maximum"));
+}
