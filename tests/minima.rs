@@ -55,6 +55,10 @@ fn kwee_van_woerden_recovers_invented_minima_within_a_few_sigma() {
         let z = (r.centre_d - centre) / r.error_d;
         worst = worst.max(z.abs());
         assert!(r.error_d > 0.0 && r.error_d < 1e-3, "error {} d", r.error_d);
+        // The symmetric Gaussian fit to the same points agrees within the combined errors.
+        let o = SymmetricOptions { shape: SymmetricShape::Gaussian, bootstrap_resamples: 0, seed: 0 };
+        let f = fit_symmetric(&t, &v, None, 1.0, centre, &o).expect("fit");
+        assert!((f.centre_d - r.centre_d).abs() < 4.0 * r.error_d.hypot(f.error_covariance_d), "KvW {} vs fit {}", r.centre_d, f.centre_d);
     }
     assert!(worst < 4.5, "largest |ΔT|/σ over 20 minima: {worst}");
 }
@@ -238,6 +242,7 @@ fn time_events_output_feeds_timing_residuals() {
     let s: serde_json::Value = serde_json::from_str(&out).unwrap();
     let timed = s["timed"].as_u64().unwrap();
     assert!(timed >= 5, "{s}");
+    assert!(s["notes"][0].as_str().unwrap().contains("Kwee–van Woerden error"), "{s}");
     assert_eq!(s["skipped"].as_u64().unwrap() as usize, s["skipped_events"].as_array().unwrap().len());
     assert!(std::fs::read_to_string(&skipped).unwrap().starts_with("cycle,predicted_bjd_tdb,points,first_row,last_row,reason_code,reason"));
     assert!(std::fs::read_to_string(&summary).unwrap().contains("\"provenance\""));
@@ -360,4 +365,33 @@ fn time_events_times_maxima_of_an_invented_pulsator_in_flux_to_parquet() {
         assert!(value.abs() < 4.0 * sigma, "{q}");
     }
     assert!(std::fs::read_to_string(&oc).unwrap().contains("maximum"));
+}
+
+#[test]
+fn secondary_minima_are_cut_at_half_cycles() {
+    // Invented binary: primaries (0.6 mag) at 0.1234 + E·0.61 d and secondaries (0.2 mag) at
+    // half cycles; the segmentation for kind 'secondary' times only the secondaries.
+    let p = 0.61;
+    let reference = Instant::from_jd_two_part(TimeScale::Tdb, 2_460_300.0, 0.0);
+    let epoch = Instant::from_jd_two_part(TimeScale::Tdb, 2_460_300.0, 0.1234);
+    let mut rng = SeededRng::new(21);
+    let (mut t, mut v) = (Vec::new(), Vec::new());
+    let mut x: f64 = 0.0;
+    while x < 6.0 {
+        let e1 = ((x - 0.1234) / p).round();
+        let e2 = ((x - 0.1234) / p - 0.5).round() + 0.5;
+        let m = eclipse_mag(x, 0.1234 + e1 * p, 0.6, 0.015) + eclipse_mag(x, 0.1234 + e2 * p, 0.2, 0.015) - 12.0;
+        t.push(x);
+        v.push(m + 0.005 * rng.normal());
+        x += 0.002;
+    }
+    let curve = EventCurve { reference, time_d: &t, value: &v, error: None, brightness: Brightness::Magnitude };
+    let eph = EventEphemeris { epoch, period_d: p, kind: EventKind::Secondary };
+    let r = time_events(&curve, &eph, EventWindow::HalfWidthPhase(0.08), &SegmentOptions::default(), &TimingMethod::KweeVanWoerden).unwrap();
+    assert!(r.timed.len() >= 8, "{}", r.timed.len());
+    for e in &r.timed {
+        assert_eq!(e.cycle.fract().abs(), 0.5);
+        let truth = 0.1234 + e.cycle * p;
+        assert!((e.centre_d - truth).abs() < 5.0 * e.error_d, "cycle {}: {} vs {truth}", e.cycle, e.centre_d);
+    }
 }

@@ -222,7 +222,16 @@ pub fn run(a: Args) -> Result<()> {
         e.sort_by(f64::total_cmp);
         e[e.len() / 2]
     };
+    // Stated with every Kwee–van Woerden run (docs/minima.md): its error formula rests on an
+    // assumed number of independent pairs and is known to mislead for few points or red noise.
+    let notes: Vec<&str> = if matches!(method, TimingMethod::KweeVanWoerden) {
+        vec!["note: the Kwee–van Woerden error assumes Z = N/4 independent pairs and white noise; it can be too small for \
+              few points or correlated noise — compare with --method symmetric-polynomial and its bootstrap error"]
+    } else {
+        Vec::new()
+    };
     let summary = serde_json::json!({
+        "notes": notes,
         "input": input.display().to_string(),
         "output": a.output.display().to_string(),
         "method": method.name(),
@@ -252,6 +261,9 @@ pub fn run(a: Args) -> Result<()> {
         println!("timed {} {} events with {} ({} skipped, {} predicted events without data)", t.len(), kind.name(), method.name(), result.skipped.len(), result.empty_windows);
         for line in &skipped_lines {
             println!("  skipped {line}");
+        }
+        for n in &notes {
+            println!("{n}");
         }
     }
     Ok(())
