@@ -395,3 +395,39 @@ fn secondary_minima_are_cut_at_half_cycles() {
         assert!((e.centre_d - truth).abs() < 5.0 * e.error_d, "cycle {}: {} vs {truth}", e.cycle, e.centre_d);
     }
 }
+
+#[test]
+fn symmetric_fits_match_scipy_curve_fit() {
+    // Reference: scipy 1.17.1 optimize.curve_fit on invented data (tests/reference/
+    // symmetric_fit.README.md). Same data, same models: T0 and its covariance error agree.
+    let base = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/reference");
+    let points = std::fs::read_to_string(base.join("symmetric_fit_points.csv")).unwrap();
+    let rows: Vec<[f64; 3]> = points.lines().skip(1).map(|l| {
+        let v: Vec<f64> = l.split(',').map(|x| x.parse().unwrap()).collect();
+        [v[0], v[1], v[2]]
+    }).collect();
+    let reference = std::fs::read_to_string(base.join("symmetric_fit_reference.csv")).unwrap();
+    let mut checked = 0;
+    for line in reference.lines().skip(1) {
+        let f: Vec<&str> = line.split(',').collect();
+        let shape = match f[0] {
+            "symmetric-polynomial-2" => SymmetricShape::Polynomial2,
+            "symmetric-polynomial-4" => SymmetricShape::Polynomial4,
+            "symmetric-gaussian" => SymmetricShape::Gaussian,
+            other => panic!("unknown model {other}"),
+        };
+        let weighted = f[1] == "weighted";
+        let (n, centre, sigma): (usize, f64, f64) = (f[2].parse().unwrap(), f[3].parse().unwrap(), f[4].parse().unwrap());
+        let sel: Vec<&[f64; 3]> = rows.iter().filter(|r| shape == SymmetricShape::Gaussian || (r[0] - 2.3).abs() <= 0.02).collect();
+        assert_eq!(sel.len(), n, "{line}");
+        let t: Vec<f64> = sel.iter().map(|r| r[0]).collect();
+        let v: Vec<f64> = sel.iter().map(|r| r[1]).collect();
+        let e: Vec<f64> = sel.iter().map(|r| r[2]).collect();
+        let o = SymmetricOptions { shape, bootstrap_resamples: 0, seed: 0 };
+        let fit = fit_symmetric(&t, &v, weighted.then_some(e.as_slice()), 1.0, 2.3, &o).unwrap();
+        assert!((fit.centre_d - centre).abs() < 1e-8, "{line}: centre {} vs scipy {centre}", fit.centre_d);
+        assert!((fit.error_covariance_d / sigma - 1.0).abs() < 1e-4, "{line}: sigma {} vs scipy {sigma}", fit.error_covariance_d);
+        checked += 1;
+    }
+    assert_eq!(checked, 6);
+}
