@@ -19,6 +19,9 @@
 //! points and tends to under-estimate the true scatter when the noise is correlated; the
 //! integration tests in `tests/minima.rs` measure the ratio on synthetic minima.
 //!
+//! The method is unweighted, as in the paper: per-point uncertainties are not used (a light
+//! curve with very unequal errors is better timed with a weighted symmetric fit).
+//!
 //! The sum of squares is the same for magnitudes and fluxes and for minima and maxima, so
 //! the method times the brightest point of a pulsator unchanged.
 
