@@ -17,6 +17,7 @@ pub mod search_pulsations;
 pub mod observer_time;
 pub mod predict_events;
 pub mod survey_batch;
+pub mod time_events;
 pub mod timing_residuals;
 
 use clap::{Parser, Subcommand};
@@ -58,6 +59,8 @@ pub enum Command {
     MeasureLightTime(measure_light_time::Args),
     /// Upcoming events of an ephemeris at a site: UTC, uncertainty, altitudes, twilight, Moon, Sun caution.
     PredictEvents(predict_events::Args),
+    /// Times of minimum (or maximum) of every event in a light curve around a linear ephemeris.
+    TimeEvents(time_events::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
 }
@@ -71,6 +74,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ConvertTime(a) => convert_time::run(a),
         Command::TimingResiduals(a) => timing_residuals::run(a),
         Command::PredictEvents(a) => predict_events::run(a),
+        Command::TimeEvents(a) => time_events::run(a),
         Command::Demo(a) => demo::run(a),
         Command::MeasureLightTime(a) => measure_light_time::run(a),
         Command::FindPeriods(a) => find_periods::run(a),
