@@ -233,6 +233,7 @@ pub fn run(a: Args) -> Result<()> {
         };
         write_figure(&fig, path)?;
     }
+    let outputs: Vec<String> = [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()].into_iter().flatten().map(|p| p.display().to_string()).collect();
     let summary = serde_json::json!({
         "events": phases.len(),
         "model": a.input.model.display().to_string(),
@@ -242,7 +243,7 @@ pub fn run(a: Args) -> Result<()> {
         "z2_of_template_harmonics": crate::pulsar::statistics::z2n(&phases, ev.weights.as_deref(), a.harmonics)?,
         "template_kind": template.kind,
         "template_peak_phase_cycles": template.peak_phase_cycles(),
-        "outputs": [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()].into_iter().flatten().map(|p| p.display().to_string()).collect::<Vec<_>>(),
+        "outputs": outputs,
     });
     if a.json {
         println!("{}", serde_json::to_string_pretty(&summary)?);
