@@ -151,7 +151,7 @@ fn phase_shift_recovered_precisely_with_many_photons() {
 /// Invented isolated pulsar with a strong spin-down.
 fn spin_down_pulsar() -> TimingModel {
     TimingModel::from_toml(
-        "name = \"invented pulsar Vela Minor X-1\"\nepoch_mjd_day_tdb = 60400\nfreq_hz = 11.23\nfreq_deriv_hz_per_s = -4.1e-11\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\"]\n",
+        "name = \"invented pulsar Corvina P-5\"\nepoch_mjd_day_tdb = 60400\nfreq_hz = 11.23\nfreq_deriv_hz_per_s = -4.1e-11\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\"]\n",
         "invented",
     )
     .unwrap()
@@ -209,6 +209,32 @@ fn event_arrival_times_feed_the_timing_fit_and_recover_spin_down() {
     assert!((0.61..=0.75).contains(&frac), "coverage {frac}");
     // mean of 200 reduced χ² with 27 dof: 1 ± 0.02 (σ = √(2/27)/√200); 5σ band
     assert!((mean_reduced_chi2 - 1.0).abs() < 0.1, "mean reduced χ² {mean_reduced_chi2}");
+}
+
+#[test]
+fn arrival_time_uncertainty_is_calibrated_against_injected_delays() {
+    // events of a pulsar whose pulses come δ·P later than the folding model predicts (δ
+    // uniform in ±0.4 cycle); one 20 000 s window of 1500 photons per trial. The arrival
+    // time lies within 1σ of the true pulse arrival (true phase an integer) in 68 ± 7 % of
+    // 240 trials.
+    let model = spin_down_pulsar();
+    let tpl = true_profile();
+    let hits: Vec<bool> = (0..240u64)
+        .into_par_iter()
+        .map(|seed| {
+            let mut truth = model.clone();
+            truth.phase_offset_cycles = -0.4 + 0.8 * SeededRng::for_stream(seed, 13).uniform();
+            let ev = simulate_events(&truth, &tpl, seed + 1000, 1, 1500, 1e5);
+            let r = event_arrival_times(&model, &ev, None, &tpl, Segmentation::Photons { count: 1500 }, 100, 1e7, "default").unwrap();
+            let t = &r.arrival_times[0];
+            let phase = event_phase_cycles(&truth, t.arrival_s, "default");
+            let miss_s = (phase - phase.round()) / truth.spin().freq_at_hz(t.arrival_s);
+            miss_s.abs() <= t.error_s
+        })
+        .collect();
+    let frac = hits.iter().filter(|h| **h).count() as f64 / hits.len() as f64;
+    eprintln!("arrival times within 1σ of the injected delay: {frac:.3} over {}", hits.len());
+    assert!((0.61..=0.75).contains(&frac), "coverage {frac}");
 }
 
 #[test]

@@ -11,13 +11,13 @@ use crate::pulsar::event_toas::{Segmentation, event_arrival_times};
 use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
 use crate::time::format::{format_time, TimeFormat};
 
-const EXAMPLE: &str = "Example (invented pulsar 'Vela Minor X-1'):
-  skyclock event-arrival-times --events vela_minor_events.csv --clock mjd_tt \\
-      --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 131.2 --dec -44.7 \\
-      --model vela_minor.toml --template template.json \\
+const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3'):
+  skyclock event-arrival-times --events corvina_events.csv --clock mjd_tt \\
+      --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
+      --model corvina.toml --template template.json \\
       --segment-duration-s 86400 --min-photons 200 --output arrival_times.csv
   skyclock fit-timing --arrival-times arrival_times.csv --time-column arrival_bjd_tdb \\
-      --clock bjd_tdb --ra 131.2 --dec -44.7 --model vela_minor.toml \\
+      --clock bjd_tdb --ra 201.3 --dec 12.8 --model corvina.toml \\
       --output-residuals residuals.csv --output-model fitted.toml
 
   The template comes from pulse-profile --output-template. Segments are cut by duration

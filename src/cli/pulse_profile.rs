@@ -17,10 +17,10 @@ use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomica
 use crate::table::{Provenance, float_column, read_table};
 use crate::time::{Instant, TimeScale};
 
-const EXAMPLE: &str = "Example (invented pulsar 'Vela Minor X-1', events from an invented X-ray satellite):
-  skyclock pulse-profile --events vela_minor_events.csv --time-column time --clock mjd_tt \\
-      --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 131.2 --dec -44.7 \\
-      --model vela_minor.toml --bins 40 --harmonics 6 \\
+const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an invented X-ray satellite):
+  skyclock pulse-profile --events corvina_events.csv --time-column time --clock mjd_tt \\
+      --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
+      --model corvina.toml --bins 40 --harmonics 6 \\
       --output-profile profile.csv --output-template template.json --figure profile.svg
 
   The events are barycentred on the way in (use --clock bjd_tdb for barycentric times) and

@@ -502,6 +502,17 @@ mod tests {
     }
 
     #[test]
+    fn template_power_is_the_z2_statistic() {
+        // Z²ₙ = Σₖ (âₖ² + b̂ₖ²)·Σw²/2 (module notes; Buccheri et al. 1983, Kerr 2011)
+        let p: Vec<f64> = (0..300).map(|i| ((i * i) as f64 * 0.0137).fract()).collect();
+        let w: Vec<f64> = (0..300).map(|i| 0.2 + 0.7 * ((i as f64 * 0.31).sin().abs())).collect();
+        let t = fourier_template(&p, Some(&w), 3).unwrap();
+        let power: f64 = t.cos_coefficients.iter().zip(&t.sin_coefficients).map(|(a, b)| a * a + b * b).sum::<f64>() * t.sum_weights_squared / 2.0;
+        let z2 = crate::pulsar::statistics::z2n(&p, Some(&w), 3).unwrap();
+        assert!((power - z2).abs() < 1e-9 * z2.max(1.0), "{power} {z2}");
+    }
+
+    #[test]
     fn binned_errors_are_root_sum_of_squared_weights() {
         let p = [0.05, 0.06, 0.55, 0.95];
         let w = [0.5, 0.5, 1.0, 0.2];
