@@ -7,7 +7,7 @@ use rayon::prelude::*;
 use skyclock::fit::SeededRng;
 use skyclock::pulsar::event_toas::{Segmentation, event_arrival_times, phase_shift};
 use skyclock::pulsar::model::{ArrivalTime, TimingModel};
-use skyclock::pulsar::profile::{PulseTemplate, binned_profile, check_event_times, event_phase_cycles, fold_events, fourier_template, gaussian_template};
+use skyclock::pulsar::profile::{PulseTemplate, repeated_times, binned_profile, check_event_times, event_phase_cycles, fold_events, fourier_template, gaussian_template};
 use skyclock::pulsar::timing_fit::fit_timing_model;
 
 /// The invented two-harmonic profile of the tests (positive everywhere: min f ≈ 0.27).
@@ -249,6 +249,8 @@ fn bad_events_get_clear_messages() {
     assert!(e.contains("row 2") && e.contains("validity"), "{e}");
     let e = fold_events(&truth, &[f64::NAN], 1e7, "default").unwrap_err().to_string();
     assert!(e.contains("row 1"), "{e}");
+    // repeated times are counted (kept: coarse detector clocks repeat ticks)
+    assert_eq!(repeated_times(&[0.0, 1.0, 1.0, 2.0, 2.0, 2.0]), (3, Some(3)));
     // a short segment is skipped and reported, the rest give arrival times
     let mut ev = simulate_events(&truth, &tpl, 1, 3, 400, 1e5);
     ev.retain(|t| *t < -1e5 + 2.0 * 2e5 / 3.0 + 1500.0);

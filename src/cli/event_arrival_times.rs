@@ -71,6 +71,7 @@ pub fn run(a: Args) -> Result<()> {
             bail!("{}, row {}, column '{}': weight {v}; weights are probabilities in [0, 1]", ev.file, i + 1, a.input.weight_column.as_deref().unwrap_or(""));
         }
     }
+    ev.warn_repeated_times(&a.input.time_column);
     let result = event_arrival_times(&ev.model, &ev.times_s, ev.weights.as_deref(), &template, segmentation, a.min_photons, valid_s, &a.input.instrument)
         .map_err(|e| ev.locate(&a.input.time_column, e))?;
     let epoch = ev.model.epoch();

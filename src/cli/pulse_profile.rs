@@ -122,6 +122,16 @@ impl EventTableArgs {
 }
 
 impl LoadedEvents {
+    /// Warns on stderr about events that repeat the previous event's time.
+    pub fn warn_repeated_times(&self, column: &str) {
+        if let (n, Some(first)) = crate::pulsar::profile::repeated_times(&self.times_s) {
+            eprintln!(
+                "warning: {}, column '{column}': {n} event(s) have the same barycentric time as the event before them (first at row {first}); kept as separate photons — if the table has duplicated rows, remove them",
+                self.file
+            );
+        }
+    }
+
     /// Turns a library message about event N / photon N into one naming file, row and column.
     pub fn locate(&self, column: &str, e: crate::pulsar::PulsarError) -> anyhow::Error {
         anyhow!("{}, column '{column}': {e}", self.file)
@@ -175,6 +185,7 @@ pub fn run(a: Args) -> Result<()> {
     }
     let valid_s = a.input.validity_s()?;
     let ev = a.input.load("pulse-profile")?;
+    ev.warn_repeated_times(&a.input.time_column);
     let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument).map_err(|e| ev.locate(&a.input.time_column, e))?;
     let weight_col = a.input.weight_column.clone().unwrap_or_default();
     let binned = binned_profile(&phases, ev.weights.as_deref(), a.bins).map_err(|e| ev.locate(&weight_col, e))?;

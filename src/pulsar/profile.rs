@@ -69,6 +69,21 @@ pub fn check_event_times(times_s: &[f64], valid_for_s: f64) -> Result<(), Pulsar
     Ok(())
 }
 
+/// Events whose time equals the previous event's: (how many, first such event 1-based).
+/// Detectors with coarse time resolution record several photons in one tick, so repeats
+/// are allowed; many of them may also mean a table with duplicated rows.
+pub fn repeated_times(times_s: &[f64]) -> (usize, Option<usize>) {
+    let mut count = 0;
+    let mut first = None;
+    for i in 1..times_s.len() {
+        if times_s[i] == times_s[i - 1] {
+            count += 1;
+            first.get_or_insert(i + 1);
+        }
+    }
+    (count, first)
+}
+
 fn check_weights(n: usize, weights: Option<&[f64]>) -> Result<(), PulsarError> {
     if let Some(w) = weights {
         if w.len() != n {
