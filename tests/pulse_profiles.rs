@@ -238,6 +238,17 @@ fn arrival_time_uncertainty_is_calibrated_against_injected_delays() {
 }
 
 #[test]
+fn arrival_times_do_not_depend_on_the_thread_count() {
+    let truth = spin_down_pulsar();
+    let tpl = true_profile();
+    let ev = simulate_events(&truth, &tpl, 77, 8, 500, 4e5);
+    let run = || event_arrival_times(&truth, &ev, None, &tpl, Segmentation::Photons { count: 450 }, 100, 1e7, "default").unwrap();
+    let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().unwrap().install(run);
+    let many = rayon::ThreadPoolBuilder::new().num_threads(4).build().unwrap().install(run);
+    assert_eq!(one, many);
+}
+
+#[test]
 fn bad_events_get_clear_messages() {
     let truth = spin_down_pulsar();
     let tpl = true_profile();
