@@ -74,6 +74,22 @@ fn fourier_template_coefficients_lie_within_their_errors() {
 }
 
 #[test]
+fn weighted_binned_profile_matches_the_diluted_template() {
+    // probability-weighted photons: the weighted binned profile follows 1 + (Σw²/Σw)(f − 1)
+    let truth = true_profile();
+    let (p, w) = draw_photons(8, 200_000, &truth, 0.0, true);
+    let b = binned_profile(&p, w.as_deref(), 16).unwrap();
+    let mut chi2 = 0.0;
+    for i in 0..16 {
+        let lo = i as f64 / 16.0;
+        let expected: f64 = (0..100).map(|j| b.expected_relative_intensity(&truth, lo + (j as f64 + 0.5) / 1600.0)).sum::<f64>() / 100.0;
+        chi2 += ((b.relative_intensity[i] - expected) / b.relative_intensity_errors[i]).powi(2);
+    }
+    // χ² with ≤ 16 degrees of freedom: below 39.3 with probability 0.999 (χ² table, common practice)
+    assert!(chi2 < 39.3, "χ² = {chi2}");
+}
+
+#[test]
 fn one_template_from_many_photons_matches_the_profile() {
     let truth = true_profile();
     let (p, _) = draw_photons(42, 200_000, &truth, 0.0, false);

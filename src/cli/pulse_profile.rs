@@ -26,7 +26,8 @@ const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an in
   The events are barycentred on the way in (use --clock bjd_tdb for barycentric times) and
   folded with the timing model (the TOML that fit-timing reads; binary orbits included).
   profile.csv: phase_center_cycles, counts, count_error (√Σw²), relative_intensity,
-  relative_intensity_error (counts·bins/Σw: 1 = the mean level), template_density.
+  relative_intensity_error (counts·bins/Σw: 1 = the mean level), template_density (the
+  template as the binned profile should show it: with weights, diluted by 1 + (Σw²/Σw)(f − 1)).
   template.json: the template (Fourier coefficients a_k, b_k with errors) that
   event-arrival-times matches. The figure shows two cycles.";
 
@@ -205,7 +206,7 @@ pub fn run(a: Args) -> Result<()> {
             binned.count_errors[i],
             binned.relative_intensity[i],
             binned.relative_intensity_errors[i],
-            template.density(x)
+            binned.expected_relative_intensity(&template, x)
         ));
     }
     write_atomically(&a.output_profile, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
@@ -236,7 +237,7 @@ pub fn run(a: Args) -> Result<()> {
                         colour: (40, 70, 150),
                         size: 3,
                     },
-                    Layer::Line { label: template.kind.clone(), x: grid.clone(), y: grid.iter().map(|x| template.density(*x)).collect(), colour: (200, 80, 30) },
+                    Layer::Line { label: template.kind.clone(), x: grid.clone(), y: grid.iter().map(|x| binned.expected_relative_intensity(&template, *x)).collect(), colour: (200, 80, 30) },
                 ],
             }],
             width: 1000,

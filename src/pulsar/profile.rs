@@ -114,6 +114,18 @@ pub struct BinnedProfile {
     pub relative_intensity_errors: Vec<f64>,
     /// Σ w over all photons.
     pub total_weight: f64,
+    /// Σ w² over all photons.
+    pub sum_weights_squared: f64,
+}
+
+impl BinnedProfile {
+    /// The relative intensity a template predicts for this profile at `phase_cycles`:
+    /// with probability weights the weighted counts dilute the pulsar's profile f by the
+    /// background, E = 1 + (Σw²/Σw)(f − 1) (from the mixture model of the module notes);
+    /// without weights it is f itself.
+    pub fn expected_relative_intensity(&self, template: &PulseTemplate, phase_cycles: f64) -> f64 {
+        1.0 + self.sum_weights_squared / self.total_weight * template.pulsed(phase_cycles, 0)
+    }
 }
 
 /// Bins phases into `bins` equal bins on [0, 1).
@@ -147,6 +159,7 @@ pub fn binned_profile(phase_cycles: &[f64], weights: Option<&[f64]>, bins: usize
         counts,
         count_errors,
         total_weight: total,
+        sum_weights_squared: w2.iter().sum(),
     })
 }
 
@@ -411,8 +424,8 @@ impl LsqModel for GaussianFit<'_> {
 /// (Levenberg–Marquardt) to the empirical Fourier coefficients of `empirical` (their errors
 /// as weights); components are started one by one at the highest residual peak.
 ///
-/// Given: an empirical template with errors (from [`fourier_template`], n harmonics, n ≥
-/// 3·components/2), 1 ≤ components ≤ 5. Returned: the Gaussian template, its coefficients
+/// Given: an empirical template with errors (from [`fourier_template`], n harmonics, 2n >
+/// 3·components), 1 ≤ components ≤ 5. Returned: the Gaussian template, its coefficients
 /// evaluated to the same n harmonics. Fit parameters are checked: fractions > 0, widths in
 /// (0, 0.5) cycle. Source: common practice (wrapped normal: Mardia & Jupp 2000 — from memory).
 pub fn gaussian_template(empirical: &PulseTemplate, components: usize) -> Result<PulseTemplate, PulsarError> {
