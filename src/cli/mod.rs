@@ -7,6 +7,7 @@ pub mod barycentre_events;
 pub mod common;
 pub mod convert_time;
 pub mod demo;
+pub mod event_arrival_times;
 pub mod extract_frequencies;
 pub mod find_periods;
 pub mod fold_curve;
@@ -16,6 +17,7 @@ pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
 pub mod predict_events;
+pub mod pulse_profile;
 pub mod survey_batch;
 pub mod time_events;
 pub mod timing_residuals;
@@ -53,6 +55,10 @@ pub enum Command {
     FitTiming(fit_timing::Args),
     /// Search a photon-event table for pulsations (Z²ₙ over frequency and its derivative).
     SearchPulsations(search_pulsations::Args),
+    /// Fold photon events with a timing model: binned pulse profile, smooth template, figure.
+    PulseProfile(pulse_profile::Args),
+    /// Pulse arrival times from segments of photon events by template matching (input of fit-timing).
+    EventArrivalTimes(event_arrival_times::Args),
     /// Cycle numbers, O–C and fitted ephemeris models (period change, light-time companion) from event timings.
     TimingResiduals(timing_residuals::Args),
     /// Measure the light time per au (and c) from timings never corrected to the barycentre.
@@ -83,5 +89,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::SurveyBatch(a) => survey_batch::run(a),
         Command::FitTiming(a) => fit_timing::run(a),
         Command::SearchPulsations(a) => search_pulsations::run(a),
+        Command::PulseProfile(a) => pulse_profile::run(a),
+        Command::EventArrivalTimes(a) => event_arrival_times::run(a),
     }
 }
