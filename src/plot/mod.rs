@@ -9,7 +9,10 @@
 
 use std::path::Path;
 
+pub mod search;
+
 use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 
 /// Layer drawn in a panel.
@@ -21,6 +24,9 @@ pub enum Layer {
     Line { label: String, x: Vec<f64>, y: Vec<f64>, colour: (u8, u8, u8) },
     /// Vertical markers at x with a short text each (peaks, aliases).
     Markers { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+    /// Dashed vertical guides at x with a short text each, written lower than the
+    /// [`Layer::Markers`] texts (e.g. where aliases of a peak would fall).
+    Guides { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
 }
 
 /// One panel: axes with labels (put units in them, e.g. "period (d)").
@@ -79,7 +85,7 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
 
 fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, title: Option<&str>) -> Result<(), String> {
     let xs = panel.layers.iter().flat_map(|l| match l {
-        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } => x.clone(),
+        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Guides { x, .. } => x.clone(),
     });
     let (x0, x1) = range(xs);
     let ys = panel.layers.iter().flat_map(|l| match l {
@@ -88,7 +94,7 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
             [v - e, v + e]
         }).collect::<Vec<f64>>(),
         Layer::Line { y, .. } => y.clone(),
-        Layer::Markers { .. } => Vec::new(),
+        Layer::Markers { .. } | Layer::Guides { .. } => Vec::new(),
     });
     let (y0, y1) = range(ys);
     let (ya, yb) = if panel.invert_y { (y1, y0) } else { (y0, y1) };
@@ -143,6 +149,18 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                 let ytext = yb - 0.04 * (yb - ya);
                 chart
                     .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))))
+                    .map_err(|e| e.to_string())?;
+            }
+            Layer::Guides { label, x, text, colour } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                chart
+                    .draw_series(x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
+                let ytext = yb - 0.12 * (yb - ya);
+                chart
+                    .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))))
                     .map_err(|e| e.to_string())?;
             }
         }

@@ -52,6 +52,9 @@ pub trait RowStream {
     fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError>;
     /// A shared counter of the input consumed so far (for progress).
     fn progress(&self) -> ReadProgress;
+    /// The most data rows this reader has held in memory at once so far (1 for a reader
+    /// that goes line by line; the largest slice for a Parquet reader).
+    fn peak_rows_buffered(&self) -> usize;
 }
 
 /// How much of an input has been read: `done` of `total` units (bytes or rows).
@@ -175,6 +178,9 @@ impl RowStream for DelimitedRows {
     fn progress(&self) -> ReadProgress {
         ReadProgress { done: self.read_bytes.clone(), total: self.total_bytes }
     }
+    fn peak_rows_buffered(&self) -> usize {
+        1
+    }
 }
 
 /// Parquet read in slices of `slice_rows` rows, only the needed columns.
@@ -188,6 +194,7 @@ pub struct ParquetRows {
     done_rows: usize,
     done_counter: std::sync::Arc<std::sync::atomic::AtomicU64>,
     slice_rows: usize,
+    peak_rows: usize,
 }
 
 impl ParquetRows {
@@ -211,7 +218,7 @@ impl ParquetRows {
         if total_rows == 0 {
             return Err(TableError::Empty { file });
         }
-        Ok(ParquetRows { file, path: path.to_path_buf(), columns: wanted, has_error: columns.error.is_some(), has_band: columns.band.is_some(), total_rows, done_rows: 0, done_counter: Default::default(), slice_rows: slice_rows.max(1) })
+        Ok(ParquetRows { file, path: path.to_path_buf(), columns: wanted, has_error: columns.error.is_some(), has_band: columns.band.is_some(), total_rows, done_rows: 0, done_counter: Default::default(), slice_rows: slice_rows.max(1), peak_rows: 0 })
     }
 }
 
@@ -229,6 +236,7 @@ impl RowStream for ParquetRows {
             if n == 0 {
                 break;
             }
+            self.peak_rows = self.peak_rows.max(n);
             let mut text = Vec::new();
             for c in &self.columns {
                 let col = df.column(c).map_err(|e| fail(e.to_string()))?;
@@ -254,6 +262,9 @@ impl RowStream for ParquetRows {
     }
     fn progress(&self) -> ReadProgress {
         ReadProgress { done: self.done_counter.clone(), total: self.total_rows as u64 }
+    }
+    fn peak_rows_buffered(&self) -> usize {
+        self.peak_rows
     }
 }
 
@@ -305,13 +316,20 @@ pub struct SourceReport {
     pub outcome: Result<SearchOutcome, String>,
 }
 
-/// Counts at the end of a batch.
+/// Counts at the end of a batch, with the memory high-water marks (in rows) that show the
+/// batch stayed bounded: at most `peak_reader_rows + peak_points_held` data rows were held
+/// at once, whatever the size of the table.
 #[derive(Debug, Clone, Default, PartialEq, serde::Serialize)]
 pub struct BatchSummary {
     pub sources: usize,
     pub searched: usize,
     pub skipped: usize,
     pub rows: usize,
+    /// Most rows the table reader held at once (its slice; 1 for CSV/TSV).
+    pub peak_reader_rows: usize,
+    /// Most grouped points held at once: sources waiting to be searched plus the source
+    /// being read. Bounded by `batch_points` + 2 × the longest source.
+    pub peak_points_held: usize,
 }
 
 struct Grouper<'a> {
@@ -324,6 +342,7 @@ struct Grouper<'a> {
     pending: Vec<SourceRows>,
     pending_points: usize,
     rows: usize,
+    peak_points: usize,
 }
 
 impl Grouper<'_> {
@@ -487,7 +506,7 @@ pub fn run_batch(
         });
     }
     let mut summary = BatchSummary::default();
-    let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0 };
+    let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0, peak_points: 0 };
     let mut flush = |pending: Vec<SourceRows>, summary: &mut BatchSummary, fraction: f64| -> Result<(), TableError> {
         let reports: Vec<SourceReport> = pending.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns)).collect();
         summary.sources += reports.len();
@@ -504,10 +523,12 @@ pub fn run_batch(
         if let Some(done) = g.push(c) {
             g.pending_points += done.value.len();
             g.pending.push(done);
-            if g.pending_points >= batch_points || g.pending.len() >= 65_536 {
-                ready.push(std::mem::take(&mut g.pending));
-                g.pending_points = 0;
-            }
+        }
+        let held = g.pending_points + g.current.as_ref().map_or(0, |s| s.value.len());
+        g.peak_points = g.peak_points.max(held);
+        if g.pending_points >= batch_points || g.pending.len() >= 65_536 {
+            ready.push(std::mem::take(&mut g.pending));
+            g.pending_points = 0;
         }
         if let Some(batch) = ready.pop() {
             flush(batch, &mut summary, read.fraction())?;
@@ -518,6 +539,8 @@ pub fn run_batch(
         g.pending.push(last);
     }
     summary.rows = g.rows;
+    summary.peak_points_held = g.peak_points;
+    summary.peak_reader_rows = rows.peak_rows_buffered();
     if !g.pending.is_empty() {
         flush(std::mem::take(&mut g.pending), &mut summary, 1.0)?;
     }
