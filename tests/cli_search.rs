@@ -66,7 +66,10 @@ fn find_periods_recovers_an_invented_pulsator() {
     assert!(text.starts_with("freq_per_day,period_d,power,amplitude"));
     assert!(d.join("spectrum.csv.provenance.json").exists());
     assert!(std::fs::read_to_string(&peaks).unwrap().contains("\"provenance\""));
-    assert!(std::fs::read_to_string(d.join("p.svg")).unwrap().contains("frequency (cycles per day)"));
+    let svg = std::fs::read_to_string(d.join("p.svg")).unwrap();
+    assert!(svg.contains("frequency (cycles per day)"));
+    // The figure marks the peaks and, as its own legend entry, the aliases of the top peak.
+    assert!(svg.contains(skyclock::plot::search::PEAK_LAYER_LABEL) && svg.contains(skyclock::plot::search::ALIAS_LAYER_LABEL));
 }
 
 #[test]
@@ -110,6 +113,14 @@ fn fold_and_extract_frequencies() {
     assert!((v["period_d"].as_f64().unwrap() - 1.0 / 9.123).abs() < 1e-5);
     assert_eq!(std::fs::read_to_string(&binned).unwrap().lines().count(), 21);
     assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
+    // The SVG form of the same figure carries the residuals panel below the folded curve.
+    let (code, _, err) = run(&[
+        "fold-curve", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
+        "--period-d", &format!("{}", 1.0 / 9.123), "--bins", "20", "--figure", d.join("f.svg").to_str().unwrap(), "--quiet",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let svg = std::fs::read_to_string(d.join("f.svg")).unwrap();
+    assert!(svg.contains("residual: data − binned, mag (input units)") && svg.matches("phase (cycles)").count() == 2);
     let table = d.join("freqs.csv");
     let (code, out, err) = run(&[
         "extract-frequencies", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",

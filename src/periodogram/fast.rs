@@ -41,6 +41,8 @@ struct Workspace {
     fft_scratch: Vec<Complex64>,
     u: Vec<f64>,
     h: Vec<Complex64>,
+    /// Deconvolution tables of recent transform shapes ((nfft, modes, max |k'|), table).
+    deconv: Vec<((usize, usize, usize), std::sync::Arc<Vec<f64>>)>,
 }
 
 thread_local! {
@@ -50,6 +52,7 @@ thread_local! {
         fft_scratch: Vec::new(),
         u: Vec::new(),
         h: Vec::new(),
+        deconv: Vec::new(),
     });
 }
 
@@ -74,20 +77,40 @@ fn gridding_plan(modes: usize, opt: &FastOptions) -> (usize, usize, f64) {
     (nfft, msp, tau)
 }
 
+/// Where the type-1 sums of [`nonuniform_sums`] lie in the transformed work grid.
+struct Transformed {
+    /// Centre mode (subtracted before gridding).
+    kc: i64,
+    /// FFT length − 1 (a power of two minus one).
+    mask: usize,
+    /// 1 / (the Gaussian's transform) at |k − kc| = 0, 1, 2, …
+    deconv: std::sync::Arc<Vec<f64>>,
+}
+
+impl Transformed {
+    /// R_k from the transformed grid.
+    #[inline]
+    fn at(&self, grid: &[Complex64], k: i64) -> Complex64 {
+        let kp = k - self.kc;
+        grid[(kp as usize) & self.mask] * self.deconv[kp.unsigned_abs() as usize]
+    }
+}
+
 /// Type-1 non-uniform sums R_k = Σ_i h_i exp(2πi k u_i) for the integer modes
-/// k = kmin..=kmax (returned in that order), for positions u_i ∈ [0, 1).
-/// `u` and `h` are consumed as work arrays of equal length (h is modified).
-fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) -> Vec<Complex64> {
+/// k = kmin..=kmax, for positions u_i ∈ [0, 1) held in the workspace (`u`, `h`; h is
+/// modified). The result stays in `ws.grid`; read mode k with [`Transformed::at`].
+fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) -> Transformed {
     let modes = (kmax - kmin + 1) as usize;
     let kc = kmin + (modes as i64) / 2;
     let (nfft, msp, tau) = gridding_plan(modes, opt);
-    let Workspace { planner, grid, fft_scratch, u, h } = ws;
+    let Workspace { planner, grid, fft_scratch, u, h, .. } = &mut *ws;
     grid.clear();
     grid.resize(nfft, Complex64::new(0.0, 0.0));
     // exp(−q²/(4τ)) for q = −M_sp+1 ..= M_sp (index q + M_sp − 1).
     let e3: Vec<f64> = (1 - msp as i64..=msp as i64).map(|q| (-((q * q) as f64) / (4.0 * tau)).exp()).collect();
     let nf = nfft as f64;
     let mask = nfft - 1; // nfft is a power of two
+    let width = e3.len();
     for (&ui, hi) in u.iter().zip(h.iter_mut()) {
         // Centre the modes: Σ h e^{2πi k u} = Σ (h e^{2πi kc u}) e^{2πi (k − kc) u}.
         if kc != 0 {
@@ -97,16 +120,21 @@ fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) 
         let x = ui * nf;
         let c0 = x.floor();
         let d = x - c0;
-        let e1 = (-d * d / (4.0 * tau)).exp();
+        // G(q − d) = e3[q]·exp(−d²/(4τ))·e2^q with e2 = exp(d/(2τ)), from q = −M_sp + 1.
         let e2 = (d / (2.0 * tau)).exp();
-        // G(q − d) = e3[q]·e1·e2^q, built up from q = −M_sp + 1.
-        let mut v = e1 * e2.powi(1 - msp as i32);
-        let base = c0 as i64 - msp as i64 + 1;
+        let mut v = (-d * d / (4.0 * tau) - (msp as f64 - 1.0) * d / (2.0 * tau)).exp();
+        let base = (c0 as i64 - msp as i64 + 1) as usize & mask;
         let hv = *hi;
-        for (j, &g3) in e3.iter().enumerate() {
-            let idx = ((base + j as i64) as usize) & mask;
-            grid[idx] += hv * (g3 * v);
-            v *= e2;
+        if base + width <= nfft {
+            for (cell, &g3) in grid[base..base + width].iter_mut().zip(&e3) {
+                *cell += hv * (g3 * v);
+                v *= e2;
+            }
+        } else {
+            for (j, &g3) in e3.iter().enumerate() {
+                grid[(base + j) & mask] += hv * (g3 * v);
+                v *= e2;
+            }
         }
     }
     let fft = planner.plan_fft_inverse(nfft);
@@ -115,28 +143,36 @@ fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) 
         fft_scratch.resize(need, Complex64::new(0.0, 0.0));
     }
     fft.process_with_scratch(grid, &mut fft_scratch[..need]);
-    // Undo the spreading: divide by sqrt(4πτ)·exp(−τω²), ω = 2π k'/nfft, by a recurrence
-    // in |k'| (exp(−τc k²) with c = (2π/nfft)²; relative rounding ~|k'|·1e-16).
-    let c = (std::f64::consts::TAU / nf).powi(2);
+    // Undo the spreading: divide by sqrt(4πτ)·exp(−τω²), ω = 2π k'/nfft, i.e. multiply by
+    // exp(τc k'²)/sqrt(4πτ) with c = (2π/nfft)²: a product recurrence in |k'| (no divisions),
+    // re-seeded every 256 modes; kept per thread for the last few transform shapes.
     let kmax_abs = (kmin - kc).abs().max((kmax - kc).abs()) as usize;
-    let mut deconv = Vec::with_capacity(kmax_abs + 1);
-    let (mut a, mut b, step) = (1.0f64, (-tau * c).exp(), (-2.0 * tau * c).exp());
-    let norm = 1.0 / (4.0 * std::f64::consts::PI * tau).sqrt();
-    for k in 0..=kmax_abs {
-        if k % 256 == 0 {
-            a = (-tau * c * (k * k) as f64).exp();
-            b = (-tau * c * (2 * k + 1) as f64).exp();
+    let key = (nfft, modes, kmax_abs);
+    let deconv = match ws.deconv.iter().find(|(k, _)| *k == key) {
+        Some((_, table)) => table.clone(),
+        None => {
+            let c = (std::f64::consts::TAU / nf).powi(2);
+            let mut table = Vec::with_capacity(kmax_abs + 1);
+            let norm = 1.0 / (4.0 * std::f64::consts::PI * tau).sqrt();
+            let (mut a, mut b, step) = (norm, (tau * c).exp(), (2.0 * tau * c).exp());
+            for k in 0..=kmax_abs {
+                if k % 256 == 0 {
+                    a = norm * (tau * c * (k * k) as f64).exp();
+                    b = (tau * c * (2 * k + 1) as f64).exp();
+                }
+                table.push(a);
+                a *= b;
+                b *= step;
+            }
+            let table = std::sync::Arc::new(table);
+            if ws.deconv.len() >= 4 {
+                ws.deconv.remove(0);
+            }
+            ws.deconv.push((key, table.clone()));
+            table
         }
-        deconv.push(norm / a);
-        a *= b;
-        b *= step;
-    }
-    (kmin..=kmax)
-        .map(|k| {
-            let kp = k - kc;
-            grid[(kp.rem_euclid(nfft as i64)) as usize] * deconv[kp.unsigned_abs() as usize]
-        })
-        .collect()
+    };
+    Transformed { kc, mask, deconv }
 }
 
 /// Fills the workspace positions u_i = frac((t_i − t0)·df) and values h_i·e^{2πi f0 (t_i − t0)}.
@@ -160,26 +196,28 @@ fn load(ws: &mut Workspace, t: &[f64], t0: f64, h: impl Iterator<Item = Complex6
     }
 }
 
-/// Σ_i h_i exp(2πi·(f0 + k·df)·t_i) for k = 0..m (complex), by gridding + FFT.
-fn trig_sum(t: &[f64], h: impl Iterator<Item = Complex64>, f0: f64, df: f64, m: usize, opt: &FastOptions) -> Vec<Complex64> {
+/// Σ_i h_i exp(2πi·(f0 + k·df)·t_i) for k = 0..m, by gridding + FFT; (real parts,
+/// imaginary parts).
+fn trig_sum(t: &[f64], h: impl Iterator<Item = Complex64>, f0: f64, df: f64, m: usize, opt: &FastOptions) -> (Vec<f64>, Vec<f64>) {
     let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
-    let raw = WORK.with(|w| {
+    WORK.with(|w| {
         let ws = &mut *w.borrow_mut();
         load(ws, t, t0, h, f0, df);
-        nonuniform_sums(ws, 0, m as i64 - 1, opt)
-    });
-    let mut out = raw;
-    let step = phase_step(df * t0);
-    let mut rot = Complex64::new(1.0, 0.0);
-    for (k, z) in out.iter_mut().enumerate() {
-        if k % RESEED == 0 {
-            let (c, s) = cis_cycles((f0 + k as f64 * df) * t0);
-            rot = Complex64::new(c, s);
+        let tr = nonuniform_sums(ws, 0, m as i64 - 1, opt);
+        let (mut re, mut im) = (Vec::with_capacity(m), Vec::with_capacity(m));
+        let step = phase_step(df * t0);
+        let mut rot = Complex64::new(1.0, 0.0);
+        for k in 0..m {
+            if k % RESEED == 0 {
+                rot = phase_step((f0 + k as f64 * df) * t0);
+            }
+            let z = tr.at(&ws.grid, k as i64) * rot;
+            re.push(z.re);
+            im.push(z.im);
+            rot *= step;
         }
-        *z *= rot;
-        rot *= step;
-    }
-    out
+        (re, im)
+    })
 }
 
 /// Frequencies between exact re-seeds of the phase-factor recurrence (error ~RESEED·1e-16).
@@ -192,32 +230,34 @@ fn phase_step(cycles: f64) -> Complex64 {
 
 /// Two real sums at once, when f0 = j0·df: with h = a + i·b (a, b real) and start 0,
 /// Σ a e^{iθ} = (R_k + conj R_{−k})/2 and Σ b e^{iθ} = (R_k − conj R_{−k})/(2i), from one
-/// transform over the modes −(j0+m−1) ..= j0+m−1.
-fn trig_sum_pair(t: &[f64], a: &[f64], b: &[f64], j0: usize, df: f64, m: usize, opt: &FastOptions) -> (Vec<Complex64>, Vec<Complex64>) {
+/// transform over the modes −(j0+m−1) ..= j0+m−1. Returns (Σa cos, Σa sin, Σb cos, Σb sin).
+fn trig_sum_pair(t: &[f64], a: &[f64], b: &[f64], j0: usize, df: f64, m: usize, opt: &FastOptions) -> [Vec<f64>; 4] {
     let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
     let top = (j0 + m - 1) as i64;
-    let raw = WORK.with(|w| {
+    WORK.with(|w| {
         let ws = &mut *w.borrow_mut();
         load(ws, t, t0, a.iter().zip(b).map(|(&x, &y)| Complex64::new(x, y)), 0.0, df);
-        nonuniform_sums(ws, -top, top, opt)
-    });
-    let at = |k: i64| raw[(k + top) as usize];
-    let mut out_a = Vec::with_capacity(m);
-    let mut out_b = Vec::with_capacity(m);
-    let step = phase_step(df * t0);
-    let mut rot = Complex64::new(1.0, 0.0);
-    for k in 0..m {
-        let kk = (j0 + k) as i64;
-        if k % RESEED == 0 {
-            rot = phase_step(kk as f64 * df * t0);
+        let tr = nonuniform_sums(ws, -top, top, opt);
+        let mut out: [Vec<f64>; 4] = std::array::from_fn(|_| Vec::with_capacity(m));
+        let step = phase_step(df * t0);
+        let mut rot = Complex64::new(1.0, 0.0);
+        for k in 0..m {
+            let kk = (j0 + k) as i64;
+            if k % RESEED == 0 {
+                rot = phase_step(kk as f64 * df * t0);
+            }
+            let p = tr.at(&ws.grid, kk);
+            let q = tr.at(&ws.grid, -kk).conj();
+            let sa = (p + q) * 0.5 * rot;
+            let sb = (p - q) * Complex64::new(0.0, -0.5) * rot;
+            out[0].push(sa.re);
+            out[1].push(sa.im);
+            out[2].push(sb.re);
+            out[3].push(sb.im);
+            rot *= step;
         }
-        let p = at(kk);
-        let q = at(-kk).conj();
-        out_a.push((p + q) * 0.5 * rot);
-        out_b.push((p - q) * Complex64::new(0.0, -0.5) * rot);
-        rot *= step;
-    }
-    (out_a, out_b)
+        out
+    })
 }
 
 fn real(v: &[f64]) -> impl Iterator<Item = Complex64> + '_ {
@@ -251,19 +291,13 @@ pub fn fast_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, opt: &Fa
         if packed {
             trig_sum_pair(t, w, h, j0 as usize, df, m, opt)
         } else {
-            (trig_sum(t, real(w), f0, df, m, opt), trig_sum(t, real(h), f0, df, m, opt))
+            let ((c, s), (yc, ys)) = (trig_sum(t, real(w), f0, df, m, opt), trig_sum(t, real(h), f0, df, m, opt));
+            [c, s, yc, ys]
         }
     };
     let second = || trig_sum(t, real(w), 2.0 * f0, 2.0 * df, m, opt);
-    let ((a, b), c) = if gridding_plan(m, opt).0 >= PARALLEL_FFT_LEN { rayon::join(first, second) } else { (first(), second()) };
-    TrigSums {
-        c: a.iter().map(|z| z.re).collect(),
-        s: a.iter().map(|z| z.im).collect(),
-        yc: b.iter().map(|z| z.re).collect(),
-        ys: b.iter().map(|z| z.im).collect(),
-        c2: c.iter().map(|z| z.re).collect(),
-        s2: c.iter().map(|z| z.im).collect(),
-    }
+    let ([c, s, yc, ys], (c2, s2)) = if gridding_plan(m, opt).0 >= PARALLEL_FFT_LEN { rayon::join(first, second) } else { (first(), second()) };
+    TrigSums { c, s, yc, ys, c2, s2 }
 }
 
 #[cfg(test)]
