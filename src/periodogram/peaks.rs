@@ -205,9 +205,10 @@ impl AliasFrequency {
 
 /// The aliases of a peak at `freq_per_day` that lie within [`lo_per_day`, `hi_per_day`]:
 /// |f ± 1 c/sidereal day| (1.0027379 c/d), |f ± 1 c/yr| (1/365.25 c/d), the harmonic 2f
-/// and the subharmonic f/2 (common practice). In that order; ones outside the range are
-/// left out.
-pub fn alias_frequencies(freq_per_day: f64, lo_per_day: f64, hi_per_day: f64) -> Vec<AliasFrequency> {
+/// and the subharmonic f/2 (common practice). In that order; ones outside the range, and
+/// ones closer to f than `min_offset_per_day` (unresolvable: use the resolution 1/T of the
+/// baseline T, as [`annotate_aliases`] does), are left out.
+pub fn alias_frequencies(freq_per_day: f64, lo_per_day: f64, hi_per_day: f64, min_offset_per_day: f64) -> Vec<AliasFrequency> {
     let f = freq_per_day;
     let candidates = [
         ((f - SIDEREAL_FREQ_PER_DAY).abs(), AliasKind::SiderealDay { n: -1 }),
@@ -222,7 +223,7 @@ pub fn alias_frequencies(freq_per_day: f64, lo_per_day: f64, hi_per_day: f64) ->
     }
     candidates
         .into_iter()
-        .filter(|(x, _)| *x >= lo_per_day && *x <= hi_per_day)
+        .filter(|(x, _)| *x >= lo_per_day && *x <= hi_per_day && (x - f).abs() >= min_offset_per_day)
         .map(|(x, kind)| AliasFrequency { freq_per_day: x, kind })
         .collect()
 }
@@ -269,15 +270,18 @@ mod alias_frequency_tests {
     /// 2f = 1.6, f/2 = 0.4 (definitions, common practice).
     #[test]
     fn aliases_of_a_peak_within_the_range() {
-        let a = alias_frequencies(0.8, 0.01, 2.0);
+        let a = alias_frequencies(0.8, 0.01, 2.0, 0.001);
         let f: Vec<f64> = a.iter().map(|x| x.freq_per_day).collect();
         assert_eq!(f.len(), 6);
         assert!((f[0] - 0.2027379).abs() < 1e-12 && (f[1] - 1.8027379).abs() < 1e-12);
         assert!((f[2] - (0.8 - 1.0 / 365.25)).abs() < 1e-12 && (f[3] - (0.8 + 1.0 / 365.25)).abs() < 1e-12);
         assert_eq!((f[4], f[5]), (1.6, 0.4));
         // 2f and f+1/sd fall outside [0, 1.5]
-        let b = alias_frequencies(0.8, 0.0, 1.5);
+        let b = alias_frequencies(0.8, 0.0, 1.5, 0.001);
         assert!(b.iter().all(|x| x.freq_per_day <= 1.5) && b.len() == 4);
+        // a 100-day baseline (resolution 0.01 c/d) cannot separate the ±1/yr aliases
+        let c = alias_frequencies(0.8, 0.0, 2.0, 1.0 / 100.0);
+        assert!(c.len() == 4 && c.iter().all(|x| !matches!(x.kind, AliasKind::Year { .. })));
         assert_eq!(a[4].short_label(), "2f");
     }
 }

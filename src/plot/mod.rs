@@ -158,7 +158,8 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                     .map_err(|e| e.to_string())?
                     .label(label.as_str())
                     .legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
-                let ytext = yb - 0.12 * (yb - ya);
+                // Below the legend box (upper right) so that no guide text hides under it.
+                let ytext = yb - 0.2 * (yb - ya);
                 chart
                     .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))))
                     .map_err(|e| e.to_string())?;

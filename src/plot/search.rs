@@ -16,7 +16,8 @@ pub const PEAK_LAYER_LABEL: &str = "top peaks (rank; * = likely alias)";
 /// The periodogram of `outcome` (power against frequency in c/d) with the described peaks
 /// marked by rank (a `*` when the peak is a likely alias of a stronger one) and, as a
 /// separate dashed layer, the alias frequencies of the top peak inside the plotted range
-/// (see [`alias_frequencies`]). An outcome without a spectrum (batch summaries) gives a
+/// and farther from it than the resolution 1/T of the baseline (see [`alias_frequencies`]).
+/// An outcome without a spectrum (batch summaries) gives a
 /// panel with the markers only.
 pub fn periodogram_figure(outcome: &SearchOutcome, title: &str) -> Figure {
     let grid = &outcome.spectrum.grid;
@@ -26,7 +27,8 @@ pub fn periodogram_figure(outcome: &SearchOutcome, title: &str) -> Figure {
         Layer::Markers { label: PEAK_LAYER_LABEL.into(), x: outcome.peaks.iter().map(|p| p.peak.freq_per_day).collect(), text: marks, colour: (200, 30, 30) },
     ];
     if let Some(top) = outcome.peaks.first() {
-        let aliases = alias_frequencies(top.peak.freq_per_day, grid.start_per_day, grid.max_freq_per_day());
+        let resolution = if outcome.baseline_d > 0.0 { 1.0 / outcome.baseline_d } else { 0.0 };
+        let aliases = alias_frequencies(top.peak.freq_per_day, grid.start_per_day, grid.max_freq_per_day(), resolution);
         if !aliases.is_empty() {
             layers.push(Layer::Guides {
                 label: ALIAS_LAYER_LABEL.into(),
@@ -70,7 +72,7 @@ pub fn folded_figure(curve: &FoldedCurve<'_>, title: &str) -> Figure {
         x_label: "phase (cycles)".into(),
         y_label: curve.value_label.to_string(),
         invert_y: curve.invert_y,
-        height_weight: 3,
+        height_weight: 2,
         layers: vec![
             Layer::Points { label: "observations".into(), x: curve.phase.to_vec(), y: curve.value.to_vec(), y_err: err.clone(), colour: (120, 140, 180), size: 2 },
             Layer::Points {
@@ -85,7 +87,7 @@ pub fn folded_figure(curve: &FoldedCurve<'_>, title: &str) -> Figure {
     };
     let lower = Panel {
         x_label: "phase (cycles)".into(),
-        y_label: format!("residual: data − binned, {}", curve.value_label),
+        y_label: format!("residual, {}", curve.value_label),
         invert_y: curve.invert_y,
         height_weight: 1,
         layers: vec![
