@@ -53,7 +53,8 @@ pub struct Args {
     /// Refine each peak by a least-squares fit (period errors; ~70 ms per curve, slow for big surveys).
     #[arg(long)]
     pub refine_peaks: bool,
-    /// Points held in memory before a batch of sources is searched.
+    /// Points gathered before a batch of sources is searched (memory holds at most three
+    /// batches: one searched, one queued, one filling).
     #[arg(long, default_value_t = 2_000_000)]
     pub batch_points: usize,
     /// Output table (.csv, .tsv or .parquet), one row per source.

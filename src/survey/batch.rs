@@ -300,7 +300,8 @@ pub struct SourceRows {
 pub struct BatchOptions {
     /// Clock of the times (must be barycentric TDB: bjd_tdb or bmjd_tdb).
     pub clock: ClockSpec,
-    /// Points held before a batch of sources is searched (bounds memory; default 2 000 000).
+    /// Points gathered before a batch of sources is searched (memory holds at most three
+    /// such batches; default 2 000 000).
     pub batch_points: usize,
 }
 
@@ -327,8 +328,9 @@ pub struct BatchSummary {
     pub rows: usize,
     /// Most rows the table reader held at once (its slice; 1 for CSV/TSV).
     pub peak_reader_rows: usize,
-    /// Most grouped points held at once: sources waiting to be searched plus the source
-    /// being read. Bounded by `batch_points` + 2 × the longest source.
+    /// Most grouped points held at once: the batch being searched, the batch queued for
+    /// search, the sources gathering into the next batch and the source being read.
+    /// Bounded by 3 × (`batch_points` + the longest source).
     pub peak_points_held: usize,
 }
 
@@ -507,43 +509,71 @@ pub fn run_batch(
     }
     let mut summary = BatchSummary::default();
     let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0, peak_points: 0 };
-    let mut flush = |pending: Vec<SourceRows>, summary: &mut BatchSummary, fraction: f64| -> Result<(), TableError> {
-        let reports: Vec<SourceReport> = pending.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns)).collect();
-        summary.sources += reports.len();
-        summary.searched += reports.iter().filter(|r| r.outcome.is_ok()).count();
-        summary.skipped += reports.iter().filter(|r| r.outcome.is_err()).count();
-        sink(reports)?;
-        progress(summary.sources, fraction);
-        Ok(())
-    };
     let batch_points = options.batch_points.max(1);
     let read = rows.progress();
-    let mut ready: Vec<Vec<SourceRows>> = Vec::new();
-    rows.for_each_row(&mut |c| {
-        if let Some(done) = g.push(c) {
-            g.pending_points += done.value.len();
-            g.pending.push(done);
+    // Reading and searching overlap: a search thread takes whole batches of sources from a
+    // queue of one (so at most one batch searched, one queued and one filling), searches
+    // each in parallel (rayon) and hands the reports back in file order; this thread reads,
+    // groups, and delivers finished reports to `sink` between rows.
+    std::thread::scope(|scope| -> Result<(), TableError> {
+        let (to_search, searching) = std::sync::mpsc::sync_channel::<(Vec<SourceRows>, f64)>(1);
+        let (to_sink, finished) = std::sync::mpsc::channel::<(Vec<SourceReport>, usize, f64)>();
+        scope.spawn(move || {
+            for (batch, fraction) in searching {
+                let points: usize = batch.iter().map(|s| s.value.len()).sum();
+                let reports: Vec<SourceReport> = batch.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns)).collect();
+                drop(batch);
+                if to_sink.send((reports, points, fraction)).is_err() {
+                    break;
+                }
+            }
+        });
+        let mut in_flight_points = 0usize;
+        let mut deliver = |(reports, points, fraction): (Vec<SourceReport>, usize, f64), summary: &mut BatchSummary, in_flight: &mut usize| -> Result<(), TableError> {
+            *in_flight -= points;
+            summary.sources += reports.len();
+            summary.searched += reports.iter().filter(|r| r.outcome.is_ok()).count();
+            summary.skipped += reports.iter().filter(|r| r.outcome.is_err()).count();
+            sink(reports)?;
+            progress(summary.sources, fraction);
+            Ok(())
+        };
+        let send = |batch: Vec<SourceRows>, fraction: f64, in_flight: &mut usize| {
+            *in_flight += batch.iter().map(|s| s.value.len()).sum::<usize>();
+            // The search thread only stops early when this thread has stopped listening.
+            let _ = to_search.send((batch, fraction));
+        };
+        rows.for_each_row(&mut |c| {
+            if let Some(done) = g.push(c) {
+                g.pending_points += done.value.len();
+                g.pending.push(done);
+            }
+            let held = g.pending_points + g.current.as_ref().map_or(0, |s| s.value.len()) + in_flight_points;
+            g.peak_points = g.peak_points.max(held);
+            if g.pending_points >= batch_points || g.pending.len() >= 65_536 {
+                send(std::mem::take(&mut g.pending), read.fraction(), &mut in_flight_points);
+                g.pending_points = 0;
+            }
+            while let Ok(done) = finished.try_recv() {
+                deliver(done, &mut summary, &mut in_flight_points)?;
+            }
+            Ok(())
+        })?;
+        if let Some(last) = g.current.take() {
+            g.pending.push(last);
         }
-        let held = g.pending_points + g.current.as_ref().map_or(0, |s| s.value.len());
-        g.peak_points = g.peak_points.max(held);
-        if g.pending_points >= batch_points || g.pending.len() >= 65_536 {
-            ready.push(std::mem::take(&mut g.pending));
-            g.pending_points = 0;
+        if !g.pending.is_empty() {
+            send(std::mem::take(&mut g.pending), 1.0, &mut in_flight_points);
         }
-        if let Some(batch) = ready.pop() {
-            flush(batch, &mut summary, read.fraction())?;
+        drop(to_search);
+        for done in finished.iter() {
+            deliver(done, &mut summary, &mut in_flight_points)?;
         }
         Ok(())
     })?;
-    if let Some(last) = g.current.take() {
-        g.pending.push(last);
-    }
     summary.rows = g.rows;
     summary.peak_points_held = g.peak_points;
     summary.peak_reader_rows = rows.peak_rows_buffered();
-    if !g.pending.is_empty() {
-        flush(std::mem::take(&mut g.pending), &mut summary, 1.0)?;
-    }
     if summary.rows == 0 {
         return Err(TableError::Empty { file: file.to_string() });
     }
