@@ -41,8 +41,8 @@ struct Workspace {
     fft_scratch: Vec<Complex64>,
     u: Vec<f64>,
     h: Vec<Complex64>,
-    /// Deconvolution tables of recent transform shapes ((nfft, modes, max |k'|), table).
-    deconv: Vec<((usize, usize, usize), std::sync::Arc<Vec<f64>>)>,
+    /// Deconvolution tables of recent transform shapes ((nfft, τ bits, max |k'|), table).
+    deconv: Vec<((usize, u64, usize), std::sync::Arc<Vec<f64>>)>,
 }
 
 thread_local! {
@@ -147,7 +147,7 @@ fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) 
     // exp(τc k'²)/sqrt(4πτ) with c = (2π/nfft)²: a product recurrence in |k'| (no divisions),
     // re-seeded every 256 modes; kept per thread for the last few transform shapes.
     let kmax_abs = (kmin - kc).abs().max((kmax - kc).abs()) as usize;
-    let key = (nfft, modes, kmax_abs);
+    let key = (nfft, tau.to_bits(), kmax_abs);
     let deconv = match ws.deconv.iter().find(|(k, _)| *k == key) {
         Some((_, table)) => table.clone(),
         None => {
@@ -330,6 +330,28 @@ mod tests {
             eprintln!("fast sums, n {n}, start {start_steps} steps, m {m}: worst error / Σ|w| = {worst:.2e}");
             assert!(worst < 2e-8, "n {n}, start {start_steps} steps, m {m}: worst {worst:e}");
         }
+    }
+
+    /// Options change the Gaussian width: a coarser tolerance on the same grid and thread
+    /// must use its own deconvolution table (cached per shape and width), and be less
+    /// accurate but still within its tolerance scale.
+    #[test]
+    fn tolerance_option_is_honoured_after_caching() {
+        let mut rng = SeededRng::new(5);
+        let t: Vec<f64> = { let mut t: Vec<f64> = (0..500).map(|_| rng.uniform() * 40.0).collect(); t.sort_by(|a, b| a.total_cmp(b)); t };
+        let w = vec![1.0 / 500.0; 500];
+        let h: Vec<f64> = w.iter().map(|&x| x * rng.normal()).collect();
+        let grid = FrequencyGrid::new(1.0 / 40.0, 0.2 / 40.0, 3000).unwrap();
+        let e = crate::periodogram::sums::exact_sums(&t, &w, &h, &grid);
+        let worst = |o: FastOptions| {
+            let b = fast_sums(&t, &w, &h, &grid, &o);
+            (0..grid.len).map(|k| (b.c[k] - e.c[k]).abs().max((b.yc[k] - e.yc[k]).abs()).max((b.c2[k] - e.c2[k]).abs())).fold(0.0f64, f64::max)
+        };
+        let fine = worst(FastOptions::default());
+        let coarse = worst(FastOptions { tolerance: 1e-4, ..FastOptions::default() });
+        let fine_again = worst(FastOptions::default());
+        assert!(fine < 2e-8 && fine_again == fine, "{fine:e} {fine_again:e}");
+        assert!(coarse > 10.0 * fine && coarse < 1e-3, "{coarse:e}");
     }
 
     /// FFT lengths: ≥ 1.6 × the modes, powers of two (m = 10⁴ frequencies from 5 steps:
