@@ -118,7 +118,7 @@ fn main() {
         }
     }
     std::fs::write(&path, text).expect("write temporary CSV");
-    let columns = BatchColumns { source: "source".into(), time: "bjd".into(), value: "mag".into(), error: None, band: None };
+    let columns = BatchColumns { source: "source".into(), time: "bjd".into(), value: "mag".into(), error: None, band: None, ra_deg: None, dec_deg: None };
     let options = BatchOptions { clock: ClockSpec::parse_label("bjd_tdb").expect("label"), batch_points: 200_000 };
     let p = plan(Algorithm::Fast, 100.0);
     let leap = LeapSecondTable::builtin();

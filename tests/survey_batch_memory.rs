@@ -70,7 +70,7 @@ fn parquet_batch_holds_bounded_rows_and_skips_bad_sources() {
     let groups = ParquetReader::new(std::fs::File::open(&path).expect("open")).get_metadata().expect("metadata").row_groups.len();
     assert!(groups >= 10, "the table must span many row groups, got {groups}");
 
-    let columns = BatchColumns { source: "star".into(), time: "bjd".into(), value: "mag".into(), error: Some("mag_err".into()), band: None };
+    let columns = BatchColumns { source: "star".into(), time: "bjd".into(), value: "mag".into(), error: Some("mag_err".into()), band: None, ra_deg: None, dec_deg: None };
     let options = BatchOptions { clock: ClockSpec::parse_label("bjd_tdb").expect("label"), batch_points: BATCH_POINTS };
     let mut plan = SearchPlan::sinusoid_up_to(3.0);
     plan.peaks = 1;
