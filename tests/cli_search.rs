@@ -249,3 +249,30 @@ fn survey_batch_reads_parquet_by_slices() {
         assert!((got - p).abs() < 0.01 * p, "source {k}: {got}");
     }
 }
+
+#[test]
+fn survey_batch_carries_utc_times_with_source_positions() {
+    // Invented field in JD UTC at an invented site: positions per source carry the times
+    // to BJD_TDB; without the position columns the command refuses with a clear message.
+    let d = dir("batch-utc");
+    let csv = d.join("field_utc_invented.csv");
+    let mut s = String::from("star,jd,mag,mag_err,ra_deg,dec_deg\n");
+    for (k, (p, ra, dec)) in [(0.7, 45.0, 30.0), (1.3, 200.0, -40.0)].iter().enumerate() {
+        for (t, y, e) in light_curve(70 + k as u64, &[(1.0 / p, 0.1)], 0.01) {
+            s.push_str(&format!("inv-{k},{t:.8},{y:.6},{e},{ra},{dec}\n"));
+        }
+    }
+    std::fs::write(&csv, s).unwrap();
+    let output = d.join("periods.csv");
+    let base = ["survey-batch", "--input", csv.to_str().unwrap(), "--source-column", "star", "--time-column", "jd", "--clock", "jd_utc", "--value-column", "mag", "--error-column", "mag_err", "--max-freq-per-day", "3", "--peaks", "1", "--output", output.to_str().unwrap(), "--json"];
+    let (code, _, err) = run(&base);
+    assert_eq!(code, 1);
+    assert!(err.contains("right-ascension and declination"), "{err}");
+    let mut args = base.to_vec();
+    args.extend(["--ra-column", "ra_deg", "--dec-column", "dec_deg", "--site-coordinates=-70.40,-24.63,2635"]);
+    let (code, out, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["summary"]["searched"], 2);
+    assert!(v["times"].as_str().unwrap().contains("carried from jd_utc"), "{}", v["times"]);
+}
