@@ -21,3 +21,5 @@ pub mod survey;
 pub mod plot;
 pub mod pulsar;
 pub mod oc;
+pub mod predict;
+pub mod minima;

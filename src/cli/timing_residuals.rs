@@ -24,7 +24,7 @@ const EXAMPLE: &str = "Example (invented star):
       --error-column error_d --kind-column kind --source-file star.toml \\
       --epoch-bjd-tdb 2451234.56789 --period-d 0.7345123 --period-sigma-d 2e-7 \\
       --models linear,quadratic,quadratic+light-time --bootstrap 500 \\
-      --output residuals.csv --summary residuals.json
+      --output residuals.csv --summary residuals.json --figure oc.svg --orbit-figure orbit.svg
 
   The kind column holds primary / secondary / maximum (secondaries get half cycles); errors
   are 1σ in days. The output table has, per timing in time order: row, bjd_tdb, cycle,
@@ -77,7 +77,8 @@ pub struct Args {
     /// Keep going when the cycle count is ambiguous (a warning instead of an error).
     #[arg(long)]
     pub allow_ambiguous_cycles: bool,
-    /// Models to fit, comma-separated: linear, quadratic, light-time, quadratic+light-time.
+    /// Models to fit, comma-separated: linear, quadratic, light-time, quadratic+light-time,
+    /// two-light-time, quadratic+two-light-time (two companions).
     #[arg(long, value_name = "LIST", default_value = "linear,quadratic")]
     pub models: String,
     /// Companion periods to search, days: LOW,HIGH (default from the data span).
@@ -86,6 +87,14 @@ pub struct Args {
     /// Rescale each origin's errors to reduced χ² = 1.
     #[arg(long)]
     pub rescale_per_source: bool,
+    /// Down-weight outlying timings with Huber's robust loss (iteratively reweighted least
+    /// squares); the notes list the rows that lost more than half their weight.
+    #[arg(long)]
+    pub robust_loss: bool,
+    /// Tuning constant of the robust loss, in units of each timing's 1σ (1.345: 95 %
+    /// efficiency for Gaussian errors).
+    #[arg(long, value_name = "K", default_value_t = crate::fit::robust::HUBER_DEFAULT_K, requires = "robust_loss")]
+    pub robust_tuning_constant: f64,
     /// Bootstrap resamples (0: covariance errors only).
     #[arg(long, value_name = "N", default_value_t = 0)]
     pub bootstrap: usize,
@@ -101,6 +110,13 @@ pub struct Args {
     /// JSON summary file.
     #[arg(long, value_name = "FILE")]
     pub summary: Option<PathBuf>,
+    /// O–C diagram (.svg or .png): timings coded by origin or kind, the model preferred by
+    /// BIC with its 1σ band, and a residuals panel.
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
+    /// Light-time orbit figure (.svg or .png) of the preferred light-time model, if one was fitted.
+    #[arg(long, value_name = "FILE")]
+    pub orbit_figure: Option<PathBuf>,
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
@@ -112,11 +128,11 @@ pub fn run(a: Args) -> Result<()> {
     let models: Vec<ModelKind> = a
         .models
         .split(',')
-        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time or quadratic+light-time")))
+        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time")))
         .collect::<Result<_>>()?;
     // Stated with every companion fit: its intervals were calibrated on synthetic sets with
     // ~2.6 companion orbits inside the baseline (tests/timing_recovery.rs).
-    let cautions: Vec<String> = if models.iter().any(|m| matches!(m, ModelKind::LinearLightTime | ModelKind::QuadraticLightTime)) {
+    let cautions: Vec<String> = if models.iter().any(|m| m.has_light_time()) {
         vec!["caution: a light-time companion fit is the best local minimum of a grid search; its intervals were \
               verified on synthetic sets covering several companion orbits, and a companion period near or beyond \
               the baseline trades off against dP/dt, so read such fits as indicative".to_string()]
@@ -184,7 +200,12 @@ pub fn run(a: Args) -> Result<()> {
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
     let series = assign_cycles(&timings, &eph, &CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles }).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-    let options = FitOptions { rescale_per_source: a.rescale_per_source, companion_period_range_d: range, ..Default::default() };
+    let options = FitOptions {
+        rescale_per_source: a.rescale_per_source,
+        companion_period_range_d: range,
+        huber_k: a.robust_loss.then_some(a.robust_tuning_constant),
+        ..Default::default()
+    };
     let mut fits = Vec::new();
     for &m in &models {
         fits.push(fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"))?);
@@ -221,10 +242,12 @@ pub fn run(a: Args) -> Result<()> {
             .enumerate()
             .map(|(j, d)| serde_json::json!({"name": d.0, "value": d.1, "sigma_covariance": d.2, "sigma_bootstrap": boot.as_ref().map(|b| b.derived_sigma[j].1)}))
             .collect();
-        if let (Some(m12), Some((fm, fm_s))) = (a.binary_mass_msun, f.derived_value("mass_function_msun")) {
-            let m3 = minimum_companion_mass_msun(fm, m12);
-            let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
-            derived.push(serde_json::json!({"name": "minimum_companion_mass_msun", "value": m3, "sigma_covariance": m3.zip(m3_hi).map(|(a, b)| b - a), "binary_mass_msun": m12}));
+        for (function_name, mass_name) in [("mass_function_msun", "minimum_companion_mass_msun"), ("companion2_mass_function_msun", "companion2_minimum_mass_msun")] {
+            if let (Some(m12), Some((fm, fm_s))) = (a.binary_mass_msun, f.derived_value(function_name)) {
+                let m3 = minimum_companion_mass_msun(fm, m12);
+                let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
+                derived.push(serde_json::json!({"name": mass_name, "value": m3, "sigma_covariance": m3.zip(m3_hi).map(|(a, b)| b - a), "binary_mass_msun": m12}));
+            }
         }
         model_json.push(serde_json::json!({
             "model": f.kind.name(), "fit": information(f), "parameters": params, "derived": derived,
@@ -235,13 +258,7 @@ pub fn run(a: Args) -> Result<()> {
     let mut comparisons = Vec::new();
     for i in 0..fits.len() {
         for j in 0..fits.len() {
-            let nested = match (fits[i].kind, fits[j].kind) {
-                (x, y) if x == y => false,
-                (ModelKind::Linear, _) => true,
-                (ModelKind::Quadratic, ModelKind::QuadraticLightTime) => true,
-                (ModelKind::LinearLightTime, ModelKind::QuadraticLightTime) => true,
-                _ => false,
-            };
+            let nested = fits[i].kind.is_nested_in(fits[j].kind);
             if nested && let Some(t) = compare_nested(&fits[i], &fits[j]) {
                 comparisons.push(t);
             }
@@ -255,6 +272,25 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+    let by_bic = |f: &&crate::oc::ModelFit| information(f).bic;
+    let title = format!("O − C of {}", source.name);
+    if let Some(path) = &a.figure {
+        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
+        let best = fits.iter().min_by(|x, y| by_bic(x).total_cmp(&by_bic(y))).context("no model was fitted")?;
+        let (e1, e2) = epoch.jd_two_part();
+        crate::plot::write_figure(&crate::plot::timing::oc_diagram(&title, &series, best, e1 + e2), path)?;
+    }
+    if let Some(path) = &a.orbit_figure {
+        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
+        let best = fits
+            .iter()
+            .filter(|f| f.kind.has_light_time())
+            .min_by(|x, y| by_bic(x).total_cmp(&by_bic(y)))
+            .context("--orbit-figure needs a light-time model in --models (light-time or quadratic+light-time)")?;
+        if let Some(fig) = crate::plot::timing::light_time_orbit(&title, &series, best) {
+            crate::plot::write_figure(&fig, path)?;
+        }
+    }
     let summary = serde_json::json!({
         "input": file, "output": a.output.display().to_string(), "timings": series.len(),
         "reference_ephemeris": {"epoch_bjd_tdb": a.epoch_bjd_tdb, "period_d": a.period_d, "period_sigma_d": a.period_sigma_d},

@@ -9,6 +9,7 @@
 pub mod levenberg;
 pub mod linear;
 pub mod random;
+pub mod robust;
 pub mod small;
 
 pub use levenberg::{LevenbergOptions, LsqModel, NonlinearFit, levenberg_marquardt};

@@ -107,6 +107,34 @@ impl Site {
     }
 }
 
+/// The rotation matrix M with r_GCRS = M · r_ITRS at `tt` (scale TT), for the UTC `utc` of
+/// the same instant and `orientation` (UT1 − UTC, polar motion): the chain of
+/// [`Site::gcrs_state`], M = Q(t)ᵀ · R3(−ERA) · Wᵀ (IERS Conventions 2010 ch. 5; SOFA
+/// `iauC2i06a`, `iauEra00`, `iauPom00`, `iauSp00` via sofars). Used to carry terrestrial
+/// directions (the local vertical, north and east) into the GCRS. Accuracy as the module.
+pub fn terrestrial_to_gcrs_matrix(tt: &Instant, utc: &Instant, orientation: &OrientationValues) -> [[f64; 3]; 3] {
+    let (tt1, tt2) = tt.jd_two_part();
+    let ut1 = utc.add_seconds(orientation.ut1_minus_utc_s);
+    let (u1, u2) = ut1.jd_two_part();
+    let c2i = sofars::pnp::c2i06a(tt1, tt2);
+    let era = sofars::erst::era00(u1, u2);
+    let sp = sofars::pnp::sp00(tt1, tt2);
+    let w = sofars::pnp::pom00(orientation.polar_motion_x_rad, orientation.polar_motion_y_rad, sp);
+    let (s, c) = era.sin_cos();
+    let mut m = [[0.0; 3]; 3];
+    for col in 0..3 {
+        let mut e = [0.0; 3];
+        e[col] = 1.0;
+        let tirs = mat_t_vec(&w, &e);
+        let cirs = [c * tirs[0] - s * tirs[1], s * tirs[0] + c * tirs[1], tirs[2]];
+        let g = mat_t_vec(&c2i, &cirs);
+        for row in 0..3 {
+            m[row][col] = g[row];
+        }
+    }
+    m
+}
+
 fn mat_t_vec(m: &[[f64; 3]; 3], v: &[f64; 3]) -> [f64; 3] {
     [
         m[0][0] * v[0] + m[1][0] * v[1] + m[2][0] * v[2],
@@ -132,5 +160,21 @@ mod tests {
         let s = Site::from_degrees("eq", 0.0, 0.0, 0.0).unwrap();
         let r = s.itrs_position_m();
         assert!((r[0] - 6_378_137.0).abs() < 1e-6 && r[1].abs() < 1e-6 && r[2].abs() < 1e-6);
+    }
+
+    #[test]
+    fn rotation_matrix_reproduces_the_site_position() {
+        // The matrix and gcrs_state follow one chain: they must agree to rounding.
+        let s = Site::from_degrees("x", 23.5, -31.2, 1500.0).unwrap();
+        let tt = Instant::from_mjd_parts(crate::time::TimeScale::Tt, 61_000, 12_345.0);
+        let utc = tt.add_seconds(-69.184).relabel(crate::time::TimeScale::Utc);
+        let o = OrientationValues::default();
+        let m = terrestrial_to_gcrs_matrix(&tt, &utc, &o);
+        let r = s.itrs_position_m();
+        let p = s.gcrs_state(&tt, &utc, &o).position_km;
+        for i in 0..3 {
+            let v = (m[i][0] * r[0] + m[i][1] * r[1] + m[i][2] * r[2]) / 1000.0;
+            assert!((v - p[i]).abs() < 1e-9, "{v} vs {}", p[i]);
+        }
     }
 }

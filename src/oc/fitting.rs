@@ -28,11 +28,14 @@ pub struct FitOptions {
     pub companion_period_range_d: Option<(f64, f64)>,
     /// Periodogram peaks used as starting points.
     pub peaks: usize,
+    /// Huber robust loss with this tuning constant (normalised residuals beyond k are
+    /// down-weighted by k/|r|; `fit::robust`), or `None` for plain least squares.
+    pub huber_k: Option<f64>,
 }
 
 impl Default for FitOptions {
     fn default() -> Self {
-        FitOptions { rescale_per_source: false, companion_period_range_d: None, peaks: 3 }
+        FitOptions { rescale_per_source: false, companion_period_range_d: None, peaks: 3, huber_k: None }
     }
 }
 
@@ -123,25 +126,52 @@ pub fn derived_values(kind: ModelKind, params: &[f64], reference_period_d: f64) 
         v.push(("period_change_d_per_cycle", 2.0 * q, 0.0));
         v.push(("period_change_s_per_yr", 2.0 * q / period * SECONDS_PER_DAY * DAYS_PER_YEAR, 0.0));
     }
-    if kind.has_light_time() {
-        let np = kind.n_polynomial();
-        let l = &params[np..np + 5];
+    let np = kind.n_polynomial();
+    for c in 0..kind.companions() {
+        let names = &COMPANION_DERIVED_NAMES[c];
+        let l = &params[np + 5 * c..np + 5 * c + 5];
         let (e, w) = eccentricity_omega(l[2], l[3]);
         let light_s = l[0] * SECONDS_PER_DAY;
         let p3_yr = l[1] / DAYS_PER_YEAR;
         let a_au = projected_semi_major_axis_au(light_s);
-        v.push(("semi_amplitude_s", irwin_semi_amplitude(light_s, e, w).abs(), 0.0));
-        v.push(("projected_light_time_s", light_s, 0.0));
-        v.push(("projected_semi_major_axis_au", a_au, 0.0));
-        v.push(("companion_period_d", l[1], 0.0));
-        v.push(("companion_period_yr", p3_yr, 0.0));
-        v.push(("eccentricity", e, 0.0));
-        v.push(("periastron_argument_deg", w.to_degrees().rem_euclid(360.0), 360.0));
-        v.push(("periastron_time_d", (-l[4] / TAU * l[1]).rem_euclid(l[1].abs()), l[1].abs()));
-        v.push(("mass_function_msun", mass_function_msun(a_au, p3_yr), 0.0));
+        v.push((names[0], irwin_semi_amplitude(light_s, e, w).abs(), 0.0));
+        v.push((names[1], light_s, 0.0));
+        v.push((names[2], a_au, 0.0));
+        v.push((names[3], l[1], 0.0));
+        v.push((names[4], p3_yr, 0.0));
+        v.push((names[5], e, 0.0));
+        v.push((names[6], w.to_degrees().rem_euclid(360.0), 360.0));
+        v.push((names[7], (-l[4] / TAU * l[1]).rem_euclid(l[1].abs()), l[1].abs()));
+        v.push((names[8], mass_function_msun(a_au, p3_yr), 0.0));
     }
     v
 }
+
+/// Names of the derived quantities of the first and the second companion.
+pub const COMPANION_DERIVED_NAMES: [[&str; 9]; 2] = [
+    [
+        "semi_amplitude_s",
+        "projected_light_time_s",
+        "projected_semi_major_axis_au",
+        "companion_period_d",
+        "companion_period_yr",
+        "eccentricity",
+        "periastron_argument_deg",
+        "periastron_time_d",
+        "mass_function_msun",
+    ],
+    [
+        "companion2_semi_amplitude_s",
+        "companion2_projected_light_time_s",
+        "companion2_projected_semi_major_axis_au",
+        "companion2_period_d",
+        "companion2_period_yr",
+        "companion2_eccentricity",
+        "companion2_periastron_argument_deg",
+        "companion2_periastron_time_d",
+        "companion2_mass_function_msun",
+    ],
+];
 
 fn wrapped(d: f64, wrap: f64) -> f64 {
     if wrap > 0.0 { d - wrap * (d / wrap).round() } else { d }
@@ -321,6 +351,9 @@ fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options
     if !(range.0 > 0.0 && range.1 > range.0 && range.1.is_finite()) {
         return Err(OcError::Invalid(format!("companion period range {:?} d must satisfy 0 < low < high", range)));
     }
+    if kind.companions() == 2 {
+        return fit_second_companion(series, kind, weights, options, range);
+    }
     let peaks = companion_search(series, kind, weights, range, options.peaks);
     let model = OcModel { kind, series, weights: weights.to_vec() };
     let np = kind.n_polynomial();
@@ -333,6 +366,49 @@ fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options
             start.extend([amp.max(1e-9), p3, c, s, phase - omega]);
             // A sinusoid's mean anomaly: 2π t/P₃ + M₀ + ω = 2π t/P₃ + phase.
             let _ = np;
+            match scaled_levenberg(&model, &start) {
+                Ok(f) if f.chi2.is_finite() => {
+                    if best.as_ref().is_none_or(|b| f.chi2 < b.chi2) {
+                        best = Some(f);
+                    }
+                }
+                Ok(_) => last_error = "non-finite χ²".into(),
+                Err(e) => last_error = e.to_string(),
+            }
+        }
+    }
+    match best {
+        Some(f) if f.covariance.iter().all(|v| v.is_finite()) => Ok((f.params, f.covariance, f.chi2)),
+        Some(_) => Err(OcError::NotConverged { model: kind.name(), detail: "the covariance is not finite".into() }),
+        None => Err(OcError::NotConverged { model: kind.name(), detail: last_error }),
+    }
+}
+
+/// Two companions: the one-companion model first, then a search of its residuals for the
+/// second orbit (same least-squares periodogram), then Levenberg–Marquardt on all
+/// parameters from each residual peak with several eccentricity starts.
+fn fit_second_companion(series: &OcSeries, kind: ModelKind, weights: &[f64], options: &FitOptions, range: (f64, f64)) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
+    let single = kind.with_one_companion_fewer().expect("a two-companion model");
+    let (first, _, _) = fit_with_weights(series, single, weights, options)?;
+    let mut residual = series.clone();
+    for i in 0..series.len() {
+        residual.oc_d[i] = series.oc_d[i] - evaluate(single, &first, series.cycle[i], series.time_d[i]);
+    }
+    let np = kind.n_polynomial();
+    let first_period = first[np + 1];
+    let peaks: Vec<(f64, f64, f64, f64)> = companion_search(&residual, single, weights, range, options.peaks + 2)
+        .into_iter()
+        .filter(|p| (p.0 / first_period - 1.0).abs() > 0.1)
+        .take(options.peaks.max(1))
+        .collect();
+    let model = OcModel { kind, series, weights: weights.to_vec() };
+    let mut best: Option<NonlinearFit> = None;
+    let mut last_error = String::from("no periodogram peak in the residuals of the one-companion fit");
+    for &(p3, _, amp, phase) in &peaks {
+        for &(c, s) in &[(0.3, 0.0), (0.0, 0.3), (-0.3, 0.0), (0.0, -0.3)] {
+            let omega: f64 = f64::atan2(s, c);
+            let mut start = first.clone();
+            start.extend([amp.max(1e-9), p3, c, s, phase - omega]);
             match scaled_levenberg(&model, &start) {
                 Ok(f) if f.chi2.is_finite() => {
                     if best.as_ref().is_none_or(|b| f.chi2 < b.chi2) {
@@ -400,15 +476,50 @@ pub fn fit_model(series: &OcSeries, kind: ModelKind, options: &FitOptions) -> Re
             .collect();
     }
     let mut notes = Vec::new();
-    if kind.has_light_time() {
-        let np = kind.n_polynomial();
-        let (e, _) = eccentricity_omega(params[np + 2], params[np + 3]);
+    if let Some(k) = options.huber_k {
+        if !(k.is_finite() && k > 0.0) {
+            return Err(OcError::Invalid(format!("the Huber tuning constant must be > 0, got {k}")));
+        }
+        // Iteratively reweighted least squares (Huber 1964), from the weights used so far;
+        // later refits start from the previous solution's companion search again.
+        let base = weights.clone();
+        let mut factors = vec![1.0; series.len()];
+        for _ in 0..8 {
+            let normalised: Vec<f64> = (0..series.len())
+                .map(|i| (series.oc_d[i] - evaluate(kind, &params, series.cycle[i], series.time_d[i])) * base[i].sqrt())
+                .collect();
+            let new = crate::fit::robust::huber_weight_factors(&normalised, k);
+            let change = new.iter().zip(&factors).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+            factors = new;
+            for i in 0..series.len() {
+                weights[i] = base[i] * factors[i];
+            }
+            let refit = fit_with_weights(series, kind, &weights, options)?;
+            params = refit.0;
+            cov = refit.1;
+            chi2 = refit.2;
+            if change < 1e-3 {
+                break;
+            }
+        }
+        let down: Vec<String> = (0..series.len()).filter(|&i| factors[i] < 0.5).map(|i| series.row[i].to_string()).collect();
+        notes.push(format!(
+            "Huber robust loss (k = {k}): {} timings down-weighted, {} of them below half weight{}",
+            factors.iter().filter(|f| **f < 1.0).count(),
+            down.len(),
+            if down.is_empty() { String::new() } else { format!(" (rows {})", down.join(", ")) }
+        ));
+    }
+    for c in 0..kind.companions() {
+        let first = kind.n_polynomial() + 5 * c;
+        let which = if c == 0 { "companion" } else { "second companion" };
+        let (e, _) = eccentricity_omega(params[first + 2], params[first + 3]);
         if e >= super::models::MAX_ECCENTRICITY - 1e-9 {
-            notes.push(format!("the eccentricity sits at its bound {}; the orbit is not well constrained", super::models::MAX_ECCENTRICITY));
+            notes.push(format!("the {which}'s eccentricity sits at its bound {}; the orbit is not well constrained", super::models::MAX_ECCENTRICITY));
         }
         let baseline = series.time_d.last().copied().unwrap_or(0.0) - series.time_d.first().copied().unwrap_or(0.0);
-        if params[np + 1] > baseline {
-            notes.push(format!("the companion period ({:.0} d) exceeds the span of the timings ({:.0} d); it is poorly determined", params[np + 1], baseline));
+        if params[first + 1] > baseline {
+            notes.push(format!("the {which}'s period ({:.0} d) exceeds the span of the timings ({:.0} d); it is poorly determined", params[first + 1], baseline));
         }
     }
     if params.iter().chain(cov.iter()).any(|v| !v.is_finite()) || !chi2.is_finite() {

@@ -14,6 +14,7 @@ pub mod compare;
 pub mod companion;
 pub mod cycles;
 pub mod fitting;
+pub mod light_time_method;
 pub mod models;
 pub mod orbit;
 

@@ -28,6 +28,11 @@ pub enum ModelKind {
     LinearLightTime,
     /// Quadratic plus the light time of one companion.
     QuadraticLightTime,
+    /// Linear plus the light times of two companions (hierarchical: each orbits the
+    /// barycentre of everything inside it; the delays add, common practice).
+    LinearTwoLightTime,
+    /// Quadratic plus the light times of two companions.
+    QuadraticTwoLightTime,
 }
 
 impl ModelKind {
@@ -38,6 +43,8 @@ impl ModelKind {
             "quadratic" => Some(ModelKind::Quadratic),
             "light-time" | "lighttime" | "ltte" => Some(ModelKind::LinearLightTime),
             "quadratic+light-time" | "quadratic-light-time" | "quadratic+ltte" => Some(ModelKind::QuadraticLightTime),
+            "two-light-time" | "light-time-2" => Some(ModelKind::LinearTwoLightTime),
+            "quadratic+two-light-time" | "quadratic-two-light-time" => Some(ModelKind::QuadraticTwoLightTime),
             _ => None,
         }
     }
@@ -48,15 +55,39 @@ impl ModelKind {
             ModelKind::Quadratic => "quadratic",
             ModelKind::LinearLightTime => "light-time",
             ModelKind::QuadraticLightTime => "quadratic+light-time",
+            ModelKind::LinearTwoLightTime => "two-light-time",
+            ModelKind::QuadraticTwoLightTime => "quadratic+two-light-time",
         }
     }
     /// Whether the model has the quadratic term.
     pub fn has_quadratic(self) -> bool {
-        matches!(self, ModelKind::Quadratic | ModelKind::QuadraticLightTime)
+        matches!(self, ModelKind::Quadratic | ModelKind::QuadraticLightTime | ModelKind::QuadraticTwoLightTime)
     }
     /// Whether the model has a companion.
     pub fn has_light_time(self) -> bool {
-        matches!(self, ModelKind::LinearLightTime | ModelKind::QuadraticLightTime)
+        self.companions() > 0
+    }
+    /// Number of light-time companions (0, 1 or 2).
+    pub fn companions(self) -> usize {
+        match self {
+            ModelKind::Linear | ModelKind::Quadratic => 0,
+            ModelKind::LinearLightTime | ModelKind::QuadraticLightTime => 1,
+            ModelKind::LinearTwoLightTime | ModelKind::QuadraticTwoLightTime => 2,
+        }
+    }
+    /// The same polynomial with one companion fewer (`None` for polynomial models).
+    pub fn with_one_companion_fewer(self) -> Option<ModelKind> {
+        match self {
+            ModelKind::Linear | ModelKind::Quadratic => None,
+            ModelKind::LinearLightTime => Some(ModelKind::Linear),
+            ModelKind::QuadraticLightTime => Some(ModelKind::Quadratic),
+            ModelKind::LinearTwoLightTime => Some(ModelKind::LinearLightTime),
+            ModelKind::QuadraticTwoLightTime => Some(ModelKind::QuadraticLightTime),
+        }
+    }
+    /// Whether `self` is nested in `richer` (fixing parameters of `richer` gives `self`).
+    pub fn is_nested_in(self, richer: ModelKind) -> bool {
+        self != richer && self.companions() <= richer.companions() && (!self.has_quadratic() || richer.has_quadratic())
     }
     /// Number of polynomial parameters (2 or 3).
     pub fn n_polynomial(self) -> usize {
@@ -64,7 +95,7 @@ impl ModelKind {
     }
     /// Total number of parameters.
     pub fn n_params(self) -> usize {
-        self.n_polynomial() + if self.has_light_time() { 5 } else { 0 }
+        self.n_polynomial() + 5 * self.companions()
     }
     /// Parameter names with units, in order.
     pub fn parameter_names(self) -> Vec<&'static str> {
@@ -72,8 +103,17 @@ impl ModelKind {
         if self.has_quadratic() {
             v.push("quadratic_d");
         }
-        if self.has_light_time() {
+        if self.companions() >= 1 {
             v.extend(["projected_light_time_d", "companion_period_d", "sqrt_e_cos_omega", "sqrt_e_sin_omega", "mean_anomaly_at_epoch_rad"]);
+        }
+        if self.companions() == 2 {
+            v.extend([
+                "companion2_projected_light_time_d",
+                "companion2_period_d",
+                "companion2_sqrt_e_cos_omega",
+                "companion2_sqrt_e_sin_omega",
+                "companion2_mean_anomaly_at_epoch_rad",
+            ]);
         }
         v
     }
@@ -100,8 +140,8 @@ pub fn evaluate(kind: ModelKind, params: &[f64], cycle: f64, t_d: f64) -> f64 {
     if kind.has_quadratic() {
         v += params[2] * cycle * cycle;
     }
-    if kind.has_light_time() {
-        v += light_time_d(&params[np..np + 5], t_d);
+    for c in 0..kind.companions() {
+        v += light_time_d(&params[np + 5 * c..np + 5 * c + 5], t_d);
     }
     v
 }
@@ -144,8 +184,10 @@ impl LsqModel for OcModel<'_> {
         if !self.kind.has_light_time() {
             return;
         }
-        // Central differences for the orbit (Kepler's equation has no closed-form inverse).
-        let base = &params[np..np + 5];
+        // Central differences for the orbits (Kepler's equation has no closed-form inverse).
+        for c in 0..self.kind.companions() {
+        let first = np + 5 * c;
+        let base = &params[first..first + 5];
         for j in 0..5 {
             let scale = match j {
                 0 => base[0].abs().max(1e-6),
@@ -160,8 +202,9 @@ impl LsqModel for OcModel<'_> {
             dn[j] -= h;
             for i in 0..n {
                 let t = self.series.time_d[i];
-                jac[i * p + np + j] = (light_time_d(&up, t) - light_time_d(&dn, t)) / (2.0 * h);
+                jac[i * p + first + j] = (light_time_d(&up, t) - light_time_d(&dn, t)) / (2.0 * h);
             }
+        }
         }
     }
     fn observed(&self) -> &[f64] {

@@ -7,9 +7,10 @@
 //! committed beside this file (Bitstream Vera licence, see fonts/DejaVuSans-LICENSE.txt),
 //! so no system fonts are needed.
 
-use std::path::Path;
-
 pub mod search;
+pub mod timing;
+
+use std::path::Path;
 
 use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
@@ -27,6 +28,8 @@ pub enum Layer {
     /// Dashed vertical guides at x with a short text each, written lower than the
     /// [`Layer::Markers`] texts (e.g. where aliases of a peak would fall).
     Guides { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+    /// A shaded band between `lower` and `upper` along x (a model's 1σ region).
+    Band { label: String, x: Vec<f64>, lower: Vec<f64>, upper: Vec<f64>, colour: (u8, u8, u8) },
 }
 
 /// One panel: axes with labels (put units in them, e.g. "period (d)").
@@ -85,7 +88,7 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
 
 fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, title: Option<&str>) -> Result<(), String> {
     let xs = panel.layers.iter().flat_map(|l| match l {
-        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Guides { x, .. } => x.clone(),
+        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Guides { x, .. } | Layer::Band { x, .. } => x.clone(),
     });
     let (x0, x1) = range(xs);
     let ys = panel.layers.iter().flat_map(|l| match l {
@@ -94,6 +97,7 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
             [v - e, v + e]
         }).collect::<Vec<f64>>(),
         Layer::Line { y, .. } => y.clone(),
+        Layer::Band { lower, upper, .. } => lower.iter().chain(upper).copied().collect(),
         Layer::Markers { .. } | Layer::Guides { .. } => Vec::new(),
     });
     let (y0, y1) = range(ys);
@@ -115,6 +119,18 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
         .map_err(|e| e.to_string())?;
     for layer in &panel.layers {
         match layer {
+            Layer::Band { label, x, lower, upper, colour } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                let ok: Vec<usize> = (0..x.len().min(lower.len()).min(upper.len()))
+                    .filter(|&i| x[i].is_finite() && lower[i].is_finite() && upper[i].is_finite())
+                    .collect();
+                let outline: Vec<(f64, f64)> = ok.iter().map(|&i| (x[i], upper[i])).chain(ok.iter().rev().map(|&i| (x[i], lower[i]))).collect();
+                chart
+                    .draw_series(std::iter::once(Polygon::new(outline, c.mix(0.25).filled())))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| Rectangle::new([(px, py - 5), (px + 16, py + 5)], c.mix(0.25).filled()));
+            }
             Layer::Points { label, x, y, y_err, colour, size } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
                 if let Some(e) = y_err {

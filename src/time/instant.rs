@@ -1,5 +1,3 @@
-// NOTE TO THE EPHEMERIS DEVELOPER (delete this line and the next before your first commit): before any work, read /work/notes/rules.md in full: it holds the project rules and the
-// working-environment rules (shared CARGO_TARGET_DIR=/work/main/target, --release only, commit in your worktree only) that apply to you.
 //! The absolute instant: whole days plus seconds within the day, on a stated time scale.
 //!
 //! A bare `f64` Julian Date near 2.46e6 resolves only ~40 µs, so no core API passes one.

@@ -1,0 +1,227 @@
+//! `skyclock measure-light-time`: from timings of a periodic source that were never carried
+//! to the barycentre, fit the annual light-time term of the observer's orbit alongside the
+//! ephemeris and report the light time per astronomical unit and the speed of light.
+
+use std::path::PathBuf;
+
+use anyhow::{Context, Result, bail};
+use clap::Args as ClapArgs;
+use polars::prelude::{Column, DataFrame};
+
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
+use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint};
+use crate::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time};
+use crate::oc::{EventKind, ReferenceEphemeris};
+use crate::table::write::write_atomically;
+use crate::table::{Provenance, float_column, read_table, text_column, write_table};
+use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
+
+const EXAMPLE: &str = "Example (invented star, times written at the telescope, never corrected):
+  skyclock measure-light-time --input raw_minima.csv --time-column time --clock jd_utc \\
+      --error-column error_d --kind-column kind --ra 08:45:00.0 --dec +17:30:00 \\
+      --site-coordinates=14.25,47.10,520 \\
+      --epoch-d 2459000.3145 --period-d 0.87654321 \\
+      --output light_time_residuals.csv --summary light_time.json
+
+  The times must be in an observer's clock (jd_*, mjd_*, rjd_*, iso_*): heliocentric or
+  barycentric times have had the very term removed that this command measures and are
+  refused. Every other correction (leap seconds, TT, TDB, the Shapiro terms) is applied;
+  only the Rømer delay is left in and fitted as
+      t = T0 + P·E [+ Q·E²] − A·(r·n)      (r·n: observer position towards the source, au)
+  The light time per au A and c = au/A are printed with their 1σ; the expected values are
+  499.004784 s and 299 792 458 m/s. The timings should cover at least several months.";
+
+/// Arguments of `skyclock measure-light-time`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    /// Timing table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub input: PathBuf,
+    /// Column holding the event times.
+    #[arg(long, value_name = "COLUMN")]
+    pub time_column: String,
+    /// Clock of all times: an observer's clock such as jd_utc, mjd_tt, iso_utc.
+    #[arg(long, value_name = "LABEL")]
+    pub clock: Option<String>,
+    /// Column holding a clock label per row.
+    #[arg(long, value_name = "COLUMN")]
+    pub clock_column: Option<String>,
+    /// Column holding the 1σ error of each time, in days.
+    #[arg(long, value_name = "COLUMN")]
+    pub error_column: String,
+    /// Column holding the event kind (primary, secondary, maximum); default: all primary.
+    #[arg(long, value_name = "COLUMN")]
+    pub kind_column: Option<String>,
+    #[command(flatten)]
+    pub observer: ObserverArgs,
+    #[command(flatten)]
+    pub source: SourceArgs,
+    #[command(flatten)]
+    pub reference_data: ReferenceDataArgs,
+    /// Epoch of a primary event (cycle 0) as seen by the observer, JD on the TDB scale
+    /// (an observed time of minimum is good enough: the fit refines it).
+    #[arg(long, value_name = "JD")]
+    pub epoch_d: String,
+    /// Period, days.
+    #[arg(long, value_name = "DAYS")]
+    pub period_d: f64,
+    /// 1σ of the period, days (for the cycle-count ambiguity check).
+    #[arg(long, value_name = "DAYS", default_value_t = 0.0)]
+    pub period_sigma_d: f64,
+    /// Fit a period change (quadratic term) as well.
+    #[arg(long)]
+    pub quadratic: bool,
+    /// Keep going when the cycle count is ambiguous (a warning instead of an error).
+    #[arg(long)]
+    pub allow_ambiguous_cycles: bool,
+    /// Output residual table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub output: PathBuf,
+    /// JSON summary file.
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    let clock = super::common::clock_choice(&a.clock, &a.clock_column, "jd_utc")?;
+    if let Some(spec) = &clock
+        && spec.reference != ReferencePoint::Observer
+    {
+        bail!(
+            "--clock: the light-time method needs times as seen by the observer (jd_utc, mjd_tt, iso_utc, …); \
+             heliocentric and barycentric times have already had the light-time term removed"
+        );
+    }
+    let file = a.input.display().to_string();
+    let description = a.observer.description()?;
+    let source = a.source.load(description.as_ref())?;
+    let observer = a.observer.observer_spec(description.as_ref())?;
+    let reference = a.reference_data.load()?;
+    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
+    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let mut text_columns = request.text_columns();
+    text_columns.extend(a.kind_column.as_deref());
+    let df = read_table(&a.input, &text_columns)?;
+    if let Some(column) = &a.clock_column {
+        let labels = text_column(&df, &file, column)?;
+        for (i, label) in labels.iter().enumerate() {
+            let text = label.as_deref().unwrap_or("");
+            if let Ok(spec) = ClockSpec::parse_label(text)
+                && spec.reference != ReferencePoint::Observer
+            {
+                bail!(
+                    "{file}, row {}, column '{column}': clock '{text}' is heliocentric or barycentric; the light-time method needs times as seen by the observer (jd_utc, mjd_tt, …)",
+                    i + 1
+                );
+            }
+        }
+    }
+    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
+    let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
+    let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
+    let roemer = float_column(&corrected, &file, "roemer_delay_s")?;
+    let errors = float_column(&df, &file, &a.error_column)?;
+    let kinds = match &a.kind_column {
+        Some(c) => Some(text_column(&df, &file, c)?),
+        None => None,
+    };
+    let mut timings = Vec::with_capacity(df.height());
+    for i in 0..df.height() {
+        let kind = match &kinds {
+            None => EventKind::Primary,
+            Some(k) => {
+                let text = k[i].as_deref().unwrap_or("");
+                EventKind::parse(text).with_context(|| {
+                    format!("{file}, row {}, column '{}': event kind '{text}' is not one of primary, secondary, maximum", i + 1, a.kind_column.as_deref().unwrap_or(""))
+                })?
+            }
+        };
+        if !(errors[i].is_finite() && errors[i] > 0.0) {
+            bail!("{file}, row {}, column '{}': error {} d must be finite and > 0", i + 1, a.error_column, errors[i]);
+        }
+        // Everything but the Rømer term: BJD_TDB minus the Rømer delay. The delay is
+        // r·n/c with the defined c; r·n in au follows with the defined au (exact constants).
+        let bjd = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
+        timings.push(UncorrectedTiming {
+            observer_tdb: bjd.add_seconds(-roemer[i]),
+            projection_au: roemer[i] / LIGHT_TIME_PER_AU_S,
+            error_d: errors[i],
+            kind,
+            row: i + 1,
+        });
+    }
+    let epoch = parse_time(&a.epoch_d, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
+        .map_err(|e| anyhow::anyhow!("--epoch-d '{}': {e}", a.epoch_d))?;
+    if !(a.period_d.is_finite() && a.period_d > 0.0) {
+        bail!("--period-d {}: the period must be a positive number of days", a.period_d);
+    }
+    let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
+    let options = LightTimeOptions { quadratic: a.quadratic, allow_ambiguous_cycles: a.allow_ambiguous_cycles };
+    let m = measure_light_time(&timings, &eph, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+
+    let columns = vec![
+        Column::new("row".into(), m.residuals.iter().map(|r| r.0 as u64).collect::<Vec<_>>()),
+        Column::new("cycle".into(), m.residuals.iter().map(|r| r.1).collect::<Vec<_>>()),
+        Column::new("time_since_epoch_d".into(), m.residuals.iter().map(|r| r.2).collect::<Vec<_>>()),
+        Column::new("residual_d".into(), m.residuals.iter().map(|r| r.3).collect::<Vec<_>>()),
+        Column::new("residual_s".into(), m.residuals.iter().map(|r| r.3 * 86_400.0).collect::<Vec<_>>()),
+    ];
+    let mut out = DataFrame::new(m.residuals.len(), columns).context("building the output table")?;
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "measure-light-time")
+        .with("input", file.clone())
+        .with("ephemeris", reference.ephemeris.name());
+    write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+    let deviation_sigma = (m.light_time_per_au_s - LIGHT_TIME_PER_AU_S) / m.light_time_per_au_sigma_scaled_s;
+    let summary = serde_json::json!({
+        "input": file, "output": a.output.display().to_string(), "timings": m.n,
+        "light_time_per_au_s": m.light_time_per_au_s,
+        "light_time_per_au_sigma_s": m.light_time_per_au_sigma_s,
+        "light_time_per_au_sigma_scaled_s": m.light_time_per_au_sigma_scaled_s,
+        "speed_of_light_m_per_s": m.speed_of_light_m_per_s,
+        "speed_of_light_sigma_m_per_s": m.speed_of_light_sigma_m_per_s,
+        "defined_light_time_per_au_s": LIGHT_TIME_PER_AU_S,
+        "defined_speed_of_light_m_per_s": SPEED_OF_LIGHT_M_PER_S,
+        "deviation_from_defined_sigma": deviation_sigma,
+        "period_d": m.period_d, "period_sigma_d": m.period_sigma_d,
+        "epoch_shift_d": m.epoch_shift_d, "epoch_shift_sigma_d": m.epoch_shift_sigma_d,
+        "quadratic_d": m.quadratic_d.map(|q| serde_json::json!({"value": q.0, "sigma": q.1})),
+        "chi2": m.chi2, "dof": m.dof, "reduced_chi2": m.reduced_chi2,
+        "projection_range_au": [m.projection_range_au.0, m.projection_range_au.1],
+        "warnings": m.warnings,
+        "ephemeris": reference.ephemeris.name(),
+    });
+    let text = serde_json::to_string_pretty(&summary)?;
+    if let Some(path) = &a.summary {
+        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
+        write_atomically(path, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+    }
+    for w in &m.warnings {
+        eprintln!("warning: {w}");
+    }
+    if m.reduced_chi2 > 2.0 {
+        eprintln!("warning: reduced χ² = {:.2}: the stated errors look too small; the scaled 1σ is the one to quote", m.reduced_chi2);
+    }
+    if a.json {
+        println!("{text}");
+    } else {
+        println!("{} timings, projections r·n from {:.3} to {:.3} au → {}", m.n, m.projection_range_au.0, m.projection_range_au.1, a.output.display());
+        println!(
+            "  light time per au  {:.4} ± {:.4} s  (defined value {:.6} s; {:+.1}σ)",
+            m.light_time_per_au_s, m.light_time_per_au_sigma_scaled_s, LIGHT_TIME_PER_AU_S, deviation_sigma
+        );
+        println!(
+            "  speed of light     {:.0} ± {:.0} m/s",
+            m.speed_of_light_m_per_s,
+            m.speed_of_light_sigma_m_per_s * m.reduced_chi2.max(1.0).sqrt()
+        );
+        println!("  period             {:.9} ± {:.9} d; χ² = {:.1} for {} dof", m.period_d, m.period_sigma_d, m.chi2, m.dof);
+    }
+    Ok(())
+}

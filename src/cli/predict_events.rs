@@ -1,0 +1,309 @@
+//! `skyclock predict-events`: upcoming events of a linear or quadratic ephemeris in a date
+//! range, with their uncertainty, the UTC at a site and whether they can be observed there.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{Context, Result, bail};
+use clap::Args as ClapArgs;
+use polars::prelude::{Column, DataFrame};
+
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use crate::arrival::{BarycentricCorrector, DelayOptions};
+use crate::oc::EventKind;
+use crate::predict::{EventEphemeris, PredictionOptions, SUN_CAUTION_DEG, SkyGeometry, predict_events};
+use crate::table::{Provenance, write_table};
+use crate::time::format::format_iso;
+use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+
+const EXAMPLE: &str = "Example (invented star and site):
+  skyclock predict-events --ra 07:41:12.5 --dec +28:14:03 \\
+      --site-coordinates=-7.625,38.418,740 \\
+      --epoch-bjd-tdb 2460123.41873 --period-d 0.8231456 \\
+      --epoch-sigma-d 0.00012 --period-sigma-d 3e-7 \\
+      --kinds primary,secondary --from 2027-01-10 --until 2027-02-10 \\
+      --event-duration-hours 2.5 --output upcoming.csv
+
+  or, with the fitted model of a timing-residuals summary:
+  skyclock predict-events --source-file fenwick-star.toml \\
+      --sites-file sites.toml --site quarry-hill \\
+      --ephemeris-summary residuals.json --summary-model quadratic \\
+      --from 2027-01-10 --until 2027-02-10 --json
+
+  Dates are UTC (YYYY-MM-DD or YYYY-MM-DDThh:mm) and select events by their BJD_TDB.
+  Altitudes are geometric (no refraction). Twilight classes: day (Sun above -0.833°),
+  civil (to -6°), nautical (to -12°), astronomical (to -18°), night. An event is
+  observable when the target is at least --min-target-altitude-deg high, the Sun at most
+  --max-sun-altitude-deg, the Moon at least --min-moon-separation-deg away (default: no
+  limit; the Moon is computed to ~0.3°), and the target at least 15° from the Sun. Events with the target
+  closer than 15° to the Sun carry a caution in the table and on stderr: they cannot be
+  observed safely and no optics should be pointed near the Sun.
+
+  Table columns: kind, cycle, bjd_tdb, bjd_tdb_jd1, bjd_tdb_jd2, sigma_d, utc_iso,
+  target_altitude_deg, target_azimuth_deg, sun_altitude_deg, sky_condition,
+  sun_separation_deg, moon_altitude_deg, moon_separation_deg, moon_illuminated_fraction,
+  observable, window_observable (with --event-duration-hours), caution.";
+
+/// Arguments of `skyclock predict-events`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    /// JSON summary written by `timing-residuals --summary` (its reference ephemeris and one fitted model).
+    #[arg(long, value_name = "FILE")]
+    pub ephemeris_summary: Option<PathBuf>,
+    /// Which model of the summary to use: linear or quadratic.
+    #[arg(long, value_name = "MODEL", default_value = "linear")]
+    pub summary_model: String,
+    /// Epoch of a primary event (cycle 0), BJD_TDB as a Julian Date (instead of a summary).
+    #[arg(long, value_name = "JD")]
+    pub epoch_bjd_tdb: Option<String>,
+    /// Period, days.
+    #[arg(long, value_name = "DAYS")]
+    pub period_d: Option<f64>,
+    /// 1σ of the epoch, days.
+    #[arg(long, value_name = "DAYS", default_value_t = 0.0)]
+    pub epoch_sigma_d: f64,
+    /// 1σ of the period, days.
+    #[arg(long, value_name = "DAYS", default_value_t = 0.0)]
+    pub period_sigma_d: f64,
+    /// Period change per cycle dP/dE, days per cycle (quadratic ephemeris).
+    #[arg(long, value_name = "DAYS", default_value_t = 0.0, allow_hyphen_values = true)]
+    pub period_change_per_cycle_d: f64,
+    /// 1σ of dP/dE, days per cycle.
+    #[arg(long, value_name = "DAYS", default_value_t = 0.0)]
+    pub period_change_per_cycle_sigma_d: f64,
+    /// Event kinds, comma-separated: primary, secondary, maximum.
+    #[arg(long, value_name = "LIST", default_value = "primary")]
+    pub kinds: String,
+    /// Start of the range, UTC (YYYY-MM-DD or YYYY-MM-DDThh:mm[:ss]).
+    #[arg(long, value_name = "DATE")]
+    pub from: String,
+    /// End of the range, UTC.
+    #[arg(long, value_name = "DATE")]
+    pub until: String,
+    /// Lowest useful target altitude, degrees.
+    #[arg(long, value_name = "DEG", default_value_t = 30.0, allow_hyphen_values = true)]
+    pub min_target_altitude_deg: f64,
+    /// Highest acceptable Sun altitude, degrees (-12: end of nautical twilight).
+    #[arg(long, value_name = "DEG", default_value_t = -12.0, allow_hyphen_values = true)]
+    pub max_sun_altitude_deg: f64,
+    /// Smallest acceptable distance between target and Moon, degrees (0: no limit).
+    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    pub min_moon_separation_deg: f64,
+    /// Full duration of the event, hours: the whole window centred on the event is checked.
+    #[arg(long, value_name = "HOURS")]
+    pub event_duration_hours: Option<f64>,
+    /// Distance from the Sun inside which events carry the caution, degrees (15 or more).
+    #[arg(long, value_name = "DEG", default_value_t = SUN_CAUTION_DEG)]
+    pub sun_caution_deg: f64,
+    /// Keep only observable events in the table and the listing.
+    #[arg(long)]
+    pub only_observable: bool,
+    #[command(flatten)]
+    pub observer: ObserverArgs,
+    #[command(flatten)]
+    pub source: SourceArgs,
+    #[command(flatten)]
+    pub reference_data: ReferenceDataArgs,
+    /// Output table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Print JSON on stdout instead of the listing.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    let kinds: Vec<EventKind> = a
+        .kinds
+        .split(',')
+        .map(|k| EventKind::parse(k).with_context(|| format!("--kinds: unknown event kind '{}'; use primary, secondary or maximum", k.trim())))
+        .collect::<Result<_>>()?;
+    let description = a.observer.description()?;
+    let site = a
+        .observer
+        .single_site(description.as_ref())?
+        .context("no site given: predictions need a ground site (--site-coordinates LON,LAT,HEIGHT, or --sites-file FILE with --site NAME)")?;
+    let source = a.source.load(description.as_ref())?;
+    let reference = a.reference_data.load()?;
+    let leap = reference.converter.leap_seconds().clone();
+    let start = parse_time(&a.from, TimeFormat::Iso, TimeScale::Utc, &leap).map_err(|e| anyhow::anyhow!("--from '{}': {e}", a.from))?;
+    let end = parse_time(&a.until, TimeFormat::Iso, TimeScale::Utc, &leap).map_err(|e| anyhow::anyhow!("--until '{}': {e}", a.until))?;
+    let (ephemeris, ephemeris_text) = load_ephemeris(&a, &leap)?;
+    let options = PredictionOptions {
+        min_target_altitude_deg: a.min_target_altitude_deg,
+        max_sun_altitude_deg: a.max_sun_altitude_deg,
+        event_duration_d: a.event_duration_hours.map(|h| h / 24.0),
+        sun_caution_deg: a.sun_caution_deg,
+        min_moon_separation_deg: a.min_moon_separation_deg,
+    };
+    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
+    let sky = SkyGeometry::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone());
+    let mut events = predict_events(&ephemeris, &kinds, &start, &end, &site, &corrector, &sky, &options)?;
+    let cautions: Vec<String> = events
+        .iter()
+        .filter_map(|e| e.sun_caution.as_ref().map(|c| format!("{} {} at {} UTC: {c}", e.kind.name(), e.cycle, format_iso(&e.utc, 0))))
+        .collect();
+    for c in &cautions {
+        eprintln!("{c}");
+    }
+    let beyond: Vec<i64> = events.iter().filter_map(|e| leap.days_beyond_horizon(e.utc.mjd_day())).collect();
+    let leap_warning = super::common::leap_second_warning(beyond.len(), beyond.iter().copied().max().unwrap_or(0), &leap);
+    if let Some(w) = &leap_warning {
+        eprintln!("{w}");
+    }
+    if a.only_observable {
+        events.retain(|e| e.observable && e.window_observable.unwrap_or(true));
+    }
+
+    let mut inputs: Vec<&Path> = Vec::new();
+    for p in [&a.ephemeris_summary, &a.source.source_file, &a.observer.sites_file, &a.reference_data.ephemeris_kernel, &a.reference_data.leap_seconds, &a.reference_data.earth_orientation].into_iter().flatten() {
+        inputs.push(p.as_path());
+    }
+    if let Some(path) = &a.output {
+        let n = events.len();
+        let mut columns = vec![
+            Column::new("kind".into(), events.iter().map(|e| e.kind.name().to_string()).collect::<Vec<_>>()),
+            Column::new("cycle".into(), events.iter().map(|e| e.cycle).collect::<Vec<_>>()),
+            Column::new("bjd_tdb".into(), events.iter().map(|e| format_time(&e.bjd_tdb, TimeFormat::Jd)).collect::<Vec<_>>()),
+            Column::new("bjd_tdb_jd1".into(), events.iter().map(|e| e.bjd_tdb.jd_two_part().0).collect::<Vec<_>>()),
+            Column::new("bjd_tdb_jd2".into(), events.iter().map(|e| e.bjd_tdb.jd_two_part().1).collect::<Vec<_>>()),
+            Column::new("sigma_d".into(), events.iter().map(|e| e.sigma_d).collect::<Vec<_>>()),
+            Column::new("utc_iso".into(), events.iter().map(|e| format_iso(&e.utc, 3)).collect::<Vec<_>>()),
+            Column::new("target_altitude_deg".into(), events.iter().map(|e| e.sky.target.altitude_deg).collect::<Vec<_>>()),
+            Column::new("target_azimuth_deg".into(), events.iter().map(|e| e.sky.target.azimuth_deg).collect::<Vec<_>>()),
+            Column::new("sun_altitude_deg".into(), events.iter().map(|e| e.sky.sun.altitude_deg).collect::<Vec<_>>()),
+            Column::new("sky_condition".into(), events.iter().map(|e| e.condition.name().to_string()).collect::<Vec<_>>()),
+            Column::new("sun_separation_deg".into(), events.iter().map(|e| e.sky.sun_separation_deg).collect::<Vec<_>>()),
+            Column::new("moon_altitude_deg".into(), events.iter().map(|e| e.sky.moon.altitude_deg).collect::<Vec<_>>()),
+            Column::new("moon_separation_deg".into(), events.iter().map(|e| e.sky.moon_separation_deg).collect::<Vec<_>>()),
+            Column::new("moon_illuminated_fraction".into(), events.iter().map(|e| e.sky.moon_illuminated_fraction).collect::<Vec<_>>()),
+            Column::new("observable".into(), events.iter().map(|e| e.observable).collect::<Vec<_>>()),
+        ];
+        if options.event_duration_d.is_some() {
+            columns.push(Column::new("window_observable".into(), events.iter().map(|e| e.window_observable.unwrap_or(false)).collect::<Vec<_>>()));
+        }
+        columns.push(Column::new("caution".into(), events.iter().map(|e| e.sun_caution.clone().unwrap_or_default()).collect::<Vec<_>>()));
+        let mut df = DataFrame::new(n, columns).context("building the output table")?;
+        let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+            .with("stage", "predict-events")
+            .with("ephemeris", reference.ephemeris.name())
+            .with("leap_seconds", leap.source().to_string())
+            .with("earth_orientation", reference.orientation.describe())
+            .with("event_ephemeris", ephemeris_text.clone())
+            .with("site", format!("{} ({:.6}°E, {:.6}°N, {} m)", site.name, site.east_longitude_rad.to_degrees(), site.latitude_rad.to_degrees(), site.height_m))
+            .with("altitudes", "geometric, no refraction; Moon from low-precision formulae (~0.3°)");
+        write_table(&mut df, path, &provenance, &inputs)?;
+    }
+
+    if a.json {
+        let rows: Vec<serde_json::Value> = events
+            .iter()
+            .map(|e| {
+                serde_json::json!({
+                    "kind": e.kind.name(), "cycle": e.cycle, "bjd_tdb": format_time(&e.bjd_tdb, TimeFormat::Jd),
+                    "sigma_d": e.sigma_d, "utc_iso": format_iso(&e.utc, 3),
+                    "target": e.sky.target, "sun": e.sky.sun, "moon": e.sky.moon,
+                    "sky_condition": e.condition.name(), "sun_separation_deg": e.sky.sun_separation_deg,
+                    "moon_separation_deg": e.sky.moon_separation_deg, "moon_illuminated_fraction": e.sky.moon_illuminated_fraction,
+                    "observable": e.observable, "window_observable": e.window_observable, "caution": e.sun_caution,
+                })
+            })
+            .collect();
+        let summary = serde_json::json!({
+            "event_ephemeris": ephemeris_text, "site": site.name, "source": source.name,
+            "from_utc": a.from, "until_utc": a.until, "events": rows, "cautions": cautions, "warnings": leap_warning.iter().collect::<Vec<_>>(),
+            "output": a.output.as_ref().map(|p| p.display().to_string()),
+        });
+        println!("{}", serde_json::to_string_pretty(&summary)?);
+    } else {
+        println!("{} event(s) of {} from {} to {} UTC at {}", events.len(), source.name, a.from, a.until, site.name);
+        println!("{:<9} {:>10} {:<19} {:>8} {:>7} {:>7} {:<21} {:>6}  {}", "kind", "cycle", "UTC", "±σ min", "alt°", "Sun°", "sky", "Moon°", "verdict");
+        for e in &events {
+            let verdict = if e.sun_caution.is_some() {
+                "CAUTION: near the Sun, do not observe"
+            } else if e.observable && e.window_observable.unwrap_or(true) {
+                "observable"
+            } else if e.observable {
+                "event only (window not fully)"
+            } else {
+                "-"
+            };
+            println!(
+                "{:<9} {:>10.1} {:<19} {:>8.2} {:>7.1} {:>7.1} {:<21} {:>6.0}  {}",
+                e.kind.name(),
+                e.cycle,
+                format_iso(&e.utc, 0).replacen('T', " ", 1),
+                e.sigma_d * 1440.0,
+                e.sky.target.altitude_deg,
+                e.sky.sun.altitude_deg,
+                e.condition.name(),
+                e.sky.moon_separation_deg,
+                verdict
+            );
+        }
+        if let Some(p) = &a.output {
+            println!("→ {}", p.display());
+        }
+    }
+    Ok(())
+}
+
+/// The ephemeris from the summary file or the command line, and a text for provenance.
+fn load_ephemeris(a: &Args, leap: &crate::time::LeapSecondTable) -> Result<(EventEphemeris, String)> {
+    if let Some(path) = &a.ephemeris_summary {
+        if a.epoch_bjd_tdb.is_some() || a.period_d.is_some() {
+            bail!("give either --ephemeris-summary or --epoch-bjd-tdb with --period-d, not both");
+        }
+        let file = path.display().to_string();
+        let text = std::fs::read_to_string(path).with_context(|| format!("reading {file}"))?;
+        let v: serde_json::Value = serde_json::from_str(&text).with_context(|| format!("{file}: not valid JSON"))?;
+        let reference = &v["reference_ephemeris"];
+        let epoch_text = reference["epoch_bjd_tdb"]
+            .as_str()
+            .with_context(|| format!("{file}: no reference_ephemeris.epoch_bjd_tdb (is this a timing-residuals summary?)"))?;
+        let period = reference["period_d"].as_f64().with_context(|| format!("{file}: no reference_ephemeris.period_d"))?;
+        let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap).map_err(|e| anyhow::anyhow!("{file}: reference_ephemeris.epoch_bjd_tdb: {e}"))?;
+        let wanted = a.summary_model.trim().to_ascii_lowercase();
+        if wanted != "linear" && wanted != "quadratic" {
+            bail!("--summary-model '{}': predictions use a linear or quadratic model (light-time models are not extrapolated here)", a.summary_model);
+        }
+        let models = v["models"].as_array().with_context(|| format!("{file}: no models array"))?;
+        let model = models.iter().find(|m| m["model"].as_str() == Some(wanted.as_str())).with_context(|| {
+            let have: Vec<&str> = models.iter().filter_map(|m| m["model"].as_str()).collect();
+            format!("{file}: no '{wanted}' model; the summary holds: {}", have.join(", "))
+        })?;
+        let params = model["parameters"].as_array().with_context(|| format!("{file}: model '{wanted}' has no parameters"))?;
+        let shifts: Vec<f64> = params
+            .iter()
+            .enumerate()
+            .map(|(j, p)| p["value"].as_f64().with_context(|| format!("{file}: model '{wanted}' parameter {j} has no numeric value")))
+            .collect::<Result<_>>()?;
+        let cov: Vec<f64> = model["covariance"]
+            .as_array()
+            .with_context(|| format!("{file}: model '{wanted}' has no covariance"))?
+            .iter()
+            .enumerate()
+            .map(|(j, x)| x.as_f64().with_context(|| format!("{file}: model '{wanted}' covariance element {j} is not a number")))
+            .collect::<Result<_>>()?;
+        let e = EventEphemeris::from_fitted_shifts(epoch, period, &shifts, &cov).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+        let desc = format!("{wanted} model from {file}: T0 = {} BJD_TDB, P = {} d, Q = {} d", format_time(&e.epoch, TimeFormat::Jd), e.period_d, e.quadratic_d);
+        return Ok((e, desc));
+    }
+    let (Some(epoch_text), Some(period)) = (&a.epoch_bjd_tdb, a.period_d) else {
+        bail!("no ephemeris given: use --epoch-bjd-tdb JD with --period-d DAYS, or --ephemeris-summary FILE");
+    };
+    let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap).map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{epoch_text}': {e}"))?;
+    let mut e = EventEphemeris::linear(epoch, period, a.epoch_sigma_d, a.period_sigma_d).map_err(|e| anyhow::anyhow!("{e}"))?;
+    if !(a.period_change_per_cycle_sigma_d.is_finite() && a.period_change_per_cycle_sigma_d >= 0.0) || !a.period_change_per_cycle_d.is_finite() {
+        bail!("--period-change-per-cycle-d and its sigma must be finite (the sigma non-negative)");
+    }
+    // Q = ½ dP/dE, σ_Q = ½ σ(dP/dE).
+    e.quadratic_d = 0.5 * a.period_change_per_cycle_d;
+    e.covariance_d2[2][2] = (0.5 * a.period_change_per_cycle_sigma_d).powi(2);
+    let desc = format!(
+        "command line: T0 = {epoch_text} BJD_TDB ± {} d, P = {period} ± {} d, dP/dE = {} ± {} d",
+        a.epoch_sigma_d, a.period_sigma_d, a.period_change_per_cycle_d, a.period_change_per_cycle_sigma_d
+    );
+    Ok((e, desc))
+}
