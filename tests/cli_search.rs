@@ -269,7 +269,7 @@ fn survey_batch_carries_utc_times_with_source_positions() {
     assert_eq!(code, 1);
     assert!(err.contains("right-ascension and declination"), "{err}");
     let mut args = base.to_vec();
-    args.extend(["--ra-column", "ra_deg", "--dec-column", "dec_deg", "--site-coordinates=-70.40,-24.63,2635"]);
+    args.extend(["--ra-column", "ra_deg", "--dec-column", "dec_deg", "--site-coordinates=-41.2345,-31.5432,1480"]);
     let (code, out, err) = run(&args);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();

@@ -21,7 +21,7 @@ use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeFormat, TimeS
 const STARS: [(&str, f64, f64, f64); 2] = [("inv-north", 45.0, 30.0, 0.731), ("inv-south", 200.0, -40.0, 1.37)];
 
 fn site() -> Site {
-    Site::from_degrees("invented ridge", -70.40, -24.63, 2635.0).expect("site")
+    Site::from_degrees("invented ridge", -41.2345, -31.5432, 1480.0).expect("site")
 }
 
 fn dir() -> PathBuf {

@@ -25,7 +25,7 @@ const EXAMPLE: &str = "Example (invented survey field):
   are carried to BJD_TDB per source, at the position in the source's first row:
   skyclock survey-batch --input field_utc_invented.csv --source-column star \
       --time-column jd --clock jd_utc --ra-column ra_deg --dec-column dec_deg \
-      --site-coordinates=-70.4042,-24.6272,2635 --value-column mag \
+      --site-coordinates=-41.2345,-31.5432,1480 --value-column mag \
       --max-freq-per-day 20 --output field_periods.csv
   (invented site; without a site the times are taken as geocentric).";
 
