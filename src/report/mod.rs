@@ -204,6 +204,7 @@ td.number { text-align: right; font-variant-numeric: tabular-nums; white-space: 
 tbody tr:nth-child(even) { background: #f8f9fb; }
 figure { margin: 1rem 0 1.6rem; }
 figure svg { display: block; max-width: 100%; height: auto; border: 1px solid var(--rule); }
+figure svg text { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
 figcaption { color: var(--muted); font-size: 0.92rem; margin-top: 0.35rem; }
 figure.not-rendered { outline: 3px solid #b00020; }
 footer { margin-top: 3rem; color: var(--muted); font-size: 0.85rem; border-top: 1px solid var(--rule); padding-top: 0.5rem; }
