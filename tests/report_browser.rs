@@ -190,7 +190,9 @@ fn build_report() -> Report {
 
 #[test]
 fn report_renders_in_headless_chromium() {
-    let work = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(format!("report_browser_{}", std::process::id()));
+    // Under the cargo target folder (never in git); emptied at the start of each run.
+    let work = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("report_browser");
+    let _ = std::fs::remove_dir_all(&work);
     std::fs::create_dir_all(&work).unwrap();
     let report = build_report();
     assert_eq!(report.figure_count(), 3);
@@ -236,5 +238,11 @@ fn report_renders_in_headless_chromium() {
     // PNG signature (ISO/IEC 15948 / W3C PNG specification, section 5.2).
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     assert!(bytes.len() > 20_000, "screenshot suspiciously small: {} bytes", bytes.len());
+    // Browser profiles are not needed afterwards; the pages and the screenshot stay.
+    for entry in std::fs::read_dir(&work).unwrap().filter_map(|e| e.ok()) {
+        if entry.file_name().to_string_lossy().starts_with("profile-") {
+            let _ = std::fs::remove_dir_all(entry.path());
+        }
+    }
     println!("report: {}\nscreenshot: {}", page.display(), shot.display());
 }
