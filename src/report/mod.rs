@@ -16,14 +16,15 @@
 //! use skyclock::table::Provenance;
 //! # fn figure() -> skyclock::plot::Figure { unimplemented!() }
 //! let provenance = Provenance::new("skyclock demo").with("ephemeris", "DE440 (embedded pack)");
-//! let mut report = Report::new("Invented star XY Imag", provenance);
-//! let mut section = Section::new("Times of minimum");
-//! section.paragraphs.push("42 minima measured with Kwee–van Woerden.".into());
-//! section.tables.push(Table::new("Fitted ephemeris", &["quantity", "value"])
-//!     .with_row(&["period (d)", "1.2345678"]));
-//! section.figures.push(ReportFigure::from_figure(&figure(), "O–C diagram").unwrap());
-//! section.cautions.push("Three timings lack uncertainties; 0.001 d was assumed.".into());
-//! report.sections.push(section);
+//! let section = Section::new("Times of minimum")
+//!     .with_paragraph("42 minima measured with Kwee–van Woerden.")
+//!     .with_caution("Three timings lack uncertainties; 0.001 d was assumed.")
+//!     .with_table(Table::new("Fitted ephemeris", &["quantity", "value"]).with_row(&["period (d)", "1.2345678"]))
+//!     .with_figure(ReportFigure::from_figure(&figure(), "O–C diagram").unwrap());
+//! let report = Report::new("Invented star XY Imag", provenance)
+//!     .with_subtitle("Timings 1995–2025 from three invented sites")
+//!     .with_section(section);
+//! // Public fields may also be filled directly (report.sections.push(...)).
 //! write_report(&report, std::path::Path::new("report.html"), &[]).unwrap();
 //! ```
 
@@ -94,6 +95,18 @@ impl Report {
         Report { title: title.to_string(), subtitle: Vec::new(), provenance, sections: Vec::new() }
     }
 
+    /// Adds a line under the title.
+    pub fn with_subtitle(mut self, line: &str) -> Report {
+        self.subtitle.push(line.to_string());
+        self
+    }
+
+    /// Adds a section at the end.
+    pub fn with_section(mut self, section: Section) -> Report {
+        self.sections.push(section);
+        self
+    }
+
     /// Number of figures in all sections.
     pub fn figure_count(&self) -> usize {
         self.sections.iter().map(|s| s.figures.len()).sum()
@@ -104,6 +117,30 @@ impl Section {
     /// An empty section with `heading`.
     pub fn new(heading: &str) -> Section {
         Section { heading: heading.to_string(), ..Section::default() }
+    }
+
+    /// Adds a paragraph.
+    pub fn with_paragraph(mut self, text: &str) -> Section {
+        self.paragraphs.push(text.to_string());
+        self
+    }
+
+    /// Adds a caution.
+    pub fn with_caution(mut self, text: &str) -> Section {
+        self.cautions.push(text.to_string());
+        self
+    }
+
+    /// Adds a table.
+    pub fn with_table(mut self, table: Table) -> Section {
+        self.tables.push(table);
+        self
+    }
+
+    /// Adds a figure.
+    pub fn with_figure(mut self, figure: ReportFigure) -> Section {
+        self.figures.push(figure);
+        self
     }
 }
 
@@ -345,16 +382,15 @@ mod tests {
 
     fn sample() -> Report {
         let provenance = Provenance::new("skyclock report <test> & more").with("ephemeris", "DE440 \"embedded\"");
-        let mut r = Report::new("Star <b>XY</b> & co", provenance);
-        r.subtitle.push("invented 'site' 1 < 2".into());
-        let mut s = Section::new("Minima & O–C");
-        s.paragraphs.push("<script>alert(1)</script>".into());
-        s.cautions.push("σ assumed > 0".into());
-        s.tables.push(Table::new("fit <ok>", &["quantity", "value"]).with_row(&["period (d)", "1.234 ± 0.002"]).with_row(&["model", "linear"]));
-        s.figures.push(ReportFigure::from_figure(&small_figure("periodogram & aliases"), "periodogram <1>").unwrap());
-        r.sections.push(s);
-        r.sections.push(Section::new("Predictions"));
-        r
+        let s = Section::new("Minima & O–C")
+            .with_paragraph("<script>alert(1)</script>")
+            .with_caution("σ assumed > 0")
+            .with_table(Table::new("fit <ok>", &["quantity", "value"]).with_row(&["period (d)", "1.234 ± 0.002"]).with_row(&["model", "linear"]))
+            .with_figure(ReportFigure::from_figure(&small_figure("periodogram & aliases"), "periodogram <1>").unwrap());
+        Report::new("Star <b>XY</b> & co", provenance)
+            .with_subtitle("invented 'site' 1 < 2")
+            .with_section(s)
+            .with_section(Section::new("Predictions"))
     }
 
     #[test]
