@@ -227,6 +227,17 @@ pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
     Ok(())
 }
 
+/// Renders `fig` as SVG text in memory, with the same drawing code as [`write_figure`]
+/// (for embedding figures inline, e.g. in the HTML report). Text is drawn as SVG `<text>`
+/// elements naming the committed font family; the viewer falls back to a sans-serif face.
+pub fn render_svg(fig: &Figure) -> Result<String, PlotError> {
+    register_font();
+    let mut out = String::new();
+    draw_all(SVGBackend::with_string(&mut out, (fig.width, fig.height)).into_drawing_area(), fig)
+        .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message })?;
+    Ok(out)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -257,5 +268,8 @@ mod tests {
         write_figure(&fig, &d.join("f.png")).unwrap();
         assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
         assert!(write_figure(&fig, &d.join("f.jpg")).is_err());
+        // In memory: the same drawing as the file.
+        let text = render_svg(&fig).unwrap();
+        assert_eq!(text, svg);
     }
 }
