@@ -163,6 +163,43 @@ fn zsh_and_fish_scripts_parse_where_those_shells_exist() {
         }
         let out = Command::new(shell).arg(flag).arg(&path).output().expect(shell);
         assert!(out.status.success(), "{shell} {flag} rejects the script: {}", String::from_utf8_lossy(&out.stderr));
+        match shell {
+            // fish answers `complete -C LINE` with the candidates for LINE (fish documentation,
+            // "complete": -C/--do-complete).
+            "fish" => {
+                for c in commands() {
+                    let line = format!("source '{}'; complete -C 'skyclock {} --'", path.display(), c.name);
+                    let out = Command::new("fish").arg("-c").arg(&line).output().expect("fish");
+                    let text = String::from_utf8_lossy(&out.stdout);
+                    let offered: Vec<&str> = text.lines().map(|l| l.split('\t').next().unwrap_or_default()).collect();
+                    for o in c.options.iter().filter_map(|o| o.long.as_ref()) {
+                        assert!(offered.contains(&format!("--{o}").as_str()), "fish does not offer --{o} for {}: {offered:?}", c.name);
+                    }
+                }
+                let out = Command::new("fish").arg("-c").arg(format!("source '{}'; complete -C 'skyclock '", path.display())).output().expect("fish");
+                let text = String::from_utf8_lossy(&out.stdout);
+                for c in commands() {
+                    assert!(text.lines().any(|l| l.split('\t').next() == Some(c.name.as_str())), "fish does not offer {}", c.name);
+                }
+            }
+            // Loaded into zsh's completion system, one function per command is defined and
+            // registered for skyclock (zsh manual, "Completion System": compinit, compdef).
+            _ => {
+                let line = format!(
+                    "autoload -U compinit; compinit -u -d '{}/zcompdump'; source '{}'; print -r -- ${{_comps[skyclock]}}; for f in {}; do whence -w $f; done",
+                    d.display(),
+                    path.display(),
+                    commands().iter().map(|c| format!("_skyclock__{}", c.name.replace('-', "_"))).collect::<Vec<_>>().join(" ")
+                );
+                let out = Command::new("zsh").arg("-f").arg("-c").arg(&line).output().expect("zsh");
+                let text = String::from_utf8_lossy(&out.stdout);
+                assert!(text.lines().next() == Some("_skyclock"), "compdef did not register _skyclock: {text}\n{}", String::from_utf8_lossy(&out.stderr));
+                for c in commands() {
+                    let f = format!("_skyclock__{}: function", c.name.replace('-', "_"));
+                    assert!(text.contains(&f), "{f} missing: {text}");
+                }
+            }
+        }
     }
 }
 
