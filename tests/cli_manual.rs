@@ -139,6 +139,17 @@ fn bash_script_parses_and_completes() {
         .expect("some option has fixed choices");
     let offered = complete(&["skyclock", &command, &option, ""]);
     assert_eq!(offered, words, "choices of {command} {option}");
+    // The same after `--option=`, which bash splits into `--option`, `=`, value.
+    let offered = complete(&["skyclock", &command, &option, "=", ""]);
+    assert_eq!(offered, words, "choices of {command} {option}=");
+    // Fixed words of a positional argument (the shell of shell-completions, for one).
+    for c in &all {
+        for p in &c.positionals {
+            if let ValueKind::Choice(words) = &p.kind {
+                assert_eq!(&complete(&["skyclock", &c.name, ""]), words, "positional choices of {}", c.name);
+            }
+        }
+    }
     // A FILE option completes file names.
     std::fs::write(d.join("vega_nova_minima.csv"), "time\n").unwrap();
     let (command, option) = all

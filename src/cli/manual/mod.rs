@@ -153,7 +153,11 @@ impl CommandSpec {
 
 fn arg_spec(arg: &clap::Arg) -> ArgSpec {
     let takes_value = arg.get_action().takes_values();
-    let value_name = arg.get_value_names().and_then(|v| v.first()).map(|s| s.to_string());
+    let value_name = arg
+        .get_value_names()
+        .and_then(|v| v.first())
+        .map(|s| s.to_string())
+        .or_else(|| arg.is_positional().then(|| arg.get_id().as_str().to_uppercase()));
     let kind = if !takes_value {
         ValueKind::None
     } else {
@@ -238,6 +242,7 @@ mod tests {
         assert!(fold.options.iter().all(|o| o.long.as_deref() != Some("secret")), "hidden options are left out");
         assert_eq!(fold.positionals.len(), 1);
         assert!(fold.positionals[0].repeatable);
+        assert_eq!(fold.positionals[0].value_name.as_deref(), Some("TIMES"));
         assert!(fold.example.as_deref().unwrap().starts_with("Example:"));
         assert!(fold.usage.starts_with("toy fold-star"), "{}", fold.usage);
         let outputs = &t.subcommands[1];
