@@ -273,7 +273,11 @@ pub fn print_or_write(text: &str, output: Option<&std::path::Path>) -> anyhow::R
     let Some(path) = output else {
         use std::io::Write;
         let mut stdout = std::io::stdout().lock();
-        return stdout.write_all(text.as_bytes()).and_then(|_| stdout.flush()).context("writing to standard output");
+        return match stdout.write_all(text.as_bytes()).and_then(|_| stdout.flush()) {
+            // A reader that stops early (`| head`) is not a failure.
+            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+            other => other.context("writing to standard output"),
+        };
     };
     if path.is_dir() {
         bail!("--output {} is a folder; give a file name inside it, e.g. {}", path.display(), path.join("skyclock.out").display());

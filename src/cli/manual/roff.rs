@@ -164,19 +164,19 @@ pub fn manual_page(spec: &CommandSpec, version: &str) -> String {
         s,
         ".SH EXIT STATUS\n.TP\n.B 0\nSuccess.\n.TP\n.B 1\nFailure: the command ran and reports why on standard error (an unreadable or malformed input, a bad value, an output that would overwrite an input).\n.TP\n.B 2\nUsage error: the command line itself could not be parsed (unknown command or option, missing or malformed value)."
     );
-    // FILES: every distinct option that reads or writes a file, with its help.
-    let mut seen = std::collections::BTreeMap::new();
+    // FILES: every option that reads or writes a file, once per distinct meaning.
+    let mut seen: std::collections::BTreeMap<(String, String), Vec<String>> = std::collections::BTreeMap::new();
     for c in &tasks {
         for o in c.options.iter().filter(|o| matches!(o.kind, ValueKind::Path | ValueKind::Folder)) {
             if let Some(l) = &o.long {
-                seen.entry(l.clone()).or_insert_with(|| (o.summary(), Vec::new())).1.push(c.name.clone());
+                seen.entry((l.clone(), sentence(&o.summary()))).or_default().push(c.path[1..].join(" "));
             }
         }
     }
     if !seen.is_empty() {
         let _ = writeln!(s, ".SH FILES\nFiles are named on the command line; nothing is read from fixed places. Outputs are written to a temporary file in the same folder and then renamed, and an output that names an input is refused. Options that name files:");
-        for (long, (summary, commands)) in &seen {
-            let entry = [".TP".into(), format!("\\fB\\-\\-{}\\fR", escape(long)), escape(summary), format!("(used by: {})", escape(&commands.join(", ")))];
+        for ((long, summary), commands) in &seen {
+            let entry = [".TP".into(), format!("\\fB\\-\\-{}\\fR", escape(long)), escape(summary), format!("Used by: {}.", escape(&commands.join(", ")))];
             let _ = writeln!(s, "{}", lines(&entry));
         }
     }
