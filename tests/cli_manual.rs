@@ -69,6 +69,8 @@ fn every_command_help_shows_a_worked_example() {
 fn completion_scripts_name_every_command_and_long_option() {
     for shell in ["bash", "zsh", "fish"] {
         let script = ok(&["shell-completions", shell]);
+        let version = format!("skyclock {}", env!("CARGO_PKG_VERSION"));
+        assert!(script.lines().take(3).any(|l| l.starts_with('#') && l.contains(&version)), "{shell} script does not say which build wrote it");
         for c in commands() {
             assert!(script.contains(&c.name), "{shell} script lacks the command {}", c.name);
             for o in &c.options {

@@ -63,6 +63,8 @@ pub struct CommandSpec {
     pub name: String,
     /// Names from the program down to this command, e.g. `["skyclock", "fold-curve"]`.
     pub path: Vec<String>,
+    /// Version string, where the command has one.
+    pub version: Option<String>,
     /// One-line description.
     pub about: String,
     /// Longer description where one exists.
@@ -115,6 +117,7 @@ impl CommandSpec {
             .collect();
         CommandSpec {
             name: command.get_name().to_string(),
+            version: command.get_version().map(str::to_string),
             about: command.get_about().map(|s| s.to_string()).unwrap_or_default().trim().to_string(),
             long_about: command.get_long_about().map(|s| s.to_string().trim().to_string()),
             example: command
