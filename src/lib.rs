@@ -22,3 +22,4 @@ pub mod plot;
 pub mod pulsar;
 pub mod oc;
 pub mod predict;
+pub mod minima;

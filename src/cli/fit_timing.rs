@@ -24,7 +24,8 @@ const EXAMPLE: &str = "Example:
   optional freq_mhz (observing frequency; empty = no dispersion) and optional instrument.
   The model TOML names the parameters to fit in `fit = [\"freq_hz\", ...]`.
   residuals.csv: seconds_after_epoch_tdb, residual_us, residual_cycles, error_us,
-  freq_mhz, instrument, orbital_phase (figure data: residuals vs time and vs orbital phase).";
+  freq_mhz, instrument, orbital_phase (figure data: residuals vs time and vs orbital phase);
+  --figure residuals.svg draws them (the orbital-phase panel only for a binary model).";
 
 /// Arguments of `skyclock fit-timing`.
 #[derive(Debug, ClapArgs)]
@@ -63,6 +64,9 @@ pub struct Args {
     /// JSON file with parameters, uncertainties, covariance and χ².
     #[arg(long, value_name = "FILE")]
     pub output_summary: Option<PathBuf>,
+    /// Figure of the residuals against time (and against orbital phase for a binary), .svg or .png.
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
@@ -72,7 +76,7 @@ pub struct Args {
 pub fn run(a: Args) -> Result<()> {
     let clock = super::common::clock_choice(&a.clock, &a.clock_column, "mjd_utc")?;
     let inputs = [a.arrival_times.as_path(), a.model.as_path()];
-    for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref()].into_iter().flatten() {
+    for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref(), a.figure.as_ref()].into_iter().flatten() {
         refuse_overwriting_inputs(out, &inputs)?;
     }
     let model_text = std::fs::read_to_string(&a.model).with_context(|| format!("reading {}", a.model.display()))?;
@@ -111,6 +115,26 @@ pub fn run(a: Args) -> Result<()> {
     }
     write_atomically(&a.output_residuals, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
     write_atomically(&sidecar_path(&a.output_residuals), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string()))?;
+    if let Some(path) = &a.figure {
+        use crate::plot::{Figure, Layer, Panel, write_figure};
+        let residual_us: Vec<f64> = fit.residual_s.iter().map(|r| r * 1e6).collect();
+        let error_us: Vec<f64> = toas.iter().map(|t| t.error_s * 1e6).collect();
+        let points = |x: Vec<f64>| Layer::Points { label: "residual (1σ)".into(), x, y: residual_us.clone(), y_err: Some(error_us.clone()), colour: (40, 70, 150), size: 3 };
+        let mut panels = vec![Panel {
+            x_label: "days after the model epoch (TDB)".into(),
+            y_label: "residual (µs)".into(),
+            layers: vec![points(toas.iter().map(|t| t.t_s / 86_400.0).collect())],
+            invert_y: false,
+            height_weight: 1,
+        }];
+        if let Some(o) = fit.model.orbit.as_ref() {
+            let phase = toas.iter().map(|t| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * 86_400.0)).rem_euclid(1.0)).collect();
+            panels.push(Panel { x_label: "orbital phase from periastron (cycles)".into(), y_label: "residual (µs)".into(), layers: vec![points(phase)], invert_y: false, height_weight: 1 });
+        }
+        let height = 380 * panels.len() as u32 + 80;
+        let fig = Figure { title: format!("{}: timing residuals, χ² = {:.1} for {} degrees of freedom", file, fit.chi2, fit.dof), panels, width: 1000, height };
+        write_figure(&fig, path)?;
+    }
     let toml_text = fit.model.to_toml()?;
     write_atomically(&a.output_model, |f| std::io::Write::write_all(f, toml_text.as_bytes()).map_err(|e| e.to_string()))?;
     let summary = serde_json::json!({

@@ -7,6 +7,7 @@ pub mod barycentre_events;
 pub mod common;
 pub mod convert_time;
 pub mod demo;
+pub mod event_arrival_times;
 pub mod extract_frequencies;
 pub mod find_periods;
 pub mod fold_curve;
@@ -18,8 +19,10 @@ pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
 pub mod predict_events;
+pub mod pulse_profile;
 pub mod shell_completions;
 pub mod survey_batch;
+pub mod time_events;
 pub mod timing_residuals;
 
 use clap::{Parser, Subcommand};
@@ -55,12 +58,18 @@ pub enum Command {
     FitTiming(fit_timing::Args),
     /// Search a photon-event table for pulsations (Z²ₙ over frequency and its derivative).
     SearchPulsations(search_pulsations::Args),
+    /// Fold photon events with a timing model: binned pulse profile, smooth template, figure.
+    PulseProfile(pulse_profile::Args),
+    /// Pulse arrival times from segments of photon events by template matching (input of fit-timing).
+    EventArrivalTimes(event_arrival_times::Args),
     /// Cycle numbers, O–C and fitted ephemeris models (period change, light-time companion) from event timings.
     TimingResiduals(timing_residuals::Args),
     /// Measure the light time per au (and c) from timings never corrected to the barycentre.
     MeasureLightTime(measure_light_time::Args),
     /// Upcoming events of an ephemeris at a site: UTC, uncertainty, altitudes, twilight, Moon, Sun caution.
     PredictEvents(predict_events::Args),
+    /// Times of minimum (or maximum) of every event in a light curve around a linear ephemeris.
+    TimeEvents(time_events::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
     /// Print a completion script for bash, zsh or fish, generated from these commands.
@@ -78,6 +87,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::ConvertTime(a) => convert_time::run(a),
         Command::TimingResiduals(a) => timing_residuals::run(a),
         Command::PredictEvents(a) => predict_events::run(a),
+        Command::TimeEvents(a) => time_events::run(a),
         Command::Demo(a) => demo::run(a),
         Command::ShellCompletions(a) => shell_completions::run(a),
         Command::ManualPage(a) => manual_page::run(a),
@@ -88,5 +98,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::SurveyBatch(a) => survey_batch::run(a),
         Command::FitTiming(a) => fit_timing::run(a),
         Command::SearchPulsations(a) => search_pulsations::run(a),
+        Command::PulseProfile(a) => pulse_profile::run(a),
+        Command::EventArrivalTimes(a) => event_arrival_times::run(a),
     }
 }

@@ -7,11 +7,13 @@
 //! committed beside this file (Bitstream Vera licence, see fonts/DejaVuSans-LICENSE.txt),
 //! so no system fonts are needed.
 
+pub mod search;
 pub mod timing;
 
 use std::path::Path;
 
 use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 
 /// Layer drawn in a panel.
@@ -23,6 +25,9 @@ pub enum Layer {
     Line { label: String, x: Vec<f64>, y: Vec<f64>, colour: (u8, u8, u8) },
     /// Vertical markers at x with a short text each (peaks, aliases).
     Markers { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+    /// Dashed vertical guides at x with a short text each, written lower than the
+    /// [`Layer::Markers`] texts (e.g. where aliases of a peak would fall).
+    Guides { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
     /// A shaded band between `lower` and `upper` along x (a model's 1σ region).
     Band { label: String, x: Vec<f64>, lower: Vec<f64>, upper: Vec<f64>, colour: (u8, u8, u8) },
 }
@@ -83,7 +88,7 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
 
 fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, title: Option<&str>) -> Result<(), String> {
     let xs = panel.layers.iter().flat_map(|l| match l {
-        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Band { x, .. } => x.clone(),
+        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Guides { x, .. } | Layer::Band { x, .. } => x.clone(),
     });
     let (x0, x1) = range(xs);
     let ys = panel.layers.iter().flat_map(|l| match l {
@@ -93,7 +98,7 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
         }).collect::<Vec<f64>>(),
         Layer::Line { y, .. } => y.clone(),
         Layer::Band { lower, upper, .. } => lower.iter().chain(upper).copied().collect(),
-        Layer::Markers { .. } => Vec::new(),
+        Layer::Markers { .. } | Layer::Guides { .. } => Vec::new(),
     });
     let (y0, y1) = range(ys);
     let (ya, yb) = if panel.invert_y { (y1, y0) } else { (y0, y1) };
@@ -160,6 +165,19 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                 let ytext = yb - 0.04 * (yb - ya);
                 chart
                     .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))))
+                    .map_err(|e| e.to_string())?;
+            }
+            Layer::Guides { label, x, text, colour } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                chart
+                    .draw_series(x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
+                // Below the legend box (upper right) so that no guide text hides under it.
+                let ytext = yb - 0.2 * (yb - ya);
+                chart
+                    .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))))
                     .map_err(|e| e.to_string())?;
             }
         }

@@ -10,12 +10,18 @@
 //!   Einstein and Shapiro terms) and its TOML file.
 //! * [`timing_fit`]: phase-connected weighted least squares by iterated linearisation.
 //! * [`arrival_times`]: the arrival-time (TOA) table: reading and barycentring.
+//! * [`profile`]: folding events with a timing model, binned profiles, Fourier and
+//!   Gaussian-component templates.
+//! * [`event_toas`]: arrival times from segments of events by template matching in the
+//!   Fourier domain.
 //!
 //! Times inside this module are `f64` seconds (TDB, at the barycentre) after the model's
 //! epoch, an [`crate::time::Instant`]; ±3 years is 1e8 s, resolved to 15 ns by an `f64`.
 
 pub mod arrival_times;
+pub mod event_toas;
 pub mod model;
+pub mod profile;
 pub mod search;
 pub mod spin;
 pub mod statistics;

@@ -1,0 +1,274 @@
+//! `skyclock pulse-profile`: fold photon events with a timing model; binned profile with
+//! errors, a smooth template (Fourier or Gaussian components) and a figure.
+//! Also holds the event-table reading shared with `event-arrival-times`.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{Context, Result, anyhow, bail};
+use clap::Args as ClapArgs;
+
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
+use crate::arrival::{BarycentricCorrector, DelayOptions};
+use crate::pulsar::model::TimingModel;
+use crate::pulsar::profile::{PulseTemplate, binned_profile, fold_events, fourier_template, gaussian_template};
+use crate::pulsar::statistics::h_test;
+use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
+use crate::table::{Provenance, float_column, read_table};
+use crate::time::{Instant, TimeScale};
+
+const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an invented X-ray satellite):
+  skyclock pulse-profile --events corvina_events.csv --time-column time --clock mjd_tt \\
+      --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
+      --model corvina.toml --bins 40 --harmonics 6 \\
+      --output-profile profile.csv --output-template template.json --figure profile.svg
+
+  The events are barycentred on the way in (use --clock bjd_tdb for barycentric times) and
+  folded with the timing model (the TOML that fit-timing reads; binary orbits included).
+  profile.csv: phase_center_cycles, counts, count_error (√Σw²), relative_intensity,
+  relative_intensity_error (counts·bins/Σw: 1 = the mean level), template_density (the
+  template as the binned profile should show it: with weights, diluted by 1 + (Σw²/Σw)(f − 1)).
+  template.json: the template (Fourier coefficients a_k, b_k with errors) that
+  event-arrival-times matches. The figure shows two cycles.";
+
+/// The event table, its clock, the observer, the source and the timing model.
+#[derive(Debug, ClapArgs)]
+pub struct EventTableArgs {
+    /// Photon-event table (.csv, .tsv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub events: PathBuf,
+    /// Column of event times.
+    #[arg(long, default_value = "time")]
+    pub time_column: String,
+    /// Clock of the times, e.g. mjd_tt, or bjd_tdb for barycentred times.
+    #[arg(long)]
+    pub clock: String,
+    /// Optional column of photon weights (probabilities in [0, 1] that a photon is from the pulsar).
+    #[arg(long)]
+    pub weight_column: Option<String>,
+    #[command(flatten)]
+    pub observer: ObserverArgs,
+    #[command(flatten)]
+    pub source: SourceArgs,
+    #[command(flatten)]
+    pub reference_data: ReferenceDataArgs,
+    /// Timing model (TOML, as fit-timing reads it).
+    #[arg(long, value_name = "FILE")]
+    pub model: PathBuf,
+    /// Half-width, days, of the interval around the model epoch where the model is trusted.
+    #[arg(long, default_value_t = 1100.0)]
+    pub model_validity_days: f64,
+    /// Instrument name (for the model's instrument delays).
+    #[arg(long, default_value = "default")]
+    pub instrument: String,
+}
+
+/// Events read, barycentred and placed on the model's time axis.
+pub struct LoadedEvents {
+    pub model: TimingModel,
+    /// Seconds after the model epoch (TDB, barycentric).
+    pub times_s: Vec<f64>,
+    pub weights: Option<Vec<f64>>,
+    pub file: String,
+    pub provenance: Provenance,
+}
+
+impl EventTableArgs {
+    /// The inputs (for refusing to overwrite them).
+    pub fn inputs(&self) -> Vec<&Path> {
+        vec![self.events.as_path(), self.model.as_path()]
+    }
+
+    /// The model's validity half-width in seconds.
+    pub fn validity_s(&self) -> Result<f64> {
+        if !(self.model_validity_days > 0.0 && self.model_validity_days.is_finite()) {
+            bail!("--model-validity-days {}: must be > 0", self.model_validity_days);
+        }
+        Ok(self.model_validity_days * 86_400.0)
+    }
+
+    /// Reads the model and the events, barycentres the times, reads the weights.
+    pub fn load(&self, stage: &str) -> Result<LoadedEvents> {
+        let model_text = std::fs::read_to_string(&self.model).with_context(|| format!("reading {}", self.model.display()))?;
+        let model = TimingModel::from_toml(&model_text, &self.model.display().to_string())?;
+        let clock = ClockSpec::parse_label(&self.clock).map_err(anyhow::Error::msg)?;
+        let description = self.observer.description()?;
+        let source = self.source.load(description.as_ref())?;
+        let observer = self.observer.observer_spec(description.as_ref())?;
+        let reference = self.reference_data.load()?;
+        let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
+        let file = self.events.display().to_string();
+        let request = TableRequest { time_column: self.time_column.clone(), clock: Some(clock), clock_column: None, observer };
+        let df = read_table(&self.events, &request.text_columns())?;
+        let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
+        let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
+        let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
+        let epoch = model.epoch();
+        let times_s: Vec<f64> = jd1.iter().zip(&jd2).map(|(a, b)| Instant::from_jd_two_part(TimeScale::Tdb, *a, *b).seconds_since(&epoch)).collect();
+        let weights = match &self.weight_column {
+            Some(c) => Some(float_column(&corrected, &file, c)?),
+            None => None,
+        };
+        if times_s.is_empty() {
+            bail!("{file}: the event table has no rows");
+        }
+        let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+            .with("stage", stage)
+            .with("input", file.clone())
+            .with("model", self.model.display().to_string())
+            .with("ephemeris", reference.ephemeris.name())
+            .with("leap_seconds", reference.converter.leap_seconds().source());
+        Ok(LoadedEvents { model, times_s, weights, file, provenance })
+    }
+}
+
+impl LoadedEvents {
+    /// Warns on stderr about events that repeat the previous event's time.
+    pub fn warn_repeated_times(&self, column: &str) {
+        if let (n, Some(first)) = crate::pulsar::profile::repeated_times(&self.times_s) {
+            eprintln!(
+                "warning: {}, column '{column}': {n} event(s) have the same barycentric time as the event before them (first at row {first}); kept as separate photons — if the table has duplicated rows, remove them",
+                self.file
+            );
+        }
+    }
+
+    /// Turns a library message about event N / photon N into one naming file, row and column.
+    pub fn locate(&self, column: &str, e: crate::pulsar::PulsarError) -> anyhow::Error {
+        anyhow!("{}, column '{column}': {e}", self.file)
+    }
+}
+
+/// Reads a template written by `pulse-profile --output-template`.
+pub fn read_template(path: &Path) -> Result<PulseTemplate> {
+    let text = std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
+    let value: serde_json::Value = serde_json::from_str(&text).with_context(|| format!("{}: not JSON", path.display()))?;
+    let inner = value.get("template").cloned().ok_or_else(|| anyhow!("{}: no 'template' key; write templates with skyclock pulse-profile --output-template", path.display()))?;
+    let t: PulseTemplate = serde_json::from_value(inner).with_context(|| format!("{}: 'template'", path.display()))?;
+    t.validate().with_context(|| format!("{}", path.display()))?;
+    Ok(t)
+}
+
+/// Arguments of `skyclock pulse-profile`.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
+pub struct Args {
+    #[command(flatten)]
+    pub input: EventTableArgs,
+    /// Number of phase bins of the profile.
+    #[arg(long, default_value_t = 32)]
+    pub bins: usize,
+    /// Harmonics n of the Fourier template.
+    #[arg(long, default_value_t = 5)]
+    pub harmonics: usize,
+    /// Make the template from this many wrapped Gaussian components (fitted to the Fourier coefficients).
+    #[arg(long)]
+    pub gaussian_components: Option<usize>,
+    /// Binned profile to write (.csv).
+    #[arg(long, value_name = "FILE")]
+    pub output_profile: PathBuf,
+    /// Template to write (.json), the input of event-arrival-times.
+    #[arg(long, value_name = "FILE")]
+    pub output_template: Option<PathBuf>,
+    /// Figure of the profile with errors and the template, two cycles (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
+    /// Print the JSON summary on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs the command.
+pub fn run(a: Args) -> Result<()> {
+    let inputs = a.input.inputs();
+    for out in [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()].into_iter().flatten() {
+        refuse_overwriting_inputs(out, &inputs)?;
+    }
+    let valid_s = a.input.validity_s()?;
+    let ev = a.input.load("pulse-profile")?;
+    ev.warn_repeated_times(&a.input.time_column);
+    let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument).map_err(|e| ev.locate(&a.input.time_column, e))?;
+    let weight_col = a.input.weight_column.clone().unwrap_or_default();
+    let binned = binned_profile(&phases, ev.weights.as_deref(), a.bins).map_err(|e| ev.locate(&weight_col, e))?;
+    let empirical = fourier_template(&phases, ev.weights.as_deref(), a.harmonics)?;
+    let template = match a.gaussian_components {
+        Some(c) => gaussian_template(&empirical, c)?,
+        None => empirical.clone(),
+    };
+    let h = h_test(&phases, ev.weights.as_deref())?;
+
+    let mut csv = String::from("phase_center_cycles,counts,count_error,relative_intensity,relative_intensity_error,template_density\n");
+    for i in 0..a.bins {
+        let x = binned.phase_center_cycles[i];
+        csv.push_str(&format!(
+            "{x:.6},{:.6},{:.6},{:.6},{:.6},{:.6}\n",
+            binned.counts[i],
+            binned.count_errors[i],
+            binned.relative_intensity[i],
+            binned.relative_intensity_errors[i],
+            binned.expected_relative_intensity(&template, x)
+        ));
+    }
+    write_atomically(&a.output_profile, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&sidecar_path(&a.output_profile), |f| std::io::Write::write_all(f, ev.provenance.to_json().as_bytes()).map_err(|e| e.to_string()))?;
+    if let Some(p) = &a.output_template {
+        let provenance: serde_json::Value = serde_json::from_str(&ev.provenance.to_json())?;
+        let doc = serde_json::json!({ "template": template, "empirical_fourier": empirical, "provenance": provenance });
+        let text = serde_json::to_string_pretty(&doc)?;
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+    }
+    if let Some(path) = &a.figure {
+        use crate::plot::{Figure, Layer, Panel, write_figure};
+        let two = |v: &[f64], shift: bool| -> Vec<f64> { v.iter().map(|x| *x).chain(v.iter().map(|x| if shift { x + 1.0 } else { *x })).collect() };
+        let grid: Vec<f64> = (0..=400).map(|i| 2.0 * i as f64 / 400.0).collect();
+        let fig = Figure {
+            title: format!("{}: {} photons folded, {} bins", ev.file, phases.len(), a.bins),
+            panels: vec![Panel {
+                x_label: "pulse phase (cycles)".into(),
+                y_label: "relative intensity (1 = mean)".into(),
+                invert_y: false,
+                height_weight: 1,
+                layers: vec![
+                    Layer::Points {
+                        label: "binned profile (1σ)".into(),
+                        x: two(&binned.phase_center_cycles, true),
+                        y: two(&binned.relative_intensity, false),
+                        y_err: Some(two(&binned.relative_intensity_errors, false)),
+                        colour: (40, 70, 150),
+                        size: 3,
+                    },
+                    Layer::Line { label: template.kind.clone(), x: grid.clone(), y: grid.iter().map(|x| binned.expected_relative_intensity(&template, *x)).collect(), colour: (200, 80, 30) },
+                ],
+            }],
+            width: 1000,
+            height: 600,
+        };
+        write_figure(&fig, path)?;
+    }
+    let outputs: Vec<String> = [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()].into_iter().flatten().map(|p| p.display().to_string()).collect();
+    let summary = serde_json::json!({
+        "events": phases.len(),
+        "model": a.input.model.display().to_string(),
+        "bins": a.bins,
+        "total_weight": binned.total_weight,
+        "h_test": h,
+        "z2_of_template_harmonics": crate::pulsar::statistics::z2n(&phases, ev.weights.as_deref(), a.harmonics)?,
+        "template_kind": template.kind,
+        "template_peak_phase_cycles": template.peak_phase_cycles(),
+        "outputs": outputs,
+    });
+    if a.json {
+        println!("{}", serde_json::to_string_pretty(&summary)?);
+    } else {
+        println!(
+            "{} events folded into {} bins; H = {:.1} (false alarm {:.2e}); template: {}; peak at phase {:.4}",
+            phases.len(),
+            a.bins,
+            h.h,
+            h.false_alarm,
+            template.kind,
+            template.peak_phase_cycles()
+        );
+    }
+    Ok(())
+}
