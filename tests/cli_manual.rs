@@ -58,7 +58,8 @@ fn every_command_help_shows_a_worked_example() {
         // Source: common practice (issue 6: "--help on every command shows a worked example").
         let example = help.find("Example").map(|i| &help[i..]);
         match example {
-            Some(text) if text.contains(&format!("skyclock {}", c.name)) || text.contains("skyclock ") => {}
+            // The example must run this very command.
+            Some(text) if text.contains(&format!("skyclock {} ", c.name)) || text.contains(&format!("skyclock {}\n", c.name)) => {}
             _ => missing.push(c.name.clone()),
         }
     }
