@@ -5,8 +5,16 @@ use std::path::PathBuf;
 use anyhow::Result;
 use clap::Args as ClapArgs;
 
+const EXAMPLE: &str = "Example:
+  skyclock demo --output-folder demo-output
+
+  Reads the invented scenario in datasets/ (the eclipsing binary KX Inventa timed from
+  invented observatories in mixed clocks), runs the chain and writes its tables and
+  figures into demo-output/, printing what was recovered beside the truth.";
+
 /// Arguments of `skyclock demo`.
 #[derive(Debug, ClapArgs)]
+#[command(after_help = EXAMPLE)]
 pub struct Args {
     /// Folder for the demo's outputs.
     #[arg(long, default_value = "demo-output")]

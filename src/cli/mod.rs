@@ -12,12 +12,15 @@ pub mod extract_frequencies;
 pub mod find_periods;
 pub mod fold_curve;
 pub mod light_curve_input;
+pub mod manual;
+pub mod manual_page;
 pub mod measure_light_time;
 pub mod fit_timing;
 pub mod search_pulsations;
 pub mod observer_time;
 pub mod predict_events;
 pub mod pulse_profile;
+pub mod shell_completions;
 pub mod survey_batch;
 pub mod time_events;
 pub mod timing_residuals;
@@ -69,6 +72,10 @@ pub enum Command {
     TimeEvents(time_events::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
+    /// Print a completion script for bash, zsh or fish, generated from these commands.
+    ShellCompletions(shell_completions::Args),
+    /// Print the manual page (roff, section 1) generated from these commands.
+    ManualPage(manual_page::Args),
 }
 
 /// Runs the parsed command; errors reach `main` which prints them and exits with 1.
@@ -82,6 +89,8 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::PredictEvents(a) => predict_events::run(a),
         Command::TimeEvents(a) => time_events::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::ShellCompletions(a) => shell_completions::run(a),
+        Command::ManualPage(a) => manual_page::run(a),
         Command::MeasureLightTime(a) => measure_light_time::run(a),
         Command::FindPeriods(a) => find_periods::run(a),
         Command::FoldCurve(a) => fold_curve::run(a),
