@@ -1,8 +1,12 @@
 //! Writes the invented demonstration scenario into `datasets/` (fixed seed; see
-//! `skyclock::demo::scenario`). Run: `cargo run --release --example make_demo_datasets`.
+//! `skyclock::demo::scenario` and `skyclock::demo::pulsar_scenario`).
+//! Run: `cargo run --release --example make_demo_datasets`.
 
 fn main() -> anyhow::Result<()> {
-    skyclock::demo::scenario::write_datasets(std::path::Path::new("datasets"))?;
-    println!("wrote datasets/{} and datasets/{}", skyclock::demo::scenario::MINIMA_FILE, skyclock::demo::scenario::DESCRIPTION_FILE);
+    let folder = std::path::Path::new("datasets");
+    skyclock::demo::scenario::write_datasets(folder)?;
+    let mut names: Vec<String> = std::fs::read_dir(folder)?.filter_map(|e| e.ok()).map(|e| e.file_name().to_string_lossy().into_owned()).collect();
+    names.sort();
+    println!("wrote into datasets/: {}", names.join(", "));
     Ok(())
 }

@@ -1,5 +1,5 @@
 //! The invented binary pulsar of the demo, Veyra X-2: radio arrival times from one invented
-//! site over 500 days (UTC at the site, dispersed at 1400 and 820 MHz) and a 40 ks list of
+//! site over 500 days (UTC at the site, dispersed at 1400 and 820 MHz) and an 8 ks list of
 //! X-ray photon arrival times already referred to the barycentre (TDB), both made from one
 //! true timing model ([`true_model`]) with `pulsar::model`.
 
@@ -99,13 +99,13 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
         writeln!(csv, "{},{sigma_us},{freq},{instrument}", format_time(&utc, TimeFormat::Mjd))?;
     }
     std::fs::write(folder.join(PULSAR_TOAS_FILE), csv)?;
-    // X-rays: 40 ks starting 20 days after the epoch; 9000 photons, 35 % pulsed with a
+    // X-rays: 8 ks starting 20 days after the epoch; 6000 photons, 35 % pulsed with a
     // two-harmonic profile, barycentric TDB (MJD).
     let start_s = 20.0 * 86_400.0;
     let mut csv = String::from("time\n");
     let mut kept = 0;
-    while kept < 9_000 {
-        let t = start_s + 40_000.0 * rng.uniform();
+    while kept < 6_000 {
+        let t = start_s + 8_000.0 * rng.uniform();
         let phase = model.phase_cycles(&ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: None, instrument: "default".into() });
         let x = std::f64::consts::TAU * phase;
         let density = 0.65 + 0.35 * (1.0 + 0.8 * x.cos() + 0.4 * (2.0 * x - 0.6).cos());
@@ -118,10 +118,14 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     let mut lines: Vec<&str> = csv.lines().skip(1).collect();
     lines.sort_by(|a, b| a.parse::<f64>().unwrap_or(0.0).total_cmp(&b.parse::<f64>().unwrap_or(0.0)));
     std::fs::write(folder.join(PULSAR_EVENTS_FILE), format!("time\n{}\n", lines.join("\n")))?;
-    // Starting model: ν off by 4e-9 Hz, ν̇ zero, orbit as published by an invented earlier study.
+    // Starting model (an invented earlier study): ν off by 4e-9 Hz, ν̇ off by 2e-16 Hz/s,
+    // projected semi-major axis off by 2 ms, close enough to keep the phase connected.
     let mut start = model.clone();
     start.freq_hz += 4e-9;
-    start.freq_deriv_hz_per_s = 0.0;
+    start.freq_deriv_hz_per_s = -2.08e-14;
+    if let Some(o) = start.orbit.as_mut() {
+        o.projected_semi_major_axis_lt_s += 0.002;
+    }
     start.fit = ["freq_hz", "freq_deriv_hz_per_s", "dispersion_measure_pc_per_cm3", "projected_semi_major_axis_lt_s", "periastron_time_s"]
         .iter()
         .map(|s| s.to_string())

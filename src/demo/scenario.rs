@@ -174,6 +174,7 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
     std::fs::write(folder.join(MINIMA_FILE), csv)?;
     std::fs::write(folder.join(DESCRIPTION_FILE), DESCRIPTION_TOML)?;
     write_photometry(folder, &corrector, &sites[0], &mut rng)?;
+    super::pulsar_scenario::write_pulsar_datasets(folder, SEED)?;
     Ok(())
 }
 

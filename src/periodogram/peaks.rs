@@ -137,6 +137,8 @@ pub fn describe_peaks(series: &Series, spectrum: &Spectrum, options: &PeakOption
     let sep = options.min_separation_per_day.unwrap_or(1.0 / t_base);
     let idx = local_maxima(spectrum, options.count, sep);
     let mut peaks = Vec::with_capacity(idx.len());
+    /// Harmonics of the refinement model for non-sinusoidal methods.
+    const REFINE_HARMONICS: usize = 6;
     for k in idx {
         let f = spectrum.grid.freq_per_day(k);
         let amp0 = spectrum.amplitude.as_ref().map_or(0.0, |a| a[k]);
@@ -154,7 +156,22 @@ pub fn describe_peaks(series: &Series, spectrum: &Spectrum, options: &PeakOption
             refined: false,
             aliases: Vec::new(),
         };
-        if options.refine && f > 0.0 {
+        if options.refine && f > 0.0 && spectrum.amplitude.is_none() {
+            // Methods without a sinusoid amplitude (multi-harmonic, phase dispersion,
+            // conditional entropy) find non-sinusoidal signals: refine with a Fourier series
+            // of REFINE_HARMONICS harmonics sharing one frequency (fold::refine).
+            if let Ok(r) = crate::fold::refine::refine_period(series, f, REFINE_HARMONICS)
+                && (r.freq_per_day - f).abs() <= 2.0 * spectrum.grid.step_per_day
+                && r.freq_err_per_day.is_finite()
+            {
+                peak.freq_per_day = r.freq_per_day;
+                peak.freq_err_per_day = r.freq_err_per_day;
+                peak.period_d = r.period_d;
+                peak.period_err_d = r.period_err_d;
+                peak.amplitude = f64::NAN;
+                peak.refined = true;
+            }
+        } else if options.refine && f > 0.0 {
             // Start from the linear fit at the grid frequency (phase 0 and amplitude from the
             // spectrum are fine starting values: the fit is linear in a, b).
             let start = Sinusoid { freq_per_day: f, amplitude: amp0.max(1e-12), phase_cycles: 0.0 };
