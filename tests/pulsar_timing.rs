@@ -13,7 +13,7 @@ fn simulate(truth: &TimingModel, seed: u64, n: usize, span_s: f64, sigma_s: f64)
     let mut out = vec![];
     for i in 0..n {
         let freq = if i % 2 == 0 { Some(1400.0) } else { Some(820.0) };
-        let mut a = ArrivalTime { t_s: (i as f64 / (n - 1) as f64 - 0.5) * span_s + rng.uniform() * 3000.0, error_s: sigma_s, freq_mhz: freq, instrument: "receiver_a".into() };
+        let mut a = ArrivalTime { t_s: (i as f64 / (n - 1) as f64 - 0.5) * span_s + rng.uniform() * 3000.0, error_s: sigma_s, freq_mhz: freq, instrument: "receiver_a".into(), observer: None };
         for _ in 0..4 {
             let ph = truth.phase_cycles(&a);
             a.t_s -= (ph - ph.round()) / truth.freq_hz;

@@ -35,7 +35,7 @@ pub fn fold_events(model: &TimingModel, times_s: &[f64], valid_for_s: f64, instr
 
 /// Pulse phase (cycles, whole turns included) of one event at `t_s` after the epoch.
 pub fn event_phase_cycles(model: &TimingModel, t_s: f64, instrument: &str) -> f64 {
-    model.phase_cycles(&ArrivalTime { t_s, error_s: 1.0, freq_mhz: None, instrument: instrument.to_string() })
+    model.phase_cycles(&ArrivalTime { t_s, error_s: 1.0, freq_mhz: None, instrument: instrument.to_string(), observer: None })
 }
 
 /// Checks event times: at least one, finite, sorted (non-decreasing) and inside
