@@ -321,6 +321,20 @@ impl TimingModel {
         POSITION_PARAMETERS.iter().any(|p| self.get(p) != Some(0.0) || self.fit.iter().any(|f| f == p))
     }
 
+    /// Refuses a model that carries a non-zero position offset or proper motion where the
+    /// times have no observer geometry (photon events, which are folded after barycentring
+    /// towards the command-line position): the offset would be silently ignored.
+    pub fn require_no_position_offset(&self) -> Result<(), PulsarError> {
+        let set: Vec<String> = POSITION_PARAMETERS.iter().filter_map(|p| self.get(p).filter(|v| *v != 0.0).map(|v| format!("{p} = {v}"))).collect();
+        if set.is_empty() {
+            return Ok(());
+        }
+        Err(PulsarError::Model(format!(
+            "the model carries {}, but photon events are folded after barycentring towards the position given on the command line, where that refinement cannot be applied; give the corrected position (the `position` of the fit summary) as --ra/--dec and set these keys to 0",
+            set.join(", ")
+        )))
+    }
+
     /// Extra barycentric delay Δ_pos = r_obs·Δn̂/c, s, of an arrival time from the position
     /// offset and proper motion (0 without observer geometry), with ∂Δ_pos/∂p for
     /// [`POSITION_PARAMETERS`] (s per mas and s per mas/yr). First order in Δn̂.
@@ -550,6 +564,17 @@ mod tests {
         let de = (dot(r, unit(ra + eps / dec.cos(), dec)) - base) / eps;
         let dn = (dot(r, unit(ra, dec + eps)) - base) / eps;
         assert!((e - de).abs() < 1e-4 && (n - dn).abs() < 1e-4, "{e} {de} {n} {dn}");
+    }
+
+    #[test]
+    fn events_refuse_a_model_with_a_position_offset() {
+        let mut m = binary_model();
+        let e = crate::pulsar::profile::fold_events(&m, &[0.0, 1.0], 1e9, "a").unwrap_err().to_string();
+        assert!(e.contains("position_offset_ra_mas = 120") && e.contains("--ra/--dec"), "{e}");
+        for p in POSITION_PARAMETERS {
+            m.set(p, 0.0);
+        }
+        assert!(crate::pulsar::profile::fold_events(&m, &[0.0, 1.0], 1e9, "a").is_ok());
     }
 
     #[test]

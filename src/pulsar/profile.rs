@@ -29,6 +29,7 @@ use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
 /// (1-based, the table row) and the fault. Source: common practice.
 pub fn fold_events(model: &TimingModel, times_s: &[f64], valid_for_s: f64, instrument: &str) -> Result<Vec<f64>, PulsarError> {
     model.validate().map_err(PulsarError::Model)?;
+    model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     Ok(times_s.iter().map(|&t| event_phase_cycles(model, t, instrument).rem_euclid(1.0)).collect())
 }
