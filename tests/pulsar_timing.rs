@@ -51,7 +51,14 @@ fn truth_needs_observer(truth: &TimingModel) -> bool {
 }
 
 fn coverage(truth: &TimingModel, trials: u64, n: usize, span_s: f64, sigma_s: f64) -> (f64, usize) {
-    let hits: Vec<(usize, usize)> = (0..trials).into_par_iter().map(|s| {
+    let per = coverage_per_parameter(truth, trials, n, span_s, sigma_s);
+    let (a, b) = per.iter().fold((0, 0), |x, (_, h, t)| (x.0 + h, x.1 + t));
+    (a as f64 / b as f64, b)
+}
+
+/// Per fitted parameter (phase offset excluded): name, trials within 1σ, trials.
+fn coverage_per_parameter(truth: &TimingModel, trials: u64, n: usize, span_s: f64, sigma_s: f64) -> Vec<(String, usize, usize)> {
+    let hits: Vec<Vec<(String, bool)>> = (0..trials).into_par_iter().map(|s| {
         let toas = simulate(truth, s, n, span_s, sigma_s);
         let mut start = truth.clone();
         // start slightly off, as a real starting model would be (the position at the
@@ -61,16 +68,21 @@ fn coverage(truth: &TimingModel, trials: u64, n: usize, span_s: f64, sigma_s: f6
             start.set(p, 0.0);
         }
         let fit = fit_timing_model(&start, &toas, 20).expect("fit converges");
-        let mut inside = 0;
-        for (j, name) in fit.parameters.iter().enumerate() {
-            if name == "phase_offset_cycles" { continue; }
+        fit.parameters.iter().enumerate().filter(|(_, name)| name.as_str() != "phase_offset_cycles").map(|(j, name)| {
             let t = truth.get(name).unwrap();
-            if (fit.values[j] - t).abs() <= fit.uncertainties[j] { inside += 1; }
-        }
-        (inside, fit.parameters.len() - 1)
+            (name.clone(), (fit.values[j] - t).abs() <= fit.uncertainties[j])
+        }).collect()
     }).collect();
-    let (a, b) = hits.iter().fold((0, 0), |x, y| (x.0 + y.0, x.1 + y.1));
-    (a as f64 / b as f64, b)
+    let mut out: Vec<(String, usize, usize)> = vec![];
+    for trial in hits {
+        for (name, inside) in trial {
+            match out.iter_mut().find(|e| e.0 == name) {
+                Some(e) => { e.1 += usize::from(inside); e.2 += 1; }
+                None => out.push((name, usize::from(inside), 1)),
+            }
+        }
+    }
+    out
 }
 
 #[test]
@@ -140,9 +152,19 @@ fn position_and_proper_motion_recovered_within_one_sigma_68_percent() {
         assert!((v - t).abs() <= 3.0 * s && s < 2.0, "{p}: fitted {v} ± {s}, true {t}");
     }
     assert!(fit.chi2 / (fit.dof as f64) < 2.0, "χ²/dof = {}", fit.chi2 / fit.dof as f64);
-    let (frac, n) = coverage(&truth, 240, 60, span_s, 2e-6);
-    eprintln!("coverage {frac:.3} over {n} parameter estimates");
-    assert!((0.61..=0.75).contains(&frac), "coverage {frac} over {n} parameter estimates");
+    let per = coverage_per_parameter(&truth, 240, 60, span_s, 2e-6);
+    let (mut hits, mut total) = (0, 0);
+    for (name, h, t) in &per {
+        eprintln!("{name}: {h} of {t} within 1σ");
+        if skyclock::pulsar::model::POSITION_PARAMETERS.contains(&name.as_str()) {
+            hits += h;
+            total += t;
+        }
+    }
+    let frac = hits as f64 / total as f64;
+    eprintln!("position and proper motion: coverage {frac:.3} over {total} estimates");
+    assert_eq!(total, 960);
+    assert!((0.61..=0.75).contains(&frac), "coverage {frac} over {total} position and proper-motion estimates");
 }
 
 #[test]
