@@ -226,6 +226,45 @@ mod tests {
     }
 
     #[test]
+    fn fitted_position_applies_offsets_on_the_sphere() {
+        // Source at (RA 10°, Dec 0°); offsets of θ east and θ north are steps along the
+        // tangent plane, so the new direction is n̂₀ + θ ê (+ θ n̂_N), renormalised:
+        // RA = 10° + atan θ, Dec = atan θ (gnomonic projection, common practice).
+        let mut model = isolated();
+        let theta_mas = 3.6e6; // 1°, large so renormalisation matters
+        model.position_offset_ra_mas = theta_mas;
+        model.proper_motion_dec_mas_per_yr = -4.0;
+        let fit = TimingFit {
+            model: model.clone(),
+            parameters: vec!["phase_offset_cycles".into(), "position_offset_ra_mas".into()],
+            values: vec![0.0, theta_mas],
+            uncertainties: vec![0.0, 0.25],
+            covariance: vec![0.0; 4],
+            chi2: 0.0,
+            dof: 1,
+            residual_cycles: vec![],
+            residual_s: vec![],
+            pulse_numbers: vec![],
+            iterations: 1,
+        };
+        let source = Source::fixed_degrees("invented", 10.0, 0.0).unwrap();
+        let p = fitted_position(&fit, &source).unwrap();
+        let theta = theta_mas * std::f64::consts::PI / 648_000_000.0;
+        assert!((p.ra_deg - (10.0 + theta.atan().to_degrees())).abs() < 1e-12, "{}", p.ra_deg);
+        assert!(p.dec_deg.abs() < 1e-12 && p.ra_uncertainty_mas == 0.25 && p.dec_uncertainty_mas == 0.0, "{p:?}");
+        assert!((p.proper_motion_dec_mas_per_yr + 4.0).abs() < 1e-12);
+        // the source's own proper motion is added to the fitted one
+        let mut moving = source.clone();
+        moving.proper_motion_dec_mas_per_yr = 1.5;
+        assert!((fitted_position(&fit, &moving).unwrap().proper_motion_dec_mas_per_yr + 2.5).abs() < 1e-12);
+        model.position_offset_ra_mas = 0.0;
+        model.position_offset_dec_mas = theta_mas;
+        let p = fitted_position(&TimingFit { model, ..fit.clone() }, &source).unwrap();
+        assert!((p.ra_deg - 10.0).abs() < 1e-12 && (p.dec_deg - theta.atan().to_degrees()).abs() < 1e-12, "{} {}", p.ra_deg, p.dec_deg);
+        assert!(fitted_position(&TimingFit { model: isolated(), ..fit }, &source).is_none());
+    }
+
+    #[test]
     fn bad_arrival_times_are_named() {
         let m = isolated();
         let mut t: Vec<ArrivalTime> = (0..5).map(|i| ArrivalTime { t_s: i as f64 * 1e5, error_s: 1e-4, freq_mhz: None, instrument: "a".into(), observer: None }).collect();
