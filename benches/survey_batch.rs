@@ -3,14 +3,21 @@
 //! per second and as ratios against references timed in the same run: (a) the same batch
 //! with the exact kernel, (b) the same batch on one thread. Also the full streamed path
 //! (CSV written to a temporary file, read back, grouped, searched). Target: ≥1000 curves/s.
+//! The fast trigonometric sums alone are also timed against the previous fast kernel
+//! (Lagrange extirpolation, kept in benches/reference/) on the same curve and grid.
 //! Run: `cargo bench --bench survey_batch`.
+
+#[path = "reference/previous_fast_kernel.rs"]
+mod previous_fast_kernel;
 
 use std::time::Instant;
 
 use rayon::prelude::*;
 use skyclock::arrival::table::ClockSpec;
 use skyclock::fit::SeededRng;
-use skyclock::periodogram::{Algorithm, Series};
+use skyclock::periodogram::fast::{FastOptions, fast_sums};
+use skyclock::periodogram::sums::{TrigSums, exact_sums};
+use skyclock::periodogram::{Algorithm, Series, plan_grid};
 use skyclock::survey::batch::{BatchColumns, BatchOptions, open_rows, run_batch};
 use skyclock::survey::search::{SearchPlan, search_series};
 use skyclock::time::LeapSecondTable;
@@ -51,6 +58,35 @@ fn main() {
     };
     let m = search_series(&series[0], &plan(Algorithm::Fast, series[0].baseline_d())).expect("search").spectrum.grid.len;
     println!("grid: {m} frequencies");
+    // Kernel only, one thread: the current fast sums against the previous kernel.
+    {
+        let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("pool");
+        let s = &series[0];
+        let grid = plan_grid(s.baseline_d(), &plan(Algorithm::Fast, s.baseline_d()).grid).expect("grid").grid;
+        let w: Vec<f64> = s.weight().iter().map(|x| x / s.weight().iter().sum::<f64>()).collect();
+        let h: Vec<f64> = s.value().iter().zip(&w).map(|(y, w)| y * w).collect();
+        let reps = 200;
+        let (t_new, t_old) = one.install(|| {
+            let t0 = Instant::now();
+            for _ in 0..reps {
+                std::hint::black_box(fast_sums(s.time_d(), &w, &h, &grid, &FastOptions::default()));
+            }
+            let t_new = t0.elapsed().as_secs_f64();
+            let t0 = Instant::now();
+            for _ in 0..reps {
+                std::hint::black_box(previous_fast_kernel::fast_sums(s.time_d(), &w, &h, &grid, &previous_fast_kernel::PreviousOptions::default()));
+            }
+            (t_new, t0.elapsed().as_secs_f64())
+        });
+        let a = fast_sums(s.time_d(), &w, &h, &grid, &FastOptions::default());
+        let b = previous_fast_kernel::fast_sums(s.time_d(), &w, &h, &grid, &previous_fast_kernel::PreviousOptions::default());
+        let e = exact_sums(s.time_d(), &w, &h, &grid);
+        let worst = |x: &TrigSums| (0..grid.len).map(|k| (x.c[k] - e.c[k]).abs().max((x.yc[k] - e.yc[k]).abs()).max((x.s2[k] - e.s2[k]).abs())).fold(0.0f64, f64::max);
+        println!(
+            "sums only, one thread, {POINTS} points x {} frequencies: current {:.3} ms, previous kernel {:.3} ms -> {:.2}x faster; max |error| vs exact: current {:.1e}, previous {:.1e}",
+            grid.len, 1e3 * t_new / reps as f64, 1e3 * t_old / reps as f64, t_old / t_new, worst(&a), worst(&b)
+        );
+    }
     let (t_fast, n) = run(Algorithm::Fast, CURVES);
     let rate = CURVES as f64 / t_fast;
     println!("fast kernel, in memory: {t_fast:.3} s -> {rate:.0} curves/s ({n} peaks) [target >= 1000/s: {}]", if rate >= 1000.0 { "met" } else { "missed" });
@@ -82,7 +118,7 @@ fn main() {
         }
     }
     std::fs::write(&path, text).expect("write temporary CSV");
-    let columns = BatchColumns { source: "source".into(), time: "bjd".into(), value: "mag".into(), error: None, band: None };
+    let columns = BatchColumns { source: "source".into(), time: "bjd".into(), value: "mag".into(), error: None, band: None, ra_deg: None, dec_deg: None };
     let options = BatchOptions { clock: ClockSpec::parse_label("bjd_tdb").expect("label"), batch_points: 200_000 };
     let p = plan(Algorithm::Fast, 100.0);
     let leap = LeapSecondTable::builtin();

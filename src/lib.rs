@@ -19,6 +19,7 @@ pub mod fold;
 pub mod frequencies;
 pub mod survey;
 pub mod plot;
+pub mod report;
 pub mod pulsar;
 pub mod oc;
 pub mod predict;

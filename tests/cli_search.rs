@@ -66,7 +66,10 @@ fn find_periods_recovers_an_invented_pulsator() {
     assert!(text.starts_with("freq_per_day,period_d,power,amplitude"));
     assert!(d.join("spectrum.csv.provenance.json").exists());
     assert!(std::fs::read_to_string(&peaks).unwrap().contains("\"provenance\""));
-    assert!(std::fs::read_to_string(d.join("p.svg")).unwrap().contains("frequency (cycles per day)"));
+    let svg = std::fs::read_to_string(d.join("p.svg")).unwrap();
+    assert!(svg.contains("frequency (cycles per day)"));
+    // The figure marks the peaks and, as its own legend entry, the aliases of the top peak.
+    assert!(svg.contains(skyclock::plot::search::PEAK_LAYER_LABEL) && svg.contains(skyclock::plot::search::ALIAS_LAYER_LABEL));
 }
 
 #[test]
@@ -110,6 +113,14 @@ fn fold_and_extract_frequencies() {
     assert!((v["period_d"].as_f64().unwrap() - 1.0 / 9.123).abs() < 1e-5);
     assert_eq!(std::fs::read_to_string(&binned).unwrap().lines().count(), 21);
     assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
+    // The SVG form of the same figure carries the residuals panel below the folded curve.
+    let (code, _, err) = run(&[
+        "fold-curve", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
+        "--period-d", &format!("{}", 1.0 / 9.123), "--bins", "20", "--figure", d.join("f.svg").to_str().unwrap(), "--quiet",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let svg = std::fs::read_to_string(d.join("f.svg")).unwrap();
+    assert!(svg.contains("residual, mag (input units)") && svg.matches("phase (cycles)").count() == 2);
     let table = d.join("freqs.csv");
     let (code, out, err) = run(&[
         "extract-frequencies", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
@@ -237,4 +248,31 @@ fn survey_batch_reads_parquet_by_slices() {
         let got: f64 = cells[col("period_d_1")].parse().unwrap();
         assert!((got - p).abs() < 0.01 * p, "source {k}: {got}");
     }
+}
+
+#[test]
+fn survey_batch_carries_utc_times_with_source_positions() {
+    // Invented field in JD UTC at an invented site: positions per source carry the times
+    // to BJD_TDB; without the position columns the command refuses with a clear message.
+    let d = dir("batch-utc");
+    let csv = d.join("field_utc_invented.csv");
+    let mut s = String::from("star,jd,mag,mag_err,ra_deg,dec_deg\n");
+    for (k, (p, ra, dec)) in [(0.7, 45.0, 30.0), (1.3, 200.0, -40.0)].iter().enumerate() {
+        for (t, y, e) in light_curve(70 + k as u64, &[(1.0 / p, 0.1)], 0.01) {
+            s.push_str(&format!("inv-{k},{t:.8},{y:.6},{e},{ra},{dec}\n"));
+        }
+    }
+    std::fs::write(&csv, s).unwrap();
+    let output = d.join("periods.csv");
+    let base = ["survey-batch", "--input", csv.to_str().unwrap(), "--source-column", "star", "--time-column", "jd", "--clock", "jd_utc", "--value-column", "mag", "--error-column", "mag_err", "--max-freq-per-day", "3", "--peaks", "1", "--output", output.to_str().unwrap(), "--json"];
+    let (code, _, err) = run(&base);
+    assert_eq!(code, 1);
+    assert!(err.contains("right-ascension and declination"), "{err}");
+    let mut args = base.to_vec();
+    args.extend(["--ra-column", "ra_deg", "--dec-column", "dec_deg", "--site-coordinates=-41.2345,-31.5432,1480"]);
+    let (code, out, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["summary"]["searched"], 2);
+    assert!(v["times"].as_str().unwrap().contains("carried from jd_utc"), "{}", v["times"]);
 }

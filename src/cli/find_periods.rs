@@ -240,24 +240,9 @@ pub fn run(a: Args) -> Result<()> {
         write_text(path, &serde_json::to_string_pretty(&doc)?, &[input])?;
     }
     if let Some(path) = &a.figure {
-        use crate::plot::{Figure, Layer, Panel, write_figure};
+        use crate::plot::{search::periodogram_figure, write_figure};
         crate::table::refuse_overwriting_inputs(path, &[input])?;
-        let marks: Vec<String> = out.peaks.iter().enumerate().map(|(k, p)| if p.peak.aliases.is_empty() { format!("{}", k + 1) } else { format!("{}*", k + 1) }).collect();
-        let fig = Figure {
-            title: format!("{} — {} (* = likely alias)", plan.method.label(), input.display()),
-            panels: vec![Panel {
-                x_label: "frequency (cycles per day)".into(),
-                y_label: "power".into(),
-                invert_y: false,
-                height_weight: 1,
-                layers: vec![
-                    Layer::Line { label: "periodogram".into(), x: out.spectrum.grid.frequencies(), y: out.spectrum.power.clone(), colour: (30, 60, 140) },
-                    Layer::Markers { label: "peaks (rank)".into(), x: out.peaks.iter().map(|p| p.peak.freq_per_day).collect(), text: marks, colour: (200, 30, 30) },
-                ],
-            }],
-            width: 1200,
-            height: 700,
-        };
+        let fig = periodogram_figure(&out, &format!("{} — {}", plan.method.label(), input.display()));
         write_figure(&fig, path)?;
     }
     if a.json {

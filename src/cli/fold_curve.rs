@@ -143,30 +143,11 @@ pub fn run(a: Args) -> Result<()> {
         write_text(path, &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?, &[input])?;
     }
     if let Some(path) = &a.figure {
-        use crate::plot::{Figure, Layer, Panel, write_figure};
+        use crate::plot::{search::FoldedCurve, search::folded_figure, write_figure};
         crate::table::refuse_overwriting_inputs(path, &[input])?;
-        let fig = Figure {
-            title: format!("{} folded at P = {period_d:.8} d", input.display()),
-            panels: vec![Panel {
-                x_label: "phase (cycles)".into(),
-                y_label: format!("{} (input units)", a.light_curve.value_column),
-                invert_y: false,
-                height_weight: 1,
-                layers: vec![
-                    Layer::Points { label: "observations".into(), x: phase.clone(), y: series.value().to_vec(), y_err: errors.clone(), colour: (120, 140, 180), size: 2 },
-                    Layer::Points {
-                        label: "binned".into(),
-                        x: bins.iter().map(|b| b.phase_center).collect(),
-                        y: bins.iter().map(|b| b.value).collect(),
-                        y_err: Some(bins.iter().map(|b| b.error).collect()),
-                        colour: (200, 30, 30),
-                        size: 4,
-                    },
-                ],
-            }],
-            width: 1200,
-            height: 700,
-        };
+        let label = format!("{} (input units)", a.light_curve.value_column);
+        let curve = FoldedCurve { phase: &phase, value: series.value(), error: errors.as_deref(), bins: &bins, value_label: &label, invert_y: false };
+        let fig = folded_figure(&curve, &format!("{} folded at P = {period_d:.8} d", input.display()));
         write_figure(&fig, path)?;
     }
     if a.json {

@@ -9,7 +9,7 @@ use polars::prelude::*;
 
 use super::find_periods::SearchOptionArgs;
 use crate::arrival::table::ClockSpec;
-use crate::survey::batch::{BatchColumns, BatchOptions, SourceReport, alias_text, open_rows, run_batch};
+use crate::survey::batch::{BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows, run_batch_with_arrival};
 use crate::table::{Provenance, write_table};
 use crate::time::LeapSecondTable;
 
@@ -20,8 +20,14 @@ const EXAMPLE: &str = "Example (invented survey field):
   One row per source: status (searched/skipped) and message, points, rows dropped, baseline,
   then for each peak k: period_d_k, period_err_d_k, power_k, false_alarm_probability_k,
   amplitude_k, alias_note_k. The rows of a source must be contiguous (sort by source id
-  first); the table is streamed, so it may be larger than memory. Times must be BJD_TDB
-  (--clock bjd_tdb or bmjd_tdb); carry other clocks with `skyclock barycentre` first.";
+  first); the table is streamed, so it may be larger than memory.
+  Times in BJD_TDB (--clock bjd_tdb or bmjd_tdb) are used as is. Times in an observer clock
+  are carried to BJD_TDB per source, at the position in the source's first row:
+  skyclock survey-batch --input field_utc_invented.csv --source-column star \
+      --time-column jd --clock jd_utc --ra-column ra_deg --dec-column dec_deg \
+      --site-coordinates=-41.2345,-31.5432,1480 --value-column mag \
+      --max-freq-per-day 20 --output field_periods.csv
+  (invented site; without a site the times are taken as geocentric).";
 
 /// Arguments of `skyclock survey-batch`.
 #[derive(Debug, ClapArgs)]
@@ -45,15 +51,28 @@ pub struct Args {
     /// Column holding band labels.
     #[arg(long, value_name = "COLUMN")]
     pub band_column: Option<String>,
-    /// Clock of the times: bjd_tdb or bmjd_tdb.
+    /// Clock of the times: bjd_tdb or bmjd_tdb (used as is), or an observer clock (jd_utc,
+    /// mjd_tt, iso_utc, …) carried to the barycentre per source (needs --ra-column and
+    /// --dec-column, and a site unless the times are geocentric).
     #[arg(long, value_name = "LABEL", default_value = "bjd_tdb")]
     pub clock: String,
+    /// Column holding each source's right ascension, ICRS degrees (observer clocks only).
+    #[arg(long, value_name = "COLUMN")]
+    pub ra_column: Option<String>,
+    /// Column holding each source's declination, ICRS degrees (observer clocks only).
+    #[arg(long, value_name = "COLUMN")]
+    pub dec_column: Option<String>,
+    #[command(flatten)]
+    pub observer: super::common::ObserverArgs,
+    #[command(flatten)]
+    pub reference_data: super::common::ReferenceDataArgs,
     #[command(flatten)]
     pub search: SearchOptionArgs,
     /// Refine each peak by a least-squares fit (period errors; ~70 ms per curve, slow for big surveys).
     #[arg(long)]
     pub refine_peaks: bool,
-    /// Points held in memory before a batch of sources is searched.
+    /// Points gathered before a batch of sources is searched (memory holds at most three
+    /// batches: one searched, one queued, one filling).
     #[arg(long, default_value_t = 2_000_000)]
     pub batch_points: usize,
     /// Output table (.csv, .tsv or .parquet), one row per source.
@@ -87,7 +106,7 @@ pub fn run(a: Args) -> Result<()> {
     let mut plan = a.search.plan(0)?;
     plan.refine_peaks = a.refine_peaks;
     let k = plan.peaks;
-    let columns = BatchColumns { source: a.source_column.clone(), time: a.time_column.clone(), value: a.value_column.clone(), error: a.error_column.clone(), band: a.band_column.clone() };
+    let columns = BatchColumns { source: a.source_column.clone(), time: a.time_column.clone(), value: a.value_column.clone(), error: a.error_column.clone(), band: a.band_column.clone(), ra_deg: a.ra_column.clone(), dec_deg: a.dec_column.clone() };
     crate::table::refuse_overwriting_inputs(&a.output, &[a.input.as_path()])?;
     let file = a.input.display().to_string();
     let mut stream = open_rows(&a.input, &columns, 250_000)?;
@@ -157,7 +176,28 @@ pub fn run(a: Args) -> Result<()> {
         pb.set_message(format!("{done} sources, {rate:.0}/s"));
     };
     let options = BatchOptions { clock, batch_points: a.batch_points };
-    let summary = run_batch(stream.as_mut(), &file, &columns, &options, &plan, &leap, &mut sink, &progress)?;
+    let carry = !crate::survey::input::is_barycentric_tdb(&clock);
+    let reference = if carry { Some(a.reference_data.load()?) } else { None };
+    let leap = reference.as_ref().map_or(leap, |r| r.converter.leap_seconds().clone());
+    let times_note = match &reference {
+        None => format!("times read as {} (already barycentric)", a.clock),
+        Some(r) => format!("times carried from {} to BJD_TDB per source (position from its first row) with {}", a.clock, r.ephemeris.name()),
+    };
+    let arrival = match &reference {
+        None => None,
+        Some(r) => {
+            if a.observer.site_column.is_some() || a.observer.spacecraft_columns.is_some() {
+                anyhow::bail!("survey-batch carries times for one site (or the geocentre); a site column or spacecraft positions are not supported here: convert with `skyclock barycentre` first");
+            }
+            let description = a.observer.description()?;
+            let observer = match a.observer.single_site(description.as_ref())? {
+                Some(site) => crate::observer::Observer::Site(site),
+                None => crate::observer::Observer::Geocentre,
+            };
+            Some(ObserverArrival { ephemeris: r.ephemeris.as_ref(), converter: r.converter.clone(), orientation: r.orientation.clone(), observer })
+        }
+    };
+    let summary = run_batch_with_arrival(stream.as_mut(), &file, &columns, &options, &plan, &leap, arrival.as_ref().map(|x| x as &dyn SourceArrival), &mut sink, &progress)?;
     pb.finish_and_clear();
     let mut cols = vec![
         Column::new("source_id".into(), std::mem::take(&mut rows.id)),
@@ -184,11 +224,12 @@ pub fn run(a: Args) -> Result<()> {
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "survey-batch")
         .with("input", file.clone())
-        .with("method", plan.method.label());
+        .with("method", plan.method.label())
+        .with("times", times_note.clone());
     write_table(&mut df, &a.output, &provenance, &[a.input.as_path()])?;
     let seconds = started.elapsed().as_secs_f64();
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&serde_json::json!({"output": a.output.display().to_string(), "summary": summary, "seconds": seconds, "first_skipped": first_problems}))?);
+        println!("{}", serde_json::to_string_pretty(&serde_json::json!({"output": a.output.display().to_string(), "times": times_note, "summary": summary, "seconds": seconds, "first_skipped": first_problems}))?);
     } else if !a.quiet {
         println!(
             "{} sources ({} searched, {} skipped) from {} rows in {:.1} s → {}",

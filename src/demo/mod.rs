@@ -4,8 +4,10 @@
 //! [`scenario::write_datasets`] with a fixed seed (`cargo run --release --example
 //! make_demo_datasets`).
 
+pub mod pulsar_scenario;
 pub mod random;
 pub mod run;
 pub mod scenario;
+pub mod survey_scenario;
 
 pub use run::run_demo;

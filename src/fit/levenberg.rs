@@ -30,11 +30,14 @@ pub struct LevenbergOptions {
     pub relative_tolerance: f64,
     /// Initial damping λ.
     pub initial_damping: f64,
+    /// Also stop when an accepted step lowers χ² by less than this absolute amount (χ²
+    /// units: 1e-4 moves the parameters by ~1 % of their 1σ; 0 disables the test).
+    pub absolute_tolerance: f64,
 }
 
 impl Default for LevenbergOptions {
     fn default() -> Self {
-        LevenbergOptions { max_iterations: 200, relative_tolerance: 1e-12, initial_damping: 1e-3 }
+        LevenbergOptions { max_iterations: 200, relative_tolerance: 1e-12, initial_damping: 1e-3, absolute_tolerance: 0.0 }
     }
 }
 
@@ -141,11 +144,12 @@ pub fn levenberg_marquardt<M: LsqModel>(model: &M, start: &[f64], options: &Leve
             let c = chi2_of(model, &trial, &mut pred);
             if c.is_finite() && c <= chi2 {
                 let rel = (chi2 - c) / chi2.max(1e-300);
+                let chi2_drop = chi2 - c;
                 params.copy_from_slice(&trial);
                 chi2 = c;
                 lambda = (lambda * 0.1).max(1e-15);
                 improved = true;
-                if rel < options.relative_tolerance {
+                if rel < options.relative_tolerance || chi2_drop < options.absolute_tolerance {
                     converged = true;
                 }
                 break;

@@ -8,6 +8,6 @@ pub mod binning;
 pub mod phase;
 pub mod refine;
 
-pub use binning::{BinStatistic, PhaseBin, bin_folded};
+pub use binning::{BinStatistic, PhaseBin, bin_folded, residuals_from_bins};
 pub use phase::{fold_times, phase_of};
 pub use refine::{RefinedPeriod, refine_period};

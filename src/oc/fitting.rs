@@ -339,7 +339,7 @@ fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFi
 }
 
 fn lm_options() -> LevenbergOptions {
-    LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3 }
+    LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5 }
 }
 
 fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options: &FitOptions) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {

@@ -34,10 +34,39 @@ fn power_at(bands: &[TrigSums], w_band: &[f64], yy: f64, k: usize, floating_mean
     if !(d > 1e-14 * (cc + ss).abs().max(1e-300) * (cc + ss).abs()) || yy <= 0.0 {
         return (0.0, 0.0);
     }
-    let p = (ss * yc * yc + cc * ys * ys - 2.0 * cs * yc * ys) / (yy * d);
-    let a = (yc * ss - ys * cs) / d;
-    let bb = (ys * cc - yc * cs) / d;
+    let inv_d = 1.0 / d;
+    let p = (ss * yc * yc + cc * ys * ys - 2.0 * cs * yc * ys) * inv_d / yy;
+    let a = (yc * ss - ys * cs) * inv_d;
+    let bb = (ys * cc - yc * cs) * inv_d;
     (p.clamp(0.0, 1.0), (a * a + bb * bb).sqrt())
+}
+
+/// [`power_at`] for one band of weight `wb` > 0 at every frequency (the same formulas with
+/// 1/wb hoisted: one division per frequency).
+fn single_band(s: &TrigSums, wb: f64, yy: f64, m: usize, floating_mean: bool) -> (Vec<f64>, Vec<f64>) {
+    let inv_wb = if floating_mean { 1.0 / wb } else { 0.0 };
+    let inv_yy = 1.0 / yy;
+    let mut power = Vec::with_capacity(m);
+    let mut amplitude = Vec::with_capacity(m);
+    for k in 0..m {
+        let (c, sn, c2, s2, yc, ys) = (s.c[k], s.s[k], s.c2[k], s.s2[k], s.yc[k], s.ys[k]);
+        let cc = 0.5 * (wb + c2) - c * c * inv_wb;
+        let ss = 0.5 * (wb - c2) - sn * sn * inv_wb;
+        let cs = 0.5 * s2 - c * sn * inv_wb;
+        let d = cc * ss - cs * cs;
+        if !(d > 1e-14 * (cc + ss).abs().max(1e-300) * (cc + ss).abs()) || yy <= 0.0 {
+            power.push(0.0);
+            amplitude.push(0.0);
+            continue;
+        }
+        let inv_d = 1.0 / d;
+        let p = (ss * yc * yc + cc * ys * ys - 2.0 * cs * yc * ys) * inv_d * inv_yy;
+        let a = (yc * ss - ys * cs) * inv_d;
+        let bb = (ys * cc - yc * cs) * inv_d;
+        power.push(p.clamp(0.0, 1.0));
+        amplitude.push((a * a + bb * bb).sqrt());
+    }
+    (power, amplitude)
 }
 
 /// Normalised weights, band-centred values and per-band weight sums.
@@ -83,6 +112,12 @@ fn lomb_scargle_family(series: &Series, grid: &FrequencyGrid, algorithm: Algorit
 }
 
 fn finish(sums: &[TrigSums], wb: &[f64], yy: f64, grid: &FrequencyGrid, floating_mean: bool, algorithm: Algorithm) -> Spectrum {
+    if let ([s], [w]) = (sums, wb) {
+        if *w > 0.0 {
+            let (power, amplitude) = single_band(s, *w, yy, grid.len, floating_mean);
+            return Spectrum { grid: *grid, power, amplitude: Some(amplitude), algorithm: Some(algorithm) };
+        }
+    }
     let (power, amplitude): (Vec<f64>, Vec<f64>) = (0..grid.len).map(|k| power_at(sums, wb, yy, k, floating_mean)).unzip();
     Spectrum { grid: *grid, power, amplitude: Some(amplitude), algorithm: Some(algorithm) }
 }

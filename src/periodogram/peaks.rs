@@ -89,18 +89,34 @@ pub fn local_maxima(spectrum: &Spectrum, count: usize, min_sep_per_day: f64) -> 
     let mut cand: Vec<usize> = (0..m)
         .filter(|&k| p[k].is_finite() && (k == 0 || p[k] >= p[k - 1]) && (k + 1 == m || p[k] > p[k + 1]))
         .collect();
-    cand.sort_by(|&a, &b| p[b].total_cmp(&p[a]));
+    // Descending power, ties by ascending index (a total order: the same result as a
+    // stable sort). Only a prefix is ordered: the `count` separated peaks nearly always lie
+    // among the first few candidates; the prefix grows until they are found.
+    let order = |a: &usize, b: &usize| p[*b].total_cmp(&p[*a]).then(a.cmp(b));
+    let mut prefix = (8 * count).max(64);
     let mut out: Vec<usize> = Vec::new();
-    for k in cand {
-        if out.len() >= count {
-            break;
+    loop {
+        if prefix < cand.len() {
+            cand.select_nth_unstable_by(prefix, order);
+            cand[..prefix].sort_by(order);
+        } else {
+            cand.sort_by(order);
         }
-        let f = spectrum.grid.freq_per_day(k);
-        if out.iter().all(|&j| (spectrum.grid.freq_per_day(j) - f).abs() >= min_sep_per_day) {
-            out.push(k);
+        out.clear();
+        for &k in cand.iter().take(prefix) {
+            if out.len() >= count {
+                break;
+            }
+            let f = spectrum.grid.freq_per_day(k);
+            if out.iter().all(|&j| (spectrum.grid.freq_per_day(j) - f).abs() >= min_sep_per_day) {
+                out.push(k);
+            }
         }
+        if out.len() >= count || prefix >= cand.len() {
+            return out;
+        }
+        prefix *= 4;
     }
-    out
 }
 
 /// Frequencies of the strongest sidelobes of a spectral window (c/d), excluding the main
@@ -165,6 +181,53 @@ pub fn describe_peaks(series: &Series, spectrum: &Spectrum, options: &PeakOption
     Ok(peaks)
 }
 
+/// A frequency at which a signal at some frequency f also shows up (or from which it
+/// could have come), for marking on a periodogram figure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AliasFrequency {
+    /// The alias frequency, c/d.
+    pub freq_per_day: f64,
+    pub kind: AliasKind,
+}
+
+impl AliasFrequency {
+    /// Short label: "+1/sd", "−1/yr", "2f", "f/2".
+    pub fn short_label(&self) -> String {
+        match self.kind {
+            AliasKind::SiderealDay { n } => format!("{n:+}/sd"),
+            AliasKind::Year { n } => format!("{n:+}/yr"),
+            AliasKind::Harmonic { n } => format!("{n}f"),
+            AliasKind::Subharmonic { n } => format!("f/{n}"),
+            AliasKind::WindowSidelobe { window_freq_per_day } => format!("±{window_freq_per_day:.3}"),
+        }
+    }
+}
+
+/// The aliases of a peak at `freq_per_day` that lie within [`lo_per_day`, `hi_per_day`]:
+/// |f ± 1 c/sidereal day| (1.0027379 c/d), |f ± 1 c/yr| (1/365.25 c/d), the harmonic 2f
+/// and the subharmonic f/2 (common practice). In that order; ones outside the range, and
+/// ones closer to f than `min_offset_per_day` (unresolvable: use the resolution 1/T of the
+/// baseline T, as [`annotate_aliases`] does), are left out.
+pub fn alias_frequencies(freq_per_day: f64, lo_per_day: f64, hi_per_day: f64, min_offset_per_day: f64) -> Vec<AliasFrequency> {
+    let f = freq_per_day;
+    let candidates = [
+        ((f - SIDEREAL_FREQ_PER_DAY).abs(), AliasKind::SiderealDay { n: -1 }),
+        (f + SIDEREAL_FREQ_PER_DAY, AliasKind::SiderealDay { n: 1 }),
+        ((f - YEAR_FREQ_PER_DAY).abs(), AliasKind::Year { n: -1 }),
+        (f + YEAR_FREQ_PER_DAY, AliasKind::Year { n: 1 }),
+        (2.0 * f, AliasKind::Harmonic { n: 2 }),
+        (0.5 * f, AliasKind::Subharmonic { n: 2 }),
+    ];
+    if !f.is_finite() {
+        return Vec::new();
+    }
+    candidates
+        .into_iter()
+        .filter(|(x, _)| *x >= lo_per_day && *x <= hi_per_day && (x - f).abs() >= min_offset_per_day)
+        .map(|(x, kind)| AliasFrequency { freq_per_day: x, kind })
+        .collect()
+}
+
 /// Marks each peak that lies within `tol` (c/d) of an alias of a stronger peak: ±n sidereal
 /// days (n ≤ 3), ±n years (n ≤ 2), harmonics and subharmonics (n = 2..5), window sidelobes.
 /// Peaks must be in descending order of strength.
@@ -196,5 +259,29 @@ pub fn annotate_aliases(peaks: &mut [Peak], tol: f64, sidelobes_per_day: &[f64])
             }
         }
         peaks[j].aliases = notes;
+    }
+}
+
+#[cfg(test)]
+mod alias_frequency_tests {
+    use super::*;
+
+    /// f = 0.8 c/d in [0.01, 2]: f+1/sd = 1.8027379, |f−1/sd| = 0.2027379, f ± 1/365.25,
+    /// 2f = 1.6, f/2 = 0.4 (definitions, common practice).
+    #[test]
+    fn aliases_of_a_peak_within_the_range() {
+        let a = alias_frequencies(0.8, 0.01, 2.0, 0.001);
+        let f: Vec<f64> = a.iter().map(|x| x.freq_per_day).collect();
+        assert_eq!(f.len(), 6);
+        assert!((f[0] - 0.2027379).abs() < 1e-12 && (f[1] - 1.8027379).abs() < 1e-12);
+        assert!((f[2] - (0.8 - 1.0 / 365.25)).abs() < 1e-12 && (f[3] - (0.8 + 1.0 / 365.25)).abs() < 1e-12);
+        assert_eq!((f[4], f[5]), (1.6, 0.4));
+        // 2f and f+1/sd fall outside [0, 1.5]
+        let b = alias_frequencies(0.8, 0.0, 1.5, 0.001);
+        assert!(b.iter().all(|x| x.freq_per_day <= 1.5) && b.len() == 4);
+        // a 100-day baseline (resolution 0.01 c/d) cannot separate the ±1/yr aliases
+        let c = alias_frequencies(0.8, 0.0, 2.0, 1.0 / 100.0);
+        assert!(c.len() == 4 && c.iter().all(|x| !matches!(x.kind, AliasKind::Year { .. })));
+        assert_eq!(a[4].short_label(), "2f");
     }
 }

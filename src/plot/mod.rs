@@ -7,11 +7,13 @@
 //! committed beside this file (Bitstream Vera licence, see fonts/DejaVuSans-LICENSE.txt),
 //! so no system fonts are needed.
 
+pub mod search;
 pub mod timing;
 
 use std::path::Path;
 
 use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 
 /// Layer drawn in a panel.
@@ -23,6 +25,9 @@ pub enum Layer {
     Line { label: String, x: Vec<f64>, y: Vec<f64>, colour: (u8, u8, u8) },
     /// Vertical markers at x with a short text each (peaks, aliases).
     Markers { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+    /// Dashed vertical guides at x with a short text each, written lower than the
+    /// [`Layer::Markers`] texts (e.g. where aliases of a peak would fall).
+    Guides { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
     /// A shaded band between `lower` and `upper` along x (a model's 1σ region).
     Band { label: String, x: Vec<f64>, lower: Vec<f64>, upper: Vec<f64>, colour: (u8, u8, u8) },
 }
@@ -83,7 +88,7 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
 
 fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, title: Option<&str>) -> Result<(), String> {
     let xs = panel.layers.iter().flat_map(|l| match l {
-        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Band { x, .. } => x.clone(),
+        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Guides { x, .. } | Layer::Band { x, .. } => x.clone(),
     });
     let (x0, x1) = range(xs);
     let ys = panel.layers.iter().flat_map(|l| match l {
@@ -93,7 +98,7 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
         }).collect::<Vec<f64>>(),
         Layer::Line { y, .. } => y.clone(),
         Layer::Band { lower, upper, .. } => lower.iter().chain(upper).copied().collect(),
-        Layer::Markers { .. } => Vec::new(),
+        Layer::Markers { .. } | Layer::Guides { .. } => Vec::new(),
     });
     let (y0, y1) = range(ys);
     let (ya, yb) = if panel.invert_y { (y1, y0) } else { (y0, y1) };
@@ -162,6 +167,19 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                     .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))))
                     .map_err(|e| e.to_string())?;
             }
+            Layer::Guides { label, x, text, colour } => {
+                let c = RGBColor(colour.0, colour.1, colour.2);
+                chart
+                    .draw_series(x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))))
+                    .map_err(|e| e.to_string())?
+                    .label(label.as_str())
+                    .legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
+                // Below the legend box (upper right) so that no guide text hides under it.
+                let ytext = yb - 0.2 * (yb - ya);
+                chart
+                    .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))))
+                    .map_err(|e| e.to_string())?;
+            }
         }
     }
     chart
@@ -209,6 +227,17 @@ pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
     Ok(())
 }
 
+/// Renders `fig` as SVG text in memory, with the same drawing code as [`write_figure`]
+/// (for embedding figures inline, e.g. in the HTML report). Text is drawn as SVG `<text>`
+/// elements naming the committed font family; the viewer falls back to a sans-serif face.
+pub fn render_svg(fig: &Figure) -> Result<String, PlotError> {
+    register_font();
+    let mut out = String::new();
+    draw_all(SVGBackend::with_string(&mut out, (fig.width, fig.height)).into_drawing_area(), fig)
+        .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message })?;
+    Ok(out)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -239,5 +268,8 @@ mod tests {
         write_figure(&fig, &d.join("f.png")).unwrap();
         assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
         assert!(write_figure(&fig, &d.join("f.jpg")).is_err());
+        // In memory: the same drawing as the file.
+        let text = render_svg(&fig).unwrap();
+        assert_eq!(text, svg);
     }
 }

@@ -32,6 +32,10 @@ pub struct BatchColumns {
     pub value: String,
     pub error: Option<String>,
     pub band: Option<String>,
+    /// Right ascension and declination of the source (ICRS, degrees) — needed only when
+    /// the clock is not barycentric, to carry the times to the barycentre.
+    pub ra_deg: Option<String>,
+    pub dec_deg: Option<String>,
 }
 
 /// One data row as text cells (borrowed from the reader).
@@ -44,6 +48,8 @@ pub struct RowCells<'a> {
     pub value: Option<&'a str>,
     pub error: Option<&'a str>,
     pub band: Option<&'a str>,
+    pub ra_deg: Option<&'a str>,
+    pub dec_deg: Option<&'a str>,
 }
 
 /// A table read row by row in bounded memory.
@@ -52,6 +58,9 @@ pub trait RowStream {
     fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError>;
     /// A shared counter of the input consumed so far (for progress).
     fn progress(&self) -> ReadProgress;
+    /// The most data rows this reader has held in memory at once so far (1 for a reader
+    /// that goes line by line; the largest slice for a Parquet reader).
+    fn peak_rows_buffered(&self) -> usize;
 }
 
 /// How much of an input has been read: `done` of `total` units (bytes or rows).
@@ -76,7 +85,7 @@ pub struct DelimitedRows {
     separator: char,
     total_bytes: u64,
     read_bytes: std::sync::Arc<std::sync::atomic::AtomicU64>,
-    index: [Option<usize>; 5],
+    index: [Option<usize>; 7],
 }
 
 fn split_fields<'a>(line: &'a str, sep: char, out: &mut Vec<std::borrow::Cow<'a, str>>) {
@@ -136,6 +145,8 @@ impl DelimitedRows {
             Some(find(&columns.value)?),
             columns.error.as_deref().map(find).transpose()?,
             columns.band.as_deref().map(find).transpose()?,
+            columns.ra_deg.as_deref().map(find).transpose()?,
+            columns.dec_deg.as_deref().map(find).transpose()?,
         ];
         Ok(DelimitedRows { file, reader, separator, total_bytes, read_bytes: std::sync::Arc::new(consumed.into()), index })
     }
@@ -169,11 +180,14 @@ impl RowStream for DelimitedRows {
                     message: format!("the row has {} fields but the header asks for at least {}; check the separator and quoting", fields.len(), needed + 1),
                 });
             }
-            visit(RowCells { row, source: cell(0), time: cell(1), value: cell(2), error: cell(3), band: cell(4) })?;
+            visit(RowCells { row, source: cell(0), time: cell(1), value: cell(2), error: cell(3), band: cell(4), ra_deg: cell(5), dec_deg: cell(6) })?;
         }
     }
     fn progress(&self) -> ReadProgress {
         ReadProgress { done: self.read_bytes.clone(), total: self.total_bytes }
+    }
+    fn peak_rows_buffered(&self) -> usize {
+        1
     }
 }
 
@@ -182,12 +196,13 @@ pub struct ParquetRows {
     file: String,
     path: std::path::PathBuf,
     columns: Vec<String>,
-    has_error: bool,
-    has_band: bool,
+    /// Position in `columns` of error, band, RA and Dec, when read.
+    slots: [Option<usize>; 4],
     total_rows: usize,
     done_rows: usize,
     done_counter: std::sync::Arc<std::sync::atomic::AtomicU64>,
     slice_rows: usize,
+    peak_rows: usize,
 }
 
 impl ParquetRows {
@@ -200,8 +215,13 @@ impl ParquetRows {
         let schema = reader.schema().map_err(|e| fail(format!("cannot read as Parquet: {e}")))?;
         let total_rows = reader.num_rows().map_err(|e| fail(format!("cannot read as Parquet: {e}")))?;
         let mut wanted = vec![columns.source.clone(), columns.time.clone(), columns.value.clone()];
-        wanted.extend(columns.error.clone());
-        wanted.extend(columns.band.clone());
+        let mut slots = [None; 4];
+        for (k, c) in [&columns.error, &columns.band, &columns.ra_deg, &columns.dec_deg].into_iter().enumerate() {
+            if let Some(c) = c {
+                slots[k] = Some(wanted.len());
+                wanted.push(c.clone());
+            }
+        }
         let available: Vec<String> = schema.iter_names().map(|n| n.to_string()).collect();
         for w in &wanted {
             if !available.contains(w) {
@@ -211,7 +231,7 @@ impl ParquetRows {
         if total_rows == 0 {
             return Err(TableError::Empty { file });
         }
-        Ok(ParquetRows { file, path: path.to_path_buf(), columns: wanted, has_error: columns.error.is_some(), has_band: columns.band.is_some(), total_rows, done_rows: 0, done_counter: Default::default(), slice_rows: slice_rows.max(1) })
+        Ok(ParquetRows { file, path: path.to_path_buf(), columns: wanted, slots, total_rows, done_rows: 0, done_counter: Default::default(), slice_rows: slice_rows.max(1), peak_rows: 0 })
     }
 }
 
@@ -229,22 +249,24 @@ impl RowStream for ParquetRows {
             if n == 0 {
                 break;
             }
+            self.peak_rows = self.peak_rows.max(n);
             let mut text = Vec::new();
             for c in &self.columns {
                 let col = df.column(c).map_err(|e| fail(e.to_string()))?;
                 let s = col.cast(&DataType::String).map_err(|e| fail(format!("column '{c}' cannot be read as text: {e}")))?;
                 text.push(s.str().map_err(|e| fail(e.to_string()))?.clone());
             }
-            let e_idx = 3;
-            let b_idx = if self.has_error { 4 } else { 3 };
+            let slot = |k: usize, i: usize| self.slots[k].and_then(|j| text[j].get(i));
             for i in 0..n {
                 visit(RowCells {
                     row: self.done_rows + i + 1,
                     source: text[0].get(i),
                     time: text[1].get(i),
                     value: text[2].get(i),
-                    error: if self.has_error { text[e_idx].get(i) } else { None },
-                    band: if self.has_band { text[b_idx].get(i) } else { None },
+                    error: slot(0, i),
+                    band: slot(1, i),
+                    ra_deg: slot(2, i),
+                    dec_deg: slot(3, i),
                 })?;
             }
             self.done_rows += n;
@@ -254,6 +276,9 @@ impl RowStream for ParquetRows {
     }
     fn progress(&self) -> ReadProgress {
         ReadProgress { done: self.done_counter.clone(), total: self.total_rows as u64 }
+    }
+    fn peak_rows_buffered(&self) -> usize {
+        self.peak_rows
     }
 }
 
@@ -280,8 +305,39 @@ pub struct SourceRows {
     pub band: Option<Vec<u32>>,
     band_labels: Vec<String>,
     file_row: Vec<usize>,
+    /// Times as read in a non-barycentric clock (carried to BJD_TDB before the search);
+    /// empty for barycentric clocks.
+    pub clock_time: Vec<Option<Instant>>,
+    /// Source position (RA, Dec in degrees) from its first row, for non-barycentric clocks.
+    pub position_deg: Option<(f64, f64)>,
     /// The first problem found while reading (the source is then skipped).
     pub problem: Option<String>,
+}
+
+/// Carries the arrival times of one source, read in the table's clock, to BJD_TDB — for
+/// batches whose clock is not barycentric. Errors are messages for the source's report.
+pub trait SourceArrival: Sync {
+    /// BJD_TDB of each time, for a source at `ra_deg`, `dec_deg` (ICRS, degrees).
+    fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, String>;
+}
+
+/// [`SourceArrival`] for one observer (a site or the geocentre) with the arrival stage's
+/// full correction (Rømer, Einstein, Shapiro; accuracy as [`BarycentricCorrector`]), a
+/// fixed source direction (no proper motion or parallax: survey tables rarely carry them).
+pub struct ObserverArrival<'a> {
+    pub ephemeris: &'a dyn crate::ephemeris::Ephemeris,
+    pub converter: crate::time::ScaleConverter,
+    pub orientation: crate::observer::EarthOrientation,
+    pub observer: crate::observer::Observer,
+}
+
+impl SourceArrival for ObserverArrival<'_> {
+    fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, String> {
+        use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
+        let source = Source::fixed_degrees("source", ra_deg, dec_deg)?;
+        let corrector = BarycentricCorrector::new(self.ephemeris, self.converter.clone(), self.orientation.clone(), source, DelayOptions::default());
+        times.iter().map(|t| corrector.correct(t, &self.observer, ReferencePoint::Observer).map(|c| c.bjd_tdb).map_err(|e| e.to_string())).collect()
+    }
 }
 
 /// Options of a batch.
@@ -289,7 +345,8 @@ pub struct SourceRows {
 pub struct BatchOptions {
     /// Clock of the times (must be barycentric TDB: bjd_tdb or bmjd_tdb).
     pub clock: ClockSpec,
-    /// Points held before a batch of sources is searched (bounds memory; default 2 000 000).
+    /// Points gathered before a batch of sources is searched (memory holds at most three
+    /// such batches; default 2 000 000).
     pub batch_points: usize,
 }
 
@@ -305,13 +362,21 @@ pub struct SourceReport {
     pub outcome: Result<SearchOutcome, String>,
 }
 
-/// Counts at the end of a batch.
+/// Counts at the end of a batch, with the memory high-water marks (in rows) that show the
+/// batch stayed bounded: at most `peak_reader_rows + peak_points_held` data rows were held
+/// at once, whatever the size of the table.
 #[derive(Debug, Clone, Default, PartialEq, serde::Serialize)]
 pub struct BatchSummary {
     pub sources: usize,
     pub searched: usize,
     pub skipped: usize,
     pub rows: usize,
+    /// Most rows the table reader held at once (its slice; 1 for CSV/TSV).
+    pub peak_reader_rows: usize,
+    /// Most grouped points held at once: the batch being searched, the batch queued for
+    /// search, the sources gathering into the next batch and the source being read.
+    /// Bounded by 3 × (`batch_points` + the longest source).
+    pub peak_points_held: usize,
 }
 
 struct Grouper<'a> {
@@ -324,6 +389,9 @@ struct Grouper<'a> {
     pending: Vec<SourceRows>,
     pending_points: usize,
     rows: usize,
+    peak_points: usize,
+    /// Times are in a non-barycentric clock and are carried per source.
+    carry: bool,
 }
 
 impl Grouper<'_> {
@@ -339,6 +407,8 @@ impl Grouper<'_> {
             band: self.columns.band.as_ref().map(|_| Vec::new()),
             band_labels: Vec::new(),
             file_row: Vec::new(),
+            clock_time: Vec::new(),
+            position_deg: None,
             problem: None,
         };
         if self.seen.contains(id) {
@@ -372,7 +442,41 @@ impl Grouper<'_> {
             s.problem = Some(format!("{file}, row {}, column '{}': empty source id", c.row, columns.source));
             return finished;
         }
-        let t = match c.time.filter(|t| !t.eq_ignore_ascii_case("nan")) {
+        if self.carry {
+            if s.position_deg.is_none() {
+                let ra = numeric_cell(c.ra_deg, &file, c.row, columns.ra_deg.as_deref().unwrap_or("ra"));
+                let dec = numeric_cell(c.dec_deg, &file, c.row, columns.dec_deg.as_deref().unwrap_or("dec"));
+                match (ra, dec) {
+                    (Ok(ra), Ok(dec)) if ra.is_finite() && dec.is_finite() => s.position_deg = Some((ra, dec)),
+                    (Err(e), _) | (_, Err(e)) => {
+                        s.problem = Some(e.to_string());
+                        return finished;
+                    }
+                    _ => {
+                        s.problem = Some(format!(
+                            "{file}, row {}, columns '{}'/'{}': the source position is empty; it is needed to carry {} times to the barycentre",
+                            c.row,
+                            columns.ra_deg.as_deref().unwrap_or("?"),
+                            columns.dec_deg.as_deref().unwrap_or("?"),
+                            clock.scale.name()
+                        ));
+                        return finished;
+                    }
+                }
+            }
+            let raw = match c.time.filter(|t| !t.eq_ignore_ascii_case("nan")) {
+                None => None,
+                Some(text) => match parse_time(text, clock.format, clock.scale, leap) {
+                    Ok(inst) => Some(inst),
+                    Err(e) => {
+                        s.problem = Some(format!("{file}, row {}, column '{}': {e}", c.row, columns.time));
+                        return finished;
+                    }
+                },
+            };
+            s.clock_time.push(raw);
+        }
+        let t = match c.time.filter(|t| !self.carry && !t.eq_ignore_ascii_case("nan")) {
             None => f64::NAN,
             Some(text) => match parse_time(text, clock.format, clock.scale, leap) {
                 Ok(inst) => {
@@ -422,9 +526,34 @@ impl Grouper<'_> {
     }
 }
 
-/// Searches one source's rows (no spectrum is kept).
-pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: &BatchColumns) -> SourceReport {
-    let epoch_jd = rows.epoch.map_or(f64::NAN, |e| {
+/// Searches one source's rows (no spectrum is kept). Times read in a non-barycentric clock
+/// are first carried to BJD_TDB with `arrival` (a source reports an error without it).
+pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: &BatchColumns, arrival: Option<&dyn SourceArrival>) -> SourceReport {
+    let carried;
+    let (epoch, time_d) = if rows.clock_time.is_empty() || rows.problem.is_some() {
+        (rows.epoch, &rows.time_d)
+    } else {
+        let fail = |m: String| SourceReport { id: rows.id.clone(), first_row: rows.first_row, last_row: rows.last_row, epoch_jd: f64::NAN, outcome: Err(m) };
+        let (Some(arrival), Some((ra, dec))) = (arrival, rows.position_deg) else {
+            return fail(format!("{file}: source '{}' (rows {}–{}): times are not barycentric and no way to carry them was given", rows.id, rows.first_row, rows.last_row));
+        };
+        let known: Vec<Instant> = rows.clock_time.iter().flatten().copied().collect();
+        let bjd = match arrival.to_barycentre(ra, dec, &known) {
+            Ok(b) => b,
+            Err(e) => return fail(format!("{file}: source '{}' (rows {}–{}): carrying the times to the barycentre failed: {e}", rows.id, rows.first_row, rows.last_row)),
+        };
+        let epoch = bjd.first().map(|i| {
+            let (a, b) = i.jd_two_part();
+            Instant::from_jd_two_part(TimeScale::Tdb, (a + b).floor(), 0.0)
+        });
+        let mut it = bjd.iter();
+        carried = rows.clock_time.iter().map(|t| match (t, epoch) {
+            (Some(_), Some(e)) => it.next().map_or(f64::NAN, |b| days_since(b, &e)),
+            _ => f64::NAN,
+        }).collect::<Vec<f64>>();
+        (epoch, &carried)
+    };
+    let epoch_jd = epoch.map_or(f64::NAN, |e| {
         let (a, b) = e.jd_two_part();
         a + b
     });
@@ -432,7 +561,7 @@ pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: 
     if let Some(p) = &rows.problem {
         return report(Err(p.clone()));
     }
-    let mut lc = LightCurve::new(&rows.time_d, &rows.value);
+    let mut lc = LightCurve::new(time_d, &rows.value);
     if let Some(e) = &rows.error {
         lc = lc.with_error(e);
     }
@@ -442,7 +571,7 @@ pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: 
     let located = super::input::TableLightCurve {
         file: file.to_string(),
         columns: super::input::LightCurveColumns { time: columns.time.clone(), value: columns.value.clone(), error: columns.error.clone(), band: columns.band.clone() },
-        epoch: rows.epoch.unwrap_or_else(|| Instant::from_jd_two_part(TimeScale::Tdb, 2451545.0, 0.0)),
+        epoch: epoch.unwrap_or_else(|| Instant::from_jd_two_part(TimeScale::Tdb, 2451545.0, 0.0)),
         time_d: Vec::new(),
         value: Vec::new(),
         error: None,
@@ -480,47 +609,108 @@ pub fn run_batch(
     sink: &mut dyn FnMut(Vec<SourceReport>) -> Result<(), TableError>,
     progress: &dyn Fn(usize, f64),
 ) -> Result<BatchSummary, TableError> {
-    if !super::input::is_barycentric_tdb(&options.clock) {
+    run_batch_with_arrival(rows, file, columns, options, plan, leap, None, sink, progress)
+}
+
+/// [`run_batch`] for tables in any observer clock (jd_utc, mjd_tt, iso_utc, …): each
+/// source's times are carried to BJD_TDB by `arrival` at the position in its first row
+/// (columns `ra_deg`/`dec_deg` of [`BatchColumns`]) before the search. With `arrival`
+/// `None` the clock must be barycentric TDB (bjd_tdb or bmjd_tdb).
+#[allow(clippy::too_many_arguments)]
+pub fn run_batch_with_arrival(
+    rows: &mut dyn RowStream,
+    file: &str,
+    columns: &BatchColumns,
+    options: &BatchOptions,
+    plan: &SearchPlan,
+    leap: &LeapSecondTable,
+    arrival: Option<&dyn SourceArrival>,
+    sink: &mut dyn FnMut(Vec<SourceReport>) -> Result<(), TableError>,
+    progress: &dyn Fn(usize, f64),
+) -> Result<BatchSummary, TableError> {
+    let barycentric = super::input::is_barycentric_tdb(&options.clock);
+    if !barycentric && arrival.is_none() {
         return Err(TableError::File {
             file: file.to_string(),
-            message: "a survey batch reads barycentric times only (bjd_tdb or bmjd_tdb); carry other clocks to the barycentre first".into(),
+            message: "this survey batch reads barycentric times only (bjd_tdb or bmjd_tdb); give an observer and source-position columns to carry other clocks".into(),
         });
     }
+    if !barycentric && options.clock.reference != crate::arrival::ReferencePoint::Observer {
+        return Err(TableError::File {
+            file: file.to_string(),
+            message: "a survey batch carries observer clocks (jd_utc, mjd_tt, iso_utc, …) or reads barycentric TDB; convert heliocentric or other barycentric clocks with the barycentre command first".into(),
+        });
+    }
+    if !barycentric && (columns.ra_deg.is_none() || columns.dec_deg.is_none()) {
+        return Err(TableError::File { file: file.to_string(), message: "carrying times to the barycentre needs the right-ascension and declination columns (degrees)".into() });
+    }
     let mut summary = BatchSummary::default();
-    let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0 };
-    let mut flush = |pending: Vec<SourceRows>, summary: &mut BatchSummary, fraction: f64| -> Result<(), TableError> {
-        let reports: Vec<SourceReport> = pending.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns)).collect();
-        summary.sources += reports.len();
-        summary.searched += reports.iter().filter(|r| r.outcome.is_ok()).count();
-        summary.skipped += reports.iter().filter(|r| r.outcome.is_err()).count();
-        sink(reports)?;
-        progress(summary.sources, fraction);
-        Ok(())
-    };
+    let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0, peak_points: 0, carry: !barycentric };
     let batch_points = options.batch_points.max(1);
     let read = rows.progress();
-    let mut ready: Vec<Vec<SourceRows>> = Vec::new();
-    rows.for_each_row(&mut |c| {
-        if let Some(done) = g.push(c) {
-            g.pending_points += done.value.len();
-            g.pending.push(done);
+    // Reading and searching overlap: a search thread takes whole batches of sources from a
+    // queue of one (so at most one batch searched, one queued and one filling), searches
+    // each in parallel (rayon) and hands the reports back in file order; this thread reads,
+    // groups, and delivers finished reports to `sink` between rows.
+    std::thread::scope(|scope| -> Result<(), TableError> {
+        let (to_search, searching) = std::sync::mpsc::sync_channel::<(Vec<SourceRows>, f64)>(1);
+        let (to_sink, finished) = std::sync::mpsc::channel::<(Vec<SourceReport>, usize, f64)>();
+        scope.spawn(move || {
+            for (batch, fraction) in searching {
+                let points: usize = batch.iter().map(|s| s.value.len()).sum();
+                let reports: Vec<SourceReport> = batch.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns, arrival)).collect();
+                drop(batch);
+                if to_sink.send((reports, points, fraction)).is_err() {
+                    break;
+                }
+            }
+        });
+        let mut in_flight_points = 0usize;
+        let mut deliver = |(reports, points, fraction): (Vec<SourceReport>, usize, f64), summary: &mut BatchSummary, in_flight: &mut usize| -> Result<(), TableError> {
+            *in_flight -= points;
+            summary.sources += reports.len();
+            summary.searched += reports.iter().filter(|r| r.outcome.is_ok()).count();
+            summary.skipped += reports.iter().filter(|r| r.outcome.is_err()).count();
+            sink(reports)?;
+            progress(summary.sources, fraction);
+            Ok(())
+        };
+        let send = |batch: Vec<SourceRows>, fraction: f64, in_flight: &mut usize| {
+            *in_flight += batch.iter().map(|s| s.value.len()).sum::<usize>();
+            // The search thread only stops early when this thread has stopped listening.
+            let _ = to_search.send((batch, fraction));
+        };
+        rows.for_each_row(&mut |c| {
+            if let Some(done) = g.push(c) {
+                g.pending_points += done.value.len();
+                g.pending.push(done);
+            }
+            let held = g.pending_points + g.current.as_ref().map_or(0, |s| s.value.len()) + in_flight_points;
+            g.peak_points = g.peak_points.max(held);
             if g.pending_points >= batch_points || g.pending.len() >= 65_536 {
-                ready.push(std::mem::take(&mut g.pending));
+                send(std::mem::take(&mut g.pending), read.fraction(), &mut in_flight_points);
                 g.pending_points = 0;
             }
+            while let Ok(done) = finished.try_recv() {
+                deliver(done, &mut summary, &mut in_flight_points)?;
+            }
+            Ok(())
+        })?;
+        if let Some(last) = g.current.take() {
+            g.pending.push(last);
         }
-        if let Some(batch) = ready.pop() {
-            flush(batch, &mut summary, read.fraction())?;
+        if !g.pending.is_empty() {
+            send(std::mem::take(&mut g.pending), 1.0, &mut in_flight_points);
+        }
+        drop(to_search);
+        for done in finished.iter() {
+            deliver(done, &mut summary, &mut in_flight_points)?;
         }
         Ok(())
     })?;
-    if let Some(last) = g.current.take() {
-        g.pending.push(last);
-    }
     summary.rows = g.rows;
-    if !g.pending.is_empty() {
-        flush(std::mem::take(&mut g.pending), &mut summary, 1.0)?;
-    }
+    summary.peak_points_held = g.peak_points;
+    summary.peak_reader_rows = rows.peak_rows_buffered();
     if summary.rows == 0 {
         return Err(TableError::Empty { file: file.to_string() });
     }
