@@ -210,7 +210,7 @@ fn event_arrival_times_feed_the_timing_fit_and_recover_spin_down() {
             folding.freq_hz += 2e-9;
             let r = event_arrival_times(&folding, &ev, None, &tpl, Segmentation::Duration { seconds: 86_400.0 }, 100, 2e6, "default").unwrap();
             assert_eq!(r.arrival_times.len(), 30);
-            let toas: Vec<ArrivalTime> = r.arrival_times.iter().map(|t| ArrivalTime { t_s: t.arrival_s, error_s: t.error_s, freq_mhz: None, instrument: "default".into() }).collect();
+            let toas: Vec<ArrivalTime> = r.arrival_times.iter().map(|t| ArrivalTime { t_s: t.arrival_s, error_s: t.error_s, freq_mhz: None, instrument: "default".into(), observer: None }).collect();
             let fit = fit_timing_model(&folding, &toas, 20).unwrap();
             let mut inside = 0;
             for (j, name) in fit.parameters.iter().enumerate().skip(1) {

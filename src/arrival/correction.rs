@@ -91,6 +91,10 @@ pub struct Corrected {
     pub delays: DelayBreakdown,
     /// True when Earth orientation came from a table (false: UT1 = UTC assumed).
     pub earth_orientation_from_table: bool,
+    /// The observer's barycentric position (ICRS axes, km) at `observer_tdb`, the vector
+    /// whose projection on the source direction is the Rømer delay; `None` for times given
+    /// already at the barycentre (no observer is involved).
+    pub observer_barycentric_km: Option<[f64; 3]>,
 }
 
 /// Why a time could not be corrected.
@@ -157,7 +161,7 @@ impl<'a> BarycentricCorrector<'a> {
                     einstein_s: tdb.seconds_since(&tt),
                     ..Default::default()
                 };
-                Ok(Corrected { bjd_tdb: tdb, observer_tdb: tdb, delays, earth_orientation_from_table: false })
+                Ok(Corrected { bjd_tdb: tdb, observer_tdb: tdb, delays, earth_orientation_from_table: false, observer_barycentric_km: None })
             }
             ReferencePoint::Observer => self.correct_observer_time(time, observer, 0.0),
             ReferencePoint::Heliocentric => {
@@ -255,6 +259,7 @@ impl<'a> BarycentricCorrector<'a> {
             observer_tdb: tdb,
             delays,
             earth_orientation_from_table: from_table,
+            observer_barycentric_km: Some(r_obs),
         })
     }
 

@@ -136,6 +136,29 @@ pub fn correct_table(
     request: &TableRequest,
     corrector: &BarycentricCorrector,
 ) -> Result<(DataFrame, TableSummary), TableError> {
+    correct_table_with_geometry(df, file, request, corrector).map(|(out, summary, _)| (out, summary))
+}
+
+/// The geometry of one corrected row: where the observer was and which direction the
+/// correction used, for models that refine the source position afterwards.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RowGeometry {
+    /// The observer's barycentric position at the arrival, ICRS axes, km (`None` when the
+    /// row was given already at the barycentre, e.g. clock `bjd_tdb`).
+    pub observer_barycentric_km: Option<[f64; 3]>,
+    /// The unit vector towards the source used for the row's Rømer delay, ICRS (at the
+    /// observer's TDB, with the source's own space motion applied).
+    pub source_unit: [f64; 3],
+}
+
+/// As [`correct_table`], and also the [`RowGeometry`] of every row (input order). The
+/// table's columns are exactly those of [`correct_table`].
+pub fn correct_table_with_geometry(
+    df: &DataFrame,
+    file: &str,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+) -> Result<(DataFrame, TableSummary, Vec<RowGeometry>), TableError> {
     let n = df.height();
     let times = text_column(df, file, &request.time_column)?;
     let clock_labels = match &request.clock_column {
@@ -180,6 +203,13 @@ pub fn correct_table(
     for r in results {
         rows.push(r?);
     }
+    let geometry: Vec<RowGeometry> = rows
+        .iter()
+        .map(|(c, _, _)| RowGeometry {
+            observer_barycentric_km: c.observer_barycentric_km,
+            source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
+        })
+        .collect();
     let mut summary = TableSummary { rows: n, min_total_correction_s: f64::INFINITY, max_total_correction_s: f64::NEG_INFINITY, ..Default::default() };
     let mut cols: Vec<Vec<f64>> = vec![Vec::with_capacity(n); 10];
     let mut bjd_text = Vec::with_capacity(n);
@@ -259,7 +289,7 @@ pub fn correct_table(
         summary.min_total_correction_s = 0.0;
         summary.max_total_correction_s = 0.0;
     }
-    Ok((out, summary))
+    Ok((out, summary, geometry))
 }
 
 /// JD text with 14 decimals (~1 ns).

@@ -6,11 +6,11 @@ use anyhow::{Context, Result};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{TableRequest, correct_table};
+use crate::arrival::table::{TableRequest, correct_table_with_geometry};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::pulsar::arrival_times::arrival_times_from_table;
+use crate::pulsar::arrival_times::{arrival_times_from_table, attach_observer_geometry};
 use crate::pulsar::model::TimingModel;
-use crate::pulsar::timing_fit::fit_timing_model;
+use crate::pulsar::timing_fit::{fit_timing_model, fitted_position};
 use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
 use crate::table::{Provenance, read_table};
 
@@ -23,6 +23,11 @@ const EXAMPLE: &str = "Example:
   The arrival-time table has: the time column (any clock label), error_us (1-σ, µs),
   optional freq_mhz (observing frequency; empty = no dispersion) and optional instrument.
   The model TOML names the parameters to fit in `fit = [\"freq_hz\", ...]`.
+  Position and proper motion: add position_offset_ra_mas, position_offset_dec_mas,
+  proper_motion_ra_mas_per_yr, proper_motion_dec_mas_per_yr to `fit` (offsets from
+  --ra/--dec at the model epoch, east and north); this needs times recorded at an
+  observer (not bjd_tdb), and the summary's `position` gives the corrected RA/Dec and
+  proper motion with 1σ.
   residuals.csv: seconds_after_epoch_tdb, residual_us, residual_cycles, error_us,
   freq_mhz, instrument, orbital_phase (figure data: residuals vs time and vs orbital phase);
   --figure residuals.svg draws them (the orbital-phase panel only for a binary model).";
@@ -85,12 +90,13 @@ pub fn run(a: Args) -> Result<()> {
     let source = a.source.load(description.as_ref())?;
     let observer = a.observer.observer_spec(description.as_ref())?;
     let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
+    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
     let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
     let file = a.arrival_times.display().to_string();
     let df = read_table(&a.arrival_times, &request.text_columns())?;
-    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
-    let toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
+    let (corrected, _, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
+    let mut toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
+    attach_observer_geometry(&mut toas, &geometry);
     let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()))?;
 
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
@@ -141,6 +147,7 @@ pub fn run(a: Args) -> Result<()> {
         "arrival_times": toas.len(),
         "fit": fit,
         "reduced_chi2": fit.chi2 / fit.dof.max(1) as f64,
+        "position": fitted_position(&fit, &source),
         "ephemeris": reference.ephemeris.name(),
         "outputs": [a.output_residuals.display().to_string(), a.output_model.display().to_string()],
     });
@@ -154,6 +161,13 @@ pub fn run(a: Args) -> Result<()> {
         println!("fitted {} parameters to {} arrival times: χ² = {:.2} for {} degrees of freedom", fit.parameters.len(), toas.len(), fit.chi2, fit.dof);
         for ((n, v), s) in fit.parameters.iter().zip(&fit.values).zip(&fit.uncertainties) {
             println!("  {n:<34} {v:>24.15e} ± {s:.3e}");
+        }
+        if let Some(p) = fitted_position(&fit, &source) {
+            println!(
+                "  position at MJD {:.5} (TDB): RA {:.9}° ± {:.3} mas, Dec {:.9}° ± {:.3} mas; proper motion {:.3} ± {:.3} mas/yr east, {:.3} ± {:.3} mas/yr north",
+                p.epoch_mjd_tdb, p.ra_deg, p.ra_uncertainty_mas, p.dec_deg, p.dec_uncertainty_mas,
+                p.proper_motion_ra_mas_per_yr, p.proper_motion_ra_uncertainty_mas_per_yr, p.proper_motion_dec_mas_per_yr, p.proper_motion_dec_uncertainty_mas_per_yr
+            );
         }
     }
     Ok(())

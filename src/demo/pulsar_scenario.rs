@@ -49,6 +49,10 @@ pub fn true_model() -> TimingModel {
         freq_deriv_hz_per_s: -2.1e-14,
         freq_second_deriv_hz_per_s2: 0.0,
         dispersion_measure_pc_per_cm3: 38.2,
+        position_offset_ra_mas: 0.0,
+        position_offset_dec_mas: 0.0,
+        proper_motion_ra_mas_per_yr: 0.0,
+        proper_motion_dec_mas_per_yr: 0.0,
         instrument_delays_s: Default::default(),
         orbit: Some(Orbit {
             orbital_period_d: 1.733_2,
@@ -69,7 +73,7 @@ pub fn true_model() -> TimingModel {
 fn pulse_arrival_s(model: &TimingModel, n: f64, guess_s: f64, freq_mhz: Option<f64>) -> f64 {
     let mut t = guess_s;
     for _ in 0..8 {
-        let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz, instrument: "default".into() };
+        let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz, instrument: "default".into(), observer: None };
         let phase = model.phase_cycles(&toa);
         t -= (phase - n) / model.freq_hz;
     }
@@ -106,7 +110,7 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     let mut kept = 0;
     while kept < 6_000 {
         let t = start_s + 8_000.0 * rng.uniform();
-        let phase = model.phase_cycles(&ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: None, instrument: "default".into() });
+        let phase = model.phase_cycles(&ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: None, instrument: "default".into(), observer: None });
         let x = std::f64::consts::TAU * phase;
         let density = 0.65 + 0.35 * (1.0 + 0.8 * x.cos() + 0.4 * (2.0 * x - 0.6).cos());
         if rng.uniform() * 1.77 < density {

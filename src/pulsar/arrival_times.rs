@@ -7,7 +7,9 @@
 
 use polars::prelude::DataFrame;
 
-use super::model::ArrivalTime;
+use super::model::{ArrivalTime, ObserverGeometry};
+use crate::arrival::table::RowGeometry;
+use crate::ephemeris::SPEED_OF_LIGHT_KM_PER_S;
 use crate::table::{TableError, float_column, optional_float_column, text_column};
 use crate::time::{Instant, TimeScale};
 
@@ -37,7 +39,21 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
             error_s: err[i] * 1e-6,
             freq_mhz: freq[i],
             instrument: inst[i].clone().unwrap_or_else(|| "default".to_string()),
+            observer: None,
         });
     }
     Ok(out)
+}
+
+/// Attaches to each arrival time the observer's barycentric position (converted to light
+/// seconds) and the barycentring direction from [`crate::arrival::table::correct_table_with_geometry`]
+/// (same row order), so a timing model can refine the source position. Rows given already at
+/// the barycentre keep `observer = None`.
+pub fn attach_observer_geometry(toas: &mut [ArrivalTime], geometry: &[RowGeometry]) {
+    for (a, g) in toas.iter_mut().zip(geometry) {
+        a.observer = g.observer_barycentric_km.map(|r| ObserverGeometry {
+            position_lt_s: [r[0] / SPEED_OF_LIGHT_KM_PER_S, r[1] / SPEED_OF_LIGHT_KM_PER_S, r[2] / SPEED_OF_LIGHT_KM_PER_S],
+            source_unit: g.source_unit,
+        });
+    }
 }

@@ -208,6 +208,7 @@ pub fn event_arrival_times(
 ) -> Result<EventArrivalTimes, PulsarError> {
     template.validate()?;
     model.validate().map_err(PulsarError::Model)?;
+    model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     if let Some(w) = weights {
         if w.len() != times_s.len() {

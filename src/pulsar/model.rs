@@ -11,6 +11,16 @@
 //! Δ_bin = α(cos E − e) + (β + γ) sin E − 2r ln[1 − e cos E − s(sin ω (cos E − e) +
 //! √(1−e²) cos ω sin E)], E from Kepler's equation at the emission time (solved exactly by
 //! iteration, which replaces BT's first-order factor). Phase φ = φ₀ + ν t_e + ν̇ t_e²/2 + ν̈ t_e³/6.
+//!
+//! Position and proper motion: the arrival times were barycentred towards a fixed direction
+//! n̂₀; a source truly at n̂₀ + Δn̂ arrives at the barycentre later by Δ_pos = (r_obs·Δn̂)/c,
+//! r_obs the observer's barycentric position (Lorimer & Kramer 2005, *Handbook of Pulsar
+//! Astronomy*, §8.2, the Rømer delay r·n̂/c to first order in Δn̂ — from memory). With ê, n̂_N
+//! the unit vectors east and north at n̂₀, Δn̂ = θ_E(t) ê + θ_N(t) n̂_N, θ_E = Δα cos δ + μ_α* t,
+//! θ_N = Δδ + μ_δ t, t the barycentric time after the model epoch (the position epoch);
+//! so Δ_pos enters as t_e = t + Δ_pos − Δ_disp − …. Neglected: second order in |Δn̂|
+//! (≤ 500 s·|Δn̂|²/2, 6 ns at 1″) and the direction dependence of the Shapiro and
+//! wavefront-curvature terms.
 
 use std::collections::BTreeMap;
 use std::f64::consts::{PI, TAU};
@@ -21,6 +31,10 @@ use super::spin::Spin;
 /// Dispersion constant K, s MHz² pc⁻¹ cm³ (common practice).
 pub const DISPERSION_CONSTANT_S_MHZ2: f64 = 4.148808e3;
 const DAY_S: f64 = 86_400.0;
+/// Julian year, s (IAU: 365.25 d of 86 400 s), the unit of proper motions.
+pub const JULIAN_YEAR_S: f64 = 365.25 * DAY_S;
+/// Milliarcseconds to radians.
+const MAS_TO_RAD: f64 = std::f64::consts::PI / 648_000_000.0;
 
 /// A Keplerian orbit with relativistic timing terms.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -75,6 +89,22 @@ pub struct TimingModel {
     /// Dispersion measure, pc cm⁻³.
     #[serde(default)]
     pub dispersion_measure_pc_per_cm3: f64,
+    /// Offset of the true position from the one used to barycentre, east (Δα cos δ), mas,
+    /// at the model epoch.
+    #[serde(default)]
+    pub position_offset_ra_mas: f64,
+    /// Offset of the true position from the one used to barycentre, north (Δδ), mas, at the
+    /// model epoch.
+    #[serde(default)]
+    pub position_offset_dec_mas: f64,
+    /// Proper motion east (μ_α cos δ), mas per Julian year, added to any proper motion the
+    /// barycentring already applied.
+    #[serde(default)]
+    pub proper_motion_ra_mas_per_yr: f64,
+    /// Proper motion north (μ_δ), mas per Julian year, added to any proper motion the
+    /// barycentring already applied.
+    #[serde(default)]
+    pub proper_motion_dec_mas_per_yr: f64,
     /// Constant delay per instrument, s (the first instrument of a fit is the zero point).
     #[serde(default)]
     pub instrument_delays_s: BTreeMap<String, f64>,
@@ -85,6 +115,34 @@ pub struct TimingModel {
     /// `instrument_delay_s:NAME`). The phase offset is always fitted.
     #[serde(default)]
     pub fit: Vec<String>,
+}
+
+/// Where the observer was when one arrival time was barycentred, and towards which
+/// direction: what a position refinement needs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ObserverGeometry {
+    /// The observer's barycentric position, ICRS axes, light seconds.
+    pub position_lt_s: [f64; 3],
+    /// Unit vector towards the source that the barycentring used, ICRS.
+    pub source_unit: [f64; 3],
+}
+
+impl ObserverGeometry {
+    /// Projections (r·ê/c, r·n̂_N/c) of the observer's position on the unit vectors east
+    /// and north of the source direction, light seconds. At a celestial pole, where east is
+    /// undefined, the ICRS y axis stands in for east.
+    pub fn east_north_lt_s(&self) -> (f64, f64) {
+        let [x, y, z] = self.source_unit;
+        let rho = (x * x + y * y).sqrt();
+        let (east, north) = if rho > 1e-15 {
+            ([-y / rho, x / rho, 0.0], [-z * x / rho, -z * y / rho, rho])
+        } else {
+            ([0.0, 1.0, 0.0], [-z.signum(), 0.0, 0.0])
+        };
+        let r = self.position_lt_s;
+        let dot = |a: [f64; 3]| r[0] * a[0] + r[1] * a[1] + r[2] * a[2];
+        (dot(east), dot(north))
+    }
 }
 
 /// One barycentred arrival time.
@@ -98,6 +156,9 @@ pub struct ArrivalTime {
     pub freq_mhz: Option<f64>,
     /// Instrument name (for instrument delays).
     pub instrument: String,
+    /// Observer position and barycentring direction (None for times given already at the
+    /// barycentre; a position or proper-motion refinement then cannot be applied).
+    pub observer: Option<ObserverGeometry>,
 }
 
 /// Parameter names the model knows, with the order used in design matrices.
@@ -113,6 +174,9 @@ pub const ORBIT_PARAMETERS: [&str; 8] = [
     "shapiro_range_s",
     "shapiro_shape",
 ];
+
+/// Position and proper-motion parameter names (see the module documentation).
+pub const POSITION_PARAMETERS: [&str; 4] = ["position_offset_ra_mas", "position_offset_dec_mas", "proper_motion_ra_mas_per_yr", "proper_motion_dec_mas_per_yr"];
 
 /// Emission time and the pieces needed for derivatives.
 #[derive(Debug, Clone, Copy)]
@@ -166,13 +230,15 @@ impl TimingModel {
         }
         for name in &self.fit {
             let known = SPIN_PARAMETERS.contains(&name.as_str())
+                || POSITION_PARAMETERS.contains(&name.as_str())
                 || name == "dispersion_measure_pc_per_cm3"
                 || (ORBIT_PARAMETERS.contains(&name.as_str()) && self.orbit.is_some())
                 || name.strip_prefix("instrument_delay_s:").is_some_and(|n| !n.is_empty());
             if !known {
                 return Err(format!(
-                    "fit names '{name}', which this model cannot fit; use {}, dispersion_measure_pc_per_cm3, instrument_delay_s:NAME{}",
+                    "fit names '{name}', which this model cannot fit; use {}, dispersion_measure_pc_per_cm3, {}, instrument_delay_s:NAME{}",
                     SPIN_PARAMETERS.join(", "),
+                    POSITION_PARAMETERS.join(", "),
                     if self.orbit.is_some() { format!(", {}", ORBIT_PARAMETERS.join(", ")) } else { " (orbit parameters need an [orbit] table)".into() }
                 ));
             }
@@ -192,6 +258,10 @@ impl TimingModel {
             "freq_deriv_hz_per_s" => self.freq_deriv_hz_per_s,
             "freq_second_deriv_hz_per_s2" => self.freq_second_deriv_hz_per_s2,
             "dispersion_measure_pc_per_cm3" => self.dispersion_measure_pc_per_cm3,
+            "position_offset_ra_mas" => self.position_offset_ra_mas,
+            "position_offset_dec_mas" => self.position_offset_dec_mas,
+            "proper_motion_ra_mas_per_yr" => self.proper_motion_ra_mas_per_yr,
+            "proper_motion_dec_mas_per_yr" => self.proper_motion_dec_mas_per_yr,
             "orbital_period_d" => o?.orbital_period_d,
             "projected_semi_major_axis_lt_s" => o?.projected_semi_major_axis_lt_s,
             "eccentricity" => o?.eccentricity,
@@ -216,6 +286,10 @@ impl TimingModel {
             "freq_deriv_hz_per_s" => self.freq_deriv_hz_per_s = v,
             "freq_second_deriv_hz_per_s2" => self.freq_second_deriv_hz_per_s2 = v,
             "dispersion_measure_pc_per_cm3" => self.dispersion_measure_pc_per_cm3 = v,
+            "position_offset_ra_mas" => self.position_offset_ra_mas = v,
+            "position_offset_dec_mas" => self.position_offset_dec_mas = v,
+            "proper_motion_ra_mas_per_yr" => self.proper_motion_ra_mas_per_yr = v,
+            "proper_motion_dec_mas_per_yr" => self.proper_motion_dec_mas_per_yr = v,
             _ => {
                 if let Some(o) = self.orbit.as_mut() {
                     match name {
@@ -240,6 +314,39 @@ impl TimingModel {
             Some(f) if f > 0.0 => DISPERSION_CONSTANT_S_MHZ2 * self.dispersion_measure_pc_per_cm3 / (f * f),
             _ => 0.0,
         }
+    }
+
+    /// True when any position or proper-motion parameter is non-zero or fitted.
+    pub fn refines_position(&self) -> bool {
+        POSITION_PARAMETERS.iter().any(|p| self.get(p) != Some(0.0) || self.fit.iter().any(|f| f == p))
+    }
+
+    /// Refuses a model that carries a non-zero position offset or proper motion where the
+    /// times have no observer geometry (photon events, which are folded after barycentring
+    /// towards the command-line position): the offset would be silently ignored.
+    pub fn require_no_position_offset(&self) -> Result<(), PulsarError> {
+        let set: Vec<String> = POSITION_PARAMETERS.iter().filter_map(|p| self.get(p).filter(|v| *v != 0.0).map(|v| format!("{p} = {v}"))).collect();
+        if set.is_empty() {
+            return Ok(());
+        }
+        Err(PulsarError::Model(format!(
+            "the model carries {}, but photon events are folded after barycentring towards the position given on the command line, where that refinement cannot be applied; give the corrected position (the `position` of the fit summary) as --ra/--dec and set these keys to 0",
+            set.join(", ")
+        )))
+    }
+
+    /// Extra barycentric delay Δ_pos = r_obs·Δn̂/c, s, of an arrival time from the position
+    /// offset and proper motion (0 without observer geometry), with ∂Δ_pos/∂p for
+    /// [`POSITION_PARAMETERS`] (s per mas and s per mas/yr). First order in Δn̂.
+    pub fn position_delay_s(&self, toa: &ArrivalTime) -> (f64, [f64; 4]) {
+        let Some(g) = &toa.observer else { return (0.0, [0.0; 4]) };
+        let (east, north) = g.east_north_lt_s();
+        let years = toa.t_s / JULIAN_YEAR_S;
+        let theta_e = (self.position_offset_ra_mas + self.proper_motion_ra_mas_per_yr * years) * MAS_TO_RAD;
+        let theta_n = (self.position_offset_dec_mas + self.proper_motion_dec_mas_per_yr * years) * MAS_TO_RAD;
+        let pe = east * MAS_TO_RAD;
+        let pn = north * MAS_TO_RAD;
+        (east * theta_e + north * theta_n, [pe, pn, pe * years, pn * years])
     }
 
     /// Binary delay Δ_bin, s, at emission time `t_e` (s after epoch), its rate ∂Δ/∂t_e and
@@ -291,7 +398,7 @@ impl TimingModel {
     }
 
     fn emission(&self, toa: &ArrivalTime) -> Emission {
-        let t_fixed = toa.t_s - self.dispersion_delay_s(toa.freq_mhz) - self.instrument_delays_s.get(&toa.instrument).copied().unwrap_or(0.0);
+        let t_fixed = toa.t_s + self.position_delay_s(toa).0 - self.dispersion_delay_s(toa.freq_mhz) - self.instrument_delays_s.get(&toa.instrument).copied().unwrap_or(0.0);
         let Some(o) = &self.orbit else {
             return Emission { t_e: t_fixed, orbit_partials: [0.0; 8], orbit_rate: 0.0 };
         };
@@ -335,6 +442,8 @@ impl TimingModel {
                 other => {
                     if let Some(inst) = other.strip_prefix("instrument_delay_s:") {
                         if inst == toa.instrument { -nu * implicit } else { 0.0 }
+                    } else if let Some(k) = POSITION_PARAMETERS.iter().position(|p| *p == other) {
+                        nu * implicit * self.position_delay_s(toa).1[k]
                     } else if let Some(k) = ORBIT_PARAMETERS.iter().position(|p| *p == other) {
                         -nu * implicit * em.orbit_partials[k]
                     } else {
@@ -360,6 +469,10 @@ mod tests {
             freq_deriv_hz_per_s: -1.3e-15,
             freq_second_deriv_hz_per_s2: 0.0,
             dispersion_measure_pc_per_cm3: 21.3,
+            position_offset_ra_mas: 120.0,
+            position_offset_dec_mas: -80.0,
+            proper_motion_ra_mas_per_yr: 15.0,
+            proper_motion_dec_mas_per_yr: -9.0,
             instrument_delays_s: [("b".to_string(), 3e-6)].into_iter().collect(),
             orbit: Some(Orbit {
                 orbital_period_d: 1.7,
@@ -382,7 +495,7 @@ mod tests {
         names.push("dispersion_measure_pc_per_cm3".into());
         names.push("instrument_delay_s:b".into());
         for (k, t) in [-3.1e6, 1.0e4, 4.4e5, 2.9e7].into_iter().enumerate() {
-            let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: Some(1400.0), instrument: if k % 2 == 0 { "b".into() } else { "a".into() } };
+            let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: Some(1400.0), instrument: if k % 2 == 0 { "b".into() } else { "a".into() }, observer: None };
             let a = m.phase_derivatives(&toa, &names);
             for (j, n) in names.iter().enumerate() {
                 let v = m.get(n).unwrap();
@@ -395,6 +508,73 @@ mod tests {
                 assert!((a[j] - num).abs() <= tol.max(2e-16 * m.phase_cycles(&toa).abs() / h * 4.0), "{n} at t={t}: analytic {} numeric {num}", a[j]);
             }
         }
+    }
+
+    /// An invented observer 1 au from the barycentre in the ecliptic plane, source at
+    /// RA 120°, Dec 35° (synthetic geometry).
+    fn geometry(t_s: f64) -> ObserverGeometry {
+        let a = TAU * t_s / JULIAN_YEAR_S;
+        let eps = 23.44_f64.to_radians();
+        let au_lt_s = 499.004_784;
+        let (ra, dec) = (120f64.to_radians(), 35f64.to_radians());
+        ObserverGeometry {
+            position_lt_s: [au_lt_s * a.cos(), au_lt_s * a.sin() * eps.cos(), au_lt_s * a.sin() * eps.sin()],
+            source_unit: [dec.cos() * ra.cos(), dec.cos() * ra.sin(), dec.sin()],
+        }
+    }
+
+    #[test]
+    fn position_derivatives_match_numeric() {
+        // The phase is linear in the position parameters except through the orbit's implicit
+        // emission time, so a large step (1000 mas, 1000 mas/yr: ~ms delays) keeps the
+        // central difference free of rounding while its truncation error stays ≪ 1e-6.
+        let m = binary_model();
+        let names: Vec<String> = POSITION_PARAMETERS.iter().map(|s| s.to_string()).collect();
+        for t in [-3.1e6, 1.0e4, 4.4e5, 2.9e7] {
+            let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: Some(1400.0), instrument: "a".into(), observer: Some(geometry(t)) };
+            let a = m.phase_derivatives(&toa, &names);
+            for (j, n) in names.iter().enumerate() {
+                let v = m.get(n).unwrap();
+                let h = 1000.0;
+                let (mut up, mut dn) = (m.clone(), m.clone());
+                up.set(n, v + h);
+                dn.set(n, v - h);
+                let num = (up.phase_cycles(&toa) - dn.phase_cycles(&toa)) / (2.0 * h);
+                let rounding = 4.0 * f64::EPSILON * m.phase_cycles(&toa).abs() / h;
+                assert!(a[j] != 0.0 && (a[j] - num).abs() <= 1e-6 * a[j].abs() + rounding, "{n} at t={t}: analytic {} numeric {num}", a[j]);
+            }
+            // without the observer's position the parameters have no effect
+            let bare = ArrivalTime { observer: None, ..toa.clone() };
+            assert!(m.phase_derivatives(&bare, &names).iter().all(|d| *d == 0.0));
+        }
+    }
+
+    #[test]
+    fn east_and_north_are_orthonormal_to_the_source() {
+        // Δn̂ for a small step east/north must match the difference of exact unit vectors
+        // at (α + ε/cos δ, δ) and (α, δ + ε): geometry of the sphere (common practice).
+        let g = geometry(1.0e7);
+        let (ra, dec) = (120f64.to_radians(), 35f64.to_radians());
+        let unit = |a: f64, d: f64| [d.cos() * a.cos(), d.cos() * a.sin(), d.sin()];
+        let eps = 1e-7;
+        let r = g.position_lt_s;
+        let dot = |u: [f64; 3], w: [f64; 3]| u[0] * w[0] + u[1] * w[1] + u[2] * w[2];
+        let base = dot(r, unit(ra, dec));
+        let (e, n) = g.east_north_lt_s();
+        let de = (dot(r, unit(ra + eps / dec.cos(), dec)) - base) / eps;
+        let dn = (dot(r, unit(ra, dec + eps)) - base) / eps;
+        assert!((e - de).abs() < 1e-4 && (n - dn).abs() < 1e-4, "{e} {de} {n} {dn}");
+    }
+
+    #[test]
+    fn events_refuse_a_model_with_a_position_offset() {
+        let mut m = binary_model();
+        let e = crate::pulsar::profile::fold_events(&m, &[0.0, 1.0], 1e9, "a").unwrap_err().to_string();
+        assert!(e.contains("position_offset_ra_mas = 120") && e.contains("--ra/--dec"), "{e}");
+        for p in POSITION_PARAMETERS {
+            m.set(p, 0.0);
+        }
+        assert!(crate::pulsar::profile::fold_events(&m, &[0.0, 1.0], 1e9, "a").is_ok());
     }
 
     #[test]

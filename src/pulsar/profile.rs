@@ -29,13 +29,14 @@ use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
 /// (1-based, the table row) and the fault. Source: common practice.
 pub fn fold_events(model: &TimingModel, times_s: &[f64], valid_for_s: f64, instrument: &str) -> Result<Vec<f64>, PulsarError> {
     model.validate().map_err(PulsarError::Model)?;
+    model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     Ok(times_s.iter().map(|&t| event_phase_cycles(model, t, instrument).rem_euclid(1.0)).collect())
 }
 
 /// Pulse phase (cycles, whole turns included) of one event at `t_s` after the epoch.
 pub fn event_phase_cycles(model: &TimingModel, t_s: f64, instrument: &str) -> f64 {
-    model.phase_cycles(&ArrivalTime { t_s, error_s: 1.0, freq_mhz: None, instrument: instrument.to_string() })
+    model.phase_cycles(&ArrivalTime { t_s, error_s: 1.0, freq_mhz: None, instrument: instrument.to_string(), observer: None })
 }
 
 /// Checks event times: at least one, finite, sorted (non-decreasing) and inside

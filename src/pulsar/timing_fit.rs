@@ -8,7 +8,8 @@
 //! ~1e-16·|φ| cycles (20 ns for 300 Hz over ±3 yr).
 
 use super::PulsarError;
-use super::model::{ArrivalTime, TimingModel};
+use super::model::{ArrivalTime, POSITION_PARAMETERS, TimingModel};
+use crate::arrival::Source;
 use crate::fit::weighted_linear_lsq;
 
 /// Result of a timing fit.
@@ -75,6 +76,15 @@ fn residuals(model: &TimingModel, toas: &[ArrivalTime], pulses: &[f64]) -> Vec<f
 pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iterations: usize) -> Result<TimingFit, PulsarError> {
     check_arrival_times(toas)?;
     start.validate().map_err(PulsarError::Model)?;
+    if start.refines_position()
+        && let Some(i) = toas.iter().position(|a| a.observer.is_none())
+    {
+        return Err(PulsarError::Input(format!(
+            "the model refines the source position ({}), which needs the observer's barycentric position at each arrival time, but arrival time {} has none: it was given already at the barycentre (e.g. clock bjd_tdb). Give the arrival times as recorded at the observer (e.g. clock mjd_utc with a site, or at the geocentre) so they are barycentred here, or remove the position parameters from the model",
+            POSITION_PARAMETERS.join(", "),
+            i + 1
+        )));
+    }
     let mut names = vec!["phase_offset_cycles".to_string()];
     names.extend(start.fit.iter().filter(|n| n.as_str() != "phase_offset_cycles").cloned());
     let p = names.len();
@@ -147,6 +157,66 @@ pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iteration
     Ok(TimingFit { model, parameters: names, values, uncertainties, covariance, chi2, dof: toas.len() - p, residual_cycles: r, residual_s, pulse_numbers: pulses, iterations })
 }
 
+/// The source position and proper motion implied by a fit that refined them.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct FittedPosition {
+    /// Epoch of the position (the model epoch), MJD (TDB).
+    pub epoch_mjd_tdb: f64,
+    /// Right ascension, degrees (ICRS).
+    pub ra_deg: f64,
+    /// 1-σ uncertainty of the position east (Δα cos δ), mas (0 when not fitted).
+    pub ra_uncertainty_mas: f64,
+    /// Declination, degrees (ICRS).
+    pub dec_deg: f64,
+    /// 1-σ uncertainty of the declination, mas (0 when not fitted).
+    pub dec_uncertainty_mas: f64,
+    /// Total proper motion east (μ_α cos δ): the barycentring source's plus the fitted, mas/yr.
+    pub proper_motion_ra_mas_per_yr: f64,
+    /// 1-σ of the proper motion east, mas/yr (0 when not fitted).
+    pub proper_motion_ra_uncertainty_mas_per_yr: f64,
+    /// Total proper motion north (μ_δ), mas/yr.
+    pub proper_motion_dec_mas_per_yr: f64,
+    /// 1-σ of the proper motion north, mas/yr (0 when not fitted).
+    pub proper_motion_dec_uncertainty_mas_per_yr: f64,
+}
+
+/// The corrected position and proper motion of `source` (the one the arrival times were
+/// barycentred with) after `fit`, or `None` when the model does not refine the position.
+/// The offsets are applied along the east and north unit vectors at the source's direction
+/// at the model epoch and the result renormalised (exact for the model's first-order
+/// offsets); uncertainties are the fit's 1-σ values.
+pub fn fitted_position(fit: &TimingFit, source: &Source) -> Option<FittedPosition> {
+    let m = &fit.model;
+    if !m.refines_position() {
+        return None;
+    }
+    let sigma = |name: &str| fit.parameters.iter().position(|p| p == name).map_or(0.0, |j| fit.uncertainties[j]);
+    let n0 = source.direction_at(&m.epoch()).unit;
+    let rho = (n0[0] * n0[0] + n0[1] * n0[1]).sqrt();
+    let (east, north) = if rho > 1e-15 {
+        ([-n0[1] / rho, n0[0] / rho, 0.0], [-n0[2] * n0[0] / rho, -n0[2] * n0[1] / rho, rho])
+    } else {
+        ([0.0, 1.0, 0.0], [-n0[2].signum(), 0.0, 0.0])
+    };
+    let mas = std::f64::consts::PI / 648_000_000.0;
+    let (te, tn) = (m.position_offset_ra_mas * mas, m.position_offset_dec_mas * mas);
+    let v: Vec<f64> = (0..3).map(|k| n0[k] + te * east[k] + tn * north[k]).collect();
+    let norm = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+    let ra_deg = v[1].atan2(v[0]).to_degrees().rem_euclid(360.0);
+    let dec_deg = (v[2] / norm).asin().to_degrees();
+    Some(FittedPosition {
+        epoch_mjd_tdb: m.epoch_mjd_day_tdb as f64 + m.epoch_seconds_of_day_tdb / 86_400.0,
+        ra_deg,
+        ra_uncertainty_mas: sigma("position_offset_ra_mas"),
+        dec_deg,
+        dec_uncertainty_mas: sigma("position_offset_dec_mas"),
+        proper_motion_ra_mas_per_yr: source.proper_motion_ra_mas_per_yr + m.proper_motion_ra_mas_per_yr,
+        proper_motion_ra_uncertainty_mas_per_yr: sigma("proper_motion_ra_mas_per_yr"),
+        proper_motion_dec_mas_per_yr: source.proper_motion_dec_mas_per_yr + m.proper_motion_dec_mas_per_yr,
+        proper_motion_dec_uncertainty_mas_per_yr: sigma("proper_motion_dec_mas_per_yr"),
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -156,9 +226,48 @@ mod tests {
     }
 
     #[test]
+    fn fitted_position_applies_offsets_on_the_sphere() {
+        // Source at (RA 10°, Dec 0°); offsets of θ east and θ north are steps along the
+        // tangent plane, so the new direction is n̂₀ + θ ê (+ θ n̂_N), renormalised:
+        // RA = 10° + atan θ, Dec = atan θ (gnomonic projection, common practice).
+        let mut model = isolated();
+        let theta_mas = 3.6e6; // 1°, large so renormalisation matters
+        model.position_offset_ra_mas = theta_mas;
+        model.proper_motion_dec_mas_per_yr = -4.0;
+        let fit = TimingFit {
+            model: model.clone(),
+            parameters: vec!["phase_offset_cycles".into(), "position_offset_ra_mas".into()],
+            values: vec![0.0, theta_mas],
+            uncertainties: vec![0.0, 0.25],
+            covariance: vec![0.0; 4],
+            chi2: 0.0,
+            dof: 1,
+            residual_cycles: vec![],
+            residual_s: vec![],
+            pulse_numbers: vec![],
+            iterations: 1,
+        };
+        let source = Source::fixed_degrees("invented", 10.0, 0.0).unwrap();
+        let p = fitted_position(&fit, &source).unwrap();
+        let theta = theta_mas * std::f64::consts::PI / 648_000_000.0;
+        assert!((p.ra_deg - (10.0 + theta.atan().to_degrees())).abs() < 1e-12, "{}", p.ra_deg);
+        assert!(p.dec_deg.abs() < 1e-12 && p.ra_uncertainty_mas == 0.25 && p.dec_uncertainty_mas == 0.0, "{p:?}");
+        assert!((p.proper_motion_dec_mas_per_yr + 4.0).abs() < 1e-12);
+        // the source's own proper motion is added to the fitted one
+        let mut moving = source.clone();
+        moving.proper_motion_dec_mas_per_yr = 1.5;
+        assert!((fitted_position(&fit, &moving).unwrap().proper_motion_dec_mas_per_yr + 2.5).abs() < 1e-12);
+        model.position_offset_ra_mas = 0.0;
+        model.position_offset_dec_mas = theta_mas;
+        let p = fitted_position(&TimingFit { model, ..fit.clone() }, &source).unwrap();
+        assert!((p.ra_deg - 10.0).abs() < 1e-12 && (p.dec_deg - theta.atan().to_degrees()).abs() < 1e-12, "{} {}", p.ra_deg, p.dec_deg);
+        assert!(fitted_position(&TimingFit { model: isolated(), ..fit }, &source).is_none());
+    }
+
+    #[test]
     fn bad_arrival_times_are_named() {
         let m = isolated();
-        let mut t: Vec<ArrivalTime> = (0..5).map(|i| ArrivalTime { t_s: i as f64 * 1e5, error_s: 1e-4, freq_mhz: None, instrument: "a".into() }).collect();
+        let mut t: Vec<ArrivalTime> = (0..5).map(|i| ArrivalTime { t_s: i as f64 * 1e5, error_s: 1e-4, freq_mhz: None, instrument: "a".into(), observer: None }).collect();
         t[2].error_s = 0.0;
         assert!(fit_timing_model(&m, &t, 10).unwrap_err().to_string().contains("arrival time 3"));
         t[2].error_s = 1e-4;
