@@ -46,14 +46,14 @@ fn main() {
     if std::env::var("OC_FIT_DEBUG").is_ok() {
         let model = skyclock::oc::OcModel { kind: fit.kind, series: &series, weights: fit.weights.clone() };
         let t1 = Clock::now();
-        let lm = skyclock::fit::levenberg_marquardt(&model, &fit.params, &skyclock::fit::LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5 }).unwrap();
+        let lm = skyclock::fit::levenberg_marquardt(&model, &fit.params, &skyclock::fit::LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5, covariance: true }).unwrap();
         eprintln!("  LM from the solution: {} iterations, converged {}, {:.3} s", lm.iterations, lm.converged, t1.elapsed().as_secs_f64());
         let mut rng = SeededRng::new(5);
         let idx: Vec<usize> = (0..series.len()).map(|_| rng.below(series.len())).collect();
         let sub = series.subset(&idx);
         let model = skyclock::oc::OcModel { kind: fit.kind, series: &sub, weights: idx.iter().map(|&i| fit.weights[i]).collect() };
         let t1 = Clock::now();
-        let lm = skyclock::fit::levenberg_marquardt(&model, &fit.params, &skyclock::fit::LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5 }).unwrap();
+        let lm = skyclock::fit::levenberg_marquardt(&model, &fit.params, &skyclock::fit::LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5, covariance: true }).unwrap();
         eprintln!("  LM on a resample: {} iterations, converged {}, {:.3} s", lm.iterations, lm.converged, t1.elapsed().as_secs_f64());
     }
     let b = bootstrap(&series, &fit, &boot).expect("light-time bootstrap");

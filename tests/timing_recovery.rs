@@ -81,9 +81,9 @@ fn quadratic_term_covariance_and_bootstrap_intervals_are_calibrated() {
     assert!((0.61..=0.75).contains(&boot), "bootstrap coverage {boot}");
 }
 
-// Slow (~4 min on 2 cores: several Levenberg–Marquardt starts per periodogram peak with
-// finite-difference Jacobians) but part of the suite: measured 2026-12-02, quadratic term
-// 68.5 %, semi-amplitude 65.0 %, companion period 65.0 %, eccentricity 61.5 % inside 1σ.
+// Measured 2026-12-02 (a few seconds since the analytic Jacobian and the Kepler-solver
+// fix): quadratic term 68.5 %, semi-amplitude 65.0 %, companion period 65.0 %,
+// eccentricity 61.5 % inside 1σ.
 #[test]
 fn light_time_and_quadratic_terms_are_recovered_with_calibrated_intervals() {
     let trials = 200;
@@ -121,7 +121,7 @@ fn light_time_and_quadratic_terms_are_recovered_with_calibrated_intervals() {
 /// Two companions (hierarchical light-time terms add; common practice): invented timings
 /// with an outer 4200-d orbit and an inner 1300-d orbit, dense CCD-era sampling. The
 /// two-companion fit finds both periods within 3σ, and BIC and the F-test prefer it over
-/// one companion. Seeded; two invented systems (~45 s each on 2 busy cores).
+/// one companion. Seeded; two invented systems.
 #[test]
 fn two_light_time_companions_are_separated_and_preferred() {
     const INNER: [f64; 5] = [0.0015, 1_300.0, 0.2, -0.1, 2.0];

@@ -1,4 +1,4 @@
-//! `skyclock predict-events`: upcoming events of a linear or quadratic ephemeris in a date
+//! `skyclock predict-events`: upcoming events of a linear or quadratic ephemeris (optionally with companions' light time) in a date
 //! range, with their uncertainty, the UTC at a site and whether they can be observed there.
 
 use std::path::{Path, PathBuf};
@@ -50,7 +50,8 @@ pub struct Args {
     /// JSON summary written by `timing-residuals --summary` (its reference ephemeris and one fitted model).
     #[arg(long, value_name = "FILE")]
     pub ephemeris_summary: Option<PathBuf>,
-    /// Which model of the summary to use: linear or quadratic.
+    /// Which model of the summary to use: linear, quadratic, or one with light-time
+    /// companions (their delays and covariance are carried into the predictions).
     #[arg(long, value_name = "MODEL", default_value = "linear")]
     pub summary_model: String,
     /// Epoch of a primary event (cycle 0), BJD_TDB as a Julian Date (instead of a summary).
@@ -265,9 +266,10 @@ fn load_ephemeris(a: &Args, leap: &crate::time::LeapSecondTable) -> Result<(Even
         let period = reference["period_d"].as_f64().with_context(|| format!("{file}: no reference_ephemeris.period_d"))?;
         let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap).map_err(|e| anyhow::anyhow!("{file}: reference_ephemeris.epoch_bjd_tdb: {e}"))?;
         let wanted = a.summary_model.trim().to_ascii_lowercase();
-        if wanted != "linear" && wanted != "quadratic" {
-            bail!("--summary-model '{}': predictions use a linear or quadratic model (light-time models are not extrapolated here)", a.summary_model);
-        }
+        let Some(kind) = crate::oc::ModelKind::parse(&wanted) else {
+            bail!("--summary-model '{}': use one of the models timing-residuals fits (linear, quadratic, light-time, quadratic+light-time, two-light-time, quadratic+two-light-time)", a.summary_model);
+        };
+        let wanted = kind.name().to_string();
         let models = v["models"].as_array().with_context(|| format!("{file}: no models array"))?;
         let model = models.iter().find(|m| m["model"].as_str() == Some(wanted.as_str())).with_context(|| {
             let have: Vec<&str> = models.iter().filter_map(|m| m["model"].as_str()).collect();
@@ -286,7 +288,7 @@ fn load_ephemeris(a: &Args, leap: &crate::time::LeapSecondTable) -> Result<(Even
             .enumerate()
             .map(|(j, x)| x.as_f64().with_context(|| format!("{file}: model '{wanted}' covariance element {j} is not a number")))
             .collect::<Result<_>>()?;
-        let e = EventEphemeris::from_fitted_shifts(epoch, period, &shifts, &cov).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+        let e = EventEphemeris::from_fitted_model(epoch, period, kind, &shifts, &cov).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
         let desc = format!("{wanted} model from {file}: T0 = {} BJD_TDB, P = {} d, Q = {} d", format_time(&e.epoch, TimeFormat::Jd), e.period_d, e.quadratic_d);
         return Ok((e, desc));
     }

@@ -169,13 +169,20 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let p_found = peaks["result"]["peaks"][0]["period_d"].as_f64().context("no period found")?;
     let p_err = peaks["result"]["peaks"][0]["period_err_d"].as_f64().unwrap_or(f64::NAN);
     comparisons.push(compare("period from one season of photometry (d)", p_found, p_err, TRUE_PERIOD_D, 6));
+    command(&s(&[
+        "fold-curve", "--input", &d(PHOTOMETRY_FILE), "--time-column", "time", "--value-column", "mag", "--error-column", "mag_err",
+        "--clock", "jd_utc", "--sites-file", &d(DESCRIPTION_FILE), "--site", HOME_SITE, "--source-file", &d(DESCRIPTION_FILE),
+        "--period-d", &format!("{p_found:.8}"), "--epoch-bjd", REFERENCE_EPOCH, "--bins", "100",
+        "--output", &ot("kx_folded.csv"), "--figure", &ot("kx_folded.svg"), "--quiet",
+    ]))?;
     report_sections.push(
         Section::new("Period search")
             .with_paragraph(&format!(
-                "Multi-harmonic periodogram (8 harmonics) of {} nights of photometry taken at {HOME_SITE} and carried to BJD_TDB on the way in. Top peak: P = {p_found:.6} ± {p_err:.6} d (truth {TRUE_PERIOD_D:.8} d).",
+                "Multi-harmonic periodogram (8 harmonics) of {} points of one season's photometry taken at {HOME_SITE} and carried to BJD_TDB on the way in. Top peak: P = {p_found:.6} ± {p_err:.6} d (truth {TRUE_PERIOD_D:.8} d).",
                 std::fs::read_to_string(data.join(PHOTOMETRY_FILE)).map(|t| t.lines().count().saturating_sub(1)).unwrap_or(0)
             ))
-            .with_figure(figure(&o("kx_periodogram.svg"), "Periodogram of KX Inventa with the top peaks and the alias positions of the highest one.")?),
+            .with_figure(figure(&o("kx_periodogram.svg"), "Periodogram of KX Inventa with the top peaks and the alias positions of the highest one.")?)
+            .with_figure(figure(&o("kx_folded.svg"), "The season folded at the period found (phase 0 at the reference epoch), with the binned curve and the residuals.")?),
     );
 
     // 2. Times of minimum from the photometry (Kwee–van Woerden).
@@ -234,7 +241,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     }
     if let Some(cautions) = oc["cautions"].as_array() {
         for c in cautions.iter().filter_map(|c| c.as_str()) {
-            oc_section = oc_section.with_caution(c);
+            oc_section = oc_section.with_caution(c.trim_start_matches("caution: "));
         }
     }
     report_sections.push(oc_section);
@@ -244,7 +251,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     println!("\n== 4. minima of KX Inventa observable from {HOME_SITE}, {from} to {until}");
     command(&s(&[
         "predict-events", "--source-file", &d(DESCRIPTION_FILE), "--sites-file", &d(DESCRIPTION_FILE), "--site", HOME_SITE,
-        "--ephemeris-summary", &ot("kx_oc.json"), "--summary-model", "quadratic", "--kinds", "primary,secondary",
+        "--ephemeris-summary", &ot("kx_oc.json"), "--summary-model", "quadratic+light-time", "--kinds", "primary,secondary",
         "--from", &from, "--until", &until, "--event-duration-hours", "2.5", "--only-observable", "--output", &ot("kx_upcoming.csv"),
     ]))?;
     let upcoming = read_table(&o("kx_upcoming.csv"), &["kind", "utc_iso", "sky_condition", "observable", "caution"])?;
@@ -257,7 +264,22 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let sun = float_column(&upcoming, &uf, "sun_altitude_deg")?;
     let obs = text_column(&upcoming, &uf, "observable")?;
     let cautions = text_column(&upcoming, &uf, "caution")?;
-    let mut n_observable = 0;
+    // The first predicted event against the scenario's truth.
+    let cycles = float_column(&upcoming, &uf, "cycle")?;
+    let jd1 = float_column(&upcoming, &uf, "bjd_tdb_jd1")?;
+    let jd2 = float_column(&upcoming, &uf, "bjd_tdb_jd2")?;
+    if upcoming.height() > 0 {
+        let predicted = crate::time::Instant::from_jd_two_part(crate::time::TimeScale::Tdb, jd1[0], jd2[0]);
+        let truth = scenario::true_minimum_at(cycles[0]);
+        let miss_s = predicted.seconds_since(&truth);
+        comparisons.push(Comparison {
+            quantity: format!("next minimum (cycle {}): predicted − true (s)", cycles[0]),
+            recovered: format!("{miss_s:.1} ± {:.1}", sigma[0] * 86_400.0),
+            truth: "0".into(),
+            deviation_sigma: Some(miss_s.abs() / (sigma[0] * 86_400.0)),
+        });
+    }
+    let mut n_observable = 0_usize;
     for i in 0..upcoming.height() {
         let ok = obs[i].as_deref() == Some("true");
         n_observable += ok as usize;
@@ -272,12 +294,12 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     }
     let mut pred_section = Section::new("Predictions for the coming month")
         .with_paragraph(&format!(
-            "{} minima in the window, {n_observable} observable (target above 30°, Sun below −12°, whole 2.5-h event). Predicted from the fitted quadratic ephemeris; the third body's light time, still to be extrapolated, can shift them by up to its semi-amplitude.",
+            "{n_observable} of {} listed minima observable in the window (target above 30°, Sun below −12°, the whole 2.5-h event). Predicted from the fitted quadratic + light-time ephemeris: the third body's delay is extrapolated and the σ carries the covariance of all eight parameters.",
             upcoming.height()
         ))
         .with_table(pred_table);
     for c in cautions.iter().flatten().filter(|c| !c.is_empty()).take(1) {
-        pred_section = pred_section.with_caution(c);
+        pred_section = pred_section.with_caution(c.trim_start_matches("caution: "));
     }
     report_sections.push(pred_section);
 

@@ -45,8 +45,10 @@ pub fn write_survey(folder: &Path, seed: u64) -> Result<()> {
                 if rng.uniform() < 0.3 {
                     continue;
                 }
-                for _ in 0..3 {
-                    let t = 2_461_000.6 + night as f64 + 0.25 * rng.uniform();
+                let mut offsets = [rng.uniform(), rng.uniform(), rng.uniform()];
+                offsets.sort_by(|a, b| a.total_cmp(b));
+                for u in offsets {
+                    let t = 2_461_000.6 + night as f64 + 0.25 * u;
                     let phase = if period_d > 0.0 { ((t - 2_461_000.0) / period_d + phase0).rem_euclid(1.0) } else { 0.0 };
                     let signal = match class {
                         "sinusoidal-pulsator" => amplitude * (std::f64::consts::TAU * phase).sin(),

@@ -33,11 +33,14 @@ pub struct LevenbergOptions {
     /// Also stop when an accepted step lowers χ² by less than this absolute amount (χ²
     /// units: 1e-4 moves the parameters by ~1 % of their 1σ; 0 disables the test).
     pub absolute_tolerance: f64,
+    /// Compute the covariance at the solution (a thin SVD of the Jacobian); callers that
+    /// need only the parameters (e.g. bootstrap resamples) switch it off.
+    pub covariance: bool,
 }
 
 impl Default for LevenbergOptions {
     fn default() -> Self {
-        LevenbergOptions { max_iterations: 200, relative_tolerance: 1e-12, initial_damping: 1e-3, absolute_tolerance: 0.0 }
+        LevenbergOptions { max_iterations: 200, relative_tolerance: 1e-12, initial_damping: 1e-3, absolute_tolerance: 0.0, covariance: true }
     }
 }
 
@@ -166,6 +169,9 @@ pub fn levenberg_marquardt<M: LsqModel>(model: &M, start: &[f64], options: &Leve
     }
     if params.iter().any(|v| !v.is_finite()) {
         return Err(FitError::Diverged { iterations });
+    }
+    if !options.covariance {
+        return Ok(NonlinearFit { params, covariance: Vec::new(), chi2, dof: n - p, iterations, converged });
     }
     model.jacobian(&params, &mut jac);
     let lin = weighted_linear_lsq(&jac, p, &vec![0.0; n], w)?;

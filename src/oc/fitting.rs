@@ -315,6 +315,11 @@ impl<M: LsqModel> LsqModel for Scaled<'_, M> {
 
 /// Levenberg–Marquardt on Jacobi-scaled parameters; returns the fit in the original units.
 fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFit, crate::fit::FitError> {
+    scaled_levenberg_with(model, start, &lm_options())
+}
+
+/// [`scaled_levenberg`] with explicit options.
+fn scaled_levenberg_with<M: LsqModel>(model: &M, start: &[f64], options: &LevenbergOptions) -> Result<NonlinearFit, crate::fit::FitError> {
     let p = model.n_params();
     let n = model.n_obs();
     let mut jac = vec![0.0; n * p];
@@ -328,7 +333,7 @@ fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFi
         .collect();
     let scaled = Scaled { inner: model, scale: scale.clone() };
     let u0: Vec<f64> = start.iter().zip(&scale).map(|(a, b)| a / b).collect();
-    let mut f = levenberg_marquardt(&scaled, &u0, &lm_options())?;
+    let mut f = levenberg_marquardt(&scaled, &u0, options)?;
     for (a, b) in f.params.iter_mut().zip(&scale) {
         *a *= b;
     }
@@ -338,8 +343,14 @@ fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFi
     Ok(f)
 }
 
+/// Resamples start at the best fit and need its neighbourhood only: a χ² change below 1e-3
+/// moves a parameter by ~3 % of its 1σ, far below the bootstrap's own scatter.
+fn bootstrap_lm_options() -> LevenbergOptions {
+    LevenbergOptions { max_iterations: 60, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-3, covariance: false }
+}
+
 fn lm_options() -> LevenbergOptions {
-    LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5 }
+    LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5, covariance: true }
 }
 
 fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options: &FitOptions) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
@@ -572,7 +583,7 @@ pub fn bootstrap(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions) 
             let w: Vec<f64> = idx.iter().map(|&i| fit.weights[i]).collect();
             let params = if kind.has_light_time() {
                 let model = OcModel { kind, series: &sub, weights: w };
-                match scaled_levenberg(&model, &fit.params) {
+                match scaled_levenberg_with(&model, &fit.params, &bootstrap_lm_options()) {
                     Ok(f) if f.chi2.is_finite() => f.params,
                     _ => return None,
                 }

@@ -19,15 +19,21 @@ pub fn eccentric_anomaly(mean_anomaly_rad: f64, e: f64) -> f64 {
     let (mut lo, mut hi) = (-PI, PI);
     let mut x = if e > 0.8 { mm.signum() * PI } else { mm + e * mm.sin() };
     for _ in 0..60 {
-        let f = x - e * x.sin() - mm;
+        let (sin_x, cos_x) = x.sin_cos();
+        let f = x - e * sin_x - mm;
+        if f == 0.0 {
+            return x;
+        }
         if f > 0.0 { hi = x } else { lo = x }
-        let step = f / (1.0 - e * x.cos());
+        let step = f / (1.0 - e * cos_x);
+        // Converged: test before the bracket, or a zero-length step at the root would be
+        // taken for a step outside it and send the iteration into bisection.
+        if step.abs() < 1e-15 {
+            return x - step;
+        }
         let mut next = x - step;
         if !(next > lo && next < hi) {
             next = 0.5 * (lo + hi);
-        }
-        if (next - x).abs() < 1e-15 {
-            return next;
         }
         x = next;
     }

@@ -26,7 +26,24 @@ pub const MAX_EVENTS: u64 = 200_000;
 /// Longest step between checks of an event window, minutes.
 const WINDOW_STEP_MIN: f64 = 10.0;
 
-/// A linear or quadratic ephemeris with the covariance of its parameters.
+/// The light time of one or two fitted companions (O–C models of `oc`), carried into the
+/// predictions with the full covariance of all ephemeris parameters.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CompanionLightTime {
+    /// Number of companions (1 or 2).
+    pub companions: usize,
+    /// Each companion's `[a₁₂ sin i / c (d), P₃ (d), √e cos ω, √e sin ω, M₀ (rad)]` as in
+    /// `oc::models`; the mean anomaly runs from the reference epoch of the O–C series.
+    pub params: [[f64; 5]; 2],
+    /// Days from that reference epoch to [`EventEphemeris::epoch`] (the fitted ΔT₀).
+    pub reference_offset_d: f64,
+    /// Covariance of (T₀, P, Q, companion 1, companion 2), d² and mixed units, row-major;
+    /// rows of absent parameters are zero.
+    pub covariance: [[f64; 13]; 13],
+}
+
+/// A linear or quadratic ephemeris with the covariance of its parameters, optionally with
+/// the light time of fitted companions.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct EventEphemeris {
     /// Epoch of the primary event E = 0, BJD_TDB (scale TDB).
@@ -37,6 +54,8 @@ pub struct EventEphemeris {
     pub quadratic_d: f64,
     /// Covariance of (T₀ [d], P [d], Q [d]), d², row-major, symmetric.
     pub covariance_d2: [[f64; 3]; 3],
+    /// Light time of fitted companions, if the ephemeris has any.
+    pub light_time: Option<CompanionLightTime>,
 }
 
 impl EventEphemeris {
@@ -67,7 +86,7 @@ impl EventEphemeris {
                 }
             }
         }
-        Ok(EventEphemeris { epoch, period_d, quadratic_d, covariance_d2 })
+        Ok(EventEphemeris { epoch, period_d, quadratic_d, covariance_d2, light_time: None })
     }
 
     /// A linear ephemeris with independent 1σ errors of epoch and period (days).
@@ -109,9 +128,71 @@ impl EventEphemeris {
         EventEphemeris::new(reference_epoch.add_seconds(shifts[0] * 86_400.0), reference_period_d + shifts[1], q, c)
     }
 
-    /// T(E) − T₀, days.
+    /// From a fitted O–C model of any kind (`oc::ModelKind`), as written by
+    /// `timing-residuals`: parameters (ΔT₀, ΔP[, Q][, companion 1][, companion 2]) and their
+    /// row-major covariance. Light-time models keep the companions' delays in the
+    /// predictions and their parameters' covariance in the σ.
+    pub fn from_fitted_model(
+        reference_epoch: Instant,
+        reference_period_d: f64,
+        kind: crate::oc::ModelKind,
+        params: &[f64],
+        covariance: &[f64],
+    ) -> Result<EventEphemeris, PredictError> {
+        let n = kind.n_params();
+        if params.len() != n || covariance.len() != n * n {
+            return Err(PredictError::BadEphemeris(format!(
+                "the {} model has {n} parameters and a {n}×{n} covariance, got {} and {} numbers",
+                kind.name(),
+                params.len(),
+                covariance.len()
+            )));
+        }
+        let np = kind.n_polynomial();
+        // Position of each fitted parameter in the 13-slot layout (T₀, P, Q, 5 + 5).
+        let slot = |j: usize| if j < np { if j < 2 { j } else { 2 } } else { 3 + (j - np) };
+        let poly_shifts: Vec<f64> = params[..np].to_vec();
+        let poly_cov: Vec<f64> = (0..np).flat_map(|a| (0..np).map(move |b| (a, b))).map(|(a, b)| covariance[a * n + b]).collect();
+        let mut e = EventEphemeris::from_fitted_shifts(reference_epoch, reference_period_d, &poly_shifts, &poly_cov)?;
+        if kind.companions() == 0 {
+            return Ok(e);
+        }
+        let mut full = [[0.0; 13]; 13];
+        for a in 0..n {
+            for b in 0..n {
+                let v = covariance[a * n + b];
+                if !v.is_finite() {
+                    return Err(PredictError::BadEphemeris(format!("covariance element ({a},{b}) is not finite: {v}")));
+                }
+                full[slot(a)][slot(b)] = v;
+            }
+        }
+        let mut companion = [[0.0; 5]; 2];
+        for c in 0..kind.companions() {
+            companion[c].copy_from_slice(&params[np + 5 * c..np + 5 * c + 5]);
+            if !(companion[c][1].is_finite() && companion[c][1] > 0.0) {
+                return Err(PredictError::BadEphemeris(format!("companion {} has period {} d; it must be positive", c + 1, companion[c][1])));
+            }
+        }
+        e.light_time = Some(CompanionLightTime { companions: kind.companions(), params: companion, reference_offset_d: params[0], covariance: full });
+        Ok(e)
+    }
+
+    /// Days since the O–C reference epoch at cycle `cycle` (argument of the light time).
+    fn since_reference_d(&self, lt: &CompanionLightTime, cycle: f64) -> f64 {
+        lt.reference_offset_d + self.period_d * cycle + self.quadratic_d * cycle * cycle
+    }
+
+    /// T(E) − T₀, days (with the companions' light time when present).
     pub fn offset_d(&self, cycle: f64) -> f64 {
-        self.period_d * cycle + self.quadratic_d * cycle * cycle
+        let mut v = self.period_d * cycle + self.quadratic_d * cycle * cycle;
+        if let Some(lt) = &self.light_time {
+            let t = self.since_reference_d(lt, cycle);
+            for c in 0..lt.companions {
+                v += crate::oc::models::light_time_d(&lt.params[c], t);
+            }
+        }
+        v
     }
 
     /// Predicted BJD_TDB of cycle `cycle`.
@@ -124,8 +205,26 @@ impl EventEphemeris {
         self.period_d + 2.0 * self.quadratic_d * cycle
     }
 
-    /// 1σ of T(E), days: √(gᵀ C g), g = (1, E, E²).
+    /// 1σ of T(E), days: √(gᵀ C g), g = (1, E, E²[, ∂τ/∂companion parameters]).
     pub fn sigma_d(&self, cycle: f64) -> f64 {
+        if let Some(lt) = &self.light_time {
+            let mut g = [0.0; 13];
+            g[0] = 1.0;
+            g[1] = cycle;
+            g[2] = cycle * cycle;
+            let t = self.since_reference_d(lt, cycle);
+            for c in 0..lt.companions {
+                let (_, grad) = crate::oc::models::light_time_with_gradient_d(&lt.params[c], t);
+                g[3 + 5 * c..8 + 5 * c].copy_from_slice(&grad);
+            }
+            let mut v = 0.0;
+            for i in 0..13 {
+                for j in 0..13 {
+                    v += g[i] * lt.covariance[i][j] * g[j];
+                }
+            }
+            return v.max(0.0).sqrt();
+        }
         let g = [1.0, cycle, cycle * cycle];
         let mut v = 0.0;
         for i in 0..3 {
@@ -139,6 +238,21 @@ impl EventEphemeris {
     /// The (fractional) cycle at BJD_TDB `t`: the root of P·E + Q·E² = t − T₀ on the branch
     /// through E = 0. Errors when the quadratic ephemeris never reaches `t` there.
     pub fn cycle_at(&self, t: &Instant) -> Result<f64, PredictError> {
+        let polynomial = self.polynomial_cycle_at(t)?;
+        if self.light_time.is_none() {
+            return Ok(polynomial);
+        }
+        // With companions: Newton steps on T(E) − T₀ = t − T₀ from the polynomial root (the
+        // light time changes far more slowly than one cycle).
+        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / 86_400.0;
+        let mut e = polynomial;
+        for _ in 0..8 {
+            e -= (self.offset_d(e) - dt) / self.period_at_d(e);
+        }
+        Ok(e)
+    }
+
+    fn polynomial_cycle_at(&self, t: &Instant) -> Result<f64, PredictError> {
         let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / 86_400.0;
         if self.quadratic_d == 0.0 {
             return Ok(dt / self.period_d);
