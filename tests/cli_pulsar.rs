@@ -57,7 +57,7 @@ fn search_pulsations_finds_an_invented_pulsar() {
     std::fs::write(dir.join("ev.csv"), s).unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
         .current_dir(&dir)
-        .args(["search-pulsations", "--events", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--min-freq-hz", "3.2", "--max-freq-hz", "3.4", "--output", "z.csv", "--json"])
+        .args(["search-pulsations", "--events", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--min-freq-hz", "3.2", "--max-freq-hz", "3.4", "--output", "z.csv", "--figure", "z.svg", "--json"])
         .output()
         .unwrap();
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
@@ -65,6 +65,8 @@ fn search_pulsations_finds_an_invented_pulsar() {
     let f = json["best"]["freq_hz"].as_f64().unwrap();
     assert!((f - 3.3).abs() < 1.0 / 20_000.0, "{f}");
     assert!(json["best"]["false_alarm"].as_f64().unwrap() < 1e-20);
+    let svg = std::fs::read_to_string(dir.join("z.svg")).expect("the statistic-against-frequency figure");
+    assert!(svg.contains("mean of pure noise") && svg.contains("best trial") && svg.contains("(mHz)"), "figure lacks its layers or axis label");
     let _ = std::fs::remove_dir_all(&dir);
 }
 

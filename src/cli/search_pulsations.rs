@@ -16,7 +16,7 @@ use crate::time::{Instant, TimeScale};
 const EXAMPLE: &str = "Example:
   skyclock search-pulsations --events photons.csv --time-column time --clock mjd_tt \\
       --ra 83.633 --dec 22.0145 --min-freq-hz 29.5 --max-freq-hz 30.0 --harmonics 2 \\
-      --output z2_spectrum.csv --json
+      --output z2_spectrum.csv --figure z2_spectrum.svg --json
 
   Times are barycentred on the way in (use --clock bmjd_tdb for barycentric times). The
   output lists freq_hz, freq_deriv_hz_per_s and z2 for every trial (figure data: statistic
@@ -66,6 +66,10 @@ pub struct Args {
     /// Statistic against frequency (.csv).
     #[arg(long, value_name = "FILE")]
     pub output: PathBuf,
+    /// Figure of the statistic against frequency at the best frequency derivative (.svg or
+    /// .png), with the best trial marked and the mean level of pure noise (2n).
+    #[arg(long, value_name = "FILE")]
+    pub figure: Option<PathBuf>,
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
@@ -108,6 +112,36 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    if let Some(path) = &a.figure {
+        refuse_overwriting_inputs(path, &[a.events.as_path()])?;
+        let d_best = grid.freq_derivs_hz_per_s.iter().position(|fd| *fd == peak.freq_deriv_hz_per_s).unwrap_or(0);
+        let x: Vec<f64> = (0..grid.freq_count).map(|k| (grid.freq_hz(k) - peak.freq_hz) * 1e3).collect();
+        let y: Vec<f64> = (0..grid.freq_count).map(|k| result.z2(d_best, k)).collect();
+        let noise = 2.0 * a.harmonics as f64;
+        let (x0, x1) = (x.first().copied().unwrap_or(0.0), x.last().copied().unwrap_or(0.0));
+        let fig = crate::plot::Figure {
+            title: format!("Z²_{} of {} events against frequency (ν̇ = {:e} Hz/s)", a.harmonics, times.len(), peak.freq_deriv_hz_per_s),
+            panels: vec![crate::plot::Panel {
+                x_label: format!("frequency − {:.9} Hz (mHz)", peak.freq_hz),
+                y_label: format!("Z²_{}", a.harmonics),
+                layers: vec![
+                    crate::plot::Layer::Line { label: format!("Z²_{}", a.harmonics), x, y, colour: (30, 60, 140) },
+                    crate::plot::Layer::Line { label: format!("mean of pure noise (2n = {noise})"), x: vec![x0, x1], y: vec![noise, noise], colour: (120, 120, 120) },
+                    crate::plot::Layer::Markers {
+                        label: format!("best trial (false alarm after trials {:.1e})", peak.false_alarm),
+                        x: vec![0.0],
+                        text: vec!["best".into()],
+                        colour: (200, 30, 30),
+                    },
+                ],
+                invert_y: false,
+                height_weight: 1,
+            }],
+            width: 1000,
+            height: 600,
+        };
+        crate::plot::write_figure(&fig, path)?;
+    }
     let (mjd1, mjd2) = epoch.mjd_two_part();
     let summary = serde_json::json!({ "events": times.len(), "epoch_mjd_tdb": mjd1 + mjd2, "baseline_s": span, "best": peak, "output": a.output.display().to_string() });
     if a.json {
