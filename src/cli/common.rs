@@ -257,3 +257,19 @@ impl ObserverArgs {
         })
     }
 }
+
+/// A progress bar on stderr for `total` steps with rate and ETA, hidden when stderr is not
+/// a terminal or `quiet` is set.
+pub fn progress_bar(total: u64, message: &str, quiet: bool) -> indicatif::ProgressBar {
+    use std::io::IsTerminal;
+    if quiet || !std::io::stderr().is_terminal() {
+        return indicatif::ProgressBar::hidden();
+    }
+    let pb = indicatif::ProgressBar::new(total);
+    pb.set_style(
+        indicatif::ProgressStyle::with_template("{msg} {bar:30} {pos}/{len}  {per_sec}  elapsed {elapsed}, ETA {eta}")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    pb.set_message(message.to_string());
+    pb
+}

@@ -51,6 +51,9 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// No progress display on stderr.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -72,8 +75,11 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     ev.warn_repeated_times(&a.input.time_column);
+    let spin = super::light_curve_input::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet);
     let result = event_arrival_times(&ev.model, &ev.times_s, ev.weights.as_deref(), &template, segmentation, a.min_photons, valid_s, &a.input.instrument)
-        .map_err(|e| ev.locate(&a.input.time_column, e))?;
+        .map_err(|e| ev.locate(&a.input.time_column, e));
+    spin.finish_and_clear();
+    let result = result?;
     let epoch = ev.model.epoch();
     let jd = |s: f64| format_time(&epoch.add_seconds(s), TimeFormat::Jd);
     let mut csv = String::from("arrival_bjd_tdb,error_us,instrument,segment,photons,segment_start_bjd_tdb,segment_end_bjd_tdb,phase_shift_cycles,phase_shift_error_cycles,z2\n");

@@ -75,6 +75,9 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// No progress display on stderr.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -97,7 +100,10 @@ pub fn run(a: Args) -> Result<()> {
     let (corrected, _, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
     let mut toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
     attach_observer_geometry(&mut toas, &geometry);
-    let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()))?;
+    let spin = super::light_curve_input::spinner(&format!("fitting {} parameters to {} arrival times", start.fit.len() + 1, toas.len()), a.quiet);
+    let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()));
+    spin.finish_and_clear();
+    let fit = fit?;
 
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "fit-timing")

@@ -176,6 +176,9 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// No progress display on stderr.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -187,7 +190,10 @@ pub fn run(a: Args) -> Result<()> {
     let valid_s = a.input.validity_s()?;
     let ev = a.input.load("pulse-profile")?;
     ev.warn_repeated_times(&a.input.time_column);
-    let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument).map_err(|e| ev.locate(&a.input.time_column, e))?;
+    let spin = super::light_curve_input::spinner(&format!("folding {} events", ev.times_s.len()), a.quiet);
+    let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument).map_err(|e| ev.locate(&a.input.time_column, e));
+    spin.finish_and_clear();
+    let phases = phases?;
     let weight_col = a.input.weight_column.clone().unwrap_or_default();
     let binned = binned_profile(&phases, ev.weights.as_deref(), a.bins).map_err(|e| ev.locate(&weight_col, e))?;
     let empirical = fourier_template(&phases, ev.weights.as_deref(), a.harmonics)?;

@@ -73,6 +73,9 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// No progress display on stderr.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -103,7 +106,10 @@ pub fn run(a: Args) -> Result<()> {
         None => None,
     };
     let grid = SpinGrid::from_baseline(a.min_freq_hz, a.max_freq_hz, span, a.oversample, a.min_freq_deriv_hz_per_s, a.max_freq_deriv_hz_per_s)?;
-    let result = z2_grid(&times, weights.as_deref(), a.harmonics, &grid)?;
+    let spin = super::light_curve_input::spinner(&format!("Z²_{} over {} trials of {} events", a.harmonics, grid.freq_count * grid.freq_derivs_hz_per_s.len(), times.len()), a.quiet);
+    let result = z2_grid(&times, weights.as_deref(), a.harmonics, &grid);
+    spin.finish_and_clear();
+    let result = result?;
     let peak = best_trial(&result);
     let mut csv = String::from("freq_hz,freq_deriv_hz_per_s,z2\n");
     for (d, fd) in grid.freq_derivs_hz_per_s.iter().enumerate() {

@@ -12,7 +12,7 @@ use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use crate::arrival::table::{TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
 use crate::oc::{
-    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, bootstrap,
+    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
     compare_nested, fit_model, information, minimum_companion_mass_msun,
 };
 use crate::table::write::write_atomically;
@@ -120,6 +120,9 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// No progress display on stderr.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -208,7 +211,10 @@ pub fn run(a: Args) -> Result<()> {
     };
     let mut fits = Vec::new();
     for &m in &models {
-        fits.push(fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"))?);
+        let spin = super::light_curve_input::spinner(&format!("fitting the {} model to {} timings", m.name(), series.len()), a.quiet);
+        let fit = fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"));
+        spin.finish_and_clear();
+        fits.push(fit?);
     }
     // The O–C table.
     let mut columns = vec![
@@ -229,7 +235,14 @@ pub fn run(a: Args) -> Result<()> {
         columns.push(Column::new(format!("model_{name}_d").into(), model));
         columns.push(Column::new(format!("model_sigma_{name}_d").into(), sigma));
         columns.push(Column::new(format!("residual_{name}_d").into(), resid));
-        let boot = if a.bootstrap > 0 { Some(bootstrap(&series, f, &BootstrapOptions { resamples: a.bootstrap, seed: a.seed }).map_err(|e| anyhow::anyhow!("{e}"))?) } else { None };
+        let boot = if a.bootstrap > 0 {
+            let pb = super::common::progress_bar(a.bootstrap as u64, &format!("bootstrap of the {} model", f.kind.name()), a.quiet);
+            let b = crate::oc::bootstrap_with_progress(&series, f, &BootstrapOptions { resamples: a.bootstrap, seed: a.seed }, &|n| pb.inc(n)).map_err(|e| anyhow::anyhow!("{e}"))?;
+            pb.finish_and_clear();
+            Some(b)
+        } else {
+            None
+        };
         let names = f.kind.parameter_names();
         let params: Vec<serde_json::Value> = names
             .iter()

@@ -540,6 +540,15 @@ pub fn fit_model(series: &OcSeries, kind: ModelKind, options: &FitOptions) -> Re
     Ok(ModelFit { kind, params, covariance: cov, chi2, n: series.len(), weights, source_scale, derived, notes })
 }
 
+/// Calls the progress callback once when dropped (every exit path of a resample).
+struct Tick<'a>(&'a (dyn Fn(u64) + Sync));
+
+impl Drop for Tick<'_> {
+    fn drop(&mut self) {
+        (self.0)(1);
+    }
+}
+
 /// Options of the bootstrap.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BootstrapOptions {
@@ -567,6 +576,12 @@ pub struct BootstrapSummary {
 /// from the best solution (light-time models by Levenberg–Marquardt, without a new global
 /// search). Source: Efron & Tibshirani (1993), An Introduction to the Bootstrap, ch. 9.
 pub fn bootstrap(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions) -> Result<BootstrapSummary, OcError> {
+    bootstrap_with_progress(series, fit, options, &|_| {})
+}
+
+/// [`bootstrap`] calling `progress(1)` after each resample (from any thread), for a caller's
+/// progress display. Results are the same as without it.
+pub fn bootstrap_with_progress(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions, progress: &(dyn Fn(u64) + Sync)) -> Result<BootstrapSummary, OcError> {
     if options.resamples < 2 {
         return Err(OcError::Invalid(format!("the bootstrap needs at least 2 resamples, got {}", options.resamples)));
     }
@@ -577,6 +592,7 @@ pub fn bootstrap(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions) 
     let draws: Vec<Option<(Vec<f64>, Vec<f64>)>> = (0..options.resamples)
         .into_par_iter()
         .map(|k| {
+            let _tick = Tick(progress);
             let mut rng = SeededRng::for_stream(options.seed, k as u64);
             let idx: Vec<usize> = (0..n).map(|_| rng.below(n)).collect();
             let sub = series.subset(&idx);

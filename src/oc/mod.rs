@@ -21,7 +21,7 @@ pub mod orbit;
 pub use compare::{ModelComparison, NestedTest, compare_nested, information};
 pub use companion::{mass_function_msun, minimum_companion_mass_msun, projected_semi_major_axis_au};
 pub use cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
-pub use fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap, fit_model};
+pub use fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap, bootstrap_with_progress, fit_model};
 pub use models::{ModelKind, OcModel};
 
 use crate::fit::FitError;
