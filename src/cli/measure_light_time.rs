@@ -12,7 +12,7 @@ use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint};
 use crate::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time};
-use crate::oc::{EventKind, ReferenceEphemeris};
+use crate::oc::ReferenceEphemeris;
 use crate::table::write::write_atomically;
 use crate::table::{Provenance, float_column, read_table, text_column, write_table};
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
@@ -126,36 +126,17 @@ pub fn run(a: Args) -> Result<()> {
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
     let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
     let roemer = float_column(&corrected, &file, "roemer_delay_s")?;
-    let errors = float_column(&df, &file, &a.error_column)?;
-    let kinds = match &a.kind_column {
-        Some(c) => Some(text_column(&df, &file, c)?),
-        None => None,
-    };
-    let mut timings = Vec::with_capacity(df.height());
-    for i in 0..df.height() {
-        let kind = match &kinds {
-            None => EventKind::Primary,
-            Some(k) => {
-                let text = k[i].as_deref().unwrap_or("");
-                EventKind::parse(text).with_context(|| {
-                    format!("{file}, row {}, column '{}': event kind '{text}' is not one of primary, secondary, maximum", i + 1, a.kind_column.as_deref().unwrap_or(""))
-                })?
-            }
-        };
-        if !(errors[i].is_finite() && errors[i] > 0.0) {
-            bail!("{file}, row {}, column '{}': error {} d must be finite and > 0", i + 1, a.error_column, errors[i]);
-        }
-        // Everything but the Rømer term: BJD_TDB minus the Rømer delay. The delay is
-        // r·n/c with the defined c; r·n in au follows with the defined au (exact constants).
-        let bjd = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
-        timings.push(UncorrectedTiming {
-            observer_tdb: bjd.add_seconds(-roemer[i]),
-            projection_au: roemer[i] / LIGHT_TIME_PER_AU_S,
-            error_d: errors[i],
-            kind,
-            row: i + 1,
-        });
-    }
+    let rows = super::common::timing_kinds_and_errors(&df, &file, &a.error_column, a.kind_column.as_deref())?;
+    // Everything but the Rømer term: BJD_TDB minus the Rømer delay. The delay is r·n/c with
+    // the defined c; r·n in au follows with the defined au (exact constants).
+    let timings: Vec<UncorrectedTiming> = rows
+        .iter()
+        .enumerate()
+        .map(|(i, &(kind, error_d))| {
+            let bjd = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
+            UncorrectedTiming { observer_tdb: bjd.add_seconds(-roemer[i]), projection_au: roemer[i] / LIGHT_TIME_PER_AU_S, error_d, kind, row: i + 1 }
+        })
+        .collect();
     let epoch = parse_time(&a.epoch_d, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
         .map_err(|e| anyhow::anyhow!("--epoch-d '{}': {e}", a.epoch_d))?;
     if !(a.period_d.is_finite() && a.period_d > 0.0) {

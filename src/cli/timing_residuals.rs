@@ -12,7 +12,7 @@ use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use crate::arrival::table::{TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions};
 use crate::oc::{
-    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
+    BootstrapOptions, CycleOptions, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
     compare_nested, fit_model, information, minimum_companion_mass_msun,
 };
 use crate::table::write::write_atomically;
@@ -168,37 +168,22 @@ pub fn run(a: Args) -> Result<()> {
     let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
     let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
-    let errors = float_column(&df, &file, &a.error_column)?;
-    let kinds = match &a.kind_column {
-        Some(c) => Some(text_column(&df, &file, c)?),
-        None => None,
-    };
+    let rows = super::common::timing_kinds_and_errors(&df, &file, &a.error_column, a.kind_column.as_deref())?;
     let origins = match &a.origin_column {
         Some(c) => Some(text_column(&df, &file, c)?),
         None => None,
     };
-    let mut timings = Vec::with_capacity(df.height());
-    for i in 0..df.height() {
-        let kind = match &kinds {
-            None => EventKind::Primary,
-            Some(k) => {
-                let text = k[i].as_deref().unwrap_or("");
-                EventKind::parse(text).with_context(|| {
-                    format!("{file}, row {}, column '{}': event kind '{text}' is not one of primary, secondary, maximum", i + 1, a.kind_column.as_deref().unwrap_or(""))
-                })?
-            }
-        };
-        if !(errors[i].is_finite() && errors[i] > 0.0) {
-            bail!("{file}, row {}, column '{}': error {} d must be finite and > 0", i + 1, a.error_column, errors[i]);
-        }
-        timings.push(Timing {
+    let timings: Vec<Timing> = rows
+        .iter()
+        .enumerate()
+        .map(|(i, &(kind, error_d))| Timing {
             bjd_tdb: crate::time::Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]),
-            error_d: errors[i],
+            error_d,
             kind,
             source: origins.as_ref().and_then(|o| o[i].clone()),
             row: i + 1,
-        });
-    }
+        })
+        .collect();
     let epoch = parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };

@@ -367,17 +367,30 @@ fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options
     }
     let peaks = companion_search(series, kind, weights, range, options.peaks);
     let model = OcModel { kind, series, weights: weights.to_vec() };
-    let np = kind.n_polynomial();
+    best_of_starts(&model, kind, &poly, &peaks, &ECCENTRICITY_STARTS, "no periodogram peak")
+}
+
+/// Starting (√e cos ω, √e sin ω) of the multi-start light-time fits.
+const ECCENTRICITY_STARTS: [(f64, f64); 8] = [(0.3, 0.0), (0.0, 0.3), (-0.3, 0.0), (0.0, -0.3), (0.6, 0.0), (0.0, 0.6), (-0.6, 0.0), (0.0, -0.6)];
+
+/// Levenberg–Marquardt from every periodogram peak × eccentricity start, appending one
+/// companion `[amplitude, P₃, c, s, M₀]` to `base`; the lowest finite χ² wins. A sinusoid's
+/// mean anomaly 2π t/P₃ + M₀ + ω equals 2π t/P₃ + phase, hence M₀ = phase − ω.
+fn best_of_starts(
+    model: &OcModel,
+    kind: ModelKind,
+    base: &[f64],
+    peaks: &[(f64, f64, f64, f64)],
+    eccentricity_starts: &[(f64, f64)],
+    no_peak: &str,
+) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
     let mut best: Option<NonlinearFit> = None;
-    let mut last_error = String::from("no periodogram peak");
-    for &(p3, _, amp, phase) in &peaks {
-        for &(c, s) in &[(0.3, 0.0), (0.0, 0.3), (-0.3, 0.0), (0.0, -0.3), (0.6, 0.0), (0.0, 0.6), (-0.6, 0.0), (0.0, -0.6)] {
-            let omega: f64 = f64::atan2(s, c);
-            let mut start = poly.clone();
-            start.extend([amp.max(1e-9), p3, c, s, phase - omega]);
-            // A sinusoid's mean anomaly: 2π t/P₃ + M₀ + ω = 2π t/P₃ + phase.
-            let _ = np;
-            match scaled_levenberg(&model, &start) {
+    let mut last_error = no_peak.to_string();
+    for &(p3, _, amp, phase) in peaks {
+        for &(c, s) in eccentricity_starts {
+            let mut start = base.to_vec();
+            start.extend([amp.max(1e-9), p3, c, s, phase - f64::atan2(s, c)]);
+            match scaled_levenberg(model, &start) {
                 Ok(f) if f.chi2.is_finite() => {
                     if best.as_ref().is_none_or(|b| f.chi2 < b.chi2) {
                         best = Some(f);
@@ -413,29 +426,7 @@ fn fit_second_companion(series: &OcSeries, kind: ModelKind, weights: &[f64], opt
         .take(options.peaks.max(1))
         .collect();
     let model = OcModel { kind, series, weights: weights.to_vec() };
-    let mut best: Option<NonlinearFit> = None;
-    let mut last_error = String::from("no periodogram peak in the residuals of the one-companion fit");
-    for &(p3, _, amp, phase) in &peaks {
-        for &(c, s) in &[(0.3, 0.0), (0.0, 0.3), (-0.3, 0.0), (0.0, -0.3)] {
-            let omega: f64 = f64::atan2(s, c);
-            let mut start = first.clone();
-            start.extend([amp.max(1e-9), p3, c, s, phase - omega]);
-            match scaled_levenberg(&model, &start) {
-                Ok(f) if f.chi2.is_finite() => {
-                    if best.as_ref().is_none_or(|b| f.chi2 < b.chi2) {
-                        best = Some(f);
-                    }
-                }
-                Ok(_) => last_error = "non-finite χ²".into(),
-                Err(e) => last_error = e.to_string(),
-            }
-        }
-    }
-    match best {
-        Some(f) if f.covariance.iter().all(|v| v.is_finite()) => Ok((f.params, f.covariance, f.chi2)),
-        Some(_) => Err(OcError::NotConverged { model: kind.name(), detail: "the covariance is not finite".into() }),
-        None => Err(OcError::NotConverged { model: kind.name(), detail: last_error }),
-    }
+    best_of_starts(&model, kind, &first, &peaks, &ECCENTRICITY_STARTS[..4], "no periodogram peak in the residuals of the one-companion fit")
 }
 
 /// Fits one model to an O–C series.
