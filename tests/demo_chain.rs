@@ -30,6 +30,26 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
     let html = std::fs::read_to_string(out.join("report.html")).expect("the report");
     assert!(html.contains("data-figures-expected=\"6\""), "six figures expected in the report");
     assert!(!html.contains("http://") && !html.contains("https://"));
+    // The demo's own report in headless Chromium, where installed (.ci/run installs it):
+    // every figure renders and the page logs nothing to the console.
+    let chromium = ["chromium", "chromium-browser"].iter().find(|b| Command::new(b).arg("--version").output().is_ok_and(|o| o.status.success()));
+    match chromium {
+        None => eprintln!("SKIPPED (browser part): chromium not installed"),
+        Some(browser) => {
+            let profile = out.join("browser-profile");
+            let page = format!("file://{}", out.join("report.html").display());
+            let dump = Command::new(browser)
+                .args(["--headless=new", "--no-sandbox", "--disable-gpu", "--enable-logging=stderr", "--v=0", "--virtual-time-budget=3000"])
+                .arg(format!("--user-data-dir={}", profile.display()))
+                .args(["--dump-dom", &page])
+                .output()
+                .expect("run chromium");
+            let dom = String::from_utf8_lossy(&dump.stdout);
+            let log = String::from_utf8_lossy(&dump.stderr);
+            assert!(dom.contains("data-figures-rendered=\"6\""), "not every figure rendered: {}", dom.lines().find(|l| l.contains("data-figures")).unwrap_or(""));
+            assert!(!log.contains("CONSOLE") && !log.contains("Uncaught"), "console output: {log}");
+        }
+    }
     for f in ["kx_folded.svg", "kx_oc.svg", "kx_orbit.svg", "kx_periodogram.svg", "veyra_residuals.svg", "veyra_profile.svg", "kx_upcoming.csv"] {
         assert!(out.join(f).exists(), "{f} missing");
     }
