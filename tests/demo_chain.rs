@@ -27,6 +27,8 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
     }
     // The survey finds every sinusoidal pulsator at its period.
     assert!(summary.lines().any(|l| l.contains("sinusoidal-pulsator") && l.contains("60 of  60")), "{summary}");
+    let json: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).expect("summary.json")).expect("JSON");
+    assert_eq!(json["comparisons"].as_array().map(|a| a.len()), Some(checked), "summary.json holds the printed comparisons");
     let html = std::fs::read_to_string(out.join("report.html")).expect("the report");
     assert!(html.contains("data-figures-expected=\"6\""), "six figures expected in the report");
     assert!(!html.contains("http://") && !html.contains("https://"));

@@ -433,6 +433,19 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let report_path: PathBuf = o("report.html");
     write_report(&report, &report_path, &[])?;
 
+    // The same comparison for machines.
+    let summary = serde_json::json!({
+        "comparisons": comparisons.iter().map(|c| serde_json::json!({
+            "quantity": c.quantity, "recovered": c.recovered, "truth": c.truth, "deviation_sigma": c.deviation_sigma,
+        })).collect::<Vec<_>>(),
+        "survey": recovery.iter().map(|(class, n, a, b)| serde_json::json!({
+            "class": class, "sources": n, "at_true_period": a, "at_half_or_double_period": b,
+        })).collect::<Vec<_>>(),
+        "report": path_text(&report_path),
+    });
+    let summary_text = serde_json::to_string_pretty(&summary)?;
+    crate::table::write::write_atomically(&o("summary.json"), |f| std::io::Write::write_all(f, summary_text.as_bytes()).map_err(|e| e.to_string()))?;
+
     println!("\n== what was recovered, beside the truth");
     for c in &comparisons {
         println!("  {:<44} {:>28}   truth {:>16}   {}", c.quantity, c.recovered, c.truth, c.deviation_sigma.map(|z| format!("{z:.1}σ")).unwrap_or_default());
@@ -440,6 +453,6 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     for (class, n, a, b) in &recovery {
         println!("  survey {class:<22} {a:>3} of {n:>3} at the true period, {b:>3} at P/2 or 2P");
     }
-    println!("\n  report: {}", report_path.display());
+    println!("\n  report: {}   (the comparison as JSON: {})", report_path.display(), o("summary.json").display());
     Ok(comparisons)
 }
