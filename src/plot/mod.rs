@@ -215,7 +215,9 @@ pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
     let name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
     let tmp = path.with_file_name(format!(".{name}.{}.partial.{ext}", std::process::id()));
     let drawn = match ext.as_str() {
-        "svg" => draw_all(SVGBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig),
+        "svg" => render_svg(fig)
+            .map_err(|e| e.to_string())
+            .and_then(|text| std::fs::write(&tmp, text).map_err(|e| e.to_string())),
         "png" => draw_all(BitMapBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig),
         _ => return Err(PlotError::Format { file, ext }),
     };
@@ -235,7 +237,9 @@ pub fn render_svg(fig: &Figure) -> Result<String, PlotError> {
     let mut out = String::new();
     draw_all(SVGBackend::with_string(&mut out, (fig.width, fig.height)).into_drawing_area(), fig)
         .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message })?;
-    Ok(out)
+    // The glyphs were measured with the embedded DejaVu Sans; a viewer without our private
+    // family name should fall back to the same face, or a sans-serif one, never to serif.
+    Ok(out.replace(&format!("font-family=\"{FAMILY}\""), &format!("font-family=\"{FAMILY}, DejaVu Sans, Liberation Sans, Arial, sans-serif\"")))
 }
 
 #[cfg(test)]
