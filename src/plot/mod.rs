@@ -16,7 +16,7 @@ use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 
-/// Layer drawn in a panel.
+/// Layer drawn in a panel. A layer with an empty label stays out of the legend.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Layer {
     /// Points with optional symmetric 1-σ y uncertainty bars.
@@ -125,11 +125,12 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                     .filter(|&i| x[i].is_finite() && lower[i].is_finite() && upper[i].is_finite())
                     .collect();
                 let outline: Vec<(f64, f64)> = ok.iter().map(|&i| (x[i], upper[i])).chain(ok.iter().rev().map(|&i| (x[i], lower[i]))).collect();
-                chart
+                let anno = chart
                     .draw_series(std::iter::once(Polygon::new(outline, c.mix(0.25).filled())))
-                    .map_err(|e| e.to_string())?
-                    .label(label.as_str())
-                    .legend(move |(px, py)| Rectangle::new([(px, py - 5), (px + 16, py + 5)], c.mix(0.25).filled()));
+                    .map_err(|e| e.to_string())?;
+                if !label.is_empty() {
+                    anno.label(label.as_str()).legend(move |(px, py)| Rectangle::new([(px, py - 5), (px + 16, py + 5)], c.mix(0.25).filled()));
+                }
             }
             Layer::Points { label, x, y, y_err, colour, size } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
@@ -141,27 +142,30 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                         .map_err(|e| e.to_string())?;
                 }
                 let s = *size as i32;
-                chart
+                let anno = chart
                     .draw_series(x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| Circle::new((a, b), s, c.filled())))
-                    .map_err(|e| e.to_string())?
-                    .label(label.as_str())
-                    .legend(move |(px, py)| Circle::new((px + 8, py), s.max(3), c.filled()));
+                    .map_err(|e| e.to_string())?;
+                if !label.is_empty() {
+                    anno.label(label.as_str()).legend(move |(px, py)| Circle::new((px + 8, py), s.max(3), c.filled()));
+                }
             }
             Layer::Line { label, x, y, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
-                chart
+                let anno = chart
                     .draw_series(LineSeries::new(x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| (a, b)), c.stroke_width(2)))
-                    .map_err(|e| e.to_string())?
-                    .label(label.as_str())
-                    .legend(move |(px, py)| PathElement::new(vec![(px, py), (px + 16, py)], c.stroke_width(2)));
+                    .map_err(|e| e.to_string())?;
+                if !label.is_empty() {
+                    anno.label(label.as_str()).legend(move |(px, py)| PathElement::new(vec![(px, py), (px + 16, py)], c.stroke_width(2)));
+                }
             }
             Layer::Markers { label, x, text, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
-                chart
+                let anno = chart
                     .draw_series(x.iter().map(|&a| PathElement::new(vec![(a, ya), (a, yb)], c.mix(0.8).stroke_width(1))))
-                    .map_err(|e| e.to_string())?
-                    .label(label.as_str())
-                    .legend(move |(px, py)| PathElement::new(vec![(px + 8, py - 6), (px + 8, py + 6)], c.stroke_width(2)));
+                    .map_err(|e| e.to_string())?;
+                if !label.is_empty() {
+                    anno.label(label.as_str()).legend(move |(px, py)| PathElement::new(vec![(px + 8, py - 6), (px + 8, py + 6)], c.stroke_width(2)));
+                }
                 let ytext = yb - 0.04 * (yb - ya);
                 chart
                     .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))))
@@ -169,11 +173,12 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
             }
             Layer::Guides { label, x, text, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
-                chart
+                let anno = chart
                     .draw_series(x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))))
-                    .map_err(|e| e.to_string())?
-                    .label(label.as_str())
-                    .legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
+                    .map_err(|e| e.to_string())?;
+                if !label.is_empty() {
+                    anno.label(label.as_str()).legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
+                }
                 // Below the legend box (upper right) so that no guide text hides under it.
                 let ytext = yb - 0.2 * (yb - ya);
                 chart
@@ -181,6 +186,13 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                     .map_err(|e| e.to_string())?;
             }
         }
+    }
+    // Layers with an empty label stay out of the legend; no legend box without entries.
+    let labelled = panel.layers.iter().any(|l| match l {
+        Layer::Points { label, .. } | Layer::Line { label, .. } | Layer::Markers { label, .. } | Layer::Band { label, .. } | Layer::Guides { label, .. } => !label.is_empty(),
+    });
+    if !labelled {
+        return Ok(());
     }
     chart
         .configure_series_labels()

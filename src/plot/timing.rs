@@ -44,6 +44,8 @@ pub fn oc_diagram(title: &str, series: &OcSeries, fit: &ModelFit, epoch_jd: f64)
     let period = series.reference.period_d;
     let mut main_layers = Vec::new();
     let mut resid_layers = Vec::new();
+    // The time span both panels share (the model curve runs 3 % beyond the data).
+    let mut shared_x = None;
     // Model curve and band on a dense grid of cycles.
     if let (Some(&c0), Some(&c1)) = (series.cycle.first(), series.cycle.last()) {
         let span = (c1 - c0).max(1.0);
@@ -51,6 +53,7 @@ pub fn oc_diagram(title: &str, series: &OcSeries, fit: &ModelFit, epoch_jd: f64)
         let n = 600;
         let cycles: Vec<f64> = (0..=n).map(|k| lo + (hi - lo) * k as f64 / n as f64).collect();
         let x: Vec<f64> = cycles.iter().map(|&e| x_of(e * period)).collect();
+        shared_x = Some((x[0], x[n]));
         let model: Vec<f64> = cycles.iter().map(|&e| fit.model_oc_d(e, e * period)).collect();
         let sigma: Vec<f64> = cycles.iter().map(|&e| fit.model_sigma_d(e, e * period)).collect();
         main_layers.push(Layer::Band {
@@ -66,13 +69,13 @@ pub fn oc_diagram(title: &str, series: &OcSeries, fit: &ModelFit, epoch_jd: f64)
         let colour = PALETTE[k % PALETTE.len()];
         let x: Vec<f64> = idx.iter().map(|&i| x_of(series.time_d[i])).collect();
         let err: Vec<f64> = idx.iter().map(|&i| series.error_d[i]).collect();
-        main_layers.push(Layer::Points { label: label.clone(), x: x.clone(), y: idx.iter().map(|&i| series.oc_d[i]).collect(), y_err: Some(err.clone()), colour, size: 3 });
+        main_layers.push(Layer::Points { label, x: x.clone(), y: idx.iter().map(|&i| series.oc_d[i]).collect(), y_err: Some(err.clone()), colour, size: 3 });
         let resid: Vec<f64> = idx.iter().map(|&i| series.oc_d[i] - fit.model_oc_d(series.cycle[i], series.time_d[i])).collect();
-        resid_layers.push(Layer::Points { label, x, y: resid, y_err: Some(err), colour, size: 3 });
+        // Same colours as above; no second legend over the residuals.
+        resid_layers.push(Layer::Points { label: String::new(), x, y: resid, y_err: Some(err), colour, size: 3 });
     }
-    let x0 = series.time_d.first().map(|&t| x_of(t)).unwrap_or(0.0);
-    let x1 = series.time_d.last().map(|&t| x_of(t)).unwrap_or(1.0);
-    resid_layers.insert(0, Layer::Line { label: "zero".into(), x: vec![x0, x1], y: vec![0.0, 0.0], colour: (0, 0, 0) });
+    let (x0, x1) = shared_x.unwrap_or((0.0, 1.0));
+    resid_layers.insert(0, Layer::Line { label: String::new(), x: vec![x0, x1], y: vec![0.0, 0.0], colour: (0, 0, 0) });
     Figure {
         title: title.to_string(),
         panels: vec![
