@@ -11,7 +11,6 @@
 use std::f64::consts::TAU;
 
 use super::cycles::OcSeries;
-use super::orbit::irwin_delay;
 use crate::fit::LsqModel;
 
 /// Largest eccentricity the model evaluates (the fit is held inside e < 1).
@@ -125,20 +124,47 @@ pub fn eccentricity_omega(c: f64, s: f64) -> (f64, f64) {
     (e, s.atan2(c))
 }
 
+/// The companion's orbit at one instant: what the delay and its derivatives share.
+struct OrbitAt {
+    e: f64,
+    sin_w: f64,
+    cos_w: f64,
+    sin_ea: f64,
+    cos_ea: f64,
+    /// √(1 − e²).
+    beta: f64,
+}
+
+impl OrbitAt {
+    fn new(ltte: &[f64], t_d: f64) -> OrbitAt {
+        let (e, w) = eccentricity_omega(ltte[2], ltte[3]);
+        let ea = super::orbit::eccentric_anomaly(ltte[4] + TAU * t_d / ltte[1], e);
+        let (sin_ea, cos_ea) = ea.sin_cos();
+        let (sin_w, cos_w) = w.sin_cos();
+        OrbitAt { e, sin_w, cos_w, sin_ea, cos_ea, beta: (1.0 - e * e).max(0.0).sqrt() }
+    }
+    /// Irwin's bracket sin ω cos E + √(1−e²) cos ω sin E (dimensionless).
+    fn bracket(&self) -> f64 {
+        self.sin_w * self.cos_ea + self.beta * self.cos_w * self.sin_ea
+    }
+}
+
 /// Light-time delay (days) at time `t_d` since the epoch for LTTE parameters
-/// `[a sin i / c (d), P₃ (d), √e cos ω, √e sin ω, M₀ (rad)]`. Source: Irwin (1952).
+/// `[a sin i / c (d), P₃ (d), √e cos ω, √e sin ω, M₀ (rad)]`.
+///
+/// Irwin (1952, ApJ 116, 211, eq. 1) written with the eccentric anomaly E:
+/// τ = A·(sin ω cos E + √(1−e²) cos ω sin E), using r cos ν = a(cos E − e) and
+/// r sin ν = a√(1−e²) sin E; equal to [`super::orbit::irwin_delay`] to rounding (tested)
+/// without its true anomaly.
 pub fn light_time_d(ltte: &[f64], t_d: f64) -> f64 {
-    let (e, w) = eccentricity_omega(ltte[2], ltte[3]);
-    let m = ltte[4] + TAU * t_d / ltte[1];
-    irwin_delay(ltte[0], e, w, m)
+    ltte[0] * OrbitAt::new(ltte, t_d).bracket()
 }
 
 /// Light-time delay (days) and its derivatives with respect to the five parameters
 /// `[a sin i / c, P₃, √e cos ω, √e sin ω, M₀]`, analytically.
 ///
-/// Irwin's delay in the eccentric anomaly E is τ = A·(sin ω cos E + √(1−e²) cos ω sin E)
-/// (Irwin 1952, eq. 1, with r cos ν = a(cos E − e), r sin ν = a√(1−e²) sin E); E depends on
-/// M = M₀ + 2πt/P₃ and e through Kepler's equation, ∂E/∂M = 1/(1 − e cos E),
+/// With τ as in [`light_time_d`], E depends on M = M₀ + 2πt/P₃ and e through Kepler's
+/// equation, ∂E/∂M = 1/(1 − e cos E),
 /// ∂E/∂e = sin E/(1 − e cos E). At e < 1e-9 (ω undefined) the (√e cos ω, √e sin ω)
 /// derivatives fall back to central differences. Checked against central differences in
 /// the tests below.
@@ -146,13 +172,9 @@ pub fn light_time_with_gradient_d(ltte: &[f64], t_d: f64) -> (f64, [f64; 5]) {
     let (a, p3, c, s) = (ltte[0], ltte[1], ltte[2], ltte[3]);
     let raw_e = c * c + s * s;
     let capped = raw_e >= MAX_ECCENTRICITY;
-    let (e, w) = eccentricity_omega(c, s);
-    let m = ltte[4] + TAU * t_d / p3;
-    let ea = super::orbit::eccentric_anomaly(m, e);
-    let (sin_e, cos_e) = ea.sin_cos();
-    let (sin_w, cos_w) = w.sin_cos();
-    let beta = (1.0 - e * e).max(0.0).sqrt();
-    let f = sin_w * cos_e + beta * cos_w * sin_e;
+    let orbit = OrbitAt::new(ltte, t_d);
+    let OrbitAt { e, sin_w, cos_w, sin_ea: sin_e, cos_ea: cos_e, beta } = orbit;
+    let f = orbit.bracket();
     let df_dea = -sin_w * sin_e + beta * cos_w * cos_e;
     let dea_dm = 1.0 / (1.0 - e * cos_e);
     let mut g = [0.0; 5];
@@ -249,6 +271,21 @@ impl LsqModel for OcModel<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The eccentric-anomaly form of the delay equals Irwin's true-anomaly form
+    /// (`orbit::irwin_delay`, Irwin 1952 eq. 1) to rounding, e from 0 to 0.9.
+    #[test]
+    fn light_time_equals_irwins_true_anomaly_form() {
+        for &(c, s) in &[(0.0, 0.0), (0.1, 0.0), (0.3, 0.2), (-0.5, 0.4), (0.0, -0.9)] {
+            let l = [0.003, 3_100.0, c, s, 0.7];
+            let (e, w) = eccentricity_omega(c, s);
+            for k in 0..50 {
+                let t = -9_000.0 + 371.3 * k as f64;
+                let irwin = super::super::orbit::irwin_delay(l[0], e, w, l[4] + TAU * t / l[1]);
+                assert!((light_time_d(&l, t) - irwin).abs() < 1e-15, "e = {e}, t = {t}");
+            }
+        }
+    }
 
     /// The analytic gradient of the light-time delay agrees with central differences
     /// (invented orbits, e from 0.01 to 0.8, several times).

@@ -27,8 +27,10 @@ pub fn eccentric_anomaly(mean_anomaly_rad: f64, e: f64) -> f64 {
         if f > 0.0 { hi = x } else { lo = x }
         let step = f / (1.0 - e * cos_x);
         // Converged: test before the bracket, or a zero-length step at the root would be
-        // taken for a step outside it and send the iteration into bisection.
-        if step.abs() < 1e-15 {
+        // taken for a step outside it and send the iteration into bisection. The tolerance
+        // is a few units in the last place of E: near |E| = π the rounding of f alone makes
+        // steps of ~1e-15, which a fixed 1e-15 never accepted (60 iterations per call).
+        if step.abs() <= 4.0 * f64::EPSILON * (1.0 + x.abs()) {
             return x - step;
         }
         let mut next = x - step;
