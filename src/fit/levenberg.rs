@@ -110,7 +110,8 @@ pub fn levenberg_marquardt<M: LsqModel>(model: &M, start: &[f64], options: &Leve
     let mut trial = vec![0.0; p];
     while iterations < options.max_iterations {
         iterations += 1;
-        model.predict(&params, &mut pred);
+        // `pred` already holds the model at `params`: from the start, or from the trial step
+        // that was accepted last.
         model.jacobian(&params, &mut jac);
         jtj.iter_mut().for_each(|v| *v = 0.0);
         jtr.iter_mut().for_each(|v| *v = 0.0);

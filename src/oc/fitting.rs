@@ -585,9 +585,15 @@ pub fn bootstrap_with_progress(series: &OcSeries, fit: &ModelFit, options: &Boot
         .map(|k| {
             let _tick = Tick(progress);
             let mut rng = SeededRng::for_stream(options.seed, k as u64);
-            let idx: Vec<usize> = (0..n).map(|_| rng.below(n)).collect();
+            // A timing drawn k times enters χ² k times: fit each distinct timing once with its
+            // weight times k (the same χ², about 63 % of the model evaluations).
+            let mut copies = vec![0u32; n];
+            for _ in 0..n {
+                copies[rng.below(n)] += 1;
+            }
+            let idx: Vec<usize> = (0..n).filter(|&i| copies[i] > 0).collect();
             let sub = series.subset(&idx);
-            let w: Vec<f64> = idx.iter().map(|&i| fit.weights[i]).collect();
+            let w: Vec<f64> = idx.iter().map(|&i| fit.weights[i] * copies[i] as f64).collect();
             let params = if kind.has_light_time() {
                 let model = OcModel { kind, series: &sub, weights: w };
                 match scaled_levenberg_with(&model, &fit.params, &bootstrap_lm_options()) {
