@@ -258,6 +258,26 @@ impl ObserverArgs {
     }
 }
 
+/// A progress spinner on stderr, hidden when stderr is not a terminal or `quiet`.
+pub fn spinner(message: &str, quiet: bool) -> indicatif::ProgressBar {
+    use std::io::IsTerminal;
+    if quiet || !std::io::stderr().is_terminal() {
+        return indicatif::ProgressBar::hidden();
+    }
+    let pb = indicatif::ProgressBar::new_spinner();
+    pb.set_message(message.to_string());
+    pb.enable_steady_tick(std::time::Duration::from_millis(120));
+    pb
+}
+
+/// Writes `text` to `path` atomically, refusing to overwrite an input.
+pub fn write_text(path: &std::path::Path, text: &str, inputs: &[&std::path::Path]) -> Result<()> {
+    use std::io::Write;
+    crate::table::refuse_overwriting_inputs(path, inputs)?;
+    crate::table::write::write_atomically(path, |f| f.write_all(text.as_bytes()).map_err(|e| e.to_string()))?;
+    Ok(())
+}
+
 /// A progress bar on stderr for `total` steps with rate and ETA, hidden when stderr is not
 /// a terminal or `quiet` is set.
 pub fn progress_bar(total: u64, message: &str, quiet: bool) -> indicatif::ProgressBar {

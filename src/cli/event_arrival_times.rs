@@ -75,7 +75,7 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     ev.warn_repeated_times(&a.input.time_column);
-    let spin = super::light_curve_input::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet);
+    let spin = super::common::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet);
     let result = event_arrival_times(&ev.model, &ev.times_s, ev.weights.as_deref(), &template, segmentation, a.min_photons, valid_s, &a.input.instrument)
         .map_err(|e| ev.locate(&a.input.time_column, e));
     spin.finish_and_clear();

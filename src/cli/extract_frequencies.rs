@@ -8,7 +8,8 @@ use clap::Args as ClapArgs;
 use polars::prelude::*;
 
 use super::find_periods::KernelArg;
-use super::light_curve_input::{LightCurveArgs, spinner, write_text};
+use super::common::{spinner, write_text};
+use super::light_curve_input::LightCurveArgs;
 use crate::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
 use crate::frequencies::prewhiten::{Combination, PrewhitenOptions, StopReason, prewhiten};
 use crate::periodogram::{GridRequest, plan_grid};

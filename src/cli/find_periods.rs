@@ -7,7 +7,8 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::light_curve_input::{LightCurveArgs, spinner, write_text};
+use super::common::{spinner, write_text};
+use super::light_curve_input::LightCurveArgs;
 use crate::periodogram::significance::BootstrapOptions;
 use crate::periodogram::{Algorithm, GridRequest};
 use crate::survey::search::{SearchMethod, SearchOutcome, SearchPlan, describe_alias, search_series};

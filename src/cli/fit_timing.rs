@@ -100,7 +100,7 @@ pub fn run(a: Args) -> Result<()> {
     let (corrected, _, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
     let mut toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
     attach_observer_geometry(&mut toas, &geometry);
-    let spin = super::light_curve_input::spinner(&format!("fitting {} parameters to {} arrival times", start.fit.len() + 1, toas.len()), a.quiet);
+    let spin = super::common::spinner(&format!("fitting {} parameters to {} arrival times", start.fit.len() + 1, toas.len()), a.quiet);
     let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()));
     spin.finish_and_clear();
     let fit = fit?;

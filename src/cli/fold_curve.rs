@@ -7,7 +7,8 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::light_curve_input::{LightCurveArgs, write_text};
+use super::common::write_text;
+use super::light_curve_input::LightCurveArgs;
 use crate::fold::{BinStatistic, bin_folded, fold_times, refine_period};
 use crate::survey::input::days_since;
 use crate::table::{Provenance, write_table};

@@ -13,7 +13,6 @@ use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint};
 use crate::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time};
 use crate::oc::ReferenceEphemeris;
-use crate::table::write::write_atomically;
 use crate::table::{Provenance, float_column, read_table, text_column, write_table};
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
 
@@ -180,8 +179,7 @@ pub fn run(a: Args) -> Result<()> {
     });
     let text = serde_json::to_string_pretty(&summary)?;
     if let Some(path) = &a.summary {
-        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
-        write_atomically(path, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+        super::common::write_text(path, &text, &[a.input.as_path()])?;
     }
     for w in &m.warnings {
         eprintln!("warning: {w}");

@@ -190,7 +190,7 @@ pub fn run(a: Args) -> Result<()> {
     let valid_s = a.input.validity_s()?;
     let ev = a.input.load("pulse-profile")?;
     ev.warn_repeated_times(&a.input.time_column);
-    let spin = super::light_curve_input::spinner(&format!("folding {} events", ev.times_s.len()), a.quiet);
+    let spin = super::common::spinner(&format!("folding {} events", ev.times_s.len()), a.quiet);
     let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument).map_err(|e| ev.locate(&a.input.time_column, e));
     spin.finish_and_clear();
     let phases = phases?;

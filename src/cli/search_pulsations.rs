@@ -106,7 +106,7 @@ pub fn run(a: Args) -> Result<()> {
         None => None,
     };
     let grid = SpinGrid::from_baseline(a.min_freq_hz, a.max_freq_hz, span, a.oversample, a.min_freq_deriv_hz_per_s, a.max_freq_deriv_hz_per_s)?;
-    let spin = super::light_curve_input::spinner(&format!("Z²_{} over {} trials of {} events", a.harmonics, grid.freq_count * grid.freq_derivs_hz_per_s.len(), times.len()), a.quiet);
+    let spin = super::common::spinner(&format!("Z²_{} over {} trials of {} events", a.harmonics, grid.freq_count * grid.freq_derivs_hz_per_s.len(), times.len()), a.quiet);
     let result = z2_grid(&times, weights.as_deref(), a.harmonics, &grid);
     spin.finish_and_clear();
     let result = result?;

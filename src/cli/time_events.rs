@@ -8,7 +8,8 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::light_curve_input::{LightCurveArgs, write_text};
+use super::common::write_text;
+use super::light_curve_input::LightCurveArgs;
 use crate::minima::{
     Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape, TimingMethod, time_events,
 };

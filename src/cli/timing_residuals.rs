@@ -15,7 +15,6 @@ use crate::oc::{
     BootstrapOptions, CycleOptions, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
     compare_nested, fit_model, information, minimum_companion_mass_msun,
 };
-use crate::table::write::write_atomically;
 use crate::table::{Provenance, float_column, read_table, text_column, write_table};
 use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
 
@@ -196,7 +195,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let mut fits = Vec::new();
     for &m in &models {
-        let spin = super::light_curve_input::spinner(&format!("fitting the {} model to {} timings", m.name(), series.len()), a.quiet);
+        let spin = super::common::spinner(&format!("fitting the {} model to {} timings", m.name(), series.len()), a.quiet);
         let fit = fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"));
         spin.finish_and_clear();
         fits.push(fit?);
@@ -297,8 +296,7 @@ pub fn run(a: Args) -> Result<()> {
     });
     let text = serde_json::to_string_pretty(&summary)?;
     if let Some(path) = &a.summary {
-        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
-        write_atomically(path, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+        super::common::write_text(path, &text, &[a.input.as_path()])?;
     }
     for w in &series.warnings {
         eprintln!("warning: {w}");
