@@ -59,6 +59,11 @@ fn path_text(p: &Path) -> String {
     p.display().to_string()
 }
 
+/// Data rows of a text table (lines after the header; 0 when unreadable).
+fn data_rows(path: &Path) -> usize {
+    std::fs::read_to_string(path).map(|t| t.lines().count().saturating_sub(1)).unwrap_or(0)
+}
+
 fn read_json(path: &Path) -> Result<serde_json::Value> {
     let text = std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
     serde_json::from_str(&text).with_context(|| format!("{} is not JSON", path.display()))
@@ -179,7 +184,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         Section::new("Period search")
             .with_paragraph(&format!(
                 "Multi-harmonic periodogram (8 harmonics) of {} points of one season's photometry taken at {HOME_SITE} and carried to BJD_TDB on the way in. Top peak: P = {p_found:.6} ± {p_err:.6} d (truth {TRUE_PERIOD_D:.8} d).",
-                std::fs::read_to_string(data.join(PHOTOMETRY_FILE)).map(|t| t.lines().count().saturating_sub(1)).unwrap_or(0)
+                data_rows(&data.join(PHOTOMETRY_FILE))
             ))
             .with_figure(figure(&o("kx_periodogram.svg"), "Periodogram of KX Inventa with the top peaks and the alias positions of the highest one.")?)
             .with_figure(figure(&o("kx_folded.svg"), "The season folded at the period found (phase 0 at the reference epoch), with the binned curve and the residuals.")?),
@@ -197,7 +202,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     }
     let combined = o("kx_all_minima.csv");
     let added = combine_timings(&data.join(MINIMA_FILE), &[&o("kx_primary_minima_2025.csv"), &o("kx_secondary_minima_2025.csv")], &combined)?;
-    println!("   {added} new minima appended to the {} historical timings → {}", std::fs::read_to_string(data.join(MINIMA_FILE))?.lines().count() - 1, combined.display());
+    println!("   {added} new minima appended to the {} historical timings → {}", data_rows(&data.join(MINIMA_FILE)), combined.display());
 
     // 3. O–C over thirty years in mixed clocks: period change and a third body.
     println!("\n== 3. O–C: 30 years of timings in mixed clocks from three sites");
@@ -357,8 +362,8 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         Section::new("Binary pulsar Veyra X-2")
             .with_paragraph(&format!(
                 "{} radio arrival times over 500 days at two frequencies, barycentred on the way in, fitted for ν, ν̇, dispersion measure and two orbital elements; the fitted model then folds {} X-ray photons into a profile.",
-                std::fs::read_to_string(data.join(PULSAR_TOAS_FILE))?.lines().count() - 1,
-                std::fs::read_to_string(data.join(PULSAR_EVENTS_FILE))?.lines().count() - 1
+                data_rows(&data.join(PULSAR_TOAS_FILE)),
+                data_rows(&data.join(PULSAR_EVENTS_FILE))
             ))
             .with_figure(figure(&o("veyra_residuals.svg"), "Timing residuals against time and orbital phase.")?)
             .with_figure(figure(&o("veyra_profile.svg"), "X-ray pulse profile (two cycles) with the Fourier template.")?),
@@ -376,7 +381,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         (PULSAR_DESCRIPTION_FILE, "site and source of Veyra X-2"),
         (PULSAR_START_MODEL_FILE, "starting timing model"),
     ] {
-        let rows = std::fs::read_to_string(data.join(name)).map(|t| t.lines().count().saturating_sub(1)).unwrap_or(0);
+        let rows = data_rows(&data.join(name));
         inputs = inputs.with_row(&[&d(name), &rows.to_string(), what]);
     }
     let mut corrections_section = Section::new("Inputs and the corrections applied").with_table(inputs);

@@ -110,7 +110,7 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     let mut kept = 0;
     while kept < 6_000 {
         let t = start_s + 8_000.0 * rng.uniform();
-        let phase = model.phase_cycles(&ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: None, instrument: "default".into(), observer: None });
+        let phase = crate::pulsar::profile::event_phase_cycles(&model, t, "default");
         let x = std::f64::consts::TAU * phase;
         let density = 0.65 + 0.35 * (1.0 + 0.8 * x.cos() + 0.4 * (2.0 * x - 0.6).cos());
         if rng.uniform() * 1.77 < density {
