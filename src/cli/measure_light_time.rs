@@ -8,12 +8,12 @@ use anyhow::{Context, Result, bail};
 use clap::Args as ClapArgs;
 use polars::prelude::{Column, DataFrame};
 
-use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint};
+use super::timing_table::TimingTableArgs;
+use crate::arrival::ReferencePoint;
+use crate::arrival::table::ClockSpec;
 use crate::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time};
 use crate::oc::ReferenceEphemeris;
-use crate::table::{Provenance, float_column, read_table, text_column, write_table};
+use crate::table::{Provenance, float_column, text_column, write_table};
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star, times written at the telescope, never corrected):
@@ -35,30 +35,9 @@ const EXAMPLE: &str = "Example (invented star, times written at the telescope, n
 #[derive(Debug, ClapArgs)]
 #[command(after_help = EXAMPLE)]
 pub struct Args {
-    /// Timing table (.csv, .tsv or .parquet).
-    #[arg(long, value_name = "FILE")]
-    pub input: PathBuf,
-    /// Column holding the event times.
-    #[arg(long, value_name = "COLUMN")]
-    pub time_column: String,
-    /// Clock of all times: an observer's clock such as jd_utc, mjd_tt, iso_utc.
-    #[arg(long, value_name = "LABEL")]
-    pub clock: Option<String>,
-    /// Column holding a clock label per row.
-    #[arg(long, value_name = "COLUMN")]
-    pub clock_column: Option<String>,
-    /// Column holding the 1σ error of each time, in days.
-    #[arg(long, value_name = "COLUMN")]
-    pub error_column: String,
-    /// Column holding the event kind (primary, secondary, maximum); default: all primary.
-    #[arg(long, value_name = "COLUMN")]
-    pub kind_column: Option<String>,
+    /// The timings: times in an observer's clock such as jd_utc, mjd_tt, iso_utc.
     #[command(flatten)]
-    pub observer: ObserverArgs,
-    #[command(flatten)]
-    pub source: SourceArgs,
-    #[command(flatten)]
-    pub reference_data: ReferenceDataArgs,
+    pub table: TimingTableArgs,
     /// Epoch of a primary event (cycle 0) as seen by the observer, JD on the TDB scale
     /// (an observed time of minimum is good enough: the fit refines it).
     #[arg(long, value_name = "JD")]
@@ -88,8 +67,8 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    let clock = super::common::clock_choice(&a.clock, &a.clock_column, "jd_utc")?;
-    if let Some(spec) = &clock
+    let table = a.table.read("jd_utc", &[])?;
+    if let Some(spec) = &table.clock
         && spec.reference != ReferencePoint::Observer
     {
         bail!(
@@ -97,18 +76,9 @@ pub fn run(a: Args) -> Result<()> {
              heliocentric and barycentric times have already had the light-time term removed"
         );
     }
-    let file = a.input.display().to_string();
-    let description = a.observer.description()?;
-    let source = a.source.load(description.as_ref())?;
-    let observer = a.observer.observer_spec(description.as_ref())?;
-    let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
-    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
-    let mut text_columns = request.text_columns();
-    text_columns.extend(a.kind_column.as_deref());
-    let df = read_table(&a.input, &text_columns)?;
-    if let Some(column) = &a.clock_column {
-        let labels = text_column(&df, &file, column)?;
+    let (file, reference, rows) = (&table.file, &table.reference, &table.rows);
+    if let Some(column) = &a.table.clock_column {
+        let labels = text_column(&table.df, file, column)?;
         for (i, label) in labels.iter().enumerate() {
             let text = label.as_deref().unwrap_or("");
             if let Ok(spec) = ClockSpec::parse_label(text)
@@ -121,11 +91,9 @@ pub fn run(a: Args) -> Result<()> {
             }
         }
     }
-    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
-    let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
-    let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
-    let roemer = float_column(&corrected, &file, "roemer_delay_s")?;
-    let rows = super::common::timing_kinds_and_errors(&df, &file, &a.error_column, a.kind_column.as_deref())?;
+    let jd1 = float_column(&table.corrected, file, "bjd_tdb_jd1")?;
+    let jd2 = float_column(&table.corrected, file, "bjd_tdb_jd2")?;
+    let roemer = float_column(&table.corrected, file, "roemer_delay_s")?;
     // Everything but the Rømer term: BJD_TDB minus the Rømer delay. The delay is r·n/c with
     // the defined c; r·n in au follows with the defined au (exact constants).
     let timings: Vec<UncorrectedTiming> = rows
@@ -157,7 +125,7 @@ pub fn run(a: Args) -> Result<()> {
         .with("stage", "measure-light-time")
         .with("input", file.clone())
         .with("ephemeris", reference.ephemeris.name());
-    write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+    write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
     let deviation_sigma = (m.light_time_per_au_s - LIGHT_TIME_PER_AU_S) / m.light_time_per_au_sigma_scaled_s;
     let summary = serde_json::json!({
         "input": file, "output": a.output.display().to_string(), "timings": m.n,
@@ -179,7 +147,7 @@ pub fn run(a: Args) -> Result<()> {
     });
     let text = serde_json::to_string_pretty(&summary)?;
     if let Some(path) = &a.summary {
-        super::common::write_text(path, &text, &[a.input.as_path()])?;
+        super::common::write_text(path, &text, &[a.table.input.as_path()])?;
     }
     for w in &m.warnings {
         eprintln!("warning: {w}");

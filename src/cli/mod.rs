@@ -24,6 +24,7 @@ pub mod shell_completions;
 pub mod survey_batch;
 pub mod time_events;
 pub mod timing_residuals;
+pub mod timing_table;
 
 use clap::{Parser, Subcommand};
 

@@ -8,14 +8,12 @@ use anyhow::{Context, Result, bail};
 use clap::Args as ClapArgs;
 use polars::prelude::{Column, DataFrame};
 
-use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
+use super::timing_table::TimingTableArgs;
 use crate::oc::{
     BootstrapOptions, CycleOptions, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
     compare_nested, fit_model, information, minimum_companion_mass_msun,
 };
-use crate::table::{Provenance, float_column, read_table, text_column, write_table};
+use crate::table::{Provenance, float_column, text_column, write_table};
 use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
@@ -37,33 +35,11 @@ const EXAMPLE: &str = "Example (invented star):
 #[derive(Debug, ClapArgs)]
 #[command(after_help = EXAMPLE)]
 pub struct Args {
-    /// Timing table (.csv, .tsv or .parquet).
-    #[arg(long, value_name = "FILE")]
-    pub input: PathBuf,
-    /// Column holding the event times.
-    #[arg(long, value_name = "COLUMN")]
-    pub time_column: String,
-    /// Clock of all times (jd_utc, hjd_utc, bjd_tdb, mjd_tt, …).
-    #[arg(long, value_name = "LABEL")]
-    pub clock: Option<String>,
-    /// Column holding a clock label per row.
-    #[arg(long, value_name = "COLUMN")]
-    pub clock_column: Option<String>,
-    /// Column holding the 1σ error of each time, in days.
-    #[arg(long, value_name = "COLUMN")]
-    pub error_column: String,
-    /// Column holding the event kind (primary, secondary, maximum); default: all primary.
-    #[arg(long, value_name = "COLUMN")]
-    pub kind_column: Option<String>,
+    #[command(flatten)]
+    pub table: TimingTableArgs,
     /// Column naming the source/observer of each timing (for --rescale-per-source).
     #[arg(long, value_name = "COLUMN")]
     pub origin_column: Option<String>,
-    #[command(flatten)]
-    pub observer: ObserverArgs,
-    #[command(flatten)]
-    pub source: SourceArgs,
-    #[command(flatten)]
-    pub reference_data: ReferenceDataArgs,
     /// Reference epoch of a primary event (cycle 0), BJD_TDB as a Julian Date.
     #[arg(long, value_name = "JD")]
     pub epoch_bjd_tdb: String,
@@ -126,7 +102,6 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    let clock = super::common::clock_choice(&a.clock, &a.clock_column, "hjd_utc")?;
     let models: Vec<ModelKind> = a
         .models
         .split(',')
@@ -154,20 +129,12 @@ pub fn run(a: Args) -> Result<()> {
             Some((v[0], v[1]))
         }
     };
-    let description = a.observer.description()?;
-    let source = a.source.load(description.as_ref())?;
-    let observer = a.observer.observer_spec(description.as_ref())?;
-    let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
-    let file = a.input.display().to_string();
-    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
-    let mut text_columns = request.text_columns();
-    text_columns.extend([&a.kind_column, &a.origin_column].into_iter().flatten().map(String::as_str));
-    let df = read_table(&a.input, &text_columns)?;
-    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
-    let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
-    let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
-    let rows = super::common::timing_kinds_and_errors(&df, &file, &a.error_column, a.kind_column.as_deref())?;
+    let extra: Vec<&str> = a.origin_column.as_deref().into_iter().collect();
+    let table = a.table.read("hjd_utc", &extra)?;
+    let (file, df, source, reference) = (&table.file, &table.df, &table.source, &table.reference);
+    let jd1 = float_column(&table.corrected, file, "bjd_tdb_jd1")?;
+    let jd2 = float_column(&table.corrected, file, "bjd_tdb_jd2")?;
+    let rows = &table.rows;
     let origins = match &a.origin_column {
         Some(c) => Some(text_column(&df, &file, c)?),
         None => None,
@@ -268,17 +235,17 @@ pub fn run(a: Args) -> Result<()> {
         .with("ephemeris", reference.ephemeris.name())
         .with("reference_epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
         .with("reference_period_d", a.period_d.to_string());
-    write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+    write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
     let by_bic = |f: &&crate::oc::ModelFit| information(f).bic;
     let title = format!("O − C of {}", source.name);
     if let Some(path) = &a.figure {
-        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
+        crate::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = fits.iter().min_by(|x, y| by_bic(x).total_cmp(&by_bic(y))).context("no model was fitted")?;
         let (e1, e2) = epoch.jd_two_part();
         crate::plot::write_figure(&crate::plot::timing::oc_diagram(&title, &series, best, e1 + e2), path)?;
     }
     if let Some(path) = &a.orbit_figure {
-        crate::table::write::refuse_overwriting_inputs(path, &[a.input.as_path()])?;
+        crate::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = fits
             .iter()
             .filter(|f| f.kind.has_light_time())
@@ -296,7 +263,7 @@ pub fn run(a: Args) -> Result<()> {
     });
     let text = serde_json::to_string_pretty(&summary)?;
     if let Some(path) = &a.summary {
-        super::common::write_text(path, &text, &[a.input.as_path()])?;
+        super::common::write_text(path, &text, &[a.table.input.as_path()])?;
     }
     for w in &series.warnings {
         eprintln!("warning: {w}");
