@@ -7,8 +7,8 @@ use std::time::Instant as Clock;
 
 use skyclock::arrival::interpolated::{DEFAULT_NODE_SPACING_S, InterpolatedCorrector};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
-use skyclock::demo::random::SeededRandom;
 use skyclock::ephemeris::embedded;
+use skyclock::fit::random::SeededRng;
 use skyclock::observer::{EarthOrientation, Observer, Site};
 use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeScale};
 
@@ -26,7 +26,7 @@ fn main() {
     let observer = Observer::Site(site);
     let zero = Instant::from_mjd_parts(TimeScale::Tt, 60_370, 0.0);
     let span_s = 86_400.0 * 2.0;
-    let mut rng = SeededRandom::new(1);
+    let mut rng = SeededRng::new(1);
     let mut times: Vec<f64> = (0..events).map(|_| rng.uniform() * span_s).collect();
     times.sort_by(f64::total_cmp);
     let original = times.clone();
@@ -50,7 +50,10 @@ fn main() {
     }
     let exact_s = start.elapsed().as_secs_f64();
     let exact_rate = reference_n as f64 / exact_s;
-    println!("arrival_events: {events} topocentric events over 2 days, embedded DE440 pack, {} threads", rayon::current_num_threads());
+    println!(
+        "arrival_events: {events} topocentric events over 2 days, embedded DE440 pack, {} threads",
+        rayon::current_num_threads()
+    );
     println!("  interpolated: {fast_s:.3} s  → {fast_rate:.3e} events/s");
     println!("  exact (reference, {reference_n} events): {exact_rate:.3e} events/s");
     println!("  ratio interpolated/exact: {:.0}", fast_rate / exact_rate);

@@ -16,31 +16,19 @@ use skyclock::time::{Instant, TimeScale};
 const N: usize = 10_000;
 
 fn instants_in_order(start_mjd: i64, days: f64) -> Vec<Instant> {
-    (0..N)
-        .map(|i| {
-            Instant::from_mjd_parts(
-                TimeScale::Tdb,
-                start_mjd,
-                days * 86_400.0 * i as f64 / N as f64,
-            )
-        })
-        .collect()
+    (0..N).map(|i| Instant::from_mjd_parts(TimeScale::Tdb, start_mjd, days * 86_400.0 * i as f64 / N as f64)).collect()
 }
 
 fn bench(c: &mut Criterion) {
     let pack = embedded();
-    let kernel = SpkKernel::open(
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/de440_slice_le.bsp"),
-    )
-    .expect("sliced kernel");
+    let kernel = SpkKernel::open(PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/de440_slice_le.bsp"))
+        .expect("sliced kernel");
     let ordered = instants_in_order(60_305, 30.0);
     // Pseudo-random instants over the whole span of the pack (fixed LCG seed).
     let mut state = 0x2545_f491_4f6c_dd1du64;
     let random: Vec<Instant> = (0..N)
         .map(|_| {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            state = state.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1_442_695_040_888_963_407);
             let day = 33_282 + ((state >> 33) % 55_152) as i64;
             let sec = ((state >> 11) % 86_400_000) as f64 / 1000.0;
             Instant::from_mjd_parts(TimeScale::Tdb, day, sec)

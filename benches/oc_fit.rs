@@ -6,7 +6,10 @@
 
 use skyclock::fit::SeededRng;
 use skyclock::oc::models::light_time_d;
-use skyclock::oc::{BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, bootstrap, fit_model};
+use skyclock::oc::{
+    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
+    bootstrap, fit_model,
+};
 use skyclock::time::{Instant, TimeScale};
 use std::time::Instant as Clock;
 
@@ -26,7 +29,13 @@ fn main() {
         }
         let sigma = 0.0002 + 0.0008 * rng.uniform();
         let t = e * PERIOD_D + 1.5e-10 * e * e + light_time_d(&LTTE, e * PERIOD_D) + sigma * rng.normal();
-        timings.push(Timing { bjd_tdb: epoch.add_seconds(t * 86_400.0), error_d: sigma, kind: EventKind::Primary, source: None, row: timings.len() + 1 });
+        timings.push(Timing {
+            bjd_tdb: epoch.add_seconds(t * 86_400.0),
+            error_d: sigma,
+            kind: EventKind::Primary,
+            source: None,
+            row: timings.len() + 1,
+        });
     }
     let reference = ReferenceEphemeris { epoch, period_d: PERIOD_D, period_sigma_d: 1e-7 };
     let series = assign_cycles(&timings, &reference, &CycleOptions::default()).expect("cycles");
@@ -46,23 +55,66 @@ fn main() {
     if std::env::var("OC_FIT_DEBUG").is_ok() {
         let model = skyclock::oc::OcModel { kind: fit.kind, series: &series, weights: fit.weights.clone() };
         let t1 = Clock::now();
-        let lm = skyclock::fit::levenberg_marquardt(&model, &fit.params, &skyclock::fit::LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5, covariance: true }).unwrap();
-        eprintln!("  LM from the solution: {} iterations, converged {}, {:.3} s", lm.iterations, lm.converged, t1.elapsed().as_secs_f64());
+        let lm = skyclock::fit::levenberg_marquardt(
+            &model,
+            &fit.params,
+            &skyclock::fit::LevenbergOptions {
+                max_iterations: 300,
+                relative_tolerance: 1e-10,
+                initial_damping: 1e-3,
+                absolute_tolerance: 1e-5,
+                covariance: true,
+            },
+        )
+        .unwrap();
+        eprintln!(
+            "  LM from the solution: {} iterations, converged {}, {:.3} s",
+            lm.iterations,
+            lm.converged,
+            t1.elapsed().as_secs_f64()
+        );
         let mut rng = SeededRng::new(5);
         let idx: Vec<usize> = (0..series.len()).map(|_| rng.below(series.len())).collect();
         let sub = series.subset(&idx);
-        let model = skyclock::oc::OcModel { kind: fit.kind, series: &sub, weights: idx.iter().map(|&i| fit.weights[i]).collect() };
+        let model = skyclock::oc::OcModel {
+            kind: fit.kind,
+            series: &sub,
+            weights: idx.iter().map(|&i| fit.weights[i]).collect(),
+        };
         let t1 = Clock::now();
-        let lm = skyclock::fit::levenberg_marquardt(&model, &fit.params, &skyclock::fit::LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5, covariance: true }).unwrap();
-        eprintln!("  LM on a resample: {} iterations, converged {}, {:.3} s", lm.iterations, lm.converged, t1.elapsed().as_secs_f64());
+        let lm = skyclock::fit::levenberg_marquardt(
+            &model,
+            &fit.params,
+            &skyclock::fit::LevenbergOptions {
+                max_iterations: 300,
+                relative_tolerance: 1e-10,
+                initial_damping: 1e-3,
+                absolute_tolerance: 1e-5,
+                covariance: true,
+            },
+        )
+        .unwrap();
+        eprintln!(
+            "  LM on a resample: {} iterations, converged {}, {:.3} s",
+            lm.iterations,
+            lm.converged,
+            t1.elapsed().as_secs_f64()
+        );
     }
     let b = bootstrap(&series, &fit, &boot).expect("light-time bootstrap");
     let t_total = t0.elapsed().as_secs_f64();
 
     println!("O–C fit, 2000 timings, {resamples} bootstrap resamples (OC_FIT_RESAMPLES), {threads} rayon threads");
     println!("  reference: quadratic fit + bootstrap        {t_quad:.3} s ({} failed resamples)", qb.failed);
-    println!("  quadratic + light time: global fit {t_fit:.2} s, with bootstrap {t_total:.2} s ({} failed resamples)", b.failed);
-    println!("  ratio (light-time / quadratic): {:.0}x; target ≤ 10 s total: {}", t_total / t_quad, if t_total <= 10.0 { "met" } else { "NOT met" });
+    println!(
+        "  quadratic + light time: global fit {t_fit:.2} s, with bootstrap {t_total:.2} s ({} failed resamples)",
+        b.failed
+    );
+    println!(
+        "  ratio (light-time / quadratic): {:.0}x; target ≤ 10 s total: {}",
+        t_total / t_quad,
+        if t_total <= 10.0 { "met" } else { "NOT met" }
+    );
     let p3 = fit.derived_value("companion_period_d").unwrap();
     println!("  recovered P3 = {:.0} ± {:.0} d (truth 4200 d)", p3.0, p3.1);
 }

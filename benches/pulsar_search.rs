@@ -12,7 +12,8 @@ fn main() {
     let mut rng = SeededRng::new(3);
     let n = 1_000_000;
     let times: Vec<f64> = (0..n).map(|_| rng.uniform() * 1e6 - 5e5).collect();
-    let grid = SpinGrid { start_freq_hz: 11.0, step_freq_hz: 2.5e-7, freq_count: 10_000, freq_derivs_hz_per_s: vec![0.0] };
+    let grid =
+        SpinGrid { start_freq_hz: 11.0, step_freq_hz: 2.5e-7, freq_count: 10_000, freq_derivs_hz_per_s: vec![0.0] };
     let t0 = Instant::now();
     let fast = z2_grid(&times, None, 2, &grid).expect("fast grid");
     let t_fast = t0.elapsed().as_secs_f64();
@@ -25,5 +26,9 @@ fn main() {
     println!("pulsar Z²₂ search, 1e6 photons × 1e4 frequencies, {threads} rayon threads");
     println!("  fast recurrence kernel: {t_fast:.2} s");
     println!("  naive sin/cos loop: {t_naive_slice:.2} s for 20 frequencies, scaled to 1e4: {t_naive:.1} s");
-    println!("  ratio naive/fast: {:.0}x (single-thread equivalent {:.0}x); max |ΔZ²| on the slice {max_diff:.2e}", t_naive / t_fast, t_naive / t_fast / threads as f64);
+    println!(
+        "  ratio naive/fast: {:.0}x (single-thread equivalent {:.0}x); max |ΔZ²| on the slice {max_diff:.2e}",
+        t_naive / t_fast,
+        t_naive / t_fast / threads as f64
+    );
 }

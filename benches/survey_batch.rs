@@ -46,17 +46,26 @@ fn plan(algorithm: Algorithm, baseline_d: f64) -> SearchPlan {
 }
 
 fn main() {
-    println!("survey-batch benchmark, {} rayon threads, {CURVES} curves x {POINTS} points", rayon::current_num_threads());
-    let series: Vec<Series> = (0..CURVES as u64).map(|k| {
-        let (t, y) = curve(k + 1);
-        Series::from_arrays(&t, &y, None).expect("valid invented curve")
-    }).collect();
+    println!(
+        "survey-batch benchmark, {} rayon threads, {CURVES} curves x {POINTS} points",
+        rayon::current_num_threads()
+    );
+    let series: Vec<Series> = (0..CURVES as u64)
+        .map(|k| {
+            let (t, y) = curve(k + 1);
+            Series::from_arrays(&t, &y, None).expect("valid invented curve")
+        })
+        .collect();
     let run = |alg: Algorithm, n: usize| {
         let t0 = Instant::now();
-        let found: usize = series[..n].par_iter().map(|s| search_series(s, &plan(alg, s.baseline_d())).map_or(0, |o| o.peaks.len())).sum();
+        let found: usize = series[..n]
+            .par_iter()
+            .map(|s| search_series(s, &plan(alg, s.baseline_d())).map_or(0, |o| o.peaks.len()))
+            .sum();
         (t0.elapsed().as_secs_f64(), found)
     };
-    let m = search_series(&series[0], &plan(Algorithm::Fast, series[0].baseline_d())).expect("search").spectrum.grid.len;
+    let m =
+        search_series(&series[0], &plan(Algorithm::Fast, series[0].baseline_d())).expect("search").spectrum.grid.len;
     println!("grid: {m} frequencies");
     // Kernel only, one thread: the current fast sums against the previous kernel.
     {
@@ -74,30 +83,60 @@ fn main() {
             let t_new = t0.elapsed().as_secs_f64();
             let t0 = Instant::now();
             for _ in 0..reps {
-                std::hint::black_box(previous_fast_kernel::fast_sums(s.time_d(), &w, &h, &grid, &previous_fast_kernel::PreviousOptions::default()));
+                std::hint::black_box(previous_fast_kernel::fast_sums(
+                    s.time_d(),
+                    &w,
+                    &h,
+                    &grid,
+                    &previous_fast_kernel::PreviousOptions::default(),
+                ));
             }
             (t_new, t0.elapsed().as_secs_f64())
         });
         let a = fast_sums(s.time_d(), &w, &h, &grid, &FastOptions::default());
-        let b = previous_fast_kernel::fast_sums(s.time_d(), &w, &h, &grid, &previous_fast_kernel::PreviousOptions::default());
+        let b = previous_fast_kernel::fast_sums(
+            s.time_d(),
+            &w,
+            &h,
+            &grid,
+            &previous_fast_kernel::PreviousOptions::default(),
+        );
         let e = exact_sums(s.time_d(), &w, &h, &grid);
-        let worst = |x: &TrigSums| (0..grid.len).map(|k| (x.c[k] - e.c[k]).abs().max((x.yc[k] - e.yc[k]).abs()).max((x.s2[k] - e.s2[k]).abs())).fold(0.0f64, f64::max);
+        let worst = |x: &TrigSums| {
+            (0..grid.len)
+                .map(|k| (x.c[k] - e.c[k]).abs().max((x.yc[k] - e.yc[k]).abs()).max((x.s2[k] - e.s2[k]).abs()))
+                .fold(0.0f64, f64::max)
+        };
         println!(
             "sums only, one thread, {POINTS} points x {} frequencies: current {:.3} ms, previous kernel {:.3} ms -> {:.2}x faster; max |error| vs exact: current {:.1e}, previous {:.1e}",
-            grid.len, 1e3 * t_new / reps as f64, 1e3 * t_old / reps as f64, t_old / t_new, worst(&a), worst(&b)
+            grid.len,
+            1e3 * t_new / reps as f64,
+            1e3 * t_old / reps as f64,
+            t_old / t_new,
+            worst(&a),
+            worst(&b)
         );
     }
     let (t_fast, n) = run(Algorithm::Fast, CURVES);
     let rate = CURVES as f64 / t_fast;
-    println!("fast kernel, in memory: {t_fast:.3} s -> {rate:.0} curves/s ({n} peaks) [target >= 1000/s: {}]", if rate >= 1000.0 { "met" } else { "missed" });
+    println!(
+        "fast kernel, in memory: {t_fast:.3} s -> {rate:.0} curves/s ({n} peaks) [target >= 1000/s: {}]",
+        if rate >= 1000.0 { "met" } else { "missed" }
+    );
     let sub = 100;
     let (t_exact, _) = run(Algorithm::Exact, sub);
     let exact_rate = sub as f64 / t_exact;
-    println!("reference exact kernel (first {sub} curves): {exact_rate:.0} curves/s -> fast is {:.1}x", rate / exact_rate);
+    println!(
+        "reference exact kernel (first {sub} curves): {exact_rate:.0} curves/s -> fast is {:.1}x",
+        rate / exact_rate
+    );
     let pool = rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("pool");
     let (t_one, _) = pool.install(|| run(Algorithm::Fast, sub));
     let one_rate = sub as f64 / t_one;
-    println!("reference one thread (first {sub} curves): {one_rate:.0} curves/s -> parallel speed-up {:.2}x", rate / one_rate);
+    println!(
+        "reference one thread (first {sub} curves): {one_rate:.0} curves/s -> parallel speed-up {:.2}x",
+        rate / one_rate
+    );
 
     let t0 = Instant::now();
     let k = 20;
@@ -118,22 +157,43 @@ fn main() {
         }
     }
     std::fs::write(&path, text).expect("write temporary CSV");
-    let columns = BatchColumns { source: "source".into(), time: "bjd".into(), value: "mag".into(), error: None, band: None, ra_deg: None, dec_deg: None };
+    let columns = BatchColumns {
+        source: "source".into(),
+        time: "bjd".into(),
+        value: "mag".into(),
+        error: None,
+        band: None,
+        ra_deg: None,
+        dec_deg: None,
+    };
     let options = BatchOptions { clock: ClockSpec::parse_label("bjd_tdb").expect("label"), batch_points: 200_000 };
     let p = plan(Algorithm::Fast, 100.0);
     let leap = LeapSecondTable::builtin();
     let t0 = Instant::now();
     let mut rows = open_rows(&path, &columns, 250_000).expect("open");
     let mut count = 0usize;
-    let summary = run_batch(rows.as_mut(), "bench.csv", &columns, &options, &p, &leap, &mut |r| {
-        count += r.len();
-        Ok(())
-    }, &|_, _| {})
+    let summary = run_batch(
+        rows.as_mut(),
+        "bench.csv",
+        &columns,
+        &options,
+        &p,
+        &leap,
+        &mut |r| {
+            count += r.len();
+            Ok(())
+        },
+        &|_, _| {},
+    )
     .expect("batch");
     let t_stream = t0.elapsed().as_secs_f64();
     let _ = std::fs::remove_file(&path);
     println!(
         "streamed from CSV ({} rows): {t_stream:.3} s -> {:.0} curves/s ({} searched, {} skipped); reading+grouping overhead vs in-memory {:.2}x",
-        summary.rows, count as f64 / t_stream, summary.searched, summary.skipped, t_stream / t_fast
+        summary.rows,
+        count as f64 / t_stream,
+        summary.searched,
+        summary.skipped,
+        t_stream / t_fast
     );
 }

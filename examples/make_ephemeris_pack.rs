@@ -108,27 +108,15 @@ fn errors(pack: &EmbeddedEphemeris, body: Body, truth: &Truth) -> Result<(f64, f
     let (mut ep, mut ev) = (0.0f64, 0.0f64);
     for (off, s) in truth.offsets_s.iter().zip(&truth.states) {
         let p = pack.state(body, &instant_at(*off))?;
-        let dp = (0..3)
-            .map(|c| (p.position_km[c] - s.position_km[c]).powi(2))
-            .sum::<f64>()
-            .sqrt();
-        let dv = (0..3)
-            .map(|c| (p.velocity_km_per_s[c] - s.velocity_km_per_s[c]).powi(2))
-            .sum::<f64>()
-            .sqrt();
+        let dp = (0..3).map(|c| (p.position_km[c] - s.position_km[c]).powi(2)).sum::<f64>().sqrt();
+        let dv = (0..3).map(|c| (p.velocity_km_per_s[c] - s.velocity_km_per_s[c]).powi(2)).sum::<f64>().sqrt();
         ep = ep.max(dp);
         ev = ev.max(dv);
     }
     Ok((ep, ev))
 }
 
-fn series(
-    plan: &BodyPlan,
-    interval_days: i64,
-    intervals: usize,
-    n: usize,
-    data: Vec<f64>,
-) -> BodySeries {
+fn series(plan: &BodyPlan, interval_days: i64, intervals: usize, n: usize, data: Vec<f64>) -> BodySeries {
     BodySeries {
         naif_id: plan.body.naif_id(),
         start_seconds: start_seconds(),
@@ -147,62 +135,31 @@ fn one_body_pack(s: &BodySeries) -> Result<(usize, EmbeddedEphemeris)> {
 }
 
 fn main() -> Result<()> {
-    let mut kernel_path: Option<PathBuf> =
-        std::env::var_os("SKYCLOCK_DE440_PATH").map(PathBuf::from);
+    let mut kernel_path: Option<PathBuf> = std::env::var_os("SKYCLOCK_DE440_PATH").map(PathBuf::from);
     let mut out = PathBuf::from("src/ephemeris/data/de440_1950_2100.skypack");
     let mut slice_dir: Option<PathBuf> = None;
     let mut args = std::env::args().skip(1);
     while let Some(a) = args.next() {
         match a.as_str() {
             "--kernel" => kernel_path = args.next().map(PathBuf::from),
-            "--out" => {
-                out = args
-                    .next()
-                    .map(PathBuf::from)
-                    .context("--out needs a path")?
-            }
+            "--out" => out = args.next().map(PathBuf::from).context("--out needs a path")?,
             "--slice-dir" => slice_dir = args.next().map(PathBuf::from),
             other => bail!("unknown argument {other:?}; see the doc comment of this program"),
         }
     }
-    let kernel_path =
-        kernel_path.context("give --kernel /path/to/de440.bsp (or SKYCLOCK_DE440_PATH)")?;
+    let kernel_path = kernel_path.context("give --kernel /path/to/de440.bsp (or SKYCLOCK_DE440_PATH)")?;
     let kernel = SpkKernel::open(&kernel_path)?;
-    eprintln!(
-        "read {} ({} segments)",
-        kernel.name(),
-        kernel.segments().len()
-    );
+    eprintln!("read {} ({} segments)", kernel.name(), kernel.segments().len());
 
     if let Some(dir) = &slice_dir {
         write_slices(&kernel, dir)?;
     }
 
     let plans = [
-        BodyPlan {
-            body: Body::Earth,
-            tolerance_km: 0.002,
-            quantum_km: 1e-5,
-            interval_days: &[8, 16, 32],
-        },
-        BodyPlan {
-            body: Body::Sun,
-            tolerance_km: 0.002,
-            quantum_km: 1e-5,
-            interval_days: &[16, 32, 64],
-        },
-        BodyPlan {
-            body: Body::Jupiter,
-            tolerance_km: 0.1,
-            quantum_km: 1e-3,
-            interval_days: &[32, 64, 128],
-        },
-        BodyPlan {
-            body: Body::Saturn,
-            tolerance_km: 0.1,
-            quantum_km: 1e-3,
-            interval_days: &[32, 64, 128],
-        },
+        BodyPlan { body: Body::Earth, tolerance_km: 0.002, quantum_km: 1e-5, interval_days: &[8, 16, 32] },
+        BodyPlan { body: Body::Sun, tolerance_km: 0.002, quantum_km: 1e-5, interval_days: &[16, 32, 64] },
+        BodyPlan { body: Body::Jupiter, tolerance_km: 0.1, quantum_km: 1e-3, interval_days: &[32, 64, 128] },
+        BodyPlan { body: Body::Saturn, tolerance_km: 0.1, quantum_km: 1e-3, interval_days: &[32, 64, 128] },
     ];
     let mut chosen = Vec::new();
     let mut report = Vec::new();
@@ -229,8 +186,7 @@ fn main() -> Result<()> {
                 }
             }
         }
-        let (size, s, ep, ev) =
-            best.with_context(|| format!("no candidate met the tolerance for {}", plan.body))?;
+        let (size, s, ep, ev) = best.with_context(|| format!("no candidate met the tolerance for {}", plan.body))?;
         report.push(format!(
             "{}: {} d intervals, {} coefficients, quantum {} m, {} bytes, max |Δr| {:.3} m, max |Δv| {:.4} mm/s",
             plan.body.name(),
@@ -292,12 +248,7 @@ fn write_slices(kernel: &SpkKernel, dir: &std::path::Path) -> Result<()> {
             count * dir_info.record_words,
         )?;
         let mut w2 = words.clone();
-        w2.extend_from_slice(&[
-            start,
-            dir_info.interval_seconds,
-            dir_info.record_words as f64,
-            count as f64,
-        ]);
+        w2.extend_from_slice(&[start, dir_info.interval_seconds, dir_info.record_words as f64, count as f64]);
         let n = dir_info.coefficients;
         let mut w3 = Vec::new();
         for r in words.chunks_exact(dir_info.record_words) {
@@ -308,12 +259,7 @@ fn write_slices(kernel: &SpkKernel, dir: &std::path::Path) -> Result<()> {
                 w3.extend(d.iter().map(|v| v / radius));
             }
         }
-        w3.extend_from_slice(&[
-            start,
-            dir_info.interval_seconds,
-            (2 + 6 * n) as f64,
-            count as f64,
-        ]);
+        w3.extend_from_slice(&[start, dir_info.interval_seconds, (2 + 6 * n) as f64, count as f64]);
         let base = SegmentData {
             name: format!("DE440 slice {target} wrt {center}"),
             start_seconds_tdb: start,
@@ -324,31 +270,12 @@ fn write_slices(kernel: &SpkKernel, dir: &std::path::Path) -> Result<()> {
             data_type: 2,
             words: w2,
         };
-        type3.push(SegmentData {
-            data_type: 3,
-            words: w3,
-            ..base.clone()
-        });
+        type3.push(SegmentData { data_type: 3, words: w3, ..base.clone() });
         type2.push(base);
     }
-    write_spk(
-        &dir.join("de440_slice_le.bsp"),
-        false,
-        "DE440 SLICE (SKYCLOCK)",
-        &type2,
-    )?;
-    write_spk(
-        &dir.join("de440_slice_be.bsp"),
-        true,
-        "DE440 SLICE (SKYCLOCK)",
-        &type2,
-    )?;
-    write_spk(
-        &dir.join("de440_slice_type3.bsp"),
-        false,
-        "DE440 SLICE TYPE 3 (SKYCLOCK)",
-        &type3,
-    )?;
+    write_spk(&dir.join("de440_slice_le.bsp"), false, "DE440 SLICE (SKYCLOCK)", &type2)?;
+    write_spk(&dir.join("de440_slice_be.bsp"), true, "DE440 SLICE (SKYCLOCK)", &type2)?;
+    write_spk(&dir.join("de440_slice_type3.bsp"), false, "DE440 SLICE TYPE 3 (SKYCLOCK)", &type3)?;
     eprintln!(
         "wrote slices in {}: TDB seconds past J2000 {} to {}",
         dir.display(),

@@ -43,22 +43,22 @@
 //! ```
 
 pub mod arrival;
-pub mod cli;
 pub mod config;
-pub mod demo;
-pub mod table;
+pub mod constants;
 pub mod ephemeris;
 pub mod observer;
+pub mod table;
 pub mod time;
 
 pub mod fit;
-pub mod periodogram;
 pub mod fold;
 pub mod frequencies;
-pub mod survey;
-pub mod plot;
-pub mod report;
-pub mod pulsar;
-pub mod oc;
-pub mod predict;
+pub mod light_curve;
 pub mod minima;
+pub mod oc;
+pub mod periodogram;
+pub mod plot;
+pub mod predict;
+pub mod pulsar;
+pub mod report;
+pub mod survey;

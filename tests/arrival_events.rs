@@ -4,12 +4,12 @@
 use skyclock::arrival::events::correct_event_file;
 use skyclock::arrival::interpolated::{DEFAULT_NODE_SPACING_S, InterpolatedCorrector};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
-use skyclock::demo::random::SeededRandom;
 use skyclock::ephemeris::embedded;
+use skyclock::fit::random::SeededRng;
 use skyclock::observer::{EarthOrientation, Observer, Site};
 use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeScale};
 
-fn corrector() -> BarycentricCorrector<'static> {
+fn corrector() -> BarycentricCorrector {
     BarycentricCorrector::new(
         embedded(),
         ScaleConverter::new(LeapSecondTable::builtin()),
@@ -25,7 +25,7 @@ fn interpolated_matches_exact_within_a_nanosecond() {
     let site = Observer::Site(Site::from_degrees("Invented Ridge", 149.066, -31.277, 1149.0).unwrap());
     let zero = Instant::from_mjd_parts(TimeScale::Tt, 59_000, 1234.5);
     let interp = InterpolatedCorrector::new(&exact, site.clone(), zero, DEFAULT_NODE_SPACING_S);
-    let mut rng = SeededRandom::new(99);
+    let mut rng = SeededRng::new(99);
     let original: Vec<f64> = (0..3_000).map(|_| rng.uniform() * 3.0 * 86_400.0 - 3_600.0).collect();
     let mut times = original.clone();
     interp.correct_in_place(&mut times).unwrap();

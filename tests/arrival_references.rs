@@ -80,10 +80,11 @@ fn reference_instant(r: &Row, prefix: &str) -> Instant {
 fn geocentric_bjd_matches_astropy_within_5_ns() {
     // astropy 8.0.2 light_travel_time(kind='barycentric', ephemeris=de440.bsp), geocentre.
     let rows = read("barycentric_geocentric.csv");
-    let earth = TabulatedEarth::from_rows(&rows);
+    let earth = skyclock::ephemeris::SharedEphemeris::from(TabulatedEarth::from_rows(&rows));
     let (mut worst_tdb, mut worst_bjd) = (0.0_f64, 0.0_f64);
     for r in &rows {
-        let c = BarycentricCorrector::new(&earth, converter(), EarthOrientation::Ignored, source(r), no_shapiro());
+        let c =
+            BarycentricCorrector::new(earth.clone(), converter(), EarthOrientation::Ignored, source(r), no_shapiro());
         let out = c.correct(&utc(r), &Observer::Geocentre, ReferencePoint::Observer).unwrap();
         worst_tdb = worst_tdb.max(out.observer_tdb.seconds_since(&reference_instant(r, "tdb")).abs());
         worst_bjd = worst_bjd.max(out.bjd_tdb.seconds_since(&reference_instant(r, "bjd_tdb")).abs());
@@ -127,8 +128,13 @@ fn legacy_hjd_is_repaired_to_astropy_bjd() {
 }
 
 fn site(r: &Row) -> Site {
-    Site::from_degrees(&r["site_name"], f(r, "site_east_longitude_deg"), f(r, "site_latitude_deg"), f(r, "site_height_m"))
-        .unwrap()
+    Site::from_degrees(
+        &r["site_name"],
+        f(r, "site_east_longitude_deg"),
+        f(r, "site_latitude_deg"),
+        f(r, "site_height_m"),
+    )
+    .unwrap()
 }
 
 fn orientation() -> EarthOrientation {
@@ -173,11 +179,11 @@ fn topocentric_bjd_matches_astropy_within_50_ns() {
     // vector (its documented `ltt_site_aberration_term_s`, ≤ 2.2 µs); the geometric delay
     // is the physical one, so we compare with astropy's ltt minus that term.
     let rows = read("barycentric_topocentric.csv");
-    let earth = TabulatedEarth::from_rows(&rows);
+    let earth = skyclock::ephemeris::SharedEphemeris::from(TabulatedEarth::from_rows(&rows));
     let eop = orientation();
     let (mut worst_tdb, mut worst_bjd, mut worst_astropy) = (0.0_f64, 0.0_f64, 0.0_f64);
     for r in &rows {
-        let c = BarycentricCorrector::new(&earth, converter(), eop.clone(), source(r), no_shapiro());
+        let c = BarycentricCorrector::new(earth.clone(), converter(), eop.clone(), source(r), no_shapiro());
         let out = c.correct(&utc(r), &Observer::Site(site(r)), ReferencePoint::Observer).unwrap();
         worst_tdb = worst_tdb.max(out.observer_tdb.seconds_since(&reference_instant(r, "tdb")).abs());
         let geometric_bjd = reference_instant(r, "tdb").add_seconds(f(r, "ltt_barycentric_geometric_s"));
@@ -194,10 +200,11 @@ fn topocentric_bjd_matches_astropy_within_50_ns() {
 fn topocentric_without_earth_orientation_stays_within_documented_bound() {
     // Without a UT1 table (UT1 = UTC, no polar motion) the error bound is 1.5 µs (docs).
     let rows = read("barycentric_topocentric.csv");
-    let earth = TabulatedEarth::from_rows(&rows);
+    let earth = skyclock::ephemeris::SharedEphemeris::from(TabulatedEarth::from_rows(&rows));
     let mut worst = 0.0_f64;
     for r in &rows {
-        let c = BarycentricCorrector::new(&earth, converter(), EarthOrientation::Ignored, source(r), no_shapiro());
+        let c =
+            BarycentricCorrector::new(earth.clone(), converter(), EarthOrientation::Ignored, source(r), no_shapiro());
         let out = c.correct(&utc(r), &Observer::Site(site(r)), ReferencePoint::Observer).unwrap();
         let geometric_bjd = reference_instant(r, "tdb").add_seconds(f(r, "ltt_barycentric_geometric_s"));
         worst = worst.max(out.bjd_tdb.seconds_since(&geometric_bjd).abs());
@@ -246,7 +253,13 @@ fn shapiro_delay_of_the_sun_is_microseconds() {
     // (2GM☉/c³ = 9.85 µs; Lorimer & Kramer 2005 §8.2, from memory).
     let rows = read("barycentric_geocentric.csv");
     for r in rows.iter().take(50) {
-        let c = BarycentricCorrector::new(embedded(), converter(), EarthOrientation::Ignored, source(r), DelayOptions::default());
+        let c = BarycentricCorrector::new(
+            embedded(),
+            converter(),
+            EarthOrientation::Ignored,
+            source(r),
+            DelayOptions::default(),
+        );
         let out = c.correct(&utc(r), &Observer::Geocentre, ReferencePoint::Observer).unwrap();
         assert!(out.delays.shapiro_sun_s.abs() < 1e-4, "{}", out.delays.shapiro_sun_s);
         assert!(out.delays.shapiro_sun_s > -7e-6);

@@ -39,6 +39,10 @@ fn geocentric_and_barycentric_spacecraft_positions_agree() {
             origin: PositionOrigin::Barycentric,
         });
         let out2 = c.correct(&t, &bary, ReferencePoint::Observer).unwrap();
-        assert!(out2.bjd_tdb.seconds_since(&out.bjd_tdb).abs() < 1e-9, "k={k}: {}", out2.bjd_tdb.seconds_since(&out.bjd_tdb));
+        assert!(
+            out2.bjd_tdb.seconds_since(&out.bjd_tdb).abs() < 1e-9,
+            "k={k}: {}",
+            out2.bjd_tdb.seconds_since(&out.bjd_tdb)
+        );
     }
 }

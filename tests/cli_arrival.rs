@@ -16,7 +16,14 @@ fn workdir(name: &str) -> PathBuf {
 
 fn run_barycentre(input: &Path, output: &Path, extra: &[&str]) -> std::process::Output {
     let mut cmd = skyclock();
-    cmd.args(["barycentre", "--input"]).arg(input).args(["--time-column", "time", "--ra", "05:12:33.21", "--dec", "+21:07:44"]);
+    cmd.args(["barycentre", "--input"]).arg(input).args([
+        "--time-column",
+        "time",
+        "--ra",
+        "05:12:33.21",
+        "--dec",
+        "+21:07:44",
+    ]);
     cmd.args(extra).arg("--output").arg(output);
     cmd.output().unwrap()
 }
@@ -35,7 +42,9 @@ fn corrects_a_table_and_records_provenance() {
     assert!(o.status.success(), "{}", stderr(&o));
     let text = std::fs::read_to_string(&output).unwrap();
     let header = text.lines().next().unwrap();
-    for col in ["time", "mag", "bjd_tdb", "roemer_delay_s", "einstein_delay_s", "shapiro_sun_delay_s", "total_correction_s"] {
+    for col in
+        ["time", "mag", "bjd_tdb", "roemer_delay_s", "einstein_delay_s", "shapiro_sun_delay_s", "total_correction_s"]
+    {
         assert!(header.contains(col), "{header}");
     }
     let prov = std::fs::read_to_string(d.join("out.csv.provenance.json")).unwrap();
@@ -56,14 +65,29 @@ fn bad_inputs_name_file_row_and_column_and_write_nothing() {
         // (file content, description, extra args, expected message parts)
         ("time\n2459000.5\nnot-a-time\n", "unparseable", &["--clock", "jd_utc"], &["row 2", "'time'", "not-a-time"]),
         ("time\n2459000.5\nNaN\n", "nan", &["--clock", "jd_utc"], &["row 2", "'time'"]),
-        ("time\n2017-12-31T23:59:60.5\n", "no leap second", &["--clock", "iso_utc"], &["row 1", "'time'", "leap second"]),
+        (
+            "time\n2017-12-31T23:59:60.5\n",
+            "no leap second",
+            &["--clock", "iso_utc"],
+            &["row 1", "'time'", "leap second"],
+        ),
         ("time\n2016-12-31T23:59:60.5\n", "real leap second is fine", &["--clock", "iso_utc"], &[]),
         ("time\n2433000.5\n", "utc before 1960", &["--clock", "jd_utc"], &["row 1", "1960"]),
-        ("time\n2491000.5\n", "beyond the ephemeris", &["--clock", "jd_tt"], &["row 1", "'time'", "covers", "2101-01-01"]),
+        (
+            "time\n2491000.5\n",
+            "beyond the ephemeris",
+            &["--clock", "jd_tt"],
+            &["row 1", "'time'", "covers", "2101-01-01"],
+        ),
         ("mag\n12.0\n", "missing column", &["--clock", "jd_utc"], &["column 'time' is missing", "mag"]),
         ("", "empty file", &["--clock", "jd_utc"], &["no data rows"]),
         ("time\n2459000.5\n", "unknown clock", &["--clock", "jd_ut7"], &["jd_ut7", "utc"]),
-        ("time,clock\n2459000.5,jd_utc\n2459000.6,xjd\n", "bad clock cell", &["--clock-column", "clock"], &["row 2", "'clock'", "xjd"]),
+        (
+            "time,clock\n2459000.5,jd_utc\n2459000.6,xjd\n",
+            "bad clock cell",
+            &["--clock-column", "clock"],
+            &["row 2", "'clock'", "xjd"],
+        ),
     ];
     for (k, (content, what, extra, expected)) in cases.iter().enumerate() {
         let input = d.join(format!("in{k}.csv"));
@@ -116,7 +140,17 @@ fn usage_errors_exit_with_2_and_help_has_an_example() {
 fn convert_time_handles_the_leap_second() {
     // 2016-12-31T23:59:60.5 UTC = 2017-01-01T00:00:36.5 TAI (TAI−UTC 36 s that day, IERS Bulletin C).
     let o = skyclock()
-        .args(["convert-time", "2016-12-31T23:59:60.5", "--format", "iso", "--scale", "utc", "--to-scale", "tai", "--json"])
+        .args([
+            "convert-time",
+            "2016-12-31T23:59:60.5",
+            "--format",
+            "iso",
+            "--scale",
+            "utc",
+            "--to-scale",
+            "tai",
+            "--json",
+        ])
         .output()
         .unwrap();
     assert!(o.status.success(), "{}", stderr(&o));

@@ -18,7 +18,16 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 
-use skyclock::cli::manual::{CommandSpec, ValueKind};
+// The command line lives in the binary, not in the library: its definition is compiled into
+// this test from the same sources so that the walker of the clap definition can be used here.
+#[allow(dead_code, unused_imports)]
+#[path = "../src/cli/mod.rs"]
+mod cli;
+#[allow(dead_code, unused_imports)]
+#[path = "../src/demo/mod.rs"]
+mod demo;
+
+use cli::manual::{CommandSpec, ValueKind};
 
 fn dir(name: &str) -> PathBuf {
     let d = std::env::temp_dir().join(format!("skyclock_cli_manual_{name}_{}", std::process::id()));
@@ -29,7 +38,11 @@ fn dir(name: &str) -> PathBuf {
 
 fn run(args: &[&str]) -> (i32, String, String) {
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
-    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 fn ok(args: &[&str]) -> String {
@@ -59,7 +72,9 @@ fn every_command_help_shows_a_worked_example() {
         let example = help.find("Example").map(|i| &help[i..]);
         match example {
             // The example must run this very command.
-            Some(text) if text.contains(&format!("skyclock {} ", c.name)) || text.contains(&format!("skyclock {}\n", c.name)) => {}
+            Some(text)
+                if text.contains(&format!("skyclock {} ", c.name))
+                    || text.contains(&format!("skyclock {}\n", c.name)) => {}
             _ => missing.push(c.name.clone()),
         }
     }
@@ -71,7 +86,10 @@ fn completion_scripts_name_every_command_and_long_option() {
     for shell in ["bash", "zsh", "fish"] {
         let script = ok(&["shell-completions", shell]);
         let version = format!("skyclock {}", env!("CARGO_PKG_VERSION"));
-        assert!(script.lines().take(3).any(|l| l.starts_with('#') && l.contains(&version)), "{shell} script does not say which build wrote it");
+        assert!(
+            script.lines().take(3).any(|l| l.starts_with('#') && l.contains(&version)),
+            "{shell} script does not say which build wrote it"
+        );
         for c in commands() {
             assert!(script.contains(&c.name), "{shell} script lacks the command {}", c.name);
             for o in &c.options {
@@ -158,7 +176,10 @@ fn bash_script_parses_and_completes() {
     let (command, option) = all
         .iter()
         .flat_map(|c| c.options.iter().map(move |o| (c, o)))
-        .find_map(|(c, o)| (o.value_name.as_deref() == Some("FILE")).then(|| (c.name.clone(), format!("--{}", o.long.clone().unwrap()))))
+        .find_map(|(c, o)| {
+            (o.value_name.as_deref() == Some("FILE"))
+                .then(|| (c.name.clone(), format!("--{}", o.long.clone().unwrap())))
+        })
         .expect("some option takes a FILE");
     let offered = complete(&["skyclock", &command, &option, "vega_"]);
     assert_eq!(offered, vec!["vega_nova_minima.csv".to_string()], "{command} {option}");
@@ -187,13 +208,25 @@ fn zsh_and_fish_scripts_parse_where_those_shells_exist() {
                     let text = String::from_utf8_lossy(&out.stdout);
                     let offered: Vec<&str> = text.lines().map(|l| l.split('\t').next().unwrap_or_default()).collect();
                     for o in c.options.iter().filter_map(|o| o.long.as_ref()) {
-                        assert!(offered.contains(&format!("--{o}").as_str()), "fish does not offer --{o} for {}: {offered:?}", c.name);
+                        assert!(
+                            offered.contains(&format!("--{o}").as_str()),
+                            "fish does not offer --{o} for {}: {offered:?}",
+                            c.name
+                        );
                     }
                 }
-                let out = Command::new("fish").arg("-c").arg(format!("source '{}'; complete -C 'skyclock '", path.display())).output().expect("fish");
+                let out = Command::new("fish")
+                    .arg("-c")
+                    .arg(format!("source '{}'; complete -C 'skyclock '", path.display()))
+                    .output()
+                    .expect("fish");
                 let text = String::from_utf8_lossy(&out.stdout);
                 for c in commands() {
-                    assert!(text.lines().any(|l| l.split('\t').next() == Some(c.name.as_str())), "fish does not offer {}", c.name);
+                    assert!(
+                        text.lines().any(|l| l.split('\t').next() == Some(c.name.as_str())),
+                        "fish does not offer {}",
+                        c.name
+                    );
                 }
             }
             // Loaded into zsh's completion system, one function per command is defined and
@@ -203,11 +236,19 @@ fn zsh_and_fish_scripts_parse_where_those_shells_exist() {
                     "autoload -U compinit; compinit -u -d '{}/zcompdump'; source '{}'; print -r -- ${{_comps[skyclock]}}; for f in {}; do whence -w $f; done",
                     d.display(),
                     path.display(),
-                    commands().iter().map(|c| format!("_skyclock__{}", c.name.replace('-', "_"))).collect::<Vec<_>>().join(" ")
+                    commands()
+                        .iter()
+                        .map(|c| format!("_skyclock__{}", c.name.replace('-', "_")))
+                        .collect::<Vec<_>>()
+                        .join(" ")
                 );
                 let out = Command::new("zsh").arg("-f").arg("-c").arg(&line).output().expect("zsh");
                 let text = String::from_utf8_lossy(&out.stdout);
-                assert!(text.lines().next() == Some("_skyclock"), "compdef did not register _skyclock: {text}\n{}", String::from_utf8_lossy(&out.stderr));
+                assert!(
+                    text.lines().next() == Some("_skyclock"),
+                    "compdef did not register _skyclock: {text}\n{}",
+                    String::from_utf8_lossy(&out.stderr)
+                );
                 for c in commands() {
                     let f = format!("_skyclock__{}: function", c.name.replace('-', "_"));
                     assert!(text.contains(&f), "{f} missing: {text}");
@@ -220,7 +261,15 @@ fn zsh_and_fish_scripts_parse_where_those_shells_exist() {
 #[test]
 fn manual_page_lists_every_command_and_formats_without_warnings() {
     let page = ok(&["manual-page"]);
-    for section in [".SH NAME", ".SH SYNOPSIS", ".SH DESCRIPTION", ".SH COMMANDS", ".SH EXIT STATUS", ".SH FILES", ".SH ENVIRONMENT"] {
+    for section in [
+        ".SH NAME",
+        ".SH SYNOPSIS",
+        ".SH DESCRIPTION",
+        ".SH COMMANDS",
+        ".SH EXIT STATUS",
+        ".SH FILES",
+        ".SH ENVIRONMENT",
+    ] {
         assert!(page.contains(section), "{section} missing");
     }
     assert!(page.starts_with(".\\\"") && page.contains(".TH SKYCLOCK 1 "));
@@ -229,15 +278,24 @@ fn manual_page_lists_every_command_and_formats_without_warnings() {
         assert!(page.contains(&heading), "no section for {}", c.name);
         for o in &c.options {
             if let Some(l) = &o.long {
-                assert!(page.contains(&format!("\\fB\\-\\-{}\\fR", l.replace('-', "\\-"))), "--{l} of {} not documented", c.name);
+                assert!(
+                    page.contains(&format!("\\fB\\-\\-{}\\fR", l.replace('-', "\\-"))),
+                    "--{l} of {} not documented",
+                    c.name
+                );
             }
         }
     }
     // Every text line that starts with a request character is a real request.
     for line in page.lines() {
         if line.starts_with('.') {
-            let request: String = line[1..].chars().take_while(|c| c.is_ascii_alphabetic() || *c == '\\' || *c == '"').collect();
-            assert!(["TH", "SH", "SS", "TP", "PP", "B", "I", "RI", "br", "nf", "fi", "RS", "RE", "sp", "nh", "ad", "\\\""].contains(&request.as_str()), "unexpected request line: {line}");
+            let request: String =
+                line[1..].chars().take_while(|c| c.is_ascii_alphabetic() || *c == '\\' || *c == '"').collect();
+            assert!(
+                ["TH", "SH", "SS", "TP", "PP", "B", "I", "RI", "br", "nf", "fi", "RS", "RE", "sp", "nh", "ad", "\\\""]
+                    .contains(&request.as_str()),
+                "unexpected request line: {line}"
+            );
         }
         assert!(!line.starts_with('\''), "a line starts with a quote: {line}");
     }
@@ -286,7 +344,8 @@ fn output_is_written_atomically_and_bad_paths_fail_clearly() {
     std::fs::write(&page, "old contents").unwrap();
     ok(&["manual-page", "--output", page.to_str().unwrap()]);
     assert!(std::fs::read_to_string(&page).unwrap().starts_with(".\\\""));
-    let names: Vec<String> = std::fs::read_dir(&d).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().into_owned()).collect();
+    let names: Vec<String> =
+        std::fs::read_dir(&d).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().into_owned()).collect();
     assert_eq!(names, vec!["skyclock.1".to_string()], "leftover files: {names:?}");
 
     // A folder that does not exist.

@@ -3,7 +3,11 @@
 use std::process::Command;
 
 fn setup(dir: &std::path::Path, zero_error_row: Option<usize>) {
-    std::fs::write(dir.join("m.toml"), "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.0\nfit = [\"freq_hz\"]\n").unwrap();
+    std::fs::write(
+        dir.join("m.toml"),
+        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.0\nfit = [\"freq_hz\"]\n",
+    )
+    .unwrap();
     let mut s = String::from("time,error_us,freq_mhz,instrument\n");
     for i in 0..12 {
         // half-day steps: whole turns of a 2 Hz spin (invented)
@@ -16,7 +20,24 @@ fn setup(dir: &std::path::Path, zero_error_row: Option<usize>) {
 fn run(dir: &std::path::Path) -> std::process::Output {
     Command::new(env!("CARGO_BIN_EXE_skyclock"))
         .current_dir(dir)
-        .args(["fit-timing", "--arrival-times", "toas.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml", "--output-residuals", "r.csv", "--output-model", "out.toml", "--json"])
+        .args([
+            "fit-timing",
+            "--arrival-times",
+            "toas.csv",
+            "--clock",
+            "bmjd_tdb",
+            "--ra",
+            "10",
+            "--dec",
+            "20",
+            "--model",
+            "m.toml",
+            "--output-residuals",
+            "r.csv",
+            "--output-model",
+            "out.toml",
+            "--json",
+        ])
         .output()
         .unwrap()
 }
@@ -57,7 +78,26 @@ fn search_pulsations_finds_an_invented_pulsar() {
     std::fs::write(dir.join("ev.csv"), s).unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
         .current_dir(&dir)
-        .args(["search-pulsations", "--events", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--min-freq-hz", "3.2", "--max-freq-hz", "3.4", "--output", "z.csv", "--figure", "z.svg", "--json"])
+        .args([
+            "search-pulsations",
+            "--events",
+            "ev.csv",
+            "--clock",
+            "bmjd_tdb",
+            "--ra",
+            "10",
+            "--dec",
+            "20",
+            "--min-freq-hz",
+            "3.2",
+            "--max-freq-hz",
+            "3.4",
+            "--output",
+            "z.csv",
+            "--figure",
+            "z.svg",
+            "--json",
+        ])
         .output()
         .unwrap();
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
@@ -66,7 +106,10 @@ fn search_pulsations_finds_an_invented_pulsar() {
     assert!((f - 3.3).abs() < 1.0 / 20_000.0, "{f}");
     assert!(json["best"]["false_alarm"].as_f64().unwrap() < 1e-20);
     let svg = std::fs::read_to_string(dir.join("z.svg")).expect("the statistic-against-frequency figure");
-    assert!(svg.contains("mean of pure noise") && svg.contains("best trial") && svg.contains("(mHz)"), "figure lacks its layers or axis label");
+    assert!(
+        svg.contains("mean of pure noise") && svg.contains("best trial") && svg.contains("(mHz)"),
+        "figure lacks its layers or axis label"
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }
 
@@ -103,14 +146,24 @@ fn fits_position_end_to_end_from_geocentric_times() {
     let mas = 1.0 / 3.6e6;
     let (ra_true, dec_true) = (ra0 + 300.0 * mas / dec0.to_radians().cos(), dec0 - 200.0 * mas);
     let truth = Source::fixed_degrees("invented true position", ra_true, dec_true).unwrap();
-    let corrector = BarycentricCorrector::new(skyclock::ephemeris::embedded(), ScaleConverter::new(LeapSecondTable::builtin()), EarthOrientation::Ignored, truth, DelayOptions::default());
+    let corrector = BarycentricCorrector::new(
+        skyclock::ephemeris::embedded(),
+        ScaleConverter::new(LeapSecondTable::builtin()),
+        EarthOrientation::Ignored,
+        truth,
+        DelayOptions::default(),
+    );
     let epoch = Instant::from_mjd_parts(TimeScale::Tdb, 60100, 0.0);
     let mut s = String::from("time,error_us\n");
     for k in 0..30 {
         // pulses every ~25 days over 2 years: whole turns of 2 Hz (half seconds)
         let t_s = ((k as f64 - 14.5) * 25.3 * 86_400.0 * 2.0).round() / 2.0;
-        let at_observer = corrector.arrival_at_observer(&epoch.add_seconds(t_s), &Observer::Geocentre, TimeScale::Tdb).unwrap();
-        s.push_str(&format!("{},1\n", format_whole_and_fraction(at_observer.mjd_day(), at_observer.seconds_of_day() / 86_400.0, 14)));
+        let at_observer =
+            corrector.arrival_at_observer(&epoch.add_seconds(t_s), &Observer::Geocentre, TimeScale::Tdb).unwrap();
+        s.push_str(&format!(
+            "{},1\n",
+            format_whole_and_fraction(at_observer.mjd_day(), at_observer.seconds_of_day() / 86_400.0, 14)
+        ));
     }
     std::fs::write(dir.join("toas.csv"), s).unwrap();
     std::fs::write(
@@ -120,7 +173,26 @@ fn fits_position_end_to_end_from_geocentric_times() {
     .unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
         .current_dir(&dir)
-        .args(["fit-timing", "--arrival-times", "toas.csv", "--clock", "mjd_tdb", "--ra", &ra0.to_string(), "--dec", &dec0.to_string(), "--model", "m.toml", "--output-residuals", "r.csv", "--output-model", "out.toml", "--output-summary", "fit.json", "--json"])
+        .args([
+            "fit-timing",
+            "--arrival-times",
+            "toas.csv",
+            "--clock",
+            "mjd_tdb",
+            "--ra",
+            &ra0.to_string(),
+            "--dec",
+            &dec0.to_string(),
+            "--model",
+            "m.toml",
+            "--output-residuals",
+            "r.csv",
+            "--output-model",
+            "out.toml",
+            "--output-summary",
+            "fit.json",
+            "--json",
+        ])
         .output()
         .unwrap();
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
@@ -130,7 +202,11 @@ fn fits_position_end_to_end_from_geocentric_times() {
     let (sr, sd) = (get("ra_uncertainty_mas"), get("dec_uncertainty_mas"));
     let dra_mas = (get("ra_deg") - ra_true) / mas * dec0.to_radians().cos();
     let ddec_mas = (get("dec_deg") - dec_true) / mas;
-    eprintln!("position error {dra_mas:.4} mas east (σ {sr:.4}), {ddec_mas:.4} mas north (σ {sd:.4}); proper motion {} {}", get("proper_motion_ra_mas_per_yr"), get("proper_motion_dec_mas_per_yr"));
+    eprintln!(
+        "position error {dra_mas:.4} mas east (σ {sr:.4}), {ddec_mas:.4} mas north (σ {sd:.4}); proper motion {} {}",
+        get("proper_motion_ra_mas_per_yr"),
+        get("proper_motion_dec_mas_per_yr")
+    );
     assert!(sr > 0.0 && sr < 1.0 && sd > 0.0 && sd < 1.0, "σ {sr} {sd} mas");
     assert!(dra_mas.abs() < 3.0 * sr && ddec_mas.abs() < 3.0 * sd, "position off by {dra_mas} / {ddec_mas} mas");
     assert!(get("proper_motion_ra_mas_per_yr").abs() < 3.0 * get("proper_motion_ra_uncertainty_mas_per_yr"));

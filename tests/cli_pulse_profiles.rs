@@ -23,7 +23,9 @@ fn write_events(dir: &Path, name: &str, swap_rows: bool) {
             let frac = if rng.uniform() < 0.5 {
                 loop {
                     let x = rng.uniform();
-                    if rng.uniform() * 1.8 < 1.0 + 0.5 * (std::f64::consts::TAU * x).cos() + 0.3 * (2.0 * std::f64::consts::TAU * x).cos() {
+                    if rng.uniform() * 1.8
+                        < 1.0 + 0.5 * (std::f64::consts::TAU * x).cos() + 0.3 * (2.0 * std::f64::consts::TAU * x).cos()
+                    {
                         break x;
                     }
                 }
@@ -41,7 +43,10 @@ fn write_events(dir: &Path, name: &str, swap_rows: bool) {
     let epoch = model.epoch();
     let mut s = String::from("time\n");
     for t in t_s {
-        s.push_str(&format!("{}\n", skyclock::time::format_time(&epoch.add_seconds(t), skyclock::time::TimeFormat::Mjd)));
+        s.push_str(&format!(
+            "{}\n",
+            skyclock::time::format_time(&epoch.add_seconds(t), skyclock::time::TimeFormat::Mjd)
+        ));
     }
     std::fs::write(dir.join(name), s).unwrap();
     std::fs::write(dir.join("m.toml"), MODEL).unwrap();
@@ -59,7 +64,19 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
     let common = ["--events", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml"];
     let mut args = vec!["pulse-profile"];
     args.extend(common);
-    args.extend(["--bins", "25", "--harmonics", "4", "--output-profile", "profile.csv", "--output-template", "template.json", "--figure", "profile.svg", "--json"]);
+    args.extend([
+        "--bins",
+        "25",
+        "--harmonics",
+        "4",
+        "--output-profile",
+        "profile.csv",
+        "--output-template",
+        "template.json",
+        "--figure",
+        "profile.svg",
+        "--json",
+    ]);
     let out = skyclock(&dir, &args);
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -67,7 +84,8 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
     assert!(json["template_peak_phase_cycles"].as_f64().is_some());
     // with half the photons pulsed the density is 1 + 0.25 cos 2πφ + 0.15 cos 4πφ: every
     // coefficient of the written template within 4σ of it
-    let doc: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(dir.join("template.json")).unwrap()).unwrap();
+    let doc: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("template.json")).unwrap()).unwrap();
     let t = &doc["template"];
     for k in 0..4 {
         let truth_a = [0.25, 0.15, 0.0, 0.0][k];
@@ -81,7 +99,17 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
 
     let mut args = vec!["event-arrival-times"];
     args.extend(common);
-    args.extend(["--template", "template.json", "--segment-duration-s", "50000", "--min-photons", "100", "--output", "toas.csv", "--json"]);
+    args.extend([
+        "--template",
+        "template.json",
+        "--segment-duration-s",
+        "50000",
+        "--min-photons",
+        "100",
+        "--output",
+        "toas.csv",
+        "--json",
+    ]);
     let out = skyclock(&dir, &args);
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -89,7 +117,28 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
 
     let out = skyclock(
         &dir,
-        &["fit-timing", "--arrival-times", "toas.csv", "--time-column", "arrival_bjd_tdb", "--clock", "bjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml", "--output-residuals", "r.csv", "--output-model", "fitted.toml", "--figure", "residuals.svg", "--json"],
+        &[
+            "fit-timing",
+            "--arrival-times",
+            "toas.csv",
+            "--time-column",
+            "arrival_bjd_tdb",
+            "--clock",
+            "bjd_tdb",
+            "--ra",
+            "10",
+            "--dec",
+            "20",
+            "--model",
+            "m.toml",
+            "--output-residuals",
+            "r.csv",
+            "--output-model",
+            "fitted.toml",
+            "--figure",
+            "residuals.svg",
+            "--json",
+        ],
     );
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -114,12 +163,48 @@ fn unsorted_events_and_too_short_segments_are_named() {
     let dir = std::env::temp_dir().join(format!("skyclock_cli_profiles_bad_{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     write_events(&dir, "bad.csv", true);
-    let out = skyclock(&dir, &["pulse-profile", "--events", "bad.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml", "--output-profile", "p.csv"]);
+    let out = skyclock(
+        &dir,
+        &[
+            "pulse-profile",
+            "--events",
+            "bad.csv",
+            "--clock",
+            "bmjd_tdb",
+            "--ra",
+            "10",
+            "--dec",
+            "20",
+            "--model",
+            "m.toml",
+            "--output-profile",
+            "p.csv",
+        ],
+    );
     assert_eq!(out.status.code(), Some(1));
     let e = String::from_utf8_lossy(&out.stderr);
     assert!(e.contains("bad.csv") && e.contains("row 6") && e.contains("column 'time'") && e.contains("sorted"), "{e}");
     // events outside the model's validity
-    let out = skyclock(&dir, &["pulse-profile", "--events", "bad.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml", "--output-profile", "p.csv", "--model-validity-days", "2"]);
+    let out = skyclock(
+        &dir,
+        &[
+            "pulse-profile",
+            "--events",
+            "bad.csv",
+            "--clock",
+            "bmjd_tdb",
+            "--ra",
+            "10",
+            "--dec",
+            "20",
+            "--model",
+            "m.toml",
+            "--output-profile",
+            "p.csv",
+            "--model-validity-days",
+            "2",
+        ],
+    );
     let e = String::from_utf8_lossy(&out.stderr);
     assert!(e.contains("bad.csv") && e.contains("row 1") && e.contains("validity"), "{e}");
     let _ = std::fs::remove_dir_all(&dir);

@@ -16,7 +16,11 @@ fn dir(name: &str) -> PathBuf {
 
 fn run(args: &[&str]) -> (i32, String, String) {
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
-    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 /// Invented star: nightly runs over 40 nights, sum of sinusoids, seeded noise.
@@ -27,7 +31,9 @@ fn light_curve(seed: u64, freqs: &[(f64, f64)], noise: f64) -> Vec<(f64, f64, f6
         for k in 0..12 {
             let t = 2460100.3 + night as f64 + 0.025 * k as f64 + 0.004 * rng.uniform();
             let x = t - 2460100.0;
-            let y: f64 = freqs.iter().map(|(f, a)| a * (std::f64::consts::TAU * f * x).sin()).sum::<f64>() + noise * rng.normal() + 12.0;
+            let y: f64 = freqs.iter().map(|(f, a)| a * (std::f64::consts::TAU * f * x).sin()).sum::<f64>()
+                + noise * rng.normal()
+                + 12.0;
             rows.push((t, y, noise));
         }
     }
@@ -50,8 +56,24 @@ fn find_periods_recovers_an_invented_pulsator() {
     let spectrum = d.join("spectrum.csv");
     let peaks = d.join("peaks.json");
     let (code, out, err) = run(&[
-        "find-periods", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--max-freq-per-day", "12", "--output", spectrum.to_str().unwrap(), "--peaks-output", peaks.to_str().unwrap(), "--figure", d.join("p.svg").to_str().unwrap(), "--json",
+        "find-periods",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--max-freq-per-day",
+        "12",
+        "--output",
+        spectrum.to_str().unwrap(),
+        "--peaks-output",
+        peaks.to_str().unwrap(),
+        "--figure",
+        d.join("p.svg").to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).expect("json on stdout");
@@ -60,7 +82,12 @@ fn find_periods_recovers_an_invented_pulsator() {
     assert!((f - 3.71).abs() < 3.0 * top["freq_err_per_day"].as_f64().unwrap().max(1e-4), "{f}");
     assert!(top["false_alarm_probability"].as_f64().unwrap() < 1e-10);
     // 40 nights from one site: the ±1 c/d aliases are among the next peaks and are marked.
-    let notes: Vec<String> = v["result"]["peaks"].as_array().unwrap().iter().flat_map(|p| p["alias_notes"].as_array().unwrap().iter().map(|n| n.to_string())).collect();
+    let notes: Vec<String> = v["result"]["peaks"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .flat_map(|p| p["alias_notes"].as_array().unwrap().iter().map(|n| n.to_string()))
+        .collect();
     assert!(notes.iter().any(|n| n.contains("sidereal day") || n.contains("window sidelobe")), "{notes:?}");
     let text = std::fs::read_to_string(&spectrum).unwrap();
     assert!(text.starts_with("freq_per_day,period_d,power,amplitude"));
@@ -69,7 +96,10 @@ fn find_periods_recovers_an_invented_pulsator() {
     let svg = std::fs::read_to_string(d.join("p.svg")).unwrap();
     assert!(svg.contains("frequency (cycles per day)"));
     // The figure marks the peaks and, as its own legend entry, the aliases of the top peak.
-    assert!(svg.contains(skyclock::plot::search::PEAK_LAYER_LABEL) && svg.contains(skyclock::plot::search::ALIAS_LAYER_LABEL));
+    assert!(
+        svg.contains(skyclock::plot::search::PEAK_LAYER_LABEL)
+            && svg.contains(skyclock::plot::search::ALIAS_LAYER_LABEL)
+    );
 }
 
 #[test]
@@ -78,7 +108,8 @@ fn box_method_finds_an_invented_transit() {
     let input = d.join("transit_invented.csv");
     // Invented space-photometry-like sampling: every 0.01 d for 30 d, flux noise 0.001.
     let mut rng = SeededRng::new(5);
-    let mut rows: Vec<(f64, f64, f64)> = (0..3000).map(|i| (2460100.0 + 0.01 * i as f64, 1.0 + 0.001 * rng.normal(), 0.001)).collect();
+    let mut rows: Vec<(f64, f64, f64)> =
+        (0..3000).map(|i| (2460100.0 + 0.01 * i as f64, 1.0 + 0.001 * rng.normal(), 0.001)).collect();
     let (p, dur, t0) = (2.345, 0.1, 2460101.0);
     for r in rows.iter_mut() {
         let ph = ((r.0 - t0) / p).rem_euclid(1.0);
@@ -88,8 +119,20 @@ fn box_method_finds_an_invented_transit() {
     }
     write_csv(&input, &rows);
     let (code, out, err) = run(&[
-        "find-periods", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--method", "box", "--durations-d", "0.05,0.1,0.15",
-        "--max-freq-per-day", "2", "--json",
+        "find-periods",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--method",
+        "box",
+        "--durations-d",
+        "0.05,0.1,0.15",
+        "--max-freq-per-day",
+        "2",
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}\n{out}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -105,8 +148,26 @@ fn fold_and_extract_frequencies() {
     write_csv(&input, &light_curve(3, &[(9.123, 0.05), (11.871, 0.02)], 0.003));
     let binned = d.join("binned.csv");
     let (code, out, err) = run(&[
-        "fold-curve", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--period-d", &format!("{}", 1.0 / 9.123), "--refine-harmonics", "1", "--bins", "20", "--binned-output", binned.to_str().unwrap(), "--figure", d.join("f.png").to_str().unwrap(), "--json",
+        "fold-curve",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--period-d",
+        &format!("{}", 1.0 / 9.123),
+        "--refine-harmonics",
+        "1",
+        "--bins",
+        "20",
+        "--binned-output",
+        binned.to_str().unwrap(),
+        "--figure",
+        d.join("f.png").to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -115,20 +176,47 @@ fn fold_and_extract_frequencies() {
     assert!(std::fs::metadata(d.join("f.png")).unwrap().len() > 1000);
     // The SVG form of the same figure carries the residuals panel below the folded curve.
     let (code, _, err) = run(&[
-        "fold-curve", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--period-d", &format!("{}", 1.0 / 9.123), "--bins", "20", "--figure", d.join("f.svg").to_str().unwrap(), "--quiet",
+        "fold-curve",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--period-d",
+        &format!("{}", 1.0 / 9.123),
+        "--bins",
+        "20",
+        "--figure",
+        d.join("f.svg").to_str().unwrap(),
+        "--quiet",
     ]);
     assert_eq!(code, 0, "{err}");
     let svg = std::fs::read_to_string(d.join("f.svg")).unwrap();
     assert!(svg.contains("residual, mag (input units)") && svg.matches("phase (cycles)").count() == 2);
     let table = d.join("freqs.csv");
     let (code, out, err) = run(&[
-        "extract-frequencies", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--max-freq-per-day", "20", "--output", table.to_str().unwrap(), "--json",
+        "extract-frequencies",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--max-freq-per-day",
+        "20",
+        "--output",
+        table.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
-    let f: Vec<f64> = v["frequencies"].as_array().unwrap().iter().map(|x| x["freq_per_day"].as_f64().unwrap()).collect();
+    let f: Vec<f64> =
+        v["frequencies"].as_array().unwrap().iter().map(|x| x["freq_per_day"].as_f64().unwrap()).collect();
     assert!(f.len() >= 2, "{f:?}");
     assert!((f[0] - 9.123).abs() < 1e-3 && (f[1] - 11.871).abs() < 1e-3, "{f:?}");
 }
@@ -142,7 +230,17 @@ fn bad_input_names_file_row_and_column() {
         edit(&mut rows);
         let path = d.join(name);
         write_csv(&path, &rows);
-        let mut args = vec!["find-periods", "--input", path.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err"];
+        let mut args = vec![
+            "find-periods",
+            "--input",
+            path.to_str().unwrap(),
+            "--time-column",
+            "bjd",
+            "--value-column",
+            "mag",
+            "--error-column",
+            "mag_err",
+        ];
         args.extend_from_slice(extra);
         let (code, _, err) = run(&args);
         assert_eq!(code, 1, "{name}: {err}");
@@ -160,13 +258,24 @@ fn bad_input_names_file_row_and_column() {
     // a non-number cell
     let path = d.join("text.csv");
     std::fs::write(&path, "bjd,mag,mag_err\n2460000.1,1.0,0.1\n2460000.2,abc,0.1\n").unwrap();
-    let (code, _, err) = run(&["find-periods", "--input", path.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag"]);
+    let (code, _, err) =
+        run(&["find-periods", "--input", path.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag"]);
     assert_eq!(code, 1);
     assert!(err.contains("row 2, column 'mag'"), "{err}");
     // output over the input is refused
     let path = d.join("self.csv");
     write_csv(&path, &good);
-    let (code, _, err) = run(&["find-periods", "--input", path.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--output", path.to_str().unwrap()]);
+    let (code, _, err) = run(&[
+        "find-periods",
+        "--input",
+        path.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--output",
+        path.to_str().unwrap(),
+    ]);
     assert_eq!(code, 1);
     assert!(err.contains("also an input"), "{err}");
 }
@@ -189,8 +298,25 @@ fn survey_batch_reports_bad_sources_and_goes_on() {
     std::fs::write(&input, s).unwrap();
     let output = d.join("periods.csv");
     let (code, out, err) = run(&[
-        "survey-batch", "--input", input.to_str().unwrap(), "--source-column", "star", "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--max-freq-per-day", "3", "--peaks", "2", "--refine-peaks", "--output", output.to_str().unwrap(), "--json",
+        "survey-batch",
+        "--input",
+        input.to_str().unwrap(),
+        "--source-column",
+        "star",
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--max-freq-per-day",
+        "3",
+        "--peaks",
+        "2",
+        "--refine-peaks",
+        "--output",
+        output.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -229,11 +355,28 @@ fn survey_batch_reads_parquet_by_slices() {
     std::fs::write(&csv, s).unwrap();
     let mut df = skyclock::table::read_table(&csv, &["star", "bjd"]).unwrap();
     let parquet = d.join("field_invented.parquet");
-    skyclock::table::write_table(&mut df, &parquet, &skyclock::table::Provenance::new("test"), &[csv.as_path()]).unwrap();
+    skyclock::table::write_table(&mut df, &parquet, &skyclock::table::Provenance::new("test"), &[csv.as_path()])
+        .unwrap();
     let output = d.join("periods.csv");
     let (code, out, err) = run(&[
-        "survey-batch", "--input", parquet.to_str().unwrap(), "--source-column", "star", "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--max-freq-per-day", "3", "--peaks", "1", "--output", output.to_str().unwrap(), "--json",
+        "survey-batch",
+        "--input",
+        parquet.to_str().unwrap(),
+        "--source-column",
+        "star",
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--max-freq-per-day",
+        "3",
+        "--peaks",
+        "1",
+        "--output",
+        output.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -264,7 +407,28 @@ fn survey_batch_carries_utc_times_with_source_positions() {
     }
     std::fs::write(&csv, s).unwrap();
     let output = d.join("periods.csv");
-    let base = ["survey-batch", "--input", csv.to_str().unwrap(), "--source-column", "star", "--time-column", "jd", "--clock", "jd_utc", "--value-column", "mag", "--error-column", "mag_err", "--max-freq-per-day", "3", "--peaks", "1", "--output", output.to_str().unwrap(), "--json"];
+    let base = [
+        "survey-batch",
+        "--input",
+        csv.to_str().unwrap(),
+        "--source-column",
+        "star",
+        "--time-column",
+        "jd",
+        "--clock",
+        "jd_utc",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--max-freq-per-day",
+        "3",
+        "--peaks",
+        "1",
+        "--output",
+        output.to_str().unwrap(),
+        "--json",
+    ];
     let (code, _, err) = run(&base);
     assert_eq!(code, 1);
     assert!(err.contains("right-ascension and declination"), "{err}");

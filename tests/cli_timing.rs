@@ -23,7 +23,11 @@ fn dir(name: &str) -> PathBuf {
 
 fn run(args: &[&str]) -> (i32, String, String) {
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
-    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 /// Invented timings over 28 seasons, BJD_TDB, two origins, primaries and secondaries.
@@ -39,12 +43,17 @@ fn write_timings(path: &Path, with_companion: bool) {
             if !used.insert((2.0 * e) as i64) {
                 continue;
             }
-            let (origin, sigma) = if rng.uniform() < 0.5 { ("Larkspur Ridge", 0.0003) } else { ("Vale of Tenn", 0.0006) };
+            let (origin, sigma) =
+                if rng.uniform() < 0.5 { ("Larkspur Ridge", 0.0003) } else { ("Vale of Tenn", 0.0006) };
             let mut t = e * PERIOD_D + QUADRATIC_D * e * e + sigma * rng.normal();
             if with_companion {
                 t += light_time_d(&LTTE, e * PERIOD_D);
             }
-            s.push_str(&format!("{:.7},{sigma},{},{origin}\n", EPOCH_JD + t, if secondary { "secondary" } else { "primary" }));
+            s.push_str(&format!(
+                "{:.7},{sigma},{},{origin}\n",
+                EPOCH_JD + t,
+                if secondary { "secondary" } else { "primary" }
+            ));
         }
     }
     std::fs::write(path, s).unwrap();
@@ -52,9 +61,31 @@ fn write_timings(path: &Path, with_companion: bool) {
 
 fn base_args<'a>(input: &'a str, output: &'a str) -> Vec<&'a str> {
     vec![
-        "timing-residuals", "--input", input, "--time-column", "time", "--clock", "bjd_tdb", "--error-column", "error_d",
-        "--kind-column", "kind", "--origin-column", "origin", "--ra", "18:02:11.5", "--dec", "+33:14:50",
-        "--epoch-bjd-tdb", "2448000.3456", "--period-d", "0.6123456", "--period-sigma-d", "1e-7", "--output", output,
+        "timing-residuals",
+        "--input",
+        input,
+        "--time-column",
+        "time",
+        "--clock",
+        "bjd_tdb",
+        "--error-column",
+        "error_d",
+        "--kind-column",
+        "kind",
+        "--origin-column",
+        "origin",
+        "--ra",
+        "18:02:11.5",
+        "--dec",
+        "+33:14:50",
+        "--epoch-bjd-tdb",
+        "2448000.3456",
+        "--period-d",
+        "0.6123456",
+        "--period-sigma-d",
+        "1e-7",
+        "--output",
+        output,
     ]
 }
 
@@ -91,7 +122,15 @@ fn the_light_time_orbit_figure_shows_the_companion() {
     let (i, o) = (input.to_str().unwrap(), d.join("oc.csv"));
     let orbit = d.join("orbit.svg");
     let mut args = base_args(i, o.to_str().unwrap());
-    args.extend(["--models", "quadratic,quadratic+light-time", "--orbit-figure", orbit.to_str().unwrap(), "--binary-mass-msun", "2.1", "--json"]);
+    args.extend([
+        "--models",
+        "quadratic,quadratic+light-time",
+        "--orbit-figure",
+        orbit.to_str().unwrap(),
+        "--binary-mass-msun",
+        "2.1",
+        "--json",
+    ]);
     let (code, stdout, stderr) = run(&args);
     assert_eq!(code, 0, "{stderr}");
     assert!(stderr.contains("caution"), "the light-time caution is printed");
@@ -102,7 +141,9 @@ fn the_light_time_orbit_figure_shows_the_companion() {
     assert!((val - LTTE[1]).abs() < 3.0 * sig, "P3 = {val} ± {sig}");
     assert!(derived.iter().any(|p| p["name"] == "minimum_companion_mass_msun" && p["value"].as_f64().unwrap() > 0.0));
     let svg = std::fs::read_to_string(&orbit).unwrap();
-    assert!(svg.contains("companion orbital phase") && svg.contains("light-time delay (s)") && svg.contains("Irwin 1952"));
+    assert!(
+        svg.contains("companion orbital phase") && svg.contains("light-time delay (s)") && svg.contains("Irwin 1952")
+    );
 }
 
 #[test]
@@ -112,7 +153,11 @@ fn bad_timing_tables_get_messages_naming_file_row_and_column() {
     let o = out.to_str().unwrap();
     let cases: [(&str, &str, &[&str]); 5] = [
         // A zero error.
-        ("zero_error.csv", "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.9579,0,primary,A\n", &["row 2", "'error_d'", "> 0"]),
+        (
+            "zero_error.csv",
+            "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.9579,0,primary,A\n",
+            &["row 2", "'error_d'", "> 0"],
+        ),
         // The same timing twice.
         (
             "duplicate.csv",
@@ -120,11 +165,23 @@ fn bad_timing_tables_get_messages_naming_file_row_and_column() {
             &["rows", "same primary timing", "duplicate"],
         ),
         // An unknown event kind.
-        ("kind.csv", "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.9579,0.0003,tertiary,A\n", &["row 2", "'kind'", "tertiary"]),
+        (
+            "kind.csv",
+            "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.9579,0.0003,tertiary,A\n",
+            &["row 2", "'kind'", "tertiary"],
+        ),
         // A time that is not a number.
-        ("time.csv", "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.95x9,0.0003,primary,A\n", &["row 2", "'time'"]),
+        (
+            "time.csv",
+            "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.95x9,0.0003,primary,A\n",
+            &["row 2", "'time'"],
+        ),
         // Decades between two timings with a period error that cannot bridge them.
-        ("ambiguous.csv", "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.9579,0.0003,primary,A\n2458000.3457,0.0003,primary,A\n", &["ambiguous", "row"]),
+        (
+            "ambiguous.csv",
+            "time,error_d,kind,origin\n2448000.3456,0.0003,primary,A\n2448000.9579,0.0003,primary,A\n2458000.3457,0.0003,primary,A\n",
+            &["ambiguous", "row"],
+        ),
     ];
     for (name, text, needles) in cases {
         let input = d.join(name);

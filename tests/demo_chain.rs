@@ -11,48 +11,80 @@ use std::process::Command;
 fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
     let out = std::env::temp_dir().join(format!("skyclock_demo_{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&out);
-    let run = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(["demo", "--output-folder", out.to_str().unwrap()]).output().expect("run the demo");
+    let run = Command::new(env!("CARGO_BIN_EXE_skyclock"))
+        .args(["demo", "--output-folder", out.to_str().unwrap()])
+        .output()
+        .expect("run the demo");
     let stdout = String::from_utf8_lossy(&run.stdout);
     assert!(run.status.success(), "{}\n{}", stdout, String::from_utf8_lossy(&run.stderr));
     let summary = stdout.split("== what was recovered, beside the truth").nth(1).expect("the summary block");
     let mut checked = 0;
     for line in summary.lines().filter(|l| l.trim_end().ends_with('σ')) {
-        let z: f64 = line.trim_end().trim_end_matches('σ').rsplit(' ').next().unwrap().parse().expect("a deviation in σ");
+        let z: f64 =
+            line.trim_end().trim_end_matches('σ').rsplit(' ').next().unwrap().parse().expect("a deviation in σ");
         assert!(z < 4.0, "{line}");
         checked += 1;
     }
     assert!(checked >= 9, "only {checked} comparisons printed:\n{summary}");
-    for needed in ["third-body period", "light-time semi-amplitude", "period change", "pulsar spin frequency", "next minimum"] {
+    for needed in
+        ["third-body period", "light-time semi-amplitude", "period change", "pulsar spin frequency", "next minimum"]
+    {
         assert!(summary.contains(needed), "summary lacks {needed}");
     }
     // The survey finds every sinusoidal pulsator at its period.
     assert!(summary.lines().any(|l| l.contains("sinusoidal-pulsator") && l.contains("60 of  60")), "{summary}");
-    let json: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).expect("summary.json")).expect("JSON");
-    assert_eq!(json["comparisons"].as_array().map(|a| a.len()), Some(checked), "summary.json holds the printed comparisons");
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).expect("summary.json")).expect("JSON");
+    assert_eq!(
+        json["comparisons"].as_array().map(|a| a.len()),
+        Some(checked),
+        "summary.json holds the printed comparisons"
+    );
     let html = std::fs::read_to_string(out.join("report.html")).expect("the report");
     assert!(html.contains("data-figures-expected=\"6\""), "six figures expected in the report");
     assert!(!html.contains("http://") && !html.contains("https://"));
     // The demo's own report in headless Chromium, where installed (.ci/run installs it):
     // every figure renders and the page logs nothing to the console.
-    let chromium = ["chromium", "chromium-browser"].iter().find(|b| Command::new(b).arg("--version").output().is_ok_and(|o| o.status.success()));
+    let chromium = ["chromium", "chromium-browser"]
+        .iter()
+        .find(|b| Command::new(b).arg("--version").output().is_ok_and(|o| o.status.success()));
     match chromium {
         None => eprintln!("SKIPPED (browser part): chromium not installed"),
         Some(browser) => {
             let profile = out.join("browser-profile");
             let page = format!("file://{}", out.join("report.html").display());
             let dump = Command::new(browser)
-                .args(["--headless=new", "--no-sandbox", "--disable-gpu", "--enable-logging=stderr", "--v=0", "--virtual-time-budget=3000"])
+                .args([
+                    "--headless=new",
+                    "--no-sandbox",
+                    "--disable-gpu",
+                    "--enable-logging=stderr",
+                    "--v=0",
+                    "--virtual-time-budget=3000",
+                ])
                 .arg(format!("--user-data-dir={}", profile.display()))
                 .args(["--dump-dom", &page])
                 .output()
                 .expect("run chromium");
             let dom = String::from_utf8_lossy(&dump.stdout);
             let log = String::from_utf8_lossy(&dump.stderr);
-            assert!(dom.contains("data-figures-rendered=\"6\""), "not every figure rendered: {}", dom.lines().find(|l| l.contains("data-figures")).unwrap_or(""));
+            assert!(
+                dom.contains("data-figures-rendered=\"6\""),
+                "not every figure rendered: {}",
+                dom.lines().find(|l| l.contains("data-figures")).unwrap_or("")
+            );
             assert!(!log.contains("CONSOLE") && !log.contains("Uncaught"), "console output: {log}");
         }
     }
-    for f in ["kx_folded.svg", "kx_oc.svg", "kx_orbit.svg", "kx_periodogram.svg", "veyra_residuals.svg", "veyra_profile.svg", "kx_upcoming.csv"] {
+    for f in [
+        "kx_folded.svg",
+        "kx_oc.svg",
+        "kx_orbit.svg",
+        "kx_periodogram.svg",
+        "veyra_residuals.svg",
+        "veyra_profile.svg",
+        "kx_upcoming.csv",
+    ] {
         assert!(out.join(f).exists(), "{f} missing");
     }
     let _ = std::fs::remove_dir_all(&out);

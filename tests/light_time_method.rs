@@ -48,7 +48,11 @@ fn dir(name: &str) -> PathBuf {
 
 fn run(args: &[&str]) -> (i32, String, String) {
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
-    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 /// The command on astropy's noise-free geocentric UTC times returns au/c: the only
@@ -61,9 +65,26 @@ fn the_command_measures_the_light_time_per_au_from_astropy_timings() {
     let out = d.join("residuals.csv");
     let out_s = out.to_str().unwrap();
     let (code, stdout, stderr) = run(&[
-        "measure-light-time", "--input", REFERENCE, "--time-column", "utc_jd", "--clock", "jd_utc",
-        "--error-column", "error_d", "--ra", "131.25", "--dec", "17.5",
-        "--epoch-d", "2459000.3144752", "--period-d", "0.87654321", "--output", out_s, "--json",
+        "measure-light-time",
+        "--input",
+        REFERENCE,
+        "--time-column",
+        "utc_jd",
+        "--clock",
+        "jd_utc",
+        "--error-column",
+        "error_d",
+        "--ra",
+        "131.25",
+        "--dec",
+        "17.5",
+        "--epoch-d",
+        "2459000.3144752",
+        "--period-d",
+        "0.87654321",
+        "--output",
+        out_s,
+        "--json",
     ]);
     assert_eq!(code, 0, "{stderr}");
     let v: serde_json::Value = serde_json::from_str(&stdout).expect("json");
@@ -124,9 +145,25 @@ fn the_command_refuses_corrected_times_and_zero_errors() {
     let d = dir("bad");
     let out = d.join("r.csv");
     let (code, _, stderr) = run(&[
-        "measure-light-time", "--input", REFERENCE, "--time-column", "utc_jd", "--clock", "bjd_tdb",
-        "--error-column", "error_d", "--ra", "131.25", "--dec", "17.5",
-        "--epoch-d", "2459000.3144752", "--period-d", "0.87654321", "--output", out.to_str().unwrap(),
+        "measure-light-time",
+        "--input",
+        REFERENCE,
+        "--time-column",
+        "utc_jd",
+        "--clock",
+        "bjd_tdb",
+        "--error-column",
+        "error_d",
+        "--ra",
+        "131.25",
+        "--dec",
+        "17.5",
+        "--epoch-d",
+        "2459000.3144752",
+        "--period-d",
+        "0.87654321",
+        "--output",
+        out.to_str().unwrap(),
     ]);
     assert_eq!(code, 1);
     assert!(stderr.contains("as seen by the observer"), "{stderr}");
@@ -136,9 +173,25 @@ fn the_command_refuses_corrected_times_and_zero_errors() {
     text = text.replacen(",1.0e-4", ",0", 3); // rows 1–3 get a zero error
     std::fs::write(&input, text).unwrap();
     let (code, _, stderr) = run(&[
-        "measure-light-time", "--input", input.to_str().unwrap(), "--time-column", "utc_jd", "--clock", "jd_utc",
-        "--error-column", "error_d", "--ra", "131.25", "--dec", "17.5",
-        "--epoch-d", "2459000.3144752", "--period-d", "0.87654321", "--output", out.to_str().unwrap(),
+        "measure-light-time",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "utc_jd",
+        "--clock",
+        "jd_utc",
+        "--error-column",
+        "error_d",
+        "--ra",
+        "131.25",
+        "--dec",
+        "17.5",
+        "--epoch-d",
+        "2459000.3144752",
+        "--period-d",
+        "0.87654321",
+        "--output",
+        out.to_str().unwrap(),
     ]);
     assert_eq!(code, 1);
     assert!(stderr.contains("row 1") && stderr.contains("'error_d'") && stderr.contains("zero_error.csv"), "{stderr}");

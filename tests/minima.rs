@@ -15,8 +15,8 @@ use std::process::Command;
 
 use skyclock::fit::SeededRng;
 use skyclock::minima::{
-    Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SkipReason, SymmetricOptions, SymmetricShape, TimingMethod,
-    fit_symmetric, kwee_van_woerden, time_events,
+    Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SkipReason, SymmetricOptions, SymmetricShape,
+    TimingMethod, fit_symmetric, kwee_van_woerden, time_events,
 };
 use skyclock::oc::EventKind;
 use skyclock::time::{Instant, TimeScale};
@@ -58,7 +58,12 @@ fn kwee_van_woerden_recovers_invented_minima_within_a_few_sigma() {
         // The symmetric Gaussian fit to the same points agrees within the combined errors.
         let o = SymmetricOptions { shape: SymmetricShape::Gaussian, bootstrap_resamples: 0, seed: 0 };
         let f = fit_symmetric(&t, &v, None, 1.0, centre, &o).expect("fit");
-        assert!((f.centre_d - r.centre_d).abs() < 4.0 * r.error_d.hypot(f.error_covariance_d), "KvW {} vs fit {}", r.centre_d, f.centre_d);
+        assert!(
+            (f.centre_d - r.centre_d).abs() < 4.0 * r.error_d.hypot(f.error_covariance_d),
+            "KvW {} vs fit {}",
+            r.centre_d,
+            f.centre_d
+        );
     }
     assert!(worst < 4.5, "largest |ΔT|/σ over 20 minima: {worst}");
 }
@@ -124,7 +129,12 @@ fn symmetric_fit_bootstrap_and_covariance_intervals_are_calibrated() {
         ratio.push(b / f.error_covariance_d);
     }
     let (fc, fb) = (in_cov as f64 / trials as f64, in_boot as f64 / trials as f64);
-    eprintln!("symmetric Gaussian fit: inside 1σ covariance {:.1} %, bootstrap {:.1} %, median bootstrap/covariance {:.3}", 100.0 * fc, 100.0 * fb, median(ratio));
+    eprintln!(
+        "symmetric Gaussian fit: inside 1σ covariance {:.1} %, bootstrap {:.1} %, median bootstrap/covariance {:.3}",
+        100.0 * fc,
+        100.0 * fb,
+        median(ratio)
+    );
     assert!((0.61..=0.75).contains(&fc), "covariance coverage {fc}");
     assert!((0.61..=0.75).contains(&fb), "bootstrap coverage {fb}");
 }
@@ -135,7 +145,8 @@ fn maxima_of_an_invented_pulsator_in_flux() {
     let mut rng = SeededRng::new(31);
     let centre = 1.2345;
     let t: Vec<f64> = (0..70).map(|i| centre - 0.06 + 0.12 * i as f64 / 70.0 + 0.0004 * rng.uniform()).collect();
-    let flux: Vec<f64> = t.iter().map(|&x| 1.0 + 0.4 * (-0.5 * ((x - centre) / 0.03).powi(2)).exp() + 0.005 * rng.normal()).collect();
+    let flux: Vec<f64> =
+        t.iter().map(|&x| 1.0 + 0.4 * (-0.5 * ((x - centre) / 0.03).powi(2)).exp() + 0.005 * rng.normal()).collect();
     let k = kwee_van_woerden(&t, &flux).unwrap();
     assert!((k.centre_d - centre).abs() < 4.0 * k.error_d, "{k:?}");
     let sign = skyclock::minima::peak_sign(Brightness::Flux, skyclock::minima::Extremum::Maximum);
@@ -186,18 +197,28 @@ fn segmentation_times_covered_events_and_reports_the_rest_with_reasons() {
     // Every skipped event is near a night edge: its window is cut by the start or end of a run.
     for s in &r.skipped {
         let text = s.reason.to_string();
-        assert!(matches!(s.reason, SkipReason::BranchMissing { .. } | SkipReason::TooFewPoints { .. } | SkipReason::Failed(_)), "{text}");
-        let edge = (0..20).flat_map(|n| [n as f64, n as f64 + 0.3]).map(|e| (s.predicted_d - e).abs()).fold(f64::INFINITY, f64::min);
+        assert!(
+            matches!(
+                s.reason,
+                SkipReason::BranchMissing { .. } | SkipReason::TooFewPoints { .. } | SkipReason::Failed(_)
+            ),
+            "{text}"
+        );
+        let edge = (0..20)
+            .flat_map(|n| [n as f64, n as f64 + 0.3])
+            .map(|e| (s.predicted_d - e).abs())
+            .fold(f64::INFINITY, f64::min);
         assert!(edge < 0.05 + 0.01, "cycle {} at {} skipped for '{text}'", s.cycle, s.predicted_d);
     }
     // Accounting: every predicted event with data in the window is timed or skipped.
-    let with_data = (-1..40)
-        .map(|e| 0.1234 + e as f64 * p)
-        .filter(|c| t.iter().any(|x| (x - c).abs() <= 0.05))
-        .count();
+    let with_data = (-1..40).map(|e| 0.1234 + e as f64 * p).filter(|c| t.iter().any(|x| (x - c).abs() <= 0.05)).count();
     assert_eq!(with_data, r.timed.len() + r.skipped.len());
     // The same with symmetric fits (seeded bootstrap): results are reproducible.
-    let m = TimingMethod::Symmetric(SymmetricOptions { shape: SymmetricShape::Polynomial4, bootstrap_resamples: 50, seed: 3 });
+    let m = TimingMethod::Symmetric(SymmetricOptions {
+        shape: SymmetricShape::Polynomial4,
+        bootstrap_resamples: 50,
+        seed: 3,
+    });
     let a = time_events(&curve, &eph, EventWindow::HalfWidthPhase(0.05 / p), &seg, &m).unwrap();
     let b = time_events(&curve, &eph, EventWindow::HalfWidthPhase(0.05 / p), &seg, &m).unwrap();
     assert_eq!(a, b);
@@ -213,7 +234,11 @@ fn dir(name: &str) -> PathBuf {
 
 fn run(args: &[&str]) -> (i32, String, String) {
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
-    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 fn write_curve(path: &Path, t: &[f64], v: &[f64]) {
@@ -234,9 +259,32 @@ fn time_events_output_feeds_timing_residuals() {
     let skipped = d.join("kq_skipped.csv");
     let summary = d.join("kq_minima.json");
     let (code, out, err) = run(&[
-        "time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--error-column", "mag_err",
-        "--epoch-bjd-tdb", "2460300.1234", "--period-d", "0.61", "--half-width-d", "0.05", "--min-points", "20", "--min-points-per-side", "5",
-        "--output", events.to_str().unwrap(), "--skipped-output", skipped.to_str().unwrap(), "--summary", summary.to_str().unwrap(), "--json",
+        "time-events",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--epoch-bjd-tdb",
+        "2460300.1234",
+        "--period-d",
+        "0.61",
+        "--half-width-d",
+        "0.05",
+        "--min-points",
+        "20",
+        "--min-points-per-side",
+        "5",
+        "--output",
+        events.to_str().unwrap(),
+        "--skipped-output",
+        skipped.to_str().unwrap(),
+        "--summary",
+        summary.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let s: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -244,23 +292,61 @@ fn time_events_output_feeds_timing_residuals() {
     assert!(timed >= 5, "{s}");
     assert!(s["notes"][0].as_str().unwrap().contains("Kwee–van Woerden error"), "{s}");
     assert_eq!(s["skipped"].as_u64().unwrap() as usize, s["skipped_events"].as_array().unwrap().len());
-    assert!(std::fs::read_to_string(&skipped).unwrap().starts_with("cycle,predicted_bjd_tdb,points,first_row,last_row,reason_code,reason"));
+    assert!(
+        std::fs::read_to_string(&skipped)
+            .unwrap()
+            .starts_with("cycle,predicted_bjd_tdb,points,first_row,last_row,reason_code,reason")
+    );
     assert!(std::fs::read_to_string(&summary).unwrap().contains("\"provenance\""));
     let table = std::fs::read_to_string(&events).unwrap();
     assert!(table.starts_with("time,error_d,kind,cycle,method"), "{table}");
     // Refusal to overwrite the input.
     let (code, _, err) = run(&[
-        "time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "mag", "--epoch-bjd-tdb", "2460300.1234",
-        "--period-d", "0.61", "--half-width-d", "0.05", "--output", input.to_str().unwrap(),
+        "time-events",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "mag",
+        "--epoch-bjd-tdb",
+        "2460300.1234",
+        "--period-d",
+        "0.61",
+        "--half-width-d",
+        "0.05",
+        "--output",
+        input.to_str().unwrap(),
     ]);
     assert_ne!(code, 0);
     assert!(err.contains("input"), "{err}");
     // The timing table goes straight into timing-residuals (invented position).
     let oc = d.join("kq_oc.csv");
     let (code, out, err) = run(&[
-        "timing-residuals", "--input", events.to_str().unwrap(), "--time-column", "time", "--clock", "bjd_tdb", "--error-column", "error_d",
-        "--kind-column", "kind", "--ra", "05:12:34.5", "--dec", "+21:43:10", "--epoch-bjd-tdb", "2460300.1234", "--period-d", "0.61",
-        "--models", "linear", "--output", oc.to_str().unwrap(), "--json",
+        "timing-residuals",
+        "--input",
+        events.to_str().unwrap(),
+        "--time-column",
+        "time",
+        "--clock",
+        "bjd_tdb",
+        "--error-column",
+        "error_d",
+        "--kind-column",
+        "kind",
+        "--ra",
+        "05:12:34.5",
+        "--dec",
+        "+21:43:10",
+        "--epoch-bjd-tdb",
+        "2460300.1234",
+        "--period-d",
+        "0.61",
+        "--models",
+        "linear",
+        "--output",
+        oc.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -285,7 +371,21 @@ fn time_events_bad_input_names_file_column_and_rows() {
     let (code, help, _) = run(&["time-events", "--help"]);
     assert_eq!(code, 0);
     assert!(help.contains("Example (invented star)") && help.contains("--method kwee-van-woerden"), "{help}");
-    let base = ["time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--epoch-bjd-tdb", "2460300.1234", "--period-d", "0.61", "--half-width-d", "0.05", "--output", out.to_str().unwrap()];
+    let base = [
+        "time-events",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--epoch-bjd-tdb",
+        "2460300.1234",
+        "--period-d",
+        "0.61",
+        "--half-width-d",
+        "0.05",
+        "--output",
+        out.to_str().unwrap(),
+    ];
     // Missing column.
     let mut args = base.to_vec();
     args.extend(["--value-column", "magnitude"]);
@@ -297,7 +397,13 @@ fn time_events_bad_input_names_file_column_and_rows() {
     args.extend(["--value-column", "mag", "--min-points", "500"]);
     let (code, _, err) = run(&args);
     assert_ne!(code, 0);
-    assert!(err.contains("kq_invented.csv") && err.contains("no event could be timed") && err.contains("rows ") && err.contains("at least 500"), "{err}");
+    assert!(
+        err.contains("kq_invented.csv")
+            && err.contains("no event could be timed")
+            && err.contains("rows ")
+            && err.contains("at least 500"),
+        "{err}"
+    );
     assert!(!out.exists());
     // A value that is not a number: file, row and column.
     let text = std::fs::read_to_string(&input).unwrap();
@@ -310,7 +416,10 @@ fn time_events_bad_input_names_file_column_and_rows() {
     args.extend(["--value-column", "mag"]);
     let (code, _, err) = run(&args);
     assert_ne!(code, 0);
-    assert!(err.contains("kq_bad.csv") && err.contains("row 5") && err.contains("mag") && err.contains("faint"), "{err}");
+    assert!(
+        err.contains("kq_bad.csv") && err.contains("row 5") && err.contains("mag") && err.contains("faint"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -335,9 +444,34 @@ fn time_events_times_maxima_of_an_invented_pulsator_in_flux_to_parquet() {
     std::fs::write(&input, s).unwrap();
     let events = d.join("rr_maxima.parquet");
     let (code, out, err) = run(&[
-        "time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "flux", "--error-column", "flux_err",
-        "--brightness", "flux", "--event-kind", "maximum", "--epoch-bjd-tdb", "2460500.0777", "--period-d", "0.4", "--half-width-phase", "0.08",
-        "--method", "symmetric-polynomial", "--polynomial-degree", "4", "--bootstrap", "100", "--output", events.to_str().unwrap(), "--json",
+        "time-events",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "flux",
+        "--error-column",
+        "flux_err",
+        "--brightness",
+        "flux",
+        "--event-kind",
+        "maximum",
+        "--epoch-bjd-tdb",
+        "2460500.0777",
+        "--period-d",
+        "0.4",
+        "--half-width-phase",
+        "0.08",
+        "--method",
+        "symmetric-polynomial",
+        "--polynomial-degree",
+        "4",
+        "--bootstrap",
+        "100",
+        "--output",
+        events.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -346,17 +480,60 @@ fn time_events_times_maxima_of_an_invented_pulsator_in_flux_to_parquet() {
     // Asking for minima of the same flux around the maximum times finds the wrong curvature
     // in every window: nothing can be timed, and the message says why per event.
     let (code, _, err) = run(&[
-        "time-events", "--input", input.to_str().unwrap(), "--time-column", "bjd", "--value-column", "flux", "--brightness", "flux",
-        "--event-kind", "primary", "--epoch-bjd-tdb", "2460500.0777", "--period-d", "0.4", "--half-width-phase", "0.08",
-        "--method", "symmetric-gaussian", "--output", d.join("wrong.csv").to_str().unwrap(),
+        "time-events",
+        "--input",
+        input.to_str().unwrap(),
+        "--time-column",
+        "bjd",
+        "--value-column",
+        "flux",
+        "--brightness",
+        "flux",
+        "--event-kind",
+        "primary",
+        "--epoch-bjd-tdb",
+        "2460500.0777",
+        "--period-d",
+        "0.4",
+        "--half-width-phase",
+        "0.08",
+        "--method",
+        "symmetric-gaussian",
+        "--output",
+        d.join("wrong.csv").to_str().unwrap(),
     ]);
     assert_ne!(code, 0);
-    assert!(err.contains("no event could be timed") && (err.contains("opposite extremum") || err.contains("curve the wrong way")), "{err}");
+    assert!(
+        err.contains("no event could be timed")
+            && (err.contains("opposite extremum") || err.contains("curve the wrong way")),
+        "{err}"
+    );
     let oc = d.join("rr_oc.csv");
     let (code, out, err) = run(&[
-        "timing-residuals", "--input", events.to_str().unwrap(), "--time-column", "time", "--clock", "bjd_tdb", "--error-column", "error_d",
-        "--kind-column", "kind", "--ra", "14:02:11.0", "--dec", "-12:30:05", "--epoch-bjd-tdb", "2460500.0777", "--period-d", "0.4",
-        "--models", "linear", "--output", oc.to_str().unwrap(), "--json",
+        "timing-residuals",
+        "--input",
+        events.to_str().unwrap(),
+        "--time-column",
+        "time",
+        "--clock",
+        "bjd_tdb",
+        "--error-column",
+        "error_d",
+        "--kind-column",
+        "kind",
+        "--ra",
+        "14:02:11.0",
+        "--dec",
+        "-12:30:05",
+        "--epoch-bjd-tdb",
+        "2460500.0777",
+        "--period-d",
+        "0.4",
+        "--models",
+        "linear",
+        "--output",
+        oc.to_str().unwrap(),
+        "--json",
     ]);
     assert_eq!(code, 0, "{err}");
     let r: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -387,7 +564,14 @@ fn secondary_minima_are_cut_at_half_cycles() {
     }
     let curve = EventCurve { reference, time_d: &t, value: &v, error: None, brightness: Brightness::Magnitude };
     let eph = EventEphemeris { epoch, period_d: p, kind: EventKind::Secondary };
-    let r = time_events(&curve, &eph, EventWindow::HalfWidthPhase(0.08), &SegmentOptions::default(), &TimingMethod::KweeVanWoerden).unwrap();
+    let r = time_events(
+        &curve,
+        &eph,
+        EventWindow::HalfWidthPhase(0.08),
+        &SegmentOptions::default(),
+        &TimingMethod::KweeVanWoerden,
+    )
+    .unwrap();
     assert!(r.timed.len() >= 8, "{}", r.timed.len());
     for e in &r.timed {
         assert_eq!(e.cycle.fract().abs(), 0.5);
@@ -402,10 +586,14 @@ fn symmetric_fits_match_scipy_curve_fit() {
     // symmetric_fit.README.md). Same data, same models: T0 and its covariance error agree.
     let base = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/reference");
     let points = std::fs::read_to_string(base.join("symmetric_fit_points.csv")).unwrap();
-    let rows: Vec<[f64; 3]> = points.lines().skip(1).map(|l| {
-        let v: Vec<f64> = l.split(',').map(|x| x.parse().unwrap()).collect();
-        [v[0], v[1], v[2]]
-    }).collect();
+    let rows: Vec<[f64; 3]> = points
+        .lines()
+        .skip(1)
+        .map(|l| {
+            let v: Vec<f64> = l.split(',').map(|x| x.parse().unwrap()).collect();
+            [v[0], v[1], v[2]]
+        })
+        .collect();
     let reference = std::fs::read_to_string(base.join("symmetric_fit_reference.csv")).unwrap();
     let mut checked = 0;
     for line in reference.lines().skip(1) {
@@ -417,8 +605,10 @@ fn symmetric_fits_match_scipy_curve_fit() {
             other => panic!("unknown model {other}"),
         };
         let weighted = f[1] == "weighted";
-        let (n, centre, sigma): (usize, f64, f64) = (f[2].parse().unwrap(), f[3].parse().unwrap(), f[4].parse().unwrap());
-        let sel: Vec<&[f64; 3]> = rows.iter().filter(|r| shape == SymmetricShape::Gaussian || (r[0] - 2.3).abs() <= 0.02).collect();
+        let (n, centre, sigma): (usize, f64, f64) =
+            (f[2].parse().unwrap(), f[3].parse().unwrap(), f[4].parse().unwrap());
+        let sel: Vec<&[f64; 3]> =
+            rows.iter().filter(|r| shape == SymmetricShape::Gaussian || (r[0] - 2.3).abs() <= 0.02).collect();
         assert_eq!(sel.len(), n, "{line}");
         let t: Vec<f64> = sel.iter().map(|r| r[0]).collect();
         let v: Vec<f64> = sel.iter().map(|r| r[1]).collect();
@@ -426,7 +616,11 @@ fn symmetric_fits_match_scipy_curve_fit() {
         let o = SymmetricOptions { shape, bootstrap_resamples: 0, seed: 0 };
         let fit = fit_symmetric(&t, &v, weighted.then_some(e.as_slice()), 1.0, 2.3, &o).unwrap();
         assert!((fit.centre_d - centre).abs() < 1e-8, "{line}: centre {} vs scipy {centre}", fit.centre_d);
-        assert!((fit.error_covariance_d / sigma - 1.0).abs() < 1e-4, "{line}: sigma {} vs scipy {sigma}", fit.error_covariance_d);
+        assert!(
+            (fit.error_covariance_d / sigma - 1.0).abs() < 1e-4,
+            "{line}: sigma {} vs scipy {sigma}",
+            fit.error_covariance_d
+        );
         checked += 1;
     }
     assert_eq!(checked, 6);

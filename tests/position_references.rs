@@ -43,7 +43,12 @@ fn position_offset_delay_matches_astropy_direction_shift_within_1_ns() {
             Column::new("error_us".into(), vec![1.0_f64]),
         ])
         .unwrap();
-        let request = TableRequest { time_column: "time".into(), clock: Some(ClockSpec::parse_label("mjd_utc").unwrap()), clock_column: None, observer: ObserverSpec::Geocentre };
+        let request = TableRequest {
+            time_column: "time".into(),
+            clock: Some(ClockSpec::parse_label("mjd_utc").unwrap()),
+            clock_column: None,
+            observer: ObserverSpec::Geocentre,
+        };
         let (table, _, geometry) = correct_table_with_geometry(&df, "shift.csv", &request, &corrector).unwrap();
         let mut model = TimingModel::from_toml("epoch_mjd_day_tdb = 59000\nfreq_hz = 1.0\n", "m").unwrap();
         let mut toas = arrival_times_from_table(&table, "shift.csv", &model.epoch()).unwrap();
@@ -62,7 +67,9 @@ fn position_offset_delay_matches_astropy_direction_shift_within_1_ns() {
             rows_above_50_us += usize::from(theirs.abs() > 5e-5);
         }
     }
-    eprintln!("largest |ours − astropy| = {worst:.3e} s; largest shift signal {largest_signal:.3e} s; {rows_above_50_us} rows above 50 µs");
+    eprintln!(
+        "largest |ours − astropy| = {worst:.3e} s; largest shift signal {largest_signal:.3e} s; {rows_above_50_us} rows above 50 µs"
+    );
     // The shifts must move the delay by far more than the tolerance, or the test proves nothing
     // (second-order terms, neglected by the model, are ≤ 500 s·(1 µrad)²·tan δ ~ 0.5 ns).
     assert!(largest_signal > 3e-4 && rows_above_50_us >= 50, "the reference shifts should move the delay by ≫ 1 ns");

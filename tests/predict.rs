@@ -43,11 +43,13 @@ fn sky_angle_deg(alt1: f64, az1: f64, alt2: f64, az2: f64) -> f64 {
 /// it by ≤ 0.003).
 #[test]
 fn altitudes_and_azimuths_agree_with_astropy() {
-    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/predict/altaz.csv")).unwrap();
+    let text =
+        std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/predict/altaz.csv")).unwrap();
     let conv = converter();
     let sky = SkyGeometry::new(embedded(), conv.clone(), EarthOrientation::Ignored);
     let site = quarry_hill();
-    let (mut worst_target, mut worst_sun, mut worst_moon, mut worst_sep, mut worst_frac) = (0.0f64, 0.0f64, 0.0f64, 0.0f64, 0.0f64);
+    let (mut worst_target, mut worst_sun, mut worst_moon, mut worst_sep, mut worst_frac) =
+        (0.0f64, 0.0f64, 0.0f64, 0.0f64, 0.0f64);
     let mut rows = 0;
     for line in text.lines().skip(1) {
         let f: Vec<&str> = line.split(',').collect();
@@ -150,11 +152,14 @@ fn events_for(source: Source, start: &str, end: &str) -> Vec<skyclock::predict::
     let site = quarry_hill();
     let start = parse_time(start, TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
     let end = parse_time(end, TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
-    let eph = EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
-    let corrector = BarycentricCorrector::new(embedded(), conv.clone(), EarthOrientation::Ignored, source, DelayOptions::default());
+    let eph =
+        EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
+    let corrector =
+        BarycentricCorrector::new(embedded(), conv.clone(), EarthOrientation::Ignored, source, DelayOptions::default());
     let sky = SkyGeometry::new(embedded(), conv.clone(), EarthOrientation::Ignored);
     let options = PredictionOptions { event_duration_d: Some(0.1), ..Default::default() };
-    predict_events(&eph, &[EventKind::Primary, EventKind::Secondary], &start, &end, &site, &corrector, &sky, &options).unwrap()
+    predict_events(&eph, &[EventKind::Primary, EventKind::Secondary], &start, &end, &site, &corrector, &sky, &options)
+        .unwrap()
 }
 
 /// The caution (the 15° rule) triggers for a target at the Sun's position and for
@@ -211,10 +216,28 @@ fn sun_caution_triggers_near_the_sun_only() {
     let conv = converter();
     let start = parse_time("2026-12-19T12:00", TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
     let end = parse_time("2026-12-21T12:00", TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
-    let eph = EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
-    let corrector = BarycentricCorrector::new(embedded(), conv.clone(), EarthOrientation::Ignored, opposite.clone(), DelayOptions::default());
-    let options = PredictionOptions { event_duration_d: Some(0.1), min_moon_separation_deg: limit, ..Default::default() };
-    let limited = predict_events(&eph, &[EventKind::Primary, EventKind::Secondary], &start, &end, &quarry_hill(), &corrector, &sky, &options).unwrap();
+    let eph =
+        EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
+    let corrector = BarycentricCorrector::new(
+        embedded(),
+        conv.clone(),
+        EarthOrientation::Ignored,
+        opposite.clone(),
+        DelayOptions::default(),
+    );
+    let options =
+        PredictionOptions { event_duration_d: Some(0.1), min_moon_separation_deg: limit, ..Default::default() };
+    let limited = predict_events(
+        &eph,
+        &[EventKind::Primary, EventKind::Secondary],
+        &start,
+        &end,
+        &quarry_hill(),
+        &corrector,
+        &sky,
+        &options,
+    )
+    .unwrap();
     assert_eq!(limited.len(), ev.len());
     let (mut kept, mut removed) = (0, 0);
     for (a, b) in ev.iter().zip(&limited) {
@@ -233,7 +256,8 @@ fn site_clock_time_returns_to_the_predicted_bjd() {
     let source = Source::fixed_degrees("invented-F", 250.0, 30.0).unwrap();
     let ev = events_for(source.clone(), "2027-05-01", "2027-05-04");
     let conv = converter();
-    let corrector = BarycentricCorrector::new(embedded(), conv, EarthOrientation::Ignored, source, DelayOptions::default());
+    let corrector =
+        BarycentricCorrector::new(embedded(), conv, EarthOrientation::Ignored, source, DelayOptions::default());
     let obs = Observer::Site(quarry_hill());
     assert!((15..=17).contains(&ev.len()), "3 days of a 0.377-d period with secondaries: {}", ev.len());
     for e in &ev {
@@ -291,7 +315,17 @@ fn command_round_trip_from_a_timing_summary() {
     let o = skyclock()
         .args(["predict-events", "--ephemeris-summary"])
         .arg(&summary)
-        .args(["--summary-model", "quadratic", "--kinds", "primary,secondary", "--from", "2026-03-01", "--until", "2026-03-11", SITE])
+        .args([
+            "--summary-model",
+            "quadratic",
+            "--kinds",
+            "primary,secondary",
+            "--from",
+            "2026-03-01",
+            "--until",
+            "2026-03-11",
+            SITE,
+        ])
         .args(STAR)
         .args(["--event-duration-hours", "3", "--json", "--output"])
         .arg(&out)
@@ -309,7 +343,20 @@ fn command_round_trip_from_a_timing_summary() {
     let table = std::fs::read_to_string(&out).unwrap();
     assert_eq!(table.lines().count(), events.len() + 1);
     let header: Vec<&str> = table.lines().next().unwrap().split(',').collect();
-    for col in ["kind", "cycle", "bjd_tdb", "sigma_d", "utc_iso", "target_altitude_deg", "sun_altitude_deg", "sky_condition", "moon_separation_deg", "observable", "window_observable", "caution"] {
+    for col in [
+        "kind",
+        "cycle",
+        "bjd_tdb",
+        "sigma_d",
+        "utc_iso",
+        "target_altitude_deg",
+        "sun_altitude_deg",
+        "sky_condition",
+        "moon_separation_deg",
+        "observable",
+        "window_observable",
+        "caution",
+    ] {
         assert!(header.contains(&col), "{header:?}");
     }
     let prov = std::fs::read_to_string(d.join("upcoming.csv.provenance.json")).unwrap();
@@ -337,7 +384,10 @@ fn command_round_trip_from_a_timing_summary() {
         .output()
         .unwrap();
     assert_eq!(o.status.code(), Some(1));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("residuals.json") && String::from_utf8_lossy(&o.stderr).contains("also an input"));
+    assert!(
+        String::from_utf8_lossy(&o.stderr).contains("residuals.json")
+            && String::from_utf8_lossy(&o.stderr).contains("also an input")
+    );
     assert_eq!(std::fs::read(&summary).unwrap(), before);
     // The human listing.
     let o = skyclock()
@@ -361,7 +411,17 @@ fn command_prints_the_sun_caution() {
     let out = d.join("near-sun.parquet");
     let o = skyclock()
         .args(["predict-events", "--ra", &format!("{ra}"), "--dec", &format!("{dec}"), SITE])
-        .args(["--epoch-bjd-tdb", "2461000.25", "--period-d", "0.9", "--from", "2026-03-17", "--until", "2026-03-19", "--output"])
+        .args([
+            "--epoch-bjd-tdb",
+            "2461000.25",
+            "--period-d",
+            "0.9",
+            "--from",
+            "2026-03-17",
+            "--until",
+            "2026-03-19",
+            "--output",
+        ])
         .arg(&out)
         .output()
         .unwrap();
@@ -421,12 +481,18 @@ fn bad_inputs_fail_with_clear_messages() {
     };
     let cases: &[(&[&str], &[&str])] = &[
         (&["--from", "2026-03-10", "--until", "2026-03-01", SITE], &["ends", "before it starts"]),
-        (&["--from", "2026-03-01", "--until", "2026-03-10", "--kinds", "primary,transitt", SITE], &["unknown event kind", "transitt"]),
+        (
+            &["--from", "2026-03-01", "--until", "2026-03-10", "--kinds", "primary,transitt", SITE],
+            &["unknown event kind", "transitt"],
+        ),
         (&["--from", "2026-03-01", "--until", "2026-03-10"], &["no site given"]),
         (&["--from", "2026-02-30", "--until", "2026-03-10", SITE], &["--from", "2026-02-30"]),
         (&["--from", "2026-03-01", "--until", "2026-03-10", "--sun-caution-deg", "5", SITE], &["cannot be below 15"]),
         (&["--from", "2026-03-01", "--until", "2026-03-10", "--min-target-altitude-deg", "95", SITE], &["-90..90"]),
-        (&["--from", "2026-03-01", "--until", "2027-03-10", "--period-d", "0.0001", SITE], &["more than the limit", "narrow the date range"]),
+        (
+            &["--from", "2026-03-01", "--until", "2027-03-10", "--period-d", "0.0001", SITE],
+            &["more than the limit", "narrow the date range"],
+        ),
         (&["--from", "2026-03-01", "--until", "2026-03-10", "--period-d=-2", SITE], &["period must be a positive"]),
     ];
     for (args, want) in cases {
@@ -438,7 +504,11 @@ fn bad_inputs_fail_with_clear_messages() {
         }
     }
     // A missing ephemeris.
-    let o = skyclock().args(["predict-events", "--from", "2026-03-01", "--until", "2026-03-10", SITE]).args(STAR).output().unwrap();
+    let o = skyclock()
+        .args(["predict-events", "--from", "2026-03-01", "--until", "2026-03-10", SITE])
+        .args(STAR)
+        .output()
+        .unwrap();
     assert_eq!(o.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&o.stderr).contains("no ephemeris given"));
     // A summary that is not one.
@@ -511,7 +581,11 @@ fn light_time_models_are_extrapolated_with_their_covariance() {
             p_ref * cycle + evaluate(kind, p, cycle, t_d)
         };
         let predicted_d = e.time_at(cycle).seconds_since(&reference) / 86_400.0;
-        assert!((predicted_d - model_at(&params)).abs() < 1e-9, "cycle {cycle}: {predicted_d} vs {}", model_at(&params));
+        assert!(
+            (predicted_d - model_at(&params)).abs() < 1e-9,
+            "cycle {cycle}: {predicted_d} vs {}",
+            model_at(&params)
+        );
         let values: Vec<f64> = draws.iter().map(|p| model_at(p)).collect();
         let mean = values.iter().sum::<f64>() / values.len() as f64;
         let sd = (values.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (values.len() - 1) as f64).sqrt();

@@ -15,17 +15,21 @@ fn uniform_phases(seed: u64, n: usize) -> Vec<f64> {
 fn ks_distance(mut x: Vec<f64>, cdf: impl Fn(f64) -> f64) -> f64 {
     x.sort_by(|a, b| a.total_cmp(b));
     let n = x.len() as f64;
-    x.iter().enumerate().map(|(i, &v)| {
-        let f = cdf(v);
-        (f - i as f64 / n).abs().max(((i + 1) as f64 / n - f).abs())
-    }).fold(0.0, f64::max)
+    x.iter()
+        .enumerate()
+        .map(|(i, &v)| {
+            let f = cdf(v);
+            (f - i as f64 / n).abs().max(((i + 1) as f64 / n - f).abs())
+        })
+        .fold(0.0, f64::max)
 }
 
 #[test]
 fn z2n_follows_chi2_with_2n_degrees_of_freedom() {
     // Null distribution χ²₂ₙ: Buccheri et al. 1983, A&A 128, 245. CDF: statrs 0.19.
     for n in [1usize, 2, 4] {
-        let z: Vec<f64> = (0..3000u64).into_par_iter().map(|s| z2n(&uniform_phases(s, 400), None, n).unwrap()).collect();
+        let z: Vec<f64> =
+            (0..3000u64).into_par_iter().map(|s| z2n(&uniform_phases(s, 400), None, n).unwrap()).collect();
         let chi = ChiSquared::new(2.0 * n as f64).unwrap();
         let d = ks_distance(z, |v| chi.cdf(v));
         // KS 1 % critical value for m = 3000: 1.63/√m = 0.0298 (common practice).
@@ -37,12 +41,15 @@ fn z2n_follows_chi2_with_2n_degrees_of_freedom() {
 fn weighted_z2_keeps_its_null_distribution() {
     // Kerr 2011, ApJ 732, 38: weighted Z²ₙ is χ²₂ₙ under the null hypothesis.
     let chi = ChiSquared::new(4.0).unwrap();
-    let z: Vec<f64> = (0..3000u64).into_par_iter().map(|s| {
-        let p = uniform_phases(s, 400);
-        let mut r = SeededRng::for_stream(s, 12);
-        let w: Vec<f64> = (0..400).map(|_| r.uniform()).collect();
-        z2n(&p, Some(&w), 2).unwrap()
-    }).collect();
+    let z: Vec<f64> = (0..3000u64)
+        .into_par_iter()
+        .map(|s| {
+            let p = uniform_phases(s, 400);
+            let mut r = SeededRng::for_stream(s, 12);
+            let w: Vec<f64> = (0..400).map(|_| r.uniform()).collect();
+            z2n(&p, Some(&w), 2).unwrap()
+        })
+        .collect();
     assert!(ks_distance(z, |v| chi.cdf(v)) < 0.0298);
 }
 
@@ -79,6 +86,7 @@ fn h_test_false_alarm_follows_exp_minus_0_4_h() {
 fn epoch_folding_follows_chi2_with_bins_minus_one() {
     // Leahy et al. 1983, ApJ 266, 160: S ~ χ²_{M−1}.
     let chi = ChiSquared::new(9.0).unwrap();
-    let s: Vec<f64> = (0..3000u64).into_par_iter().map(|s| epoch_folding_chi2(&uniform_phases(s, 500), None, 10).unwrap()).collect();
+    let s: Vec<f64> =
+        (0..3000u64).into_par_iter().map(|s| epoch_folding_chi2(&uniform_phases(s, 500), None, 10).unwrap()).collect();
     assert!(ks_distance(s, |v| chi.cdf(v)) < 0.0298);
 }

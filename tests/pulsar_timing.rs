@@ -57,27 +57,44 @@ fn coverage(truth: &TimingModel, trials: u64, n: usize, span_s: f64, sigma_s: f6
 }
 
 /// Per fitted parameter (phase offset excluded): name, trials within 1σ, trials.
-fn coverage_per_parameter(truth: &TimingModel, trials: u64, n: usize, span_s: f64, sigma_s: f64) -> Vec<(String, usize, usize)> {
-    let hits: Vec<Vec<(String, bool)>> = (0..trials).into_par_iter().map(|s| {
-        let toas = simulate(truth, s, n, span_s, sigma_s);
-        let mut start = truth.clone();
-        // start slightly off, as a real starting model would be (the position at the
-        // direction used for barycentring: no offset, no proper motion)
-        start.freq_hz += 3e-10;
-        for p in skyclock::pulsar::model::POSITION_PARAMETERS {
-            start.set(p, 0.0);
-        }
-        let fit = fit_timing_model(&start, &toas, 20).expect("fit converges");
-        fit.parameters.iter().enumerate().filter(|(_, name)| name.as_str() != "phase_offset_cycles").map(|(j, name)| {
-            let t = truth.get(name).unwrap();
-            (name.clone(), (fit.values[j] - t).abs() <= fit.uncertainties[j])
-        }).collect()
-    }).collect();
+fn coverage_per_parameter(
+    truth: &TimingModel,
+    trials: u64,
+    n: usize,
+    span_s: f64,
+    sigma_s: f64,
+) -> Vec<(String, usize, usize)> {
+    let hits: Vec<Vec<(String, bool)>> = (0..trials)
+        .into_par_iter()
+        .map(|s| {
+            let toas = simulate(truth, s, n, span_s, sigma_s);
+            let mut start = truth.clone();
+            // start slightly off, as a real starting model would be (the position at the
+            // direction used for barycentring: no offset, no proper motion)
+            start.freq_hz += 3e-10;
+            for p in skyclock::pulsar::model::POSITION_PARAMETERS {
+                start.set(p, 0.0);
+            }
+            let fit = fit_timing_model(&start, &toas, 20).expect("fit converges");
+            fit.parameters
+                .iter()
+                .enumerate()
+                .filter(|(_, name)| name.as_str() != "phase_offset_cycles")
+                .map(|(j, name)| {
+                    let t = truth.get(name).unwrap();
+                    (name.clone(), (fit.values[j] - t).abs() <= fit.uncertainties[j])
+                })
+                .collect()
+        })
+        .collect();
     let mut out: Vec<(String, usize, usize)> = vec![];
     for trial in hits {
         for (name, inside) in trial {
             match out.iter_mut().find(|e| e.0 == name) {
-                Some(e) => { e.1 += usize::from(inside); e.2 += 1; }
+                Some(e) => {
+                    e.1 += usize::from(inside);
+                    e.2 += 1;
+                }
                 None => out.push((name, usize::from(inside), 1)),
             }
         }
@@ -98,7 +115,11 @@ fn isolated_pulsar_parameters_within_one_sigma_68_percent() {
 
 #[test]
 fn binary_pulsar_parameters_within_one_sigma_68_percent() {
-    let mut truth = TimingModel::from_toml("epoch_mjd_day_tdb = 60100\nfreq_hz = 217.3\nfreq_deriv_hz_per_s = -4e-16\n", "invented binary").unwrap();
+    let mut truth = TimingModel::from_toml(
+        "epoch_mjd_day_tdb = 60100\nfreq_hz = 217.3\nfreq_deriv_hz_per_s = -4e-16\n",
+        "invented binary",
+    )
+    .unwrap();
     truth.orbit = Some(Orbit {
         orbital_period_d: 2.31,
         projected_semi_major_axis_lt_s: 3.7,
@@ -109,8 +130,18 @@ fn binary_pulsar_parameters_within_one_sigma_68_percent() {
         shapiro_range_s: 0.0,
         shapiro_shape: 0.0,
     });
-    truth.fit = ["freq_hz", "freq_deriv_hz_per_s", "orbital_period_d", "projected_semi_major_axis_lt_s", "eccentricity", "periastron_longitude_deg", "periastron_time_s"]
-        .iter().map(|s| s.to_string()).collect();
+    truth.fit = [
+        "freq_hz",
+        "freq_deriv_hz_per_s",
+        "orbital_period_d",
+        "projected_semi_major_axis_lt_s",
+        "eccentricity",
+        "periastron_longitude_deg",
+        "periastron_time_s",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
     let (frac, n) = coverage(&truth, 240, 60, 2.0e6, 5e-6);
     eprintln!("coverage {frac:.3} over {n} parameter estimates");
     assert!((0.61..=0.75).contains(&frac), "coverage {frac} over {n} parameter estimates");
@@ -118,7 +149,8 @@ fn binary_pulsar_parameters_within_one_sigma_68_percent() {
 
 #[test]
 fn lost_phase_connection_is_reported() {
-    let truth = TimingModel::from_toml("epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfit = [\"freq_hz\"]\n", "t").unwrap();
+    let truth =
+        TimingModel::from_toml("epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfit = [\"freq_hz\"]\n", "t").unwrap();
     let toas = simulate(&truth, 1, 30, 3.0e7, 50e-6);
     let mut start = truth.clone();
     start.freq_hz += 2e-7; // 3 cycles of drift over the span
@@ -169,8 +201,23 @@ fn position_and_proper_motion_recovered_within_one_sigma_68_percent() {
 
 #[test]
 fn position_needs_arrival_times_at_an_observer() {
-    let model = TimingModel::from_toml("epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfit = [\"freq_hz\", \"position_offset_ra_mas\"]\n", "t").unwrap();
-    let toas: Vec<ArrivalTime> = (0..10).map(|i| ArrivalTime { t_s: i as f64 * 1e6, error_s: 1e-5, freq_mhz: None, instrument: "x".into(), observer: None }).collect();
+    let model = TimingModel::from_toml(
+        "epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfit = [\"freq_hz\", \"position_offset_ra_mas\"]\n",
+        "t",
+    )
+    .unwrap();
+    let toas: Vec<ArrivalTime> = (0..10)
+        .map(|i| ArrivalTime {
+            t_s: i as f64 * 1e6,
+            error_s: 1e-5,
+            freq_mhz: None,
+            instrument: "x".into(),
+            observer: None,
+        })
+        .collect();
     let e = fit_timing_model(&model, &toas, 20).unwrap_err().to_string();
-    assert!(e.contains("observer's barycentric position") && e.contains("arrival time 1") && e.contains("bjd_tdb"), "{e}");
+    assert!(
+        e.contains("observer's barycentric position") && e.contains("arrival time 1") && e.contains("bjd_tdb"),
+        "{e}"
+    );
 }

@@ -7,7 +7,10 @@ use rayon::prelude::*;
 use skyclock::fit::SeededRng;
 use skyclock::pulsar::event_toas::{Segmentation, event_arrival_times, phase_shift};
 use skyclock::pulsar::model::{ArrivalTime, TimingModel};
-use skyclock::pulsar::profile::{PulseTemplate, repeated_times, binned_profile, check_event_times, event_phase_cycles, fold_events, fourier_template, gaussian_template};
+use skyclock::pulsar::profile::{
+    PulseTemplate, binned_profile, check_event_times, event_phase_cycles, fold_events, fourier_template,
+    gaussian_template, repeated_times,
+};
 use skyclock::pulsar::timing_fit::fit_timing_model;
 
 /// The invented two-harmonic profile of the tests (positive everywhere: min f ≈ 0.27).
@@ -82,7 +85,9 @@ fn weighted_binned_profile_matches_the_diluted_template() {
     let mut chi2 = 0.0;
     for i in 0..16 {
         let lo = i as f64 / 16.0;
-        let expected: f64 = (0..100).map(|j| b.expected_relative_intensity(&truth, lo + (j as f64 + 0.5) / 1600.0)).sum::<f64>() / 100.0;
+        let expected: f64 =
+            (0..100).map(|j| b.expected_relative_intensity(&truth, lo + (j as f64 + 0.5) / 1600.0)).sum::<f64>()
+                / 100.0;
         chi2 += ((b.relative_intensity[i] - expected) / b.relative_intensity_errors[i]).powi(2);
     }
     // χ² with ≤ 16 degrees of freedom: below 39.3 with probability 0.999 (χ² table, common practice)
@@ -118,7 +123,13 @@ fn gaussian_template_recovers_an_invented_two_peak_pulse() {
     let phases: Vec<f64> = (0..60_000)
         .map(|_| {
             let u = rng.uniform();
-            let (c, s) = if u < 0.30 { (0.20, 0.03) } else if u < 0.45 { (0.65, 0.05) } else { return rng.uniform() };
+            let (c, s) = if u < 0.30 {
+                (0.20, 0.03)
+            } else if u < 0.45 {
+                (0.65, 0.05)
+            } else {
+                return rng.uniform();
+            };
             (c + s * rng.normal()).rem_euclid(1.0)
         })
         .collect();
@@ -127,8 +138,16 @@ fn gaussian_template_recovers_an_invented_two_peak_pulse() {
     let mut comps = g.gaussian_components.clone();
     comps.sort_by(|a, b| a.center_cycles.total_cmp(&b.center_cycles));
     eprintln!("{comps:?}");
-    assert!((comps[0].center_cycles - 0.20).abs() < 0.005 && (comps[0].width_cycles - 0.03).abs() < 0.005 && (comps[0].fraction - 0.30).abs() < 0.03);
-    assert!((comps[1].center_cycles - 0.65).abs() < 0.01 && (comps[1].width_cycles - 0.05).abs() < 0.01 && (comps[1].fraction - 0.15).abs() < 0.03);
+    assert!(
+        (comps[0].center_cycles - 0.20).abs() < 0.005
+            && (comps[0].width_cycles - 0.03).abs() < 0.005
+            && (comps[0].fraction - 0.30).abs() < 0.03
+    );
+    assert!(
+        (comps[1].center_cycles - 0.65).abs() < 0.01
+            && (comps[1].width_cycles - 0.05).abs() < 0.01
+            && (comps[1].fraction - 0.15).abs() < 0.03
+    );
 }
 
 fn shift_coverage(weighted: bool, photons: usize) -> (f64, usize) {
@@ -175,7 +194,14 @@ fn spin_down_pulsar() -> TimingModel {
 
 /// Events of `truth` (profile `tpl`): `windows` daily observing windows of 20 000 s across
 /// ±`half_span_s`, `per_window` photons each, 40 % unpulsed background. Sorted.
-fn simulate_events(truth: &TimingModel, tpl: &PulseTemplate, seed: u64, windows: usize, per_window: usize, half_span_s: f64) -> Vec<f64> {
+fn simulate_events(
+    truth: &TimingModel,
+    tpl: &PulseTemplate,
+    seed: u64,
+    windows: usize,
+    per_window: usize,
+    half_span_s: f64,
+) -> Vec<f64> {
     let mut rng = SeededRng::for_stream(seed, 11);
     let mut out = Vec::with_capacity(windows * per_window);
     for wi in 0..windows {
@@ -208,9 +234,29 @@ fn event_arrival_times_feed_the_timing_fit_and_recover_spin_down() {
             let ev = simulate_events(&truth, &tpl, seed, 30, 600, 1.3e6);
             let mut folding = truth.clone();
             folding.freq_hz += 2e-9;
-            let r = event_arrival_times(&folding, &ev, None, &tpl, Segmentation::Duration { seconds: 86_400.0 }, 100, 2e6, "default").unwrap();
+            let r = event_arrival_times(
+                &folding,
+                &ev,
+                None,
+                &tpl,
+                Segmentation::Duration { seconds: 86_400.0 },
+                100,
+                2e6,
+                "default",
+            )
+            .unwrap();
             assert_eq!(r.arrival_times.len(), 30);
-            let toas: Vec<ArrivalTime> = r.arrival_times.iter().map(|t| ArrivalTime { t_s: t.arrival_s, error_s: t.error_s, freq_mhz: None, instrument: "default".into(), observer: None }).collect();
+            let toas: Vec<ArrivalTime> = r
+                .arrival_times
+                .iter()
+                .map(|t| ArrivalTime {
+                    t_s: t.arrival_s,
+                    error_s: t.error_s,
+                    freq_mhz: None,
+                    instrument: "default".into(),
+                    observer: None,
+                })
+                .collect();
             let fit = fit_timing_model(&folding, &toas, 20).unwrap();
             let mut inside = 0;
             for (j, name) in fit.parameters.iter().enumerate().skip(1) {
@@ -241,7 +287,17 @@ fn arrival_time_uncertainty_is_calibrated_against_injected_delays() {
             let mut truth = model.clone();
             truth.phase_offset_cycles = -0.4 + 0.8 * SeededRng::for_stream(seed, 13).uniform();
             let ev = simulate_events(&truth, &tpl, seed + 1000, 1, 1500, 1e5);
-            let r = event_arrival_times(&model, &ev, None, &tpl, Segmentation::Photons { count: 1500 }, 100, 1e7, "default").unwrap();
+            let r = event_arrival_times(
+                &model,
+                &ev,
+                None,
+                &tpl,
+                Segmentation::Photons { count: 1500 },
+                100,
+                1e7,
+                "default",
+            )
+            .unwrap();
             let t = &r.arrival_times[0];
             let phase = event_phase_cycles(&truth, t.arrival_s, "default");
             let miss_s = (phase - phase.round()) / truth.spin().freq_at_hz(t.arrival_s);
@@ -258,7 +314,9 @@ fn arrival_times_do_not_depend_on_the_thread_count() {
     let truth = spin_down_pulsar();
     let tpl = true_profile();
     let ev = simulate_events(&truth, &tpl, 77, 8, 500, 4e5);
-    let run = || event_arrival_times(&truth, &ev, None, &tpl, Segmentation::Photons { count: 450 }, 100, 1e7, "default").unwrap();
+    let run = || {
+        event_arrival_times(&truth, &ev, None, &tpl, Segmentation::Photons { count: 450 }, 100, 1e7, "default").unwrap()
+    };
     let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().unwrap().install(run);
     let many = rayon::ThreadPoolBuilder::new().num_threads(4).build().unwrap().install(run);
     assert_eq!(one, many);
@@ -281,11 +339,16 @@ fn bad_events_get_clear_messages() {
     // a short segment is skipped and reported, the rest give arrival times
     let mut ev = simulate_events(&truth, &tpl, 1, 3, 400, 1e5);
     ev.retain(|t| *t < -1e5 + 2.0 * 2e5 / 3.0 + 1500.0);
-    let r = event_arrival_times(&truth, &ev, None, &tpl, Segmentation::Duration { seconds: 66_000.0 }, 100, 1e7, "default").unwrap();
+    let r =
+        event_arrival_times(&truth, &ev, None, &tpl, Segmentation::Duration { seconds: 66_000.0 }, 100, 1e7, "default")
+            .unwrap();
     assert_eq!(r.arrival_times.len(), 2);
     assert_eq!(r.skipped.len(), 1);
     assert!(r.skipped[0].reason.contains("fewer than the minimum of 100"), "{:?}", r.skipped);
     // nothing usable at all: an error
-    let e = event_arrival_times(&truth, &ev[..50], None, &tpl, Segmentation::Photons { count: 40 }, 100, 1e7, "default").unwrap_err().to_string();
+    let e =
+        event_arrival_times(&truth, &ev[..50], None, &tpl, Segmentation::Photons { count: 40 }, 100, 1e7, "default")
+            .unwrap_err()
+            .to_string();
     assert!(e.contains("none of the 2 segments") && e.contains("fewer than the minimum"), "{e}");
 }

@@ -115,5 +115,8 @@ fn every_walkthrough_command_runs_as_written() {
 
 #[test]
 fn the_word_splitter_handles_quotes_and_continuations() {
-    assert_eq!(words("a --site \"Ridge Hollow\" \\\n  --x='1 2' b"), vec!["a", "--site", "Ridge Hollow", "--x=1 2", "b"]);
+    assert_eq!(
+        words("a --site \"Ridge Hollow\" \\\n  --x='1 2' b"),
+        vec!["a", "--site", "Ridge Hollow", "--x=1 2", "b"]
+    );
 }

@@ -15,7 +15,9 @@ use std::time::{Duration, Instant as Clock};
 
 use skyclock::fit::SeededRng;
 use skyclock::oc::models::light_time_d;
-use skyclock::oc::{CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, fit_model};
+use skyclock::oc::{
+    CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, fit_model,
+};
 use skyclock::periodogram::{FrequencyGrid, GeneralisedLombScargle, Periodogram, Series};
 use skyclock::plot::timing::{light_time_orbit, oc_diagram};
 use skyclock::plot::{Figure, Layer, Panel};
@@ -120,7 +122,8 @@ fn timing_figures() -> (Figure, Figure, Vec<Vec<String>>) {
     let fit = fit_model(&series, ModelKind::LinearLightTime, &FitOptions::default()).unwrap();
     let (e1, e2) = epoch.jd_two_part();
     let oc = oc_diagram("O − C of V999 Imag (invented)", &series, &fit, e1 + e2);
-    let orbit = light_time_orbit("Light-time orbit of V999 Imag (invented)", &series, &fit).expect("a light-time model has an orbit");
+    let orbit = light_time_orbit("Light-time orbit of V999 Imag (invented)", &series, &fit)
+        .expect("a light-time model has an orbit");
     let rows = fit
         .kind
         .parameter_names()
@@ -155,8 +158,18 @@ fn periodogram_figure() -> Figure {
             x_label: "frequency (1/d)".into(),
             y_label: "normalised power".into(),
             layers: vec![
-                Layer::Line { label: "power".into(), x: grid.frequencies(), y: spectrum.power.clone(), colour: (31, 75, 153) },
-                Layer::Markers { label: "highest peak".into(), x: vec![f], text: vec![format!("{f:.3}")], colour: (200, 30, 30) },
+                Layer::Line {
+                    label: "power".into(),
+                    x: grid.frequencies(),
+                    y: spectrum.power.clone(),
+                    colour: (31, 75, 153),
+                },
+                Layer::Markers {
+                    label: "highest peak".into(),
+                    x: vec![f],
+                    text: vec![format!("{f:.3}")],
+                    colour: (200, 30, 30),
+                },
             ],
             invert_y: false,
             height_weight: 1,
@@ -174,7 +187,9 @@ fn build_report() -> Report {
     report.subtitle.push("Invented eclipsing binary, 25 seasons, two invented observers".into());
     let mut search = Section::new("Period search");
     search.paragraphs.push("Generalised Lomb–Scargle on one invented season; the highest peak is marked.".into());
-    search.figures.push(ReportFigure::from_figure(&periodogram_figure(), "Periodogram with the highest peak marked.").unwrap());
+    search
+        .figures
+        .push(ReportFigure::from_figure(&periodogram_figure(), "Periodogram with the highest peak marked.").unwrap());
     report.sections.push(search);
     let (oc, orbit, rows) = timing_figures();
     let mut timing = Section::new("O − C & third body");
@@ -182,7 +197,9 @@ fn build_report() -> Report {
     let mut table = Table::new("Linear + light-time fit", &["parameter", "value", "1σ"]);
     table.rows = rows;
     timing.tables.push(table);
-    timing.figures.push(ReportFigure::from_figure(&oc, "O − C diagram with the model and its 1σ band; residuals below.").unwrap());
+    timing.figures.push(
+        ReportFigure::from_figure(&oc, "O − C diagram with the model and its 1σ band; residuals below.").unwrap(),
+    );
     timing.figures.push(ReportFigure::from_figure(&orbit, "Light-time orbit of the companion.").unwrap());
     report.sections.push(timing);
     report
@@ -214,27 +231,47 @@ fn report_renders_in_headless_chromium() {
         let broken = work.join(format!("{name}.html"));
         std::fs::write(&broken, format!("<!DOCTYPE html><html><body><script>{script}</script></body></html>")).unwrap();
         let (_, stderr) = run_chromium(&browser, &broken, &work, &["--dump-dom".to_string()]);
-        assert!(!console_errors(&stderr).is_empty(), "the console detector missed a deliberate failure ({name}); stderr:\n{stderr}");
+        assert!(
+            !console_errors(&stderr).is_empty(),
+            "the console detector missed a deliberate failure ({name}); stderr:\n{stderr}"
+        );
     }
     let mut empty = build_report();
-    empty.sections[0].figures.push(ReportFigure { caption: "zero-size".into(), svg: "<svg width=\"0\" height=\"0\"></svg>".into() });
+    empty.sections[0]
+        .figures
+        .push(ReportFigure { caption: "zero-size".into(), svg: "<svg width=\"0\" height=\"0\"></svg>".into() });
     let empty_page = work.join("zero_size.html");
     write_report(&empty, &empty_page, &[]).unwrap();
     let (dom, _) = run_chromium(&browser, &empty_page, &work, &["--dump-dom".to_string()]);
     assert_eq!(body_attribute(&dom, "data-figures-expected").as_deref(), Some("4"));
-    assert_eq!(body_attribute(&dom, "data-figures-rendered").as_deref(), Some("3"), "a zero-size figure must not count as rendered");
+    assert_eq!(
+        body_attribute(&dom, "data-figures-rendered").as_deref(),
+        Some("3"),
+        "a zero-size figure must not count as rendered"
+    );
 
     // The real report.
     let (dom, stderr) = run_chromium(&browser, &page, &work, &["--dump-dom".to_string()]);
     let errors = console_errors(&stderr);
     assert!(errors.is_empty(), "console errors while loading the report:\n{}", errors.join("\n"));
-    assert_eq!(body_attribute(&dom, "data-figures-rendered").as_deref(), Some("3"), "not every figure rendered; body: {:?}", dom.get(dom.find("<body").unwrap_or(0)..).map(|s| &s[..s.len().min(300)]));
+    assert_eq!(
+        body_attribute(&dom, "data-figures-rendered").as_deref(),
+        Some("3"),
+        "not every figure rendered; body: {:?}",
+        dom.get(dom.find("<body").unwrap_or(0)..).map(|s| &s[..s.len().min(300)])
+    );
     assert!(!dom.contains("report-figure not-rendered"), "a figure was marked as not rendered");
 
     let shot = work.join("report.png");
     let _ = std::fs::remove_file(&shot);
-    let (_, stderr) = run_chromium(&browser, &page, &work, &[format!("--screenshot={}", shot.display()), "--window-size=1280,2000".to_string()]);
-    let bytes = std::fs::read(&shot).unwrap_or_else(|e| panic!("no screenshot at {}: {e}; stderr:\n{stderr}", shot.display()));
+    let (_, stderr) = run_chromium(
+        &browser,
+        &page,
+        &work,
+        &[format!("--screenshot={}", shot.display()), "--window-size=1280,2000".to_string()],
+    );
+    let bytes =
+        std::fs::read(&shot).unwrap_or_else(|e| panic!("no screenshot at {}: {e}; stderr:\n{stderr}", shot.display()));
     // PNG signature (ISO/IEC 15948 / W3C PNG specification, section 5.2).
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     assert!(bytes.len() > 20_000, "screenshot suspiciously small: {} bytes", bytes.len());

@@ -53,13 +53,25 @@ fn bad_uncertainties_times_and_lengths_are_refused() {
 fn constant_curve_and_too_few_points_are_refused() {
     let t = t10();
     assert!(matches!(Series::from_arrays(&t, &[2.5; 10], None), Err(SearchError::ConstantSeries)));
-    assert!(matches!(Series::from_arrays(&t[..2], &[1.0, 2.0], None), Err(SearchError::TooFewPoints { needed: 3, .. })));
+    assert!(matches!(
+        Series::from_arrays(&t[..2], &[1.0, 2.0], None),
+        Err(SearchError::TooFewPoints { needed: 3, .. })
+    ));
     let y = [1.0, 2.0, 1.5];
     let s = Series::from_arrays(&t[..3], &y, None).unwrap();
     let g = FrequencyGrid::new(0.1, 0.01, 10).unwrap();
-    assert!(matches!(GeneralisedLombScargle::default().evaluate(&s, &g), Err(SearchError::TooFewPoints { needed: 4, got: 3, .. })));
-    assert!(matches!(multiharmonic::MultiHarmonic { harmonics: 3 }.evaluate(&s, &g), Err(SearchError::TooFewPoints { .. })));
-    assert!(matches!(fit_sinusoids(&s, &[Sinusoid { freq_per_day: 0.3, amplitude: 1.0, phase_cycles: 0.0 }]), Err(SearchError::TooFewPoints { .. })));
+    assert!(matches!(
+        GeneralisedLombScargle::default().evaluate(&s, &g),
+        Err(SearchError::TooFewPoints { needed: 4, got: 3, .. })
+    ));
+    assert!(matches!(
+        multiharmonic::MultiHarmonic { harmonics: 3 }.evaluate(&s, &g),
+        Err(SearchError::TooFewPoints { .. })
+    ));
+    assert!(matches!(
+        fit_sinusoids(&s, &[Sinusoid { freq_per_day: 0.3, amplitude: 1.0, phase_cycles: 0.0 }]),
+        Err(SearchError::TooFewPoints { .. })
+    ));
     assert!(refine_period(&s, 0.3, 2).is_err());
     assert!(remove_polynomial(&s, 3).is_err());
 }
@@ -71,10 +83,16 @@ fn unresolvable_ranges_and_huge_grids_are_refused() {
     let err = plan_grid(9.9, &req).unwrap_err();
     assert!(matches!(err, SearchError::UnresolvableRange { .. }));
     assert!(err.to_string().contains("baseline"));
-    assert!(matches!(plan_grid(9.9, &GridRequest { min_freq_per_day: Some(2.0), ..GridRequest::up_to(1.0) }), Err(SearchError::UnresolvableRange { .. })));
+    assert!(matches!(
+        plan_grid(9.9, &GridRequest { min_freq_per_day: Some(2.0), ..GridRequest::up_to(1.0) }),
+        Err(SearchError::UnresolvableRange { .. })
+    ));
     assert!(matches!(plan_grid(9.9, &GridRequest::up_to(f64::NAN)), Err(SearchError::UnresolvableRange { .. })));
     assert!(matches!(plan_grid(0.0, &GridRequest::up_to(1.0)), Err(SearchError::InvalidParameter { .. })));
-    assert!(matches!(plan_grid(9.9, &GridRequest { oversampling: 0.5, ..GridRequest::up_to(1.0) }), Err(SearchError::InvalidParameter { .. })));
+    assert!(matches!(
+        plan_grid(9.9, &GridRequest { oversampling: 0.5, ..GridRequest::up_to(1.0) }),
+        Err(SearchError::InvalidParameter { .. })
+    ));
     // 3650 d baseline up to 1e5 c/d at oversampling 10: ~3.7e9 frequencies, refused with an estimate
     let err = plan_grid(3650.0, &GridRequest { oversampling: 10.0, ..GridRequest::up_to(1.0e5) }).unwrap_err();
     match err {

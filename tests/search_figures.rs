@@ -42,10 +42,13 @@ fn count(hay: &str, needle: &str) -> usize {
 
 /// The text content of every `<text>` element of an SVG document, trimmed.
 fn texts(svg: &str) -> Vec<String> {
-    svg.split("<text").skip(1).filter_map(|chunk| {
-        let body = &chunk[chunk.find('>')? + 1..];
-        Some(body[..body.find("</text>")?].trim().to_string())
-    }).collect()
+    svg.split("<text")
+        .skip(1)
+        .filter_map(|chunk| {
+            let body = &chunk[chunk.find('>')? + 1..];
+            Some(body[..body.find("</text>")?].trim().to_string())
+        })
+        .collect()
 }
 
 fn has_text(svg: &str, text: &str) -> usize {
@@ -93,7 +96,14 @@ fn folded_svg_has_residuals_panel_with_units() {
     let phase = fold_times(s.time_d(), 1.0 / 2.31, 0.0).expect("fold");
     let err: Vec<f64> = s.weight().iter().map(|w| 1.0 / w.sqrt()).collect();
     let bins = bin_folded(&phase, s.value(), Some(&err), 25, BinStatistic::Mean).expect("bins");
-    let curve = FoldedCurve { phase: &phase, value: s.value(), error: Some(&err), bins: &bins, value_label: "V (mag)", invert_y: true };
+    let curve = FoldedCurve {
+        phase: &phase,
+        value: s.value(),
+        error: Some(&err),
+        bins: &bins,
+        value_label: "V (mag)",
+        invert_y: true,
+    };
     let fig = folded_figure(&curve, "KX-Alpha folded (invented)");
     assert_eq!(fig.panels.len(), 2);
     let d = dir("folded");

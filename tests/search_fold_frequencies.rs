@@ -22,20 +22,32 @@ fn prewhitening_extracts_three_frequencies_and_flags_combination() {
     t.sort_by(|a, b| a.total_cmp(b));
     t.dedup();
     let comps = [(9.417, 0.020, 0.1), (12.083, 0.012, 0.6), (21.5, 0.005, 0.3)];
-    let y: Vec<f64> = t.iter().map(|&t| 8.0 + comps.iter().map(|(f, a, p)| a * (TAU * (f * t - p)).cos()).sum::<f64>() + 0.003 * rng.normal()).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .map(|&t| 8.0 + comps.iter().map(|(f, a, p)| a * (TAU * (f * t - p)).cos()).sum::<f64>() + 0.003 * rng.normal())
+        .collect();
     let s = Series::from_arrays(&t, &y, None).unwrap();
     let plan = plan_grid(s.baseline_d(), &GridRequest { oversampling: 10.0, ..GridRequest::up_to(30.0) }).unwrap();
     let r = prewhiten(&s, &plan.grid, &PrewhitenOptions::default()).unwrap();
     // The S/N = 4 rule admits an occasional noise peak just above the limit over a wide grid;
     // the three signals come first and anything after them is small.
-    assert!(r.frequencies.len() >= 3, "{:?}", r.frequencies.iter().map(|e| (e.fit.freq_per_day, e.snr)).collect::<Vec<_>>());
+    assert!(
+        r.frequencies.len() >= 3,
+        "{:?}",
+        r.frequencies.iter().map(|e| (e.fit.freq_per_day, e.snr)).collect::<Vec<_>>()
+    );
     for e in &r.frequencies[3..] {
         assert!(e.fit.amplitude < 0.001 && e.snr < 5.0, "unexpected {:?}", e.fit);
     }
     assert!(matches!(r.stop, StopReason::BelowSnr { .. }));
     for (e, (f, a, p)) in r.frequencies.iter().zip(comps) {
         let c = e.fit;
-        assert!((c.freq_per_day - f).abs() < 4.0 * c.freq_err_per_day, "f {} vs {f} ± {}", c.freq_per_day, c.freq_err_per_day);
+        assert!(
+            (c.freq_per_day - f).abs() < 4.0 * c.freq_err_per_day,
+            "f {} vs {f} ± {}",
+            c.freq_per_day,
+            c.freq_err_per_day
+        );
         assert!((c.amplitude - a).abs() < 4.0 * c.amplitude_err, "A {} vs {a}", c.amplitude);
         let dphi = (c.phase_cycles - p + 0.5).rem_euclid(1.0) - 0.5;
         assert!(dphi.abs() < 4.0 * c.phase_err_cycles + 1e-3, "phase {} vs {p}", c.phase_cycles);
@@ -65,7 +77,9 @@ fn period_refinement_recovers_truth() {
     let bins = bin_folded(&ph, s.value(), None, 20, BinStatistic::Median).unwrap();
     for b in bins.iter().filter(|b| b.count >= 5) {
         // bins are 0.05 wide: compare with the model's bin average, tolerance 4σ + slope term
-        let model: f64 = (0..50).map(|j| 13.0 + sawtooth_mag(b.phase_center + (j as f64 / 50.0 - 0.5) * 0.05, 0.4)).sum::<f64>() / 50.0;
+        let model: f64 =
+            (0..50).map(|j| 13.0 + sawtooth_mag(b.phase_center + (j as f64 / 50.0 - 0.5) * 0.05, 0.4)).sum::<f64>()
+                / 50.0;
         assert!((b.value - model).abs() < 4.0 * b.error + 0.03, "bin {}: {} vs {model}", b.phase_center, b.value);
     }
 }
@@ -85,9 +99,17 @@ fn daily_aliases_are_annotated() {
     let win = SpectralWindow::default().evaluate(&s, &plan.grid).unwrap();
     let lobes = window_sidelobes(&win, s.baseline_d(), 3);
     assert!(lobes.iter().any(|f| (f - 1.0027).abs() < 0.02), "{lobes:?}");
-    let peaks = describe_peaks(&s, &spec, &PeakOptions { count: 5, window_sidelobes_per_day: lobes, ..PeakOptions::default() }).unwrap();
+    let peaks =
+        describe_peaks(&s, &spec, &PeakOptions { count: 5, window_sidelobes_per_day: lobes, ..PeakOptions::default() })
+            .unwrap();
     assert!((peaks[0].freq_per_day - f_true).abs() < 3.0 * peaks[0].freq_err_per_day + 1e-4);
     assert!((peaks[0].amplitude - 0.1).abs() < 4.0 * peaks[0].amplitude_err);
-    let daily: Vec<_> = peaks.iter().skip(1).filter(|p| p.aliases.iter().any(|a| a.stronger_peak == 0 && matches!(a.kind, AliasKind::SiderealDay { n: -1 | 1 }))).collect();
+    let daily: Vec<_> = peaks
+        .iter()
+        .skip(1)
+        .filter(|p| {
+            p.aliases.iter().any(|a| a.stronger_peak == 0 && matches!(a.kind, AliasKind::SiderealDay { n: -1 | 1 }))
+        })
+        .collect();
     assert!(daily.len() >= 2, "{:?}", peaks.iter().map(|p| (p.freq_per_day, p.aliases.clone())).collect::<Vec<_>>());
 }

@@ -27,7 +27,8 @@ fn sinusoid_recovered_by_gls() {
         let t = nightly_times(&mut rng, 60, 0.7, 7, 5.0);
         let f_true = draw_observable_freq(&mut rng, 0.7, 6.7);
         let ph = rng.uniform();
-        let y: Vec<f64> = t.iter().map(|&t| 0.1 * (std::f64::consts::TAU * (f_true * t + ph)).sin() + 0.1 * rng.normal()).collect();
+        let y: Vec<f64> =
+            t.iter().map(|&t| 0.1 * (std::f64::consts::TAU * (f_true * t + ph)).sin() + 0.1 * rng.normal()).collect();
         let e = vec![0.1; t.len()];
         let s = Series::from_arrays(&t, &y, Some(&e)).unwrap();
         let plan = plan_grid(s.baseline_d(), &GridRequest::up_to(10.0)).unwrap();
@@ -71,7 +72,8 @@ fn eclipses_recovered_by_phase_dispersion() {
         let mut rng = SeededRng::for_stream(13, trial as u64);
         let t = nightly_times(&mut rng, 60, 0.7, 12, 6.0);
         let p_true = 1.0 / draw_observable_freq(&mut rng, 0.27, 0.75);
-        let y: Vec<f64> = t.iter().map(|&t| 11.0 + eclipses_mag(t / p_true + 0.3, 0.5, 0.12) + 0.02 * rng.normal()).collect();
+        let y: Vec<f64> =
+            t.iter().map(|&t| 11.0 + eclipses_mag(t / p_true + 0.3, 0.5, 0.12) + 0.02 * rng.normal()).collect();
         let s = Series::from_arrays(&t, &y, None).unwrap();
         let plan = plan_grid(s.baseline_d(), &GridRequest { oversampling: 10.0, ..GridRequest::up_to(1.2) }).unwrap();
         let d = dispersion::PhaseDispersion { n_bins: 40 }.evaluate(&s, &plan.grid).unwrap();
@@ -94,11 +96,14 @@ fn transits_recovered_by_box_search() {
         let t = nightly_times(&mut rng, 50, 0.75, 40, 7.0);
         let p_true = 1.0 / draw_observable_freq(&mut rng, 0.29, 0.8);
         let t0 = rng.uniform() * p_true;
-        let y: Vec<f64> = t.iter().map(|&t| {
-            let ph = frac((t - t0) / p_true);
-            let inside = ph.min(1.0 - ph) * p_true < 0.05;
-            1.0 - if inside { 0.01 } else { 0.0 } + 0.003 * rng.normal()
-        }).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .map(|&t| {
+                let ph = frac((t - t0) / p_true);
+                let inside = ph.min(1.0 - ph) * p_true < 0.05;
+                1.0 - if inside { 0.01 } else { 0.0 } + 0.003 * rng.normal()
+            })
+            .collect();
         let s = Series::from_arrays(&t, &y, None).unwrap();
         let plan = plan_box_grid(s.baseline_d(), 1.0, 4.0, 0.06, 2.0, 1 << 30).unwrap();
         let b = box_search(&s, &plan.grid, &opts).unwrap();

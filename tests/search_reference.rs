@@ -6,7 +6,8 @@ use skyclock::periodogram::significance::baluev_fap;
 use skyclock::periodogram::*;
 
 fn load() -> serde_json::Value {
-    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/gls_reference.json")).expect("reference file");
+    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/gls_reference.json"))
+        .expect("reference file");
     serde_json::from_str(&text).expect("reference JSON")
 }
 
@@ -20,7 +21,12 @@ fn setup(with_errors: bool) -> (Series, FrequencyGrid, serde_json::Value) {
     let y = vec_of(&r, "value");
     let e = vec_of(&r, "error");
     let s = Series::from_arrays(&t, &y, if with_errors { Some(&e) } else { None }).unwrap();
-    let grid = FrequencyGrid::new(r["grid_start_per_day"].as_f64().unwrap(), r["grid_step_per_day"].as_f64().unwrap(), r["grid_len"].as_u64().unwrap() as usize).unwrap();
+    let grid = FrequencyGrid::new(
+        r["grid_start_per_day"].as_f64().unwrap(),
+        r["grid_step_per_day"].as_f64().unwrap(),
+        r["grid_len"].as_u64().unwrap() as usize,
+    )
+    .unwrap();
     (s, grid, r)
 }
 
@@ -36,7 +42,11 @@ fn gls_power_matches_astropy_and_scipy() {
     for (alg, tol) in [(Algorithm::Exact, 1e-9), (Algorithm::Fast, 1e-4)] {
         let p = GeneralisedLombScargle { algorithm: alg }.evaluate(&s, &grid).unwrap().power;
         // astropy 8.0.2 LombScargle(fit_mean=True, center_data=True, "standard"), method "slow"
-        assert!(max_diff(&p, &vec_of(&r, "astropy_gls_power")) < tol, "{alg:?} vs astropy: {:e}", max_diff(&p, &vec_of(&r, "astropy_gls_power")));
+        assert!(
+            max_diff(&p, &vec_of(&r, "astropy_gls_power")) < tol,
+            "{alg:?} vs astropy: {:e}",
+            max_diff(&p, &vec_of(&r, "astropy_gls_power"))
+        );
         // scipy 1.17.1 lombscargle(weights=1/σ², floating_mean=True, normalize=True)
         assert!(max_diff(&p, &vec_of(&r, "scipy_gls_power")) < tol, "{alg:?} vs scipy");
     }
@@ -61,6 +71,9 @@ fn baluev_fap_matches_astropy() {
     for (z, want) in vec_of(&r, "baluev_powers").iter().zip(vec_of(&r, "astropy_baluev_fap")) {
         let got = baluev_fap(*z, &s, fmax).unwrap();
         // astropy 8.0.2 false_alarm_probability(method="baluev"); relative agreement
-        assert!((got - want).abs() <= 1e-9 * want.max(1e-300) + 1e-15 || (got / want - 1.0).abs() < 1e-9, "z={z}: {got} vs {want}");
+        assert!(
+            (got - want).abs() <= 1e-9 * want.max(1e-300) + 1e-15 || (got / want - 1.0).abs() < 1e-9,
+            "z={z}: {got} vs {want}"
+        );
     }
 }

@@ -41,7 +41,11 @@ fn bootstrap_is_independent_of_threads() {
     let method = GeneralisedLombScargle::default();
     let opts = BootstrapOptions { trials: 40, seed: 99 };
     let run = |threads: usize| {
-        rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap().install(|| bootstrap_fap(&s, &plan.grid, &method, 0.1, &opts).unwrap())
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| bootstrap_fap(&s, &plan.grid, &method, 0.1, &opts).unwrap())
     };
     assert_eq!(run(1), run(2));
 }

@@ -11,7 +11,8 @@ fn random_series(rng: &mut SeededRng, n: usize, span_d: f64, bands: u32) -> Seri
     t.sort_by(|a, b| a.total_cmp(b));
     t.dedup();
     let band: Vec<u32> = (0..t.len()).map(|i| (i as u32 * 7 + 3) % bands).collect();
-    let y: Vec<f64> = t.iter().zip(&band).map(|(&ti, &b)| 0.3 * b as f64 + 0.2 * (ti * 2.3).sin() + 0.5 * rng.normal()).collect();
+    let y: Vec<f64> =
+        t.iter().zip(&band).map(|(&ti, &b)| 0.3 * b as f64 + 0.2 * (ti * 2.3).sin() + 0.5 * rng.normal()).collect();
     let e: Vec<f64> = t.iter().map(|_| 0.3 + rng.uniform()).collect();
     Series::from_light_curve(&LightCurve::new(&t, &y).with_error(&e).with_band(&band)).unwrap()
 }
@@ -25,15 +26,33 @@ fn worst(a: &[f64], b: &[f64]) -> f64 {
 #[test]
 fn fast_matches_exact_for_many_sizes() {
     let mut rng = SeededRng::new(99);
-    for &(n, span, fmax, bands) in &[(10usize, 30.0, 5.0, 1u32), (65, 12.0, 40.0, 1), (500, 300.0, 3.0, 2), (3000, 80.0, 30.0, 1), (20000, 400.0, 2.0, 3)] {
+    for &(n, span, fmax, bands) in &[
+        (10usize, 30.0, 5.0, 1u32),
+        (65, 12.0, 40.0, 1),
+        (500, 300.0, 3.0, 2),
+        (3000, 80.0, 30.0, 1),
+        (20000, 400.0, 2.0, 3),
+    ] {
         let s = random_series(&mut rng, n, span, bands);
         let plan = plan_grid(s.baseline_d(), &GridRequest::up_to(fmax)).unwrap();
         let g = plan.grid;
         let methods: Vec<(Box<dyn Periodogram>, Box<dyn Periodogram>)> = vec![
-            (Box::new(GeneralisedLombScargle { algorithm: Algorithm::Exact }), Box::new(GeneralisedLombScargle { algorithm: Algorithm::Fast })),
-            (Box::new(ClassicalLombScargle { algorithm: Algorithm::Exact }), Box::new(ClassicalLombScargle { algorithm: Algorithm::Fast })),
-            (Box::new(MultiBandLombScargle { algorithm: Algorithm::Exact }), Box::new(MultiBandLombScargle { algorithm: Algorithm::Fast })),
-            (Box::new(SpectralWindow { algorithm: Algorithm::Exact }), Box::new(SpectralWindow { algorithm: Algorithm::Fast })),
+            (
+                Box::new(GeneralisedLombScargle { algorithm: Algorithm::Exact }),
+                Box::new(GeneralisedLombScargle { algorithm: Algorithm::Fast }),
+            ),
+            (
+                Box::new(ClassicalLombScargle { algorithm: Algorithm::Exact }),
+                Box::new(ClassicalLombScargle { algorithm: Algorithm::Fast }),
+            ),
+            (
+                Box::new(MultiBandLombScargle { algorithm: Algorithm::Exact }),
+                Box::new(MultiBandLombScargle { algorithm: Algorithm::Fast }),
+            ),
+            (
+                Box::new(SpectralWindow { algorithm: Algorithm::Exact }),
+                Box::new(SpectralWindow { algorithm: Algorithm::Fast }),
+            ),
         ];
         for (exact, fast) in methods {
             let a = exact.evaluate(&s, &g).unwrap();
@@ -106,7 +125,11 @@ fn multiband_zero_points_recover_shared_signal() {
     // band alternates by night parity: a systematic offset that correlates with time
     let band: Vec<u32> = t.iter().map(|&x| ((x as i64) % 3 == 0) as u32).collect();
     let f_true = 1.37;
-    let y: Vec<f64> = t.iter().zip(&band).map(|(&x, &b)| 10.0 + 0.4 * b as f64 + 0.05 * (std::f64::consts::TAU * f_true * x).sin() + 0.01 * rng.normal()).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .zip(&band)
+        .map(|(&x, &b)| 10.0 + 0.4 * b as f64 + 0.05 * (std::f64::consts::TAU * f_true * x).sin() + 0.01 * rng.normal())
+        .collect();
     let s = Series::from_light_curve(&LightCurve::new(&t, &y).with_band(&band)).unwrap();
     let plan = plan_grid(s.baseline_d(), &GridRequest::up_to(4.0)).unwrap();
     let mb = MultiBandLombScargle::default().evaluate(&s, &plan.grid).unwrap();

@@ -13,7 +13,10 @@ use skyclock::ephemeris::embedded;
 use skyclock::fit::SeededRng;
 use skyclock::observer::{EarthOrientation, Observer, Site};
 use skyclock::periodogram::Series;
-use skyclock::survey::batch::{BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, open_rows, run_batch, run_batch_with_arrival};
+use skyclock::survey::batch::{
+    BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, open_rows, run_batch,
+    run_batch_with_arrival,
+};
 use skyclock::survey::search::{SearchPlan, search_series};
 use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeFormat, TimeScale, format_time};
 
@@ -37,7 +40,8 @@ fn star(seed: u64, period_d: f64) -> (Vec<Instant>, Vec<f64>) {
     let mut x: Vec<f64> = (0..400).map(|_| 60.0 * rng.uniform()).collect();
     x.sort_by(|a, b| a.total_cmp(b));
     let t = x.iter().map(|&d| Instant::from_jd_two_part(TimeScale::Tdb, 2460200.5, d)).collect();
-    let y = x.iter().map(|&d| 12.0 + 0.1 * (std::f64::consts::TAU * d / period_d).sin() + 0.01 * rng.normal()).collect();
+    let y =
+        x.iter().map(|&d| 12.0 + 0.1 * (std::f64::consts::TAU * d / period_d).sin() + 0.01 * rng.normal()).collect();
     (t, y)
 }
 
@@ -61,7 +65,13 @@ fn utc_survey_table_is_carried_per_source_and_matches_the_bjd_search() {
         // the values as the table holds them (6 decimals)
         let y: Vec<f64> = y.iter().map(|v| format!("{v:.6}").parse().expect("number")).collect();
         let source = Source::fixed_degrees(id, *ra, *dec).expect("source");
-        let c = BarycentricCorrector::new(embedded(), converter.clone(), EarthOrientation::Ignored, source, DelayOptions::default());
+        let c = BarycentricCorrector::new(
+            embedded(),
+            converter.clone(),
+            EarthOrientation::Ignored,
+            source,
+            DelayOptions::default(),
+        );
         for (b, v) in bjd.iter().zip(&y) {
             let utc = c.arrival_at_observer(b, &observer, TimeScale::Utc).expect("inverse");
             text.push_str(&format!("{id},{},{v:.6},{ra},{dec}\n", format_time(&utc, TimeFormat::Jd)));
@@ -76,22 +86,54 @@ fn utc_survey_table_is_carried_per_source_and_matches_the_bjd_search() {
     text.push_str("inv-lost,2460210.5,12.0,,\ninv-lost,2460211.5,12.1,,\n");
     std::fs::write(&path, text).expect("write csv");
 
-    let columns = BatchColumns { source: "star".into(), time: "jd".into(), value: "mag".into(), error: None, band: None, ra_deg: Some("ra_deg".into()), dec_deg: Some("dec_deg".into()) };
+    let columns = BatchColumns {
+        source: "star".into(),
+        time: "jd".into(),
+        value: "mag".into(),
+        error: None,
+        band: None,
+        ra_deg: Some("ra_deg".into()),
+        dec_deg: Some("dec_deg".into()),
+    };
     let options = BatchOptions { clock: ClockSpec::parse_label("jd_utc").expect("label"), batch_points: 1000 };
     let leap = LeapSecondTable::builtin();
-    let arrival = ObserverArrival { ephemeris: embedded(), converter: converter.clone(), orientation: EarthOrientation::Ignored, observer: observer.clone() };
+    let arrival = ObserverArrival {
+        ephemeris: embedded().into(),
+        converter: converter.clone(),
+        orientation: EarthOrientation::Ignored,
+        observer: observer.clone(),
+    };
 
     // Without a way to carry the times, the batch refuses the clock up front.
     let mut rows = open_rows(&path, &columns, 1000).expect("open");
-    let refused = run_batch(rows.as_mut(), "field_utc_invented.csv", &columns, &options, &plan(), &leap, &mut |_| Ok(()), &|_, _| {});
+    let refused = run_batch(
+        rows.as_mut(),
+        "field_utc_invented.csv",
+        &columns,
+        &options,
+        &plan(),
+        &leap,
+        &mut |_| Ok(()),
+        &|_, _| {},
+    );
     assert!(refused.expect_err("must refuse").to_string().contains("barycentric"));
 
     let mut rows = open_rows(&path, &columns, 1000).expect("open");
     let mut reports: Vec<SourceReport> = Vec::new();
-    let summary = run_batch_with_arrival(rows.as_mut(), "field_utc_invented.csv", &columns, &options, &plan(), &leap, Some(&arrival as &dyn SourceArrival), &mut |r| {
-        reports.extend(r);
-        Ok(())
-    }, &|_, _| {})
+    let summary = run_batch_with_arrival(
+        rows.as_mut(),
+        "field_utc_invented.csv",
+        &columns,
+        &options,
+        &plan(),
+        &leap,
+        Some(&arrival as &dyn SourceArrival),
+        &mut |r| {
+            reports.extend(r);
+            Ok(())
+        },
+        &|_, _| {},
+    )
     .expect("batch");
     assert_eq!((summary.sources, summary.searched, summary.skipped), (3, 2, 1));
     for (k, (id, _, _, period)) in STARS.iter().enumerate() {
@@ -101,7 +143,12 @@ fn utc_survey_table_is_carried_per_source_and_matches_the_bjd_search() {
         let want = &truth[k].peaks[0].peak;
         // Times agree to ~1 ns after the round trip: the same peak, the same power.
         assert_eq!(got.grid_index, want.grid_index, "{id}");
-        assert!((got.freq_per_day - want.freq_per_day).abs() < 1e-9, "{id}: {} vs {}", got.freq_per_day, want.freq_per_day);
+        assert!(
+            (got.freq_per_day - want.freq_per_day).abs() < 1e-9,
+            "{id}: {} vs {}",
+            got.freq_per_day,
+            want.freq_per_day
+        );
         assert!((got.power - want.power).abs() < 1e-9, "{id}: power {} vs {}", got.power, want.power);
         assert!((got.period_d - period).abs() < 3.0 * got.period_err_d.max(1e-5), "{id}: {} vs {period}", got.period_d);
     }

@@ -55,9 +55,19 @@ fn invented_field() -> DataFrame {
             push_source("bad-flat".into(), &|_, _| 11.5, &mut rng);
         }
         let f = 1.0 / period_of(k);
-        push_source(format!("inv-{k:03}"), &|x, r| 13.0 + 0.1 * (std::f64::consts::TAU * f * x).sin() + 0.02 * r.normal(), &mut rng);
+        push_source(
+            format!("inv-{k:03}"),
+            &|x, r| 13.0 + 0.1 * (std::f64::consts::TAU * f * x).sin() + 0.02 * r.normal(),
+            &mut rng,
+        );
     }
-    DataFrame::new_infer_height(vec![Column::new("star".into(), id), Column::new("bjd".into(), t), Column::new("mag".into(), y), Column::new("mag_err".into(), e)]).expect("frame")
+    DataFrame::new_infer_height(vec![
+        Column::new("star".into(), id),
+        Column::new("bjd".into(), t),
+        Column::new("mag".into(), y),
+        Column::new("mag_err".into(), e),
+    ])
+    .expect("frame")
 }
 
 #[test]
@@ -66,11 +76,26 @@ fn parquet_batch_holds_bounded_rows_and_skips_bad_sources() {
     let path = d.join("field_invented.parquet");
     let mut df = invented_field();
     let total_rows = df.height();
-    ParquetWriter::new(std::fs::File::create(&path).expect("create")).with_row_group_size(Some(ROW_GROUP)).finish(&mut df).expect("write parquet");
-    let groups = ParquetReader::new(std::fs::File::open(&path).expect("open")).get_metadata().expect("metadata").row_groups.len();
+    ParquetWriter::new(std::fs::File::create(&path).expect("create"))
+        .with_row_group_size(Some(ROW_GROUP))
+        .finish(&mut df)
+        .expect("write parquet");
+    let groups = ParquetReader::new(std::fs::File::open(&path).expect("open"))
+        .get_metadata()
+        .expect("metadata")
+        .row_groups
+        .len();
     assert!(groups >= 10, "the table must span many row groups, got {groups}");
 
-    let columns = BatchColumns { source: "star".into(), time: "bjd".into(), value: "mag".into(), error: Some("mag_err".into()), band: None, ra_deg: None, dec_deg: None };
+    let columns = BatchColumns {
+        source: "star".into(),
+        time: "bjd".into(),
+        value: "mag".into(),
+        error: Some("mag_err".into()),
+        band: None,
+        ra_deg: None,
+        dec_deg: None,
+    };
     let options = BatchOptions { clock: ClockSpec::parse_label("bjd_tdb").expect("label"), batch_points: BATCH_POINTS };
     let mut plan = SearchPlan::sinusoid_up_to(3.0);
     plan.peaks = 1;
@@ -80,17 +105,30 @@ fn parquet_batch_holds_bounded_rows_and_skips_bad_sources() {
     let mut rows = open_rows(&path, &columns, SLICE_ROWS).expect("open rows");
     let mut reports: Vec<SourceReport> = Vec::new();
     let mut largest_delivery = 0usize;
-    let summary = run_batch(rows.as_mut(), "field_invented.parquet", &columns, &options, &plan, &leap, &mut |r| {
-        largest_delivery = largest_delivery.max(r.len());
-        reports.extend(r);
-        Ok(())
-    }, &|_, _| {})
+    let summary = run_batch(
+        rows.as_mut(),
+        "field_invented.parquet",
+        &columns,
+        &options,
+        &plan,
+        &leap,
+        &mut |r| {
+            largest_delivery = largest_delivery.max(r.len());
+            reports.extend(r);
+            Ok(())
+        },
+        &|_, _| {},
+    )
     .expect("batch");
 
     // Bounded memory: the reader never held more than one slice, the batch never more
     // than three batches of sources — far less than the table.
     assert_eq!(summary.rows, total_rows);
-    assert!(summary.peak_reader_rows > 0 && summary.peak_reader_rows <= SLICE_ROWS, "reader held {}", summary.peak_reader_rows);
+    assert!(
+        summary.peak_reader_rows > 0 && summary.peak_reader_rows <= SLICE_ROWS,
+        "reader held {}",
+        summary.peak_reader_rows
+    );
     // one batch searched, one queued, one filling (each ≤ batch points + one source)
     let bound = 3 * (BATCH_POINTS + POINTS);
     assert!(summary.peak_points_held <= bound, "grouper held {} > {bound}", summary.peak_points_held);

@@ -9,8 +9,8 @@ use rayon::prelude::*;
 use skyclock::fit::SeededRng;
 use skyclock::oc::models::light_time_d;
 use skyclock::oc::{
-    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, bootstrap,
-    fit_model,
+    BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
+    bootstrap, fit_model,
 };
 use skyclock::time::{Instant, TimeScale};
 
@@ -117,7 +117,6 @@ fn light_time_and_quadratic_terms_are_recovered_with_calibrated_intervals() {
     }
 }
 
-
 /// Two companions (hierarchical light-time terms add; common practice): invented timings
 /// with an outer 4200-d orbit and an inner 1300-d orbit, dense CCD-era sampling. The
 /// two-companion fit finds both periods within 3σ, and BIC and the F-test prefer it over
@@ -139,7 +138,13 @@ fn two_light_time_companions_are_separated_and_preferred() {
                 let sigma = 0.0002 + 0.0002 * rng.uniform();
                 let t_lin = e * PERIOD_D;
                 let t = t_lin + light_time_d(&LTTE, t_lin) + light_time_d(&INNER, t_lin) + sigma * rng.normal();
-                timings.push(Timing { bjd_tdb: epoch().add_seconds(t * 86_400.0), error_d: sigma, kind: EventKind::Primary, source: None, row: timings.len() + 1 });
+                timings.push(Timing {
+                    bjd_tdb: epoch().add_seconds(t * 86_400.0),
+                    error_d: sigma,
+                    kind: EventKind::Primary,
+                    source: None,
+                    row: timings.len() + 1,
+                });
             }
         }
         let s = assign_cycles(&timings, &reference(), &CycleOptions::default()).unwrap();
@@ -148,7 +153,12 @@ fn two_light_time_companions_are_separated_and_preferred() {
         let (pa, pa_s) = two.derived_value("companion_period_d").unwrap();
         let (pb, pb_s) = two.derived_value("companion2_period_d").unwrap();
         let (outer, outer_s, inner, inner_s) = if pa > pb { (pa, pa_s, pb, pb_s) } else { (pb, pb_s, pa, pa_s) };
-        eprintln!("seed {seed}: P_outer = {outer:.0} ± {outer_s:.0} d, P_inner = {inner:.1} ± {inner_s:.1} d, χ² {:.0} → {:.0} (n = {})", one.chi2, two.chi2, s.len());
+        eprintln!(
+            "seed {seed}: P_outer = {outer:.0} ± {outer_s:.0} d, P_inner = {inner:.1} ± {inner_s:.1} d, χ² {:.0} → {:.0} (n = {})",
+            one.chi2,
+            two.chi2,
+            s.len()
+        );
         assert!((outer - LTTE[1]).abs() < 3.0 * outer_s, "outer period {outer} ± {outer_s}");
         assert!((inner - INNER[1]).abs() < 3.0 * inner_s, "inner period {inner} ± {inner_s}");
         let t = skyclock::oc::compare_nested(&one, &two).expect("nested comparison");
@@ -174,9 +184,15 @@ fn robust_loss_resists_gross_outliers() {
     }
     let s = assign_cycles(&timings, &reference(), &CycleOptions::default()).unwrap();
     let plain = fit_model(&s, ModelKind::Quadratic, &FitOptions::default()).unwrap();
-    let robust = fit_model(&s, ModelKind::Quadratic, &FitOptions { huber_k: Some(1.345), ..Default::default() }).unwrap();
+    let robust =
+        fit_model(&s, ModelKind::Quadratic, &FitOptions { huber_k: Some(1.345), ..Default::default() }).unwrap();
     let pull = |f: &skyclock::oc::ModelFit| (f.params[2] - QUADRATIC_D) / f.sigma(2);
-    eprintln!("quadratic term pull: plain {:.1}σ, robust {:.1}σ; {}", pull(&plain), pull(&robust), robust.notes.join("; "));
+    eprintln!(
+        "quadratic term pull: plain {:.1}σ, robust {:.1}σ; {}",
+        pull(&plain),
+        pull(&robust),
+        robust.notes.join("; ")
+    );
     assert!(pull(&plain).abs() > 3.0, "the outliers should bias plain least squares");
     assert!(pull(&robust).abs() < 2.5, "robust pull {}", pull(&robust));
     assert!(bad_rows.iter().all(|r| robust.notes[0].contains(&format!(" {r}"))), "{}", robust.notes[0]);

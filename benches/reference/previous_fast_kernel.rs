@@ -42,7 +42,15 @@ fn fft_len(m: usize, opt: &PreviousOptions) -> usize {
 /// Raw extirpolated sums R_j = Σ_i h_i e^{iφ_i} exp(2πi j u_i), j = 0..nfft, where
 /// u_i = frac((t_i − t0)·df) and φ_i = 2π f0 (t_i − t0); the full FFT output (negative
 /// frequencies at nfft − j).
-fn raw_sums(t: &[f64], t0: f64, h: &[Complex64], f0: f64, df: f64, opt: &PreviousOptions, fft: &dyn Fft<f64>) -> Vec<Complex64> {
+fn raw_sums(
+    t: &[f64],
+    t0: f64,
+    h: &[Complex64],
+    f0: f64,
+    df: f64,
+    opt: &PreviousOptions,
+    fft: &dyn Fft<f64>,
+) -> Vec<Complex64> {
     let n = t.len().min(h.len());
     let nfft = fft.len();
     let order = opt.order.clamp(2, 16).min(nfft);
@@ -89,7 +97,15 @@ fn raw_sums(t: &[f64], t0: f64, h: &[Complex64], f0: f64, df: f64, opt: &Previou
 }
 
 /// Σ_i h_i exp(2πi·(f0 + k·df)·t_i) for k = 0..m (complex), by extirpolation + FFT.
-fn trig_sum(t: &[f64], h: &[Complex64], f0: f64, df: f64, m: usize, opt: &PreviousOptions, fft: &dyn Fft<f64>) -> Vec<Complex64> {
+fn trig_sum(
+    t: &[f64],
+    h: &[Complex64],
+    f0: f64,
+    df: f64,
+    m: usize,
+    opt: &PreviousOptions,
+    fft: &dyn Fft<f64>,
+) -> Vec<Complex64> {
     let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
     let raw = raw_sums(t, t0, h, f0, df, opt, fft);
     let mut out = Vec::with_capacity(m);
@@ -118,7 +134,16 @@ fn phase_step(cycles: f64) -> Complex64 {
 /// Two real sums at once, when f0 = j0·df: with h = a + i·b (a, b real) and start 0,
 /// Σ a e^{iθ} = (R_k + conj R_{−k})/2 and Σ b e^{iθ} = (R_k − conj R_{−k})/(2i).
 /// Needs nfft > 2(m + j0) so that positive and negative frequencies do not overlap.
-fn trig_sum_pair(t: &[f64], a: &[f64], b: &[f64], j0: usize, df: f64, m: usize, opt: &PreviousOptions, fft: &dyn Fft<f64>) -> (Vec<Complex64>, Vec<Complex64>) {
+fn trig_sum_pair(
+    t: &[f64],
+    a: &[f64],
+    b: &[f64],
+    j0: usize,
+    df: f64,
+    m: usize,
+    opt: &PreviousOptions,
+    fft: &dyn Fft<f64>,
+) -> (Vec<Complex64>, Vec<Complex64>) {
     let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
     let h: Vec<Complex64> = a.iter().zip(b).map(|(&x, &y)| Complex64::new(x, y)).collect();
     let raw = raw_sums(t, t0, &h, 0.0, df, opt, fft);
@@ -187,4 +212,3 @@ pub fn fast_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, opt: &Pr
         s2: c.iter().map(|z| z.im).collect(),
     }
 }
-

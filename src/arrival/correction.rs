@@ -6,13 +6,14 @@
 //! heliocentric times (HJD) are first carried back to the observer by removing the
 //! heliocentric light time, then corrected as above (Eastman, Siverd & Gaudi 2010).
 
+use crate::constants::SECONDS_PER_DAY;
 use thiserror::Error;
 
 use super::delays::{curvature_delay_s, roemer_delay_s, shapiro_delay_s};
 use super::source::Source;
 use crate::ephemeris::{
     Body, Ephemeris, EphemerisError, GM_JUPITER_SYSTEM_KM3_PER_S2, GM_SATURN_SYSTEM_KM3_PER_S2, GM_SUN_KM3_PER_S2,
-    SPEED_OF_LIGHT_KM_PER_S,
+    SPEED_OF_LIGHT_KM_PER_S, SharedEphemeris,
 };
 use crate::observer::{EarthOrientation, Observer, PositionOrigin};
 use crate::time::{Instant, ScaleConverter, TimeError, TimeScale};
@@ -104,32 +105,35 @@ pub enum ArrivalError {
     Time(#[from] TimeError),
     #[error(transparent)]
     Ephemeris(#[from] EphemerisError),
-    #[error("a ground site needs UTC for the Earth's rotation, but {0} is before 1960; give the site's times as geocentric or already barycentric")]
+    #[error(
+        "a ground site needs UTC for the Earth's rotation, but {0} is before 1960; give the site's times as geocentric or already barycentric"
+    )]
     SiteBeforeUtc(String),
     #[error("the inverse correction did not converge for {0}")]
     NoConvergence(String),
 }
 
 /// Corrects arrival times of one source to the barycentre.
-pub struct BarycentricCorrector<'a> {
-    ephemeris: &'a dyn Ephemeris,
+#[derive(Debug, Clone)]
+pub struct BarycentricCorrector {
+    ephemeris: SharedEphemeris,
     converter: ScaleConverter,
     orientation: EarthOrientation,
     source: Source,
     options: DelayOptions,
 }
 
-impl<'a> BarycentricCorrector<'a> {
+impl BarycentricCorrector {
     /// A corrector for `source` using `ephemeris`, the scale converter (leap seconds) and
     /// the Earth-orientation source.
     pub fn new(
-        ephemeris: &'a dyn Ephemeris,
+        ephemeris: impl Into<SharedEphemeris>,
         converter: ScaleConverter,
         orientation: EarthOrientation,
         source: Source,
         options: DelayOptions,
-    ) -> BarycentricCorrector<'a> {
-        BarycentricCorrector { ephemeris, converter, orientation, source, options }
+    ) -> BarycentricCorrector {
+        BarycentricCorrector { ephemeris: ephemeris.into(), converter, orientation, source, options }
     }
 
     /// The source being corrected for.
@@ -139,7 +143,7 @@ impl<'a> BarycentricCorrector<'a> {
 
     /// The ephemeris in use.
     pub fn ephemeris(&self) -> &dyn Ephemeris {
-        self.ephemeris
+        &*self.ephemeris
     }
 
     /// The scale converter in use.
@@ -150,7 +154,12 @@ impl<'a> BarycentricCorrector<'a> {
     /// Corrects `time` (any scale) recorded by `observer` and referred to `reference`.
     /// Accuracy: see `docs/arrival.md` (ns-level with a JPL kernel; the embedded pack adds
     /// its own ≤ ~100 ns).
-    pub fn correct(&self, time: &Instant, observer: &Observer, reference: ReferencePoint) -> Result<Corrected, ArrivalError> {
+    pub fn correct(
+        &self,
+        time: &Instant,
+        observer: &Observer,
+        reference: ReferencePoint,
+    ) -> Result<Corrected, ArrivalError> {
         match reference {
             ReferencePoint::Barycentric => {
                 // Only the clock changes; evaluated as at the geocentre.
@@ -161,7 +170,13 @@ impl<'a> BarycentricCorrector<'a> {
                     einstein_s: tdb.seconds_since(&tt),
                     ..Default::default()
                 };
-                Ok(Corrected { bjd_tdb: tdb, observer_tdb: tdb, delays, earth_orientation_from_table: false, observer_barycentric_km: None })
+                Ok(Corrected {
+                    bjd_tdb: tdb,
+                    observer_tdb: tdb,
+                    delays,
+                    earth_orientation_from_table: false,
+                    observer_barycentric_km: None,
+                })
             }
             ReferencePoint::Observer => self.correct_observer_time(time, observer, 0.0),
             ReferencePoint::Heliocentric => {
@@ -199,7 +214,7 @@ impl<'a> BarycentricCorrector<'a> {
                 // allows: the UT1 difference changes the term by < 2e-10 s).
                 let ut_fraction = match self.converter.convert(time, TimeScale::Utc) {
                     Ok(utc) => utc.day_fraction().min(1.0),
-                    Err(_) => (tt.seconds_of_day() - 69.0).rem_euclid(86_400.0) / 86_400.0,
+                    Err(_) => (tt.seconds_of_day() - 69.0).rem_euclid(SECONDS_PER_DAY) / SECONDS_PER_DAY,
                 };
                 self.converter.at_site(Some(site.dtdb_site())).tt_to_tdb_with_ut(&tt, ut_fraction)
             }
@@ -226,7 +241,13 @@ impl<'a> BarycentricCorrector<'a> {
 
     /// Barycentric position of the observer, km, at observer TDB `tdb` (`tt` and `clock` are
     /// the same instant on TT and on the input scale, used for the Earth's rotation at a site).
-    fn observer_barycentric_km(&self, tdb: &Instant, tt: &Instant, clock: &Instant, observer: &Observer) -> Result<([f64; 3], bool), ArrivalError> {
+    fn observer_barycentric_km(
+        &self,
+        tdb: &Instant,
+        tt: &Instant,
+        clock: &Instant,
+        observer: &Observer,
+    ) -> Result<([f64; 3], bool), ArrivalError> {
         let earth = || self.ephemeris.state(Body::Earth, tdb);
         Ok(match observer {
             Observer::Geocentre => (earth()?.position_km, false),
@@ -239,7 +260,9 @@ impl<'a> BarycentricCorrector<'a> {
             },
             Observer::Site(site) => {
                 let utc = self.converter.convert(clock, TimeScale::Utc).map_err(|e| match e {
-                    TimeError::UtcBefore1960 { .. } => ArrivalError::SiteBeforeUtc(crate::ephemeris::describe_instant(clock)),
+                    TimeError::UtcBefore1960 { .. } => {
+                        ArrivalError::SiteBeforeUtc(crate::ephemeris::describe_instant(clock))
+                    }
                     other => ArrivalError::Time(other),
                 })?;
                 let (eop, from_table) = self.orientation.at_utc_mjd(utc.mjd_f64());
@@ -250,7 +273,12 @@ impl<'a> BarycentricCorrector<'a> {
         })
     }
 
-    fn correct_observer_time(&self, time: &Instant, observer: &Observer, helio_removed: f64) -> Result<Corrected, ArrivalError> {
+    fn correct_observer_time(
+        &self,
+        time: &Instant,
+        observer: &Observer,
+        helio_removed: f64,
+    ) -> Result<Corrected, ArrivalError> {
         let (tdb, clock_to_tt, tt) = self.observer_tdb(time, observer)?;
         let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, time, observer)?;
         let delays = self.delays_at(&tdb, &r_obs, clock_to_tt, tdb.seconds_since(&tt), helio_removed)?;
@@ -302,7 +330,12 @@ impl<'a> BarycentricCorrector<'a> {
     /// The inverse: the clock reading on `scale` at which a signal reaching the barycentre
     /// at `bjd_tdb` arrives at `observer`. Iterates until the observer time changes by
     /// < 1e-10 s (normally 3–4 iterations). Used for predictions.
-    pub fn arrival_at_observer(&self, bjd_tdb: &Instant, observer: &Observer, scale: TimeScale) -> Result<Instant, ArrivalError> {
+    pub fn arrival_at_observer(
+        &self,
+        bjd_tdb: &Instant,
+        observer: &Observer,
+        scale: TimeScale,
+    ) -> Result<Instant, ArrivalError> {
         let bjd = bjd_tdb.relabel(TimeScale::Tdb);
         let mut guess_tdb = bjd;
         for _ in 0..10 {

@@ -84,7 +84,9 @@ mod tests {
         assert!((shapiro_scale_s(gm) - 9.85e-6).abs() < 0.01e-6);
         let obs = [1.496e8, 0.0, 0.0];
         assert!(shapiro_delay_s(&obs, &[0.0; 3], &[0.0, 1.0, 0.0], gm).abs() < 1e-15);
-        assert!((shapiro_delay_s(&obs, &[0.0; 3], &[1.0, 0.0, 0.0], gm) + shapiro_scale_s(gm) * 2f64.ln()).abs() < 1e-15);
+        assert!(
+            (shapiro_delay_s(&obs, &[0.0; 3], &[1.0, 0.0, 0.0], gm) + shapiro_scale_s(gm) * 2f64.ln()).abs() < 1e-15
+        );
         // Grazing the limb (0.27°) the delay is ~+100 µs.
         let a = 0.27_f64.to_radians();
         let near = shapiro_delay_s(&obs, &[0.0; 3], &[-a.cos(), a.sin(), 0.0], gm);

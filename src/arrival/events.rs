@@ -53,7 +53,8 @@ pub fn correct_event_file(
     let fail = |message: String| EventStreamError::File { file: file.clone(), message };
     crate::table::refuse_overwriting_inputs(output, &[input]).map_err(|e| fail(e.to_string()))?;
     let separator = if matches!(input.extension().and_then(|e| e.to_str()), Some("tsv" | "tab")) { '\t' } else { ',' };
-    let reader = BufReader::with_capacity(1 << 20, std::fs::File::open(input).map_err(|e| fail(format!("cannot open: {e}")))?);
+    let reader =
+        BufReader::with_capacity(1 << 20, std::fs::File::open(input).map_err(|e| fail(format!("cannot open: {e}")))?);
     let mut lines = reader.lines();
     let header = match lines.next() {
         Some(Ok(h)) => h,
@@ -61,22 +62,30 @@ pub fn correct_event_file(
         None => return Err(fail("the file is empty".into())),
     };
     let names: Vec<&str> = header.split(separator).map(str::trim).collect();
-    let index = names.iter().position(|n| *n == time_column).ok_or_else(|| {
-        fail(format!("column '{time_column}' is missing; the table has: {}", names.join(", ")))
-    })?;
+    let index = names
+        .iter()
+        .position(|n| *n == time_column)
+        .ok_or_else(|| fail(format!("column '{time_column}' is missing; the table has: {}", names.join(", "))))?;
     let tmp = output.with_file_name(format!(
         ".{}.{}.partial",
         output.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(),
         std::process::id()
     ));
     let result = (|| {
-        let mut writer = BufWriter::with_capacity(1 << 20, std::fs::File::create(&tmp).map_err(|e| fail(format!("cannot create {}: {e}", tmp.display())))?);
+        let mut writer = BufWriter::with_capacity(
+            1 << 20,
+            std::fs::File::create(&tmp).map_err(|e| fail(format!("cannot create {}: {e}", tmp.display())))?,
+        );
         let io = |e: std::io::Error| fail(format!("cannot write {}: {e}", tmp.display()));
         writeln!(writer, "{header}{separator}barycentric_s").map_err(io)?;
         let tt_zero = converter.convert(time_zero, TimeScale::Tt).map_err(|e| fail(e.to_string()))?;
         let uniform = time_zero.scale() != TimeScale::Utc;
         let offset_s = tt_zero.seconds_since(&time_zero.relabel(TimeScale::Tt));
-        let mut summary = EventStreamSummary { min_correction_s: f64::INFINITY, max_correction_s: f64::NEG_INFINITY, ..Default::default() };
+        let mut summary = EventStreamSummary {
+            min_correction_s: f64::INFINITY,
+            max_correction_s: f64::NEG_INFINITY,
+            ..Default::default()
+        };
         let mut block: Vec<String> = Vec::with_capacity(block_rows);
         let mut row = 0_usize;
         loop {
@@ -98,12 +107,13 @@ pub fn correct_event_file(
             let mut times = Vec::with_capacity(block.len());
             for (k, line) in block.iter().enumerate() {
                 let cell = line.split(separator).nth(index).map(str::trim).unwrap_or("");
-                let value: f64 = cell.parse().ok().filter(|v: &f64| v.is_finite()).ok_or_else(|| EventStreamError::Cell {
-                    file: file.clone(),
-                    row: first_row + k,
-                    column: time_column.to_string(),
-                    message: format!("'{cell}' is not a number of seconds"),
-                })?;
+                let value: f64 =
+                    cell.parse().ok().filter(|v: &f64| v.is_finite()).ok_or_else(|| EventStreamError::Cell {
+                        file: file.clone(),
+                        row: first_row + k,
+                        column: time_column.to_string(),
+                        message: format!("'{cell}' is not a number of seconds"),
+                    })?;
                 // Seconds after the TT reference: uniform scales differ by a constant;
                 // UTC needs the leap seconds of each event.
                 let tt_seconds = if uniform {

@@ -24,7 +24,7 @@ pub const DEFAULT_NODE_SPACING_S: f64 = 300.0;
 
 /// Interpolating corrector for events given as seconds after a TT reference instant.
 pub struct InterpolatedCorrector<'a> {
-    exact: &'a BarycentricCorrector<'a>,
+    exact: &'a BarycentricCorrector,
     observer: Observer,
     reference_tt: Instant,
     node_spacing_s: f64,
@@ -35,7 +35,12 @@ impl<'a> InterpolatedCorrector<'a> {
     /// An interpolator around `exact` for `observer`, with event times counted in seconds
     /// from `reference_tt` (TT). Only ground sites and the geocentre are accepted (a
     /// spacecraft's orbit is too fast for the default node spacing).
-    pub fn new(exact: &'a BarycentricCorrector<'a>, observer: Observer, reference_tt: Instant, node_spacing_s: f64) -> InterpolatedCorrector<'a> {
+    pub fn new(
+        exact: &'a BarycentricCorrector,
+        observer: Observer,
+        reference_tt: Instant,
+        node_spacing_s: f64,
+    ) -> InterpolatedCorrector<'a> {
         InterpolatedCorrector {
             exact,
             observer,

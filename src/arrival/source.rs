@@ -12,7 +12,7 @@ use crate::time::Instant;
 /// Milliarcseconds to radians.
 pub const MAS_TO_RAD: f64 = PI / 648_000_000.0;
 /// Astronomical unit, km (IAU 2012 Resolution B2).
-pub const AU_KM: f64 = 149_597_870.700;
+pub use crate::constants::ASTRONOMICAL_UNIT_KM as AU_KM;
 
 /// A source in the ICRS with optional space motion.
 #[derive(Debug, Clone, PartialEq)]
@@ -127,7 +127,9 @@ pub fn parse_right_ascension_deg(text: &str) -> Result<f64, String> {
             15.0 * (a + b / 60.0 + c / 3600.0)
         }
         None => t.trim_end_matches(['d', '°']).parse::<f64>().map_err(|_| {
-            format!("right ascension '{text}' is neither decimal degrees (e.g. 201.365) nor hh:mm:ss.s (e.g. 13:25:27.6)")
+            format!(
+                "right ascension '{text}' is neither decimal degrees (e.g. 201.365) nor hh:mm:ss.s (e.g. 13:25:27.6)"
+            )
         })?,
     };
     if !(0.0..360.0).contains(&v) {

@@ -191,7 +191,8 @@ pub fn correct_table_with_geometry(
                 }
             };
             let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
-            let t = parse_time(text, clock.format, clock.scale, leap).map_err(|e| cell(i, &request.time_column, e.to_string()))?;
+            let t = parse_time(text, clock.format, clock.scale, leap)
+                .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
             let observer = observers.get(i).cloned().unwrap_or(Observer::Geocentre);
             let corrected = corrector
                 .correct(&t, &observer, clock.reference)
@@ -210,7 +211,12 @@ pub fn correct_table_with_geometry(
             source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
         })
         .collect();
-    let mut summary = TableSummary { rows: n, min_total_correction_s: f64::INFINITY, max_total_correction_s: f64::NEG_INFINITY, ..Default::default() };
+    let mut summary = TableSummary {
+        rows: n,
+        min_total_correction_s: f64::INFINITY,
+        max_total_correction_s: f64::NEG_INFINITY,
+        ..Default::default()
+    };
     let mut cols: Vec<Vec<f64>> = vec![Vec::with_capacity(n); 10];
     let mut bjd_text = Vec::with_capacity(n);
     let mut obs_text = Vec::with_capacity(n);
@@ -274,7 +280,9 @@ pub fn correct_table_with_geometry(
                 message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
             });
         }
-        out.with_column(column).map(|_| ()).map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
+        out.with_column(column)
+            .map(|_| ())
+            .map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
     };
     add("bjd_tdb", Column::new("bjd_tdb".into(), bjd_text))?;
     for (k, name) in ADDED_COLUMNS[1..3].iter().enumerate() {

@@ -6,9 +6,9 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs, leap_second_warning};
-use crate::arrival::table::{TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::table::{Provenance, read_table, write_table};
+use skyclock::arrival::table::{TableRequest, correct_table};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::table::{Provenance, read_table, write_table};
 
 const EXAMPLE: &str = "Example:
   skyclock barycentre --input minima.csv --time-column time --clock jd_utc \\
@@ -69,13 +69,14 @@ pub fn run(a: Args) -> Result<()> {
     let reference = a.reference_data.load()?;
     let options = DelayOptions { shapiro_sun: !a.without_solar_shapiro, shapiro_planets: a.with_planet_shapiro };
     let corrector = BarycentricCorrector::new(
-        reference.ephemeris.as_ref(),
+        reference.ephemeris.clone(),
         reference.converter.clone(),
         reference.orientation.clone(),
         source.clone(),
         options,
     );
-    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let request =
+        TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
     let file = a.input.display().to_string();
     let df = read_table(&a.input, &request.text_columns())?;
     let (mut out, summary) = correct_table(&df, &file, &request, &corrector)?;
@@ -120,7 +121,7 @@ pub fn run(a: Args) -> Result<()> {
     Ok(())
 }
 
-fn source_summary(s: &crate::arrival::Source) -> serde_json::Value {
+fn source_summary(s: &skyclock::arrival::Source) -> serde_json::Value {
     serde_json::json!({
         "name": s.name,
         "ra_deg": s.ra_rad.to_degrees(),

@@ -6,12 +6,12 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::events::correct_event_file;
-use crate::arrival::interpolated::{DEFAULT_NODE_SPACING_S, InterpolatedCorrector};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::observer::Observer;
-use crate::table::Provenance;
-use crate::time::{TimeFormat, TimeScale, parse_time};
+use skyclock::arrival::events::correct_event_file;
+use skyclock::arrival::interpolated::{DEFAULT_NODE_SPACING_S, InterpolatedCorrector};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::observer::Observer;
+use skyclock::table::Provenance;
+use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example:
   skyclock barycentre-events --input events.csv --time-column seconds \\
@@ -66,8 +66,9 @@ pub fn run(a: Args) -> Result<()> {
     if a.block_rows == 0 {
         bail!("--block-rows must be at least 1");
     }
-    let scale = TimeScale::parse(&a.time_zero_scale)
-        .ok_or_else(|| anyhow::anyhow!("unknown time scale '{}'; use utc, tai, tt, gps, tdb or tcb", a.time_zero_scale))?;
+    let scale = TimeScale::parse(&a.time_zero_scale).ok_or_else(|| {
+        anyhow::anyhow!("unknown time scale '{}'; use utc, tai, tt, gps, tdb or tcb", a.time_zero_scale)
+    })?;
     let reference = a.reference_data.load()?;
     let format = if a.time_zero.contains('-') && a.time_zero.len() >= 10 { TimeFormat::Iso } else { TimeFormat::Jd };
     let zero = parse_time(&a.time_zero, format, scale, reference.converter.leap_seconds())
@@ -75,14 +76,16 @@ pub fn run(a: Args) -> Result<()> {
     let description = a.observer.description()?;
     let source = a.source.load(description.as_ref())?;
     if a.observer.spacecraft_columns.is_some() {
-        bail!("barycentre-events handles ground sites and the geocentre; for spacecraft positions per row use `skyclock barycentre`");
+        bail!(
+            "barycentre-events handles ground sites and the geocentre; for spacecraft positions per row use `skyclock barycentre`"
+        );
     }
     let observer = match a.observer.single_site(description.as_ref())? {
         Some(s) => Observer::Site(s),
         None => Observer::Geocentre,
     };
     let exact = BarycentricCorrector::new(
-        reference.ephemeris.as_ref(),
+        reference.ephemeris.clone(),
         reference.converter.clone(),
         reference.orientation.clone(),
         source.clone(),
@@ -107,17 +110,20 @@ pub fn run(a: Args) -> Result<()> {
         .with("earth_orientation", reference.orientation.describe())
         .with("time_zero", format!("{} {}", a.time_zero, scale))
         .with("node_spacing_s", a.node_spacing_s.to_string());
-    let sidecar = crate::table::write::sidecar_path(&a.output);
-    crate::table::write::write_atomically(&sidecar, |f| {
+    let sidecar = skyclock::table::write::sidecar_path(&a.output);
+    skyclock::table::write::write_atomically(&sidecar, |f| {
         use std::io::Write;
         f.write_all(provenance.to_json().as_bytes()).map_err(|e| e.to_string())
     })?;
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&serde_json::json!({
-            "output": a.output.display().to_string(),
-            "summary": summary,
-            "ephemeris": reference.ephemeris.name(),
-        }))?);
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&serde_json::json!({
+                "output": a.output.display().to_string(),
+                "summary": summary,
+                "ephemeris": reference.ephemeris.name(),
+            }))?
+        );
     } else {
         println!(
             "corrected {} events → {} (correction {:.6} … {:.6} s)",

@@ -6,11 +6,11 @@ use std::path::PathBuf;
 use anyhow::{Context, Result, bail};
 use clap::Args as ClapArgs;
 
-use crate::arrival::Source;
-use crate::config::{Description, parse_epoch, read_description};
-use crate::ephemeris::{Ephemeris, SpkKernel, embedded};
-use crate::observer::{EarthOrientation, EarthOrientationTable, Site};
-use crate::time::{LeapSecondTable, ScaleConverter};
+use skyclock::arrival::Source;
+use skyclock::config::{Description, parse_epoch, read_description};
+use skyclock::ephemeris::{SharedEphemeris, SpkKernel, embedded};
+use skyclock::observer::{EarthOrientation, EarthOrientationTable, Site};
+use skyclock::time::{LeapSecondTable, ScaleConverter};
 
 /// Where solar-system positions, leap seconds and Earth orientation come from.
 #[derive(Debug, Clone, ClapArgs)]
@@ -29,38 +29,19 @@ pub struct ReferenceDataArgs {
 /// The loaded reference data.
 pub struct ReferenceData {
     /// Solar-system ephemeris.
-    pub ephemeris: Box<dyn Ephemeris>,
+    pub ephemeris: SharedEphemeris,
     /// Scale converter with the leap-second table.
     pub converter: ScaleConverter,
     /// Earth orientation.
     pub orientation: EarthOrientation,
 }
 
-/// A static reference to the embedded pack, boxed behind the trait.
-struct EmbeddedRef;
-
-impl Ephemeris for EmbeddedRef {
-    fn name(&self) -> String {
-        embedded().name()
-    }
-    fn span(&self) -> (crate::time::Instant, crate::time::Instant) {
-        embedded().span()
-    }
-    fn state(
-        &self,
-        body: crate::ephemeris::Body,
-        tdb: &crate::time::Instant,
-    ) -> std::result::Result<crate::ephemeris::BodyState, crate::ephemeris::EphemerisError> {
-        embedded().state(body, tdb)
-    }
-}
-
 impl ReferenceDataArgs {
     /// Loads what the options name, or the built-in defaults.
     pub fn load(&self) -> Result<ReferenceData> {
-        let ephemeris: Box<dyn Ephemeris> = match &self.ephemeris_kernel {
-            Some(p) => Box::new(SpkKernel::open(p).with_context(|| format!("opening ephemeris kernel {}", p.display()))?),
-            None => Box::new(EmbeddedRef),
+        let ephemeris: SharedEphemeris = match &self.ephemeris_kernel {
+            Some(p) => SpkKernel::open(p).with_context(|| format!("opening ephemeris kernel {}", p.display()))?.into(),
+            None => embedded().into(),
         };
         let leap = match &self.leap_seconds {
             Some(p) => LeapSecondTable::from_file(p)?,
@@ -111,8 +92,8 @@ impl SourceArgs {
             return d.source.with_context(|| format!("{} has no [source] table", path.display()));
         }
         if let (Some(ra), Some(dec)) = (&self.ra, &self.dec) {
-            let ra_deg = crate::arrival::parse_right_ascension_deg(ra).map_err(anyhow::Error::msg)?;
-            let dec_deg = crate::arrival::parse_declination_deg(dec).map_err(anyhow::Error::msg)?;
+            let ra_deg = skyclock::arrival::parse_right_ascension_deg(ra).map_err(anyhow::Error::msg)?;
+            let dec_deg = skyclock::arrival::parse_declination_deg(dec).map_err(anyhow::Error::msg)?;
             let mut s = Source::fixed_degrees("source", ra_deg, dec_deg).map_err(anyhow::Error::msg)?;
             s.proper_motion_ra_mas_per_yr = self.proper_motion_ra_mas_per_yr;
             s.proper_motion_dec_mas_per_yr = self.proper_motion_dec_mas_per_yr;
@@ -219,19 +200,23 @@ pub fn clock_choice(
     clock: &Option<String>,
     clock_column: &Option<String>,
     example: &str,
-) -> Result<Option<crate::arrival::table::ClockSpec>> {
+) -> Result<Option<skyclock::arrival::table::ClockSpec>> {
     match (clock, clock_column) {
         (Some(_), Some(_)) => bail!("give either --clock or --clock-column, not both"),
-        (None, None) => bail!("say how the times are written: --clock {example} (for example) or --clock-column COLUMN"),
-        (Some(label), None) => Ok(Some(crate::arrival::table::ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?)),
+        (None, None) => {
+            bail!("say how the times are written: --clock {example} (for example) or --clock-column COLUMN")
+        }
+        (Some(label), None) => {
+            Ok(Some(skyclock::arrival::table::ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?))
+        }
         (None, Some(_)) => Ok(None),
     }
 }
 
 impl ObserverArgs {
     /// Who observed each row: spacecraft columns, a site column, one site, or the geocentre.
-    pub fn observer_spec(&self, description: Option<&Description>) -> Result<crate::arrival::table::ObserverSpec> {
-        use crate::arrival::table::ObserverSpec;
+    pub fn observer_spec(&self, description: Option<&Description>) -> Result<skyclock::arrival::table::ObserverSpec> {
+        use skyclock::arrival::table::ObserverSpec;
         if let Some(cols) = &self.spacecraft_columns {
             let parts: Vec<String> = cols.split(',').map(|s| s.trim().to_string()).collect();
             if parts.len() != 3 {
@@ -240,8 +225,8 @@ impl ObserverArgs {
             return Ok(ObserverSpec::Spacecraft {
                 columns: [parts[0].clone(), parts[1].clone(), parts[2].clone()],
                 origin: match self.spacecraft_origin {
-                    OriginArg::Geocentric => crate::observer::PositionOrigin::Geocentric,
-                    OriginArg::Barycentric => crate::observer::PositionOrigin::Barycentric,
+                    OriginArg::Geocentric => skyclock::observer::PositionOrigin::Geocentric,
+                    OriginArg::Barycentric => skyclock::observer::PositionOrigin::Barycentric,
                 },
             });
         }
@@ -273,8 +258,8 @@ pub fn spinner(message: &str, quiet: bool) -> indicatif::ProgressBar {
 /// Writes `text` to `path` atomically, refusing to overwrite an input.
 pub fn write_text(path: &std::path::Path, text: &str, inputs: &[&std::path::Path]) -> Result<()> {
     use std::io::Write;
-    crate::table::refuse_overwriting_inputs(path, inputs)?;
-    crate::table::write::write_atomically(path, |f| f.write_all(text.as_bytes()).map_err(|e| e.to_string()))?;
+    skyclock::table::refuse_overwriting_inputs(path, inputs)?;
+    skyclock::table::write::write_atomically(path, |f| f.write_all(text.as_bytes()).map_err(|e| e.to_string()))?;
     Ok(())
 }
 
@@ -302,10 +287,10 @@ pub fn timing_kinds_and_errors(
     file: &str,
     error_column: &str,
     kind_column: Option<&str>,
-) -> Result<Vec<(crate::oc::EventKind, f64)>> {
-    use crate::oc::EventKind;
-    let errors = crate::table::float_column(df, file, error_column)?;
-    let kinds = kind_column.map(|c| crate::table::text_column(df, file, c)).transpose()?;
+) -> Result<Vec<(skyclock::oc::EventKind, f64)>> {
+    use skyclock::oc::EventKind;
+    let errors = skyclock::table::float_column(df, file, error_column)?;
+    let kinds = kind_column.map(|c| skyclock::table::text_column(df, file, c)).transpose()?;
     (0..df.height())
         .map(|i| {
             let kind = match &kinds {

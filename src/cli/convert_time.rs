@@ -4,7 +4,7 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs};
-use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example:
   skyclock convert-time 2016-12-31T23:59:60.5 --format iso --scale utc
@@ -43,11 +43,13 @@ pub struct Args {
 }
 
 fn parse_format(text: &str) -> Result<TimeFormat> {
-    TimeFormat::parse(text).ok_or_else(|| anyhow::anyhow!("unknown time format '{text}'; use jd, mjd, reduced-jd or iso"))
+    TimeFormat::parse(text)
+        .ok_or_else(|| anyhow::anyhow!("unknown time format '{text}'; use jd, mjd, reduced-jd or iso"))
 }
 
 fn parse_scale(text: &str) -> Result<TimeScale> {
-    TimeScale::parse(text).ok_or_else(|| anyhow::anyhow!("unknown time scale '{text}'; use utc, tai, tt, tdb, tcb or gps"))
+    TimeScale::parse(text)
+        .ok_or_else(|| anyhow::anyhow!("unknown time scale '{text}'; use utc, tai, tt, tdb, tcb or gps"))
 }
 
 /// Runs the command.
@@ -74,8 +76,13 @@ pub fn run(a: Args) -> Result<()> {
         row.insert("input".into(), text.clone().into());
         for target in &targets {
             let converted = converter.convert(&t, *target).map_err(|e| anyhow::anyhow!("time '{text}': {e}"))?;
-            if converted.scale() == TimeScale::Utc && converter.leap_seconds().days_beyond_horizon(converted.mjd_day()).is_some() {
-                eprintln!("warning: {text} is beyond the leap-second table ({}); UTC may be off by 1 s", converter.leap_seconds().source());
+            if converted.scale() == TimeScale::Utc
+                && converter.leap_seconds().days_beyond_horizon(converted.mjd_day()).is_some()
+            {
+                eprintln!(
+                    "warning: {text} is beyond the leap-second table ({}); UTC may be off by 1 s",
+                    converter.leap_seconds().source()
+                );
             }
             row.insert(target.name().into(), format_time(&converted, to_format).into());
         }

@@ -7,9 +7,9 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 
 use super::pulse_profile::{EventTableArgs, read_template};
-use crate::pulsar::event_toas::{Segmentation, event_arrival_times};
-use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
-use crate::time::format::{format_time, TimeFormat};
+use skyclock::pulsar::event_toas::{Segmentation, event_arrival_times};
+use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
+use skyclock::time::format::{TimeFormat, format_time};
 
 const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3'):
   skyclock event-arrival-times --events corvina_events.csv --clock mjd_tt \\
@@ -64,25 +64,43 @@ pub fn run(a: Args) -> Result<()> {
     let segmentation = match (a.segment_duration_s, a.segment_photons) {
         (Some(seconds), None) => Segmentation::Duration { seconds },
         (None, Some(count)) => Segmentation::Photons { count },
-        _ => bail!("say how to cut the events: give exactly one of --segment-duration-s SECONDS or --segment-photons COUNT"),
+        _ => bail!(
+            "say how to cut the events: give exactly one of --segment-duration-s SECONDS or --segment-photons COUNT"
+        ),
     };
     let template = read_template(&a.template)?;
     let valid_s = a.input.validity_s()?;
     let ev = a.input.load("event-arrival-times")?;
     if let Some(w) = &ev.weights {
         if let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(0.0..=1.0).contains(*v)) {
-            bail!("{}, row {}, column '{}': weight {v}; weights are probabilities in [0, 1]", ev.file, i + 1, a.input.weight_column.as_deref().unwrap_or(""));
+            bail!(
+                "{}, row {}, column '{}': weight {v}; weights are probabilities in [0, 1]",
+                ev.file,
+                i + 1,
+                a.input.weight_column.as_deref().unwrap_or("")
+            );
         }
     }
     ev.warn_repeated_times(&a.input.time_column);
     let spin = super::common::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet);
-    let result = event_arrival_times(&ev.model, &ev.times_s, ev.weights.as_deref(), &template, segmentation, a.min_photons, valid_s, &a.input.instrument)
-        .map_err(|e| ev.locate(&a.input.time_column, e));
+    let result = event_arrival_times(
+        &ev.model,
+        &ev.times_s,
+        ev.weights.as_deref(),
+        &template,
+        segmentation,
+        a.min_photons,
+        valid_s,
+        &a.input.instrument,
+    )
+    .map_err(|e| ev.locate(&a.input.time_column, e));
     spin.finish_and_clear();
     let result = result?;
     let epoch = ev.model.epoch();
     let jd = |s: f64| format_time(&epoch.add_seconds(s), TimeFormat::Jd);
-    let mut csv = String::from("arrival_bjd_tdb,error_us,instrument,segment,photons,segment_start_bjd_tdb,segment_end_bjd_tdb,phase_shift_cycles,phase_shift_error_cycles,z2\n");
+    let mut csv = String::from(
+        "arrival_bjd_tdb,error_us,instrument,segment,photons,segment_start_bjd_tdb,segment_end_bjd_tdb,phase_shift_cycles,phase_shift_error_cycles,z2\n",
+    );
     for t in &result.arrival_times {
         csv.push_str(&format!(
             "{},{:.6},{},{},{},{},{},{:.8},{:.8},{:.3}\n",
@@ -100,7 +118,9 @@ pub fn run(a: Args) -> Result<()> {
     }
     write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
     let provenance = ev.provenance.clone().with("template", a.template.display().to_string());
-    write_atomically(&sidecar_path(&a.output), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&sidecar_path(&a.output), |f| {
+        std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string())
+    })?;
     let skipped: Vec<serde_json::Value> = result
         .skipped
         .iter()
@@ -114,7 +134,14 @@ pub fn run(a: Args) -> Result<()> {
         "output": a.output.display().to_string(),
     });
     for s in &result.skipped {
-        eprintln!("warning: {}: segment {} ({} to {}) skipped: {}", ev.file, s.segment, jd(s.start_s), jd(s.end_s), s.reason);
+        eprintln!(
+            "warning: {}: segment {} ({} to {}) skipped: {}",
+            ev.file,
+            s.segment,
+            jd(s.start_s),
+            jd(s.end_s),
+            s.reason
+        );
     }
     if a.json {
         println!("{}", serde_json::to_string_pretty(&summary)?);

@@ -7,13 +7,13 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::find_periods::KernelArg;
 use super::common::{spinner, write_text};
+use super::find_periods::KernelArg;
 use super::light_curve_input::LightCurveArgs;
-use crate::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
-use crate::frequencies::prewhiten::{Combination, PrewhitenOptions, StopReason, prewhiten};
-use crate::periodogram::{GridRequest, plan_grid};
-use crate::table::{Provenance, write_table};
+use skyclock::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
+use skyclock::frequencies::prewhiten::{Combination, PrewhitenOptions, StopReason, prewhiten};
+use skyclock::periodogram::{GridRequest, plan_grid};
+use skyclock::table::{Provenance, write_table};
 
 const EXAMPLE: &str = "Example (invented multiperiodic pulsator):
   skyclock extract-frequencies --input dsct_invented.csv --time-column bjd \\
@@ -97,7 +97,12 @@ pub fn run(a: Args) -> Result<()> {
     let mut req = GridRequest::up_to(a.max_freq_per_day);
     req.oversampling = a.oversampling;
     let grid = plan_grid(series.baseline_d(), &req).map_err(|e| lc.locate(e))?.grid;
-    let options = PrewhitenOptions { max_frequencies: a.max_frequencies, snr_stop: a.signal_to_noise_stop, noise_box_per_day: a.noise_box_per_day, algorithm: a.kernel.algorithm() };
+    let options = PrewhitenOptions {
+        max_frequencies: a.max_frequencies,
+        snr_stop: a.signal_to_noise_stop,
+        noise_box_per_day: a.noise_box_per_day,
+        algorithm: a.kernel.algorithm(),
+    };
     let result = prewhiten(&series, &grid, &options).map_err(|e| lc.locate(e))?;
     pb.finish_and_clear();
     let input = a.light_curve.input.as_path();
@@ -121,12 +126,17 @@ pub fn run(a: Args) -> Result<()> {
             col("phase_cycles", f.iter().map(|x| x.fit.phase_cycles).collect()),
             col("phase_err_cycles", f.iter().map(|x| x.fit.phase_err_cycles).collect()),
             col("signal_to_noise", f.iter().map(|x| x.snr).collect()),
-            Column::new("combination".into(), f.iter().map(|x| combination_text(&x.combinations)).collect::<Vec<String>>()),
+            Column::new(
+                "combination".into(),
+                f.iter().map(|x| combination_text(&x.combinations)).collect::<Vec<String>>(),
+            ),
         ])?;
         write_table(&mut df, path, &provenance, &[input])?;
     }
     let stop = match result.stop {
-        StopReason::BelowSnr { freq_per_day, snr } => format!("next peak at {freq_per_day:.6} c/d has S/N {snr:.2} < {}", a.signal_to_noise_stop),
+        StopReason::BelowSnr { freq_per_day, snr } => {
+            format!("next peak at {freq_per_day:.6} c/d has S/N {snr:.2} < {}", a.signal_to_noise_stop)
+        }
         StopReason::MaxFrequencies => format!("reached {} frequencies", a.max_frequencies),
         StopReason::OutOfDegreesOfFreedom => "the model has as many parameters as the data allow".into(),
     };
@@ -150,7 +160,11 @@ pub fn run(a: Args) -> Result<()> {
         "times": note,
     });
     if let Some(path) = &a.summary_output {
-        write_text(path, &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?, &[input])?;
+        write_text(
+            path,
+            &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,
+            &[input],
+        )?;
     }
     if a.json {
         println!("{}", serde_json::to_string_pretty(&summary)?);

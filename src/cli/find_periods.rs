@@ -9,10 +9,10 @@ use polars::prelude::*;
 
 use super::common::{spinner, write_text};
 use super::light_curve_input::LightCurveArgs;
-use crate::periodogram::significance::BootstrapOptions;
-use crate::periodogram::{Algorithm, GridRequest};
-use crate::survey::search::{SearchMethod, SearchOutcome, SearchPlan, describe_alias, search_series};
-use crate::table::{Provenance, write_table};
+use skyclock::periodogram::significance::BootstrapOptions;
+use skyclock::periodogram::{Algorithm, GridRequest};
+use skyclock::survey::search::{SearchMethod, SearchOutcome, SearchPlan, describe_alias, search_series};
+use skyclock::table::{Provenance, write_table};
 
 const EXAMPLE: &str = "Example (invented star, times already BJD_TDB):
   skyclock find-periods --input vx_invented.csv --time-column bjd --value-column mag \\
@@ -114,11 +114,16 @@ impl SearchOptionArgs {
             MethodArg::ClassicalSinusoid => SearchMethod::ClassicalSinusoid,
             MethodArg::Harmonics => SearchMethod::Harmonics(self.harmonics),
             MethodArg::PhaseDispersion => SearchMethod::PhaseDispersion(self.phase_bins),
-            MethodArg::ConditionalEntropy => SearchMethod::ConditionalEntropy { phase_bins: self.phase_bins, value_bins: 10 },
+            MethodArg::ConditionalEntropy => {
+                SearchMethod::ConditionalEntropy { phase_bins: self.phase_bins, value_bins: 10 }
+            }
             MethodArg::Box => {
                 let mut d = Vec::new();
                 for part in self.durations_d.split(',') {
-                    let v: f64 = part.trim().parse().map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
+                    let v: f64 = part
+                        .trim()
+                        .parse()
+                        .map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
                     if !(v.is_finite() && v > 0.0) {
                         anyhow::bail!("--durations-d: every duration must be > 0 days, got {v}");
                     }
@@ -228,7 +233,11 @@ pub fn run(a: Args) -> Result<()> {
     if let Some(path) = &a.output {
         let f = out.spectrum.grid.frequencies();
         let period: Vec<f64> = f.iter().map(|x| 1.0 / x).collect();
-        let mut cols = vec![Column::new("freq_per_day".into(), f), Column::new("period_d".into(), period), Column::new("power".into(), out.spectrum.power.clone())];
+        let mut cols = vec![
+            Column::new("freq_per_day".into(), f),
+            Column::new("period_d".into(), period),
+            Column::new("power".into(), out.spectrum.power.clone()),
+        ];
         if let Some(amp) = &out.spectrum.amplitude {
             cols.push(Column::new("amplitude".into(), amp.clone()));
         }
@@ -241,15 +250,27 @@ pub fn run(a: Args) -> Result<()> {
         write_text(path, &serde_json::to_string_pretty(&doc)?, &[input])?;
     }
     if let Some(path) = &a.figure {
-        use crate::plot::{search::periodogram_figure, write_figure};
-        crate::table::refuse_overwriting_inputs(path, &[input])?;
+        use skyclock::plot::{search::periodogram_figure, write_figure};
+        skyclock::table::refuse_overwriting_inputs(path, &[input])?;
         let fig = periodogram_figure(&out, &format!("{} — {}", plan.method.label(), input.display()));
         write_figure(&fig, path)?;
     }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&serde_json::json!({"method": plan.method.label(), "times": note, "result": peaks}))?);
+        println!(
+            "{}",
+            serde_json::to_string_pretty(
+                &serde_json::json!({"method": plan.method.label(), "times": note, "result": peaks})
+            )?
+        );
     } else if !a.quiet {
-        println!("{} on {} points ({} rows with NaN dropped), baseline {:.3} d, {} frequencies", plan.method.label(), out.n_points, out.n_dropped, out.baseline_d, out.spectrum.grid.len);
+        println!(
+            "{} on {} points ({} rows with NaN dropped), baseline {:.3} d, {} frequencies",
+            plan.method.label(),
+            out.n_points,
+            out.n_dropped,
+            out.baseline_d,
+            out.spectrum.grid.len
+        );
         for (k, p) in out.peaks.iter().enumerate() {
             let notes = p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>().join("; ");
             println!(

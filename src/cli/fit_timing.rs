@@ -1,18 +1,19 @@
 //! `skyclock fit-timing`: phase-connected fit of a pulsar timing model to arrival times.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::path::PathBuf;
 
 use anyhow::{Context, Result};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{TableRequest, correct_table_with_geometry};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::pulsar::arrival_times::{arrival_times_from_table, attach_observer_geometry};
-use crate::pulsar::model::TimingModel;
-use crate::pulsar::timing_fit::{fit_timing_model, fitted_position};
-use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
-use crate::table::{Provenance, read_table};
+use skyclock::arrival::table::{TableRequest, correct_table_with_geometry};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::pulsar::arrival_times::{arrival_times_from_table, attach_observer_geometry};
+use skyclock::pulsar::model::TimingModel;
+use skyclock::pulsar::timing_fit::{fit_timing_model, fitted_position};
+use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
+use skyclock::table::{Provenance, read_table};
 
 const EXAMPLE: &str = "Example:
   skyclock fit-timing --arrival-times pulses.csv --time-column time --clock mjd_utc \\
@@ -84,7 +85,10 @@ pub struct Args {
 pub fn run(a: Args) -> Result<()> {
     let clock = super::common::clock_choice(&a.clock, &a.clock_column, "mjd_utc")?;
     let inputs = [a.arrival_times.as_path(), a.model.as_path()];
-    for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref(), a.figure.as_ref()].into_iter().flatten() {
+    for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref(), a.figure.as_ref()]
+        .into_iter()
+        .flatten()
+    {
         refuse_overwriting_inputs(out, &inputs)?;
     }
     let model_text = std::fs::read_to_string(&a.model).with_context(|| format!("reading {}", a.model.display()))?;
@@ -93,15 +97,26 @@ pub fn run(a: Args) -> Result<()> {
     let source = a.source.load(description.as_ref())?;
     let observer = a.observer.observer_spec(description.as_ref())?;
     let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
-    let request = TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    let corrector = BarycentricCorrector::new(
+        reference.ephemeris.clone(),
+        reference.converter.clone(),
+        reference.orientation.clone(),
+        source.clone(),
+        DelayOptions::default(),
+    );
+    let request =
+        TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
     let file = a.arrival_times.display().to_string();
     let df = read_table(&a.arrival_times, &request.text_columns())?;
     let (corrected, _, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
     let mut toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
     attach_observer_geometry(&mut toas, &geometry);
-    let spin = super::common::spinner(&format!("fitting {} parameters to {} arrival times", start.fit.len() + 1, toas.len()), a.quiet);
-    let fit = fit_timing_model(&start, &toas, a.max_iterations).with_context(|| format!("fitting {} to {file}", a.model.display()));
+    let spin = super::common::spinner(
+        &format!("fitting {} parameters to {} arrival times", start.fit.len() + 1, toas.len()),
+        a.quiet,
+    );
+    let fit = fit_timing_model(&start, &toas, a.max_iterations)
+        .with_context(|| format!("fitting {} to {file}", a.model.display()));
     spin.finish_and_clear();
     let fit = fit?;
 
@@ -111,9 +126,15 @@ pub fn run(a: Args) -> Result<()> {
         .with("model", a.model.display().to_string())
         .with("ephemeris", reference.ephemeris.name())
         .with("leap_seconds", reference.converter.leap_seconds().source());
-    let mut csv = String::from("seconds_after_epoch_tdb,residual_us,residual_cycles,error_us,freq_mhz,instrument,orbital_phase\n");
+    let mut csv = String::from(
+        "seconds_after_epoch_tdb,residual_us,residual_cycles,error_us,freq_mhz,instrument,orbital_phase\n",
+    );
     for (i, t) in toas.iter().enumerate() {
-        let orbital = fit.model.orbit.as_ref().map(|o| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * 86_400.0)).rem_euclid(1.0));
+        let orbital = fit
+            .model
+            .orbit
+            .as_ref()
+            .map(|o| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * SECONDS_PER_DAY)).rem_euclid(1.0));
         csv.push_str(&format!(
             "{:.9},{:.6},{:.9},{:.6},{},{},{}\n",
             t.t_s,
@@ -126,29 +147,54 @@ pub fn run(a: Args) -> Result<()> {
         ));
     }
     write_atomically(&a.output_residuals, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
-    write_atomically(&sidecar_path(&a.output_residuals), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&sidecar_path(&a.output_residuals), |f| {
+        std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string())
+    })?;
     if let Some(path) = &a.figure {
-        use crate::plot::{Figure, Layer, Panel, write_figure};
+        use skyclock::plot::{Figure, Layer, Panel, write_figure};
         let residual_us: Vec<f64> = fit.residual_s.iter().map(|r| r * 1e6).collect();
         let error_us: Vec<f64> = toas.iter().map(|t| t.error_s * 1e6).collect();
-        let points = |x: Vec<f64>| Layer::Points { label: "residual (1σ)".into(), x, y: residual_us.clone(), y_err: Some(error_us.clone()), colour: (40, 70, 150), size: 3 };
+        let points = |x: Vec<f64>| Layer::Points {
+            label: "residual (1σ)".into(),
+            x,
+            y: residual_us.clone(),
+            y_err: Some(error_us.clone()),
+            colour: (40, 70, 150),
+            size: 3,
+        };
         let mut panels = vec![Panel {
             x_label: "days after the model epoch (TDB)".into(),
             y_label: "residual (µs)".into(),
-            layers: vec![points(toas.iter().map(|t| t.t_s / 86_400.0).collect())],
+            layers: vec![points(toas.iter().map(|t| t.t_s / SECONDS_PER_DAY).collect())],
             invert_y: false,
             height_weight: 1,
         }];
         if let Some(o) = fit.model.orbit.as_ref() {
-            let phase = toas.iter().map(|t| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * 86_400.0)).rem_euclid(1.0)).collect();
-            panels.push(Panel { x_label: "orbital phase from periastron (cycles)".into(), y_label: "residual (µs)".into(), layers: vec![points(phase)], invert_y: false, height_weight: 1 });
+            let phase = toas
+                .iter()
+                .map(|t| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * SECONDS_PER_DAY)).rem_euclid(1.0))
+                .collect();
+            panels.push(Panel {
+                x_label: "orbital phase from periastron (cycles)".into(),
+                y_label: "residual (µs)".into(),
+                layers: vec![points(phase)],
+                invert_y: false,
+                height_weight: 1,
+            });
         }
         let height = 380 * panels.len() as u32 + 80;
-        let fig = Figure { title: format!("{}: timing residuals, χ² = {:.1} for {} degrees of freedom", file, fit.chi2, fit.dof), panels, width: 1000, height };
+        let fig = Figure {
+            title: format!("{}: timing residuals, χ² = {:.1} for {} degrees of freedom", file, fit.chi2, fit.dof),
+            panels,
+            width: 1000,
+            height,
+        };
         write_figure(&fig, path)?;
     }
     let toml_text = fit.model.to_toml()?;
-    write_atomically(&a.output_model, |f| std::io::Write::write_all(f, toml_text.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&a.output_model, |f| {
+        std::io::Write::write_all(f, toml_text.as_bytes()).map_err(|e| e.to_string())
+    })?;
     let summary = serde_json::json!({
         "arrival_times": toas.len(),
         "fit": fit,
@@ -164,15 +210,28 @@ pub fn run(a: Args) -> Result<()> {
     if a.json {
         println!("{text}");
     } else {
-        println!("fitted {} parameters to {} arrival times: χ² = {:.2} for {} degrees of freedom", fit.parameters.len(), toas.len(), fit.chi2, fit.dof);
+        println!(
+            "fitted {} parameters to {} arrival times: χ² = {:.2} for {} degrees of freedom",
+            fit.parameters.len(),
+            toas.len(),
+            fit.chi2,
+            fit.dof
+        );
         for ((n, v), s) in fit.parameters.iter().zip(&fit.values).zip(&fit.uncertainties) {
             println!("  {n:<34} {v:>24.15e} ± {s:.3e}");
         }
         if let Some(p) = fitted_position(&fit, &source) {
             println!(
                 "  position at MJD {:.5} (TDB): RA {:.9}° ± {:.3} mas, Dec {:.9}° ± {:.3} mas; proper motion {:.3} ± {:.3} mas/yr east, {:.3} ± {:.3} mas/yr north",
-                p.epoch_mjd_tdb, p.ra_deg, p.ra_uncertainty_mas, p.dec_deg, p.dec_uncertainty_mas,
-                p.proper_motion_ra_mas_per_yr, p.proper_motion_ra_uncertainty_mas_per_yr, p.proper_motion_dec_mas_per_yr, p.proper_motion_dec_uncertainty_mas_per_yr
+                p.epoch_mjd_tdb,
+                p.ra_deg,
+                p.ra_uncertainty_mas,
+                p.dec_deg,
+                p.dec_uncertainty_mas,
+                p.proper_motion_ra_mas_per_yr,
+                p.proper_motion_ra_uncertainty_mas_per_yr,
+                p.proper_motion_dec_mas_per_yr,
+                p.proper_motion_dec_uncertainty_mas_per_yr
             );
         }
     }

@@ -9,10 +9,10 @@ use polars::prelude::*;
 
 use super::common::write_text;
 use super::light_curve_input::LightCurveArgs;
-use crate::fold::{BinStatistic, bin_folded, fold_times, refine_period};
-use crate::survey::input::days_since;
-use crate::table::{Provenance, write_table};
-use crate::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
+use skyclock::fold::{BinStatistic, bin_folded, fold_times, refine_period};
+use skyclock::survey::input::days_since;
+use skyclock::table::{Provenance, write_table};
+use skyclock::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
   skyclock fold-curve --input vx_invented.csv --time-column bjd --value-column mag \\
@@ -81,7 +81,8 @@ pub fn run(a: Args) -> Result<()> {
     let epoch_d = match &a.epoch_bjd {
         None => series.time_d()[0],
         Some(text) => {
-            let t = parse_time(text, TimeFormat::Jd, TimeScale::Tdb, &LeapSecondTable::builtin()).map_err(|e| anyhow::anyhow!("--epoch-bjd: {e}"))?;
+            let t = parse_time(text, TimeFormat::Jd, TimeScale::Tdb, &LeapSecondTable::builtin())
+                .map_err(|e| anyhow::anyhow!("--epoch-bjd: {e}"))?;
             days_since(&t, &lc.epoch)
         }
     };
@@ -93,7 +94,8 @@ pub fn run(a: Args) -> Result<()> {
         None => (a.period_d, None),
     };
     let phase = fold_times(series.time_d(), period_d, epoch_d).map_err(|e| lc.locate(e))?;
-    let errors: Option<Vec<f64>> = series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
+    let errors: Option<Vec<f64>> =
+        series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
     let stat = match a.bin_statistic {
         BinArg::Mean => BinStatistic::Mean,
         BinArg::Median => BinStatistic::Median,
@@ -141,20 +143,36 @@ pub fn run(a: Args) -> Result<()> {
         "times": note,
     });
     if let Some(path) = &a.summary_output {
-        write_text(path, &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?, &[input])?;
+        write_text(
+            path,
+            &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,
+            &[input],
+        )?;
     }
     if let Some(path) = &a.figure {
-        use crate::plot::{search::FoldedCurve, search::folded_figure, write_figure};
-        crate::table::refuse_overwriting_inputs(path, &[input])?;
+        use skyclock::plot::{search::FoldedCurve, search::folded_figure, write_figure};
+        skyclock::table::refuse_overwriting_inputs(path, &[input])?;
         let label = format!("{} (input units)", a.light_curve.value_column);
-        let curve = FoldedCurve { phase: &phase, value: series.value(), error: errors.as_deref(), bins: &bins, value_label: &label, invert_y: false };
+        let curve = FoldedCurve {
+            phase: &phase,
+            value: series.value(),
+            error: errors.as_deref(),
+            bins: &bins,
+            value_label: &label,
+            invert_y: false,
+        };
         let fig = folded_figure(&curve, &format!("{} folded at P = {period_d:.8} d", input.display()));
         write_figure(&fig, path)?;
     }
     if a.json {
         println!("{}", serde_json::to_string_pretty(&summary)?);
     } else if !a.quiet {
-        println!("folded {} points at P = {period_d:.10} d into {} bins ({} empty)", series.len(), bins.len(), bins.iter().filter(|b| b.count == 0).count());
+        println!(
+            "folded {} points at P = {period_d:.10} d into {} bins ({} empty)",
+            series.len(),
+            bins.len(),
+            bins.iter().filter(|b| b.count == 0).count()
+        );
     }
     Ok(())
 }

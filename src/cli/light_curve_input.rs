@@ -8,10 +8,12 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::survey::input::{LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times};
-use crate::table::{read_table, text_column};
+use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::survey::input::{
+    LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times,
+};
+use skyclock::table::{read_table, text_column};
 
 /// Where the light curve is and how to read it.
 #[derive(Debug, Clone, ClapArgs)]
@@ -49,7 +51,12 @@ pub struct LightCurveArgs {
 impl LightCurveArgs {
     /// The column names.
     pub fn columns(&self) -> LightCurveColumns {
-        LightCurveColumns { time: self.time_column.clone(), value: self.value_column.clone(), error: self.error_column.clone(), band: self.band_column.clone() }
+        LightCurveColumns {
+            time: self.time_column.clone(),
+            value: self.value_column.clone(),
+            error: self.error_column.clone(),
+            band: self.band_column.clone(),
+        }
     }
 
     /// Reads the table and returns the light curve with times in days since its epoch
@@ -71,12 +78,21 @@ impl LightCurveArgs {
         let bjd = ClockSpec::parse_label("bjd_tdb").map_err(anyhow::Error::msg)?;
         let (times, note) = if self.clock_column.is_none() && is_barycentric_tdb(&clock) {
             let texts = text_column(&df, &file, &self.time_column)?;
-            (parse_barycentric_times(&texts, &clock, &file, &self.time_column, &leap)?, format!("times read as {} (already barycentric)", self.clock))
+            (
+                parse_barycentric_times(&texts, &clock, &file, &self.time_column, &leap)?,
+                format!("times read as {} (already barycentric)", self.clock),
+            )
         } else {
             let description = self.observer.description()?;
             let source = self.source.load(description.as_ref())?;
             let observer = self.observer.observer_spec(description.as_ref())?;
-            let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
+            let corrector = BarycentricCorrector::new(
+                reference.ephemeris.clone(),
+                reference.converter.clone(),
+                reference.orientation.clone(),
+                source.clone(),
+                DelayOptions::default(),
+            );
             let request = TableRequest {
                 time_column: self.time_column.clone(),
                 clock: if self.clock_column.is_some() { None } else { Some(clock) },
@@ -87,7 +103,12 @@ impl LightCurveArgs {
             let texts = text_column(&corrected, &file, "bjd_tdb")?;
             (
                 parse_barycentric_times(&texts, &bjd, &file, "bjd_tdb", &leap)?,
-                format!("times carried from {} to BJD_TDB for {} with {}", self.clock_column.as_deref().map_or(self.clock.clone(), |c| format!("the clocks in column '{c}'")), source.name, reference.ephemeris.name()),
+                format!(
+                    "times carried from {} to BJD_TDB for {} with {}",
+                    self.clock_column.as_deref().map_or(self.clock.clone(), |c| format!("the clocks in column '{c}'")),
+                    source.name,
+                    reference.ephemeris.name()
+                ),
             )
         };
         let values = text_column(&df, &file, &self.value_column)?;

@@ -2,6 +2,7 @@
 //! to the barycentre, fit the annual light-time term of the observer's orbit alongside the
 //! ephemeris and report the light time per astronomical unit and the speed of light.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::path::PathBuf;
 
 use anyhow::{Context, Result, bail};
@@ -9,12 +10,14 @@ use clap::Args as ClapArgs;
 use polars::prelude::{Column, DataFrame};
 
 use super::timing_table::TimingTableArgs;
-use crate::arrival::ReferencePoint;
-use crate::arrival::table::ClockSpec;
-use crate::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time};
-use crate::oc::ReferenceEphemeris;
-use crate::table::{Provenance, float_column, text_column, write_table};
-use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
+use skyclock::arrival::ReferencePoint;
+use skyclock::arrival::table::ClockSpec;
+use skyclock::oc::ReferenceEphemeris;
+use skyclock::oc::light_time_method::{
+    LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time,
+};
+use skyclock::table::{Provenance, float_column, text_column, write_table};
+use skyclock::time::{Instant, TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star, times written at the telescope, never corrected):
   skyclock measure-light-time --input raw_minima.csv --time-column time --clock jd_utc \\
@@ -101,7 +104,13 @@ pub fn run(a: Args) -> Result<()> {
         .enumerate()
         .map(|(i, &(kind, error_d))| {
             let bjd = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
-            UncorrectedTiming { observer_tdb: bjd.add_seconds(-roemer[i]), projection_au: roemer[i] / LIGHT_TIME_PER_AU_S, error_d, kind, row: i + 1 }
+            UncorrectedTiming {
+                observer_tdb: bjd.add_seconds(-roemer[i]),
+                projection_au: roemer[i] / LIGHT_TIME_PER_AU_S,
+                error_d,
+                kind,
+                row: i + 1,
+            }
         })
         .collect();
     let epoch = parse_time(&a.epoch_d, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
@@ -118,7 +127,7 @@ pub fn run(a: Args) -> Result<()> {
         Column::new("cycle".into(), m.residuals.iter().map(|r| r.1).collect::<Vec<_>>()),
         Column::new("time_since_epoch_d".into(), m.residuals.iter().map(|r| r.2).collect::<Vec<_>>()),
         Column::new("residual_d".into(), m.residuals.iter().map(|r| r.3).collect::<Vec<_>>()),
-        Column::new("residual_s".into(), m.residuals.iter().map(|r| r.3 * 86_400.0).collect::<Vec<_>>()),
+        Column::new("residual_s".into(), m.residuals.iter().map(|r| r.3 * SECONDS_PER_DAY).collect::<Vec<_>>()),
     ];
     let mut out = DataFrame::new(m.residuals.len(), columns).context("building the output table")?;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
@@ -153,12 +162,21 @@ pub fn run(a: Args) -> Result<()> {
         eprintln!("warning: {w}");
     }
     if m.reduced_chi2 > 2.0 {
-        eprintln!("warning: reduced χ² = {:.2}: the stated errors look too small; the scaled 1σ is the one to quote", m.reduced_chi2);
+        eprintln!(
+            "warning: reduced χ² = {:.2}: the stated errors look too small; the scaled 1σ is the one to quote",
+            m.reduced_chi2
+        );
     }
     if a.json {
         println!("{text}");
     } else {
-        println!("{} timings, projections r·n from {:.3} to {:.3} au → {}", m.n, m.projection_range_au.0, m.projection_range_au.1, a.output.display());
+        println!(
+            "{} timings, projections r·n from {:.3} to {:.3} au → {}",
+            m.n,
+            m.projection_range_au.0,
+            m.projection_range_au.1,
+            a.output.display()
+        );
         println!(
             "  light time per au  {:.4} ± {:.4} s  (defined value {:.6} s; {:+.1}σ)",
             m.light_time_per_au_s, m.light_time_per_au_sigma_scaled_s, LIGHT_TIME_PER_AU_S, deviation_sigma
@@ -168,7 +186,10 @@ pub fn run(a: Args) -> Result<()> {
             m.speed_of_light_m_per_s,
             m.speed_of_light_sigma_m_per_s * m.reduced_chi2.max(1.0).sqrt()
         );
-        println!("  period             {:.9} ± {:.9} d; χ² = {:.1} for {} dof", m.period_d, m.period_sigma_d, m.chi2, m.dof);
+        println!(
+            "  period             {:.9} ± {:.9} d; χ² = {:.1} for {} dof",
+            m.period_d, m.period_sigma_d, m.chi2, m.dof
+        );
     }
     Ok(())
 }

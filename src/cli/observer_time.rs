@@ -5,9 +5,9 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::observer::Observer;
-use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::observer::Observer;
+use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example:
   skyclock observer-time 2461010.4321 --ra 05:12:33.2 --dec +21:07:44 \\
@@ -48,7 +48,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(
-        reference.ephemeris.as_ref(),
+        reference.ephemeris.clone(),
         reference.converter.clone(),
         reference.orientation.clone(),
         source,
@@ -70,7 +70,13 @@ pub fn run(a: Args) -> Result<()> {
         println!("{}", serde_json::to_string_pretty(&out)?);
     } else {
         for r in &out {
-            println!("BJD_TDB {} → {} {} (JD {})", r["bjd_tdb"].as_str().unwrap_or(""), r["iso"].as_str().unwrap_or(""), scale, r["jd"].as_str().unwrap_or(""));
+            println!(
+                "BJD_TDB {} → {} {} (JD {})",
+                r["bjd_tdb"].as_str().unwrap_or(""),
+                r["iso"].as_str().unwrap_or(""),
+                scale,
+                r["jd"].as_str().unwrap_or("")
+            );
         }
     }
     Ok(())

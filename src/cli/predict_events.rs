@@ -8,12 +8,12 @@ use clap::Args as ClapArgs;
 use polars::prelude::{Column, DataFrame};
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::oc::EventKind;
-use crate::predict::{EventEphemeris, PredictionOptions, SUN_CAUTION_DEG, SkyGeometry, predict_events};
-use crate::table::{Provenance, write_table};
-use crate::time::format::format_iso;
-use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::oc::EventKind;
+use skyclock::predict::{EventEphemeris, PredictionOptions, SUN_CAUTION_DEG, SkyGeometry, predict_events};
+use skyclock::table::{Provenance, write_table};
+use skyclock::time::format::format_iso;
+use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example (invented star and site):
   skyclock predict-events --ra 07:41:12.5 --dec +28:14:03 \\
@@ -118,7 +118,11 @@ pub fn run(a: Args) -> Result<()> {
     let kinds: Vec<EventKind> = a
         .kinds
         .split(',')
-        .map(|k| EventKind::parse(k).with_context(|| format!("--kinds: unknown event kind '{}'; use primary, secondary or maximum", k.trim())))
+        .map(|k| {
+            EventKind::parse(k).with_context(|| {
+                format!("--kinds: unknown event kind '{}'; use primary, secondary or maximum", k.trim())
+            })
+        })
         .collect::<Result<_>>()?;
     let description = a.observer.description()?;
     let site = a
@@ -128,8 +132,10 @@ pub fn run(a: Args) -> Result<()> {
     let source = a.source.load(description.as_ref())?;
     let reference = a.reference_data.load()?;
     let leap = reference.converter.leap_seconds().clone();
-    let start = parse_time(&a.from, TimeFormat::Iso, TimeScale::Utc, &leap).map_err(|e| anyhow::anyhow!("--from '{}': {e}", a.from))?;
-    let end = parse_time(&a.until, TimeFormat::Iso, TimeScale::Utc, &leap).map_err(|e| anyhow::anyhow!("--until '{}': {e}", a.until))?;
+    let start = parse_time(&a.from, TimeFormat::Iso, TimeScale::Utc, &leap)
+        .map_err(|e| anyhow::anyhow!("--from '{}': {e}", a.from))?;
+    let end = parse_time(&a.until, TimeFormat::Iso, TimeScale::Utc, &leap)
+        .map_err(|e| anyhow::anyhow!("--until '{}': {e}", a.until))?;
     let (ephemeris, ephemeris_text) = load_ephemeris(&a, &leap)?;
     let options = PredictionOptions {
         min_target_altitude_deg: a.min_target_altitude_deg,
@@ -138,18 +144,29 @@ pub fn run(a: Args) -> Result<()> {
         sun_caution_deg: a.sun_caution_deg,
         min_moon_separation_deg: a.min_moon_separation_deg,
     };
-    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
-    let sky = SkyGeometry::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone());
+    let corrector = BarycentricCorrector::new(
+        reference.ephemeris.clone(),
+        reference.converter.clone(),
+        reference.orientation.clone(),
+        source.clone(),
+        DelayOptions::default(),
+    );
+    let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
     let mut events = predict_events(&ephemeris, &kinds, &start, &end, &site, &corrector, &sky, &options)?;
     let cautions: Vec<String> = events
         .iter()
-        .filter_map(|e| e.sun_caution.as_ref().map(|c| format!("{} {} at {} UTC: {c}", e.kind.name(), e.cycle, format_iso(&e.utc, 0))))
+        .filter_map(|e| {
+            e.sun_caution
+                .as_ref()
+                .map(|c| format!("{} {} at {} UTC: {c}", e.kind.name(), e.cycle, format_iso(&e.utc, 0)))
+        })
         .collect();
     for c in &cautions {
         eprintln!("{c}");
     }
     let beyond: Vec<i64> = events.iter().filter_map(|e| leap.days_beyond_horizon(e.utc.mjd_day())).collect();
-    let leap_warning = super::common::leap_second_warning(beyond.len(), beyond.iter().copied().max().unwrap_or(0), &leap);
+    let leap_warning =
+        super::common::leap_second_warning(beyond.len(), beyond.iter().copied().max().unwrap_or(0), &leap);
     if let Some(w) = &leap_warning {
         eprintln!("{w}");
     }
@@ -158,7 +175,17 @@ pub fn run(a: Args) -> Result<()> {
     }
 
     let mut inputs: Vec<&Path> = Vec::new();
-    for p in [&a.ephemeris_summary, &a.source.source_file, &a.observer.sites_file, &a.reference_data.ephemeris_kernel, &a.reference_data.leap_seconds, &a.reference_data.earth_orientation].into_iter().flatten() {
+    for p in [
+        &a.ephemeris_summary,
+        &a.source.source_file,
+        &a.observer.sites_file,
+        &a.reference_data.ephemeris_kernel,
+        &a.reference_data.leap_seconds,
+        &a.reference_data.earth_orientation,
+    ]
+    .into_iter()
+    .flatten()
+    {
         inputs.push(p.as_path());
     }
     if let Some(path) = &a.output {
@@ -166,25 +193,52 @@ pub fn run(a: Args) -> Result<()> {
         let mut columns = vec![
             Column::new("kind".into(), events.iter().map(|e| e.kind.name().to_string()).collect::<Vec<_>>()),
             Column::new("cycle".into(), events.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-            Column::new("bjd_tdb".into(), events.iter().map(|e| format_time(&e.bjd_tdb, TimeFormat::Jd)).collect::<Vec<_>>()),
+            Column::new(
+                "bjd_tdb".into(),
+                events.iter().map(|e| format_time(&e.bjd_tdb, TimeFormat::Jd)).collect::<Vec<_>>(),
+            ),
             Column::new("bjd_tdb_jd1".into(), events.iter().map(|e| e.bjd_tdb.jd_two_part().0).collect::<Vec<_>>()),
             Column::new("bjd_tdb_jd2".into(), events.iter().map(|e| e.bjd_tdb.jd_two_part().1).collect::<Vec<_>>()),
             Column::new("sigma_d".into(), events.iter().map(|e| e.sigma_d).collect::<Vec<_>>()),
             Column::new("utc_iso".into(), events.iter().map(|e| format_iso(&e.utc, 3)).collect::<Vec<_>>()),
-            Column::new("target_altitude_deg".into(), events.iter().map(|e| e.sky.target.altitude_deg).collect::<Vec<_>>()),
-            Column::new("target_azimuth_deg".into(), events.iter().map(|e| e.sky.target.azimuth_deg).collect::<Vec<_>>()),
+            Column::new(
+                "target_altitude_deg".into(),
+                events.iter().map(|e| e.sky.target.altitude_deg).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "target_azimuth_deg".into(),
+                events.iter().map(|e| e.sky.target.azimuth_deg).collect::<Vec<_>>(),
+            ),
             Column::new("sun_altitude_deg".into(), events.iter().map(|e| e.sky.sun.altitude_deg).collect::<Vec<_>>()),
-            Column::new("sky_condition".into(), events.iter().map(|e| e.condition.name().to_string()).collect::<Vec<_>>()),
-            Column::new("sun_separation_deg".into(), events.iter().map(|e| e.sky.sun_separation_deg).collect::<Vec<_>>()),
+            Column::new(
+                "sky_condition".into(),
+                events.iter().map(|e| e.condition.name().to_string()).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "sun_separation_deg".into(),
+                events.iter().map(|e| e.sky.sun_separation_deg).collect::<Vec<_>>(),
+            ),
             Column::new("moon_altitude_deg".into(), events.iter().map(|e| e.sky.moon.altitude_deg).collect::<Vec<_>>()),
-            Column::new("moon_separation_deg".into(), events.iter().map(|e| e.sky.moon_separation_deg).collect::<Vec<_>>()),
-            Column::new("moon_illuminated_fraction".into(), events.iter().map(|e| e.sky.moon_illuminated_fraction).collect::<Vec<_>>()),
+            Column::new(
+                "moon_separation_deg".into(),
+                events.iter().map(|e| e.sky.moon_separation_deg).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "moon_illuminated_fraction".into(),
+                events.iter().map(|e| e.sky.moon_illuminated_fraction).collect::<Vec<_>>(),
+            ),
             Column::new("observable".into(), events.iter().map(|e| e.observable).collect::<Vec<_>>()),
         ];
         if options.event_duration_d.is_some() {
-            columns.push(Column::new("window_observable".into(), events.iter().map(|e| e.window_observable.unwrap_or(false)).collect::<Vec<_>>()));
+            columns.push(Column::new(
+                "window_observable".into(),
+                events.iter().map(|e| e.window_observable.unwrap_or(false)).collect::<Vec<_>>(),
+            ));
         }
-        columns.push(Column::new("caution".into(), events.iter().map(|e| e.sun_caution.clone().unwrap_or_default()).collect::<Vec<_>>()));
+        columns.push(Column::new(
+            "caution".into(),
+            events.iter().map(|e| e.sun_caution.clone().unwrap_or_default()).collect::<Vec<_>>(),
+        ));
         let mut df = DataFrame::new(n, columns).context("building the output table")?;
         let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
             .with("stage", "predict-events")
@@ -192,7 +246,16 @@ pub fn run(a: Args) -> Result<()> {
             .with("leap_seconds", leap.source().to_string())
             .with("earth_orientation", reference.orientation.describe())
             .with("event_ephemeris", ephemeris_text.clone())
-            .with("site", format!("{} ({:.6}°E, {:.6}°N, {} m)", site.name, site.east_longitude_rad.to_degrees(), site.latitude_rad.to_degrees(), site.height_m))
+            .with(
+                "site",
+                format!(
+                    "{} ({:.6}°E, {:.6}°N, {} m)",
+                    site.name,
+                    site.east_longitude_rad.to_degrees(),
+                    site.latitude_rad.to_degrees(),
+                    site.height_m
+                ),
+            )
             .with("altitudes", "geometric, no refraction; Moon from low-precision formulae (~0.3°)");
         write_table(&mut df, path, &provenance, &inputs)?;
     }
@@ -219,7 +282,10 @@ pub fn run(a: Args) -> Result<()> {
         println!("{}", serde_json::to_string_pretty(&summary)?);
     } else {
         println!("{} event(s) of {} from {} to {} UTC at {}", events.len(), source.name, a.from, a.until, site.name);
-        println!("{:<9} {:>10} {:<19} {:>8} {:>7} {:>7} {:<21} {:>6}  {}", "kind", "cycle", "UTC", "±σ min", "alt°", "Sun°", "sky", "Moon°", "verdict");
+        println!(
+            "{:<9} {:>10} {:<19} {:>8} {:>7} {:>7} {:<21} {:>6}  {}",
+            "kind", "cycle", "UTC", "±σ min", "alt°", "Sun°", "sky", "Moon°", "verdict"
+        );
         for e in &events {
             let verdict = if e.sun_caution.is_some() {
                 "CAUTION: near the Sun, do not observe"
@@ -251,7 +317,7 @@ pub fn run(a: Args) -> Result<()> {
 }
 
 /// The ephemeris from the summary file or the command line, and a text for provenance.
-fn load_ephemeris(a: &Args, leap: &crate::time::LeapSecondTable) -> Result<(EventEphemeris, String)> {
+fn load_ephemeris(a: &Args, leap: &skyclock::time::LeapSecondTable) -> Result<(EventEphemeris, String)> {
     if let Some(path) = &a.ephemeris_summary {
         if a.epoch_bjd_tdb.is_some() || a.period_d.is_some() {
             bail!("give either --ephemeris-summary or --epoch-bjd-tdb with --period-d, not both");
@@ -260,14 +326,19 @@ fn load_ephemeris(a: &Args, leap: &crate::time::LeapSecondTable) -> Result<(Even
         let text = std::fs::read_to_string(path).with_context(|| format!("reading {file}"))?;
         let v: serde_json::Value = serde_json::from_str(&text).with_context(|| format!("{file}: not valid JSON"))?;
         let reference = &v["reference_ephemeris"];
-        let epoch_text = reference["epoch_bjd_tdb"]
-            .as_str()
-            .with_context(|| format!("{file}: no reference_ephemeris.epoch_bjd_tdb (is this a timing-residuals summary?)"))?;
-        let period = reference["period_d"].as_f64().with_context(|| format!("{file}: no reference_ephemeris.period_d"))?;
-        let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap).map_err(|e| anyhow::anyhow!("{file}: reference_ephemeris.epoch_bjd_tdb: {e}"))?;
+        let epoch_text = reference["epoch_bjd_tdb"].as_str().with_context(|| {
+            format!("{file}: no reference_ephemeris.epoch_bjd_tdb (is this a timing-residuals summary?)")
+        })?;
+        let period =
+            reference["period_d"].as_f64().with_context(|| format!("{file}: no reference_ephemeris.period_d"))?;
+        let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap)
+            .map_err(|e| anyhow::anyhow!("{file}: reference_ephemeris.epoch_bjd_tdb: {e}"))?;
         let wanted = a.summary_model.trim().to_ascii_lowercase();
-        let Some(kind) = crate::oc::ModelKind::parse(&wanted) else {
-            bail!("--summary-model '{}': use one of the models timing-residuals fits (linear, quadratic, light-time, quadratic+light-time, two-light-time, quadratic+two-light-time)", a.summary_model);
+        let Some(kind) = skyclock::oc::ModelKind::parse(&wanted) else {
+            bail!(
+                "--summary-model '{}': use one of the models timing-residuals fits (linear, quadratic, light-time, quadratic+light-time, two-light-time, quadratic+two-light-time)",
+                a.summary_model
+            );
         };
         let wanted = kind.name().to_string();
         let models = v["models"].as_array().with_context(|| format!("{file}: no models array"))?;
@@ -275,29 +346,46 @@ fn load_ephemeris(a: &Args, leap: &crate::time::LeapSecondTable) -> Result<(Even
             let have: Vec<&str> = models.iter().filter_map(|m| m["model"].as_str()).collect();
             format!("{file}: no '{wanted}' model; the summary holds: {}", have.join(", "))
         })?;
-        let params = model["parameters"].as_array().with_context(|| format!("{file}: model '{wanted}' has no parameters"))?;
+        let params =
+            model["parameters"].as_array().with_context(|| format!("{file}: model '{wanted}' has no parameters"))?;
         let shifts: Vec<f64> = params
             .iter()
             .enumerate()
-            .map(|(j, p)| p["value"].as_f64().with_context(|| format!("{file}: model '{wanted}' parameter {j} has no numeric value")))
+            .map(|(j, p)| {
+                p["value"]
+                    .as_f64()
+                    .with_context(|| format!("{file}: model '{wanted}' parameter {j} has no numeric value"))
+            })
             .collect::<Result<_>>()?;
         let cov: Vec<f64> = model["covariance"]
             .as_array()
             .with_context(|| format!("{file}: model '{wanted}' has no covariance"))?
             .iter()
             .enumerate()
-            .map(|(j, x)| x.as_f64().with_context(|| format!("{file}: model '{wanted}' covariance element {j} is not a number")))
+            .map(|(j, x)| {
+                x.as_f64().with_context(|| format!("{file}: model '{wanted}' covariance element {j} is not a number"))
+            })
             .collect::<Result<_>>()?;
-        let e = EventEphemeris::from_fitted_model(epoch, period, kind, &shifts, &cov).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-        let desc = format!("{wanted} model from {file}: T0 = {} BJD_TDB, P = {} d, Q = {} d", format_time(&e.epoch, TimeFormat::Jd), e.period_d, e.quadratic_d);
+        let e = EventEphemeris::from_fitted_model(epoch, period, kind, &shifts, &cov)
+            .map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+        let desc = format!(
+            "{wanted} model from {file}: T0 = {} BJD_TDB, P = {} d, Q = {} d",
+            format_time(&e.epoch, TimeFormat::Jd),
+            e.period_d,
+            e.quadratic_d
+        );
         return Ok((e, desc));
     }
     let (Some(epoch_text), Some(period)) = (&a.epoch_bjd_tdb, a.period_d) else {
         bail!("no ephemeris given: use --epoch-bjd-tdb JD with --period-d DAYS, or --ephemeris-summary FILE");
     };
-    let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap).map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{epoch_text}': {e}"))?;
-    let mut e = EventEphemeris::linear(epoch, period, a.epoch_sigma_d, a.period_sigma_d).map_err(|e| anyhow::anyhow!("{e}"))?;
-    if !(a.period_change_per_cycle_sigma_d.is_finite() && a.period_change_per_cycle_sigma_d >= 0.0) || !a.period_change_per_cycle_d.is_finite() {
+    let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap)
+        .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{epoch_text}': {e}"))?;
+    let mut e =
+        EventEphemeris::linear(epoch, period, a.epoch_sigma_d, a.period_sigma_d).map_err(|e| anyhow::anyhow!("{e}"))?;
+    if !(a.period_change_per_cycle_sigma_d.is_finite() && a.period_change_per_cycle_sigma_d >= 0.0)
+        || !a.period_change_per_cycle_d.is_finite()
+    {
         bail!("--period-change-per-cycle-d and its sigma must be finite (the sigma non-negative)");
     }
     // Q = ½ dP/dE, σ_Q = ½ σ(dP/dE).

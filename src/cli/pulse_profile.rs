@@ -2,20 +2,21 @@
 //! errors, a smooth template (Fourier or Gaussian components) and a figure.
 //! Also holds the event-table reading shared with `event-arrival-times`.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result, anyhow, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::pulsar::model::TimingModel;
-use crate::pulsar::profile::{PulseTemplate, binned_profile, fold_events, fourier_template, gaussian_template};
-use crate::pulsar::statistics::h_test;
-use crate::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
-use crate::table::{Provenance, float_column, read_table};
-use crate::time::{Instant, TimeScale};
+use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::pulsar::model::TimingModel;
+use skyclock::pulsar::profile::{PulseTemplate, binned_profile, fold_events, fourier_template, gaussian_template};
+use skyclock::pulsar::statistics::h_test;
+use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
+use skyclock::table::{Provenance, float_column, read_table};
+use skyclock::time::{Instant, TimeScale};
 
 const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an invented X-ray satellite):
   skyclock pulse-profile --events corvina_events.csv --time-column time --clock mjd_tt \\
@@ -84,27 +85,39 @@ impl EventTableArgs {
         if !(self.model_validity_days > 0.0 && self.model_validity_days.is_finite()) {
             bail!("--model-validity-days {}: must be > 0", self.model_validity_days);
         }
-        Ok(self.model_validity_days * 86_400.0)
+        Ok(self.model_validity_days * SECONDS_PER_DAY)
     }
 
     /// Reads the model and the events, barycentres the times, reads the weights.
     pub fn load(&self, stage: &str) -> Result<LoadedEvents> {
-        let model_text = std::fs::read_to_string(&self.model).with_context(|| format!("reading {}", self.model.display()))?;
+        let model_text =
+            std::fs::read_to_string(&self.model).with_context(|| format!("reading {}", self.model.display()))?;
         let model = TimingModel::from_toml(&model_text, &self.model.display().to_string())?;
         let clock = ClockSpec::parse_label(&self.clock).map_err(anyhow::Error::msg)?;
         let description = self.observer.description()?;
         let source = self.source.load(description.as_ref())?;
         let observer = self.observer.observer_spec(description.as_ref())?;
         let reference = self.reference_data.load()?;
-        let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
+        let corrector = BarycentricCorrector::new(
+            reference.ephemeris.clone(),
+            reference.converter.clone(),
+            reference.orientation.clone(),
+            source,
+            DelayOptions::default(),
+        );
         let file = self.events.display().to_string();
-        let request = TableRequest { time_column: self.time_column.clone(), clock: Some(clock), clock_column: None, observer };
+        let request =
+            TableRequest { time_column: self.time_column.clone(), clock: Some(clock), clock_column: None, observer };
         let df = read_table(&self.events, &request.text_columns())?;
         let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
         let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
         let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
         let epoch = model.epoch();
-        let times_s: Vec<f64> = jd1.iter().zip(&jd2).map(|(a, b)| Instant::from_jd_two_part(TimeScale::Tdb, *a, *b).seconds_since(&epoch)).collect();
+        let times_s: Vec<f64> = jd1
+            .iter()
+            .zip(&jd2)
+            .map(|(a, b)| Instant::from_jd_two_part(TimeScale::Tdb, *a, *b).seconds_since(&epoch))
+            .collect();
         let weights = match &self.weight_column {
             Some(c) => Some(float_column(&corrected, &file, c)?),
             None => None,
@@ -125,7 +138,7 @@ impl EventTableArgs {
 impl LoadedEvents {
     /// Warns on stderr about events that repeat the previous event's time.
     pub fn warn_repeated_times(&self, column: &str) {
-        if let (n, Some(first)) = crate::pulsar::profile::repeated_times(&self.times_s) {
+        if let (n, Some(first)) = skyclock::pulsar::profile::repeated_times(&self.times_s) {
             eprintln!(
                 "warning: {}, column '{column}': {n} event(s) have the same barycentric time as the event before them (first at row {first}); kept as separate photons — if the table has duplicated rows, remove them",
                 self.file
@@ -134,7 +147,7 @@ impl LoadedEvents {
     }
 
     /// Turns a library message about event N / photon N into one naming file, row and column.
-    pub fn locate(&self, column: &str, e: crate::pulsar::PulsarError) -> anyhow::Error {
+    pub fn locate(&self, column: &str, e: skyclock::pulsar::PulsarError) -> anyhow::Error {
         anyhow!("{}, column '{column}': {e}", self.file)
     }
 }
@@ -142,8 +155,11 @@ impl LoadedEvents {
 /// Reads a template written by `pulse-profile --output-template`.
 pub fn read_template(path: &Path) -> Result<PulseTemplate> {
     let text = std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
-    let value: serde_json::Value = serde_json::from_str(&text).with_context(|| format!("{}: not JSON", path.display()))?;
-    let inner = value.get("template").cloned().ok_or_else(|| anyhow!("{}: no 'template' key; write templates with skyclock pulse-profile --output-template", path.display()))?;
+    let value: serde_json::Value =
+        serde_json::from_str(&text).with_context(|| format!("{}: not JSON", path.display()))?;
+    let inner = value.get("template").cloned().ok_or_else(|| {
+        anyhow!("{}: no 'template' key; write templates with skyclock pulse-profile --output-template", path.display())
+    })?;
     let t: PulseTemplate = serde_json::from_value(inner).with_context(|| format!("{}: 'template'", path.display()))?;
     t.validate().with_context(|| format!("{}", path.display()))?;
     Ok(t)
@@ -191,7 +207,8 @@ pub fn run(a: Args) -> Result<()> {
     let ev = a.input.load("pulse-profile")?;
     ev.warn_repeated_times(&a.input.time_column);
     let spin = super::common::spinner(&format!("folding {} events", ev.times_s.len()), a.quiet);
-    let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument).map_err(|e| ev.locate(&a.input.time_column, e));
+    let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument)
+        .map_err(|e| ev.locate(&a.input.time_column, e));
     spin.finish_and_clear();
     let phases = phases?;
     let weight_col = a.input.weight_column.clone().unwrap_or_default();
@@ -203,7 +220,9 @@ pub fn run(a: Args) -> Result<()> {
     };
     let h = h_test(&phases, ev.weights.as_deref())?;
 
-    let mut csv = String::from("phase_center_cycles,counts,count_error,relative_intensity,relative_intensity_error,template_density\n");
+    let mut csv = String::from(
+        "phase_center_cycles,counts,count_error,relative_intensity,relative_intensity_error,template_density\n",
+    );
     for i in 0..a.bins {
         let x = binned.phase_center_cycles[i];
         csv.push_str(&format!(
@@ -216,7 +235,9 @@ pub fn run(a: Args) -> Result<()> {
         ));
     }
     write_atomically(&a.output_profile, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
-    write_atomically(&sidecar_path(&a.output_profile), |f| std::io::Write::write_all(f, ev.provenance.to_json().as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&sidecar_path(&a.output_profile), |f| {
+        std::io::Write::write_all(f, ev.provenance.to_json().as_bytes()).map_err(|e| e.to_string())
+    })?;
     if let Some(p) = &a.output_template {
         let provenance: serde_json::Value = serde_json::from_str(&ev.provenance.to_json())?;
         let doc = serde_json::json!({ "template": template, "empirical_fourier": empirical, "provenance": provenance });
@@ -224,8 +245,10 @@ pub fn run(a: Args) -> Result<()> {
         write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
     }
     if let Some(path) = &a.figure {
-        use crate::plot::{Figure, Layer, Panel, write_figure};
-        let two = |v: &[f64], shift: bool| -> Vec<f64> { v.iter().map(|x| *x).chain(v.iter().map(|x| if shift { x + 1.0 } else { *x })).collect() };
+        use skyclock::plot::{Figure, Layer, Panel, write_figure};
+        let two = |v: &[f64], shift: bool| -> Vec<f64> {
+            v.iter().map(|x| *x).chain(v.iter().map(|x| if shift { x + 1.0 } else { *x })).collect()
+        };
         let grid: Vec<f64> = (0..=400).map(|i| 2.0 * i as f64 / 400.0).collect();
         let fig = Figure {
             title: format!("{}: {} photons folded, {} bins", ev.file, phases.len(), a.bins),
@@ -243,7 +266,12 @@ pub fn run(a: Args) -> Result<()> {
                         colour: (40, 70, 150),
                         size: 3,
                     },
-                    Layer::Line { label: template.kind.clone(), x: grid.clone(), y: grid.iter().map(|x| binned.expected_relative_intensity(&template, *x)).collect(), colour: (200, 80, 30) },
+                    Layer::Line {
+                        label: template.kind.clone(),
+                        x: grid.clone(),
+                        y: grid.iter().map(|x| binned.expected_relative_intensity(&template, *x)).collect(),
+                        colour: (200, 80, 30),
+                    },
                 ],
             }],
             width: 1000,
@@ -251,14 +279,18 @@ pub fn run(a: Args) -> Result<()> {
         };
         write_figure(&fig, path)?;
     }
-    let outputs: Vec<String> = [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()].into_iter().flatten().map(|p| p.display().to_string()).collect();
+    let outputs: Vec<String> = [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()]
+        .into_iter()
+        .flatten()
+        .map(|p| p.display().to_string())
+        .collect();
     let summary = serde_json::json!({
         "events": phases.len(),
         "model": a.input.model.display().to_string(),
         "bins": a.bins,
         "total_weight": binned.total_weight,
         "h_test": h,
-        "z2_of_template_harmonics": crate::pulsar::statistics::z2n(&phases, ev.weights.as_deref(), a.harmonics)?,
+        "z2_of_template_harmonics": skyclock::pulsar::statistics::z2n(&phases, ev.weights.as_deref(), a.harmonics)?,
         "template_kind": template.kind,
         "template_peak_phase_cycles": template.peak_phase_cycles(),
         "outputs": outputs,

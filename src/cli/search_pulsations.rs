@@ -6,12 +6,12 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::pulsar::search::{SpinGrid, best_trial, z2_grid};
-use crate::table::write::{refuse_overwriting_inputs, write_atomically};
-use crate::table::{float_column, read_table};
-use crate::time::{Instant, TimeScale};
+use skyclock::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::pulsar::search::{SpinGrid, best_trial, z2_grid};
+use skyclock::table::write::{refuse_overwriting_inputs, write_atomically};
+use skyclock::table::{float_column, read_table};
+use skyclock::time::{Instant, TimeScale};
 
 const EXAMPLE: &str = "Example:
   skyclock search-pulsations --events photons.csv --time-column time --clock mjd_tt \\
@@ -89,14 +89,21 @@ pub fn run(a: Args) -> Result<()> {
         None => ObserverSpec::Geocentre,
     };
     let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source, DelayOptions::default());
+    let corrector = BarycentricCorrector::new(
+        reference.ephemeris.clone(),
+        reference.converter.clone(),
+        reference.orientation.clone(),
+        source,
+        DelayOptions::default(),
+    );
     let file = a.events.display().to_string();
     let df = read_table(&a.events, &[a.time_column.as_str()])?;
     let request = TableRequest { time_column: a.time_column.clone(), clock: Some(clock), clock_column: None, observer };
     let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
     let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
-    let instants: Vec<Instant> = jd1.iter().zip(&jd2).map(|(a, b)| Instant::from_jd_two_part(TimeScale::Tdb, *a, *b)).collect();
+    let instants: Vec<Instant> =
+        jd1.iter().zip(&jd2).map(|(a, b)| Instant::from_jd_two_part(TimeScale::Tdb, *a, *b)).collect();
     let Some(first) = instants.first() else { bail!("{file}: no events") };
     let span = instants.iter().map(|t| t.seconds_since(first)).fold(0.0, f64::max);
     let epoch = first.add_seconds(0.5 * span);
@@ -105,8 +112,23 @@ pub fn run(a: Args) -> Result<()> {
         Some(c) => Some(float_column(&corrected, &file, c)?),
         None => None,
     };
-    let grid = SpinGrid::from_baseline(a.min_freq_hz, a.max_freq_hz, span, a.oversample, a.min_freq_deriv_hz_per_s, a.max_freq_deriv_hz_per_s)?;
-    let spin = super::common::spinner(&format!("Z²_{} over {} trials of {} events", a.harmonics, grid.freq_count * grid.freq_derivs_hz_per_s.len(), times.len()), a.quiet);
+    let grid = SpinGrid::from_baseline(
+        a.min_freq_hz,
+        a.max_freq_hz,
+        span,
+        a.oversample,
+        a.min_freq_deriv_hz_per_s,
+        a.max_freq_deriv_hz_per_s,
+    )?;
+    let spin = super::common::spinner(
+        &format!(
+            "Z²_{} over {} trials of {} events",
+            a.harmonics,
+            grid.freq_count * grid.freq_derivs_hz_per_s.len(),
+            times.len()
+        ),
+        a.quiet,
+    );
     let result = z2_grid(&times, weights.as_deref(), a.harmonics, &grid);
     spin.finish_and_clear();
     let result = result?;
@@ -125,15 +147,25 @@ pub fn run(a: Args) -> Result<()> {
         let y: Vec<f64> = (0..grid.freq_count).map(|k| result.z2(d_best, k)).collect();
         let noise = 2.0 * a.harmonics as f64;
         let (x0, x1) = (x.first().copied().unwrap_or(0.0), x.last().copied().unwrap_or(0.0));
-        let fig = crate::plot::Figure {
-            title: format!("Z²_{} of {} events against frequency (ν̇ = {:e} Hz/s)", a.harmonics, times.len(), peak.freq_deriv_hz_per_s),
-            panels: vec![crate::plot::Panel {
+        let fig = skyclock::plot::Figure {
+            title: format!(
+                "Z²_{} of {} events against frequency (ν̇ = {:e} Hz/s)",
+                a.harmonics,
+                times.len(),
+                peak.freq_deriv_hz_per_s
+            ),
+            panels: vec![skyclock::plot::Panel {
                 x_label: format!("frequency − {:.9} Hz (mHz)", peak.freq_hz),
                 y_label: format!("Z²_{}", a.harmonics),
                 layers: vec![
-                    crate::plot::Layer::Line { label: format!("Z²_{}", a.harmonics), x, y, colour: (30, 60, 140) },
-                    crate::plot::Layer::Line { label: format!("mean of pure noise (2n = {noise})"), x: vec![x0, x1], y: vec![noise, noise], colour: (120, 120, 120) },
-                    crate::plot::Layer::Markers {
+                    skyclock::plot::Layer::Line { label: format!("Z²_{}", a.harmonics), x, y, colour: (30, 60, 140) },
+                    skyclock::plot::Layer::Line {
+                        label: format!("mean of pure noise (2n = {noise})"),
+                        x: vec![x0, x1],
+                        y: vec![noise, noise],
+                        colour: (120, 120, 120),
+                    },
+                    skyclock::plot::Layer::Markers {
                         label: format!("best trial (false alarm after trials {:.1e})", peak.false_alarm),
                         x: vec![0.0],
                         text: vec!["best".into()],
@@ -146,7 +178,7 @@ pub fn run(a: Args) -> Result<()> {
             width: 1000,
             height: 600,
         };
-        crate::plot::write_figure(&fig, path)?;
+        skyclock::plot::write_figure(&fig, path)?;
     }
     let (mjd1, mjd2) = epoch.mjd_two_part();
     let summary = serde_json::json!({ "events": times.len(), "epoch_mjd_tdb": mjd1 + mjd2, "baseline_s": span, "best": peak, "output": a.output.display().to_string() });
@@ -155,7 +187,13 @@ pub fn run(a: Args) -> Result<()> {
     } else {
         println!(
             "best trial {:.12} Hz ({:e} Hz/s): Z²_{} = {:.2}; {} trials; false alarm after trials {:.3e} ({:.1} σ)",
-            peak.freq_hz, peak.freq_deriv_hz_per_s, peak.harmonics, peak.z2, peak.trials, peak.false_alarm, peak.significance_sigma
+            peak.freq_hz,
+            peak.freq_deriv_hz_per_s,
+            peak.harmonics,
+            peak.z2,
+            peak.trials,
+            peak.false_alarm,
+            peak.significance_sigma
         );
     }
     Ok(())

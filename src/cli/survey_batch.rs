@@ -8,10 +8,13 @@ use clap::Args as ClapArgs;
 use polars::prelude::*;
 
 use super::find_periods::SearchOptionArgs;
-use crate::arrival::table::ClockSpec;
-use crate::survey::batch::{BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows, run_batch_with_arrival};
-use crate::table::{Provenance, write_table};
-use crate::time::LeapSecondTable;
+use skyclock::arrival::table::ClockSpec;
+use skyclock::survey::batch::{
+    BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows,
+    run_batch_with_arrival,
+};
+use skyclock::table::{Provenance, write_table};
+use skyclock::time::LeapSecondTable;
 
 const EXAMPLE: &str = "Example (invented survey field):
   skyclock survey-batch --input field_invented.parquet --source-column star \\
@@ -106,8 +109,16 @@ pub fn run(a: Args) -> Result<()> {
     let mut plan = a.search.plan(0)?;
     plan.refine_peaks = a.refine_peaks;
     let k = plan.peaks;
-    let columns = BatchColumns { source: a.source_column.clone(), time: a.time_column.clone(), value: a.value_column.clone(), error: a.error_column.clone(), band: a.band_column.clone(), ra_deg: a.ra_column.clone(), dec_deg: a.dec_column.clone() };
-    crate::table::refuse_overwriting_inputs(&a.output, &[a.input.as_path()])?;
+    let columns = BatchColumns {
+        source: a.source_column.clone(),
+        time: a.time_column.clone(),
+        value: a.value_column.clone(),
+        error: a.error_column.clone(),
+        band: a.band_column.clone(),
+        ra_deg: a.ra_column.clone(),
+        dec_deg: a.dec_column.clone(),
+    };
+    skyclock::table::refuse_overwriting_inputs(&a.output, &[a.input.as_path()])?;
     let file = a.input.display().to_string();
     let mut stream = open_rows(&a.input, &columns, 250_000)?;
     let pb = if a.quiet || !std::io::stderr().is_terminal() {
@@ -115,7 +126,10 @@ pub fn run(a: Args) -> Result<()> {
     } else {
         let pb = indicatif::ProgressBar::new(1000);
         pb.set_style(
-            indicatif::ProgressStyle::with_template("{bar:40} {percent}% of input  {msg}  elapsed {elapsed}, ETA {eta}").unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+            indicatif::ProgressStyle::with_template(
+                "{bar:40} {percent}% of input  {msg}  elapsed {elapsed}, ETA {eta}",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
         );
         pb
     };
@@ -124,7 +138,7 @@ pub fn run(a: Args) -> Result<()> {
     let mut peak_cols: Vec<[Vec<Option<f64>>; 6]> = (0..k).map(|_| Default::default()).collect();
     let leap = LeapSecondTable::builtin();
     let mut first_problems: Vec<String> = Vec::new();
-    let mut sink = |reports: Vec<SourceReport>| -> Result<(), crate::table::TableError> {
+    let mut sink = |reports: Vec<SourceReport>| -> Result<(), skyclock::table::TableError> {
         for r in reports {
             rows.id.push(r.id.clone());
             rows.first_row.push(r.first_row as u64);
@@ -176,28 +190,49 @@ pub fn run(a: Args) -> Result<()> {
         pb.set_message(format!("{done} sources, {rate:.0}/s"));
     };
     let options = BatchOptions { clock, batch_points: a.batch_points };
-    let carry = !crate::survey::input::is_barycentric_tdb(&clock);
+    let carry = !skyclock::survey::input::is_barycentric_tdb(&clock);
     let reference = if carry { Some(a.reference_data.load()?) } else { None };
     let leap = reference.as_ref().map_or(leap, |r| r.converter.leap_seconds().clone());
     let times_note = match &reference {
         None => format!("times read as {} (already barycentric)", a.clock),
-        Some(r) => format!("times carried from {} to BJD_TDB per source (position from its first row) with {}", a.clock, r.ephemeris.name()),
+        Some(r) => format!(
+            "times carried from {} to BJD_TDB per source (position from its first row) with {}",
+            a.clock,
+            r.ephemeris.name()
+        ),
     };
     let arrival = match &reference {
         None => None,
         Some(r) => {
             if a.observer.site_column.is_some() || a.observer.spacecraft_columns.is_some() {
-                anyhow::bail!("survey-batch carries times for one site (or the geocentre); a site column or spacecraft positions are not supported here: convert with `skyclock barycentre` first");
+                anyhow::bail!(
+                    "survey-batch carries times for one site (or the geocentre); a site column or spacecraft positions are not supported here: convert with `skyclock barycentre` first"
+                );
             }
             let description = a.observer.description()?;
             let observer = match a.observer.single_site(description.as_ref())? {
-                Some(site) => crate::observer::Observer::Site(site),
-                None => crate::observer::Observer::Geocentre,
+                Some(site) => skyclock::observer::Observer::Site(site),
+                None => skyclock::observer::Observer::Geocentre,
             };
-            Some(ObserverArrival { ephemeris: r.ephemeris.as_ref(), converter: r.converter.clone(), orientation: r.orientation.clone(), observer })
+            Some(ObserverArrival {
+                ephemeris: r.ephemeris.clone(),
+                converter: r.converter.clone(),
+                orientation: r.orientation.clone(),
+                observer,
+            })
         }
     };
-    let summary = run_batch_with_arrival(stream.as_mut(), &file, &columns, &options, &plan, &leap, arrival.as_ref().map(|x| x as &dyn SourceArrival), &mut sink, &progress)?;
+    let summary = run_batch_with_arrival(
+        stream.as_mut(),
+        &file,
+        &columns,
+        &options,
+        &plan,
+        &leap,
+        arrival.as_ref().map(|x| x as &dyn SourceArrival),
+        &mut sink,
+        &progress,
+    )?;
     pb.finish_and_clear();
     let mut cols = vec![
         Column::new("source_id".into(), std::mem::take(&mut rows.id)),
@@ -229,16 +264,28 @@ pub fn run(a: Args) -> Result<()> {
     write_table(&mut df, &a.output, &provenance, &[a.input.as_path()])?;
     let seconds = started.elapsed().as_secs_f64();
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&serde_json::json!({"output": a.output.display().to_string(), "times": times_note, "summary": summary, "seconds": seconds, "first_skipped": first_problems}))?);
+        println!(
+            "{}",
+            serde_json::to_string_pretty(
+                &serde_json::json!({"output": a.output.display().to_string(), "times": times_note, "summary": summary, "seconds": seconds, "first_skipped": first_problems})
+            )?
+        );
     } else if !a.quiet {
         println!(
             "{} sources ({} searched, {} skipped) from {} rows in {:.1} s → {}",
-            summary.sources, summary.searched, summary.skipped, summary.rows, seconds, a.output.display()
+            summary.sources,
+            summary.searched,
+            summary.skipped,
+            summary.rows,
+            seconds,
+            a.output.display()
         );
         for m in &first_problems {
             println!("  skipped: {m}");
         }
-        println!("  caution: false-alarm probabilities assume white noise and do not account for the number of sources searched.");
+        println!(
+            "  caution: false-alarm probabilities assume white noise and do not account for the number of sources searched."
+        );
     }
     Ok(())
 }

@@ -2,6 +2,7 @@
 //! measure each event's time of minimum (or maximum) with its error; the table it writes
 //! is read directly by `timing-residuals`.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::path::PathBuf;
 
 use anyhow::{Result, bail};
@@ -10,12 +11,13 @@ use polars::prelude::*;
 
 use super::common::write_text;
 use super::light_curve_input::LightCurveArgs;
-use crate::minima::{
-    Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape, TimingMethod, time_events,
+use skyclock::minima::{
+    Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape,
+    TimingMethod, time_events,
 };
-use crate::oc::EventKind;
-use crate::table::{Provenance, write_table};
-use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::oc::EventKind;
+use skyclock::table::{Provenance, write_table};
+use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
   skyclock time-events --input kq_invented.csv --time-column bjd --value-column mag \\
@@ -144,7 +146,11 @@ pub fn run(a: Args) -> Result<()> {
             };
             TimingMethod::Symmetric(SymmetricOptions { shape, bootstrap_resamples: a.bootstrap, seed: a.seed })
         }
-        MethodArg::SymmetricGaussian => TimingMethod::Symmetric(SymmetricOptions { shape: SymmetricShape::Gaussian, bootstrap_resamples: a.bootstrap, seed: a.seed }),
+        MethodArg::SymmetricGaussian => TimingMethod::Symmetric(SymmetricOptions {
+            shape: SymmetricShape::Gaussian,
+            bootstrap_resamples: a.bootstrap,
+            seed: a.seed,
+        }),
     };
     let kind = match a.event_kind {
         KindArg::Primary => EventKind::Primary,
@@ -158,19 +164,37 @@ pub fn run(a: Args) -> Result<()> {
     let (lc, note) = a.light_curve.load()?;
     let series = lc.series()?;
     let file = lc.file.clone();
-    let epoch = parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, &crate::time::LeapSecondTable::builtin())
-        .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
-    let errors: Option<Vec<f64>> = series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
-    let curve = EventCurve { reference: lc.epoch, time_d: series.time_d(), value: series.value(), error: errors.as_deref(), brightness };
+    let epoch =
+        parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, &skyclock::time::LeapSecondTable::builtin())
+            .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
+    let errors: Option<Vec<f64>> =
+        series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
+    let curve = EventCurve {
+        reference: lc.epoch,
+        time_d: series.time_d(),
+        value: series.value(),
+        error: errors.as_deref(),
+        brightness,
+    };
     let ephemeris = EventEphemeris { epoch, period_d: a.period_d, kind };
     let segmenting = SegmentOptions { min_points: a.min_points, min_points_per_branch: a.min_points_per_side };
-    let result = time_events(&curve, &ephemeris, window, &segmenting, &method).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+    let result =
+        time_events(&curve, &ephemeris, window, &segmenting, &method).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
     let file_row = |i: usize| lc.file_row[series.row()[i]];
-    let instant = |d: f64| format_time(&lc.epoch.add_seconds(d * 86_400.0), TimeFormat::Jd);
+    let instant = |d: f64| format_time(&lc.epoch.add_seconds(d * SECONDS_PER_DAY), TimeFormat::Jd);
     let skipped_lines: Vec<String> = result
         .skipped
         .iter()
-        .map(|s| format!("cycle {} (rows {}–{}, predicted {}): {}", s.cycle, file_row(s.first_index), file_row(s.last_index), instant(s.predicted_d), s.reason))
+        .map(|s| {
+            format!(
+                "cycle {} (rows {}–{}, predicted {}): {}",
+                s.cycle,
+                file_row(s.first_index),
+                file_row(s.last_index),
+                instant(s.predicted_d),
+                s.reason
+            )
+        })
         .collect();
     if result.timed.is_empty() {
         bail!(
@@ -226,8 +250,10 @@ pub fn run(a: Args) -> Result<()> {
     // Stated with every Kwee–van Woerden run (docs/minima.md): its error formula rests on an
     // assumed number of independent pairs and is known to mislead for few points or red noise.
     let notes: Vec<&str> = if matches!(method, TimingMethod::KweeVanWoerden) {
-        vec!["note: the Kwee–van Woerden error assumes Z = N/4 independent pairs and white noise; it can be too small for \
-              few points or correlated noise — compare with --method symmetric-polynomial and its bootstrap error"]
+        vec![
+            "note: the Kwee–van Woerden error assumes Z = N/4 independent pairs and white noise; it can be too small for \
+              few points or correlated noise — compare with --method symmetric-polynomial and its bootstrap error",
+        ]
     } else {
         Vec::new()
     };
@@ -254,12 +280,23 @@ pub fn run(a: Args) -> Result<()> {
         "times": note,
     });
     if let Some(path) = &a.summary {
-        write_text(path, &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?, &[input, a.output.as_path()])?;
+        write_text(
+            path,
+            &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,
+            &[input, a.output.as_path()],
+        )?;
     }
     if a.json {
         println!("{}", serde_json::to_string_pretty(&summary)?);
     } else if !a.quiet {
-        println!("timed {} {} events with {} ({} skipped, {} predicted events without data)", t.len(), kind.name(), method.name(), result.skipped.len(), result.empty_windows);
+        println!(
+            "timed {} {} events with {} ({} skipped, {} predicted events without data)",
+            t.len(),
+            kind.name(),
+            method.name(),
+            result.skipped.len(),
+            result.empty_windows
+        );
         for line in &skipped_lines {
             println!("  skipped {line}");
         }

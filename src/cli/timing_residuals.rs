@@ -2,6 +2,7 @@
 //! observed-minus-computed values against a reference ephemeris → fitted ephemeris models
 //! with covariance and bootstrap uncertainties, and a verdict on which model the data need.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::path::PathBuf;
 
 use anyhow::{Context, Result, bail};
@@ -9,12 +10,12 @@ use clap::Args as ClapArgs;
 use polars::prelude::{Column, DataFrame};
 
 use super::timing_table::TimingTableArgs;
-use crate::oc::{
-    BootstrapOptions, CycleOptions, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles,
-    compare_nested, fit_model, information, minimum_companion_mass_msun,
+use skyclock::oc::{
+    BootstrapOptions, CycleOptions, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, compare_nested,
+    fit_model, information, minimum_companion_mass_msun,
 };
-use crate::table::{Provenance, float_column, text_column, write_table};
-use crate::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::table::{Provenance, float_column, text_column, write_table};
+use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
   skyclock timing-residuals --input minima.csv --time-column time --clock hjd_utc \\
@@ -68,7 +69,7 @@ pub struct Args {
     pub robust_loss: bool,
     /// Tuning constant of the robust loss, in units of each timing's 1σ (1.345: 95 %
     /// efficiency for Gaussian errors).
-    #[arg(long, value_name = "K", default_value_t = crate::fit::robust::HUBER_DEFAULT_K, requires = "robust_loss")]
+    #[arg(long, value_name = "K", default_value_t = skyclock::fit::robust::HUBER_DEFAULT_K, requires = "robust_loss")]
     pub robust_tuning_constant: f64,
     /// Bootstrap resamples (0: covariance errors only).
     #[arg(long, value_name = "N", default_value_t = 0)]
@@ -110,9 +111,12 @@ pub fn run(a: Args) -> Result<()> {
     // Stated with every companion fit: its intervals were calibrated on synthetic sets with
     // ~2.6 companion orbits inside the baseline (tests/timing_recovery.rs).
     let cautions: Vec<String> = if models.iter().any(|m| m.has_light_time()) {
-        vec!["caution: a light-time companion fit is the best local minimum of a grid search; its intervals were \
+        vec![
+            "caution: a light-time companion fit is the best local minimum of a grid search; its intervals were \
               verified on synthetic sets covering several companion orbits, and a companion period near or beyond \
-              the baseline trades off against dP/dt, so read such fits as indicative".to_string()]
+              the baseline trades off against dP/dt, so read such fits as indicative"
+                .to_string(),
+        ]
     } else {
         Vec::new()
     };
@@ -122,7 +126,11 @@ pub fn run(a: Args) -> Result<()> {
     let range = match &a.companion_period_range_d {
         None => None,
         Some(t) => {
-            let v: Vec<f64> = t.split(',').map(|x| x.trim().parse::<f64>()).collect::<Result<_, _>>().with_context(|| format!("--companion-period-range-d '{t}': expected LOW,HIGH in days"))?;
+            let v: Vec<f64> = t
+                .split(',')
+                .map(|x| x.trim().parse::<f64>())
+                .collect::<Result<_, _>>()
+                .with_context(|| format!("--companion-period-range-d '{t}': expected LOW,HIGH in days"))?;
             if v.len() != 2 {
                 bail!("--companion-period-range-d '{t}': expected two numbers LOW,HIGH");
             }
@@ -143,7 +151,7 @@ pub fn run(a: Args) -> Result<()> {
         .iter()
         .enumerate()
         .map(|(i, &(kind, error_d))| Timing {
-            bjd_tdb: crate::time::Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]),
+            bjd_tdb: skyclock::time::Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]),
             error_d,
             kind,
             source: origins.as_ref().and_then(|o| o[i].clone()),
@@ -153,7 +161,8 @@ pub fn run(a: Args) -> Result<()> {
     let epoch = parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
-    let series = assign_cycles(&timings, &eph, &CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles }).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+    let series = assign_cycles(&timings, &eph, &CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles })
+        .map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
     let options = FitOptions {
         rescale_per_source: a.rescale_per_source,
         companion_period_range_d: range,
@@ -162,7 +171,8 @@ pub fn run(a: Args) -> Result<()> {
     };
     let mut fits = Vec::new();
     for &m in &models {
-        let spin = super::common::spinner(&format!("fitting the {} model to {} timings", m.name(), series.len()), a.quiet);
+        let spin =
+            super::common::spinner(&format!("fitting the {} model to {} timings", m.name(), series.len()), a.quiet);
         let fit = fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"));
         spin.finish_and_clear();
         fits.push(fit?);
@@ -170,10 +180,20 @@ pub fn run(a: Args) -> Result<()> {
     // The O–C table.
     let mut columns = vec![
         Column::new("row".into(), series.row.iter().map(|&r| r as u64).collect::<Vec<_>>()),
-        Column::new("bjd_tdb".into(), series.time_d.iter().map(|&t| format_time(&epoch.add_seconds(t * 86_400.0), TimeFormat::Jd)).collect::<Vec<_>>()),
+        Column::new(
+            "bjd_tdb".into(),
+            series
+                .time_d
+                .iter()
+                .map(|&t| format_time(&epoch.add_seconds(t * SECONDS_PER_DAY), TimeFormat::Jd))
+                .collect::<Vec<_>>(),
+        ),
         Column::new("cycle".into(), series.cycle.clone()),
         Column::new("kind".into(), series.kind.iter().map(|k| k.name().to_string()).collect::<Vec<_>>()),
-        Column::new("source".into(), series.source_index.iter().map(|&s| series.sources[s].clone()).collect::<Vec<_>>()),
+        Column::new(
+            "source".into(),
+            series.source_index.iter().map(|&s| series.sources[s].clone()).collect::<Vec<_>>(),
+        ),
         Column::new("error_d".into(), series.error_d.clone()),
         Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
     ];
@@ -187,8 +207,18 @@ pub fn run(a: Args) -> Result<()> {
         columns.push(Column::new(format!("model_sigma_{name}_d").into(), sigma));
         columns.push(Column::new(format!("residual_{name}_d").into(), resid));
         let boot = if a.bootstrap > 0 {
-            let pb = super::common::progress_bar(a.bootstrap as u64, &format!("bootstrap of the {} model", f.kind.name()), a.quiet);
-            let b = crate::oc::bootstrap_with_progress(&series, f, &BootstrapOptions { resamples: a.bootstrap, seed: a.seed }, &|n| pb.inc(n)).map_err(|e| anyhow::anyhow!("{e}"))?;
+            let pb = super::common::progress_bar(
+                a.bootstrap as u64,
+                &format!("bootstrap of the {} model", f.kind.name()),
+                a.quiet,
+            );
+            let b = skyclock::oc::bootstrap_with_progress(
+                &series,
+                f,
+                &BootstrapOptions { resamples: a.bootstrap, seed: a.seed },
+                &|n| pb.inc(n),
+            )
+            .map_err(|e| anyhow::anyhow!("{e}"))?;
             pb.finish_and_clear();
             Some(b)
         } else {
@@ -206,7 +236,10 @@ pub fn run(a: Args) -> Result<()> {
             .enumerate()
             .map(|(j, d)| serde_json::json!({"name": d.0, "value": d.1, "sigma_covariance": d.2, "sigma_bootstrap": boot.as_ref().map(|b| b.derived_sigma[j].1)}))
             .collect();
-        for (function_name, mass_name) in [("mass_function_msun", "minimum_companion_mass_msun"), ("companion2_mass_function_msun", "companion2_minimum_mass_msun")] {
+        for (function_name, mass_name) in [
+            ("mass_function_msun", "minimum_companion_mass_msun"),
+            ("companion2_mass_function_msun", "companion2_minimum_mass_msun"),
+        ] {
             if let (Some(m12), Some((fm, fm_s))) = (a.binary_mass_msun, f.derived_value(function_name)) {
                 let m3 = minimum_companion_mass_msun(fm, m12);
                 let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
@@ -236,23 +269,23 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
-    let by_bic = |f: &&crate::oc::ModelFit| information(f).bic;
+    let by_bic = |f: &&skyclock::oc::ModelFit| information(f).bic;
     let title = format!("O − C of {}", source.name);
     if let Some(path) = &a.figure {
-        crate::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
+        skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = fits.iter().min_by(|x, y| by_bic(x).total_cmp(&by_bic(y))).context("no model was fitted")?;
         let (e1, e2) = epoch.jd_two_part();
-        crate::plot::write_figure(&crate::plot::timing::oc_diagram(&title, &series, best, e1 + e2), path)?;
+        skyclock::plot::write_figure(&skyclock::plot::timing::oc_diagram(&title, &series, best, e1 + e2), path)?;
     }
     if let Some(path) = &a.orbit_figure {
-        crate::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
+        skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = fits
             .iter()
             .filter(|f| f.kind.has_light_time())
             .min_by(|x, y| by_bic(x).total_cmp(&by_bic(y)))
             .context("--orbit-figure needs a light-time model in --models (light-time or quadratic+light-time)")?;
-        if let Some(fig) = crate::plot::timing::light_time_orbit(&title, &series, best) {
-            crate::plot::write_figure(&fig, path)?;
+        if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, &series, best) {
+            skyclock::plot::write_figure(&fig, path)?;
         }
     }
     let summary = serde_json::json!({
@@ -271,10 +304,19 @@ pub fn run(a: Args) -> Result<()> {
     if a.json {
         println!("{text}");
     } else {
-        println!("{} timings on cycles {} … {} → {}", series.len(), series.cycle.first().unwrap_or(&0.0), series.cycle.last().unwrap_or(&0.0), a.output.display());
+        println!(
+            "{} timings on cycles {} … {} → {}",
+            series.len(),
+            series.cycle.first().unwrap_or(&0.0),
+            series.cycle.last().unwrap_or(&0.0),
+            a.output.display()
+        );
         for f in &fits {
             let i = information(f);
-            println!("  {:<22} χ² = {:.1} for {} dof (reduced {:.2}), BIC = {:.1}", i.model, i.chi2, i.dof, i.reduced_chi2, i.bic);
+            println!(
+                "  {:<22} χ² = {:.1} for {} dof (reduced {:.2}), BIC = {:.1}",
+                i.model, i.chi2, i.dof, i.reduced_chi2, i.bic
+            );
         }
         for c in &comparisons {
             println!("  {}", c.verdict);

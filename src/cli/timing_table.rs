@@ -8,11 +8,13 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 use polars::prelude::DataFrame;
 
-use super::common::{ObserverArgs, ReferenceData, ReferenceDataArgs, SourceArgs, clock_choice, timing_kinds_and_errors};
-use crate::arrival::table::{ClockSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions, Source};
-use crate::oc::EventKind;
-use crate::table::read_table;
+use super::common::{
+    ObserverArgs, ReferenceData, ReferenceDataArgs, SourceArgs, clock_choice, timing_kinds_and_errors,
+};
+use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions, Source};
+use skyclock::oc::EventKind;
+use skyclock::table::read_table;
 
 /// A table of event timings and how to read it.
 #[derive(Debug, ClapArgs)]
@@ -71,9 +73,20 @@ impl TimingTableArgs {
         let source = self.source.load(description.as_ref())?;
         let observer = self.observer.observer_spec(description.as_ref())?;
         let reference = self.reference_data.load()?;
-        let corrector = BarycentricCorrector::new(reference.ephemeris.as_ref(), reference.converter.clone(), reference.orientation.clone(), source.clone(), DelayOptions::default());
+        let corrector = BarycentricCorrector::new(
+            reference.ephemeris.clone(),
+            reference.converter.clone(),
+            reference.orientation.clone(),
+            source.clone(),
+            DelayOptions::default(),
+        );
         let file = self.input.display().to_string();
-        let request = TableRequest { time_column: self.time_column.clone(), clock, clock_column: self.clock_column.clone(), observer };
+        let request = TableRequest {
+            time_column: self.time_column.clone(),
+            clock,
+            clock_column: self.clock_column.clone(),
+            observer,
+        };
         let mut text_columns = request.text_columns();
         text_columns.extend(self.kind_column.as_deref());
         text_columns.extend(extra_text_columns);

@@ -18,6 +18,7 @@
 //! position_epoch = "2016-01-01T12:00:00"   # TDB; default J2000.0 (2000-01-01T12:00:00 TDB)
 //! ```
 
+use crate::constants::SECONDS_PER_DAY;
 use std::collections::BTreeMap;
 use std::path::Path;
 
@@ -90,7 +91,8 @@ pub struct Description {
 /// Reads a TOML description file (see module doc).
 pub fn read_description(path: &Path) -> Result<Description, ConfigError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| ConfigError::Read { file: file.clone(), message: e.to_string() })?;
+    let text =
+        std::fs::read_to_string(path).map_err(|e| ConfigError::Read { file: file.clone(), message: e.to_string() })?;
     parse_description(&text, &file)
 }
 
@@ -160,7 +162,7 @@ pub fn parse_epoch(text: &str) -> Result<Instant, String> {
     if let Some(years) = t.strip_prefix('J').or_else(|| t.strip_prefix('j')) {
         let y: f64 = years.parse().map_err(|_| format!("'{t}' is not a Julian epoch such as J2016.0"))?;
         // Julian epoch: JD = 2451545.0 + (y - 2000) * 365.25 (IAU 1976; common practice).
-        return Ok(Instant::from_seconds_since_j2000(TimeScale::Tdb, (y - 2000.0) * 365.25 * 86_400.0));
+        return Ok(Instant::from_seconds_since_j2000(TimeScale::Tdb, (y - 2000.0) * 365.25 * SECONDS_PER_DAY));
     }
     let format = if t.contains('-') && t.len() >= 10 { TimeFormat::Iso } else { TimeFormat::Jd };
     parse_time(t, format, TimeScale::Tdb, &LeapSecondTable::builtin()).map_err(|e| e.to_string())
@@ -203,7 +205,8 @@ position_epoch = "J2016.0"
     fn errors_name_the_file_and_key() {
         let e = parse_description("[source]\nname='x'\nra=10\ndec=95\n", "bad.toml").unwrap_err();
         assert!(e.to_string().contains("bad.toml") && e.to_string().contains("dec"), "{e}");
-        let e = parse_description("[[site]]\nname='x'\neast_longitude_deg=1\nlatitude=2\nheight_m=0\n", "s.toml").unwrap_err();
+        let e = parse_description("[[site]]\nname='x'\neast_longitude_deg=1\nlatitude=2\nheight_m=0\n", "s.toml")
+            .unwrap_err();
         assert!(e.to_string().contains("latitude"), "{e}");
     }
 }

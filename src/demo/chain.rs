@@ -3,6 +3,7 @@
 //! same code), reading the previous stage's outputs. Afterwards the recovered values are
 //! set beside the truth of the scenario and everything goes into one HTML report.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -10,12 +11,16 @@ use std::path::{Path, PathBuf};
 use anyhow::{Context, Result, bail};
 use clap::Parser;
 
-use super::pulsar_scenario::{self, PULSAR_DESCRIPTION_FILE, PULSAR_EVENTS_FILE, PULSAR_START_MODEL_FILE, PULSAR_TOAS_FILE};
-use super::scenario::{self, BINARY_MASS_MSUN, DESCRIPTION_FILE, MINIMA_FILE, PHOTOMETRY_FILE, THIRD_BODY, TRUE_PERIOD_D, TRUE_QUADRATIC_D};
+use super::pulsar_scenario::{
+    self, PULSAR_DESCRIPTION_FILE, PULSAR_EVENTS_FILE, PULSAR_START_MODEL_FILE, PULSAR_TOAS_FILE,
+};
+use super::scenario::{
+    self, BINARY_MASS_MSUN, DESCRIPTION_FILE, MINIMA_FILE, PHOTOMETRY_FILE, THIRD_BODY, TRUE_PERIOD_D, TRUE_QUADRATIC_D,
+};
 use super::survey_scenario::{SURVEY_FILE, SURVEY_TRUTH_FILE, write_survey};
-use crate::ephemeris::Ephemeris;
-use crate::report::{Report, ReportFigure, Section, Table, write_report};
-use crate::table::{Provenance, float_column, read_table, text_column};
+use skyclock::ephemeris::Ephemeris;
+use skyclock::report::{Report, ReportFigure, Section, Table, write_report};
+use skyclock::table::{Provenance, float_column, read_table, text_column};
 
 /// Site used for the photometry and the predictions.
 const HOME_SITE: &str = "Ridge Hollow Observatory";
@@ -84,10 +89,11 @@ fn model_value(summary: &serde_json::Value, model: &str, name: &str) -> Option<(
 
 /// Today's UTC date as YYYY-MM-DD and the date `days` later.
 fn coming_dates(days: i64) -> (String, String) {
-    let now_s = std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map(|d| d.as_secs() as i64).unwrap_or(0);
+    let now_s =
+        std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map(|d| d.as_secs() as i64).unwrap_or(0);
     let mjd = 40_587 + now_s / 86_400;
     let date = |m: i64| {
-        let (y, mo, d) = crate::time::calendar::civil_from_mjd(m);
+        let (y, mo, d) = skyclock::time::calendar::civil_from_mjd(m);
         format!("{y:04}-{mo:02}-{d:02}")
     };
     (date(mjd), date(mjd + days))
@@ -112,7 +118,9 @@ fn combine_timings(historical: &Path, new_tables: &[&Path], combined: &Path) -> 
             added += 1;
         }
     }
-    crate::table::write::write_atomically(combined, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+    skyclock::table::write::write_atomically(combined, |f| {
+        std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string())
+    })?;
     Ok(added)
 }
 
@@ -126,8 +134,12 @@ fn survey_recovery(results: &Path, truth: &Path) -> Result<Vec<(String, usize, u
     let res_df = read_table(results, &["source_id"])?;
     let rf = path_text(results);
     let found_names = text_column(&res_df, &rf, "source_id")?;
-    let found_period: Vec<f64> = crate::table::optional_float_column(&res_df, &rf, "period_d_1")?.into_iter().map(|v| v.unwrap_or(f64::NAN)).collect();
-    let found: BTreeMap<String, f64> = found_names.into_iter().zip(found_period).filter_map(|(n, p)| n.map(|n| (n, p))).collect();
+    let found_period: Vec<f64> = skyclock::table::optional_float_column(&res_df, &rf, "period_d_1")?
+        .into_iter()
+        .map(|v| v.unwrap_or(f64::NAN))
+        .collect();
+    let found: BTreeMap<String, f64> =
+        found_names.into_iter().zip(found_period).filter_map(|(n, p)| n.map(|n| (n, p))).collect();
     let mut by_class: BTreeMap<String, (usize, usize, usize)> = BTreeMap::new();
     for i in 0..truth_df.height() {
         let class = classes[i].clone().unwrap_or_default();
@@ -154,9 +166,20 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let d = |name: &str| path_text(&data.join(name));
     let o = |name: &str| out.join(name);
     let ot = |name: &str| path_text(&out.join(name));
-    for needed in [MINIMA_FILE, DESCRIPTION_FILE, PHOTOMETRY_FILE, PULSAR_DESCRIPTION_FILE, PULSAR_TOAS_FILE, PULSAR_EVENTS_FILE, PULSAR_START_MODEL_FILE] {
+    for needed in [
+        MINIMA_FILE,
+        DESCRIPTION_FILE,
+        PHOTOMETRY_FILE,
+        PULSAR_DESCRIPTION_FILE,
+        PULSAR_TOAS_FILE,
+        PULSAR_EVENTS_FILE,
+        PULSAR_START_MODEL_FILE,
+    ] {
         if !data.join(needed).exists() {
-            bail!("{}: missing; regenerate the scenario with `cargo run --release --example make_demo_datasets`", data.join(needed).display());
+            bail!(
+                "{}: missing; regenerate the scenario with `cargo run --release --example make_demo_datasets`",
+                data.join(needed).display()
+            );
         }
     }
     let mut comparisons = Vec::new();
@@ -165,20 +188,71 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     // 1. Period of KX Inventa from a season of photometry (JD UTC at the site).
     println!("\n== 1. period search: a season of photometry of KX Inventa (JD UTC at {HOME_SITE})");
     command(&s(&[
-        "find-periods", "--input", &d(PHOTOMETRY_FILE), "--time-column", "time", "--value-column", "mag", "--error-column", "mag_err",
-        "--clock", "jd_utc", "--sites-file", &d(DESCRIPTION_FILE), "--site", HOME_SITE, "--source-file", &d(DESCRIPTION_FILE),
-        "--method", "harmonics", "--harmonics", "8", "--max-freq-per-day", "4", "--magnitudes", "--peaks", "3",
-        "--peaks-output", &ot("kx_periods.json"), "--figure", &ot("kx_periodogram.svg"), "--quiet",
+        "find-periods",
+        "--input",
+        &d(PHOTOMETRY_FILE),
+        "--time-column",
+        "time",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--clock",
+        "jd_utc",
+        "--sites-file",
+        &d(DESCRIPTION_FILE),
+        "--site",
+        HOME_SITE,
+        "--source-file",
+        &d(DESCRIPTION_FILE),
+        "--method",
+        "harmonics",
+        "--harmonics",
+        "8",
+        "--max-freq-per-day",
+        "4",
+        "--magnitudes",
+        "--peaks",
+        "3",
+        "--peaks-output",
+        &ot("kx_periods.json"),
+        "--figure",
+        &ot("kx_periodogram.svg"),
+        "--quiet",
     ]))?;
     let peaks = read_json(&o("kx_periods.json"))?;
     let p_found = peaks["result"]["peaks"][0]["period_d"].as_f64().context("no period found")?;
     let p_err = peaks["result"]["peaks"][0]["period_err_d"].as_f64().unwrap_or(f64::NAN);
     comparisons.push(compare("period from one season of photometry (d)", p_found, p_err, TRUE_PERIOD_D, 6));
     command(&s(&[
-        "fold-curve", "--input", &d(PHOTOMETRY_FILE), "--time-column", "time", "--value-column", "mag", "--error-column", "mag_err",
-        "--clock", "jd_utc", "--sites-file", &d(DESCRIPTION_FILE), "--site", HOME_SITE, "--source-file", &d(DESCRIPTION_FILE),
-        "--period-d", &format!("{p_found:.8}"), "--epoch-bjd", REFERENCE_EPOCH, "--bins", "100",
-        "--output", &ot("kx_folded.csv"), "--figure", &ot("kx_folded.svg"), "--quiet",
+        "fold-curve",
+        "--input",
+        &d(PHOTOMETRY_FILE),
+        "--time-column",
+        "time",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--clock",
+        "jd_utc",
+        "--sites-file",
+        &d(DESCRIPTION_FILE),
+        "--site",
+        HOME_SITE,
+        "--source-file",
+        &d(DESCRIPTION_FILE),
+        "--period-d",
+        &format!("{p_found:.8}"),
+        "--epoch-bjd",
+        REFERENCE_EPOCH,
+        "--bins",
+        "100",
+        "--output",
+        &ot("kx_folded.csv"),
+        "--figure",
+        &ot("kx_folded.svg"),
+        "--quiet",
     ]))?;
     report_sections.push(
         Section::new("Period search")
@@ -194,34 +268,102 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     println!("\n== 2. times of minimum from the photometry (Kwee–van Woerden)");
     for (kind, file) in [("primary", "kx_primary_minima_2025.csv"), ("secondary", "kx_secondary_minima_2025.csv")] {
         command(&s(&[
-            "time-events", "--input", &d(PHOTOMETRY_FILE), "--time-column", "time", "--value-column", "mag", "--error-column", "mag_err",
-            "--clock", "jd_utc", "--sites-file", &d(DESCRIPTION_FILE), "--site", HOME_SITE, "--source-file", &d(DESCRIPTION_FILE),
-            "--epoch-bjd-tdb", REFERENCE_EPOCH, "--period-d", "0.83712345", "--event-kind", kind, "--half-width-phase", "0.09",
-            "--method", "kwee-van-woerden", "--output", &ot(file), "--summary", &ot(&file.replace(".csv", ".json")),
+            "time-events",
+            "--input",
+            &d(PHOTOMETRY_FILE),
+            "--time-column",
+            "time",
+            "--value-column",
+            "mag",
+            "--error-column",
+            "mag_err",
+            "--clock",
+            "jd_utc",
+            "--sites-file",
+            &d(DESCRIPTION_FILE),
+            "--site",
+            HOME_SITE,
+            "--source-file",
+            &d(DESCRIPTION_FILE),
+            "--epoch-bjd-tdb",
+            REFERENCE_EPOCH,
+            "--period-d",
+            "0.83712345",
+            "--event-kind",
+            kind,
+            "--half-width-phase",
+            "0.09",
+            "--method",
+            "kwee-van-woerden",
+            "--output",
+            &ot(file),
+            "--summary",
+            &ot(&file.replace(".csv", ".json")),
         ]))?;
     }
     let combined = o("kx_all_minima.csv");
-    let added = combine_timings(&data.join(MINIMA_FILE), &[&o("kx_primary_minima_2025.csv"), &o("kx_secondary_minima_2025.csv")], &combined)?;
-    println!("   {added} new minima appended to the {} historical timings → {}", data_rows(&data.join(MINIMA_FILE)), combined.display());
+    let added = combine_timings(
+        &data.join(MINIMA_FILE),
+        &[&o("kx_primary_minima_2025.csv"), &o("kx_secondary_minima_2025.csv")],
+        &combined,
+    )?;
+    println!(
+        "   {added} new minima appended to the {} historical timings → {}",
+        data_rows(&data.join(MINIMA_FILE)),
+        combined.display()
+    );
 
     // 3. O–C over thirty years in mixed clocks: period change and a third body.
     println!("\n== 3. O–C: 30 years of timings in mixed clocks from three sites");
     command(&s(&[
-        "timing-residuals", "--input", &path_text(&combined), "--time-column", "time", "--clock-column", "clock",
-        "--error-column", "error_d", "--kind-column", "kind", "--origin-column", "observer",
-        "--sites-file", &d(DESCRIPTION_FILE), "--site-column", "site", "--source-file", &d(DESCRIPTION_FILE),
-        "--epoch-bjd-tdb", REFERENCE_EPOCH, "--period-d", "0.83712345", "--period-sigma-d", "2e-7",
-        "--models", "linear,quadratic,quadratic+light-time", "--bootstrap", "100", "--binary-mass-msun", &BINARY_MASS_MSUN.to_string(),
-        "--output", &ot("kx_oc.csv"), "--summary", &ot("kx_oc.json"), "--figure", &ot("kx_oc.svg"), "--orbit-figure", &ot("kx_orbit.svg"),
+        "timing-residuals",
+        "--input",
+        &path_text(&combined),
+        "--time-column",
+        "time",
+        "--clock-column",
+        "clock",
+        "--error-column",
+        "error_d",
+        "--kind-column",
+        "kind",
+        "--origin-column",
+        "observer",
+        "--sites-file",
+        &d(DESCRIPTION_FILE),
+        "--site-column",
+        "site",
+        "--source-file",
+        &d(DESCRIPTION_FILE),
+        "--epoch-bjd-tdb",
+        REFERENCE_EPOCH,
+        "--period-d",
+        "0.83712345",
+        "--period-sigma-d",
+        "2e-7",
+        "--models",
+        "linear,quadratic,quadratic+light-time",
+        "--bootstrap",
+        "100",
+        "--binary-mass-msun",
+        &BINARY_MASS_MSUN.to_string(),
+        "--output",
+        &ot("kx_oc.csv"),
+        "--summary",
+        &ot("kx_oc.json"),
+        "--figure",
+        &ot("kx_oc.svg"),
+        "--orbit-figure",
+        &ot("kx_orbit.svg"),
     ]))?;
     let oc = read_json(&o("kx_oc.json"))?;
     let best = "quadratic+light-time";
     let truth_amp_s = {
-        let (e, w) = crate::oc::models::eccentricity_omega(THIRD_BODY[2], THIRD_BODY[3]);
-        crate::oc::orbit::irwin_semi_amplitude(THIRD_BODY[0] * 86_400.0, e, w)
+        let (e, w) = skyclock::oc::models::eccentricity_omega(THIRD_BODY[2], THIRD_BODY[3]);
+        skyclock::oc::orbit::irwin_semi_amplitude(THIRD_BODY[0] * SECONDS_PER_DAY, e, w)
     };
-    let truth_dpdt = 2.0 * TRUE_QUADRATIC_D / TRUE_PERIOD_D * 86_400.0 * 365.25;
-    let (e_true, _) = crate::oc::models::eccentricity_omega(THIRD_BODY[2], THIRD_BODY[3]);
+    let truth_dpdt = 2.0 * TRUE_QUADRATIC_D / TRUE_PERIOD_D * SECONDS_PER_DAY * 365.25;
+    let (e_true, _) = skyclock::oc::models::eccentricity_omega(THIRD_BODY[2], THIRD_BODY[3]);
     for (name, label, truth, digits) in [
         ("period_change_s_per_yr", "period change dP/dt (s/yr)", truth_dpdt, 5),
         ("companion_period_yr", "third-body period P₃ (yr)", THIRD_BODY[1] / 365.25, 2),
@@ -231,8 +373,14 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         let (v, sg) = model_value(&oc, best, name).with_context(|| format!("{name} missing from the O–C summary"))?;
         comparisons.push(compare(label, v, sg, truth, digits));
     }
-    let verdicts: Vec<String> = oc["verdicts"].as_array().map(|v| v.iter().filter_map(|x| x.as_str().map(String::from)).collect()).unwrap_or_default();
-    let mut oc_table = Table::new("Fitted third body and period change (covariance 1σ) beside the invented truth", &["quantity", "recovered", "truth"]);
+    let verdicts: Vec<String> = oc["verdicts"]
+        .as_array()
+        .map(|v| v.iter().filter_map(|x| x.as_str().map(String::from)).collect())
+        .unwrap_or_default();
+    let mut oc_table = Table::new(
+        "Fitted third body and period change (covariance 1σ) beside the invented truth",
+        &["quantity", "recovered", "truth"],
+    );
     for c in &comparisons[1..] {
         oc_table = oc_table.with_row(&[&c.quantity, &c.recovered, &c.truth]);
     }
@@ -255,13 +403,35 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let (from, until) = coming_dates(30);
     println!("\n== 4. minima of KX Inventa observable from {HOME_SITE}, {from} to {until}");
     command(&s(&[
-        "predict-events", "--source-file", &d(DESCRIPTION_FILE), "--sites-file", &d(DESCRIPTION_FILE), "--site", HOME_SITE,
-        "--ephemeris-summary", &ot("kx_oc.json"), "--summary-model", "quadratic+light-time", "--kinds", "primary,secondary",
-        "--from", &from, "--until", &until, "--event-duration-hours", "2.5", "--only-observable", "--output", &ot("kx_upcoming.csv"),
+        "predict-events",
+        "--source-file",
+        &d(DESCRIPTION_FILE),
+        "--sites-file",
+        &d(DESCRIPTION_FILE),
+        "--site",
+        HOME_SITE,
+        "--ephemeris-summary",
+        &ot("kx_oc.json"),
+        "--summary-model",
+        "quadratic+light-time",
+        "--kinds",
+        "primary,secondary",
+        "--from",
+        &from,
+        "--until",
+        &until,
+        "--event-duration-hours",
+        "2.5",
+        "--only-observable",
+        "--output",
+        &ot("kx_upcoming.csv"),
     ]))?;
     let upcoming = read_table(&o("kx_upcoming.csv"), &["kind", "utc_iso", "sky_condition", "observable", "caution"])?;
     let uf = ot("kx_upcoming.csv");
-    let mut pred_table = Table::new(&format!("Minima of KX Inventa, {from} to {until}, at {HOME_SITE}"), &["kind", "UTC", "σ (min)", "target alt (°)", "Sun alt (°)", "observable"]);
+    let mut pred_table = Table::new(
+        &format!("Minima of KX Inventa, {from} to {until}, at {HOME_SITE}"),
+        &["kind", "UTC", "σ (min)", "target alt (°)", "Sun alt (°)", "observable"],
+    );
     let kinds = text_column(&upcoming, &uf, "kind")?;
     let utc = text_column(&upcoming, &uf, "utc_iso")?;
     let sigma = float_column(&upcoming, &uf, "sigma_d")?;
@@ -274,14 +444,14 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let jd1 = float_column(&upcoming, &uf, "bjd_tdb_jd1")?;
     let jd2 = float_column(&upcoming, &uf, "bjd_tdb_jd2")?;
     if upcoming.height() > 0 {
-        let predicted = crate::time::Instant::from_jd_two_part(crate::time::TimeScale::Tdb, jd1[0], jd2[0]);
+        let predicted = skyclock::time::Instant::from_jd_two_part(skyclock::time::TimeScale::Tdb, jd1[0], jd2[0]);
         let truth = scenario::true_minimum_at(cycles[0]);
         let miss_s = predicted.seconds_since(&truth);
         comparisons.push(Comparison {
             quantity: format!("next minimum (cycle {}): predicted − true (s)", cycles[0]),
-            recovered: format!("{miss_s:.1} ± {:.1}", sigma[0] * 86_400.0),
+            recovered: format!("{miss_s:.1} ± {:.1}", sigma[0] * SECONDS_PER_DAY),
             truth: "0".into(),
-            deviation_sigma: Some(miss_s.abs() / (sigma[0] * 86_400.0)),
+            deviation_sigma: Some(miss_s.abs() / (sigma[0] * SECONDS_PER_DAY)),
         });
     }
     let mut n_observable = 0_usize;
@@ -312,11 +482,30 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     println!("\n== 5. survey batch: an invented field of 220 light curves");
     write_survey(out, scenario::SEED)?;
     command(&s(&[
-        "survey-batch", "--input", &ot(SURVEY_FILE), "--source-column", "source", "--time-column", "bjd_tdb", "--value-column", "mag",
-        "--error-column", "mag_err", "--max-freq-per-day", "25", "--peaks", "3", "--output", &ot("survey_periods.csv"), "--quiet",
+        "survey-batch",
+        "--input",
+        &ot(SURVEY_FILE),
+        "--source-column",
+        "source",
+        "--time-column",
+        "bjd_tdb",
+        "--value-column",
+        "mag",
+        "--error-column",
+        "mag_err",
+        "--max-freq-per-day",
+        "25",
+        "--peaks",
+        "3",
+        "--output",
+        &ot("survey_periods.csv"),
+        "--quiet",
     ]))?;
     let recovery = survey_recovery(&o("survey_periods.csv"), &o(SURVEY_TRUTH_FILE))?;
-    let mut survey_table = Table::new("Top peak against the invented period, per class (within 1 %)", &["class", "sources", "at P", "at P/2 or 2P"]);
+    let mut survey_table = Table::new(
+        "Top peak against the invented period, per class (within 1 %)",
+        &["class", "sources", "at P", "at P/2 or 2P"],
+    );
     for (class, n, a, b) in &recovery {
         survey_table = survey_table.with_row(&[class, &n.to_string(), &a.to_string(), &b.to_string()]);
     }
@@ -329,12 +518,34 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     // 6. The binary pulsar: radio timing fit, then the X-ray events folded with it.
     println!("\n== 6. pulsar: radio arrival times of Veyra X-2 (UTC at the site) → phase-connected spin + orbit fit");
     command(&s(&[
-        "fit-timing", "--arrival-times", &d(PULSAR_TOAS_FILE), "--time-column", "time", "--clock", "mjd_utc",
-        "--sites-file", &d(PULSAR_DESCRIPTION_FILE), "--site", "Harrow Moss Radio Array", "--source-file", &d(PULSAR_DESCRIPTION_FILE),
-        "--model", &d(PULSAR_START_MODEL_FILE), "--output-residuals", &ot("veyra_residuals.csv"), "--output-model", &ot("veyra_fitted.toml"),
-        "--output-summary", &ot("veyra_fit.json"), "--figure", &ot("veyra_residuals.svg"),
+        "fit-timing",
+        "--arrival-times",
+        &d(PULSAR_TOAS_FILE),
+        "--time-column",
+        "time",
+        "--clock",
+        "mjd_utc",
+        "--sites-file",
+        &d(PULSAR_DESCRIPTION_FILE),
+        "--site",
+        "Harrow Moss Radio Array",
+        "--source-file",
+        &d(PULSAR_DESCRIPTION_FILE),
+        "--model",
+        &d(PULSAR_START_MODEL_FILE),
+        "--output-residuals",
+        &ot("veyra_residuals.csv"),
+        "--output-model",
+        &ot("veyra_fitted.toml"),
+        "--output-summary",
+        &ot("veyra_fit.json"),
+        "--figure",
+        &ot("veyra_residuals.svg"),
     ]))?;
-    let fitted = crate::pulsar::model::TimingModel::from_toml(&std::fs::read_to_string(o("veyra_fitted.toml"))?, &ot("veyra_fitted.toml"))?;
+    let fitted = skyclock::pulsar::model::TimingModel::from_toml(
+        &std::fs::read_to_string(o("veyra_fitted.toml"))?,
+        &ot("veyra_fitted.toml"),
+    )?;
     let fit = read_json(&o("veyra_fit.json"))?;
     let truth = pulsar_scenario::true_model();
     let sigma_of = |name: &str| -> f64 {
@@ -347,16 +558,42 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         quantity: "pulsar ν̇ (Hz/s)".into(),
         recovered: format!("{:.4e} ± {:.1e}", fitted.freq_deriv_hz_per_s, sigma_of("freq_deriv_hz_per_s")),
         truth: format!("{:.4e}", truth.freq_deriv_hz_per_s),
-        deviation_sigma: Some((fitted.freq_deriv_hz_per_s - truth.freq_deriv_hz_per_s).abs() / sigma_of("freq_deriv_hz_per_s")),
+        deviation_sigma: Some(
+            (fitted.freq_deriv_hz_per_s - truth.freq_deriv_hz_per_s).abs() / sigma_of("freq_deriv_hz_per_s"),
+        ),
     });
     let x_fit = fitted.orbit.as_ref().map(|o| o.projected_semi_major_axis_lt_s).unwrap_or(f64::NAN);
     let x_true = truth.orbit.as_ref().map(|o| o.projected_semi_major_axis_lt_s).unwrap_or(f64::NAN);
-    comparisons.push(compare("pulsar projected semi-major axis (lt-s)", x_fit, sigma_of("projected_semi_major_axis_lt_s"), x_true, 6));
+    comparisons.push(compare(
+        "pulsar projected semi-major axis (lt-s)",
+        x_fit,
+        sigma_of("projected_semi_major_axis_lt_s"),
+        x_true,
+        6,
+    ));
     println!("\n== 7. pulsar: X-ray events folded with the fitted model → profile and template");
     command(&s(&[
-        "pulse-profile", "--events", &d(PULSAR_EVENTS_FILE), "--time-column", "time", "--clock", "bmjd_tdb",
-        "--source-file", &d(PULSAR_DESCRIPTION_FILE), "--model", &ot("veyra_fitted.toml"), "--bins", "32", "--harmonics", "3",
-        "--output-profile", &ot("veyra_profile.csv"), "--output-template", &ot("veyra_template.json"), "--figure", &ot("veyra_profile.svg"),
+        "pulse-profile",
+        "--events",
+        &d(PULSAR_EVENTS_FILE),
+        "--time-column",
+        "time",
+        "--clock",
+        "bmjd_tdb",
+        "--source-file",
+        &d(PULSAR_DESCRIPTION_FILE),
+        "--model",
+        &ot("veyra_fitted.toml"),
+        "--bins",
+        "32",
+        "--harmonics",
+        "3",
+        "--output-profile",
+        &ot("veyra_profile.csv"),
+        "--output-template",
+        &ot("veyra_template.json"),
+        "--figure",
+        &ot("veyra_profile.svg"),
     ]))?;
     report_sections.push(
         Section::new("Binary pulsar Veyra X-2")
@@ -371,7 +608,8 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
 
     // Inputs and the corrections applied to the historical timings (written by the demo's
     // first step, `barycentre`, as kx_inventa_minima_bjd.csv).
-    let mut inputs = Table::new("Input files (all invented; truth in datasets/README.md)", &["file", "rows", "content"]);
+    let mut inputs =
+        Table::new("Input files (all invented; truth in datasets/README.md)", &["file", "rows", "content"]);
     for (name, what) in [
         (MINIMA_FILE, "times of minimum, 1996–2025, three sites, five clocks"),
         (PHOTOMETRY_FILE, "one season of photometry, JD UTC at Ridge Hollow Observatory"),
@@ -390,7 +628,11 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         let df = read_table(&corrected, &["input_clock", "time", "clock", "site"])?;
         let cf = path_text(&corrected);
         let mut terms = Table::new(
-            &format!("Delay terms over the {} historical timings (seconds; every row keeps its own terms in {})", df.height(), corrected.display()),
+            &format!(
+                "Delay terms over the {} historical timings (seconds; every row keeps its own terms in {})",
+                df.height(),
+                corrected.display()
+            ),
             &["term", "smallest", "largest", "mean |value|"],
         );
         for (column, label) in [
@@ -421,17 +663,30 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     report_sections.insert(0, corrections_section);
 
     // Summary and report.
-    let mut summary_table = Table::new("What the chain recovered, beside the invented truth", &["quantity", "recovered ± 1σ", "truth", "|Δ|/σ"]);
+    let mut summary_table = Table::new(
+        "What the chain recovered, beside the invented truth",
+        &["quantity", "recovered ± 1σ", "truth", "|Δ|/σ"],
+    );
     for c in &comparisons {
-        summary_table = summary_table.with_row(&[&c.quantity, &c.recovered, &c.truth, &c.deviation_sigma.map(|z| format!("{z:.1}")).unwrap_or_default()]);
+        summary_table = summary_table.with_row(&[
+            &c.quantity,
+            &c.recovered,
+            &c.truth,
+            &c.deviation_sigma.map(|z| format!("{z:.1}")).unwrap_or_default(),
+        ]);
     }
     let provenance = Provenance::new("skyclock demo")
-        .with("ephemeris", crate::ephemeris::embedded().name())
-        .with("leap_seconds", crate::time::LeapSecondTable::builtin().source())
+        .with("ephemeris", skyclock::ephemeris::embedded().name())
+        .with("leap_seconds", skyclock::time::LeapSecondTable::builtin().source())
         .with("datasets", path_text(data));
-    let mut report = Report::new("skyclock demonstration: KX Inventa, a survey field and Veyra X-2 (all invented)", provenance)
-        .with_subtitle("Every time carried to BJD_TDB; every number beside its uncertainty and the truth of the invented scenario.")
-        .with_section(Section::new("Summary").with_table(summary_table));
+    let mut report = Report::new(
+        "skyclock demonstration: KX Inventa, a survey field and Veyra X-2 (all invented)",
+        provenance,
+    )
+    .with_subtitle(
+        "Every time carried to BJD_TDB; every number beside its uncertainty and the truth of the invented scenario.",
+    )
+    .with_section(Section::new("Summary").with_table(summary_table));
     for section in report_sections {
         report = report.with_section(section);
     }
@@ -449,11 +704,19 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         "report": path_text(&report_path),
     });
     let summary_text = serde_json::to_string_pretty(&summary)?;
-    crate::table::write::write_atomically(&o("summary.json"), |f| std::io::Write::write_all(f, summary_text.as_bytes()).map_err(|e| e.to_string()))?;
+    skyclock::table::write::write_atomically(&o("summary.json"), |f| {
+        std::io::Write::write_all(f, summary_text.as_bytes()).map_err(|e| e.to_string())
+    })?;
 
     println!("\n== what was recovered, beside the truth");
     for c in &comparisons {
-        println!("  {:<44} {:>28}   truth {:>16}   {}", c.quantity, c.recovered, c.truth, c.deviation_sigma.map(|z| format!("{z:.1}σ")).unwrap_or_default());
+        println!(
+            "  {:<44} {:>28}   truth {:>16}   {}",
+            c.quantity,
+            c.recovered,
+            c.truth,
+            c.deviation_sigma.map(|z| format!("{z:.1}σ")).unwrap_or_default()
+        );
     }
     for (class, n, a, b) in &recovery {
         println!("  survey {class:<22} {a:>3} of {n:>3} at the true period, {b:>3} at P/2 or 2P");

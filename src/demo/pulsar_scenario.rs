@@ -3,18 +3,19 @@
 //! X-ray photon arrival times already referred to the barycentre (TDB), both made from one
 //! true timing model ([`true_model`]) with `pulsar::model`.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::fmt::Write as _;
 use std::path::Path;
 
 use anyhow::{Context, Result};
 
 use super::random::SeededRandom;
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::config::parse_description;
-use crate::ephemeris::embedded;
-use crate::observer::{EarthOrientation, Observer};
-use crate::pulsar::model::{ArrivalTime, Orbit, TimingModel};
-use crate::time::{LeapSecondTable, ScaleConverter, TimeFormat, TimeScale, format_time};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::config::parse_description;
+use skyclock::ephemeris::embedded;
+use skyclock::observer::{EarthOrientation, Observer};
+use skyclock::pulsar::model::{ArrivalTime, Orbit, TimingModel};
+use skyclock::time::{LeapSecondTable, ScaleConverter, TimeFormat, TimeScale, format_time};
 
 /// Site and source of the pulsar, as TOML.
 pub const PULSAR_DESCRIPTION_TOML: &str = r#"# The invented radio site and invented binary pulsar of the skyclock demo.
@@ -86,7 +87,8 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     let source = description.source.clone().context("the pulsar description has a source")?;
     let site = description.sites.values().next().cloned().context("the pulsar description has a site")?;
     let converter = ScaleConverter::new(LeapSecondTable::builtin());
-    let corrector = BarycentricCorrector::new(embedded(), converter, EarthOrientation::Ignored, source, DelayOptions::default());
+    let corrector =
+        BarycentricCorrector::new(embedded(), converter, EarthOrientation::Ignored, source, DelayOptions::default());
     let model = true_model();
     let epoch = model.epoch();
     let mut rng = SeededRandom::new(seed ^ 0x5eed_0002);
@@ -94,8 +96,9 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     let mut csv = String::from("time,error_us,freq_mhz,instrument\n");
     for k in 0..110 {
         let day = -250.0 + 500.0 * (k as f64 + 0.8 * rng.uniform()) / 110.0;
-        let (freq, sigma_us, instrument) = if rng.uniform() < 0.7 { (1400.0, 30.0, "wideband-1400") } else { (820.0, 60.0, "lowband-820") };
-        let guess = day * 86_400.0;
+        let (freq, sigma_us, instrument) =
+            if rng.uniform() < 0.7 { (1400.0, 30.0, "wideband-1400") } else { (820.0, 60.0, "lowband-820") };
+        let guess = day * SECONDS_PER_DAY;
         let n = (model.spin().phase_cycles(guess)).round();
         let t_bary = pulse_arrival_s(&model, n, guess, Some(freq)) + sigma_us * 1e-6 * rng.normal();
         let bjd = epoch.add_seconds(t_bary);
@@ -105,12 +108,12 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     std::fs::write(folder.join(PULSAR_TOAS_FILE), csv)?;
     // X-rays: 8 ks starting 20 days after the epoch; 6000 photons, 35 % pulsed with a
     // two-harmonic profile, barycentric TDB (MJD).
-    let start_s = 20.0 * 86_400.0;
+    let start_s = 20.0 * SECONDS_PER_DAY;
     let mut csv = String::from("time\n");
     let mut kept = 0;
     while kept < 6_000 {
         let t = start_s + 8_000.0 * rng.uniform();
-        let phase = crate::pulsar::profile::event_phase_cycles(&model, t, "default");
+        let phase = skyclock::pulsar::profile::event_phase_cycles(&model, t, "default");
         let x = std::f64::consts::TAU * phase;
         let density = 0.65 + 0.35 * (1.0 + 0.8 * x.cos() + 0.4 * (2.0 * x - 0.6).cos());
         if rng.uniform() * 1.77 < density {
@@ -130,10 +133,16 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     if let Some(o) = start.orbit.as_mut() {
         o.projected_semi_major_axis_lt_s += 0.002;
     }
-    start.fit = ["freq_hz", "freq_deriv_hz_per_s", "dispersion_measure_pc_per_cm3", "projected_semi_major_axis_lt_s", "periastron_time_s"]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
+    start.fit = [
+        "freq_hz",
+        "freq_deriv_hz_per_s",
+        "dispersion_measure_pc_per_cm3",
+        "projected_semi_major_axis_lt_s",
+        "periastron_time_s",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
     std::fs::write(folder.join(PULSAR_START_MODEL_FILE), start.to_toml()?)?;
     std::fs::write(folder.join(PULSAR_DESCRIPTION_FILE), PULSAR_DESCRIPTION_TOML)?;
     Ok(())

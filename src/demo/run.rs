@@ -1,17 +1,18 @@
 //! Runs the demonstration chain and prints what was recovered beside the truth.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result};
 
 use super::scenario::{self, DESCRIPTION_FILE, MINIMA_FILE, TRUE_PERIOD_D};
-use crate::arrival::table::{ObserverSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions};
-use crate::config::read_description;
-use crate::ephemeris::{Ephemeris, embedded};
-use crate::observer::EarthOrientation;
-use crate::table::{Provenance, float_column, read_table, text_column, write_table};
-use crate::time::{Instant, LeapSecondTable, ScaleConverter, TimeScale};
+use skyclock::arrival::table::{ObserverSpec, TableRequest, correct_table};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::config::read_description;
+use skyclock::ephemeris::{Ephemeris, embedded};
+use skyclock::observer::EarthOrientation;
+use skyclock::table::{Provenance, float_column, read_table, text_column, write_table};
+use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeScale};
 
 /// A straight-line ephemeris fitted to timings: T(E) = T0 + P·E.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -63,8 +64,8 @@ pub fn fit_line(cycles: &[f64], seconds: &[f64], errors_s: &[f64]) -> Option<Lin
     }
     let scale = (chi2 / (n as f64 - 2.0)).max(1.0);
     Some(LinearFit {
-        period_d: slope / 86_400.0,
-        period_sigma_d: (sw / det * scale).sqrt() / 86_400.0,
+        period_d: slope / SECONDS_PER_DAY,
+        period_sigma_d: (sw / det * scale).sqrt() / SECONDS_PER_DAY,
         rms_residual_s: (sum_sq / wsum).sqrt(),
         half_range_s: 0.5 * (hi - lo),
     })
@@ -73,9 +74,15 @@ pub fn fit_line(cycles: &[f64], seconds: &[f64], errors_s: &[f64]) -> Option<Lin
 fn locate_datasets(output: &Path) -> Result<PathBuf> {
     for candidate in ["datasets", "../datasets"] {
         let p = PathBuf::from(candidate);
-        let complete = [MINIMA_FILE, DESCRIPTION_FILE, scenario::PHOTOMETRY_FILE, super::pulsar_scenario::PULSAR_TOAS_FILE, super::pulsar_scenario::PULSAR_EVENTS_FILE]
-            .iter()
-            .all(|f| p.join(f).exists());
+        let complete = [
+            MINIMA_FILE,
+            DESCRIPTION_FILE,
+            scenario::PHOTOMETRY_FILE,
+            super::pulsar_scenario::PULSAR_TOAS_FILE,
+            super::pulsar_scenario::PULSAR_EVENTS_FILE,
+        ]
+        .iter()
+        .all(|f| p.join(f).exists());
         if complete {
             return Ok(p);
         }
@@ -119,7 +126,7 @@ pub fn run_demo(output: &Path) -> Result<()> {
     write_table(&mut corrected, &out_path, &provenance, &[minima_path.as_path()])?;
 
     // Compare a line fitted to the clock readings taken at face value with one fitted to BJD_TDB.
-    let errors_s: Vec<f64> = float_column(&df, &file, "error_d")?.into_iter().map(|e| e * 86_400.0).collect();
+    let errors_s: Vec<f64> = float_column(&df, &file, "error_d")?.into_iter().map(|e| e * SECONDS_PER_DAY).collect();
     let raw_text = text_column(&df, &file, "time")?;
     let clocks = text_column(&df, &file, "clock")?;
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
@@ -131,19 +138,23 @@ pub fn run_demo(output: &Path) -> Result<()> {
     for i in 0..df.height() {
         let bjd = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
         let since = bjd.seconds_since(&epoch);
-        let cycle = (2.0 * since / 86_400.0 / TRUE_PERIOD_D).round() / 2.0;
+        let cycle = (2.0 * since / SECONDS_PER_DAY / TRUE_PERIOD_D).round() / 2.0;
         cycles.push(cycle);
         bjd_s.push(since);
         // Face value: the number as written, read as a JD whatever the clock said.
         let label = clocks[i].as_deref().unwrap_or("jd_utc");
-        let spec = crate::arrival::table::ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?;
+        let spec = skyclock::arrival::table::ClockSpec::parse_label(label).map_err(anyhow::Error::msg)?;
         let text = raw_text[i].as_deref().unwrap_or("");
-        let face = crate::time::parse_time(text, spec.format, TimeScale::Tdb, converter.leap_seconds())?;
+        let face = skyclock::time::parse_time(text, spec.format, TimeScale::Tdb, converter.leap_seconds())?;
         raw_s.push(face.seconds_since(&epoch));
     }
     let raw = fit_line(&cycles, &raw_s, &errors_s).context("too few timings for a fit")?;
     let fixed = fit_line(&cycles, &bjd_s, &errors_s).context("too few timings for a fit")?;
-    println!("skyclock demo — invented eclipsing binary {} timed from {} invented sites", source.name, description.sites.len());
+    println!(
+        "skyclock demo — invented eclipsing binary {} timed from {} invented sites",
+        source.name,
+        description.sites.len()
+    );
     println!("  {} timings in mixed clocks (JD UTC, HJD UTC, BJD TDB, MJD TT, ISO UTC), 1996–2025", summary.rows);
     println!("  corrected table: {} (delay terms in their own columns)", out_path.display());
     println!("  ephemeris: {}", embedded().name());

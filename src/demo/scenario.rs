@@ -10,6 +10,7 @@
 //! and ISO UTC. A season of CCD photometry (autumn 2025, JD UTC at Ridge Hollow) covers
 //! eclipses for the period search and the times of minimum.
 
+use skyclock::constants::SECONDS_PER_DAY;
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 use std::path::Path;
@@ -17,12 +18,12 @@ use std::path::Path;
 use anyhow::{Context, Result};
 
 use super::random::SeededRandom;
-use crate::arrival::{BarycentricCorrector, DelayOptions, Source};
-use crate::config::parse_description;
-use crate::ephemeris::embedded;
-use crate::observer::{EarthOrientation, Observer, Site};
-use crate::time::format::format_whole_and_fraction;
-use crate::time::{Instant, LeapSecondTable, ScaleConverter, TimeFormat, TimeScale, format_time};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions, Source};
+use skyclock::config::parse_description;
+use skyclock::ephemeris::embedded;
+use skyclock::observer::{EarthOrientation, Observer, Site};
+use skyclock::time::format::format_whole_and_fraction;
+use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeFormat, TimeScale, format_time};
 
 /// Reference epoch of the true ephemeris, BJD_TDB (JD).
 pub const TRUE_EPOCH_JD: (f64, f64) = (2_459_000.5, -0.154_321_10);
@@ -81,8 +82,8 @@ pub const MINIMA_FILE: &str = "kx_inventa_minima.csv";
 pub fn true_minimum_at(cycle: f64) -> Instant {
     let epoch = Instant::from_jd_two_part(TimeScale::Tdb, TRUE_EPOCH_JD.0, TRUE_EPOCH_JD.1);
     let linear_d = cycle * TRUE_PERIOD_D;
-    let days = linear_d + TRUE_QUADRATIC_D * cycle * cycle + crate::oc::models::light_time_d(&THIRD_BODY, linear_d);
-    epoch.add_seconds(days * 86_400.0)
+    let days = linear_d + TRUE_QUADRATIC_D * cycle * cycle + skyclock::oc::models::light_time_d(&THIRD_BODY, linear_d);
+    epoch.add_seconds(days * SECONDS_PER_DAY)
 }
 
 /// True BJD_TDB of primary minimum `cycle`.
@@ -94,17 +95,17 @@ pub fn true_minimum(cycle: i64) -> Instant {
 /// the true minima, a weak ellipsoidal term).
 pub fn true_magnitude(t: &Instant) -> f64 {
     let epoch = true_minimum(0);
-    let e = (t.seconds_since(&epoch) / 86_400.0 / TRUE_PERIOD_D).round();
+    let e = (t.seconds_since(&epoch) / SECONDS_PER_DAY / TRUE_PERIOD_D).round();
     let (d1, d2, w) = ECLIPSE_DEPTHS_MAG;
     let dip = |centre: Instant, depth: f64| {
-        let x = t.seconds_since(&centre) / 86_400.0 / TRUE_PERIOD_D;
+        let x = t.seconds_since(&centre) / SECONDS_PER_DAY / TRUE_PERIOD_D;
         if x.abs() < w { depth * (1.0 - (x / w).powi(2)) } else { 0.0 }
     };
     let mut m = 11.40;
     for k in [e - 1.0, e, e + 1.0] {
         m += dip(true_minimum_at(k), d1) + dip(true_minimum_at(k + 0.5), d2);
     }
-    let phase = t.seconds_since(&epoch) / 86_400.0 / TRUE_PERIOD_D;
+    let phase = t.seconds_since(&epoch) / SECONDS_PER_DAY / TRUE_PERIOD_D;
     m + 0.015 * (1.0 - (2.0 * std::f64::consts::TAU * phase).cos())
 }
 
@@ -139,13 +140,13 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
         cycle += if cycle < ccd_era { 30 + rng.below(60) as i64 } else { 4 + rng.below(30) as i64 };
         // Observable only in the star's season (about September to March).
         let t = true_minimum(cycle);
-        let (_, month, _) = crate::time::calendar::civil_from_mjd(t.mjd_day());
+        let (_, month, _) = skyclock::time::calendar::civil_from_mjd(t.mjd_day());
         if (4..=8).contains(&month) {
             continue;
         }
         let site = &sites[rng.below(sites.len() as u64) as usize];
         let (observer_name, ccd_sigma_s) = observers[site.name.as_str()];
-        let sigma_s = if cycle < ccd_era { 86_400.0 * (0.0015 + 0.0015 * rng.uniform()) } else { ccd_sigma_s };
+        let sigma_s = if cycle < ccd_era { SECONDS_PER_DAY * (0.0015 + 0.0015 * rng.uniform()) } else { ccd_sigma_s };
         let secondary = rng.uniform() < 0.2;
         let centre = if secondary { true_minimum_at(cycle as f64 + 0.5) } else { t };
         let noise_s = sigma_s * rng.normal();
@@ -163,11 +164,11 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
         } else if pick < 0.90 {
             ("mjd_tt", format_time(&converter.convert(&utc, TimeScale::Tt)?, TimeFormat::Mjd))
         } else {
-            ("iso_utc", crate::time::format::format_iso(&utc, 3))
+            ("iso_utc", skyclock::time::format::format_iso(&utc, 3))
         };
         // Observers report times to 1e-5 d (~1 s) as is common practice.
         let text = round_decimal_text(&text, clock);
-        let error_d = sigma_s / 86_400.0;
+        let error_d = sigma_s / SECONDS_PER_DAY;
         let kind = if secondary { "secondary" } else { "primary" };
         writeln!(csv, "{},{},{},{},{},{:.6}", site.name, observer_name, clock, kind, text, error_d)?;
     }
@@ -181,7 +182,12 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
 /// One season of CCD photometry from Ridge Hollow (JD UTC as read at the telescope): clear
 /// nights (65 %) from 2025-09-20 to 2025-12-18, a point every 5 min while the star is up at
 /// night (6 h a night), Gaussian noise of [`PHOTOMETRY_NOISE_MAG`].
-fn write_photometry(folder: &Path, corrector: &BarycentricCorrector, site: &Site, rng: &mut SeededRandom) -> Result<()> {
+fn write_photometry(
+    folder: &Path,
+    corrector: &BarycentricCorrector,
+    site: &Site,
+    rng: &mut SeededRandom,
+) -> Result<()> {
     let observer = Observer::Site(site.clone());
     let mut csv = String::from("time,mag,mag_err\n");
     // 2025-09-20 is MJD 60938; local midnight at longitude −105° is ~07:00 UTC.
@@ -190,8 +196,11 @@ fn write_photometry(folder: &Path, corrector: &BarycentricCorrector, site: &Site
             continue;
         }
         for k in 0..72 {
-            let utc = Instant::from_utc_parts_unchecked(60_938 + night, 3.6 * 3_600.0 + 300.0 * k as f64 + 20.0 * rng.uniform());
-            let bjd = corrector.correct(&utc, &observer, crate::arrival::ReferencePoint::Observer)?.bjd_tdb;
+            let utc = Instant::from_utc_parts_unchecked(
+                60_938 + night,
+                3.6 * 3_600.0 + 300.0 * k as f64 + 20.0 * rng.uniform(),
+            );
+            let bjd = corrector.correct(&utc, &observer, skyclock::arrival::ReferencePoint::Observer)?.bjd_tdb;
             let mag = true_magnitude(&bjd) + PHOTOMETRY_NOISE_MAG * rng.normal();
             writeln!(csv, "{},{mag:.4},{PHOTOMETRY_NOISE_MAG}", format_time(&utc, TimeFormat::Jd))?;
         }
@@ -205,7 +214,7 @@ fn round_decimal_text(text: &str, clock: &str) -> String {
     if clock.starts_with("iso") {
         return text.to_string();
     }
-    match crate::time::format::parse_split_decimal(text) {
+    match skyclock::time::format::parse_split_decimal(text) {
         Some(d) => format_whole_and_fraction(d.whole, d.fraction, 6),
         None => text.to_string(),
     }

@@ -19,7 +19,13 @@ pub fn write_survey(folder: &Path, seed: u64) -> Result<()> {
     let mut rng = SeededRandom::new(seed ^ 0x5eed_0001);
     let mut data = String::from("source,bjd_tdb,mag,mag_err\n");
     let mut truth = String::from("source,class,period_d,amplitude_mag\n");
-    let classes = [("sinusoidal-pulsator", 60), ("sawtooth-pulsator", 50), ("eclipsing-binary", 40), ("transit", 20), ("constant", 50)];
+    let classes = [
+        ("sinusoidal-pulsator", 60),
+        ("sawtooth-pulsator", 50),
+        ("eclipsing-binary", 40),
+        ("transit", 20),
+        ("constant", 50),
+    ];
     let mut id = 0;
     for (class, count) in classes {
         for _ in 0..count {
@@ -49,10 +55,13 @@ pub fn write_survey(folder: &Path, seed: u64) -> Result<()> {
                 offsets.sort_by(|a, b| a.total_cmp(b));
                 for u in offsets {
                     let t = 2_461_000.6 + night as f64 + 0.25 * u;
-                    let phase = if period_d > 0.0 { ((t - 2_461_000.0) / period_d + phase0).rem_euclid(1.0) } else { 0.0 };
+                    let phase =
+                        if period_d > 0.0 { ((t - 2_461_000.0) / period_d + phase0).rem_euclid(1.0) } else { 0.0 };
                     let signal = match class {
                         "sinusoidal-pulsator" => amplitude * (std::f64::consts::TAU * phase).sin(),
-                        "sawtooth-pulsator" => amplitude * if phase < 0.15 { 0.5 - phase / 0.15 } else { -0.5 + (phase - 0.15) / 0.85 },
+                        "sawtooth-pulsator" => {
+                            amplitude * if phase < 0.15 { 0.5 - phase / 0.15 } else { -0.5 + (phase - 0.15) / 0.85 }
+                        }
                         "eclipsing-binary" => {
                             let d = |x: f64| if x.abs() < 0.06 { 1.0 - (x / 0.06).powi(2) } else { 0.0 };
                             let x = phase - phase.round();

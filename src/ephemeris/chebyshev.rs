@@ -84,9 +84,7 @@ pub fn evaluate3_values(coefficients: &[f64], n: usize, x: f64) -> [f64; 3] {
 
 /// The `n` Chebyshev nodes of the first kind on [−1, 1], `x_j = cos(π (j + ½) / n)`.
 pub fn nodes(n: usize) -> Vec<f64> {
-    (0..n)
-        .map(|j| (std::f64::consts::PI * (j as f64 + 0.5) / n as f64).cos())
-        .collect()
+    (0..n).map(|j| (std::f64::consts::PI * (j as f64 + 0.5) / n as f64).cos()).collect()
 }
 
 /// Coefficients of the degree-(n−1) polynomial interpolating `values[j] = f(nodes(n)[j])`
@@ -130,9 +128,8 @@ mod tests {
     #[test]
     fn clenshaw_matches_direct_summation() {
         for n in [1usize, 2, 3, 13, 27, 40] {
-            let coefs: Vec<f64> = (0..3 * n)
-                .map(|i| ((i * 7919 % 113) as f64 - 56.0) * 10f64.powi(-((i % n) as i32)))
-                .collect();
+            let coefs: Vec<f64> =
+                (0..3 * n).map(|i| ((i * 7919 % 113) as f64 - 56.0) * 10f64.powi(-((i % n) as i32))).collect();
             for x in [-1.0, -0.77, 0.0, 0.31, 1.0] {
                 let mut t = vec![0.0; n];
                 let mut dt = vec![0.0; n];
@@ -142,11 +139,7 @@ mod tests {
                     let dv: f64 = (0..n).map(|k| coefs[c * n + k] * t[k]).sum();
                     let ds: f64 = (0..n).map(|k| coefs[c * n + k] * dt[k]).sum();
                     assert!((v[c] - dv).abs() <= 1e-12 * (1.0 + dv.abs()), "n={n} x={x}");
-                    assert!(
-                        (s[c] - ds).abs() <= 1e-11 * (1.0 + ds.abs()),
-                        "n={n} x={x}: {} {ds}",
-                        s[c]
-                    );
+                    assert!((s[c] - ds).abs() <= 1e-11 * (1.0 + ds.abs()), "n={n} x={x}: {} {ds}", s[c]);
                 }
             }
         }

@@ -17,20 +17,21 @@
 //! (`T_eph` of the DE series, which is TDB to the precision of its definition); any other
 //! scale is refused with [`EphemerisError::WrongTimeScale`] — converting is the caller's job.
 
+use crate::constants::SECONDS_PER_DAY;
 pub mod chebyshev;
 pub mod pack;
 pub mod spk;
 
 use std::fmt;
 use std::path::PathBuf;
+use std::sync::Arc;
 
 use crate::time::{Instant, TimeScale};
 
 pub use pack::{EmbeddedEphemeris, embedded};
 pub use spk::SpkKernel;
 
-/// Speed of light in vacuum, km/s (exact, SI).
-pub const SPEED_OF_LIGHT_KM_PER_S: f64 = 299_792.458;
+pub use crate::constants::SPEED_OF_LIGHT_KM_PER_S;
 
 // Gravitational parameters GM, km³/s², of the DE440 integration, as published by NAIF in
 // the planetary constants kernel `gm_de440.tpc` (BODY10_GM, BODY5_GM, …); see also
@@ -146,36 +147,18 @@ pub struct BodyState {
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum EphemerisError {
     /// The instant lies outside what the source covers for that body.
-    #[error(
-        "{source_name}: no data for {body} at {instant}; this source covers {span_start} to {span_end} for it"
-    )]
-    OutOfRange {
-        source_name: String,
-        body: Body,
-        instant: String,
-        span_start: String,
-        span_end: String,
-    },
+    #[error("{source_name}: no data for {body} at {instant}; this source covers {span_start} to {span_end} for it")]
+    OutOfRange { source_name: String, body: Body, instant: String, span_start: String, span_end: String },
     /// The source has no chain of segments leading from `body` to the barycentre.
     #[error("{source_name}: no data for {body}; bodies available: {available}")]
-    BodyNotAvailable {
-        source_name: String,
-        body: Body,
-        available: String,
-    },
+    BodyNotAvailable { source_name: String, body: Body, available: String },
     /// The instant is not on the TDB scale.
-    #[error(
-        "ephemeris states need an instant on the TDB scale, got {got} ({instant}); convert to TDB first"
-    )]
+    #[error("ephemeris states need an instant on the TDB scale, got {got} ({instant}); convert to TDB first")]
     WrongTimeScale { got: TimeScale, instant: String },
     /// The file could not be opened or read. `reason` is the operating system's message
     /// (kept as text so that the error stays `Clone` and `PartialEq`).
     #[error("{path}: {message}: {reason}")]
-    Io {
-        path: PathBuf,
-        message: String,
-        reason: String,
-    },
+    Io { path: PathBuf, message: String, reason: String },
     /// The file is not a DAF/SPK file, or is damaged or truncated.
     #[error("{path}: not a usable SPK kernel: {message}")]
     BadFile { path: PathBuf, message: String },
@@ -183,23 +166,12 @@ pub enum EphemerisError {
     #[error(
         "{path}: segment {segment_name:?} (target {target}, centre {center}) has SPK type {data_type}; supported types are 2 and 3 (Chebyshev)"
     )]
-    UnsupportedSegmentType {
-        path: PathBuf,
-        segment_name: String,
-        target: i32,
-        center: i32,
-        data_type: i32,
-    },
+    UnsupportedSegmentType { path: PathBuf, segment_name: String, target: i32, center: i32, data_type: i32 },
     /// A segment in a reference frame other than ICRF/J2000 (NAIF frame 1).
     #[error(
         "{path}: segment {segment_name:?} (target {target}) is in NAIF frame {frame}; only frame 1 (J2000/ICRF) is supported"
     )]
-    UnsupportedFrame {
-        path: PathBuf,
-        segment_name: String,
-        target: i32,
-        frame: i32,
-    },
+    UnsupportedFrame { path: PathBuf, segment_name: String, target: i32, frame: i32 },
     /// The embedded pack (or a pack given as bytes) is malformed.
     #[error("ephemeris pack {name}: {message}")]
     BadPack { name: String, message: String },
@@ -218,15 +190,62 @@ pub trait Ephemeris: Send + Sync {
     fn state(&self, body: Body, tdb: &Instant) -> Result<BodyState, EphemerisError>;
 }
 
+/// Any reference to an ephemeris is one.
+impl<T: Ephemeris + ?Sized> Ephemeris for &T {
+    fn name(&self) -> String {
+        (**self).name()
+    }
+    fn span(&self) -> (Instant, Instant) {
+        (**self).span()
+    }
+    fn state(&self, body: Body, tdb: &Instant) -> Result<BodyState, EphemerisError> {
+        (**self).state(body, tdb)
+    }
+}
+
+/// An ephemeris owned jointly by everything that uses it (correctors, threads, other
+/// languages' objects): cloning shares, never copies, the kernel or pack. Built from any
+/// ephemeris with `SharedEphemeris::from` (for the built-in pack, `embedded().into()`).
+#[derive(Clone)]
+pub struct SharedEphemeris(Arc<dyn Ephemeris>);
+
+impl SharedEphemeris {
+    /// Shares an ephemeris already behind an `Arc`.
+    pub fn from_arc(ephemeris: Arc<dyn Ephemeris>) -> SharedEphemeris {
+        SharedEphemeris(ephemeris)
+    }
+
+    /// Shares a boxed ephemeris.
+    pub fn from_box(ephemeris: Box<dyn Ephemeris>) -> SharedEphemeris {
+        SharedEphemeris(Arc::from(ephemeris))
+    }
+}
+
+impl<E: Ephemeris + 'static> From<E> for SharedEphemeris {
+    fn from(ephemeris: E) -> SharedEphemeris {
+        SharedEphemeris(Arc::new(ephemeris))
+    }
+}
+
+impl std::ops::Deref for SharedEphemeris {
+    type Target = dyn Ephemeris;
+    fn deref(&self) -> &(dyn Ephemeris + 'static) {
+        &*self.0
+    }
+}
+
+impl fmt::Debug for SharedEphemeris {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "SharedEphemeris({})", self.0.name())
+    }
+}
+
 /// Refuses instants not on TDB.
 pub(crate) fn require_tdb(t: &Instant) -> Result<(), EphemerisError> {
     if t.scale() == TimeScale::Tdb {
         Ok(())
     } else {
-        Err(EphemerisError::WrongTimeScale {
-            got: t.scale(),
-            instant: describe_instant(t),
-        })
+        Err(EphemerisError::WrongTimeScale { got: t.scale(), instant: describe_instant(t) })
     }
 }
 
@@ -235,7 +254,7 @@ pub(crate) fn require_tdb(t: &Instant) -> Result<(), EphemerisError> {
 /// and `rest_s` in [-43200, 43200). Differences against whole-second epochs computed as
 /// `(whole_days_s - epoch) + rest_s` keep ~1e-11 s precision.
 pub(crate) fn j2000_seconds_two_part(t: &Instant) -> (f64, f64) {
-    let whole = (t.mjd_day() - crate::time::instant::J2000_MJD_DAY) as f64 * 86_400.0;
+    let whole = (t.mjd_day() - crate::time::instant::J2000_MJD_DAY) as f64 * SECONDS_PER_DAY;
     (whole, t.seconds_of_day() - 43_200.0)
 }
 
@@ -251,10 +270,7 @@ mod tests {
     #[test]
     fn describe_instant_reads_as_date_and_jd() {
         let t = Instant::from_mjd_parts(TimeScale::Tdb, 51_544, 43_200.0);
-        assert_eq!(
-            describe_instant(&t),
-            "2000-01-01 12:00:00.000 TDB (JD 2451545.000000)"
-        );
+        assert_eq!(describe_instant(&t), "2000-01-01 12:00:00.000 TDB (JD 2451545.000000)");
     }
 
     #[test]

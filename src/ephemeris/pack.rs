@@ -35,10 +35,7 @@
 use std::sync::OnceLock;
 
 use super::chebyshev;
-use super::{
-    Body, BodyState, Ephemeris, EphemerisError, describe_instant, j2000_seconds_two_part,
-    require_tdb,
-};
+use super::{Body, BodyState, Ephemeris, EphemerisError, describe_instant, j2000_seconds_two_part, require_tdb};
 use crate::time::{Instant, TimeScale};
 
 /// Magic bytes opening a pack file.
@@ -74,11 +71,7 @@ impl PackedBody {
     fn evaluate(&self, whole: f64, rest: f64) -> BodyState {
         let offset = (whole - self.start_seconds) + rest;
         let raw = (offset / self.interval_seconds).floor();
-        let i = if raw <= 0.0 {
-            0
-        } else {
-            (raw as usize).min(self.intervals - 1)
-        };
+        let i = if raw <= 0.0 { 0 } else { (raw as usize).min(self.intervals - 1) };
         let half = 0.5 * self.interval_seconds;
         // Interval midpoints are whole seconds: the difference below is exact to ~1e-11 s.
         let mid = self.start_seconds + (i as f64) * self.interval_seconds + half;
@@ -86,10 +79,7 @@ impl PackedBody {
         let n = self.coefficients;
         let coefs = &self.data[i * 3 * n..(i + 1) * 3 * n];
         let (p, s) = chebyshev::evaluate3(coefs, n, x);
-        BodyState {
-            position_km: p,
-            velocity_km_per_s: [s[0] / half, s[1] / half, s[2] / half],
-        }
+        BodyState { position_km: p, velocity_km_per_s: [s[0] / half, s[1] / half, s[2] / half] }
     }
 
     /// Stored size of this body's series in bytes (bit stream only).
@@ -177,12 +167,7 @@ fn unzigzag(u: u64) -> i64 {
 }
 
 /// Encodes a pack (format version 1; see the module doc). Returns the bytes.
-pub fn encode_pack(
-    provenance: &str,
-    start_mjd: i64,
-    end_mjd: i64,
-    bodies: &[BodySeries],
-) -> Vec<u8> {
+pub fn encode_pack(provenance: &str, start_mjd: i64, end_mjd: i64, bodies: &[BodySeries]) -> Vec<u8> {
     let mut out = Vec::new();
     out.extend_from_slice(PACK_MAGIC);
     out.extend_from_slice(&PACK_VERSION.to_le_bytes());
@@ -193,17 +178,10 @@ pub fn encode_pack(
     out.extend_from_slice(&(bodies.len() as u32).to_le_bytes());
     for b in bodies {
         let n = b.coefficients;
-        let q: Vec<i64> = b
-            .data
-            .iter()
-            .map(|v| (v / b.quantum_km).round() as i64)
-            .collect();
+        let q: Vec<i64> = b.data.iter().map(|v| (v / b.quantum_km).round() as i64).collect();
         let mut bits = vec![0u8; 3 * n];
         for (j, w) in bits.iter_mut().enumerate() {
-            let max = (0..b.intervals)
-                .map(|i| zigzag(q[i * 3 * n + j]))
-                .max()
-                .unwrap_or(0);
+            let max = (0..b.intervals).map(|i| zigzag(q[i * 3 * n + j])).max().unwrap_or(0);
             *w = (64 - max.leading_zeros()) as u8;
         }
         out.extend_from_slice(&b.naif_id.to_le_bytes());
@@ -243,25 +221,14 @@ pub fn encode_pack(
 impl EmbeddedEphemeris {
     /// Parses a pack (format version 1). `name` labels errors.
     pub fn from_bytes(bytes: &[u8], name: &str) -> Result<EmbeddedEphemeris, EphemerisError> {
-        let bad = |message: String| EphemerisError::BadPack {
-            name: name.to_string(),
-            message,
-        };
-        let mut r = Reader {
-            bytes,
-            pos: 0,
-            name,
-        };
+        let bad = |message: String| EphemerisError::BadPack { name: name.to_string(), message };
+        let mut r = Reader { bytes, pos: 0, name };
         if r.take(16)? != PACK_MAGIC {
-            return Err(bad(
-                "not a skyclock ephemeris pack (magic bytes differ)".to_string()
-            ));
+            return Err(bad("not a skyclock ephemeris pack (magic bytes differ)".to_string()));
         }
         let version = r.u32()?;
         if version != PACK_VERSION {
-            return Err(bad(format!(
-                "format version {version}; this skyclock reads version {PACK_VERSION}"
-            )));
+            return Err(bad(format!("format version {version}; this skyclock reads version {PACK_VERSION}")));
         }
         let plen = r.u32()? as usize;
         let provenance = String::from_utf8_lossy(r.take(plen)?).to_string();
@@ -347,12 +314,7 @@ impl EmbeddedEphemeris {
 
     /// Bodies this pack has.
     pub fn available_bodies(&self) -> Vec<Body> {
-        Body::ALL
-            .iter()
-            .zip(self.lookup)
-            .filter(|(_, l)| l.is_some())
-            .map(|(b, _)| *b)
-            .collect()
+        Body::ALL.iter().zip(self.lookup).filter(|(_, l)| l.is_some()).map(|(b, _)| *b).collect()
     }
 
     /// Size in bytes of the pack compiled into skyclock.
@@ -375,11 +337,7 @@ impl Ephemeris for EmbeddedEphemeris {
         require_tdb(tdb)?;
         let k = Body::ALL.iter().position(|&b| b == body).unwrap_or(0);
         let Some(index) = self.lookup[k] else {
-            let available: Vec<String> = self
-                .available_bodies()
-                .iter()
-                .map(|b| b.to_string())
-                .collect();
+            let available: Vec<String> = self.available_bodies().iter().map(|b| b.to_string()).collect();
             return Err(EphemerisError::BodyNotAvailable {
                 source_name: self.name(),
                 body,
@@ -410,13 +368,11 @@ mod tests {
     fn encode_then_decode_round_trips_within_half_a_quantum() {
         let n = 5;
         let intervals = 3;
-        let data: Vec<f64> = (0..intervals * 3 * n)
-            .map(|i| ((i * 7919) % 1000) as f64 * 1.234567 - 600.0)
-            .collect();
+        let data: Vec<f64> = (0..intervals * 3 * n).map(|i| ((i * 7919) % 1000) as f64 * 1.234567 - 600.0).collect();
         let series = BodySeries {
             naif_id: 399,
             start_seconds: 0.0,
-            interval_seconds: 86_400.0,
+            interval_seconds: crate::constants::SECONDS_PER_DAY,
             intervals,
             coefficients: n,
             quantum_km: 1e-5,
@@ -429,10 +385,7 @@ mod tests {
         }
         assert_eq!(p.available_bodies(), vec![Body::Earth]);
         assert!(matches!(
-            p.state(
-                Body::Sun,
-                &Instant::from_mjd_parts(TimeScale::Tdb, 51_545, 0.0)
-            ),
+            p.state(Body::Sun, &Instant::from_mjd_parts(TimeScale::Tdb, 51_545, 0.0)),
             Err(EphemerisError::BodyNotAvailable { .. })
         ));
         // Truncated packs are refused, not panicked on.
@@ -452,14 +405,8 @@ mod tests {
         }
         let late = b.add_seconds(1.0);
         let msg = e.state(Body::Earth, &late).unwrap_err().to_string();
-        assert!(
-            msg.contains("1950-01-01") && msg.contains("2101-01-01"),
-            "{msg}"
-        );
+        assert!(msg.contains("1950-01-01") && msg.contains("2101-01-01"), "{msg}");
         let tt = Instant::from_mjd_parts(TimeScale::Tt, 60_000, 0.0);
-        assert!(matches!(
-            e.state(Body::Earth, &tt),
-            Err(EphemerisError::WrongTimeScale { .. })
-        ));
+        assert!(matches!(e.state(Body::Earth, &tt), Err(EphemerisError::WrongTimeScale { .. })));
     }
 }

@@ -120,10 +120,7 @@ fn read_exact_at(file: &File, mut buf: &mut [u8], mut offset: u64) -> std::io::R
     while !buf.is_empty() {
         match file.seek_read(buf, offset) {
             Ok(0) => {
-                return Err(std::io::Error::new(
-                    std::io::ErrorKind::UnexpectedEof,
-                    "failed to fill whole buffer",
-                ));
+                return Err(std::io::Error::new(std::io::ErrorKind::UnexpectedEof, "failed to fill whole buffer"));
             }
             Ok(n) => {
                 buf = &mut buf[n..];
@@ -138,20 +135,12 @@ fn read_exact_at(file: &File, mut buf: &mut [u8], mut offset: u64) -> std::io::R
 
 fn f64_from(bytes: &[u8], big_endian: bool) -> f64 {
     let a: [u8; 8] = bytes[..8].try_into().expect("8 bytes");
-    if big_endian {
-        f64::from_be_bytes(a)
-    } else {
-        f64::from_le_bytes(a)
-    }
+    if big_endian { f64::from_be_bytes(a) } else { f64::from_le_bytes(a) }
 }
 
 fn i32_from(bytes: &[u8], big_endian: bool) -> i32 {
     let a: [u8; 4] = bytes[..4].try_into().expect("4 bytes");
-    if big_endian {
-        i32::from_be_bytes(a)
-    } else {
-        i32::from_le_bytes(a)
-    }
+    if big_endian { i32::from_be_bytes(a) } else { i32::from_le_bytes(a) }
 }
 
 impl SpkKernel {
@@ -166,15 +155,9 @@ impl SpkKernel {
             message: message.to_string(),
             reason: source.to_string(),
         };
-        let bad = |message: String| EphemerisError::BadFile {
-            path: path.clone(),
-            message,
-        };
+        let bad = |message: String| EphemerisError::BadFile { path: path.clone(), message };
         let file = File::open(&path).map_err(|e| io("cannot open", e))?;
-        let file_len = file
-            .metadata()
-            .map_err(|e| io("cannot read metadata", e))?
-            .len();
+        let file_len = file.metadata().map_err(|e| io("cannot read metadata", e))?.len();
         if file_len < DAF_RECORD_BYTES as u64 {
             return Err(bad(format!(
                 "the file has {file_len} bytes, fewer than one {DAF_RECORD_BYTES}-byte DAF record"
@@ -209,9 +192,7 @@ impl SpkKernel {
         let nd = i32_from(&record[8..12], big_endian);
         let ni = i32_from(&record[12..16], big_endian);
         if nd != 2 || ni != 6 {
-            return Err(bad(format!(
-                "summary format ND={nd}, NI={ni}; an SPK file has ND=2, NI=6"
-            )));
+            return Err(bad(format!("summary format ND={nd}, NI={ni}; an SPK file has ND=2, NI=6")));
         }
         let internal_name = String::from_utf8_lossy(&record[16..76]).trim().to_string();
         let fward = i32_from(&record[76..80], big_endian);
@@ -244,9 +225,7 @@ impl SpkKernel {
             let next_f = f64_from(&summary_rec[0..8], big_endian);
             let nsum_f = f64_from(&summary_rec[16..24], big_endian);
             if !(nsum_f >= 0.0 && nsum_f <= per_record as f64 && nsum_f.fract() == 0.0) {
-                return Err(bad(format!(
-                    "summary record {rec} claims {nsum_f} summaries"
-                )));
+                return Err(bad(format!("summary record {rec} claims {nsum_f} summaries")));
             }
             if !(next_f >= 0.0 && next_f.fract() == 0.0 && next_f <= total_records as f64) {
                 return Err(bad(format!(
@@ -258,17 +237,12 @@ impl SpkKernel {
                 let s = &summary_rec[off..off + summary_words * 8];
                 let start = f64_from(&s[0..8], big_endian);
                 let end = f64_from(&s[8..16], big_endian);
-                let ints: Vec<i32> = (0..6)
-                    .map(|k| i32_from(&s[16 + 4 * k..], big_endian))
-                    .collect();
+                let ints: Vec<i32> = (0..6).map(|k| i32_from(&s[16 + 4 * k..], big_endian)).collect();
                 let name = String::from_utf8_lossy(&name_rec[i * name_bytes..(i + 1) * name_bytes])
                     .trim_end_matches(['\0', ' '])
                     .to_string();
                 if ints[4] < 1 || ints[5] < ints[4] {
-                    return Err(bad(format!(
-                        "segment {name:?} has data addresses {}..{}",
-                        ints[4], ints[5]
-                    )));
+                    return Err(bad(format!("segment {name:?} has data addresses {}..{}", ints[4], ints[5])));
                 }
                 let summary = SegmentSummary {
                     name,
@@ -300,10 +274,7 @@ impl SpkKernel {
         if segments.is_empty() {
             return Err(bad("the file holds no segments".to_string()));
         }
-        let file_name = path
-            .file_name()
-            .map(|n| n.to_string_lossy().to_string())
-            .unwrap_or_default();
+        let file_name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
         let label = ephemeris_label(&file_name);
         let mut kernel = SpkKernel {
             path,
@@ -350,19 +321,12 @@ impl SpkKernel {
     /// Reads `count` double-precision words starting at 1-based DAF word `address`.
     pub fn read_words(&self, address: u64, count: usize) -> Result<Vec<f64>, EphemerisError> {
         let mut bytes = vec![0u8; count * 8];
-        read_exact_at(&self.file, &mut bytes, (address.max(1) - 1) * 8).map_err(|e| {
-            EphemerisError::Io {
-                path: self.path.clone(),
-                message: format!(
-                    "cannot read {count} words at address {address} (truncated file?)"
-                ),
-                reason: e.to_string(),
-            }
+        read_exact_at(&self.file, &mut bytes, (address.max(1) - 1) * 8).map_err(|e| EphemerisError::Io {
+            path: self.path.clone(),
+            message: format!("cannot read {count} words at address {address} (truncated file?)"),
+            reason: e.to_string(),
         })?;
-        Ok(bytes
-            .chunks_exact(8)
-            .map(|b| f64_from(b, self.big_endian))
-            .collect())
+        Ok(bytes.chunks_exact(8).map(|b| f64_from(b, self.big_endian)).collect())
     }
 
     /// Covered span `[first, last]` TDB seconds past J2000 for `target` relative to the SSB
@@ -374,20 +338,10 @@ impl SpkKernel {
             if id == 0 {
                 return Some((lo, hi));
             }
-            let segs: Vec<&Segment> = self
-                .segments
-                .iter()
-                .filter(|s| s.summary.target == id)
-                .collect();
+            let segs: Vec<&Segment> = self.segments.iter().filter(|s| s.summary.target == id).collect();
             let last = segs.last()?;
-            let s_lo = segs
-                .iter()
-                .map(|s| s.summary.start_seconds_tdb)
-                .fold(f64::INFINITY, f64::min);
-            let s_hi = segs
-                .iter()
-                .map(|s| s.summary.end_seconds_tdb)
-                .fold(f64::NEG_INFINITY, f64::max);
+            let s_lo = segs.iter().map(|s| s.summary.start_seconds_tdb).fold(f64::INFINITY, f64::min);
+            let s_hi = segs.iter().map(|s| s.summary.end_seconds_tdb).fold(f64::NEG_INFINITY, f64::max);
             lo = lo.max(s_lo);
             hi = hi.min(s_hi);
             id = last.summary.center;
@@ -410,18 +364,12 @@ impl SpkKernel {
             lo = 0.0;
             hi = 0.0;
         }
-        (
-            Instant::from_seconds_since_j2000(TimeScale::Tdb, lo),
-            Instant::from_seconds_since_j2000(TimeScale::Tdb, hi),
-        )
+        (Instant::from_seconds_since_j2000(TimeScale::Tdb, lo), Instant::from_seconds_since_j2000(TimeScale::Tdb, hi))
     }
 
     /// Bodies (of ours) that can be reached from the barycentre.
     pub fn available_bodies(&self) -> Vec<Body> {
-        Body::ALL
-            .into_iter()
-            .filter(|b| self.chain_span_seconds(b.naif_id()).is_some())
-            .collect()
+        Body::ALL.into_iter().filter(|b| self.chain_span_seconds(b.naif_id()).is_some()).collect()
     }
 
     /// Position (km) and velocity (km/s) of NAIF body `target` relative to its segment's
@@ -452,17 +400,12 @@ impl SpkKernel {
             if !any {
                 return Err(self.not_available(body));
             }
-            let (lo, hi) = self
-                .chain_span_seconds(body.naif_id())
-                .unwrap_or((0.0, 0.0));
+            let (lo, hi) = self.chain_span_seconds(body.naif_id()).unwrap_or((0.0, 0.0));
             return Err(EphemerisError::OutOfRange {
                 source_name: self.name(),
                 body,
                 instant: describe_instant(tdb),
-                span_start: describe_instant(&Instant::from_seconds_since_j2000(
-                    TimeScale::Tdb,
-                    lo,
-                )),
+                span_start: describe_instant(&Instant::from_seconds_since_j2000(TimeScale::Tdb, lo)),
                 span_end: describe_instant(&Instant::from_seconds_since_j2000(TimeScale::Tdb, hi)),
             });
         };
@@ -495,10 +438,7 @@ impl SpkKernel {
             if dir.components == 6 {
                 let position = chebyshev::evaluate3_values(&coefs[..3 * n], n, x);
                 let velocity = chebyshev::evaluate3_values(&coefs[3 * n..6 * n], n, x);
-                BodyState {
-                    position_km: position,
-                    velocity_km_per_s: velocity,
-                }
+                BodyState { position_km: position, velocity_km_per_s: velocity }
             } else {
                 let (position, slope) = chebyshev::evaluate3(coefs, n, x);
                 BodyState {
@@ -522,16 +462,13 @@ impl SpkKernel {
         RECORD_CACHE.with(|cell| {
             let mut guard = cell.borrow_mut();
             let (entries, next_victim) = &mut *guard;
-            let slot = entries
-                .iter()
-                .position(|e| e.kernel_id == self.kernel_id && e.segment == index);
+            let slot = entries.iter().position(|e| e.kernel_id == self.kernel_id && e.segment == index);
             if let Some(i) = slot
                 && entries[i].record == record
             {
                 return Ok(f(&entries[i].words));
             }
-            let address =
-                self.segments[index].summary.start_address + (record * dir.record_words) as u64;
+            let address = self.segments[index].summary.start_address + (record * dir.record_words) as u64;
             let words = self.read_words(address, dir.record_words)?;
             if words.len() < 2 || words[1].is_nan() || words[1] <= 0.0 || !words[0].is_finite() {
                 return Err(EphemerisError::BadFile {
@@ -544,12 +481,7 @@ impl SpkKernel {
                     ),
                 });
             }
-            let entry = CachedRecord {
-                kernel_id: self.kernel_id,
-                segment: index,
-                record,
-                words,
-            };
+            let entry = CachedRecord { kernel_id: self.kernel_id, segment: index, record, words };
             let i = match slot {
                 Some(i) => {
                     entries[i] = entry;
@@ -571,35 +503,19 @@ impl SpkKernel {
     }
 
     fn not_available(&self, body: Body) -> EphemerisError {
-        let available: Vec<String> = self
-            .available_bodies()
-            .iter()
-            .map(|b| b.to_string())
-            .collect();
+        let available: Vec<String> = self.available_bodies().iter().map(|b| b.to_string()).collect();
         EphemerisError::BodyNotAvailable {
             source_name: self.name(),
             body,
-            available: if available.is_empty() {
-                "none".to_string()
-            } else {
-                available.join(", ")
-            },
+            available: if available.is_empty() { "none".to_string() } else { available.join(", ") },
         }
     }
 }
 
 impl Ephemeris for SpkKernel {
     fn name(&self) -> String {
-        let file = self
-            .path
-            .file_name()
-            .map(|n| n.to_string_lossy().to_string())
-            .unwrap_or_default();
-        if self.label.is_empty() {
-            format!("SPK kernel {file}")
-        } else {
-            format!("SPK kernel {file} ({})", self.label)
-        }
+        let file = self.path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
+        if self.label.is_empty() { format!("SPK kernel {file}") } else { format!("SPK kernel {file} ({})", self.label) }
     }
 
     fn span(&self) -> (Instant, Instant) {
@@ -644,23 +560,14 @@ fn read_directory(
     big_endian: bool,
     path: &Path,
 ) -> Result<ChebyshevDirectory, EphemerisError> {
-    let bad = |message: String| EphemerisError::BadFile {
-        path: path.to_path_buf(),
-        message,
-    };
+    let bad = |message: String| EphemerisError::BadFile { path: path.to_path_buf(), message };
     if s.end_address < s.start_address + 3 {
-        return Err(bad(format!(
-            "segment {:?} is too short to hold a directory",
-            s.name
-        )));
+        return Err(bad(format!("segment {:?} is too short to hold a directory", s.name)));
     }
     let mut bytes = [0u8; 32];
     read_exact_at(file, &mut bytes, (s.end_address - 4) * 8).map_err(|e| EphemerisError::Io {
         path: path.to_path_buf(),
-        message: format!(
-            "cannot read the directory of segment {:?} (truncated file?)",
-            s.name
-        ),
+        message: format!("cannot read the directory of segment {:?} (truncated file?)", s.name),
         reason: e.to_string(),
     })?;
     let init = f64_from(&bytes[0..8], big_endian);
@@ -726,30 +633,12 @@ pub struct SegmentData {
 /// Writes a DAF/SPK file holding `segments` (at most 25, one summary record), with the
 /// given byte order. Used to make small test kernels sliced from DE440; jplephem and
 /// SPICE read the result.
-pub fn write_spk(
-    path: &Path,
-    big_endian: bool,
-    internal_name: &str,
-    segments: &[SegmentData],
-) -> std::io::Result<()> {
-    assert!(
-        segments.len() <= 25,
-        "write_spk writes one summary record (25 segments)"
-    );
-    let put_i32 = |buf: &mut Vec<u8>, v: i32| {
-        buf.extend_from_slice(&if big_endian {
-            v.to_be_bytes()
-        } else {
-            v.to_le_bytes()
-        })
-    };
-    let put_f64 = |buf: &mut Vec<u8>, v: f64| {
-        buf.extend_from_slice(&if big_endian {
-            v.to_be_bytes()
-        } else {
-            v.to_le_bytes()
-        })
-    };
+pub fn write_spk(path: &Path, big_endian: bool, internal_name: &str, segments: &[SegmentData]) -> std::io::Result<()> {
+    assert!(segments.len() <= 25, "write_spk writes one summary record (25 segments)");
+    let put_i32 =
+        |buf: &mut Vec<u8>, v: i32| buf.extend_from_slice(&if big_endian { v.to_be_bytes() } else { v.to_le_bytes() });
+    let put_f64 =
+        |buf: &mut Vec<u8>, v: f64| buf.extend_from_slice(&if big_endian { v.to_be_bytes() } else { v.to_le_bytes() });
     // Records: 1 file record, 2 summary, 3 names, data from record 4 (word 385).
     let mut data = Vec::new();
     let mut addresses = Vec::new();
@@ -787,14 +676,7 @@ pub fn write_spk(
     for (s, (a, z)) in segments.iter().zip(&addresses) {
         put_f64(&mut summary, s.start_seconds_tdb);
         put_f64(&mut summary, s.end_seconds_tdb);
-        for v in [
-            s.target,
-            s.center,
-            s.frame,
-            s.data_type,
-            *a as i32,
-            *z as i32,
-        ] {
+        for v in [s.target, s.center, s.frame, s.data_type, *a as i32, *z as i32] {
             put_i32(&mut summary, v);
         }
         let mut n = s.name.as_bytes().to_vec();
@@ -833,22 +715,8 @@ mod tests {
     /// Segment types other than 2 and 3, and frames other than J2000, are named when used.
     #[test]
     fn unsupported_type_and_frame_are_reported() {
-        let day = 86_400.0;
-        let words = vec![
-            day / 2.0,
-            day / 2.0,
-            1.0,
-            0.0,
-            0.0,
-            0.0,
-            0.0,
-            0.0,
-            0.0,
-            0.0,
-            day,
-            5.0,
-            1.0,
-        ];
+        let day = crate::constants::SECONDS_PER_DAY;
+        let words = vec![day / 2.0, day / 2.0, 1.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, day, 5.0, 1.0];
         let seg = |target, frame, data_type, words: Vec<f64>| SegmentData {
             name: format!("seg {target}"),
             start_seconds_tdb: 0.0,
@@ -863,36 +731,21 @@ mod tests {
         type2.extend_from_slice(&[1.0, 2.0, 3.0]);
         type2.extend_from_slice(&[0.0, day, 5.0, 1.0]);
         let p = tmp("unsupported.bsp");
-        write_spk(
-            &p,
-            false,
-            "TEST",
-            &[seg(10, 1, 13, words), seg(5, 17, 2, type2)],
-        )
-        .unwrap();
+        write_spk(&p, false, "TEST", &[seg(10, 1, 13, words), seg(5, 17, 2, type2)]).unwrap();
         let k = SpkKernel::open(&p).unwrap();
         let t = Instant::from_seconds_since_j2000(TimeScale::Tdb, 0.5 * day);
         let e = k.state(Body::Sun, &t).unwrap_err();
-        assert!(
-            matches!(
-                e,
-                EphemerisError::UnsupportedSegmentType { data_type: 13, .. }
-            ),
-            "{e}"
-        );
+        assert!(matches!(e, EphemerisError::UnsupportedSegmentType { data_type: 13, .. }), "{e}");
         assert!(e.to_string().contains("unsupported.bsp") && e.to_string().contains("type 13"));
         let e = k.state(Body::Jupiter, &t).unwrap_err();
-        assert!(
-            matches!(e, EphemerisError::UnsupportedFrame { frame: 17, .. }),
-            "{e}"
-        );
+        assert!(matches!(e, EphemerisError::UnsupportedFrame { frame: 17, .. }), "{e}");
     }
 
     /// A kernel written by `write_spk` with a known polynomial reads back in both byte orders.
     #[test]
     fn written_kernel_reads_back_in_both_byte_orders() {
         // One type-2 segment, target 10 wrt 0, 2 records of 1 day, x = 1000 + 10 t/86400 ...
-        let day = 86_400.0;
+        let day = crate::constants::SECONDS_PER_DAY;
         let mut words = Vec::new();
         for r in 0..2 {
             let mid = (r as f64 + 0.5) * day;
@@ -931,10 +784,7 @@ mod tests {
             assert!(matches!(e, EphemerisError::BodyNotAvailable { .. }), "{e}");
             let late = Instant::from_seconds_since_j2000(TimeScale::Tdb, 3.0 * day);
             let e = k.state(Body::Sun, &late).unwrap_err().to_string();
-            assert!(
-                e.contains("2000-01-01 12:00:00.000 TDB") && e.contains("2000-01-03 12:00:00.000"),
-                "{e}"
-            );
+            assert!(e.contains("2000-01-01 12:00:00.000 TDB") && e.contains("2000-01-03 12:00:00.000"), "{e}");
         }
     }
 }

@@ -40,7 +40,13 @@ pub struct LevenbergOptions {
 
 impl Default for LevenbergOptions {
     fn default() -> Self {
-        LevenbergOptions { max_iterations: 200, relative_tolerance: 1e-12, initial_damping: 1e-3, absolute_tolerance: 0.0, covariance: true }
+        LevenbergOptions {
+            max_iterations: 200,
+            relative_tolerance: 1e-12,
+            initial_damping: 1e-3,
+            absolute_tolerance: 0.0,
+            covariance: true,
+        }
     }
 }
 
@@ -79,7 +85,11 @@ fn chi2_of<M: LsqModel>(m: &M, params: &[f64], pred: &mut [f64]) -> f64 {
 /// Given: a model, starting parameters `start`. Returned: parameters, covariance, χ².
 /// Accuracy: converges to a local minimum; relative χ² tolerance per options.
 /// Source: Marquardt (1963); Press et al., Numerical Recipes 3rd ed. (2007), §15.5.2.
-pub fn levenberg_marquardt<M: LsqModel>(model: &M, start: &[f64], options: &LevenbergOptions) -> Result<NonlinearFit, FitError> {
+pub fn levenberg_marquardt<M: LsqModel>(
+    model: &M,
+    start: &[f64],
+    options: &LevenbergOptions,
+) -> Result<NonlinearFit, FitError> {
     let p = model.n_params();
     let n = model.n_obs();
     if start.len() != p {
@@ -90,7 +100,11 @@ pub fn levenberg_marquardt<M: LsqModel>(model: &M, start: &[f64], options: &Leve
     }
     let (y, w) = (model.observed(), model.weight());
     if y.len() != n || w.len() != n {
-        return Err(FitError::LengthMismatch { what: "observations or weights", expected: n, got: y.len().min(w.len()) });
+        return Err(FitError::LengthMismatch {
+            what: "observations or weights",
+            expected: n,
+            got: y.len().min(w.len()),
+        });
     }
     if let Some((i, &v)) = w.iter().enumerate().find(|(_, v)| !(v.is_finite() && **v > 0.0)) {
         return Err(FitError::BadWeight { index: i, value: v });
@@ -182,16 +196,36 @@ pub fn levenberg_marquardt<M: LsqModel>(model: &M, start: &[f64], options: &Leve
 #[cfg(test)]
 mod tests {
     use super::*;
-    struct Expo { t: Vec<f64>, y: Vec<f64>, w: Vec<f64> }
+    struct Expo {
+        t: Vec<f64>,
+        y: Vec<f64>,
+        w: Vec<f64>,
+    }
     impl LsqModel for Expo {
-        fn n_params(&self) -> usize { 2 }
-        fn n_obs(&self) -> usize { self.t.len() }
-        fn predict(&self, p: &[f64], out: &mut [f64]) { for (o, t) in out.iter_mut().zip(&self.t) { *o = p[0] * (-p[1] * t).exp(); } }
-        fn jacobian(&self, p: &[f64], j: &mut [f64]) {
-            for (i, t) in self.t.iter().enumerate() { let e = (-p[1] * t).exp(); j[2 * i] = e; j[2 * i + 1] = -p[0] * t * e; }
+        fn n_params(&self) -> usize {
+            2
         }
-        fn observed(&self) -> &[f64] { &self.y }
-        fn weight(&self) -> &[f64] { &self.w }
+        fn n_obs(&self) -> usize {
+            self.t.len()
+        }
+        fn predict(&self, p: &[f64], out: &mut [f64]) {
+            for (o, t) in out.iter_mut().zip(&self.t) {
+                *o = p[0] * (-p[1] * t).exp();
+            }
+        }
+        fn jacobian(&self, p: &[f64], j: &mut [f64]) {
+            for (i, t) in self.t.iter().enumerate() {
+                let e = (-p[1] * t).exp();
+                j[2 * i] = e;
+                j[2 * i + 1] = -p[0] * t * e;
+            }
+        }
+        fn observed(&self) -> &[f64] {
+            &self.y
+        }
+        fn weight(&self) -> &[f64] {
+            &self.w
+        }
     }
     #[test]
     fn recovers_noise_free_exponential() {

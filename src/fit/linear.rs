@@ -147,6 +147,9 @@ mod tests {
         let design = vec![1.0, 2.0, 1.0, 2.0, 1.0, 2.0];
         assert!(matches!(weighted_linear_lsq(&design, 2, &[1.0, 2.0, 3.0], &[1.0; 3]), Err(FitError::Singular { .. })));
         assert!(matches!(weighted_linear_lsq(&[1.0], 1, &[1.0], &[0.0]), Err(FitError::BadWeight { .. })));
-        assert!(matches!(weighted_linear_lsq(&[1.0, 1.0], 2, &[1.0], &[1.0]), Err(FitError::TooFewObservations { .. })));
+        assert!(matches!(
+            weighted_linear_lsq(&[1.0, 1.0], 2, &[1.0], &[1.0]),
+            Err(FitError::TooFewObservations { .. })
+        ));
     }
 }

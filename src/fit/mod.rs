@@ -6,12 +6,14 @@
 //! Every stage that fits a model (search, O–C, pulsar timing) comes here; nothing here
 //! knows about light curves.
 
+pub mod estimates;
 pub mod levenberg;
 pub mod linear;
 pub mod random;
 pub mod robust;
 pub mod small;
 
+pub use estimates::{Estimate, Estimates, Parameter, UnknownParameter, parse_parameter};
 pub use levenberg::{LevenbergOptions, LsqModel, NonlinearFit, levenberg_marquardt};
 pub use linear::{LinearFit, weighted_linear_lsq};
 pub use random::SeededRng;
@@ -32,7 +34,9 @@ pub enum FitError {
     #[error("{what} at index {index} is {value}; finite numbers are required")]
     NonFinite { what: &'static str, index: usize, value: f64 },
     /// The design matrix does not determine all parameters.
-    #[error("the parameters are not determined by the data (condition number {condition:.3e}); remove a parameter or add data")]
+    #[error(
+        "the parameters are not determined by the data (condition number {condition:.3e}); remove a parameter or add data"
+    )]
     Singular { condition: f64 },
     /// The numerical decomposition failed.
     #[error("linear algebra failure: {0}")]

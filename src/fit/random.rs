@@ -93,9 +93,18 @@ mod tests {
     }
     #[test]
     fn streams_differ_and_repeat() {
-        let a: Vec<u64> = { let mut r = SeededRng::for_stream(1, 2); (0..4).map(|_| r.next_u64()).collect() };
-        let b: Vec<u64> = { let mut r = SeededRng::for_stream(1, 2); (0..4).map(|_| r.next_u64()).collect() };
-        let c: Vec<u64> = { let mut r = SeededRng::for_stream(1, 3); (0..4).map(|_| r.next_u64()).collect() };
+        let a: Vec<u64> = {
+            let mut r = SeededRng::for_stream(1, 2);
+            (0..4).map(|_| r.next_u64()).collect()
+        };
+        let b: Vec<u64> = {
+            let mut r = SeededRng::for_stream(1, 2);
+            (0..4).map(|_| r.next_u64()).collect()
+        };
+        let c: Vec<u64> = {
+            let mut r = SeededRng::for_stream(1, 3);
+            (0..4).map(|_| r.next_u64()).collect()
+        };
         assert_eq!(a, b);
         assert_ne!(a, c);
     }

@@ -27,9 +27,19 @@ pub struct PhaseBin {
 }
 
 /// Bins a folded light curve into `n_bins` equal phase bins.
-pub fn bin_folded(phase: &[f64], value: &[f64], error: Option<&[f64]>, n_bins: usize, statistic: BinStatistic) -> Result<Vec<PhaseBin>, SearchError> {
+pub fn bin_folded(
+    phase: &[f64],
+    value: &[f64],
+    error: Option<&[f64]>,
+    n_bins: usize,
+    statistic: BinStatistic,
+) -> Result<Vec<PhaseBin>, SearchError> {
     if n_bins == 0 || n_bins > 1_000_000 {
-        return Err(SearchError::InvalidParameter { name: "number of phase bins", value: n_bins as f64, expected: "between 1 and 1000000" });
+        return Err(SearchError::InvalidParameter {
+            name: "number of phase bins",
+            value: n_bins as f64,
+            expected: "between 1 and 1000000",
+        });
     }
     if value.len() != phase.len() {
         return Err(SearchError::LengthMismatch { what: "values", expected: phase.len(), got: value.len() });
@@ -61,7 +71,11 @@ pub fn bin_folded(phase: &[f64], value: &[f64], error: Option<&[f64]>, n_bins: u
             }
             let vals: Vec<f64> = idx.iter().map(|&i| value[i]).collect();
             let mean = vals.iter().sum::<f64>() / n as f64;
-            let sd = if n > 1 { (vals.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / (n - 1) as f64).sqrt() } else { f64::NAN };
+            let sd = if n > 1 {
+                (vals.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / (n - 1) as f64).sqrt()
+            } else {
+                f64::NAN
+            };
             match statistic {
                 BinStatistic::Mean => match error {
                     Some(e) => {

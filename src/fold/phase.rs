@@ -14,7 +14,11 @@ pub fn phase_of(time_d: f64, period_d: f64, epoch_d: f64) -> f64 {
 /// Phases of all times; refuses a non-positive or non-finite period or epoch.
 pub fn fold_times(time_d: &[f64], period_d: f64, epoch_d: f64) -> Result<Vec<f64>, SearchError> {
     if !(period_d.is_finite() && period_d > 0.0) {
-        return Err(SearchError::InvalidParameter { name: "period (d)", value: period_d, expected: "a finite period > 0" });
+        return Err(SearchError::InvalidParameter {
+            name: "period (d)",
+            value: period_d,
+            expected: "a finite period > 0",
+        });
     }
     if !epoch_d.is_finite() {
         return Err(SearchError::InvalidParameter { name: "epoch (d)", value: epoch_d, expected: "a finite time" });

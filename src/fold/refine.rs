@@ -77,14 +77,28 @@ pub fn refine_period(series: &Series, freq_guess_per_day: f64, harmonics: usize)
         return Err(SearchError::InvalidParameter { name: "harmonics", value: harmonics as f64, expected: "1 to 10" });
     }
     if !(freq_guess_per_day.is_finite() && freq_guess_per_day > 0.0) {
-        return Err(SearchError::InvalidParameter { name: "frequency guess (c/d)", value: freq_guess_per_day, expected: "a finite frequency > 0" });
+        return Err(SearchError::InvalidParameter {
+            name: "frequency guess (c/d)",
+            value: freq_guess_per_day,
+            expected: "a finite frequency > 0",
+        });
     }
     let np = 2 + 2 * harmonics;
     if series.len() <= np {
-        return Err(SearchError::TooFewPoints { needed: np + 1, got: series.len(), dropped: series.n_dropped, reason: "period refinement with this many harmonics" });
+        return Err(SearchError::TooFewPoints {
+            needed: np + 1,
+            got: series.len(),
+            dropped: series.n_dropped,
+            reason: "period refinement with this many harmonics",
+        });
     }
     let t_mid = 0.5 * (series.time_d[0] + series.time_d[series.len() - 1]);
-    let model = Harmonic { t: series.time_d.iter().map(|t| t - t_mid).collect(), y: &series.value, w: &series.weight, k: harmonics };
+    let model = Harmonic {
+        t: series.time_d.iter().map(|t| t - t_mid).collect(),
+        y: &series.value,
+        w: &series.weight,
+        k: harmonics,
+    };
     // Linear start at the guessed frequency: a few LM iterations with f nearly fixed would
     // do, but a zero start for the coefficients converges as well for a well-placed guess.
     let mut p0 = vec![0.0; np];
@@ -106,10 +120,22 @@ pub fn refine_period(series: &Series, freq_guess_per_day: f64, harmonics: usize)
     let fit = levenberg_marquardt(&model, &p0, &LevenbergOptions::default())?;
     let f = fit.params[0];
     if (f - freq_guess_per_day).abs() > 1.0 / series.baseline_d() {
-        return Err(SearchError::InvalidParameter { name: "frequency guess (c/d)", value: freq_guess_per_day, expected: "a guess within 1/baseline of a least-squares optimum (the fit wandered off: take the guess from a periodogram peak)" });
+        return Err(SearchError::InvalidParameter {
+            name: "frequency guess (c/d)",
+            value: freq_guess_per_day,
+            expected: "a guess within 1/baseline of a least-squares optimum (the fit wandered off: take the guess from a periodogram peak)",
+        });
     }
     let red = fit.chi2 / fit.dof.max(1) as f64;
     let scale = if series.has_errors { red.max(1.0).sqrt() } else { red.sqrt() };
     let sf = fit.sigma(0) * scale;
-    Ok(RefinedPeriod { freq_per_day: f, freq_err_per_day: sf, period_d: 1.0 / f, period_err_d: sf / (f * f), harmonics, chi2: fit.chi2, dof: fit.dof })
+    Ok(RefinedPeriod {
+        freq_per_day: f,
+        freq_err_per_day: sf,
+        period_d: 1.0 / f,
+        period_err_d: sf / (f * f),
+        harmonics,
+        chi2: fit.chi2,
+        dof: fit.dof,
+    })
 }

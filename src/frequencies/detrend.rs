@@ -19,11 +19,20 @@ pub struct PolynomialTrend {
 /// level. Source: weighted linear least squares (see [`crate::fit::linear`]).
 pub fn remove_polynomial(series: &Series, degree: usize) -> Result<PolynomialTrend, SearchError> {
     if degree > 10 {
-        return Err(SearchError::InvalidParameter { name: "polynomial degree", value: degree as f64, expected: "0 to 10" });
+        return Err(SearchError::InvalidParameter {
+            name: "polynomial degree",
+            value: degree as f64,
+            expected: "0 to 10",
+        });
     }
     let p = degree + 1;
     if series.len() <= p {
-        return Err(SearchError::TooFewPoints { needed: p + 1, got: series.len(), dropped: series.n_dropped, reason: "a polynomial trend of this degree" });
+        return Err(SearchError::TooFewPoints {
+            needed: p + 1,
+            got: series.len(),
+            dropped: series.n_dropped,
+            reason: "a polynomial trend of this degree",
+        });
     }
     let t0 = series.time_d[0];
     let t1 = series.time_d[series.len() - 1];
@@ -84,8 +93,12 @@ pub fn remove_segment_offsets(series: &Series, gap_d: f64) -> Result<SegmentOffs
         bw[b] += w;
         bwy[b] += w * series.value[i];
     }
-    let offsets: Vec<Vec<f64>> = (0..nseg).map(|s| (0..nb).map(|b| if sw[s][b] > 0.0 { swy[s][b] / sw[s][b] } else { f64::NAN }).collect()).collect();
-    let detrended = (0..n).map(|i| series.value[i] - offsets[segment[i]][series.band[i]] + bwy[series.band[i]] / bw[series.band[i]]).collect();
+    let offsets: Vec<Vec<f64>> = (0..nseg)
+        .map(|s| (0..nb).map(|b| if sw[s][b] > 0.0 { swy[s][b] / sw[s][b] } else { f64::NAN }).collect())
+        .collect();
+    let detrended = (0..n)
+        .map(|i| series.value[i] - offsets[segment[i]][series.band[i]] + bwy[series.band[i]] / bw[series.band[i]])
+        .collect();
     Ok(SegmentOffsets { segment, offsets, detrended })
 }
 
@@ -95,7 +108,8 @@ mod tests {
     #[test]
     fn removes_exact_polynomial_and_offsets() {
         let t: Vec<f64> = (0..50).map(|i| i as f64 * 0.3).collect();
-        let y: Vec<f64> = t.iter().map(|&t| 5.0 + 0.1 * t - 0.01 * t * t + if (t as i64) % 2 == 0 { 1e-3 } else { -1e-3 }).collect();
+        let y: Vec<f64> =
+            t.iter().map(|&t| 5.0 + 0.1 * t - 0.01 * t * t + if (t as i64) % 2 == 0 { 1e-3 } else { -1e-3 }).collect();
         let s = Series::from_arrays(&t, &y, None).unwrap();
         let tr = remove_polynomial(&s, 2).unwrap();
         let m = tr.detrended.iter().sum::<f64>() / 50.0;

@@ -125,15 +125,31 @@ pub fn fit_sinusoids(series: &Series, start: &[Sinusoid]) -> Result<MultiSineFit
     let n_bands = series.n_bands();
     let n_par = n_bands + 3 * start.len();
     if series.len() <= n_par {
-        return Err(SearchError::TooFewPoints { needed: n_par + 1, got: series.len(), dropped: series.n_dropped, reason: "a fit of this many sinusoids" });
+        return Err(SearchError::TooFewPoints {
+            needed: n_par + 1,
+            got: series.len(),
+            dropped: series.n_dropped,
+            reason: "a fit of this many sinusoids",
+        });
     }
     for s in start {
         if !(s.freq_per_day.is_finite() && s.freq_per_day > 0.0) {
-            return Err(SearchError::InvalidParameter { name: "starting frequency (c/d)", value: s.freq_per_day, expected: "a finite frequency > 0" });
+            return Err(SearchError::InvalidParameter {
+                name: "starting frequency (c/d)",
+                value: s.freq_per_day,
+                expected: "a finite frequency > 0",
+            });
         }
     }
     let t_mid = 0.5 * (series.time_d[0] + series.time_d[series.len() - 1]);
-    let model = Model { t: series.time_d.iter().map(|t| t - t_mid).collect(), band: &series.band, n_bands, n_comp: start.len(), y: &series.value, w: &series.weight };
+    let model = Model {
+        t: series.time_d.iter().map(|t| t - t_mid).collect(),
+        band: &series.band,
+        n_bands,
+        n_comp: start.len(),
+        y: &series.value,
+        w: &series.weight,
+    };
     let mut p0 = vec![0.0; n_par];
     let mut sw = vec![0.0; n_bands];
     for i in 0..series.len() {
@@ -174,5 +190,12 @@ pub fn fit_sinusoids(series: &Series, start: &[Sinusoid]) -> Result<MultiSineFit
             }
         })
         .collect();
-    Ok(MultiSineFit { zero_points: fit.params[..n_bands].to_vec(), components, residuals, residual_rms: rms, chi2: fit.chi2, converged: fit.converged })
+    Ok(MultiSineFit {
+        zero_points: fit.params[..n_bands].to_vec(),
+        components,
+        residuals,
+        residual_rms: rms,
+        chi2: fit.chi2,
+        converged: fit.converged,
+    })
 }

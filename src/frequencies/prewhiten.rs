@@ -107,12 +107,24 @@ pub fn combination_flags(freqs_per_day: &[f64], k: usize, tol: f64) -> Vec<Combi
 }
 
 /// Extracts frequencies from `series` on `grid` (see module doc).
-pub fn prewhiten(series: &Series, grid: &FrequencyGrid, options: &PrewhitenOptions) -> Result<Prewhitening, SearchError> {
+pub fn prewhiten(
+    series: &Series,
+    grid: &FrequencyGrid,
+    options: &PrewhitenOptions,
+) -> Result<Prewhitening, SearchError> {
     if !(options.snr_stop.is_finite() && options.snr_stop > 0.0) {
-        return Err(SearchError::InvalidParameter { name: "signal-to-noise limit", value: options.snr_stop, expected: "a finite number > 0 (4 is customary)" });
+        return Err(SearchError::InvalidParameter {
+            name: "signal-to-noise limit",
+            value: options.snr_stop,
+            expected: "a finite number > 0 (4 is customary)",
+        });
     }
     if !(options.noise_box_per_day.is_finite() && options.noise_box_per_day > 2.0 * grid.step_per_day) {
-        return Err(SearchError::InvalidParameter { name: "noise box (c/d)", value: options.noise_box_per_day, expected: "a width covering several grid steps" });
+        return Err(SearchError::InvalidParameter {
+            name: "noise box (c/d)",
+            value: options.noise_box_per_day,
+            expected: "a width covering several grid steps",
+        });
     }
     let resolution = 1.0 / series.baseline_d();
     let mut accepted: Vec<ExtractedFrequency> = Vec::new();
@@ -121,7 +133,8 @@ pub fn prewhiten(series: &Series, grid: &FrequencyGrid, options: &PrewhitenOptio
     let mut zero_points = vec![series.weighted_mean(); series.n_bands()];
     let mean0 = series.weighted_mean();
     let sw0: f64 = series.weight.iter().sum();
-    let mut residual_rms = (series.value.iter().zip(&series.weight).map(|(v, w)| w * (v - mean0) * (v - mean0)).sum::<f64>() / sw0).sqrt();
+    let mut residual_rms =
+        (series.value.iter().zip(&series.weight).map(|(v, w)| w * (v - mean0) * (v - mean0)).sum::<f64>() / sw0).sqrt();
     let mut stop = StopReason::MaxFrequencies;
     while accepted.len() < options.max_frequencies {
         if series.len() <= series.n_bands() + 3 * (current.len() + 1) {
@@ -133,12 +146,20 @@ pub fn prewhiten(series: &Series, grid: &FrequencyGrid, options: &PrewhitenOptio
         let Some(k) = (0..amp.len()).max_by(|&a, &b| amp[a].total_cmp(&amp[b])) else { break };
         let f = spec.grid.freq_per_day(k);
         // starting amplitude and phase from a linear fit on the residuals
-        let design: Vec<f64> = residual_series.time_d.iter().flat_map(|&t| {
-            let (s, c) = (TAU * f * t).sin_cos();
-            [1.0, c, s]
-        }).collect();
+        let design: Vec<f64> = residual_series
+            .time_d
+            .iter()
+            .flat_map(|&t| {
+                let (s, c) = (TAU * f * t).sin_cos();
+                [1.0, c, s]
+            })
+            .collect();
         let lin = weighted_linear_lsq(&design, 3, &residual_series.value, &residual_series.weight)?;
-        let cand = Sinusoid { freq_per_day: f, amplitude: lin.params[1].hypot(lin.params[2]), phase_cycles: lin.params[2].atan2(lin.params[1]) / TAU };
+        let cand = Sinusoid {
+            freq_per_day: f,
+            amplitude: lin.params[1].hypot(lin.params[2]),
+            phase_cycles: lin.params[2].atan2(lin.params[1]) / TAU,
+        };
         let mut trial = current.clone();
         trial.push(cand);
         let fit = fit_sinusoids(series, &trial)?;

@@ -121,16 +121,21 @@ pub fn kwee_van_woerden(time_d: &[f64], value: &[f64]) -> Result<KweeVanWoerden,
         )));
     }
     let pairs = max_pairs(jc - 1, m).min(max_pairs(jc, m)).min(max_pairs(jc + 1, m));
-    let (s_minus, s_0, s_plus) = (sum_of_squares(&grid, jc - 1, pairs), sum_of_squares(&grid, jc, pairs), sum_of_squares(&grid, jc + 1, pairs));
+    let (s_minus, s_0, s_plus) =
+        (sum_of_squares(&grid, jc - 1, pairs), sum_of_squares(&grid, jc, pairs), sum_of_squares(&grid, jc + 1, pairs));
     // Parabola in u = (T − T_jc)/(Δt/2).
     let a_u = 0.5 * (s_minus + s_plus) - s_0;
     let b_u = 0.5 * (s_plus - s_minus);
     if !(a_u > 0.0) {
-        return Err(MinimaError::NoExtremum("the reflection sum has no minimum (the branches are not symmetric about any trial centre)".into()));
+        return Err(MinimaError::NoExtremum(
+            "the reflection sum has no minimum (the branches are not symmetric about any trial centre)".into(),
+        ));
     }
     let u0 = -b_u / (2.0 * a_u);
     if u0.abs() > 1.5 {
-        return Err(MinimaError::NoExtremum(format!("the parabola through the reflection sums peaks {u0:.2} half-steps from the best trial centre")));
+        return Err(MinimaError::NoExtremum(format!(
+            "the parabola through the reflection sums peaks {u0:.2} half-steps from the best trial centre"
+        )));
     }
     let s_min = s_0 - b_u * b_u / (4.0 * a_u);
     if !(s_min > 0.0) {
@@ -143,11 +148,23 @@ pub fn kwee_van_woerden(time_d: &[f64], value: &[f64]) -> Result<KweeVanWoerden,
     let observations_used = time_d.iter().filter(|&&t| (t - centre_d).abs() <= reach).count();
     let z = observations_used as f64 / 4.0;
     if z <= 1.0 {
-        return Err(MinimaError::TooFewPoints { method: "the Kwee–van Woerden error (Z = N/4 > 1)", needed: 5, got: observations_used });
+        return Err(MinimaError::TooFewPoints {
+            method: "the Kwee–van Woerden error (Z = N/4 > 1)",
+            needed: 5,
+            got: observations_used,
+        });
     }
     // (4ac − b²)/(4a²(Z − 1)) = S(T₀) / (a (Z − 1)).
     let error_d = (s_min / (a * (z - 1.0))).sqrt();
-    Ok(KweeVanWoerden { centre_d, error_d, pairs, observations_used, independent_pairs: z, grid_step_d: h, sum_of_squares_min: s_min })
+    Ok(KweeVanWoerden {
+        centre_d,
+        error_d,
+        pairs,
+        observations_used,
+        independent_pairs: z,
+        grid_step_d: h,
+        sum_of_squares_min: s_min,
+    })
 }
 
 #[cfg(test)]
@@ -173,7 +190,10 @@ mod tests {
         let mut rng = SeededRng::new(3);
         let t: Vec<f64> = (0..60).map(|i| 0.004 * i as f64 + 0.001 * rng.uniform()).collect();
         let c = 0.121;
-        let v: Vec<f64> = t.iter().map(|x| 10.0 + 0.4 * (-(x - c) * (x - c) / (2.0 * 0.04f64.powi(2))).exp() + 0.005 * rng.normal()).collect();
+        let v: Vec<f64> = t
+            .iter()
+            .map(|x| 10.0 + 0.4 * (-(x - c) * (x - c) / (2.0 * 0.04f64.powi(2))).exp() + 0.005 * rng.normal())
+            .collect();
         let k = kwee_van_woerden(&t, &v).unwrap();
         assert!((k.centre_d - c).abs() < 5.0 * k.error_d, "{k:?}");
         let neg: Vec<f64> = v.iter().map(|x| -x).collect();

@@ -21,20 +21,15 @@ pub mod segmentation;
 pub mod symmetric_fit;
 
 pub use kwee_van_woerden::{KweeVanWoerden, kwee_van_woerden};
-pub use segmentation::{EventEphemeris, EventWindow, SegmentOptions, Segment, SkipReason, SkippedEvent, segment_events};
+pub use segmentation::{
+    EventEphemeris, EventWindow, Segment, SegmentOptions, SkipReason, SkippedEvent, segment_events,
+};
 pub use symmetric_fit::{SymmetricFit, SymmetricOptions, SymmetricShape, fit_symmetric};
 
 use crate::fit::FitError;
 use crate::time::Instant;
 
-/// How the values of a light curve are written.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
-pub enum Brightness {
-    /// Magnitudes: a larger value is fainter.
-    Magnitude,
-    /// Fluxes (any linear unit): a larger value is brighter.
-    Flux,
-}
+pub use crate::light_curve::Brightness;
 
 /// What is timed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -122,7 +117,9 @@ pub enum MinimaError {
     #[error("{what} at index {index} is {value}; finite numbers are required")]
     NonFinite { what: &'static str, index: usize, value: f64 },
     /// Times not strictly increasing.
-    #[error("time at index {index} ({time_d} d) does not follow the previous one ({previous_d} d); sort the light curve and remove repeated times")]
+    #[error(
+        "time at index {index} ({time_d} d) does not follow the previous one ({previous_d} d); sort the light curve and remove repeated times"
+    )]
     UnsortedTimes { index: usize, time_d: f64, previous_d: f64 },
     /// An uncertainty that is zero, negative or not finite.
     #[error("uncertainty at index {index} is {value}; uncertainties must be finite and > 0")]
@@ -195,9 +192,16 @@ pub struct EventCurve<'a> {
 /// that falls outside its window) are returned in `skipped` with their reason — never
 /// dropped. Bootstrap streams are seeded by `seed` and the cycle number, so results do not
 /// depend on which events are present or on thread count.
-pub fn time_events(curve: &EventCurve, ephemeris: &EventEphemeris, window: EventWindow, segmenting: &SegmentOptions, method: &TimingMethod) -> Result<EventTimings, MinimaError> {
+pub fn time_events(
+    curve: &EventCurve,
+    ephemeris: &EventEphemeris,
+    window: EventWindow,
+    segmenting: &SegmentOptions,
+    method: &TimingMethod,
+) -> Result<EventTimings, MinimaError> {
     validate(curve.time_d, curve.value, curve.error)?;
-    let (segments, mut skipped, empty_windows) = segment_events(curve.time_d, curve.reference, ephemeris, window, segmenting)?;
+    let (segments, mut skipped, empty_windows) =
+        segment_events(curve.time_d, curve.reference, ephemeris, window, segmenting)?;
     let extremum = if ephemeris.kind == crate::oc::EventKind::Maximum { Extremum::Maximum } else { Extremum::Minimum };
     let half_width_d = window.half_width_d(ephemeris.period_d);
     let mut timed = Vec::new();
@@ -211,7 +215,8 @@ pub fn time_events(curve: &EventCurve, ephemeris: &EventEphemeris, window: Event
             TimingMethod::Symmetric(o) => {
                 let mut o = *o;
                 o.seed = o.seed.wrapping_add((s.cycle * 2.0).round() as i64 as u64);
-                fit_symmetric(t, v, e, peak_sign(curve.brightness, extremum), s.predicted_d, &o).map(|f| (f.centre_d, f.error_covariance_d, f.error_bootstrap_d))
+                fit_symmetric(t, v, e, peak_sign(curve.brightness, extremum), s.predicted_d, &o)
+                    .map(|f| (f.centre_d, f.error_covariance_d, f.error_bootstrap_d))
             }
         };
         match result {

@@ -10,6 +10,7 @@
 //! window holds no point at all are counted, not listed.
 
 use super::MinimaError;
+use crate::constants::SECONDS_PER_DAY;
 use crate::oc::EventKind;
 use crate::time::Instant;
 
@@ -122,10 +123,16 @@ impl std::fmt::Display for SkipReason {
                 before,
                 after
             ),
-            SkipReason::TooFewPoints { got, needed } => write!(f, "only {got} points in the window; at least {needed} needed"),
+            SkipReason::TooFewPoints { got, needed } => {
+                write!(f, "only {got} points in the window; at least {needed} needed")
+            }
             SkipReason::Failed(m) => write!(f, "{m}"),
             SkipReason::CentreOutside { centre_d, predicted_d } => {
-                write!(f, "the measured centre is {:.6} d from the predicted one, outside the window or the points", centre_d - predicted_d)
+                write!(
+                    f,
+                    "the measured centre is {:.6} d from the predicted one, outside the window or the points",
+                    centre_d - predicted_d
+                )
             }
         }
     }
@@ -194,12 +201,15 @@ pub fn segment_events(
     let Some((&first, &last)) = time_d.first().zip(time_d.last()) else {
         return Ok((segments, skipped, empty));
     };
-    let epoch_d = ephemeris.epoch.seconds_since(&reference) / 86_400.0;
+    let epoch_d = ephemeris.epoch.seconds_since(&reference) / SECONDS_PER_DAY;
     let k = ephemeris.kind.cycle_offset();
     let e_lo = ((first - w - epoch_d) / p - k).ceil();
     let e_hi = ((last + w - epoch_d) / p - k).floor();
     if e_hi - e_lo > MAX_EVENTS {
-        return Err(MinimaError::BadOption(format!("the period {p} d predicts {:.0} events in the light curve; check the period", e_hi - e_lo)));
+        return Err(MinimaError::BadOption(format!(
+            "the period {p} d predicts {:.0} events in the light curve; check the period",
+            e_hi - e_lo
+        )));
     }
     let mut e = e_lo;
     while e <= e_hi {
@@ -228,7 +238,14 @@ pub fn segment_events(
             None
         };
         match reason {
-            Some(reason) => skipped.push(SkippedEvent { cycle, predicted_d, points: n, first_index: lo, last_index: hi - 1, reason }),
+            Some(reason) => skipped.push(SkippedEvent {
+                cycle,
+                predicted_d,
+                points: n,
+                first_index: lo,
+                last_index: hi - 1,
+                reason,
+            }),
             None => segments.push(Segment { cycle, predicted_d, first_index: lo, last_index: hi - 1 }),
         }
     }
@@ -243,12 +260,23 @@ mod tests {
     #[test]
     fn events_cut_and_reasons_given() {
         let reference = Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.0);
-        let eph = EventEphemeris { epoch: Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.25), period_d: 1.0, kind: EventKind::Primary };
+        let eph = EventEphemeris {
+            epoch: Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.25),
+            period_d: 1.0,
+            kind: EventKind::Primary,
+        };
         // Cycle 0 at 0.25 d: full coverage; cycle 1 at 1.25: only before; cycle 2 at 2.25: 4 points.
         let mut t: Vec<f64> = (0..40).map(|i| 0.15 + 0.005 * i as f64).collect();
         t.extend((0..10).map(|i| 1.16 + 0.005 * i as f64));
         t.extend([2.2, 2.23, 2.27, 2.3]);
-        let (seg, skip, empty) = segment_events(&t, reference, &eph, EventWindow::HalfWidthPhase(0.1), &SegmentOptions { min_points: 10, min_points_per_branch: 2 }).unwrap();
+        let (seg, skip, empty) = segment_events(
+            &t,
+            reference,
+            &eph,
+            EventWindow::HalfWidthPhase(0.1),
+            &SegmentOptions { min_points: 10, min_points_per_branch: 2 },
+        )
+        .unwrap();
         assert_eq!(seg.len(), 1);
         assert_eq!(seg[0].cycle, 0.0);
         assert_eq!(seg[0].points(), 40);
@@ -257,9 +285,12 @@ mod tests {
         assert!(matches!(skip[1].reason, SkipReason::TooFewPoints { got: 4, needed: 10 }));
         assert_eq!(empty, 0);
         let sec = EventEphemeris { kind: EventKind::Secondary, ..eph };
-        let (seg, skip, empty) = segment_events(&t, reference, &sec, EventWindow::HalfWidthDays(0.05), &SegmentOptions::default()).unwrap();
+        let (seg, skip, empty) =
+            segment_events(&t, reference, &sec, EventWindow::HalfWidthDays(0.05), &SegmentOptions::default()).unwrap();
         assert!(seg.is_empty() && skip.is_empty());
         assert_eq!(empty, 2, "secondaries at 0.75 and 1.75 d have no points");
-        assert!(segment_events(&t, reference, &eph, EventWindow::HalfWidthPhase(0.6), &SegmentOptions::default()).is_err());
+        assert!(
+            segment_events(&t, reference, &eph, EventWindow::HalfWidthPhase(0.6), &SegmentOptions::default()).is_err()
+        );
     }
 }

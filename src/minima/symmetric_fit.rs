@@ -170,7 +170,8 @@ fn start(shape: SymmetricShape, x: &[f64], y: &[f64], w: &[f64], sign: f64) -> R
         SymmetricShape::Polynomial4 => vec![x0, top, c2, 0.0],
         SymmetricShape::Gaussian => {
             let edge = {
-                let outer: Vec<f64> = x.iter().zip(y).filter(|(xi, _)| (**xi - x0).abs() > 0.6).map(|(_, yi)| *yi).collect();
+                let outer: Vec<f64> =
+                    x.iter().zip(y).filter(|(xi, _)| (**xi - x0).abs() > 0.6).map(|(_, yi)| *yi).collect();
                 if outer.is_empty() { c0 + c2 } else { outer.iter().sum::<f64>() / outer.len() as f64 }
             };
             vec![x0, edge, top - edge, 0.35]
@@ -178,7 +179,13 @@ fn start(shape: SymmetricShape, x: &[f64], y: &[f64], w: &[f64], sign: f64) -> R
     })
 }
 
-fn solve(shape: SymmetricShape, x: Vec<f64>, y: &[f64], w: &[f64], p0: &[f64]) -> Result<crate::fit::NonlinearFit, MinimaError> {
+fn solve(
+    shape: SymmetricShape,
+    x: Vec<f64>,
+    y: &[f64],
+    w: &[f64],
+    p0: &[f64],
+) -> Result<crate::fit::NonlinearFit, MinimaError> {
     let model = Model { shape, x, y, w };
     let fit = levenberg_marquardt(&model, p0, &LevenbergOptions::default())?;
     if !fit.converged {
@@ -200,7 +207,14 @@ fn solve(shape: SymmetricShape, x: Vec<f64>, y: &[f64], w: &[f64], p0: &[f64]) -
 /// the noise and by how well the model matches the event's shape over the window (an
 /// asymmetric event biases T₀). Errors: too few points, points curving the wrong way,
 /// non-convergence, a centre outside the points.
-pub fn fit_symmetric(time_d: &[f64], value: &[f64], error: Option<&[f64]>, sign: f64, origin_d: f64, options: &SymmetricOptions) -> Result<SymmetricFit, MinimaError> {
+pub fn fit_symmetric(
+    time_d: &[f64],
+    value: &[f64],
+    error: Option<&[f64]>,
+    sign: f64,
+    origin_d: f64,
+    options: &SymmetricOptions,
+) -> Result<SymmetricFit, MinimaError> {
     validate(time_d, value, error)?;
     let shape = options.shape;
     let n = time_d.len();
@@ -222,7 +236,10 @@ pub fn fit_symmetric(time_d: &[f64], value: &[f64], error: Option<&[f64]>, sign:
     let x_min = x.iter().copied().fold(f64::INFINITY, f64::min);
     let x_max = x.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if fit.params[0] < x_min || fit.params[0] > x_max {
-        return Err(MinimaError::NoExtremum(format!("the fitted centre {:.6} d lies outside the points", origin_d + fit.params[0] * scale_d)));
+        return Err(MinimaError::NoExtremum(format!(
+            "the fitted centre {:.6} d lies outside the points",
+            origin_d + fit.params[0] * scale_d
+        )));
     }
     // The fitted extremum must be of the requested kind (curvature sign).
     let curvature = match shape {
@@ -230,7 +247,9 @@ pub fn fit_symmetric(time_d: &[f64], value: &[f64], error: Option<&[f64]>, sign:
         SymmetricShape::Gaussian => fit.params[2],
     };
     if !(curvature * sign > 0.0) {
-        return Err(MinimaError::NoExtremum("the fitted model has the opposite extremum (a peak where a trough was asked for, or the reverse)".into()));
+        return Err(MinimaError::NoExtremum(
+            "the fitted model has the opposite extremum (a peak where a trough was asked for, or the reverse)".into(),
+        ));
     }
     let scale_cov = if error.is_some() { 1.0 } else { fit.chi2 / fit.dof.max(1) as f64 };
     let error_covariance_d = fit.sigma(0) * scale_cov.sqrt() * scale_d;
@@ -282,7 +301,10 @@ mod tests {
     fn dip(c: f64, noise: f64, seed: u64) -> (Vec<f64>, Vec<f64>) {
         let mut rng = SeededRng::new(seed);
         let t: Vec<f64> = (0..50).map(|i| 0.002 * i as f64).collect();
-        let v = t.iter().map(|x| 10.0 + 0.3 * (-(x - c).powi(2) / (2.0 * 0.02f64.powi(2))).exp() + noise * rng.normal()).collect();
+        let v = t
+            .iter()
+            .map(|x| 10.0 + 0.3 * (-(x - c).powi(2) / (2.0 * 0.02f64.powi(2))).exp() + noise * rng.normal())
+            .collect();
         (t, v)
     }
 

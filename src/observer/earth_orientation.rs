@@ -148,11 +148,7 @@ impl EarthOrientationTable {
         if t.mjd.is_empty() {
             return Err(EarthOrientationError::Empty { file: name.to_string() });
         }
-        t.source = format!(
-            "{name} (IERS finals2000A layout, MJD {}-{})",
-            t.mjd[0],
-            t.mjd[t.mjd.len() - 1]
-        );
+        t.source = format!("{name} (IERS finals2000A layout, MJD {}-{})", t.mjd[0], t.mjd[t.mjd.len() - 1]);
         Ok(t)
     }
 

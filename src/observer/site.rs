@@ -10,10 +10,11 @@
 //! the error budget is dominated by UT1 − UTC when no table is given (≤1.5 µs of light time).
 
 use super::earth_orientation::OrientationValues;
+use crate::constants::SECONDS_PER_DAY;
 use crate::time::{DtdbSite, Instant};
 
 /// Earth rotation rate, rad/s (IERS Conventions 2010).
-pub const EARTH_ROTATION_RAD_PER_S: f64 = 2.0 * std::f64::consts::PI * 1.002_737_811_911_354_48 / 86_400.0;
+pub const EARTH_ROTATION_RAD_PER_S: f64 = 2.0 * std::f64::consts::PI * 1.002_737_811_911_354_48 / SECONDS_PER_DAY;
 
 /// A ground site on the WGS84 ellipsoid.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -48,7 +49,9 @@ impl Site {
             return Err(format!("site '{name}': latitude {latitude_deg}° is outside -90..90°"));
         }
         if !(-12_000.0..=100_000.0).contains(&height_m) {
-            return Err(format!("site '{name}': height {height_m} m is outside -12000..100000 m (use a spacecraft position for orbits)"));
+            return Err(format!(
+                "site '{name}': height {height_m} m is outside -12000..100000 m (use a spacecraft position for orbits)"
+            ));
         }
         Ok(Site {
             name: name.to_string(),
@@ -61,8 +64,7 @@ impl Site {
     /// Terrestrial (ITRS) position, m, from WGS84 geodetic coordinates (SOFA `iauGd2gc`).
     pub fn itrs_position_m(&self) -> [f64; 3] {
         // Inputs validated at construction: gd2gc cannot fail for WGS84 with |lat| ≤ 90°.
-        sofars::coords::gd2gc(1, self.east_longitude_rad, self.latitude_rad, self.height_m)
-            .unwrap_or([0.0; 3])
+        sofars::coords::gd2gc(1, self.east_longitude_rad, self.latitude_rad, self.height_m).unwrap_or([0.0; 3])
     }
 
     /// Arguments of the topocentric TDB − TT term (SOFA `iauDtdb`): east longitude, distance
@@ -93,11 +95,7 @@ impl Site {
         let (s, c) = era.sin_cos();
         // CIRS = R3(−ERA) · TIRS
         let r_cirs = [c * r_tirs[0] - s * r_tirs[1], s * r_tirs[0] + c * r_tirs[1], r_tirs[2]];
-        let v_cirs = [
-            -EARTH_ROTATION_RAD_PER_S * r_cirs[1],
-            EARTH_ROTATION_RAD_PER_S * r_cirs[0],
-            0.0,
-        ];
+        let v_cirs = [-EARTH_ROTATION_RAD_PER_S * r_cirs[1], EARTH_ROTATION_RAD_PER_S * r_cirs[0], 0.0];
         let p = mat_t_vec(&c2i, &r_cirs);
         let v = mat_t_vec(&c2i, &v_cirs);
         GcrsState {

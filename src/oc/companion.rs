@@ -3,7 +3,7 @@
 
 /// Light time for one astronomical unit, s (IAU 2012 au = 149 597 870 700 m exactly; c
 /// exact): 499.004 783 836 s.
-pub const LIGHT_TIME_PER_AU_S: f64 = 149_597_870_700.0 / 299_792_458.0;
+pub use crate::constants::LIGHT_TIME_PER_AU_S;
 
 /// Projected semi-major axis a₁₂ sin i of the eclipsing pair's orbit, au, from the
 /// projected light time a₁₂ sin i / c in seconds. Exact (IAU 2012 Resolution B2).
@@ -44,7 +44,11 @@ pub fn minimum_companion_mass_msun(mass_function_msun: f64, binary_mass_msun: f6
     }
     for _ in 0..200 {
         let mid = 0.5 * (lo + hi);
-        if g(mid) < 0.0 { lo = mid } else { hi = mid }
+        if g(mid) < 0.0 {
+            lo = mid
+        } else {
+            hi = mid
+        }
         if hi - lo <= 1e-14 * hi {
             break;
         }

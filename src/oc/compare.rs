@@ -69,11 +69,7 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
     let d1 = (b.parameters - a.parameters) as f64;
     let d2 = b.dof as f64;
     let f = ((a.chi2 - b.chi2) / d1) / (b.chi2 / d2);
-    let p = if f > 0.0 {
-        FisherSnedecor::new(d1, d2).ok().map(|dist| 1.0 - dist.cdf(f))?
-    } else {
-        1.0
-    };
+    let p = if f > 0.0 { FisherSnedecor::new(d1, d2).ok().map(|dist| 1.0 - dist.cdf(f))? } else { 1.0 };
     let delta_bic = b.bic - a.bic;
     let preferred = p < 0.0027 && delta_bic < -6.0;
     let verdict = if preferred {
@@ -87,5 +83,13 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
             b.model, a.model, a.chi2, b.chi2, d1, f, p, delta_bic
         )
     };
-    Some(NestedTest { simpler: a.model, richer: b.model, f_statistic: f, p_value: p, delta_bic, richer_preferred: preferred, verdict })
+    Some(NestedTest {
+        simpler: a.model,
+        richer: b.model,
+        f_statistic: f,
+        p_value: p,
+        delta_bic,
+        richer_preferred: preferred,
+        verdict,
+    })
 }

@@ -6,6 +6,7 @@
 //! (common practice).
 
 use super::{EventKind, OcError, Timing};
+use crate::constants::SECONDS_PER_DAY;
 use crate::time::Instant;
 
 /// A reference (linear) ephemeris: epoch of a primary event and period.
@@ -89,13 +90,20 @@ impl OcSeries {
 /// and cycle), an ambiguous count (unless allowed). Accuracy: exact arithmetic on day
 /// offsets (~1e-11 d over a century). Source: common practice (e.g. Sterken 2005, ASP
 /// Conf. Ser. 335, 3, "The O−C diagram: basic procedures").
-pub fn assign_cycles(timings: &[Timing], reference: &ReferenceEphemeris, options: &CycleOptions) -> Result<OcSeries, OcError> {
+pub fn assign_cycles(
+    timings: &[Timing],
+    reference: &ReferenceEphemeris,
+    options: &CycleOptions,
+) -> Result<OcSeries, OcError> {
     let p = reference.period_d;
     if !(p.is_finite() && p > 0.0) {
         return Err(OcError::BadEphemeris(format!("period {p} d must be finite and > 0")));
     }
     if !(reference.period_sigma_d.is_finite() && reference.period_sigma_d >= 0.0) {
-        return Err(OcError::BadEphemeris(format!("period uncertainty {} d must be finite and ≥ 0", reference.period_sigma_d)));
+        return Err(OcError::BadEphemeris(format!(
+            "period uncertainty {} d must be finite and ≥ 0",
+            reference.period_sigma_d
+        )));
     }
     for t in timings {
         if !(t.error_d.is_finite() && t.error_d > 0.0) {
@@ -103,7 +111,7 @@ pub fn assign_cycles(timings: &[Timing], reference: &ReferenceEphemeris, options
         }
     }
     let mut order: Vec<usize> = (0..timings.len()).collect();
-    let offset = |t: &Timing| t.bjd_tdb.seconds_since(&reference.epoch) / 86_400.0;
+    let offset = |t: &Timing| t.bjd_tdb.seconds_since(&reference.epoch) / SECONDS_PER_DAY;
     order.sort_by(|&a, &b| offset(&timings[a]).total_cmp(&offset(&timings[b])));
     let has_secondary = timings.iter().any(|t| t.kind == EventKind::Secondary);
     let spacing_d = if has_secondary { p / 2.0 } else { p };
@@ -138,7 +146,13 @@ pub fn assign_cycles(timings: &[Timing], reference: &ReferenceEphemeris, options
             let gap = cycle - prev_cycle;
             let drift = 3.0 * gap.abs() * reference.period_sigma_d;
             if drift > spacing_d / 4.0 {
-                let err = OcError::AmbiguousCycles { row: t.row, gap_cycles: gap, period_sigma_d: reference.period_sigma_d, drift_d: drift, limit_d: spacing_d / 4.0 };
+                let err = OcError::AmbiguousCycles {
+                    row: t.row,
+                    gap_cycles: gap,
+                    period_sigma_d: reference.period_sigma_d,
+                    drift_d: drift,
+                    limit_d: spacing_d / 4.0,
+                };
                 if options.allow_ambiguous {
                     s.warnings.push(err.to_string());
                 } else {
@@ -180,13 +194,27 @@ mod tests {
     use crate::time::TimeScale;
 
     fn timing(mjd: f64, kind: EventKind, row: usize) -> Timing {
-        Timing { bjd_tdb: Instant::from_mjd_two_part(TimeScale::Tdb, 58_000.0, mjd), error_d: 1e-4, kind, source: None, row }
+        Timing {
+            bjd_tdb: Instant::from_mjd_two_part(TimeScale::Tdb, 58_000.0, mjd),
+            error_d: 1e-4,
+            kind,
+            source: None,
+            row,
+        }
     }
 
     #[test]
     fn counts_primaries_and_secondaries() {
-        let r = ReferenceEphemeris { epoch: Instant::from_mjd_two_part(TimeScale::Tdb, 58_000.0, 0.0), period_d: 0.8, period_sigma_d: 1e-7 };
-        let t = [timing(8.0 + 0.001, EventKind::Primary, 1), timing(8.4 - 0.002, EventKind::Secondary, 2), timing(-0.8, EventKind::Primary, 3)];
+        let r = ReferenceEphemeris {
+            epoch: Instant::from_mjd_two_part(TimeScale::Tdb, 58_000.0, 0.0),
+            period_d: 0.8,
+            period_sigma_d: 1e-7,
+        };
+        let t = [
+            timing(8.0 + 0.001, EventKind::Primary, 1),
+            timing(8.4 - 0.002, EventKind::Secondary, 2),
+            timing(-0.8, EventKind::Primary, 3),
+        ];
         let s = assign_cycles(&t, &r, &CycleOptions::default()).unwrap();
         assert_eq!(s.cycle, vec![-1.0, 10.0, 10.5]);
         assert!((s.oc_d[1] - 0.001).abs() < 1e-9 && (s.oc_d[2] + 0.002).abs() < 1e-9);
@@ -195,15 +223,25 @@ mod tests {
 
     #[test]
     fn refuses_duplicates_zero_errors_and_ambiguity() {
-        let r = ReferenceEphemeris { epoch: Instant::from_mjd_two_part(TimeScale::Tdb, 58_000.0, 0.0), period_d: 0.8, period_sigma_d: 1e-4 };
+        let r = ReferenceEphemeris {
+            epoch: Instant::from_mjd_two_part(TimeScale::Tdb, 58_000.0, 0.0),
+            period_d: 0.8,
+            period_sigma_d: 1e-4,
+        };
         let dup = [timing(8.0, EventKind::Primary, 1), timing(8.0005, EventKind::Primary, 2)];
-        assert!(matches!(assign_cycles(&dup, &r, &CycleOptions::default()), Err(OcError::DuplicateTiming { first: 1, second: 2, .. })));
+        assert!(matches!(
+            assign_cycles(&dup, &r, &CycleOptions::default()),
+            Err(OcError::DuplicateTiming { first: 1, second: 2, .. })
+        ));
         let mut zero = [timing(8.0, EventKind::Primary, 4)];
         zero[0].error_d = 0.0;
         assert!(matches!(assign_cycles(&zero, &r, &CycleOptions::default()), Err(OcError::BadError { row: 4, .. })));
         // 3 × 2000 cycles × 1e-4 d = 0.6 d drift > 0.2 d: ambiguous.
         let far = [timing(0.0, EventKind::Primary, 1), timing(1600.0, EventKind::Primary, 2)];
-        assert!(matches!(assign_cycles(&far, &r, &CycleOptions::default()), Err(OcError::AmbiguousCycles { row: 2, .. })));
+        assert!(matches!(
+            assign_cycles(&far, &r, &CycleOptions::default()),
+            Err(OcError::AmbiguousCycles { row: 2, .. })
+        ));
         let s = assign_cycles(&far, &r, &CycleOptions { allow_ambiguous: true }).unwrap();
         assert_eq!(s.warnings.len(), 1);
     }

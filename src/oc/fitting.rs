@@ -4,6 +4,7 @@
 //! peak), optional per-source error rescaling, derived quantities with covariance errors,
 //! and a seeded pairs bootstrap whose result does not depend on the number of threads.
 
+use crate::constants::SECONDS_PER_DAY;
 use std::f64::consts::TAU;
 
 use rayon::prelude::*;
@@ -13,10 +14,12 @@ use super::companion::{mass_function_msun, projected_semi_major_axis_au};
 use super::cycles::OcSeries;
 use super::models::{ModelKind, OcModel, eccentricity_omega, evaluate};
 use super::orbit::irwin_semi_amplitude;
-use crate::fit::{LsqModel, LevenbergOptions, NonlinearFit, SeededRng, levenberg_marquardt, small::cholesky_solve_in_place, weighted_linear_lsq};
+use crate::fit::{
+    LevenbergOptions, LsqModel, NonlinearFit, SeededRng, levenberg_marquardt, small::cholesky_solve_in_place,
+    weighted_linear_lsq,
+};
 
-const SECONDS_PER_DAY: f64 = 86_400.0;
-const DAYS_PER_YEAR: f64 = 365.25;
+use crate::constants::DAYS_PER_JULIAN_YEAR as DAYS_PER_YEAR;
 
 /// Options of a model fit.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -200,7 +203,13 @@ fn polynomial_fit(series: &OcSeries, kind: ModelKind, weights: &[f64]) -> Result
 
 /// Least-squares periodogram: for each trial companion period, χ² of polynomial + sinusoid;
 /// returns (period_d, χ², amplitude_d, phase_rad) at the `peaks` deepest local minima.
-fn companion_search(series: &OcSeries, kind: ModelKind, weights: &[f64], range_d: (f64, f64), peaks: usize) -> Vec<(f64, f64, f64, f64)> {
+fn companion_search(
+    series: &OcSeries,
+    kind: ModelKind,
+    weights: &[f64],
+    range_d: (f64, f64),
+    peaks: usize,
+) -> Vec<(f64, f64, f64, f64)> {
     let np = kind.n_polynomial();
     let p = np + 2;
     let t0 = series.time_d.first().copied().unwrap_or(0.0);
@@ -319,7 +328,11 @@ fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFi
 }
 
 /// [`scaled_levenberg`] with explicit options.
-fn scaled_levenberg_with<M: LsqModel>(model: &M, start: &[f64], options: &LevenbergOptions) -> Result<NonlinearFit, crate::fit::FitError> {
+fn scaled_levenberg_with<M: LsqModel>(
+    model: &M,
+    start: &[f64],
+    options: &LevenbergOptions,
+) -> Result<NonlinearFit, crate::fit::FitError> {
     let p = model.n_params();
     let n = model.n_obs();
     let mut jac = vec![0.0; n * p];
@@ -346,14 +359,31 @@ fn scaled_levenberg_with<M: LsqModel>(model: &M, start: &[f64], options: &Levenb
 /// Resamples start at the best fit and need its neighbourhood only: a χ² change below 1e-3
 /// moves a parameter by ~3 % of its 1σ, far below the bootstrap's own scatter.
 fn bootstrap_lm_options() -> LevenbergOptions {
-    LevenbergOptions { max_iterations: 60, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-3, covariance: false }
+    LevenbergOptions {
+        max_iterations: 60,
+        relative_tolerance: 1e-10,
+        initial_damping: 1e-3,
+        absolute_tolerance: 1e-3,
+        covariance: false,
+    }
 }
 
 fn lm_options() -> LevenbergOptions {
-    LevenbergOptions { max_iterations: 300, relative_tolerance: 1e-10, initial_damping: 1e-3, absolute_tolerance: 1e-5, covariance: true }
+    LevenbergOptions {
+        max_iterations: 300,
+        relative_tolerance: 1e-10,
+        initial_damping: 1e-3,
+        absolute_tolerance: 1e-5,
+        covariance: true,
+    }
 }
 
-fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options: &FitOptions) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
+fn fit_with_weights(
+    series: &OcSeries,
+    kind: ModelKind,
+    weights: &[f64],
+    options: &FitOptions,
+) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
     let (poly, pcov, pchi2) = polynomial_fit(series, kind, weights)?;
     if !kind.has_light_time() {
         return Ok((poly, pcov, pchi2));
@@ -371,7 +401,8 @@ fn fit_with_weights(series: &OcSeries, kind: ModelKind, weights: &[f64], options
 }
 
 /// Starting (√e cos ω, √e sin ω) of the multi-start light-time fits.
-const ECCENTRICITY_STARTS: [(f64, f64); 8] = [(0.3, 0.0), (0.0, 0.3), (-0.3, 0.0), (0.0, -0.3), (0.6, 0.0), (0.0, 0.6), (-0.6, 0.0), (0.0, -0.6)];
+const ECCENTRICITY_STARTS: [(f64, f64); 8] =
+    [(0.3, 0.0), (0.0, 0.3), (-0.3, 0.0), (0.0, -0.3), (0.6, 0.0), (0.0, 0.6), (-0.6, 0.0), (0.0, -0.6)];
 
 /// Levenberg–Marquardt from every periodogram peak × eccentricity start, appending one
 /// companion `[amplitude, P₃, c, s, M₀]` to `base`; the lowest finite χ² wins. A sinusoid's
@@ -411,7 +442,13 @@ fn best_of_starts(
 /// Two companions: the one-companion model first, then a search of its residuals for the
 /// second orbit (same least-squares periodogram), then Levenberg–Marquardt on all
 /// parameters from each residual peak with several eccentricity starts.
-fn fit_second_companion(series: &OcSeries, kind: ModelKind, weights: &[f64], options: &FitOptions, range: (f64, f64)) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
+fn fit_second_companion(
+    series: &OcSeries,
+    kind: ModelKind,
+    weights: &[f64],
+    options: &FitOptions,
+    range: (f64, f64),
+) -> Result<(Vec<f64>, Vec<f64>, f64), OcError> {
     let single = kind.with_one_companion_fewer().expect("a two-companion model");
     let (first, _, _) = fit_with_weights(series, single, weights, options)?;
     let mut residual = series.clone();
@@ -426,7 +463,14 @@ fn fit_second_companion(series: &OcSeries, kind: ModelKind, weights: &[f64], opt
         .take(options.peaks.max(1))
         .collect();
     let model = OcModel { kind, series, weights: weights.to_vec() };
-    best_of_starts(&model, kind, &first, &peaks, &ECCENTRICITY_STARTS[..4], "no periodogram peak in the residuals of the one-companion fit")
+    best_of_starts(
+        &model,
+        kind,
+        &first,
+        &peaks,
+        &ECCENTRICITY_STARTS[..4],
+        "no periodogram peak in the residuals of the one-companion fit",
+    )
 }
 
 /// Fits one model to an O–C series.
@@ -454,7 +498,13 @@ pub fn fit_model(series: &OcSeries, kind: ModelKind, options: &FitOptions) -> Re
                     source_scale.push((label.clone(), 1.0));
                     continue;
                 }
-                let c: f64 = idx.iter().map(|&i| weights[i] * (series.oc_d[i] - evaluate(kind, &params, series.cycle[i], series.time_d[i])).powi(2)).sum();
+                let c: f64 = idx
+                    .iter()
+                    .map(|&i| {
+                        weights[i]
+                            * (series.oc_d[i] - evaluate(kind, &params, series.cycle[i], series.time_d[i])).powi(2)
+                    })
+                    .sum();
                 let factor2 = (c / (idx.len() as f64 * dof_fraction)).max(1e-6);
                 for &i in &idx {
                     weights[i] /= factor2;
@@ -504,7 +554,8 @@ pub fn fit_model(series: &OcSeries, kind: ModelKind, options: &FitOptions) -> Re
                 break;
             }
         }
-        let down: Vec<String> = (0..series.len()).filter(|&i| factors[i] < 0.5).map(|i| series.row[i].to_string()).collect();
+        let down: Vec<String> =
+            (0..series.len()).filter(|&i| factors[i] < 0.5).map(|i| series.row[i].to_string()).collect();
         notes.push(format!(
             "Huber robust loss (k = {k}): {} timings down-weighted, {} of them below half weight{}",
             factors.iter().filter(|f| **f < 1.0).count(),
@@ -517,11 +568,18 @@ pub fn fit_model(series: &OcSeries, kind: ModelKind, options: &FitOptions) -> Re
         let which = if c == 0 { "companion" } else { "second companion" };
         let (e, _) = eccentricity_omega(params[first + 2], params[first + 3]);
         if e >= super::models::MAX_ECCENTRICITY - 1e-9 {
-            notes.push(format!("the {which}'s eccentricity sits at its bound {}; the orbit is not well constrained", super::models::MAX_ECCENTRICITY));
+            notes.push(format!(
+                "the {which}'s eccentricity sits at its bound {}; the orbit is not well constrained",
+                super::models::MAX_ECCENTRICITY
+            ));
         }
         let baseline = series.time_d.last().copied().unwrap_or(0.0) - series.time_d.first().copied().unwrap_or(0.0);
         if params[first + 1] > baseline {
-            notes.push(format!("the {which}'s period ({:.0} d) exceeds the span of the timings ({:.0} d); it is poorly determined", params[first + 1], baseline));
+            notes.push(format!(
+                "the {which}'s period ({:.0} d) exceeds the span of the timings ({:.0} d); it is poorly determined",
+                params[first + 1],
+                baseline
+            ));
         }
     }
     if params.iter().chain(cov.iter()).any(|v| !v.is_finite()) || !chi2.is_finite() {
@@ -572,7 +630,12 @@ pub fn bootstrap(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions) 
 
 /// [`bootstrap`] calling `progress(1)` after each resample (from any thread), for a caller's
 /// progress display. Results are the same as without it.
-pub fn bootstrap_with_progress(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions, progress: &(dyn Fn(u64) + Sync)) -> Result<BootstrapSummary, OcError> {
+pub fn bootstrap_with_progress(
+    series: &OcSeries,
+    fit: &ModelFit,
+    options: &BootstrapOptions,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<BootstrapSummary, OcError> {
     if options.resamples < 2 {
         return Err(OcError::Invalid(format!("the bootstrap needs at least 2 resamples, got {}", options.resamples)));
     }
@@ -616,7 +679,10 @@ pub fn bootstrap_with_progress(series: &OcSeries, fit: &ModelFit, options: &Boot
         .collect();
     let ok: Vec<&(Vec<f64>, Vec<f64>)> = draws.iter().flatten().collect();
     if ok.len() < 2 {
-        return Err(OcError::NotConverged { model: kind.name(), detail: format!("only {} of {} bootstrap resamples could be fitted", ok.len(), options.resamples) });
+        return Err(OcError::NotConverged {
+            model: kind.name(),
+            detail: format!("only {} of {} bootstrap resamples could be fitted", ok.len(), options.resamples),
+        });
     }
     let sd = |get: &dyn Fn(&(Vec<f64>, Vec<f64>)) -> f64| {
         let m = ok.iter().map(|d| get(d)).sum::<f64>() / ok.len() as f64;
@@ -624,5 +690,10 @@ pub fn bootstrap_with_progress(series: &OcSeries, fit: &ModelFit, options: &Boot
     };
     let parameter_sigma = (0..fit.params.len()).map(|j| sd(&|d| d.0[j])).collect();
     let derived_sigma = base_derived.iter().enumerate().map(|(j, b)| (b.0.to_string(), sd(&|d| d.1[j]))).collect();
-    Ok(BootstrapSummary { resamples: options.resamples, failed: options.resamples - ok.len(), parameter_sigma, derived_sigma })
+    Ok(BootstrapSummary {
+        resamples: options.resamples,
+        failed: options.resamples - ok.len(),
+        parameter_sigma,
+        derived_sigma,
+    })
 }

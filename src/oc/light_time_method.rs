@@ -14,17 +14,11 @@
 
 use super::cycles::{CycleOptions, ReferenceEphemeris, assign_cycles};
 use super::{EventKind, OcError, Timing};
+use crate::constants::SECONDS_PER_DAY;
 use crate::fit::weighted_linear_lsq;
 use crate::time::Instant;
 
-/// The astronomical unit, m (IAU 2012 Resolution B2, exact).
-pub const ASTRONOMICAL_UNIT_M: f64 = 149_597_870_700.0;
-/// Speed of light in vacuum, m/s (SI, exact).
-pub const SPEED_OF_LIGHT_M_PER_S: f64 = 299_792_458.0;
-/// The light time per au implied by the two defined constants above, s.
-pub const LIGHT_TIME_PER_AU_S: f64 = ASTRONOMICAL_UNIT_M / SPEED_OF_LIGHT_M_PER_S;
-
-const SECONDS_PER_DAY: f64 = 86_400.0;
+pub use crate::constants::{ASTRONOMICAL_UNIT_M, LIGHT_TIME_PER_AU_S, SPEED_OF_LIGHT_M_PER_S};
 
 /// One timing whose arrival time still holds the observer's light-travel-time term.
 #[derive(Debug, Clone, PartialEq)]
@@ -113,15 +107,20 @@ pub fn measure_light_time(
     }
     for t in timings {
         if !t.projection_au.is_finite() {
-            return Err(OcError::Invalid(format!("row {}: the observer's projected position {} au is not finite", t.row, t.projection_au)));
+            return Err(OcError::Invalid(format!(
+                "row {}: the observer's projected position {} au is not finite",
+                t.row, t.projection_au
+            )));
         }
     }
     let as_timings: Vec<Timing> = timings
         .iter()
         .map(|t| Timing { bjd_tdb: t.observer_tdb, error_d: t.error_d, kind: t.kind, source: None, row: t.row })
         .collect();
-    let series = assign_cycles(&as_timings, reference, &CycleOptions { allow_ambiguous: options.allow_ambiguous_cycles })?;
-    let projection_of_row: std::collections::HashMap<usize, f64> = timings.iter().map(|t| (t.row, t.projection_au)).collect();
+    let series =
+        assign_cycles(&as_timings, reference, &CycleOptions { allow_ambiguous: options.allow_ambiguous_cycles })?;
+    let projection_of_row: std::collections::HashMap<usize, f64> =
+        timings.iter().map(|t| (t.row, t.projection_au)).collect();
     let projection: Vec<f64> = series.row.iter().map(|r| projection_of_row[r]).collect();
     let (lo, hi) = projection.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
     if hi - lo < 0.2 {
@@ -215,7 +214,7 @@ mod tests {
         let epoch = Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.0);
         let timings: Vec<UncorrectedTiming> = (0..20)
             .map(|k| UncorrectedTiming {
-                observer_tdb: epoch.add_seconds(k as f64 * 86_400.0),
+                observer_tdb: epoch.add_seconds(k as f64 * SECONDS_PER_DAY),
                 projection_au: 0.5 + 0.001 * k as f64,
                 error_d: 1e-4,
                 kind: EventKind::Primary,

@@ -10,16 +10,16 @@
 //! Times enter as BJD_TDB [`Instant`]s; inside, every time is an `f64` offset in days from
 //! the reference epoch (decades of offsets keep ~1e-11 d resolution). Nothing here prints.
 
-pub mod compare;
 pub mod companion;
+pub mod compare;
 pub mod cycles;
 pub mod fitting;
 pub mod light_time_method;
 pub mod models;
 pub mod orbit;
 
-pub use compare::{ModelComparison, NestedTest, compare_nested, information};
 pub use companion::{mass_function_msun, minimum_companion_mass_msun, projected_semi_major_axis_au};
+pub use compare::{ModelComparison, NestedTest, compare_nested, information};
 pub use cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
 pub use fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap, bootstrap_with_progress, fit_model};
 pub use models::{ModelKind, OcModel};
@@ -83,9 +83,13 @@ pub struct Timing {
 /// What can go wrong in the O–C stage; rows are 1-based rows of the timing table.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum OcError {
-    #[error("row {row}: timing error {value} d is not usable; errors must be finite and > 0 (give a realistic uncertainty)")]
+    #[error(
+        "row {row}: timing error {value} d is not usable; errors must be finite and > 0 (give a realistic uncertainty)"
+    )]
     BadError { row: usize, value: f64 },
-    #[error("rows {first} and {second} hold the same {kind} timing (cycle {cycle}); remove the duplicate or merge them")]
+    #[error(
+        "rows {first} and {second} hold the same {kind} timing (cycle {cycle}); remove the duplicate or merge them"
+    )]
     DuplicateTiming { first: usize, second: usize, kind: &'static str, cycle: f64 },
     #[error("the reference ephemeris is not usable: {0}")]
     BadEphemeris(String),

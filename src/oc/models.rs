@@ -103,7 +103,13 @@ impl ModelKind {
             v.push("quadratic_d");
         }
         if self.companions() >= 1 {
-            v.extend(["projected_light_time_d", "companion_period_d", "sqrt_e_cos_omega", "sqrt_e_sin_omega", "mean_anomaly_at_epoch_rad"]);
+            v.extend([
+                "projected_light_time_d",
+                "companion_period_d",
+                "sqrt_e_cos_omega",
+                "sqrt_e_sin_omega",
+                "mean_anomaly_at_epoch_rad",
+            ]);
         }
         if self.companions() == 2 {
             v.extend([
@@ -304,7 +310,12 @@ mod tests {
                     dn[j] -= h;
                     let num = (light_time_d(&up, t) - light_time_d(&dn, t)) / (2.0 * h);
                     let scale = g.iter().map(|x| x.abs()).fold(1e-12, f64::max);
-                    assert!((g[j] - num).abs() < 1e-5 * scale, "param {j}, e² = {}, t = {t}: {} vs {num}", c * c + s * s, g[j]);
+                    assert!(
+                        (g[j] - num).abs() < 1e-5 * scale,
+                        "param {j}, e² = {}, t = {t}: {} vs {num}",
+                        c * c + s * s,
+                        g[j]
+                    );
                 }
             }
         }

@@ -24,7 +24,11 @@ pub fn eccentric_anomaly(mean_anomaly_rad: f64, e: f64) -> f64 {
         if f == 0.0 {
             return x;
         }
-        if f > 0.0 { hi = x } else { lo = x }
+        if f > 0.0 {
+            hi = x
+        } else {
+            lo = x
+        }
         let step = f / (1.0 - e * cos_x);
         // Converged: test before the bracket, or a zero-length step at the root would be
         // taken for a step outside it and send the iteration into bisection. The tolerance

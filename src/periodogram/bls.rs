@@ -63,22 +63,42 @@ pub struct BoxDetection {
 
 fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<f64, SearchError> {
     if options.durations_d.is_empty() {
-        return Err(SearchError::InvalidParameter { name: "box durations", value: 0.0, expected: "at least one duration in days" });
+        return Err(SearchError::InvalidParameter {
+            name: "box durations",
+            value: 0.0,
+            expected: "at least one duration in days",
+        });
     }
     for &d in &options.durations_d {
         if !(d.is_finite() && d > 0.0) {
-            return Err(SearchError::InvalidParameter { name: "box duration (d)", value: d, expected: "a finite duration > 0" });
+            return Err(SearchError::InvalidParameter {
+                name: "box duration (d)",
+                value: d,
+                expected: "a finite duration > 0",
+            });
         }
         let pmin = 1.0 / grid.max_freq_per_day();
         if d >= 0.5 * pmin {
-            return Err(SearchError::InvalidParameter { name: "box duration (d)", value: d, expected: "a duration shorter than half the shortest trial period" });
+            return Err(SearchError::InvalidParameter {
+                name: "box duration (d)",
+                value: d,
+                expected: "a duration shorter than half the shortest trial period",
+            });
         }
     }
     if !(1..=100).contains(&options.bins_per_duration) {
-        return Err(SearchError::InvalidParameter { name: "bins per duration", value: options.bins_per_duration as f64, expected: "1 to 100" });
+        return Err(SearchError::InvalidParameter {
+            name: "bins per duration",
+            value: options.bins_per_duration as f64,
+            expected: "1 to 100",
+        });
     }
     if grid.start_per_day <= 0.0 {
-        return Err(SearchError::InvalidParameter { name: "grid start (c/d)", value: grid.start_per_day, expected: "a frequency > 0 for a box search" });
+        return Err(SearchError::InvalidParameter {
+            name: "grid start (c/d)",
+            value: grid.start_per_day,
+            expected: "a frequency > 0 for a box search",
+        });
     }
     Ok(options.durations_d.iter().cloned().fold(f64::INFINITY, f64::min))
 }
@@ -87,7 +107,12 @@ fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<f64, SearchError>
 pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -> Result<BoxSpectrum, SearchError> {
     let dmin = check(options, grid)?;
     if series.len() < 5 {
-        return Err(SearchError::TooFewPoints { needed: 5, got: series.len(), dropped: series.n_dropped, reason: "a box search" });
+        return Err(SearchError::TooFewPoints {
+            needed: 5,
+            got: series.len(),
+            dropped: series.n_dropped,
+            reason: "a box search",
+        });
     }
     let w_raw: f64 = series.weight.iter().sum();
     let w: Vec<f64> = series.weight.iter().map(|v| v / w_raw).collect();
@@ -235,10 +260,19 @@ fn phase_bins(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
 }
 
 /// Measures the best box at grid index `k` on the unbinned points and its SDE.
-pub fn box_detection(series: &Series, spectrum: &BoxSpectrum, k: usize, options: &BoxOptions) -> Result<BoxDetection, SearchError> {
+pub fn box_detection(
+    series: &Series,
+    spectrum: &BoxSpectrum,
+    k: usize,
+    options: &BoxOptions,
+) -> Result<BoxDetection, SearchError> {
     let m = spectrum.power.len();
     if k >= m {
-        return Err(SearchError::InvalidParameter { name: "grid index", value: k as f64, expected: "an index inside the spectrum" });
+        return Err(SearchError::InvalidParameter {
+            name: "grid index",
+            value: k as f64,
+            expected: "an index inside the spectrum",
+        });
     }
     let dmin = check(options, &spectrum.grid)?;
     let f = spectrum.grid.freq_per_day(k);
@@ -246,10 +280,14 @@ pub fn box_detection(series: &Series, spectrum: &BoxSpectrum, k: usize, options:
     let (dur, epoch) = (spectrum.duration_d[k], spectrum.epoch_d[k]);
     let y = series.band_centred_values();
     let (mut win, mut wyin, mut wout, mut wyout, mut nin) = (0.0, 0.0, 0.0, 0.0, 0usize);
-    let inside: Vec<bool> = series.time_d.iter().map(|&t| {
-        let ph = phase_of(t, p, epoch);
-        ph.min(1.0 - ph) * p <= 0.5 * dur
-    }).collect();
+    let inside: Vec<bool> = series
+        .time_d
+        .iter()
+        .map(|&t| {
+            let ph = phase_of(t, p, epoch);
+            ph.min(1.0 - ph) * p <= 0.5 * dur
+        })
+        .collect();
     for i in 0..series.len() {
         if inside[i] {
             win += series.weight[i];
@@ -261,15 +299,22 @@ pub fn box_detection(series: &Series, spectrum: &BoxSpectrum, k: usize, options:
         }
     }
     if nin == 0 || win <= 0.0 || wout <= 0.0 {
-        return Err(SearchError::TooFewPoints { needed: 1, got: 0, dropped: series.n_dropped, reason: "measuring a box (no points inside or outside it)" });
+        return Err(SearchError::TooFewPoints {
+            needed: 1,
+            got: 0,
+            dropped: series.n_dropped,
+            reason: "measuring a box (no points inside or outside it)",
+        });
     }
     let (lin, lout) = (wyin / win, wyout / wout);
     let mut err = (1.0 / win + 1.0 / wout).sqrt();
     if !series.has_errors {
-        let chi2: f64 = (0..series.len()).map(|i| {
-            let m = if inside[i] { lin } else { lout };
-            (y[i] - m) * (y[i] - m)
-        }).sum();
+        let chi2: f64 = (0..series.len())
+            .map(|i| {
+                let m = if inside[i] { lin } else { lout };
+                (y[i] - m) * (y[i] - m)
+            })
+            .sum();
         err *= (chi2 / (series.len() as f64 - 2.0).max(1.0)).sqrt();
     }
     let mean = spectrum.power.iter().sum::<f64>() / m as f64;
@@ -323,10 +368,14 @@ pub fn box_search_direct(series: &Series, grid: &FrequencyGrid, options: &BoxOpt
         let f = grid.freq_per_day(k);
         let p = 1.0 / f;
         let nb = ((p * options.bins_per_duration as f64 / dmin).ceil() as usize).clamp(2, 1 << 20);
-        let bins: Vec<usize> = series.time_d.iter().map(|&t| {
-            let x = (t - t0) * f;
-            (((x - x.floor()) * nb as f64) as usize).min(nb - 1)
-        }).collect();
+        let bins: Vec<usize> = series
+            .time_d
+            .iter()
+            .map(|&t| {
+                let x = (t - t0) * f;
+                (((x - x.floor()) * nb as f64) as usize).min(nb - 1)
+            })
+            .collect();
         for &d in &options.durations_d {
             let q = ((d / p * nb as f64).round() as usize).clamp(1, nb - 1);
             for s in 0..nb {
@@ -352,15 +401,35 @@ pub fn box_search_direct(series: &Series, grid: &FrequencyGrid, options: &BoxOpt
 /// keeps the drift of a box edge across the baseline T under min_duration/oversampling,
 /// Δf = min_duration / (oversampling · T · max_period) (common practice; cf. Ofir 2014,
 /// A&A 561, A138, for the underlying phase-drift argument).
-pub fn plan_box_grid(baseline_d: f64, min_period_d: f64, max_period_d: f64, min_duration_d: f64, oversampling: f64, memory_limit_bytes: u128) -> Result<super::GridPlan, SearchError> {
+pub fn plan_box_grid(
+    baseline_d: f64,
+    min_period_d: f64,
+    max_period_d: f64,
+    min_duration_d: f64,
+    oversampling: f64,
+    memory_limit_bytes: u128,
+) -> Result<super::GridPlan, SearchError> {
     if !(min_period_d.is_finite() && min_period_d > 0.0 && max_period_d.is_finite() && max_period_d > min_period_d) {
-        return Err(SearchError::InvalidParameter { name: "period range (d)", value: max_period_d, expected: "0 < minimum period < maximum period" });
+        return Err(SearchError::InvalidParameter {
+            name: "period range (d)",
+            value: max_period_d,
+            expected: "0 < minimum period < maximum period",
+        });
     }
     if max_period_d > baseline_d {
-        return Err(SearchError::UnresolvableRange { min_freq_per_day: 1.0 / max_period_d, max_freq_per_day: 1.0 / min_period_d, baseline_d, reason: "the longest period asked for exceeds the baseline" });
+        return Err(SearchError::UnresolvableRange {
+            min_freq_per_day: 1.0 / max_period_d,
+            max_freq_per_day: 1.0 / min_period_d,
+            baseline_d,
+            reason: "the longest period asked for exceeds the baseline",
+        });
     }
     if !(min_duration_d.is_finite() && min_duration_d > 0.0 && min_duration_d < 0.5 * min_period_d) {
-        return Err(SearchError::InvalidParameter { name: "shortest box duration (d)", value: min_duration_d, expected: "a duration > 0 and under half the shortest period" });
+        return Err(SearchError::InvalidParameter {
+            name: "shortest box duration (d)",
+            value: min_duration_d,
+            expected: "a duration > 0 and under half the shortest period",
+        });
     }
     if !(oversampling.is_finite() && (1.0..=100.0).contains(&oversampling)) {
         return Err(SearchError::InvalidParameter { name: "oversampling", value: oversampling, expected: "1 to 100" });
@@ -370,7 +439,11 @@ pub fn plan_box_grid(baseline_d: f64, min_period_d: f64, max_period_d: f64, min_
     let n = ((f1 - f0) / step).floor() + 1.0;
     let bytes = (n * super::grid::BYTES_PER_FREQUENCY as f64) as u128;
     if n > 4.0e9 || bytes > memory_limit_bytes {
-        return Err(SearchError::GridTooLarge { n_freq: n.min(usize::MAX as f64) as usize, bytes_needed: bytes, bytes_limit: memory_limit_bytes });
+        return Err(SearchError::GridTooLarge {
+            n_freq: n.min(usize::MAX as f64) as usize,
+            bytes_needed: bytes,
+            bytes_limit: memory_limit_bytes,
+        });
     }
     Ok(super::GridPlan { grid: FrequencyGrid::new(f0, step, n as usize)?, bytes_estimate: bytes })
 }

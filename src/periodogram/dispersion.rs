@@ -28,10 +28,19 @@ impl Periodogram for PhaseDispersion {
     }
     fn check_series(&self, series: &Series) -> Result<(), SearchError> {
         if !(2..=100).contains(&self.n_bins) {
-            return Err(SearchError::InvalidParameter { name: "phase bins", value: self.n_bins as f64, expected: "2 to 100" });
+            return Err(SearchError::InvalidParameter {
+                name: "phase bins",
+                value: self.n_bins as f64,
+                expected: "2 to 100",
+            });
         }
         if series.len() < self.min_points() {
-            return Err(SearchError::TooFewPoints { needed: self.min_points(), got: series.len(), dropped: series.n_dropped, reason: self.name() });
+            return Err(SearchError::TooFewPoints {
+                needed: self.min_points(),
+                got: series.len(),
+                dropped: series.n_dropped,
+                reason: self.name(),
+            });
         }
         Ok(())
     }

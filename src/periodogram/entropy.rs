@@ -28,10 +28,19 @@ impl Periodogram for ConditionalEntropy {
     }
     fn check_series(&self, series: &Series) -> Result<(), SearchError> {
         if !(2..=1000).contains(&self.n_phase) || !(2..=1000).contains(&self.n_value) {
-            return Err(SearchError::InvalidParameter { name: "entropy bins", value: self.n_phase.min(self.n_value) as f64, expected: "2 to 1000 bins in phase and in value" });
+            return Err(SearchError::InvalidParameter {
+                name: "entropy bins",
+                value: self.n_phase.min(self.n_value) as f64,
+                expected: "2 to 1000 bins in phase and in value",
+            });
         }
         if series.len() < self.min_points() {
-            return Err(SearchError::TooFewPoints { needed: self.min_points(), got: series.len(), dropped: series.n_dropped, reason: self.name() });
+            return Err(SearchError::TooFewPoints {
+                needed: self.min_points(),
+                got: series.len(),
+                dropped: series.n_dropped,
+                reason: self.name(),
+            });
         }
         Ok(())
     }

@@ -198,7 +198,14 @@ fn load(ws: &mut Workspace, t: &[f64], t0: f64, h: impl Iterator<Item = Complex6
 
 /// Σ_i h_i exp(2πi·(f0 + k·df)·t_i) for k = 0..m, by gridding + FFT; (real parts,
 /// imaginary parts).
-fn trig_sum(t: &[f64], h: impl Iterator<Item = Complex64>, f0: f64, df: f64, m: usize, opt: &FastOptions) -> (Vec<f64>, Vec<f64>) {
+fn trig_sum(
+    t: &[f64],
+    h: impl Iterator<Item = Complex64>,
+    f0: f64,
+    df: f64,
+    m: usize,
+    opt: &FastOptions,
+) -> (Vec<f64>, Vec<f64>) {
     let t0 = t.iter().cloned().fold(f64::INFINITY, f64::min);
     WORK.with(|w| {
         let ws = &mut *w.borrow_mut();
@@ -296,7 +303,8 @@ pub fn fast_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, opt: &Fa
         }
     };
     let second = || trig_sum(t, real(w), 2.0 * f0, 2.0 * df, m, opt);
-    let ([c, s, yc, ys], (c2, s2)) = if gridding_plan(m, opt).0 >= PARALLEL_FFT_LEN { rayon::join(first, second) } else { (first(), second()) };
+    let ([c, s, yc, ys], (c2, s2)) =
+        if gridding_plan(m, opt).0 >= PARALLEL_FFT_LEN { rayon::join(first, second) } else { (first(), second()) };
     TrigSums { c, s, yc, ys, c2, s2 }
 }
 
@@ -311,7 +319,9 @@ mod tests {
     #[test]
     fn sums_match_exact_relative_to_weight_total() {
         let mut rng = SeededRng::new(41);
-        for &(n, start_steps, m) in &[(100usize, 1.0, 500usize), (1000, 5.0, 10_000), (700, 3.3, 4000), (3000, 0.0, 2500)] {
+        for &(n, start_steps, m) in
+            &[(100usize, 1.0, 500usize), (1000, 5.0, 10_000), (700, 3.3, 4000), (3000, 0.0, 2500)]
+        {
             let mut t: Vec<f64> = (0..n).map(|_| 2460000.5 - 2451545.0 + rng.uniform() * 83.7).collect();
             t.sort_by(|a, b| a.total_cmp(b));
             let w: Vec<f64> = (0..n).map(|_| 0.2 + rng.uniform()).collect();
@@ -323,7 +333,9 @@ mod tests {
             let scale: f64 = w.iter().map(|x| x.abs()).sum();
             let mut worst = 0.0f64;
             for k in 0..m {
-                for (x, y) in [(&a.c, &b.c), (&a.s, &b.s), (&a.yc, &b.yc), (&a.ys, &b.ys), (&a.c2, &b.c2), (&a.s2, &b.s2)] {
+                for (x, y) in
+                    [(&a.c, &b.c), (&a.s, &b.s), (&a.yc, &b.yc), (&a.ys, &b.ys), (&a.c2, &b.c2), (&a.s2, &b.s2)]
+                {
                     worst = worst.max((x[k] - y[k]).abs() / scale);
                 }
             }
@@ -338,14 +350,20 @@ mod tests {
     #[test]
     fn tolerance_option_is_honoured_after_caching() {
         let mut rng = SeededRng::new(5);
-        let t: Vec<f64> = { let mut t: Vec<f64> = (0..500).map(|_| rng.uniform() * 40.0).collect(); t.sort_by(|a, b| a.total_cmp(b)); t };
+        let t: Vec<f64> = {
+            let mut t: Vec<f64> = (0..500).map(|_| rng.uniform() * 40.0).collect();
+            t.sort_by(|a, b| a.total_cmp(b));
+            t
+        };
         let w = vec![1.0 / 500.0; 500];
         let h: Vec<f64> = w.iter().map(|&x| x * rng.normal()).collect();
         let grid = FrequencyGrid::new(1.0 / 40.0, 0.2 / 40.0, 3000).unwrap();
         let e = crate::periodogram::sums::exact_sums(&t, &w, &h, &grid);
         let worst = |o: FastOptions| {
             let b = fast_sums(&t, &w, &h, &grid, &o);
-            (0..grid.len).map(|k| (b.c[k] - e.c[k]).abs().max((b.yc[k] - e.yc[k]).abs()).max((b.c2[k] - e.c2[k]).abs())).fold(0.0f64, f64::max)
+            (0..grid.len)
+                .map(|k| (b.c[k] - e.c[k]).abs().max((b.yc[k] - e.yc[k]).abs()).max((b.c2[k] - e.c2[k]).abs()))
+                .fold(0.0f64, f64::max)
         };
         let fine = worst(FastOptions::default());
         let coarse = worst(FastOptions { tolerance: 1e-4, ..FastOptions::default() });

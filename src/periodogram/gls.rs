@@ -5,7 +5,7 @@
 //! data, and the spectral window |Σ w e^{iωt}|² / (Σ w)² (Deeming 1975, Ap&SS 36, 137).
 
 use super::sums::TrigSums;
-use super::{Algorithm, Periodogram, Series, Spectrum, SearchError, FrequencyGrid, compute_sums};
+use super::{Algorithm, FrequencyGrid, Periodogram, SearchError, Series, Spectrum, compute_sums};
 
 /// Power p ∈ [0,1] and semi-amplitude from per-band sums with band-centred data.
 /// `w_band` = Σ w per band (weights normalised to Σ w = 1 overall), `yy` = Σ w y².
@@ -82,7 +82,13 @@ fn prepare(series: &Series) -> (Vec<f64>, Vec<f64>, Vec<f64>, f64) {
     (w, y, w_band, yy)
 }
 
-fn lomb_scargle_family(series: &Series, grid: &FrequencyGrid, algorithm: Algorithm, floating_mean: bool, per_band: bool) -> Spectrum {
+fn lomb_scargle_family(
+    series: &Series,
+    grid: &FrequencyGrid,
+    algorithm: Algorithm,
+    floating_mean: bool,
+    per_band: bool,
+) -> Spectrum {
     let (w, y, w_band, yy) = prepare(series);
     let algorithm = algorithm.resolve(series.len(), grid.len);
     let sums: Vec<TrigSums>;
@@ -111,14 +117,22 @@ fn lomb_scargle_family(series: &Series, grid: &FrequencyGrid, algorithm: Algorit
     finish(&sums, &wb, yy, grid, floating_mean, algorithm)
 }
 
-fn finish(sums: &[TrigSums], wb: &[f64], yy: f64, grid: &FrequencyGrid, floating_mean: bool, algorithm: Algorithm) -> Spectrum {
+fn finish(
+    sums: &[TrigSums],
+    wb: &[f64],
+    yy: f64,
+    grid: &FrequencyGrid,
+    floating_mean: bool,
+    algorithm: Algorithm,
+) -> Spectrum {
     if let ([s], [w]) = (sums, wb) {
         if *w > 0.0 {
             let (power, amplitude) = single_band(s, *w, yy, grid.len, floating_mean);
             return Spectrum { grid: *grid, power, amplitude: Some(amplitude), algorithm: Some(algorithm) };
         }
     }
-    let (power, amplitude): (Vec<f64>, Vec<f64>) = (0..grid.len).map(|k| power_at(sums, wb, yy, k, floating_mean)).unzip();
+    let (power, amplitude): (Vec<f64>, Vec<f64>) =
+        (0..grid.len).map(|k| power_at(sums, wb, yy, k, floating_mean)).unzip();
     Spectrum { grid: *grid, power, amplitude: Some(amplitude), algorithm: Some(algorithm) }
 }
 
@@ -201,7 +215,12 @@ impl Periodogram for SpectralWindow {
     }
     fn check_series(&self, series: &Series) -> Result<(), SearchError> {
         if series.len() < 2 {
-            return Err(SearchError::TooFewPoints { needed: 2, got: series.len(), dropped: series.n_dropped, reason: self.name() });
+            return Err(SearchError::TooFewPoints {
+                needed: 2,
+                got: series.len(),
+                dropped: series.n_dropped,
+                reason: self.name(),
+            });
         }
         Ok(())
     }

@@ -14,13 +14,25 @@ impl FrequencyGrid {
     /// A grid given explicitly; start ≥ 0, step > 0, len ≥ 1.
     pub fn new(start_per_day: f64, step_per_day: f64, len: usize) -> Result<Self, SearchError> {
         if !(start_per_day.is_finite() && start_per_day >= 0.0) {
-            return Err(SearchError::InvalidParameter { name: "grid start (c/d)", value: start_per_day, expected: "a finite frequency ≥ 0" });
+            return Err(SearchError::InvalidParameter {
+                name: "grid start (c/d)",
+                value: start_per_day,
+                expected: "a finite frequency ≥ 0",
+            });
         }
         if !(step_per_day.is_finite() && step_per_day > 0.0) {
-            return Err(SearchError::InvalidParameter { name: "grid step (c/d)", value: step_per_day, expected: "a finite step > 0" });
+            return Err(SearchError::InvalidParameter {
+                name: "grid step (c/d)",
+                value: step_per_day,
+                expected: "a finite step > 0",
+            });
         }
         if len == 0 {
-            return Err(SearchError::InvalidParameter { name: "grid length", value: 0.0, expected: "at least one frequency" });
+            return Err(SearchError::InvalidParameter {
+                name: "grid length",
+                value: 0.0,
+                expected: "at least one frequency",
+            });
         }
         Ok(FrequencyGrid { start_per_day, step_per_day, len })
     }
@@ -75,28 +87,55 @@ pub struct GridPlan {
 /// Source: common practice (e.g. VanderPlas 2018, ApJS 236, 16, §7.1).
 pub fn plan_grid(baseline_d: f64, req: &GridRequest) -> Result<GridPlan, SearchError> {
     if !(baseline_d.is_finite() && baseline_d > 0.0) {
-        return Err(SearchError::InvalidParameter { name: "baseline (d)", value: baseline_d, expected: "times spanning more than zero days" });
+        return Err(SearchError::InvalidParameter {
+            name: "baseline (d)",
+            value: baseline_d,
+            expected: "times spanning more than zero days",
+        });
     }
     if !(req.oversampling.is_finite() && req.oversampling >= 1.0 && req.oversampling <= 1000.0) {
-        return Err(SearchError::InvalidParameter { name: "oversampling", value: req.oversampling, expected: "a number from 1 to 1000" });
+        return Err(SearchError::InvalidParameter {
+            name: "oversampling",
+            value: req.oversampling,
+            expected: "a number from 1 to 1000",
+        });
     }
     let resolution = 1.0 / baseline_d;
     let fmin = req.min_freq_per_day.unwrap_or(resolution);
     let fmax = req.max_freq_per_day;
     if !(fmax.is_finite() && fmax > 0.0) || !fmin.is_finite() {
-        return Err(SearchError::UnresolvableRange { min_freq_per_day: fmin, max_freq_per_day: fmax, baseline_d, reason: "frequencies must be finite and the maximum > 0" });
+        return Err(SearchError::UnresolvableRange {
+            min_freq_per_day: fmin,
+            max_freq_per_day: fmax,
+            baseline_d,
+            reason: "frequencies must be finite and the maximum > 0",
+        });
     }
     if fmin < resolution * (1.0 - 1e-9) {
-        return Err(SearchError::UnresolvableRange { min_freq_per_day: fmin, max_freq_per_day: fmax, baseline_d, reason: "the longest period asked for exceeds the baseline (lowest frequency must be ≥ 1/baseline)" });
+        return Err(SearchError::UnresolvableRange {
+            min_freq_per_day: fmin,
+            max_freq_per_day: fmax,
+            baseline_d,
+            reason: "the longest period asked for exceeds the baseline (lowest frequency must be ≥ 1/baseline)",
+        });
     }
     if fmax <= fmin {
-        return Err(SearchError::UnresolvableRange { min_freq_per_day: fmin, max_freq_per_day: fmax, baseline_d, reason: "the maximum frequency must exceed the minimum" });
+        return Err(SearchError::UnresolvableRange {
+            min_freq_per_day: fmin,
+            max_freq_per_day: fmax,
+            baseline_d,
+            reason: "the maximum frequency must exceed the minimum",
+        });
     }
     let step = resolution / req.oversampling;
     let n_f = ((fmax - fmin) / step).floor() + 1.0;
     let bytes = (n_f * BYTES_PER_FREQUENCY as f64) as u128;
     if n_f > 4.0e9 || bytes > req.memory_limit_bytes {
-        return Err(SearchError::GridTooLarge { n_freq: n_f.min(usize::MAX as f64) as usize, bytes_needed: bytes, bytes_limit: req.memory_limit_bytes });
+        return Err(SearchError::GridTooLarge {
+            n_freq: n_f.min(usize::MAX as f64) as usize,
+            bytes_needed: bytes,
+            bytes_limit: req.memory_limit_bytes,
+        });
     }
     let grid = FrequencyGrid::new(fmin, step, n_f as usize)?;
     Ok(GridPlan { grid, bytes_estimate: bytes })

@@ -100,7 +100,12 @@ pub trait Periodogram: Sync {
     /// Checks that the series suits the method (enough points by default).
     fn check_series(&self, series: &Series) -> Result<(), SearchError> {
         if series.len() < self.min_points() {
-            return Err(SearchError::TooFewPoints { needed: self.min_points(), got: series.len(), dropped: series.n_dropped, reason: self.name() });
+            return Err(SearchError::TooFewPoints {
+                needed: self.min_points(),
+                got: series.len(),
+                dropped: series.n_dropped,
+                reason: self.name(),
+            });
         }
         Ok(())
     }

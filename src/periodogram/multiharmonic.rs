@@ -24,11 +24,20 @@ impl Periodogram for MultiHarmonic {
     }
     fn check_series(&self, series: &Series) -> Result<(), SearchError> {
         if !(1..=10).contains(&self.harmonics) {
-            return Err(SearchError::InvalidParameter { name: "harmonics", value: self.harmonics as f64, expected: "1 to 10" });
+            return Err(SearchError::InvalidParameter {
+                name: "harmonics",
+                value: self.harmonics as f64,
+                expected: "1 to 10",
+            });
         }
         let need = 2 * self.harmonics + series.n_bands() + 1;
         if series.len() < need {
-            return Err(SearchError::TooFewPoints { needed: need, got: series.len(), dropped: series.n_dropped, reason: self.name() });
+            return Err(SearchError::TooFewPoints {
+                needed: need,
+                got: series.len(),
+                dropped: series.n_dropped,
+                reason: self.name(),
+            });
         }
         Ok(())
     }

@@ -77,7 +77,13 @@ pub struct PeakOptions {
 
 impl Default for PeakOptions {
     fn default() -> Self {
-        PeakOptions { count: 5, min_separation_per_day: None, alias_tolerance_per_day: None, window_sidelobes_per_day: Vec::new(), refine: true }
+        PeakOptions {
+            count: 5,
+            min_separation_per_day: None,
+            alias_tolerance_per_day: None,
+            window_sidelobes_per_day: Vec::new(),
+            refine: true,
+        }
     }
 }
 
@@ -225,7 +231,12 @@ impl AliasFrequency {
 /// and the subharmonic f/2 (common practice). In that order; ones outside the range, and
 /// ones closer to f than `min_offset_per_day` (unresolvable: use the resolution 1/T of the
 /// baseline T, as [`annotate_aliases`] does), are left out.
-pub fn alias_frequencies(freq_per_day: f64, lo_per_day: f64, hi_per_day: f64, min_offset_per_day: f64) -> Vec<AliasFrequency> {
+pub fn alias_frequencies(
+    freq_per_day: f64,
+    lo_per_day: f64,
+    hi_per_day: f64,
+    min_offset_per_day: f64,
+) -> Vec<AliasFrequency> {
     let f = freq_per_day;
     let candidates = [
         ((f - SIDEREAL_FREQ_PER_DAY).abs(), AliasKind::SiderealDay { n: -1 }),
@@ -260,10 +271,18 @@ pub fn annotate_aliases(peaks: &mut [Peak], tol: f64, sidelobes_per_day: &[f64])
                 }
             };
             for n in [-3i32, -2, -1, 1, 2, 3] {
-                test((fi + n as f64 * SIDEREAL_FREQ_PER_DAY).abs(), AliasKind::SiderealDay { n }, (n as f64 * SIDEREAL_FREQ_PER_DAY).abs());
+                test(
+                    (fi + n as f64 * SIDEREAL_FREQ_PER_DAY).abs(),
+                    AliasKind::SiderealDay { n },
+                    (n as f64 * SIDEREAL_FREQ_PER_DAY).abs(),
+                );
             }
             for n in [-2i32, -1, 1, 2] {
-                test((fi + n as f64 * YEAR_FREQ_PER_DAY).abs(), AliasKind::Year { n }, (n as f64 * YEAR_FREQ_PER_DAY).abs());
+                test(
+                    (fi + n as f64 * YEAR_FREQ_PER_DAY).abs(),
+                    AliasKind::Year { n },
+                    (n as f64 * YEAR_FREQ_PER_DAY).abs(),
+                );
             }
             for n in 2u32..=5 {
                 test(fi * n as f64, AliasKind::Harmonic { n }, fi * (n as f64 - 1.0));

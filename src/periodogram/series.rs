@@ -114,7 +114,12 @@ impl Series {
                 }
             };
             if last_in_band[bi].0 == t {
-                return Err(SearchError::DuplicateTime { row: i, first_row: last_in_band[bi].1, time_d: t, band: label });
+                return Err(SearchError::DuplicateTime {
+                    row: i,
+                    first_row: last_in_band[bi].1,
+                    time_d: t,
+                    band: label,
+                });
             }
             last_in_band[bi] = (t, i);
             s.time_d.push(t);
@@ -124,7 +129,12 @@ impl Series {
             s.row.push(i);
         }
         if s.len() < 3 {
-            return Err(SearchError::TooFewPoints { needed: 3, got: s.len(), dropped: s.n_dropped, reason: "a period search" });
+            return Err(SearchError::TooFewPoints {
+                needed: 3,
+                got: s.len(),
+                dropped: s.n_dropped,
+                reason: "a period search",
+            });
         }
         let constant = (0..s.n_bands()).all(|b| {
             let mut it = s.value.iter().zip(&s.band).filter(|(_, bb)| **bb == b).map(|(v, _)| *v);
@@ -202,7 +212,11 @@ impl Series {
     /// `value` must have `len()` entries.
     pub fn with_values(&self, value: Vec<f64>) -> Result<Series, SearchError> {
         if value.len() != self.len() {
-            return Err(SearchError::LengthMismatch { what: "replacement values", expected: self.len(), got: value.len() });
+            return Err(SearchError::LengthMismatch {
+                what: "replacement values",
+                expected: self.len(),
+                got: value.len(),
+            });
         }
         Ok(Series { value, ..self.clone() })
     }

@@ -17,13 +17,26 @@ use rayon::prelude::*;
 pub fn baluev_fap(power: f64, series: &Series, max_freq_per_day: f64) -> Result<f64, SearchError> {
     let n = series.len();
     if n < 5 {
-        return Err(SearchError::TooFewPoints { needed: 5, got: n, dropped: series.n_dropped, reason: "the analytic false-alarm probability" });
+        return Err(SearchError::TooFewPoints {
+            needed: 5,
+            got: n,
+            dropped: series.n_dropped,
+            reason: "the analytic false-alarm probability",
+        });
     }
     if !(power.is_finite() && (0.0..=1.0).contains(&power)) {
-        return Err(SearchError::InvalidParameter { name: "power", value: power, expected: "a normalised power between 0 and 1" });
+        return Err(SearchError::InvalidParameter {
+            name: "power",
+            value: power,
+            expected: "a normalised power between 0 and 1",
+        });
     }
     if !(max_freq_per_day.is_finite() && max_freq_per_day > 0.0) {
-        return Err(SearchError::InvalidParameter { name: "maximum frequency (c/d)", value: max_freq_per_day, expected: "a finite frequency > 0" });
+        return Err(SearchError::InvalidParameter {
+            name: "maximum frequency (c/d)",
+            value: max_freq_per_day,
+            expected: "a finite frequency > 0",
+        });
     }
     let sw: f64 = series.weight.iter().sum();
     let tm: f64 = series.time_d.iter().zip(&series.weight).map(|(t, w)| t * w).sum::<f64>() / sw;
@@ -63,9 +76,19 @@ pub struct BootstrapFap {
 /// replacement, evaluate `method` on `grid`, and count how often the highest power reaches
 /// `observed_power`. Parallel over trials; deterministic for a given seed.
 /// Source: common practice (e.g. Süveges 2014, MNRAS 440, 2099; VanderPlas 2018, §7.4.2).
-pub fn bootstrap_fap(series: &Series, grid: &FrequencyGrid, method: &dyn Periodogram, observed_power: f64, options: &BootstrapOptions) -> Result<BootstrapFap, SearchError> {
+pub fn bootstrap_fap(
+    series: &Series,
+    grid: &FrequencyGrid,
+    method: &dyn Periodogram,
+    observed_power: f64,
+    options: &BootstrapOptions,
+) -> Result<BootstrapFap, SearchError> {
     if options.trials == 0 {
-        return Err(SearchError::InvalidParameter { name: "bootstrap trials", value: 0.0, expected: "at least 1 trial (100 or more for a useful estimate)" });
+        return Err(SearchError::InvalidParameter {
+            name: "bootstrap trials",
+            value: 0.0,
+            expected: "at least 1 trial (100 or more for a useful estimate)",
+        });
     }
     method.check_series(series)?;
     let n = series.len();

@@ -23,7 +23,14 @@ pub struct TrigSums {
 
 impl TrigSums {
     pub(crate) fn zeros(m: usize) -> Self {
-        TrigSums { c: vec![0.0; m], s: vec![0.0; m], yc: vec![0.0; m], ys: vec![0.0; m], c2: vec![0.0; m], s2: vec![0.0; m] }
+        TrigSums {
+            c: vec![0.0; m],
+            s: vec![0.0; m],
+            yc: vec![0.0; m],
+            ys: vec![0.0; m],
+            c2: vec![0.0; m],
+            s2: vec![0.0; m],
+        }
     }
     /// Number of frequencies.
     pub fn len(&self) -> usize {
@@ -55,10 +62,8 @@ pub fn exact_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid) -> Trig
     let (t, w, h) = (&t[..n], &w[..n], &h[..n]);
     let mut out = TrigSums::zeros(m);
     let blocks: Vec<(usize, usize)> = (0..m).step_by(BLOCK).map(|k0| (k0, (k0 + BLOCK).min(m))).collect();
-    let results: Vec<(usize, [Vec<f64>; 6])> = blocks
-        .par_iter()
-        .map(|&(k0, k1)| (k0, block_dispatch(t, w, h, grid, k0, k1)))
-        .collect();
+    let results: Vec<(usize, [Vec<f64>; 6])> =
+        blocks.par_iter().map(|&(k0, k1)| (k0, block_dispatch(t, w, h, grid, k0, k1))).collect();
     for (k0, res) in results {
         let len = res[0].len();
         out.c[k0..k0 + len].copy_from_slice(&res[0]);
@@ -244,10 +249,21 @@ mod tests {
         // the portable block (used on CPUs without AVX) on the first 256 frequencies
         let p = block(&t, &w, &h, &grid, 0, 256);
         for k in 0..256 {
-            assert!((p[0][k] - b.c[k]).abs() < 1e-11 && (p[4][k] - b.c2[k]).abs() < 1e-11 && (p[5][k] - b.s2[k]).abs() < 1e-11);
+            assert!(
+                (p[0][k] - b.c[k]).abs() < 1e-11
+                    && (p[4][k] - b.c2[k]).abs() < 1e-11
+                    && (p[5][k] - b.s2[k]).abs() < 1e-11
+            );
         }
         for k in 0..grid.len {
-            for (x, y) in [(a.c[k], b.c[k]), (a.s[k], b.s[k]), (a.yc[k], b.yc[k]), (a.ys[k], b.ys[k]), (a.c2[k], b.c2[k]), (a.s2[k], b.s2[k])] {
+            for (x, y) in [
+                (a.c[k], b.c[k]),
+                (a.s[k], b.s[k]),
+                (a.yc[k], b.yc[k]),
+                (a.ys[k], b.ys[k]),
+                (a.c2[k], b.c2[k]),
+                (a.s2[k], b.s2[k]),
+            ] {
                 assert!((x - y).abs() < 1e-11, "k={k} {x} {y}");
             }
         }

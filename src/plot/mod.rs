@@ -86,16 +86,28 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
-fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, title: Option<&str>) -> Result<(), String> {
+fn draw_panel<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    panel: &Panel,
+    title: Option<&str>,
+) -> Result<(), String> {
     let xs = panel.layers.iter().flat_map(|l| match l {
-        Layer::Points { x, .. } | Layer::Line { x, .. } | Layer::Markers { x, .. } | Layer::Guides { x, .. } | Layer::Band { x, .. } => x.clone(),
+        Layer::Points { x, .. }
+        | Layer::Line { x, .. }
+        | Layer::Markers { x, .. }
+        | Layer::Guides { x, .. }
+        | Layer::Band { x, .. } => x.clone(),
     });
     let (x0, x1) = range(xs);
     let ys = panel.layers.iter().flat_map(|l| match l {
-        Layer::Points { y, y_err, .. } => y.iter().enumerate().flat_map(|(i, v)| {
-            let e = y_err.as_ref().and_then(|e| e.get(i)).copied().filter(|e| e.is_finite()).unwrap_or(0.0);
-            [v - e, v + e]
-        }).collect::<Vec<f64>>(),
+        Layer::Points { y, y_err, .. } => y
+            .iter()
+            .enumerate()
+            .flat_map(|(i, v)| {
+                let e = y_err.as_ref().and_then(|e| e.get(i)).copied().filter(|e| e.is_finite()).unwrap_or(0.0);
+                [v - e, v + e]
+            })
+            .collect::<Vec<f64>>(),
         Layer::Line { y, .. } => y.clone(),
         Layer::Band { lower, upper, .. } => lower.iter().chain(upper).copied().collect(),
         Layer::Markers { .. } | Layer::Guides { .. } => Vec::new(),
@@ -124,26 +136,40 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
                 let ok: Vec<usize> = (0..x.len().min(lower.len()).min(upper.len()))
                     .filter(|&i| x[i].is_finite() && lower[i].is_finite() && upper[i].is_finite())
                     .collect();
-                let outline: Vec<(f64, f64)> = ok.iter().map(|&i| (x[i], upper[i])).chain(ok.iter().rev().map(|&i| (x[i], lower[i]))).collect();
+                let outline: Vec<(f64, f64)> =
+                    ok.iter().map(|&i| (x[i], upper[i])).chain(ok.iter().rev().map(|&i| (x[i], lower[i]))).collect();
                 let anno = chart
                     .draw_series(std::iter::once(Polygon::new(outline, c.mix(0.25).filled())))
                     .map_err(|e| e.to_string())?;
                 if !label.is_empty() {
-                    anno.label(label.as_str()).legend(move |(px, py)| Rectangle::new([(px, py - 5), (px + 16, py + 5)], c.mix(0.25).filled()));
+                    anno.label(label.as_str()).legend(move |(px, py)| {
+                        Rectangle::new([(px, py - 5), (px + 16, py + 5)], c.mix(0.25).filled())
+                    });
                 }
             }
             Layer::Points { label, x, y, y_err, colour, size } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
                 if let Some(e) = y_err {
                     chart
-                        .draw_series(x.iter().zip(y).zip(e).filter(|((a, b), e)| a.is_finite() && b.is_finite() && e.is_finite()).map(|((&a, &b), &e)| {
-                            PathElement::new(vec![(a, b - e), (a, b + e)], c.mix(0.6).stroke_width(1))
-                        }))
+                        .draw_series(
+                            x.iter()
+                                .zip(y)
+                                .zip(e)
+                                .filter(|((a, b), e)| a.is_finite() && b.is_finite() && e.is_finite())
+                                .map(|((&a, &b), &e)| {
+                                    PathElement::new(vec![(a, b - e), (a, b + e)], c.mix(0.6).stroke_width(1))
+                                }),
+                        )
                         .map_err(|e| e.to_string())?;
                 }
                 let s = *size as i32;
                 let anno = chart
-                    .draw_series(x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| Circle::new((a, b), s, c.filled())))
+                    .draw_series(
+                        x.iter()
+                            .zip(y)
+                            .filter(|(a, b)| a.is_finite() && b.is_finite())
+                            .map(|(&a, &b)| Circle::new((a, b), s, c.filled())),
+                    )
                     .map_err(|e| e.to_string())?;
                 if !label.is_empty() {
                     anno.label(label.as_str()).legend(move |(px, py)| Circle::new((px + 8, py), s.max(3), c.filled()));
@@ -152,44 +178,68 @@ fn draw_panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, panel: &Panel, 
             Layer::Line { label, x, y, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
                 let anno = chart
-                    .draw_series(LineSeries::new(x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| (a, b)), c.stroke_width(2)))
+                    .draw_series(LineSeries::new(
+                        x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| (a, b)),
+                        c.stroke_width(2),
+                    ))
                     .map_err(|e| e.to_string())?;
                 if !label.is_empty() {
-                    anno.label(label.as_str()).legend(move |(px, py)| PathElement::new(vec![(px, py), (px + 16, py)], c.stroke_width(2)));
+                    anno.label(label.as_str())
+                        .legend(move |(px, py)| PathElement::new(vec![(px, py), (px + 16, py)], c.stroke_width(2)));
                 }
             }
             Layer::Markers { label, x, text, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
                 let anno = chart
-                    .draw_series(x.iter().map(|&a| PathElement::new(vec![(a, ya), (a, yb)], c.mix(0.8).stroke_width(1))))
+                    .draw_series(
+                        x.iter().map(|&a| PathElement::new(vec![(a, ya), (a, yb)], c.mix(0.8).stroke_width(1))),
+                    )
                     .map_err(|e| e.to_string())?;
                 if !label.is_empty() {
-                    anno.label(label.as_str()).legend(move |(px, py)| PathElement::new(vec![(px + 8, py - 6), (px + 8, py + 6)], c.stroke_width(2)));
+                    anno.label(label.as_str()).legend(move |(px, py)| {
+                        PathElement::new(vec![(px + 8, py - 6), (px + 8, py + 6)], c.stroke_width(2))
+                    });
                 }
                 let ytext = yb - 0.04 * (yb - ya);
                 chart
-                    .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))))
+                    .draw_series(
+                        x.iter()
+                            .zip(text)
+                            .map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))),
+                    )
                     .map_err(|e| e.to_string())?;
             }
             Layer::Guides { label, x, text, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
                 let anno = chart
-                    .draw_series(x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))))
+                    .draw_series(
+                        x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))),
+                    )
                     .map_err(|e| e.to_string())?;
                 if !label.is_empty() {
-                    anno.label(label.as_str()).legend(move |(px, py)| DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2)));
+                    anno.label(label.as_str()).legend(move |(px, py)| {
+                        DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2))
+                    });
                 }
                 // Below the legend box (upper right) so that no guide text hides under it.
                 let ytext = yb - 0.2 * (yb - ya);
                 chart
-                    .draw_series(x.iter().zip(text).map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))))
+                    .draw_series(
+                        x.iter()
+                            .zip(text)
+                            .map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))),
+                    )
                     .map_err(|e| e.to_string())?;
             }
         }
     }
     // Layers with an empty label stay out of the legend; no legend box without entries.
     let labelled = panel.layers.iter().any(|l| match l {
-        Layer::Points { label, .. } | Layer::Line { label, .. } | Layer::Markers { label, .. } | Layer::Band { label, .. } | Layer::Guides { label, .. } => !label.is_empty(),
+        Layer::Points { label, .. }
+        | Layer::Line { label, .. }
+        | Layer::Markers { label, .. }
+        | Layer::Band { label, .. }
+        | Layer::Guides { label, .. } => !label.is_empty(),
     });
     if !labelled {
         return Ok(());
@@ -212,7 +262,8 @@ fn draw_all<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, fig: &Figure) -> R
     let h = fig.height;
     for (k, panel) in fig.panels.iter().enumerate() {
         let ph = (h as u64 * panel.height_weight.max(1) as u64 / total as u64) as u32;
-        let (top, bottom) = if k + 1 < fig.panels.len() { rest.split_vertically(ph) } else { (rest.clone(), rest.clone()) };
+        let (top, bottom) =
+            if k + 1 < fig.panels.len() { rest.split_vertically(ph) } else { (rest.clone(), rest.clone()) };
         draw_panel(&top, panel, (k == 0).then_some(fig.title.as_str()))?;
         rest = bottom;
     }
@@ -251,7 +302,10 @@ pub fn render_svg(fig: &Figure) -> Result<String, PlotError> {
         .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message })?;
     // The glyphs were measured with the embedded DejaVu Sans; a viewer without our private
     // family name should fall back to the same face, or a sans-serif one, never to serif.
-    Ok(out.replace(&format!("font-family=\"{FAMILY}\""), &format!("font-family=\"{FAMILY}, DejaVu Sans, Liberation Sans, Arial, sans-serif\"")))
+    Ok(out.replace(
+        &format!("font-family=\"{FAMILY}\""),
+        &format!("font-family=\"{FAMILY}, DejaVu Sans, Liberation Sans, Arial, sans-serif\""),
+    ))
 }
 
 #[cfg(test)]
@@ -265,13 +319,40 @@ mod tests {
         let fig = Figure {
             title: "invented".into(),
             panels: vec![
-                Panel { x_label: "phase (cycles)".into(), y_label: "magnitude".into(), invert_y: true, height_weight: 3, layers: vec![
-                    Layer::Points { label: "points".into(), x: x.clone(), y: y.clone(), y_err: Some(vec![0.1; 50]), colour: (40, 80, 160), size: 2 },
-                    Layer::Markers { label: "marks".into(), x: vec![0.5], text: vec!["P".into()], colour: (200, 0, 0) },
-                ] },
-                Panel { x_label: "phase (cycles)".into(), y_label: "residual (mag)".into(), invert_y: false, height_weight: 1, layers: vec![
-                    Layer::Line { label: "zero".into(), x: vec![0.0, 1.0], y: vec![0.0, 0.0], colour: (0, 0, 0) },
-                ] },
+                Panel {
+                    x_label: "phase (cycles)".into(),
+                    y_label: "magnitude".into(),
+                    invert_y: true,
+                    height_weight: 3,
+                    layers: vec![
+                        Layer::Points {
+                            label: "points".into(),
+                            x: x.clone(),
+                            y: y.clone(),
+                            y_err: Some(vec![0.1; 50]),
+                            colour: (40, 80, 160),
+                            size: 2,
+                        },
+                        Layer::Markers {
+                            label: "marks".into(),
+                            x: vec![0.5],
+                            text: vec!["P".into()],
+                            colour: (200, 0, 0),
+                        },
+                    ],
+                },
+                Panel {
+                    x_label: "phase (cycles)".into(),
+                    y_label: "residual (mag)".into(),
+                    invert_y: false,
+                    height_weight: 1,
+                    layers: vec![Layer::Line {
+                        label: "zero".into(),
+                        x: vec![0.0, 1.0],
+                        y: vec![0.0, 0.0],
+                        colour: (0, 0, 0),
+                    }],
+                },
             ],
             width: 800,
             height: 600,

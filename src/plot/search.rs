@@ -21,10 +21,25 @@ pub const PEAK_LAYER_LABEL: &str = "top peaks (rank; * = likely alias)";
 /// panel with the markers only.
 pub fn periodogram_figure(outcome: &SearchOutcome, title: &str) -> Figure {
     let grid = &outcome.spectrum.grid;
-    let marks: Vec<String> = outcome.peaks.iter().enumerate().map(|(k, p)| if p.peak.aliases.is_empty() { format!("{}", k + 1) } else { format!("{}*", k + 1) }).collect();
+    let marks: Vec<String> = outcome
+        .peaks
+        .iter()
+        .enumerate()
+        .map(|(k, p)| if p.peak.aliases.is_empty() { format!("{}", k + 1) } else { format!("{}*", k + 1) })
+        .collect();
     let mut layers = vec![
-        Layer::Line { label: "periodogram".into(), x: grid.frequencies(), y: outcome.spectrum.power.clone(), colour: (30, 60, 140) },
-        Layer::Markers { label: PEAK_LAYER_LABEL.into(), x: outcome.peaks.iter().map(|p| p.peak.freq_per_day).collect(), text: marks, colour: (200, 30, 30) },
+        Layer::Line {
+            label: "periodogram".into(),
+            x: grid.frequencies(),
+            y: outcome.spectrum.power.clone(),
+            colour: (30, 60, 140),
+        },
+        Layer::Markers {
+            label: PEAK_LAYER_LABEL.into(),
+            x: outcome.peaks.iter().map(|p| p.peak.freq_per_day).collect(),
+            text: marks,
+            colour: (200, 30, 30),
+        },
     ];
     if let Some(top) = outcome.peaks.first() {
         let resolution = if outcome.baseline_d > 0.0 { 1.0 / outcome.baseline_d } else { 0.0 };
@@ -40,7 +55,13 @@ pub fn periodogram_figure(outcome: &SearchOutcome, title: &str) -> Figure {
     }
     Figure {
         title: title.to_string(),
-        panels: vec![Panel { x_label: "frequency (cycles per day)".into(), y_label: "power".into(), invert_y: false, height_weight: 1, layers }],
+        panels: vec![Panel {
+            x_label: "frequency (cycles per day)".into(),
+            y_label: "power".into(),
+            invert_y: false,
+            height_weight: 1,
+            layers,
+        }],
         width: 1200,
         height: 700,
     }
@@ -74,7 +95,14 @@ pub fn folded_figure(curve: &FoldedCurve<'_>, title: &str) -> Figure {
         invert_y: curve.invert_y,
         height_weight: 2,
         layers: vec![
-            Layer::Points { label: "observations".into(), x: curve.phase.to_vec(), y: curve.value.to_vec(), y_err: err.clone(), colour: (120, 140, 180), size: 2 },
+            Layer::Points {
+                label: "observations".into(),
+                x: curve.phase.to_vec(),
+                y: curve.value.to_vec(),
+                y_err: err.clone(),
+                colour: (120, 140, 180),
+                size: 2,
+            },
             Layer::Points {
                 label: "binned".into(),
                 x: curve.bins.iter().map(|b| b.phase_center).collect(),
@@ -91,7 +119,14 @@ pub fn folded_figure(curve: &FoldedCurve<'_>, title: &str) -> Figure {
         invert_y: curve.invert_y,
         height_weight: 1,
         layers: vec![
-            Layer::Points { label: "data − binned curve".into(), x: curve.phase.to_vec(), y: residual, y_err: err, colour: (120, 140, 180), size: 2 },
+            Layer::Points {
+                label: "data − binned curve".into(),
+                x: curve.phase.to_vec(),
+                y: residual,
+                y_err: err,
+                colour: (120, 140, 180),
+                size: 2,
+            },
             Layer::Line { label: "zero".into(), x: vec![0.0, 1.0], y: vec![0.0, 0.0], colour: (0, 0, 0) },
         ],
     };

@@ -4,11 +4,21 @@
 //! These only describe figures; [`super::write_figure`] draws them.
 
 use super::{Figure, Layer, Panel};
+use crate::constants::SECONDS_PER_DAY;
 use crate::oc::models::{eccentricity_omega, light_time_d};
 use crate::oc::{ModelFit, OcSeries};
 
 /// Colours of successive point groups (chosen to stay distinct in greyscale print).
-const PALETTE: [(u8, u8, u8); 8] = [(31, 75, 153), (200, 82, 0), (0, 128, 96), (150, 40, 140), (90, 90, 90), (180, 150, 0), (0, 150, 200), (120, 60, 20)];
+const PALETTE: [(u8, u8, u8); 8] = [
+    (31, 75, 153),
+    (200, 82, 0),
+    (0, 128, 96),
+    (150, 40, 140),
+    (90, 90, 90),
+    (180, 150, 0),
+    (0, 150, 200),
+    (120, 60, 20),
+];
 
 /// Reference JD subtracted on the time axis.
 const AXIS_JD_OFFSET: f64 = 2_400_000.0;
@@ -22,7 +32,12 @@ fn groups(series: &OcSeries) -> Vec<(String, Vec<usize>)> {
             .sources
             .iter()
             .enumerate()
-            .map(|(k, label)| (if label.is_empty() { "unnamed origin".to_string() } else { label.clone() }, (0..series.len()).filter(|&i| series.source_index[i] == k).collect()))
+            .map(|(k, label)| {
+                (
+                    if label.is_empty() { "unnamed origin".to_string() } else { label.clone() },
+                    (0..series.len()).filter(|&i| series.source_index[i] == k).collect(),
+                )
+            })
             .filter(|(_, v): &(String, Vec<usize>)| !v.is_empty())
             .collect();
     }
@@ -63,14 +78,27 @@ pub fn oc_diagram(title: &str, series: &OcSeries, fit: &ModelFit, epoch_jd: f64)
             upper: model.iter().zip(&sigma).map(|(m, s)| m + s).collect(),
             colour: (200, 30, 30),
         });
-        main_layers.push(Layer::Line { label: format!("{} model", fit.kind.name()), x, y: model, colour: (200, 30, 30) });
+        main_layers.push(Layer::Line {
+            label: format!("{} model", fit.kind.name()),
+            x,
+            y: model,
+            colour: (200, 30, 30),
+        });
     }
     for (k, (label, idx)) in groups(series).into_iter().enumerate() {
         let colour = PALETTE[k % PALETTE.len()];
         let x: Vec<f64> = idx.iter().map(|&i| x_of(series.time_d[i])).collect();
         let err: Vec<f64> = idx.iter().map(|&i| series.error_d[i]).collect();
-        main_layers.push(Layer::Points { label, x: x.clone(), y: idx.iter().map(|&i| series.oc_d[i]).collect(), y_err: Some(err.clone()), colour, size: 3 });
-        let resid: Vec<f64> = idx.iter().map(|&i| series.oc_d[i] - fit.model_oc_d(series.cycle[i], series.time_d[i])).collect();
+        main_layers.push(Layer::Points {
+            label,
+            x: x.clone(),
+            y: idx.iter().map(|&i| series.oc_d[i]).collect(),
+            y_err: Some(err.clone()),
+            colour,
+            size: 3,
+        });
+        let resid: Vec<f64> =
+            idx.iter().map(|&i| series.oc_d[i] - fit.model_oc_d(series.cycle[i], series.time_d[i])).collect();
         // Same colours as above; no second legend over the residuals.
         resid_layers.push(Layer::Points { label: String::new(), x, y: resid, y_err: Some(err), colour, size: 3 });
     }
@@ -79,8 +107,20 @@ pub fn oc_diagram(title: &str, series: &OcSeries, fit: &ModelFit, epoch_jd: f64)
     Figure {
         title: title.to_string(),
         panels: vec![
-            Panel { x_label: "BJD_TDB − 2400000 (d)".into(), y_label: "O − C (d)".into(), layers: main_layers, invert_y: false, height_weight: 3 },
-            Panel { x_label: "BJD_TDB − 2400000 (d)".into(), y_label: "O − C − model (d)".into(), layers: resid_layers, invert_y: false, height_weight: 1 },
+            Panel {
+                x_label: "BJD_TDB − 2400000 (d)".into(),
+                y_label: "O − C (d)".into(),
+                layers: main_layers,
+                invert_y: false,
+                height_weight: 3,
+            },
+            Panel {
+                x_label: "BJD_TDB − 2400000 (d)".into(),
+                y_label: "O − C − model (d)".into(),
+                layers: resid_layers,
+                invert_y: false,
+                height_weight: 1,
+            },
         ],
         width: 1100,
         height: 800,
@@ -113,14 +153,19 @@ pub fn light_time_orbit(title: &str, series: &OcSeries, fit: &ModelFit) -> Optio
     let n = 400;
     let phases: Vec<f64> = (0..=n).map(|k| k as f64 / n as f64).collect();
     // Time at each phase: t = (φ − M₀/2π)·P₃.
-    let curve: Vec<f64> = phases.iter().map(|&ph| light_time_d(l, (ph - l[4] / std::f64::consts::TAU) * p3) * 86_400.0).collect();
-    let mut layers = vec![Layer::Line { label: "light-time model (Irwin 1952)".into(), x: phases, y: curve, colour: (200, 30, 30) }];
+    let curve: Vec<f64> =
+        phases.iter().map(|&ph| light_time_d(l, (ph - l[4] / std::f64::consts::TAU) * p3) * SECONDS_PER_DAY).collect();
+    let mut layers =
+        vec![Layer::Line { label: "light-time model (Irwin 1952)".into(), x: phases, y: curve, colour: (200, 30, 30) }];
     for (k, (label, idx)) in groups(series).into_iter().enumerate() {
         layers.push(Layer::Points {
             label,
             x: idx.iter().map(|&i| phase_of(series.time_d[i])).collect(),
-            y: idx.iter().map(|&i| (series.oc_d[i] - polynomial(series.cycle[i], series.time_d[i])) * 86_400.0).collect(),
-            y_err: Some(idx.iter().map(|&i| series.error_d[i] * 86_400.0).collect()),
+            y: idx
+                .iter()
+                .map(|&i| (series.oc_d[i] - polynomial(series.cycle[i], series.time_d[i])) * SECONDS_PER_DAY)
+                .collect(),
+            y_err: Some(idx.iter().map(|&i| series.error_d[i] * SECONDS_PER_DAY).collect()),
             colour: PALETTE[k % PALETTE.len()],
             size: 3,
         });

@@ -17,6 +17,7 @@
 use super::sky::{SkyCondition, SkyGeometry, SkySnapshot};
 use super::{PredictError, SUN_CAUTION_DEG};
 use crate::arrival::BarycentricCorrector;
+use crate::constants::SECONDS_PER_DAY;
 use crate::observer::{Observer, Site};
 use crate::oc::EventKind;
 use crate::time::{Instant, TimeScale};
@@ -61,19 +62,32 @@ pub struct EventEphemeris {
 impl EventEphemeris {
     /// Builds and checks an ephemeris: the epoch must be on TDB, the period positive and
     /// finite, the covariance finite and symmetric with non-negative variances.
-    pub fn new(epoch: Instant, period_d: f64, quadratic_d: f64, covariance_d2: [[f64; 3]; 3]) -> Result<EventEphemeris, PredictError> {
+    pub fn new(
+        epoch: Instant,
+        period_d: f64,
+        quadratic_d: f64,
+        covariance_d2: [[f64; 3]; 3],
+    ) -> Result<EventEphemeris, PredictError> {
         if epoch.scale() != TimeScale::Tdb {
-            return Err(PredictError::BadEphemeris(format!("the epoch must be a BJD_TDB (scale TDB), got scale {}", epoch.scale())));
+            return Err(PredictError::BadEphemeris(format!(
+                "the epoch must be a BJD_TDB (scale TDB), got scale {}",
+                epoch.scale()
+            )));
         }
         if !(period_d.is_finite() && period_d > 0.0) {
-            return Err(PredictError::BadEphemeris(format!("the period must be a positive number of days, got {period_d}")));
+            return Err(PredictError::BadEphemeris(format!(
+                "the period must be a positive number of days, got {period_d}"
+            )));
         }
         if !quadratic_d.is_finite() {
             return Err(PredictError::BadEphemeris(format!("the quadratic term must be finite, got {quadratic_d}")));
         }
         for i in 0..3 {
             if covariance_d2[i][i] < 0.0 {
-                return Err(PredictError::BadEphemeris(format!("covariance element ({i},{i}) is a variance and cannot be negative: {}", covariance_d2[i][i])));
+                return Err(PredictError::BadEphemeris(format!(
+                    "covariance element ({i},{i}) is a variance and cannot be negative: {}",
+                    covariance_d2[i][i]
+                )));
             }
             for j in 0..3 {
                 let v = covariance_d2[i][j];
@@ -82,7 +96,9 @@ impl EventEphemeris {
                 }
                 let w = covariance_d2[j][i];
                 if (v - w).abs() > 1e-9 * (v.abs() + w.abs()) + f64::MIN_POSITIVE {
-                    return Err(PredictError::BadEphemeris(format!("covariance is not symmetric: ({i},{j}) = {v} but ({j},{i}) = {w}")));
+                    return Err(PredictError::BadEphemeris(format!(
+                        "covariance is not symmetric: ({i},{j}) = {v} but ({j},{i}) = {w}"
+                    )));
                 }
             }
         }
@@ -90,10 +106,17 @@ impl EventEphemeris {
     }
 
     /// A linear ephemeris with independent 1σ errors of epoch and period (days).
-    pub fn linear(epoch: Instant, period_d: f64, epoch_sigma_d: f64, period_sigma_d: f64) -> Result<EventEphemeris, PredictError> {
+    pub fn linear(
+        epoch: Instant,
+        period_d: f64,
+        epoch_sigma_d: f64,
+        period_sigma_d: f64,
+    ) -> Result<EventEphemeris, PredictError> {
         for (name, v) in [("epoch", epoch_sigma_d), ("period", period_sigma_d)] {
             if !(v.is_finite() && v >= 0.0) {
-                return Err(PredictError::BadEphemeris(format!("the {name} 1σ must be a non-negative number of days, got {v}")));
+                return Err(PredictError::BadEphemeris(format!(
+                    "the {name} 1σ must be a non-negative number of days, got {v}"
+                )));
             }
         }
         let mut c = [[0.0; 3]; 3];
@@ -113,10 +136,16 @@ impl EventEphemeris {
     ) -> Result<EventEphemeris, PredictError> {
         let n = shifts.len();
         if !(n == 2 || n == 3) {
-            return Err(PredictError::BadEphemeris(format!("a linear or quadratic model has 2 or 3 parameters, got {n}")));
+            return Err(PredictError::BadEphemeris(format!(
+                "a linear or quadratic model has 2 or 3 parameters, got {n}"
+            )));
         }
         if covariance.len() != n * n {
-            return Err(PredictError::BadEphemeris(format!("{n} parameters need a {n}×{n} covariance ({} numbers), got {}", n * n, covariance.len())));
+            return Err(PredictError::BadEphemeris(format!(
+                "{n} parameters need a {n}×{n} covariance ({} numbers), got {}",
+                n * n,
+                covariance.len()
+            )));
         }
         let mut c = [[0.0; 3]; 3];
         for i in 0..n {
@@ -125,7 +154,12 @@ impl EventEphemeris {
             }
         }
         let q = if n == 3 { shifts[2] } else { 0.0 };
-        EventEphemeris::new(reference_epoch.add_seconds(shifts[0] * 86_400.0), reference_period_d + shifts[1], q, c)
+        EventEphemeris::new(
+            reference_epoch.add_seconds(shifts[0] * SECONDS_PER_DAY),
+            reference_period_d + shifts[1],
+            q,
+            c,
+        )
     }
 
     /// From a fitted O–C model of any kind (`oc::ModelKind`), as written by
@@ -152,7 +186,8 @@ impl EventEphemeris {
         // Position of each fitted parameter in the 13-slot layout (T₀, P, Q, 5 + 5).
         let slot = |j: usize| if j < np { if j < 2 { j } else { 2 } } else { 3 + (j - np) };
         let poly_shifts: Vec<f64> = params[..np].to_vec();
-        let poly_cov: Vec<f64> = (0..np).flat_map(|a| (0..np).map(move |b| (a, b))).map(|(a, b)| covariance[a * n + b]).collect();
+        let poly_cov: Vec<f64> =
+            (0..np).flat_map(|a| (0..np).map(move |b| (a, b))).map(|(a, b)| covariance[a * n + b]).collect();
         let mut e = EventEphemeris::from_fitted_shifts(reference_epoch, reference_period_d, &poly_shifts, &poly_cov)?;
         if kind.companions() == 0 {
             return Ok(e);
@@ -171,10 +206,19 @@ impl EventEphemeris {
         for c in 0..kind.companions() {
             companion[c].copy_from_slice(&params[np + 5 * c..np + 5 * c + 5]);
             if !(companion[c][1].is_finite() && companion[c][1] > 0.0) {
-                return Err(PredictError::BadEphemeris(format!("companion {} has period {} d; it must be positive", c + 1, companion[c][1])));
+                return Err(PredictError::BadEphemeris(format!(
+                    "companion {} has period {} d; it must be positive",
+                    c + 1,
+                    companion[c][1]
+                )));
             }
         }
-        e.light_time = Some(CompanionLightTime { companions: kind.companions(), params: companion, reference_offset_d: params[0], covariance: full });
+        e.light_time = Some(CompanionLightTime {
+            companions: kind.companions(),
+            params: companion,
+            reference_offset_d: params[0],
+            covariance: full,
+        });
         Ok(e)
     }
 
@@ -197,7 +241,7 @@ impl EventEphemeris {
 
     /// Predicted BJD_TDB of cycle `cycle`.
     pub fn time_at(&self, cycle: f64) -> Instant {
-        self.epoch.add_seconds(self.offset_d(cycle) * 86_400.0)
+        self.epoch.add_seconds(self.offset_d(cycle) * SECONDS_PER_DAY)
     }
 
     /// Instantaneous period P + 2QE at cycle `cycle`, days.
@@ -244,7 +288,7 @@ impl EventEphemeris {
         }
         // With companions: Newton steps on T(E) − T₀ = t − T₀ from the polynomial root (the
         // light time changes far more slowly than one cycle).
-        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / 86_400.0;
+        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / SECONDS_PER_DAY;
         let mut e = polynomial;
         for _ in 0..8 {
             e -= (self.offset_d(e) - dt) / self.period_at_d(e);
@@ -253,7 +297,7 @@ impl EventEphemeris {
     }
 
     fn polynomial_cycle_at(&self, t: &Instant) -> Result<f64, PredictError> {
-        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / 86_400.0;
+        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / SECONDS_PER_DAY;
         if self.quadratic_d == 0.0 {
             return Ok(dt / self.period_d);
         }
@@ -305,18 +349,29 @@ impl PredictionOptions {
     /// Checks the limits; errors name the option and the accepted range.
     pub fn validate(&self) -> Result<(), PredictError> {
         if !(-90.0..=90.0).contains(&self.min_target_altitude_deg) {
-            return Err(PredictError::BadOption(format!("the minimum target altitude must lie in -90..90°, got {}", self.min_target_altitude_deg)));
+            return Err(PredictError::BadOption(format!(
+                "the minimum target altitude must lie in -90..90°, got {}",
+                self.min_target_altitude_deg
+            )));
         }
         if !(-90.0..=90.0).contains(&self.max_sun_altitude_deg) {
-            return Err(PredictError::BadOption(format!("the maximum Sun altitude must lie in -90..90°, got {}", self.max_sun_altitude_deg)));
+            return Err(PredictError::BadOption(format!(
+                "the maximum Sun altitude must lie in -90..90°, got {}",
+                self.max_sun_altitude_deg
+            )));
         }
         if let Some(d) = self.event_duration_d
             && !(d.is_finite() && d > 0.0 && d <= 10.0)
         {
-            return Err(PredictError::BadOption(format!("the event duration must be a positive number of days up to 10, got {d}")));
+            return Err(PredictError::BadOption(format!(
+                "the event duration must be a positive number of days up to 10, got {d}"
+            )));
         }
         if !(0.0..=180.0).contains(&self.min_moon_separation_deg) {
-            return Err(PredictError::BadOption(format!("the minimum Moon separation must lie in 0..180°, got {}", self.min_moon_separation_deg)));
+            return Err(PredictError::BadOption(format!(
+                "the minimum Moon separation must lie in 0..180°, got {}",
+                self.min_moon_separation_deg
+            )));
         }
         if !(self.sun_caution_deg >= SUN_CAUTION_DEG && self.sun_caution_deg <= 180.0) {
             return Err(PredictError::BadOption(format!(
@@ -390,7 +445,9 @@ pub fn predict_events(
     let e_end = ephemeris.cycle_at(&end_tdb)?;
     for e in [e_start, e_end] {
         if ephemeris.period_at_d(e) <= 0.0 {
-            return Err(PredictError::BadEphemeris(format!("the quadratic ephemeris gives a non-positive period at cycle {e:.1}")));
+            return Err(PredictError::BadEphemeris(format!(
+                "the quadratic ephemeris gives a non-positive period at cycle {e:.1}"
+            )));
         }
     }
     let mut cycles: Vec<(f64, EventKind)> = Vec::new();
@@ -439,7 +496,7 @@ pub fn predict_events(
                 let steps = ((d * 1440.0 / WINDOW_STEP_MIN).ceil() as usize).max(2);
                 let mut all = true;
                 for k in 0..=steps {
-                    let offset_s = (k as f64 / steps as f64 - 0.5) * d * 86_400.0;
+                    let offset_s = (k as f64 / steps as f64 - 0.5) * d * SECONDS_PER_DAY;
                     let s = sky.snapshot(site, &utc.add_seconds(offset_s), source)?;
                     min_sun_sep = min_sun_sep.min(s.sun_separation_deg);
                     all &= ok(&s);

@@ -33,7 +33,7 @@ use crate::observer::{EarthOrientation, Site};
 use crate::time::{Instant, ScaleConverter, TimeScale};
 
 /// Astronomical unit, km (IAU 2012 Resolution B2).
-const AU_KM: f64 = 149_597_870.700;
+use crate::constants::ASTRONOMICAL_UNIT_KM as AU_KM;
 /// Equatorial radius of the Earth used by the low-precision lunar formulae, km (AA).
 const EARTH_RADIUS_KM: f64 = 6_378.14;
 
@@ -128,7 +128,11 @@ impl<'a> SkyGeometry<'a> {
     /// A calculator using `ephemeris` for the Sun and the Earth, `converter` for the time
     /// scales and `orientation` for UT1 − UTC and polar motion (UT1 = UTC when ignored:
     /// ≤ 0.9 s of rotation, ≤ 0.004° in altitude).
-    pub fn new(ephemeris: &'a dyn Ephemeris, converter: ScaleConverter, orientation: EarthOrientation) -> SkyGeometry<'a> {
+    pub fn new(
+        ephemeris: &'a dyn Ephemeris,
+        converter: ScaleConverter,
+        orientation: EarthOrientation,
+    ) -> SkyGeometry<'a> {
         SkyGeometry { ephemeris, converter, orientation }
     }
 
@@ -221,9 +225,12 @@ pub fn moon_geocentric_km(tt: &Instant) -> [f64; 3] {
         + 0.21 * s(269.9, 954_397.74)
         - 0.19 * s(357.5, 35_999.05)
         - 0.11 * s(186.5, 966_404.03);
-    let beta_deg = 5.13 * s(93.3, 483_202.02) + 0.28 * s(228.2, 960_400.89) - 0.28 * s(318.3, 6_003.15)
+    let beta_deg = 5.13 * s(93.3, 483_202.02) + 0.28 * s(228.2, 960_400.89)
+        - 0.28 * s(318.3, 6_003.15)
         - 0.17 * s(217.6, -407_332.21);
-    let parallax_deg = 0.9508 + 0.0518 * c(135.0, 477_198.87) + 0.0095 * c(259.3, -413_335.36)
+    let parallax_deg = 0.9508
+        + 0.0518 * c(135.0, 477_198.87)
+        + 0.0095 * c(259.3, -413_335.36)
         + 0.0078 * c(235.7, 890_534.22)
         + 0.0028 * c(269.9, 954_397.74);
     let distance_km = EARTH_RADIUS_KM / parallax_deg.to_radians().sin();

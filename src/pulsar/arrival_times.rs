@@ -22,7 +22,12 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
     let has = |c: &str| df.get_column_names().iter().any(|n| n.as_str() == c);
     let freq = if has("freq_mhz") { optional_float_column(df, file, "freq_mhz")? } else { vec![None; df.height()] };
     let inst = if has("instrument") { text_column(df, file, "instrument")? } else { vec![None; df.height()] };
-    let cell = |row: usize, column: &str, message: String| TableError::Cell { file: file.to_string(), row: row + 1, column: column.to_string(), message };
+    let cell = |row: usize, column: &str, message: String| TableError::Cell {
+        file: file.to_string(),
+        row: row + 1,
+        column: column.to_string(),
+        message,
+    };
     let mut out = Vec::with_capacity(df.height());
     for i in 0..df.height() {
         if !(err[i] > 0.0) {
@@ -30,7 +35,11 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
         }
         if let Some(f) = freq[i] {
             if !(f > 0.0) {
-                return Err(cell(i, "freq_mhz", format!("{f} MHz: an observing frequency must be > 0 (leave the cell empty for no dispersion)")));
+                return Err(cell(
+                    i,
+                    "freq_mhz",
+                    format!("{f} MHz: an observing frequency must be > 0 (leave the cell empty for no dispersion)"),
+                ));
             }
         }
         let t = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
@@ -52,7 +61,11 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
 pub fn attach_observer_geometry(toas: &mut [ArrivalTime], geometry: &[RowGeometry]) {
     for (a, g) in toas.iter_mut().zip(geometry) {
         a.observer = g.observer_barycentric_km.map(|r| ObserverGeometry {
-            position_lt_s: [r[0] / SPEED_OF_LIGHT_KM_PER_S, r[1] / SPEED_OF_LIGHT_KM_PER_S, r[2] / SPEED_OF_LIGHT_KM_PER_S],
+            position_lt_s: [
+                r[0] / SPEED_OF_LIGHT_KM_PER_S,
+                r[1] / SPEED_OF_LIGHT_KM_PER_S,
+                r[2] / SPEED_OF_LIGHT_KM_PER_S,
+            ],
             source_unit: g.source_unit,
         });
     }

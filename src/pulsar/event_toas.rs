@@ -51,12 +51,18 @@ pub struct PhaseShift {
 /// Returned: τ̂ (cycles), its 1-σ error and the segment's Z²ₙ. Accuracy: τ̂ to 1e-10 cycle
 /// (grid of 64·n trial shifts, then golden section). Errors: no photons, bad weights, a
 /// flat cross-correlation (no curvature at the maximum: no pulse to align).
-pub fn phase_shift(phase_cycles: &[f64], weights: Option<&[f64]>, template: &PulseTemplate) -> Result<PhaseShift, PulsarError> {
+pub fn phase_shift(
+    phase_cycles: &[f64],
+    weights: Option<&[f64]>,
+    template: &PulseTemplate,
+) -> Result<PhaseShift, PulsarError> {
     template.validate()?;
     let n = template.harmonics();
     let (c, s, w2) = trigonometric_moments(phase_cycles, weights, n)?;
-    let u: Vec<f64> = (0..n).map(|k| template.cos_coefficients[k] * c[k] + template.sin_coefficients[k] * s[k]).collect();
-    let v: Vec<f64> = (0..n).map(|k| template.cos_coefficients[k] * s[k] - template.sin_coefficients[k] * c[k]).collect();
+    let u: Vec<f64> =
+        (0..n).map(|k| template.cos_coefficients[k] * c[k] + template.sin_coefficients[k] * s[k]).collect();
+    let v: Vec<f64> =
+        (0..n).map(|k| template.cos_coefficients[k] * s[k] - template.sin_coefficients[k] * c[k]).collect();
     let corr = |tau: f64, order: u32| -> f64 {
         (0..n)
             .map(|k| {
@@ -77,7 +83,9 @@ pub fn phase_shift(phase_cycles: &[f64], weights: Option<&[f64]>, template: &Pul
     }
     let curvature = corr(tau, 2);
     if !(curvature < 0.0) {
-        return Err(PulsarError::Fit("the cross-correlation with the template has no curvature at its maximum: no pulse to align".into()));
+        return Err(PulsarError::Fit(
+            "the cross-correlation with the template has no curvature at its maximum: no pulse to align".into(),
+        ));
     }
     let score_variance: f64 = phase_cycles
         .iter()

@@ -22,6 +22,7 @@
 //! (≤ 500 s·|Δn̂|²/2, 6 ns at 1″) and the direction dependence of the Shapiro and
 //! wavefront-curvature terms.
 
+use crate::constants::SECONDS_PER_DAY;
 use std::collections::BTreeMap;
 use std::f64::consts::{PI, TAU};
 
@@ -30,7 +31,7 @@ use super::spin::Spin;
 
 /// Dispersion constant K, s MHz² pc⁻¹ cm³ (common practice).
 pub const DISPERSION_CONSTANT_S_MHZ2: f64 = 4.148808e3;
-const DAY_S: f64 = 86_400.0;
+const DAY_S: f64 = SECONDS_PER_DAY;
 /// Julian year, s (IAU: 365.25 d of 86 400 s), the unit of proper motions.
 pub const JULIAN_YEAR_S: f64 = 365.25 * DAY_S;
 /// Milliarcseconds to radians.
@@ -162,7 +163,8 @@ pub struct ArrivalTime {
 }
 
 /// Parameter names the model knows, with the order used in design matrices.
-pub const SPIN_PARAMETERS: [&str; 4] = ["phase_offset_cycles", "freq_hz", "freq_deriv_hz_per_s", "freq_second_deriv_hz_per_s2"];
+pub const SPIN_PARAMETERS: [&str; 4] =
+    ["phase_offset_cycles", "freq_hz", "freq_deriv_hz_per_s", "freq_second_deriv_hz_per_s2"];
 /// Orbit parameter names.
 pub const ORBIT_PARAMETERS: [&str; 8] = [
     "orbital_period_d",
@@ -176,7 +178,12 @@ pub const ORBIT_PARAMETERS: [&str; 8] = [
 ];
 
 /// Position and proper-motion parameter names (see the module documentation).
-pub const POSITION_PARAMETERS: [&str; 4] = ["position_offset_ra_mas", "position_offset_dec_mas", "proper_motion_ra_mas_per_yr", "proper_motion_dec_mas_per_yr"];
+pub const POSITION_PARAMETERS: [&str; 4] = [
+    "position_offset_ra_mas",
+    "position_offset_dec_mas",
+    "proper_motion_ra_mas_per_yr",
+    "proper_motion_dec_mas_per_yr",
+];
 
 /// Emission time and the pieces needed for derivatives.
 #[derive(Debug, Clone, Copy)]
@@ -203,12 +210,20 @@ impl TimingModel {
 
     /// The spin part.
     pub fn spin(&self) -> Spin {
-        Spin { freq_hz: self.freq_hz, freq_deriv_hz_per_s: self.freq_deriv_hz_per_s, freq_second_deriv_hz_per_s2: self.freq_second_deriv_hz_per_s2 }
+        Spin {
+            freq_hz: self.freq_hz,
+            freq_deriv_hz_per_s: self.freq_deriv_hz_per_s,
+            freq_second_deriv_hz_per_s2: self.freq_second_deriv_hz_per_s2,
+        }
     }
 
     /// The epoch as an instant (TDB).
     pub fn epoch(&self) -> crate::time::Instant {
-        crate::time::Instant::from_mjd_parts(crate::time::TimeScale::Tdb, self.epoch_mjd_day_tdb, self.epoch_seconds_of_day_tdb)
+        crate::time::Instant::from_mjd_parts(
+            crate::time::TimeScale::Tdb,
+            self.epoch_mjd_day_tdb,
+            self.epoch_seconds_of_day_tdb,
+        )
     }
 
     /// Checks physical ranges and that every fitted name is known.
@@ -224,7 +239,10 @@ impl TimingModel {
             if !(0.0..1.0).contains(&o.eccentricity) {
                 return Err(format!("orbit.eccentricity = {}: must be in [0, 1)", o.eccentricity));
             }
-            if !(o.projected_semi_major_axis_lt_s >= 0.0) || !(o.shapiro_range_s >= 0.0) || !(-1.0..=1.0).contains(&o.shapiro_shape) {
+            if !(o.projected_semi_major_axis_lt_s >= 0.0)
+                || !(o.shapiro_range_s >= 0.0)
+                || !(-1.0..=1.0).contains(&o.shapiro_shape)
+            {
                 return Err("orbit: projected_semi_major_axis_lt_s and shapiro_range_s must be ≥ 0 and shapiro_shape in [−1, 1]".into());
             }
         }
@@ -239,7 +257,11 @@ impl TimingModel {
                     "fit names '{name}', which this model cannot fit; use {}, dispersion_measure_pc_per_cm3, {}, instrument_delay_s:NAME{}",
                     SPIN_PARAMETERS.join(", "),
                     POSITION_PARAMETERS.join(", "),
-                    if self.orbit.is_some() { format!(", {}", ORBIT_PARAMETERS.join(", ")) } else { " (orbit parameters need an [orbit] table)".into() }
+                    if self.orbit.is_some() {
+                        format!(", {}", ORBIT_PARAMETERS.join(", "))
+                    } else {
+                        " (orbit parameters need an [orbit] table)".into()
+                    }
                 ));
             }
         }
@@ -325,7 +347,10 @@ impl TimingModel {
     /// times have no observer geometry (photon events, which are folded after barycentring
     /// towards the command-line position): the offset would be silently ignored.
     pub fn require_no_position_offset(&self) -> Result<(), PulsarError> {
-        let set: Vec<String> = POSITION_PARAMETERS.iter().filter_map(|p| self.get(p).filter(|v| *v != 0.0).map(|v| format!("{p} = {v}"))).collect();
+        let set: Vec<String> = POSITION_PARAMETERS
+            .iter()
+            .filter_map(|p| self.get(p).filter(|v| *v != 0.0).map(|v| format!("{p} = {v}")))
+            .collect();
         if set.is_empty() {
             return Ok(());
         }
@@ -398,7 +423,9 @@ impl TimingModel {
     }
 
     fn emission(&self, toa: &ArrivalTime) -> Emission {
-        let t_fixed = toa.t_s + self.position_delay_s(toa).0 - self.dispersion_delay_s(toa.freq_mhz) - self.instrument_delays_s.get(&toa.instrument).copied().unwrap_or(0.0);
+        let t_fixed = toa.t_s + self.position_delay_s(toa).0
+            - self.dispersion_delay_s(toa.freq_mhz)
+            - self.instrument_delays_s.get(&toa.instrument).copied().unwrap_or(0.0);
         let Some(o) = &self.orbit else {
             return Emission { t_e: t_fixed, orbit_partials: [0.0; 8], orbit_rate: 0.0 };
         };
@@ -491,11 +518,18 @@ mod tests {
     #[test]
     fn analytic_derivatives_match_numeric() {
         let m = binary_model();
-        let mut names: Vec<String> = SPIN_PARAMETERS.iter().chain(ORBIT_PARAMETERS.iter()).map(|s| s.to_string()).collect();
+        let mut names: Vec<String> =
+            SPIN_PARAMETERS.iter().chain(ORBIT_PARAMETERS.iter()).map(|s| s.to_string()).collect();
         names.push("dispersion_measure_pc_per_cm3".into());
         names.push("instrument_delay_s:b".into());
         for (k, t) in [-3.1e6, 1.0e4, 4.4e5, 2.9e7].into_iter().enumerate() {
-            let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: Some(1400.0), instrument: if k % 2 == 0 { "b".into() } else { "a".into() }, observer: None };
+            let toa = ArrivalTime {
+                t_s: t,
+                error_s: 1e-6,
+                freq_mhz: Some(1400.0),
+                instrument: if k % 2 == 0 { "b".into() } else { "a".into() },
+                observer: None,
+            };
             let a = m.phase_derivatives(&toa, &names);
             for (j, n) in names.iter().enumerate() {
                 let v = m.get(n).unwrap();
@@ -505,7 +539,11 @@ mod tests {
                 dn.set(n, v - h);
                 let num = (up.phase_cycles(&toa) - dn.phase_cycles(&toa)) / (2.0 * h);
                 let tol = 1e-5 * a[j].abs().max(num.abs()) + 1e-6 * (m.phase_cycles(&toa).abs() * 1e-15 / h).max(1e-9);
-                assert!((a[j] - num).abs() <= tol.max(2e-16 * m.phase_cycles(&toa).abs() / h * 4.0), "{n} at t={t}: analytic {} numeric {num}", a[j]);
+                assert!(
+                    (a[j] - num).abs() <= tol.max(2e-16 * m.phase_cycles(&toa).abs() / h * 4.0),
+                    "{n} at t={t}: analytic {} numeric {num}",
+                    a[j]
+                );
             }
         }
     }
@@ -531,7 +569,13 @@ mod tests {
         let m = binary_model();
         let names: Vec<String> = POSITION_PARAMETERS.iter().map(|s| s.to_string()).collect();
         for t in [-3.1e6, 1.0e4, 4.4e5, 2.9e7] {
-            let toa = ArrivalTime { t_s: t, error_s: 1e-6, freq_mhz: Some(1400.0), instrument: "a".into(), observer: Some(geometry(t)) };
+            let toa = ArrivalTime {
+                t_s: t,
+                error_s: 1e-6,
+                freq_mhz: Some(1400.0),
+                instrument: "a".into(),
+                observer: Some(geometry(t)),
+            };
             let a = m.phase_derivatives(&toa, &names);
             for (j, n) in names.iter().enumerate() {
                 let v = m.get(n).unwrap();
@@ -541,7 +585,11 @@ mod tests {
                 dn.set(n, v - h);
                 let num = (up.phase_cycles(&toa) - dn.phase_cycles(&toa)) / (2.0 * h);
                 let rounding = 4.0 * f64::EPSILON * m.phase_cycles(&toa).abs() / h;
-                assert!(a[j] != 0.0 && (a[j] - num).abs() <= 1e-6 * a[j].abs() + rounding, "{n} at t={t}: analytic {} numeric {num}", a[j]);
+                assert!(
+                    a[j] != 0.0 && (a[j] - num).abs() <= 1e-6 * a[j].abs() + rounding,
+                    "{n} at t={t}: analytic {} numeric {num}",
+                    a[j]
+                );
             }
             // without the observer's position the parameters have no effect
             let bare = ArrivalTime { observer: None, ..toa.clone() };
@@ -582,7 +630,9 @@ mod tests {
         let m = binary_model();
         let text = m.to_toml().unwrap();
         assert_eq!(TimingModel::from_toml(&text, "x.toml").unwrap(), m);
-        let e = TimingModel::from_toml("epoch_mjd_day_tdb = 60000\nfreq_hz = 1.0\nspin_rate = 3\n", "m.toml").unwrap_err().to_string();
+        let e = TimingModel::from_toml("epoch_mjd_day_tdb = 60000\nfreq_hz = 1.0\nspin_rate = 3\n", "m.toml")
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("m.toml") && e.contains("spin_rate"), "{e}");
     }
 }

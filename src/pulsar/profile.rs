@@ -12,6 +12,7 @@
 //! Fourier coefficient 2⟨cos 2πkφ⟩ of the Z²ₙ statistic (Buccheri et al. 1983, A&A 128, 245),
 //! and Z²ₙ = Σₖ (âₖ² + b̂ₖ²)·Σw²/2.
 
+use crate::constants::SECONDS_PER_DAY;
 use std::f64::consts::TAU;
 
 use super::PulsarError;
@@ -27,7 +28,12 @@ use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
 /// model's phase offset and binary delays (X-ray/γ-ray events: no dispersion).
 /// Accuracy: ~1e-16·|φ| cycles (3e-6 cycle for 300 Hz at 1e8 s). Errors name the event
 /// (1-based, the table row) and the fault. Source: common practice.
-pub fn fold_events(model: &TimingModel, times_s: &[f64], valid_for_s: f64, instrument: &str) -> Result<Vec<f64>, PulsarError> {
+pub fn fold_events(
+    model: &TimingModel,
+    times_s: &[f64],
+    valid_for_s: f64,
+    instrument: &str,
+) -> Result<Vec<f64>, PulsarError> {
     model.validate().map_err(PulsarError::Model)?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
@@ -36,7 +42,13 @@ pub fn fold_events(model: &TimingModel, times_s: &[f64], valid_for_s: f64, instr
 
 /// Pulse phase (cycles, whole turns included) of one event at `t_s` after the epoch.
 pub fn event_phase_cycles(model: &TimingModel, t_s: f64, instrument: &str) -> f64 {
-    model.phase_cycles(&ArrivalTime { t_s, error_s: 1.0, freq_mhz: None, instrument: instrument.to_string(), observer: None })
+    model.phase_cycles(&ArrivalTime {
+        t_s,
+        error_s: 1.0,
+        freq_mhz: None,
+        instrument: instrument.to_string(),
+        observer: None,
+    })
 }
 
 /// Checks event times: at least one, finite, sorted (non-decreasing) and inside
@@ -47,15 +59,19 @@ pub fn check_event_times(times_s: &[f64], valid_for_s: f64) -> Result<(), Pulsar
     }
     for (i, &t) in times_s.iter().enumerate() {
         if !t.is_finite() {
-            return Err(PulsarError::Input(format!("event {} (row {}) has time {t}; finite times are required", i + 1, i + 1)));
+            return Err(PulsarError::Input(format!(
+                "event {} (row {}) has time {t}; finite times are required",
+                i + 1,
+                i + 1
+            )));
         }
         if t.abs() > valid_for_s {
             return Err(PulsarError::Input(format!(
                 "event {} (row {}) lies {:.1} days from the model epoch, outside the model's validity of ±{:.1} days; use a model with an epoch nearer the data or widen the validity",
                 i + 1,
                 i + 1,
-                t / 86_400.0,
-                valid_for_s / 86_400.0
+                t / SECONDS_PER_DAY,
+                valid_for_s / SECONDS_PER_DAY
             )));
         }
         if i > 0 && t < times_s[i - 1] {
@@ -91,7 +107,11 @@ fn check_weights(n: usize, weights: Option<&[f64]>) -> Result<(), PulsarError> {
             return Err(PulsarError::Input(format!("{} weights for {n} photons; give one weight per photon", w.len())));
         }
         if let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(v.is_finite() && (0.0..=1.0).contains(*v))) {
-            return Err(PulsarError::Input(format!("weight of photon {} (row {}) is {v}; weights are probabilities in [0, 1]", i + 1, i + 1)));
+            return Err(PulsarError::Input(format!(
+                "weight of photon {} (row {}) is {v}; weights are probabilities in [0, 1]",
+                i + 1,
+                i + 1
+            )));
         }
         if w.iter().all(|v| *v == 0.0) {
             return Err(PulsarError::Input("all photon weights are zero".into()));
@@ -134,7 +154,11 @@ impl BinnedProfile {
 /// Given: phases (cycles), optional weights in [0, 1], bins ≥ 2. Returned: weighted counts,
 /// their Poisson errors √Σw² (common practice; exact for unit weights: √n) and the same as a
 /// density in phase. An empty bin has error 0.
-pub fn binned_profile(phase_cycles: &[f64], weights: Option<&[f64]>, bins: usize) -> Result<BinnedProfile, PulsarError> {
+pub fn binned_profile(
+    phase_cycles: &[f64],
+    weights: Option<&[f64]>,
+    bins: usize,
+) -> Result<BinnedProfile, PulsarError> {
     if bins < 2 {
         return Err(PulsarError::Input(format!("a binned profile needs at least 2 phase bins, got {bins}")));
     }
@@ -216,7 +240,10 @@ pub struct PulseTemplate {
 
 impl PulseTemplate {
     /// A template from coefficients given by hand (e.g. an invented profile in a test).
-    pub fn from_coefficients(cos_coefficients: Vec<f64>, sin_coefficients: Vec<f64>) -> Result<PulseTemplate, PulsarError> {
+    pub fn from_coefficients(
+        cos_coefficients: Vec<f64>,
+        sin_coefficients: Vec<f64>,
+    ) -> Result<PulseTemplate, PulsarError> {
         let t = PulseTemplate {
             kind: "fourier".into(),
             cos_coefficients,
@@ -245,7 +272,9 @@ impl PulseTemplate {
             return Err(PulsarError::Input("template coefficients must be finite".into()));
         }
         if self.cos_coefficients.iter().zip(&self.sin_coefficients).all(|(a, b)| *a == 0.0 && *b == 0.0) {
-            return Err(PulsarError::Input("the template is flat (all coefficients zero): it has no pulse to align".into()));
+            return Err(PulsarError::Input(
+                "the template is flat (all coefficients zero): it has no pulse to align".into(),
+            ));
         }
         Ok(())
     }
@@ -285,7 +314,10 @@ impl PulseTemplate {
     /// section to 1e-10 cycle).
     pub fn peak_phase_cycles(&self) -> f64 {
         let m = 64 * self.harmonics();
-        let best = (0..m).map(|i| i as f64 / m as f64).max_by(|a, b| self.density(*a).total_cmp(&self.density(*b))).unwrap_or(0.0);
+        let best = (0..m)
+            .map(|i| i as f64 / m as f64)
+            .max_by(|a, b| self.density(*a).total_cmp(&self.density(*b)))
+            .unwrap_or(0.0);
         golden_maximum(|x| self.density(x), best - 1.0 / m as f64, best + 1.0 / m as f64).rem_euclid(1.0)
     }
 }
@@ -325,7 +357,11 @@ pub(crate) fn golden_maximum(f: impl Fn(f64) -> f64, mut lo: f64, mut hi: f64) -
 /// Given: phases (cycles), optional weights in [0, 1], harmonics n ≥ 1. Returned: the
 /// template. Accuracy: f64 sums; harmonic k is computed by the angle-addition recurrence
 /// (error ≲ k·1e-16). Source: Buccheri et al. 1983 (moments); Kerr 2011 (weights).
-pub fn fourier_template(phase_cycles: &[f64], weights: Option<&[f64]>, harmonics: usize) -> Result<PulseTemplate, PulsarError> {
+pub fn fourier_template(
+    phase_cycles: &[f64],
+    weights: Option<&[f64]>,
+    harmonics: usize,
+) -> Result<PulseTemplate, PulsarError> {
     if harmonics == 0 {
         return Err(PulsarError::Input("a Fourier template needs at least one harmonic".into()));
     }
@@ -468,8 +504,15 @@ pub fn gaussian_template(empirical: &PulseTemplate, components: usize) -> Result
         let width = 0.03_f64.max(0.5 / n as f64);
         let fraction = (height.max(0.05) * width * TAU.sqrt()).min(0.9);
         params.extend([fraction, centre, width]);
-        let problem = GaussianFit { components: c, harmonics: n, observed: observed.clone(), weight: weight.clone(), _template: empirical };
-        let fit = levenberg_marquardt(&problem, &params, &options).map_err(|e| PulsarError::Fit(format!("Gaussian template with {c} components: {e}")))?;
+        let problem = GaussianFit {
+            components: c,
+            harmonics: n,
+            observed: observed.clone(),
+            weight: weight.clone(),
+            _template: empirical,
+        };
+        let fit = levenberg_marquardt(&problem, &params, &options)
+            .map_err(|e| PulsarError::Fit(format!("Gaussian template with {c} components: {e}")))?;
         params = fit.params.clone();
         last = Some(fit);
     }
@@ -502,7 +545,10 @@ pub fn gaussian_template(empirical: &PulseTemplate, components: usize) -> Result
         }
     }
     Ok(PulseTemplate {
-        kind: format!("gaussian: {components} wrapped Gaussian components fitted to {n} harmonics (χ² = {:.2} for {} degrees of freedom)", fit.chi2, fit.dof),
+        kind: format!(
+            "gaussian: {components} wrapped Gaussian components fitted to {n} harmonics (χ² = {:.2} for {} degrees of freedom)",
+            fit.chi2, fit.dof
+        ),
         cos_coefficients: a,
         sin_coefficients: b,
         cos_errors: vec![],
@@ -536,7 +582,9 @@ mod tests {
         let p: Vec<f64> = (0..300).map(|i| ((i * i) as f64 * 0.0137).fract()).collect();
         let w: Vec<f64> = (0..300).map(|i| 0.2 + 0.7 * ((i as f64 * 0.31).sin().abs())).collect();
         let t = fourier_template(&p, Some(&w), 3).unwrap();
-        let power: f64 = t.cos_coefficients.iter().zip(&t.sin_coefficients).map(|(a, b)| a * a + b * b).sum::<f64>() * t.sum_weights_squared / 2.0;
+        let power: f64 = t.cos_coefficients.iter().zip(&t.sin_coefficients).map(|(a, b)| a * a + b * b).sum::<f64>()
+            * t.sum_weights_squared
+            / 2.0;
         let z2 = crate::pulsar::statistics::z2n(&p, Some(&w), 3).unwrap();
         assert!((power - z2).abs() < 1e-9 * z2.max(1.0), "{power} {z2}");
     }

@@ -34,9 +34,18 @@ impl SpinGrid {
     /// (the independent Fourier spacing is 1/T: common practice), and ν̇ trials from
     /// `fdot_min..=fdot_max` with step 2/(oversample·T²) (a phase drift of 1/oversample
     /// cycle over the baseline at the ends), or ν̇ = 0 when both are zero.
-    pub fn from_baseline(min_hz: f64, max_hz: f64, baseline_s: f64, oversample: f64, fdot_min: f64, fdot_max: f64) -> Result<SpinGrid, PulsarError> {
+    pub fn from_baseline(
+        min_hz: f64,
+        max_hz: f64,
+        baseline_s: f64,
+        oversample: f64,
+        fdot_min: f64,
+        fdot_max: f64,
+    ) -> Result<SpinGrid, PulsarError> {
         if !(min_hz > 0.0 && max_hz > min_hz && max_hz.is_finite()) {
-            return Err(PulsarError::Input(format!("frequency range {min_hz}..{max_hz} Hz: need 0 < minimum < maximum")));
+            return Err(PulsarError::Input(format!(
+                "frequency range {min_hz}..{max_hz} Hz: need 0 < minimum < maximum"
+            )));
         }
         if !(baseline_s > 0.0 && baseline_s.is_finite()) {
             return Err(PulsarError::Input(format!("baseline {baseline_s} s: the events must span a positive time")));
@@ -59,7 +68,9 @@ impl SpinGrid {
         }
         let total = count.saturating_mul(fdots.len());
         if total > 200_000_000 {
-            return Err(PulsarError::Input(format!("{total} trials is more than the 2e8 this search allows; narrow the ranges or lower the oversampling")));
+            return Err(PulsarError::Input(format!(
+                "{total} trials is more than the 2e8 this search allows; narrow the ranges or lower the oversampling"
+            )));
         }
         Ok(SpinGrid { start_freq_hz: min_hz, step_freq_hz: step, freq_count: count, freq_derivs_hz_per_s: fdots })
     }
@@ -111,7 +122,10 @@ fn validate(times_s: &[f64], weights: Option<&[f64]>, harmonics: usize) -> Resul
             }
             for (i, v) in w.iter().enumerate() {
                 if !(v.is_finite() && *v >= 0.0) {
-                    return Err(PulsarError::Input(format!("weight of event {} is {v}; weights must be finite and ≥ 0", i + 1)));
+                    return Err(PulsarError::Input(format!(
+                        "weight of event {} is {v}; weights must be finite and ≥ 0",
+                        i + 1
+                    )));
                 }
                 w2 += v * v;
             }
@@ -128,7 +142,12 @@ fn validate(times_s: &[f64], weights: Option<&[f64]>, harmonics: usize) -> Resul
 /// epoch (TDB at the barycentre), optional weights, harmonics n. Returned: cumulative Z²ₘ
 /// for m = 1..=n at every trial. Accuracy: agrees with [`z2_grid_naive`] to ~1e-9 relative
 /// (tested). Phase model φ = ν t + ½ ν̇ t².
-pub fn z2_grid(times_s: &[f64], weights: Option<&[f64]>, harmonics: usize, grid: &SpinGrid) -> Result<Z2Grid, PulsarError> {
+pub fn z2_grid(
+    times_s: &[f64],
+    weights: Option<&[f64]>,
+    harmonics: usize,
+    grid: &SpinGrid,
+) -> Result<Z2Grid, PulsarError> {
     let w2 = validate(times_s, weights, harmonics)?;
     let nf = grid.freq_count;
     let h = harmonics;
@@ -189,7 +208,12 @@ pub fn z2_grid(times_s: &[f64], weights: Option<&[f64]>, harmonics: usize, grid:
 }
 
 /// Naive twin of [`z2_grid`]: one sin/cos per photon, harmonic and trial (serial).
-pub fn z2_grid_naive(times_s: &[f64], weights: Option<&[f64]>, harmonics: usize, grid: &SpinGrid) -> Result<Z2Grid, PulsarError> {
+pub fn z2_grid_naive(
+    times_s: &[f64],
+    weights: Option<&[f64]>,
+    harmonics: usize,
+    grid: &SpinGrid,
+) -> Result<Z2Grid, PulsarError> {
     let w2 = validate(times_s, weights, harmonics)?;
     let nf = grid.freq_count;
     let h = harmonics;
@@ -282,7 +306,12 @@ mod tests {
         let mut rng = SeededRng::new(5);
         let t: Vec<f64> = (0..300).map(|_| rng.uniform() * 5e4 - 2.5e4).collect();
         let w: Vec<f64> = (0..300).map(|_| rng.uniform()).collect();
-        let grid = SpinGrid { start_freq_hz: 3.0, step_freq_hz: 2e-6, freq_count: 700, freq_derivs_hz_per_s: vec![0.0, -1e-11] };
+        let grid = SpinGrid {
+            start_freq_hz: 3.0,
+            step_freq_hz: 2e-6,
+            freq_count: 700,
+            freq_derivs_hz_per_s: vec![0.0, -1e-11],
+        };
         let a = z2_grid(&t, Some(&w), 3, &grid).unwrap();
         let b = z2_grid_naive(&t, Some(&w), 3, &grid).unwrap();
         for (x, y) in a.values.iter().zip(&b.values) {

@@ -55,7 +55,11 @@ impl Spin {
                 )));
             }
             if i > 0 && t < times_s[i - 1] {
-                return Err(PulsarError::Input(format!("event {} (t = {t} s) is earlier than event {}: sort the events by time", i + 1, i)));
+                return Err(PulsarError::Input(format!(
+                    "event {} (t = {t} s) is earlier than event {}: sort the events by time",
+                    i + 1,
+                    i
+                )));
             }
         }
         Ok(times_s.iter().map(|&t| self.phase_cycles(t).rem_euclid(1.0)).collect())

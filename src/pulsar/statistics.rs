@@ -17,7 +17,11 @@ pub const H_TEST_MAX_HARMONICS: usize = 20;
 /// Given: phases (cycles), weights (None = all 1; each finite and ≥ 0), harmonics ≥ 1.
 /// Returned: (cos sums, sin sums, Σw²). Accuracy: f64 summation, phases reduced to [0, 1)
 /// before the trigonometry. Source: common practice.
-pub fn trigonometric_moments(phase_cycles: &[f64], weights: Option<&[f64]>, harmonics: usize) -> Result<(Vec<f64>, Vec<f64>, f64), PulsarError> {
+pub fn trigonometric_moments(
+    phase_cycles: &[f64],
+    weights: Option<&[f64]>,
+    harmonics: usize,
+) -> Result<(Vec<f64>, Vec<f64>, f64), PulsarError> {
     check(phase_cycles, weights)?;
     let mut c = vec![0.0; harmonics];
     let mut s = vec![0.0; harmonics];
@@ -47,10 +51,17 @@ fn check(phase_cycles: &[f64], weights: Option<&[f64]>) -> Result<(), PulsarErro
     }
     if let Some(w) = weights {
         if w.len() != phase_cycles.len() {
-            return Err(PulsarError::Input(format!("{} weights for {} photons; give one weight per photon", w.len(), phase_cycles.len())));
+            return Err(PulsarError::Input(format!(
+                "{} weights for {} photons; give one weight per photon",
+                w.len(),
+                phase_cycles.len()
+            )));
         }
         if let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(v.is_finite() && **v >= 0.0)) {
-            return Err(PulsarError::Input(format!("weight of photon {} is {v}; weights must be finite and ≥ 0", i + 1)));
+            return Err(PulsarError::Input(format!(
+                "weight of photon {} is {v}; weights must be finite and ≥ 0",
+                i + 1
+            )));
         }
         if w.iter().all(|v| *v == 0.0) {
             return Err(PulsarError::Input("all photon weights are zero".into()));
@@ -98,7 +109,9 @@ pub fn rayleigh(phase_cycles: &[f64], weights: Option<&[f64]>) -> Result<f64, Pu
 pub fn rayleigh_false_alarm(z2_1: f64, photons: usize) -> f64 {
     let z = 0.5 * z2_1.max(0.0);
     let n = photons.max(1) as f64;
-    let p = (-z).exp() * (1.0 + (2.0 * z - z * z) / (4.0 * n) - (24.0 * z - 132.0 * z * z + 76.0 * z.powi(3) - 9.0 * z.powi(4)) / (288.0 * n * n));
+    let p = (-z).exp()
+        * (1.0 + (2.0 * z - z * z) / (4.0 * n)
+            - (24.0 * z - 132.0 * z * z + 76.0 * z.powi(3) - 9.0 * z.powi(4)) / (288.0 * n * n));
     p.clamp(0.0, 1.0)
 }
 

@@ -10,6 +10,7 @@
 use super::PulsarError;
 use super::model::{ArrivalTime, POSITION_PARAMETERS, TimingModel};
 use crate::arrival::Source;
+use crate::constants::SECONDS_PER_DAY;
 use crate::fit::weighted_linear_lsq;
 
 /// Result of a timing fit.
@@ -47,7 +48,11 @@ pub fn check_arrival_times(toas: &[ArrivalTime]) -> Result<(), PulsarError> {
             return Err(PulsarError::Input(format!("arrival time {} is not finite", i + 1)));
         }
         if !(a.error_s > 0.0 && a.error_s.is_finite()) {
-            return Err(PulsarError::Input(format!("arrival time {} has uncertainty {} s; every uncertainty must be > 0", i + 1, a.error_s)));
+            return Err(PulsarError::Input(format!(
+                "arrival time {} has uncertainty {} s; every uncertainty must be > 0",
+                i + 1,
+                a.error_s
+            )));
         }
     }
     let mut order: Vec<usize> = (0..toas.len()).collect();
@@ -73,7 +78,11 @@ fn residuals(model: &TimingModel, toas: &[ArrivalTime], pulses: &[f64]) -> Vec<f
 /// times, an under-determined fit, divergence, or lost phase connection (a fitted residual
 /// beyond ±0.3 cycle, or a starting residual beyond ±0.3 cycle: the pulse count between
 /// arrival times is then ambiguous) — the message names the arrival times concerned.
-pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iterations: usize) -> Result<TimingFit, PulsarError> {
+pub fn fit_timing_model(
+    start: &TimingModel,
+    toas: &[ArrivalTime],
+    max_iterations: usize,
+) -> Result<TimingFit, PulsarError> {
     check_arrival_times(toas)?;
     start.validate().map_err(PulsarError::Model)?;
     if start.refines_position()
@@ -89,7 +98,10 @@ pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iteration
     names.extend(start.fit.iter().filter(|n| n.as_str() != "phase_offset_cycles").cloned());
     let p = names.len();
     if toas.len() <= p {
-        return Err(PulsarError::Input(format!("{} arrival times cannot determine {p} parameters; need more than {p}", toas.len())));
+        return Err(PulsarError::Input(format!(
+            "{} arrival times cannot determine {p} parameters; need more than {p}",
+            toas.len()
+        )));
     }
     let mut model = start.clone();
     let pulses: Vec<f64> = toas.iter().map(|a| model.phase_cycles(a).round()).collect();
@@ -110,7 +122,10 @@ pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iteration
         for j in 0..p {
             scale[j] = (0..toas.len()).map(|i| design[i * p + j].powi(2)).sum::<f64>().sqrt();
             if scale[j] == 0.0 {
-                return Err(PulsarError::Fit(format!("parameter {} does not change any predicted phase (e.g. an instrument with no arrival times); remove it from `fit`", names[j])));
+                return Err(PulsarError::Fit(format!(
+                    "parameter {} does not change any predicted phase (e.g. an instrument with no arrival times); remove it from `fit`",
+                    names[j]
+                )));
             }
         }
         for i in 0..toas.len() {
@@ -119,7 +134,8 @@ pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iteration
             }
         }
         let y: Vec<f64> = r.iter().map(|v| -v).collect();
-        let sol = weighted_linear_lsq(&design, p, &y, &weight).map_err(|e| PulsarError::Fit(format!("timing fit: {e}")))?;
+        let sol =
+            weighted_linear_lsq(&design, p, &y, &weight).map_err(|e| PulsarError::Fit(format!("timing fit: {e}")))?;
         let mut converged = true;
         for j in 0..p {
             let step = sol.params[j] / scale[j];
@@ -133,7 +149,9 @@ pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iteration
             let v = model.get(&names[j]).unwrap_or(0.0);
             model.set(&names[j], v + step);
         }
-        model.validate().map_err(|e| PulsarError::Fit(format!("the fit left the physical range ({e}); start from a better model")))?;
+        model.validate().map_err(|e| {
+            PulsarError::Fit(format!("the fit left the physical range ({e}); start from a better model"))
+        })?;
         last = Some((sol, scale));
         if converged {
             break;
@@ -154,7 +172,19 @@ pub fn fit_timing_model(start: &TimingModel, toas: &[ArrivalTime], max_iteration
     let residual_s: Vec<f64> = r.iter().zip(toas).map(|(c, a)| c / model.spin().freq_at_hz(a.t_s)).collect();
     let chi2 = residual_s.iter().zip(toas).map(|(s, a)| (s / a.error_s).powi(2)).sum();
     let values = names.iter().map(|n| model.get(n).unwrap_or(f64::NAN)).collect();
-    Ok(TimingFit { model, parameters: names, values, uncertainties, covariance, chi2, dof: toas.len() - p, residual_cycles: r, residual_s, pulse_numbers: pulses, iterations })
+    Ok(TimingFit {
+        model,
+        parameters: names,
+        values,
+        uncertainties,
+        covariance,
+        chi2,
+        dof: toas.len() - p,
+        residual_cycles: r,
+        residual_s,
+        pulse_numbers: pulses,
+        iterations,
+    })
 }
 
 /// The source position and proper motion implied by a fit that refined them.
@@ -205,7 +235,7 @@ pub fn fitted_position(fit: &TimingFit, source: &Source) -> Option<FittedPositio
     let ra_deg = v[1].atan2(v[0]).to_degrees().rem_euclid(360.0);
     let dec_deg = (v[2] / norm).asin().to_degrees();
     Some(FittedPosition {
-        epoch_mjd_tdb: m.epoch_mjd_day_tdb as f64 + m.epoch_seconds_of_day_tdb / 86_400.0,
+        epoch_mjd_tdb: m.epoch_mjd_day_tdb as f64 + m.epoch_seconds_of_day_tdb / SECONDS_PER_DAY,
         ra_deg,
         ra_uncertainty_mas: sigma("position_offset_ra_mas"),
         dec_deg,
@@ -260,14 +290,27 @@ mod tests {
         model.position_offset_ra_mas = 0.0;
         model.position_offset_dec_mas = theta_mas;
         let p = fitted_position(&TimingFit { model, ..fit.clone() }, &source).unwrap();
-        assert!((p.ra_deg - 10.0).abs() < 1e-12 && (p.dec_deg - theta.atan().to_degrees()).abs() < 1e-12, "{} {}", p.ra_deg, p.dec_deg);
+        assert!(
+            (p.ra_deg - 10.0).abs() < 1e-12 && (p.dec_deg - theta.atan().to_degrees()).abs() < 1e-12,
+            "{} {}",
+            p.ra_deg,
+            p.dec_deg
+        );
         assert!(fitted_position(&TimingFit { model: isolated(), ..fit }, &source).is_none());
     }
 
     #[test]
     fn bad_arrival_times_are_named() {
         let m = isolated();
-        let mut t: Vec<ArrivalTime> = (0..5).map(|i| ArrivalTime { t_s: i as f64 * 1e5, error_s: 1e-4, freq_mhz: None, instrument: "a".into(), observer: None }).collect();
+        let mut t: Vec<ArrivalTime> = (0..5)
+            .map(|i| ArrivalTime {
+                t_s: i as f64 * 1e5,
+                error_s: 1e-4,
+                freq_mhz: None,
+                instrument: "a".into(),
+                observer: None,
+            })
+            .collect();
         t[2].error_s = 0.0;
         assert!(fit_timing_model(&m, &t, 10).unwrap_err().to_string().contains("arrival time 3"));
         t[2].error_s = 1e-4;

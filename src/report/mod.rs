@@ -147,7 +147,11 @@ impl Section {
 impl Table {
     /// A table with `caption` and column names, no rows yet.
     pub fn new(caption: &str, columns: &[&str]) -> Table {
-        Table { caption: caption.to_string(), columns: columns.iter().map(|c| c.to_string()).collect(), rows: Vec::new() }
+        Table {
+            caption: caption.to_string(),
+            columns: columns.iter().map(|c| c.to_string()).collect(),
+            rows: Vec::new(),
+        }
     }
 
     /// Adds one row.
@@ -197,7 +201,9 @@ fn inline_svg(fig: &ReportFigure) -> Result<String, ReportError> {
     let lower = s.to_ascii_lowercase();
     for forbidden in ["<script", "<foreignobject", "http:", "https:", "javascript:", "<image", "@import"] {
         if lower.contains(forbidden) {
-            return Err(fail(&format!("the SVG contains '{forbidden}'; a report figure may not script or fetch anything")));
+            return Err(fail(&format!(
+                "the SVG contains '{forbidden}'; a report figure may not script or fetch anything"
+            )));
         }
     }
     Ok(s)
@@ -322,7 +328,12 @@ pub fn render_html(report: &Report) -> Result<String, ReportError> {
         for t in &s.tables {
             for (r, row) in t.rows.iter().enumerate() {
                 if row.len() != t.columns.len() {
-                    return Err(ReportError::TableShape { caption: t.caption.clone(), row: r + 1, cells: row.len(), columns: t.columns.len() });
+                    return Err(ReportError::TableShape {
+                        caption: t.caption.clone(),
+                        row: r + 1,
+                        cells: row.len(),
+                        columns: t.columns.len(),
+                    });
                 }
             }
             let _ = writeln!(h, "<table>\n<caption>{}</caption>\n<thead><tr>", e(&t.caption));
@@ -342,7 +353,11 @@ pub fn render_html(report: &Report) -> Result<String, ReportError> {
         }
         for f in &s.figures {
             let svg = inline_svg(f)?;
-            let _ = writeln!(h, "<figure class=\"report-figure\">\n{svg}\n<figcaption>{}</figcaption>\n</figure>", e(&f.caption));
+            let _ = writeln!(
+                h,
+                "<figure class=\"report-figure\">\n{svg}\n<figcaption>{}</figcaption>\n</figure>",
+                e(&f.caption)
+            );
         }
         h.push_str("</section>\n");
     }
@@ -371,7 +386,12 @@ mod tests {
             panels: vec![Panel {
                 x_label: "frequency (1/d)".into(),
                 y_label: "power".into(),
-                layers: vec![Layer::Line { label: "power".into(), x: vec![0.0, 1.0, 2.0], y: vec![0.1, 0.9, 0.2], colour: (0, 0, 0) }],
+                layers: vec![Layer::Line {
+                    label: "power".into(),
+                    x: vec![0.0, 1.0, 2.0],
+                    y: vec![0.1, 0.9, 0.2],
+                    colour: (0, 0, 0),
+                }],
                 invert_y: false,
                 height_weight: 1,
             }],
@@ -385,7 +405,11 @@ mod tests {
         let s = Section::new("Minima & O–C")
             .with_paragraph("<script>alert(1)</script>")
             .with_caution("σ assumed > 0")
-            .with_table(Table::new("fit <ok>", &["quantity", "value"]).with_row(&["period (d)", "1.234 ± 0.002"]).with_row(&["model", "linear"]))
+            .with_table(
+                Table::new("fit <ok>", &["quantity", "value"])
+                    .with_row(&["period (d)", "1.234 ± 0.002"])
+                    .with_row(&["model", "linear"]),
+            )
             .with_figure(ReportFigure::from_figure(&small_figure("periodogram & aliases"), "periodogram <1>").unwrap());
         Report::new("Star <b>XY</b> & co", provenance)
             .with_subtitle("invented 'site' 1 < 2")
@@ -437,12 +461,17 @@ mod tests {
         let mut r = sample();
         r.sections[1].tables.push(Table::new("short", &["a", "b"]).with_row(&["1"]));
         assert!(matches!(render_html(&r), Err(ReportError::TableShape { row: 1, cells: 1, columns: 2, .. })));
-        for bad in ["<div></div>", "<svg><script>x()</script></svg>", "<svg><image href=\"https://example.org/a.png\"/></svg>"] {
+        for bad in
+            ["<div></div>", "<svg><script>x()</script></svg>", "<svg><image href=\"https://example.org/a.png\"/></svg>"]
+        {
             let mut r = sample();
             r.sections[1].figures.push(ReportFigure { caption: "bad".into(), svg: bad.into() });
             assert!(matches!(render_html(&r), Err(ReportError::Figure { .. })), "{bad}");
         }
-        let ok = ReportFigure { caption: "ok".into(), svg: "<?xml version=\"1.0\"?>\n<svg width=\"1\" height=\"1\"></svg>".into() };
+        let ok = ReportFigure {
+            caption: "ok".into(),
+            svg: "<?xml version=\"1.0\"?>\n<svg width=\"1\" height=\"1\"></svg>".into(),
+        };
         assert_eq!(inline_svg(&ok).unwrap(), "<svg width=\"1\" height=\"1\"></svg>");
     }
 
@@ -453,12 +482,19 @@ mod tests {
         let input = d.join("timings.csv");
         std::fs::write(&input, "bjd_tdb\n2460000.5\n").unwrap();
         let r = sample();
-        assert!(matches!(write_report(&r, &input, &[&input]), Err(ReportError::Output(TableError::OutputIsInput { .. }))));
+        assert!(matches!(
+            write_report(&r, &input, &[&input]),
+            Err(ReportError::Output(TableError::OutputIsInput { .. }))
+        ));
         assert_eq!(std::fs::read_to_string(&input).unwrap(), "bjd_tdb\n2460000.5\n");
         let out = d.join("report.html");
         write_report(&r, &out, &[&input]).unwrap();
         assert_eq!(std::fs::read_to_string(&out).unwrap(), render_html(&r).unwrap());
-        let leftovers: Vec<_> = std::fs::read_dir(&d).unwrap().filter_map(|e| e.ok()).filter(|e| e.file_name().to_string_lossy().contains("partial")).collect();
+        let leftovers: Vec<_> = std::fs::read_dir(&d)
+            .unwrap()
+            .filter_map(|e| e.ok())
+            .filter(|e| e.file_name().to_string_lossy().contains("partial"))
+            .collect();
         assert!(leftovers.is_empty());
         std::fs::remove_dir_all(&d).ok();
     }

@@ -55,7 +55,8 @@ pub struct RowCells<'a> {
 /// A table read row by row in bounded memory.
 pub trait RowStream {
     /// Calls `visit` for every data row in file order; stops at the first error either side.
-    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError>;
+    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>)
+    -> Result<(), TableError>;
     /// A shared counter of the input consumed so far (for progress).
     fn progress(&self) -> ReadProgress;
     /// The most data rows this reader has held in memory at once so far (1 for a reader
@@ -73,7 +74,11 @@ pub struct ReadProgress {
 impl ReadProgress {
     /// Fraction read, 0..1.
     pub fn fraction(&self) -> f64 {
-        if self.total == 0 { 0.0 } else { (self.done.load(std::sync::atomic::Ordering::Relaxed) as f64 / self.total as f64).min(1.0) }
+        if self.total == 0 {
+            0.0
+        } else {
+            (self.done.load(std::sync::atomic::Ordering::Relaxed) as f64 / self.total as f64).min(1.0)
+        }
     }
 }
 
@@ -117,14 +122,17 @@ impl DelimitedRows {
         let file = path.display().to_string();
         let format = TableFormat::from_path(path)?;
         let separator = if format == TableFormat::Tsv { '\t' } else { ',' };
-        let f = File::open(path).map_err(|e| TableError::File { file: file.clone(), message: format!("cannot open: {e}") })?;
+        let f = File::open(path)
+            .map_err(|e| TableError::File { file: file.clone(), message: format!("cannot open: {e}") })?;
         let total_bytes = f.metadata().map(|m| m.len()).unwrap_or(0);
         let mut reader = BufReader::with_capacity(1 << 20, f);
         let mut header = String::new();
         let mut consumed = 0u64;
         loop {
             header.clear();
-            let n = reader.read_line(&mut header).map_err(|e| TableError::File { file: file.clone(), message: format!("cannot read: {e}") })?;
+            let n = reader
+                .read_line(&mut header)
+                .map_err(|e| TableError::File { file: file.clone(), message: format!("cannot read: {e}") })?;
             if n == 0 {
                 return Err(TableError::Empty { file });
             }
@@ -137,7 +145,11 @@ impl DelimitedRows {
         split_fields(header.trim_end_matches(['\n', '\r']), separator, &mut names);
         let names: Vec<String> = names.iter().map(|s| s.trim().to_string()).collect();
         let find = |c: &str| -> Result<usize, TableError> {
-            names.iter().position(|n| n == c).ok_or_else(|| TableError::MissingColumn { file: file.clone(), column: c.to_string(), available: names.join(", ") })
+            names.iter().position(|n| n == c).ok_or_else(|| TableError::MissingColumn {
+                file: file.clone(),
+                column: c.to_string(),
+                available: names.join(", "),
+            })
         };
         let index = [
             Some(find(&columns.source)?),
@@ -148,17 +160,30 @@ impl DelimitedRows {
             columns.ra_deg.as_deref().map(find).transpose()?,
             columns.dec_deg.as_deref().map(find).transpose()?,
         ];
-        Ok(DelimitedRows { file, reader, separator, total_bytes, read_bytes: std::sync::Arc::new(consumed.into()), index })
+        Ok(DelimitedRows {
+            file,
+            reader,
+            separator,
+            total_bytes,
+            read_bytes: std::sync::Arc::new(consumed.into()),
+            index,
+        })
     }
 }
 
 impl RowStream for DelimitedRows {
-    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError> {
+    fn for_each_row(
+        &mut self,
+        visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>,
+    ) -> Result<(), TableError> {
         let mut line = String::new();
         let mut row = 0usize;
         loop {
             line.clear();
-            let n = self.reader.read_line(&mut line).map_err(|e| TableError::File { file: self.file.clone(), message: format!("cannot read after data row {row}: {e}") })?;
+            let n = self.reader.read_line(&mut line).map_err(|e| TableError::File {
+                file: self.file.clone(),
+                message: format!("cannot read after data row {row}: {e}"),
+            })?;
             if n == 0 {
                 return Ok(());
             }
@@ -170,17 +195,32 @@ impl RowStream for DelimitedRows {
             row += 1;
             let mut fields = Vec::with_capacity(8);
             split_fields(text, self.separator, &mut fields);
-            let cell = |k: usize| -> Option<&str> { self.index[k].and_then(|i| fields.get(i)).map(|c| c.as_ref().trim()).filter(|s| !s.is_empty()) };
+            let cell = |k: usize| -> Option<&str> {
+                self.index[k].and_then(|i| fields.get(i)).map(|c| c.as_ref().trim()).filter(|s| !s.is_empty())
+            };
             let needed = self.index.iter().flatten().max().copied().unwrap_or(0);
             if fields.len() <= needed {
                 return Err(TableError::Cell {
                     file: self.file.clone(),
                     row,
                     column: String::new(),
-                    message: format!("the row has {} fields but the header asks for at least {}; check the separator and quoting", fields.len(), needed + 1),
+                    message: format!(
+                        "the row has {} fields but the header asks for at least {}; check the separator and quoting",
+                        fields.len(),
+                        needed + 1
+                    ),
                 });
             }
-            visit(RowCells { row, source: cell(0), time: cell(1), value: cell(2), error: cell(3), band: cell(4), ra_deg: cell(5), dec_deg: cell(6) })?;
+            visit(RowCells {
+                row,
+                source: cell(0),
+                time: cell(1),
+                value: cell(2),
+                error: cell(3),
+                band: cell(4),
+                ra_deg: cell(5),
+                dec_deg: cell(6),
+            })?;
         }
     }
     fn progress(&self) -> ReadProgress {
@@ -225,18 +265,35 @@ impl ParquetRows {
         let available: Vec<String> = schema.iter_names().map(|n| n.to_string()).collect();
         for w in &wanted {
             if !available.contains(w) {
-                return Err(TableError::MissingColumn { file: file.clone(), column: w.clone(), available: available.join(", ") });
+                return Err(TableError::MissingColumn {
+                    file: file.clone(),
+                    column: w.clone(),
+                    available: available.join(", "),
+                });
             }
         }
         if total_rows == 0 {
             return Err(TableError::Empty { file });
         }
-        Ok(ParquetRows { file, path: path.to_path_buf(), columns: wanted, slots, total_rows, done_rows: 0, done_counter: Default::default(), slice_rows: slice_rows.max(1), peak_rows: 0 })
+        Ok(ParquetRows {
+            file,
+            path: path.to_path_buf(),
+            columns: wanted,
+            slots,
+            total_rows,
+            done_rows: 0,
+            done_counter: Default::default(),
+            slice_rows: slice_rows.max(1),
+            peak_rows: 0,
+        })
     }
 }
 
 impl RowStream for ParquetRows {
-    fn for_each_row(&mut self, visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>) -> Result<(), TableError> {
+    fn for_each_row(
+        &mut self,
+        visit: &mut dyn FnMut(RowCells<'_>) -> Result<(), TableError>,
+    ) -> Result<(), TableError> {
         let fail = |m: String| TableError::File { file: self.file.clone(), message: m };
         while self.done_rows < self.total_rows {
             let f = File::open(&self.path).map_err(|e| fail(format!("cannot open: {e}")))?;
@@ -253,7 +310,9 @@ impl RowStream for ParquetRows {
             let mut text = Vec::new();
             for c in &self.columns {
                 let col = df.column(c).map_err(|e| fail(e.to_string()))?;
-                let s = col.cast(&DataType::String).map_err(|e| fail(format!("column '{c}' cannot be read as text: {e}")))?;
+                let s = col
+                    .cast(&DataType::String)
+                    .map_err(|e| fail(format!("column '{c}' cannot be read as text: {e}")))?;
                 text.push(s.str().map_err(|e| fail(e.to_string()))?.clone());
             }
             let slot = |k: usize, i: usize| self.slots[k].and_then(|j| text[j].get(i));
@@ -324,19 +383,33 @@ pub trait SourceArrival: Sync {
 /// [`SourceArrival`] for one observer (a site or the geocentre) with the arrival stage's
 /// full correction (Rømer, Einstein, Shapiro; accuracy as [`BarycentricCorrector`]), a
 /// fixed source direction (no proper motion or parallax: survey tables rarely carry them).
-pub struct ObserverArrival<'a> {
-    pub ephemeris: &'a dyn crate::ephemeris::Ephemeris,
+pub struct ObserverArrival {
+    pub ephemeris: crate::ephemeris::SharedEphemeris,
     pub converter: crate::time::ScaleConverter,
     pub orientation: crate::observer::EarthOrientation,
     pub observer: crate::observer::Observer,
 }
 
-impl SourceArrival for ObserverArrival<'_> {
+impl SourceArrival for ObserverArrival {
     fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, String> {
         use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
         let source = Source::fixed_degrees("source", ra_deg, dec_deg)?;
-        let corrector = BarycentricCorrector::new(self.ephemeris, self.converter.clone(), self.orientation.clone(), source, DelayOptions::default());
-        times.iter().map(|t| corrector.correct(t, &self.observer, ReferencePoint::Observer).map(|c| c.bjd_tdb).map_err(|e| e.to_string())).collect()
+        let corrector = BarycentricCorrector::new(
+            self.ephemeris.clone(),
+            self.converter.clone(),
+            self.orientation.clone(),
+            source,
+            DelayOptions::default(),
+        );
+        times
+            .iter()
+            .map(|t| {
+                corrector
+                    .correct(t, &self.observer, ReferencePoint::Observer)
+                    .map(|c| c.bjd_tdb)
+                    .map_err(|e| e.to_string())
+            })
+            .collect()
     }
 }
 
@@ -528,36 +601,66 @@ impl Grouper<'_> {
 
 /// Searches one source's rows (no spectrum is kept). Times read in a non-barycentric clock
 /// are first carried to BJD_TDB with `arrival` (a source reports an error without it).
-pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: &BatchColumns, arrival: Option<&dyn SourceArrival>) -> SourceReport {
+pub fn search_source(
+    rows: &SourceRows,
+    plan: &SearchPlan,
+    file: &str,
+    columns: &BatchColumns,
+    arrival: Option<&dyn SourceArrival>,
+) -> SourceReport {
     let carried;
     let (epoch, time_d) = if rows.clock_time.is_empty() || rows.problem.is_some() {
         (rows.epoch, &rows.time_d)
     } else {
-        let fail = |m: String| SourceReport { id: rows.id.clone(), first_row: rows.first_row, last_row: rows.last_row, epoch_jd: f64::NAN, outcome: Err(m) };
+        let fail = |m: String| SourceReport {
+            id: rows.id.clone(),
+            first_row: rows.first_row,
+            last_row: rows.last_row,
+            epoch_jd: f64::NAN,
+            outcome: Err(m),
+        };
         let (Some(arrival), Some((ra, dec))) = (arrival, rows.position_deg) else {
-            return fail(format!("{file}: source '{}' (rows {}–{}): times are not barycentric and no way to carry them was given", rows.id, rows.first_row, rows.last_row));
+            return fail(format!(
+                "{file}: source '{}' (rows {}–{}): times are not barycentric and no way to carry them was given",
+                rows.id, rows.first_row, rows.last_row
+            ));
         };
         let known: Vec<Instant> = rows.clock_time.iter().flatten().copied().collect();
         let bjd = match arrival.to_barycentre(ra, dec, &known) {
             Ok(b) => b,
-            Err(e) => return fail(format!("{file}: source '{}' (rows {}–{}): carrying the times to the barycentre failed: {e}", rows.id, rows.first_row, rows.last_row)),
+            Err(e) => {
+                return fail(format!(
+                    "{file}: source '{}' (rows {}–{}): carrying the times to the barycentre failed: {e}",
+                    rows.id, rows.first_row, rows.last_row
+                ));
+            }
         };
         let epoch = bjd.first().map(|i| {
             let (a, b) = i.jd_two_part();
             Instant::from_jd_two_part(TimeScale::Tdb, (a + b).floor(), 0.0)
         });
         let mut it = bjd.iter();
-        carried = rows.clock_time.iter().map(|t| match (t, epoch) {
-            (Some(_), Some(e)) => it.next().map_or(f64::NAN, |b| days_since(b, &e)),
-            _ => f64::NAN,
-        }).collect::<Vec<f64>>();
+        carried = rows
+            .clock_time
+            .iter()
+            .map(|t| match (t, epoch) {
+                (Some(_), Some(e)) => it.next().map_or(f64::NAN, |b| days_since(b, &e)),
+                _ => f64::NAN,
+            })
+            .collect::<Vec<f64>>();
         (epoch, &carried)
     };
     let epoch_jd = epoch.map_or(f64::NAN, |e| {
         let (a, b) = e.jd_two_part();
         a + b
     });
-    let report = |outcome| SourceReport { id: rows.id.clone(), first_row: rows.first_row, last_row: rows.last_row, epoch_jd, outcome };
+    let report = |outcome| SourceReport {
+        id: rows.id.clone(),
+        first_row: rows.first_row,
+        last_row: rows.last_row,
+        epoch_jd,
+        outcome,
+    };
     if let Some(p) = &rows.problem {
         return report(Err(p.clone()));
     }
@@ -570,7 +673,12 @@ pub fn search_source(rows: &SourceRows, plan: &SearchPlan, file: &str, columns: 
     }
     let located = super::input::TableLightCurve {
         file: file.to_string(),
-        columns: super::input::LightCurveColumns { time: columns.time.clone(), value: columns.value.clone(), error: columns.error.clone(), band: columns.band.clone() },
+        columns: super::input::LightCurveColumns {
+            time: columns.time.clone(),
+            value: columns.value.clone(),
+            error: columns.error.clone(),
+            band: columns.band.clone(),
+        },
         epoch: epoch.unwrap_or_else(|| Instant::from_jd_two_part(TimeScale::Tdb, 2451545.0, 0.0)),
         time_d: Vec::new(),
         value: Vec::new(),
@@ -642,10 +750,26 @@ pub fn run_batch_with_arrival(
         });
     }
     if !barycentric && (columns.ra_deg.is_none() || columns.dec_deg.is_none()) {
-        return Err(TableError::File { file: file.to_string(), message: "carrying times to the barycentre needs the right-ascension and declination columns (degrees)".into() });
+        return Err(TableError::File {
+            file: file.to_string(),
+            message: "carrying times to the barycentre needs the right-ascension and declination columns (degrees)"
+                .into(),
+        });
     }
     let mut summary = BatchSummary::default();
-    let mut g = Grouper { file: file.to_string(), columns, options, leap, current: None, seen: HashSet::new(), pending: Vec::new(), pending_points: 0, rows: 0, peak_points: 0, carry: !barycentric };
+    let mut g = Grouper {
+        file: file.to_string(),
+        columns,
+        options,
+        leap,
+        current: None,
+        seen: HashSet::new(),
+        pending: Vec::new(),
+        pending_points: 0,
+        rows: 0,
+        peak_points: 0,
+        carry: !barycentric,
+    };
     let batch_points = options.batch_points.max(1);
     let read = rows.progress();
     // Reading and searching overlap: a search thread takes whole batches of sources from a
@@ -658,7 +782,8 @@ pub fn run_batch_with_arrival(
         scope.spawn(move || {
             for (batch, fraction) in searching {
                 let points: usize = batch.iter().map(|s| s.value.len()).sum();
-                let reports: Vec<SourceReport> = batch.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns, arrival)).collect();
+                let reports: Vec<SourceReport> =
+                    batch.par_iter().with_min_len(1).map(|s| search_source(s, plan, file, columns, arrival)).collect();
                 drop(batch);
                 if to_sink.send((reports, points, fraction)).is_err() {
                     break;
@@ -666,7 +791,10 @@ pub fn run_batch_with_arrival(
             }
         });
         let mut in_flight_points = 0usize;
-        let mut deliver = |(reports, points, fraction): (Vec<SourceReport>, usize, f64), summary: &mut BatchSummary, in_flight: &mut usize| -> Result<(), TableError> {
+        let mut deliver = |(reports, points, fraction): (Vec<SourceReport>, usize, f64),
+                           summary: &mut BatchSummary,
+                           in_flight: &mut usize|
+         -> Result<(), TableError> {
             *in_flight -= points;
             summary.sources += reports.len();
             summary.searched += reports.iter().filter(|r| r.outcome.is_ok()).count();
@@ -719,5 +847,8 @@ pub fn run_batch_with_arrival(
 
 /// Describes the alias notes of a peak as one text ("" when none).
 pub fn alias_text(outcome: &SearchOutcome, k: usize) -> String {
-    outcome.peaks.get(k).map_or(String::new(), |p| p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>().join("; "))
+    outcome
+        .peaks
+        .get(k)
+        .map_or(String::new(), |p| p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>().join("; "))
 }

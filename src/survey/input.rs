@@ -1,8 +1,9 @@
 //! Light curves from table columns: barycentric times relative to an epoch, values,
 //! uncertainties and band labels, with every input error naming file, row and column.
 
-use crate::arrival::table::ClockSpec;
 use crate::arrival::ReferencePoint;
+use crate::arrival::table::ClockSpec;
+use crate::constants::SECONDS_PER_DAY;
 use crate::periodogram::{LightCurve, SearchError, Series};
 use crate::table::TableError;
 use crate::time::{Instant, LeapSecondTable, TimeScale, parse_time};
@@ -52,7 +53,12 @@ pub fn numeric_cell(text: Option<&str>, file: &str, row: usize, column: &str) ->
     match s.parse::<f64>() {
         Ok(v) if v.is_finite() => Ok(v),
         Ok(_) => Ok(f64::NAN),
-        Err(_) => Err(TableError::Cell { file: file.to_string(), row, column: column.to_string(), message: format!("'{s}' is not a number") }),
+        Err(_) => Err(TableError::Cell {
+            file: file.to_string(),
+            row,
+            column: column.to_string(),
+            message: format!("'{s}' is not a number"),
+        }),
     }
 }
 
@@ -64,11 +70,19 @@ pub fn is_barycentric_tdb(clock: &ClockSpec) -> bool {
 
 /// Parses barycentric TDB times written in `clock` (a [`is_barycentric_tdb`] clock).
 /// Empty cells give `None` (the row is dropped and counted); unreadable text is an error.
-pub fn parse_barycentric_times(texts: &[Option<String>], clock: &ClockSpec, file: &str, column: &str, leap: &LeapSecondTable) -> Result<Vec<Option<Instant>>, TableError> {
+pub fn parse_barycentric_times(
+    texts: &[Option<String>],
+    clock: &ClockSpec,
+    file: &str,
+    column: &str,
+    leap: &LeapSecondTable,
+) -> Result<Vec<Option<Instant>>, TableError> {
     if !is_barycentric_tdb(clock) {
         return Err(TableError::File {
             file: file.to_string(),
-            message: format!("column '{column}': times in this clock must first be carried to the barycentre (name the site and source); only bjd_tdb or bmjd_tdb times are read directly"),
+            message: format!(
+                "column '{column}': times in this clock must first be carried to the barycentre (name the site and source); only bjd_tdb or bmjd_tdb times are read directly"
+            ),
         });
     }
     texts
@@ -76,9 +90,12 @@ pub fn parse_barycentric_times(texts: &[Option<String>], clock: &ClockSpec, file
         .enumerate()
         .map(|(i, t)| match t.as_deref().map(str::trim).filter(|s| !s.is_empty() && !s.eq_ignore_ascii_case("nan")) {
             None => Ok(None),
-            Some(s) => parse_time(s, clock.format, clock.scale, leap)
-                .map(Some)
-                .map_err(|e| TableError::Cell { file: file.to_string(), row: i + 1, column: column.to_string(), message: e.to_string() }),
+            Some(s) => parse_time(s, clock.format, clock.scale, leap).map(Some).map_err(|e| TableError::Cell {
+                file: file.to_string(),
+                row: i + 1,
+                column: column.to_string(),
+                message: e.to_string(),
+            }),
         })
         .collect()
 }
@@ -93,7 +110,7 @@ pub fn epoch_for(times: &[Option<Instant>]) -> Option<Instant> {
 
 /// Days from `epoch` to `t` (both TDB), two-part safe (≤1 ns for spans of decades).
 pub fn days_since(t: &Instant, epoch: &Instant) -> f64 {
-    t.seconds_since(epoch) / 86_400.0
+    t.seconds_since(epoch) / SECONDS_PER_DAY
 }
 
 /// Assembles a light curve from parsed times and the value, error and band cells.
@@ -171,7 +188,12 @@ impl TableLightCurve {
     /// Ties a search error to the file: row-bearing errors name the data row and column.
     pub fn locate(&self, e: SearchError) -> TableError {
         let row = |i: usize| self.file_row.get(i).copied().unwrap_or(i + 1);
-        let cell = |i: usize, column: &str, message: String| TableError::Cell { file: self.file.clone(), row: row(i), column: column.to_string(), message };
+        let cell = |i: usize, column: &str, message: String| TableError::Cell {
+            file: self.file.clone(),
+            row: row(i),
+            column: column.to_string(),
+            message,
+        };
         match e {
             SearchError::NonPositiveError { row: i, value } => cell(
                 i,
@@ -181,7 +203,9 @@ impl TableLightCurve {
             SearchError::UnsortedTimes { row: i, time_d, previous_d } => cell(
                 i,
                 &self.columns.time,
-                format!("time goes backwards ({time_d:.8} d after {previous_d:.8} d since the epoch); sort the light curve by time first"),
+                format!(
+                    "time goes backwards ({time_d:.8} d after {previous_d:.8} d since the epoch); sort the light curve by time first"
+                ),
             ),
             SearchError::DuplicateTime { row: i, first_row, time_d, band } => {
                 let label = self.band_labels.get(band as usize).cloned().unwrap_or_default();
@@ -197,7 +221,10 @@ impl TableLightCurve {
             }
             SearchError::ConstantSeries => TableError::File {
                 file: self.file.clone(),
-                message: format!("column '{}' is constant (in every band): there is no period to search", self.columns.value),
+                message: format!(
+                    "column '{}' is constant (in every band): there is no period to search",
+                    self.columns.value
+                ),
             },
             other => TableError::File { file: self.file.clone(), message: other.to_string() },
         }
@@ -206,7 +233,11 @@ impl TableLightCurve {
     /// Rows whose time, value or uncertainty is empty or NaN (dropped from the search).
     pub fn n_missing(&self) -> usize {
         (0..self.time_d.len())
-            .filter(|&i| !self.time_d[i].is_finite() || !self.value[i].is_finite() || self.error.as_ref().is_some_and(|e| !e[i].is_finite()))
+            .filter(|&i| {
+                !self.time_d[i].is_finite()
+                    || !self.value[i].is_finite()
+                    || self.error.as_ref().is_some_and(|e| !e[i].is_finite())
+            })
             .count()
     }
 
@@ -229,7 +260,8 @@ mod tests {
     fn errors_name_row_and_column() {
         let clock = ClockSpec::parse_label("bjd_tdb").unwrap();
         let leap = LeapSecondTable::builtin();
-        let texts: Vec<Option<String>> = ["2460000.1", "2460000.3", "2460000.2", "2460000.5"].iter().map(|s| Some(s.to_string())).collect();
+        let texts: Vec<Option<String>> =
+            ["2460000.1", "2460000.3", "2460000.2", "2460000.5"].iter().map(|s| Some(s.to_string())).collect();
         let times = parse_barycentric_times(&texts, &clock, "f.csv", "t", &leap).unwrap();
         let v: Vec<Option<String>> = ["1", "2", "3", "4"].iter().map(|s| Some(s.to_string())).collect();
         let e: Vec<Option<String>> = ["0.1", "0.1", "0.1", "0.1"].iter().map(|s| Some(s.to_string())).collect();
@@ -246,7 +278,8 @@ mod tests {
     fn zero_uncertainty_names_error_column() {
         let clock = ClockSpec::parse_label("bmjd_tdb").unwrap();
         let leap = LeapSecondTable::builtin();
-        let texts: Vec<Option<String>> = ["60000.1", "60000.2", "60000.3", "60000.4", "60000.5"].iter().map(|s| Some(s.to_string())).collect();
+        let texts: Vec<Option<String>> =
+            ["60000.1", "60000.2", "60000.3", "60000.4", "60000.5"].iter().map(|s| Some(s.to_string())).collect();
         let times = parse_barycentric_times(&texts, &clock, "f.csv", "t", &leap).unwrap();
         let v: Vec<Option<String>> = ["1", "2", "3", "4", "nan"].iter().map(|s| Some(s.to_string())).collect();
         let e: Vec<Option<String>> = ["0.1", "0.1", "0", "0.1", "0.1"].iter().map(|s| Some(s.to_string())).collect();

@@ -9,7 +9,8 @@ use crate::periodogram::multiharmonic::MultiHarmonic;
 use crate::periodogram::peaks::{Peak, PeakOptions, describe_peaks, window_sidelobes};
 use crate::periodogram::significance::{BootstrapOptions, baluev_fap, bootstrap_fap};
 use crate::periodogram::{
-    Algorithm, ClassicalLombScargle, GeneralisedLombScargle, GridRequest, MultiBandLombScargle, Periodogram, SearchError, Series, SpectralWindow, Spectrum, plan_grid,
+    Algorithm, ClassicalLombScargle, GeneralisedLombScargle, GridRequest, MultiBandLombScargle, Periodogram,
+    SearchError, Series, SpectralWindow, Spectrum, plan_grid,
 };
 
 /// The statistic searched.
@@ -44,7 +45,9 @@ impl SearchMethod {
             SearchMethod::ClassicalSinusoid => "classical Lomb-Scargle".into(),
             SearchMethod::Harmonics(k) => format!("{k}-harmonic Fourier series"),
             SearchMethod::PhaseDispersion(b) => format!("phase dispersion, {b} bins"),
-            SearchMethod::ConditionalEntropy { phase_bins, value_bins } => format!("conditional entropy, {phase_bins}x{value_bins} bins"),
+            SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
+                format!("conditional entropy, {phase_bins}x{value_bins} bins")
+            }
             SearchMethod::Box { durations_d, .. } => format!("box least squares, {} durations", durations_d.len()),
         }
     }
@@ -118,9 +121,13 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
     let grid = plan_grid(baseline_d, &plan.grid)?.grid;
     let multiband = series.n_bands() > 1;
     let (spectrum, box_det) = match &plan.method {
-        SearchMethod::Sinusoid if multiband => (MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
+        SearchMethod::Sinusoid if multiband => {
+            (MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None)
+        }
         SearchMethod::Sinusoid => (GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
-        SearchMethod::ClassicalSinusoid => (ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
+        SearchMethod::ClassicalSinusoid => {
+            (ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None)
+        }
         SearchMethod::Harmonics(k) => {
             if *k == 0 || *k > 20 {
                 return Err(SearchError::InvalidParameter { name: "harmonics", value: *k as f64, expected: "1 to 20" });
@@ -129,21 +136,40 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
         }
         SearchMethod::PhaseDispersion(b) => {
             if *b < 2 || *b > 1000 {
-                return Err(SearchError::InvalidParameter { name: "phase bins", value: *b as f64, expected: "2 to 1000" });
+                return Err(SearchError::InvalidParameter {
+                    name: "phase bins",
+                    value: *b as f64,
+                    expected: "2 to 1000",
+                });
             }
             (PhaseDispersion { n_bins: *b }.evaluate(series, &grid)?, None)
         }
         SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
             if *phase_bins < 2 || *value_bins < 2 || *phase_bins > 1000 || *value_bins > 1000 {
-                return Err(SearchError::InvalidParameter { name: "entropy bins", value: (*phase_bins).min(*value_bins) as f64, expected: "2 to 1000 phase and value bins" });
+                return Err(SearchError::InvalidParameter {
+                    name: "entropy bins",
+                    value: (*phase_bins).min(*value_bins) as f64,
+                    expected: "2 to 1000 phase and value bins",
+                });
             }
             (ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }.evaluate(series, &grid)?, None)
         }
         SearchMethod::Box { durations_d, values_are_magnitudes } => {
-            let options = BoxOptions { durations_d: durations_d.clone(), bins_per_duration: 5, values_are_magnitudes: *values_are_magnitudes };
+            let options = BoxOptions {
+                durations_d: durations_d.clone(),
+                bins_per_duration: 5,
+                values_are_magnitudes: *values_are_magnitudes,
+            };
             BoxFitPeriodogram { options: options.clone() }.check_series(series)?;
             let bs = box_search(series, &grid, &options)?;
-            let best = bs.power.iter().enumerate().filter(|(_, p)| p.is_finite()).max_by(|a, b| a.1.total_cmp(b.1)).map(|(k, _)| k).unwrap_or(0);
+            let best = bs
+                .power
+                .iter()
+                .enumerate()
+                .filter(|(_, p)| p.is_finite())
+                .max_by(|a, b| a.1.total_cmp(b.1))
+                .map(|(k, _)| k)
+                .unwrap_or(0);
             let det = box_detection(series, &bs, best, &options)?;
             (Spectrum { grid: bs.grid, power: bs.power, amplitude: None, algorithm: None }, Some(det))
         }
@@ -167,7 +193,11 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
     let peaks = peaks
         .into_iter()
         .map(|peak| {
-            let fap = if analytic && (0.0..=1.0).contains(&peak.power) { baluev_fap(peak.power, series, fmax).unwrap_or(f64::NAN) } else { f64::NAN };
+            let fap = if analytic && (0.0..=1.0).contains(&peak.power) {
+                baluev_fap(peak.power, series, fmax).unwrap_or(f64::NAN)
+            } else {
+                f64::NAN
+            };
             RatedPeak { peak, fap }
         })
         .collect::<Vec<_>>();
@@ -179,9 +209,15 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
                 SearchMethod::ClassicalSinusoid => Box::new(ClassicalLombScargle { algorithm: plan.algorithm }),
                 SearchMethod::Harmonics(k) => Box::new(MultiHarmonic { harmonics: *k }),
                 SearchMethod::PhaseDispersion(n) => Box::new(PhaseDispersion { n_bins: *n }),
-                SearchMethod::ConditionalEntropy { phase_bins, value_bins } => Box::new(ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }),
+                SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
+                    Box::new(ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins })
+                }
                 SearchMethod::Box { durations_d, values_are_magnitudes } => Box::new(BoxFitPeriodogram {
-                    options: BoxOptions { durations_d: durations_d.clone(), bins_per_duration: 5, values_are_magnitudes: *values_are_magnitudes },
+                    options: BoxOptions {
+                        durations_d: durations_d.clone(),
+                        bins_per_duration: 5,
+                        values_are_magnitudes: *values_are_magnitudes,
+                    },
                 }),
             };
             Some(bootstrap_fap(series, &grid, method.as_ref(), top.peak.power, b)?.fap)
@@ -228,7 +264,8 @@ mod tests {
                 t.push(night as f64 + 0.1 * k as f64 + 0.02 * rng.uniform());
             }
         }
-        let y: Vec<f64> = t.iter().map(|&x| 0.2 * (std::f64::consts::TAU * x / 0.3).sin() + 0.05 * rng.normal()).collect();
+        let y: Vec<f64> =
+            t.iter().map(|&x| 0.2 * (std::f64::consts::TAU * x / 0.3).sin() + 0.05 * rng.normal()).collect();
         let s = Series::from_arrays(&t, &y, None).unwrap();
         let out = search_series(&s, &SearchPlan::sinusoid_up_to(10.0)).unwrap();
         let top = &out.peaks[0];

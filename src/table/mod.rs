@@ -5,10 +5,12 @@ pub mod columns;
 pub mod error;
 pub mod provenance;
 pub mod read;
+pub mod summary;
 pub mod write;
 
 pub use columns::{float_column, optional_float_column, text_column};
 pub use error::TableError;
 pub use provenance::Provenance;
 pub use read::{TableFormat, read_table};
+pub use summary::{SCHEMA_VERSION, Summary};
 pub use write::{refuse_overwriting_inputs, write_table};

@@ -29,9 +29,7 @@ impl TableFormat {
             "parquet" | "pq" => Ok(TableFormat::Parquet),
             _ => Err(TableError::File {
                 file: path.display().to_string(),
-                message: format!(
-                    "unknown table type '.{ext}'; use .csv, .tsv or .parquet"
-                ),
+                message: format!("unknown table type '.{ext}'; use .csv, .tsv or .parquet"),
             }),
         }
     }
@@ -65,9 +63,7 @@ pub fn read_table(path: &Path, text_columns: &[&str]) -> Result<DataFrame, Table
         }
         TableFormat::Parquet => {
             let file = std::fs::File::open(path).map_err(|e| fail(format!("cannot open: {e}")))?;
-            ParquetReader::new(file)
-                .finish()
-                .map_err(|e| fail(format!("cannot read as Parquet: {e}")))?
+            ParquetReader::new(file).finish().map_err(|e| fail(format!("cannot read as Parquet: {e}")))?
         }
     };
     if df.height() == 0 {

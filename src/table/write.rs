@@ -53,7 +53,12 @@ pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> Result<(), 
 
 /// Writes `df` to `path` (format from the extension) with `provenance`, atomically, after
 /// checking that `path` is none of `inputs`.
-pub fn write_table(df: &mut DataFrame, path: &Path, provenance: &Provenance, inputs: &[&Path]) -> Result<(), TableError> {
+pub fn write_table(
+    df: &mut DataFrame,
+    path: &Path,
+    provenance: &Provenance,
+    inputs: &[&Path],
+) -> Result<(), TableError> {
     refuse_overwriting_inputs(path, inputs)?;
     let format = TableFormat::from_path(path)?;
     let json = provenance.to_json();

@@ -242,7 +242,8 @@ pub fn format_iso(t: &Instant, decimals: usize) -> String {
     let scale = 10f64.powi(decimals as i32);
     let mut day = t.mjd_day();
     let mut ticks = (t.seconds_of_day() * scale).round();
-    let day_ticks = if t.seconds_of_day() >= SECONDS_PER_DAY { (SECONDS_PER_DAY + 1.0) * scale } else { SECONDS_PER_DAY * scale };
+    let day_ticks =
+        if t.seconds_of_day() >= SECONDS_PER_DAY { (SECONDS_PER_DAY + 1.0) * scale } else { SECONDS_PER_DAY * scale };
     if ticks >= day_ticks {
         ticks -= day_ticks;
         day += 1;
@@ -280,7 +281,7 @@ mod tests {
     fn day_numbers_keep_nanoseconds() {
         let t = parse_time("2459000.123456789012", TimeFormat::Jd, TimeScale::Tdb, &table()).unwrap();
         assert_eq!(t.mjd_day(), 58_999);
-        let expected_s = (0.623456789012) * 86_400.0;
+        let expected_s = (0.623456789012) * SECONDS_PER_DAY;
         assert!((t.seconds_of_day() - expected_s).abs() < 1e-9);
         assert_eq!(format_time(&t, TimeFormat::Jd), "2459000.12345678901200");
         let m = parse_time("58999.623456789012", TimeFormat::Mjd, TimeScale::Tdb, &table()).unwrap();

@@ -10,8 +10,7 @@
 
 use std::fmt;
 
-/// Seconds in one day of a uniform scale.
-pub const SECONDS_PER_DAY: f64 = 86_400.0;
+pub use crate::constants::SECONDS_PER_DAY;
 /// Julian Date of MJD 0 (1858-11-17 0h): JD = MJD + 2 400 000.5.
 pub const MJD_ZERO_JD: f64 = 2_400_000.5;
 /// MJD of the J2000.0 epoch day (2000-01-01); J2000.0 itself is MJD 51544.5 (TT).
@@ -40,14 +39,8 @@ pub enum TimeScale {
 
 impl TimeScale {
     /// All scales, in a fixed order (for help texts and tests).
-    pub const ALL: [TimeScale; 6] = [
-        TimeScale::Utc,
-        TimeScale::Tai,
-        TimeScale::Tt,
-        TimeScale::Tdb,
-        TimeScale::Tcb,
-        TimeScale::Gps,
-    ];
+    pub const ALL: [TimeScale; 6] =
+        [TimeScale::Utc, TimeScale::Tai, TimeScale::Tt, TimeScale::Tdb, TimeScale::Tcb, TimeScale::Gps];
 
     /// Lower-case name used in files and on the command line (`utc`, `tai`, `tt`, `tdb`, `tcb`, `gps`).
     pub fn name(self) -> &'static str {
@@ -78,7 +71,7 @@ impl fmt::Display for TimeScale {
 ///
 /// Invariant for uniform scales: `0 <= seconds_of_day < 86400`. For UTC the seconds may
 /// exceed 86400 only on a day that ends with a leap second (checked where UTC is parsed).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Instant {
     scale: TimeScale,
     mjd_day: i64,
@@ -189,8 +182,7 @@ impl Instant {
     /// instants across a leap second the leap is not counted). Exact to ~1e-11 s per day of
     /// separation's magnitude in `f64`.
     pub fn seconds_since(&self, other: &Instant) -> f64 {
-        (self.mjd_day - other.mjd_day) as f64 * SECONDS_PER_DAY
-            + (self.seconds_of_day - other.seconds_of_day)
+        (self.mjd_day - other.mjd_day) as f64 * SECONDS_PER_DAY + (self.seconds_of_day - other.seconds_of_day)
     }
 
     /// Seconds since J2000.0 (2000-01-01 12h) on this instant's own scale.
@@ -223,7 +215,7 @@ mod tests {
         // Property of the representation itself (no outside source needed).
         for k in 0..2000 {
             let mjd_day = 15_020 + k * 36; // 1900-01-01 .. ~2097
-            let sec = (k as f64 * 7919.123456789) % 86_400.0;
+            let sec = (k as f64 * 7919.123456789) % SECONDS_PER_DAY;
             let t = Instant::from_mjd_parts(TimeScale::Tt, mjd_day, sec);
             let (a, b) = t.jd_two_part();
             let back = Instant::from_jd_two_part(TimeScale::Tt, a, b);
@@ -237,10 +229,10 @@ mod tests {
     #[test]
     fn add_and_subtract_are_inverse() {
         let t = Instant::from_mjd_parts(TimeScale::Tdb, 60_000, 1234.5);
-        for s in [-1e9, -86_400.0, -0.3, 0.0, 1e-9, 86_399.999, 3.2e9] {
+        for s in [-1e9, -SECONDS_PER_DAY, -0.3, 0.0, 1e-9, 86_399.999, 3.2e9] {
             let u = t.add_seconds(s);
             assert!((u.seconds_since(&t) - s).abs() < 1e-6 * (1.0 + s.abs() * 1e-9));
-            assert!(u.seconds_of_day() >= 0.0 && u.seconds_of_day() < 86_400.0);
+            assert!(u.seconds_of_day() >= 0.0 && u.seconds_of_day() < SECONDS_PER_DAY);
         }
     }
 

@@ -6,6 +6,7 @@
 //! (via sofars), which carries the rate formula. UTC before 1960 is refused.
 //! A newer table can be loaded from the IERS files `Leap_Second.dat` or `leap-seconds.list`.
 
+use crate::constants::SECONDS_PER_DAY;
 use std::path::Path;
 
 use super::calendar::{civil_from_mjd, mjd_from_civil};
@@ -68,8 +69,7 @@ impl LeapSecondTable {
         LeapSecondTable {
             steps: BUILTIN_STEPS.to_vec(),
             valid_until_mjd: BUILTIN_VALID_UNTIL_MJD,
-            source: "built-in (IERS Bulletin C, TAI-UTC = 37 s since 2017-01-01, valid until 2026-06-28)"
-                .to_string(),
+            source: "built-in (IERS Bulletin C, TAI-UTC = 37 s since 2017-01-01, valid until 2026-06-28)".to_string(),
         }
     }
 
@@ -89,11 +89,7 @@ impl LeapSecondTable {
     /// Parses the text of a leap-second file (see [`LeapSecondTable::from_file`]);
     /// `name` is used in messages and provenance.
     pub fn parse(text: &str, name: &str) -> Result<LeapSecondTable, TimeError> {
-        let err = |line: usize, message: String| TimeError::LeapFile {
-            file: name.to_string(),
-            line,
-            message,
-        };
+        let err = |line: usize, message: String| TimeError::LeapFile { file: name.to_string(), line, message };
         let mut steps = Vec::new();
         let mut expiry_mjd: Option<i64> = None;
         // NTP epoch 1900-01-01 is MJD 15020.
@@ -121,14 +117,20 @@ impl LeapSecondTable {
             let parsed = match fields.len() {
                 // leap-seconds.list: NTP seconds, TAI-UTC, optional comment
                 n if n >= 2 && fields[0].len() >= 9 && fields.get(2).is_none_or(|f| f.starts_with('#')) => {
-                    let ntp: i64 = fields[0].parse().map_err(|_| err(line_no, format!("'{}' is not NTP seconds", fields[0])))?;
-                    let dat: f64 = fields[1].parse().map_err(|_| err(line_no, format!("'{}' is not TAI-UTC seconds", fields[1])))?;
+                    let ntp: i64 =
+                        fields[0].parse().map_err(|_| err(line_no, format!("'{}' is not NTP seconds", fields[0])))?;
+                    let dat: f64 = fields[1]
+                        .parse()
+                        .map_err(|_| err(line_no, format!("'{}' is not TAI-UTC seconds", fields[1])))?;
                     (NTP_EPOCH_MJD + ntp.div_euclid(86_400), dat)
                 }
                 // Leap_Second.dat: MJD day month year TAI-UTC
                 n if n >= 5 => {
-                    let mjd: f64 = fields[0].parse().map_err(|_| err(line_no, format!("'{}' is not an MJD", fields[0])))?;
-                    let dat: f64 = fields[4].parse().map_err(|_| err(line_no, format!("'{}' is not TAI-UTC seconds", fields[4])))?;
+                    let mjd: f64 =
+                        fields[0].parse().map_err(|_| err(line_no, format!("'{}' is not an MJD", fields[0])))?;
+                    let dat: f64 = fields[4]
+                        .parse()
+                        .map_err(|_| err(line_no, format!("'{}' is not TAI-UTC seconds", fields[4])))?;
                     (mjd.round() as i64, dat)
                 }
                 _ => {
@@ -152,11 +154,7 @@ impl LeapSecondTable {
         }
         let last = steps[steps.len() - 1].0;
         let valid_until_mjd = expiry_mjd.unwrap_or(last);
-        Ok(LeapSecondTable {
-            steps,
-            valid_until_mjd,
-            source: format!("{name} (valid until MJD {valid_until_mjd})"),
-        })
+        Ok(LeapSecondTable { steps, valid_until_mjd, source: format!("{name} (valid until MJD {valid_until_mjd})") })
     }
 
     /// Provenance text for outputs.
@@ -183,9 +181,8 @@ impl LeapSecondTable {
         }
         if mjd_day < INTEGER_STEPS_START_MJD {
             let (y, m, d) = civil_from_mjd(mjd_day);
-            let fd = (seconds_of_day / 86_400.0).clamp(0.0, 1.0);
-            return sofars::ts::dat(y as i32, m as i32, d as i32, fd)
-                .map_err(|_| TimeError::UtcBefore1960 { mjd_day });
+            let fd = (seconds_of_day / SECONDS_PER_DAY).clamp(0.0, 1.0);
+            return sofars::ts::dat(y as i32, m as i32, d as i32, fd).map_err(|_| TimeError::UtcBefore1960 { mjd_day });
         }
         let idx = self.steps.partition_point(|&(mjd, _)| mjd <= mjd_day);
         Ok(if idx == 0 { self.steps[0].1 } else { self.steps[idx - 1].1 })
@@ -198,7 +195,7 @@ impl LeapSecondTable {
         let today = self.tai_minus_utc(mjd_day, 0.0)?;
         let tomorrow = self.tai_minus_utc(mjd_day + 1, 0.0)?;
         let drift = self.rate_drift_per_day_s(mjd_day)?;
-        Ok(86_400.0 + (tomorrow - today - drift))
+        Ok(SECONDS_PER_DAY + (tomorrow - today - drift))
     }
 
     /// Change of TAI − UTC over one UTC day due to the 1961–1971 rate formula (0 from 1972).
@@ -250,7 +247,7 @@ mod tests {
     fn leap_days_have_86401_seconds() {
         let t = LeapSecondTable::builtin();
         assert_eq!(t.utc_day_length_s(57_753).unwrap(), 86_401.0); // 2016-12-31
-        assert_eq!(t.utc_day_length_s(57_754).unwrap(), 86_400.0);
+        assert_eq!(t.utc_day_length_s(57_754).unwrap(), SECONDS_PER_DAY);
         assert_eq!(t.utc_day_length_s(41_498).unwrap(), 86_401.0); // 1972-06-30
     }
 
@@ -271,7 +268,8 @@ mod tests {
 
     #[test]
     fn reads_both_iers_file_layouts() {
-        let dat = "#  File expires on 28 June 2027\n    41317.0    1  1 1972       10\n    57754.0    1  1 2017       37\n";
+        let dat =
+            "#  File expires on 28 June 2027\n    41317.0    1  1 1972       10\n    57754.0    1  1 2017       37\n";
         let t = LeapSecondTable::parse(dat, "Leap_Second.dat").unwrap();
         assert_eq!(t.valid_until_mjd(), mjd_from_civil(2027, 6, 28).unwrap());
         assert_eq!(t.tai_minus_utc(58_000, 0.0).unwrap(), 37.0);

@@ -12,6 +12,7 @@
 use super::error::TimeError;
 use super::instant::{Instant, TimeScale};
 use super::leap_seconds::LeapSecondTable;
+use crate::constants::SECONDS_PER_DAY;
 
 /// TT − TAI, s (IAU 1991 Resolution A4).
 pub const TT_MINUS_TAI_S: f64 = 32.184;
@@ -108,16 +109,14 @@ impl ScaleConverter {
             TimeScale::Tt => tai.add_seconds(TT_MINUS_TAI_S).relabel(TimeScale::Tt),
             TimeScale::Gps => tai.add_seconds(-TAI_MINUS_GPS_S).relabel(TimeScale::Gps),
             TimeScale::Tdb => self.tt_to_tdb(&tai.add_seconds(TT_MINUS_TAI_S).relabel(TimeScale::Tt)),
-            TimeScale::Tcb => {
-                tdb_to_tcb(&self.tt_to_tdb(&tai.add_seconds(TT_MINUS_TAI_S).relabel(TimeScale::Tt)))
-            }
+            TimeScale::Tcb => tdb_to_tcb(&self.tt_to_tdb(&tai.add_seconds(TT_MINUS_TAI_S).relabel(TimeScale::Tt))),
         })
     }
 
     /// TT → TDB at this converter's site. The UT1 fraction for the topocentric term is
     /// approximated by the TT fraction minus 69 s (error ≪ 1 ns in the term).
     pub fn tt_to_tdb(&self, tt: &Instant) -> Instant {
-        let ut_fraction = (tt.seconds_of_day() - 69.0).rem_euclid(86_400.0) / 86_400.0;
+        let ut_fraction = (tt.seconds_of_day() - 69.0).rem_euclid(SECONDS_PER_DAY) / SECONDS_PER_DAY;
         self.tt_to_tdb_with_ut(tt, ut_fraction)
     }
 
@@ -134,11 +133,11 @@ impl ScaleConverter {
         let rough = Instant::from_jd_two_part(TimeScale::Utc, jd1, jd2);
         let day = rough.mjd_day();
         let length = self.leap_seconds.utc_day_length_s(day)?;
-        if length == 86_400.0 {
+        if length == SECONDS_PER_DAY {
             return Ok(rough);
         }
         let seconds = rough.day_fraction() * length;
-        Ok(if seconds >= 86_400.0 {
+        Ok(if seconds >= SECONDS_PER_DAY {
             Instant::from_utc_parts_unchecked(day, seconds)
         } else {
             Instant::from_mjd_parts(TimeScale::Utc, day, seconds)
@@ -147,7 +146,7 @@ impl ScaleConverter {
 
     /// TDB → TT at this converter's site (two fixed-point iterations; converged to < 1e-15 s).
     pub fn tdb_to_tt(&self, tdb: &Instant) -> Instant {
-        let ut_fraction = (tdb.seconds_of_day() - 69.0).rem_euclid(86_400.0) / 86_400.0;
+        let ut_fraction = (tdb.seconds_of_day() - 69.0).rem_euclid(SECONDS_PER_DAY) / SECONDS_PER_DAY;
         let mut tt = tdb.relabel(TimeScale::Tt);
         for _ in 0..3 {
             let dt = tdb_minus_tt_s(&tt, self.site.as_ref(), ut_fraction);
@@ -162,7 +161,7 @@ impl ScaleConverter {
         let day = utc.mjd_day();
         let dat0 = self.leap_seconds.tai_minus_utc(day, 0.0)?;
         let drift = self.leap_seconds.rate_drift_per_day_s(day)?;
-        let tai_seconds = utc.seconds_of_day() * (1.0 + drift / 86_400.0) + dat0;
+        let tai_seconds = utc.seconds_of_day() * (1.0 + drift / SECONDS_PER_DAY) + dat0;
         Ok(Instant::from_mjd_parts(TimeScale::Tai, day, tai_seconds))
     }
 
@@ -173,10 +172,10 @@ impl ScaleConverter {
             let dat0 = self.leap_seconds.tai_minus_utc(day, 0.0)?;
             let drift = self.leap_seconds.rate_drift_per_day_s(day)?;
             let since_utc_midnight = tai.seconds_since(&Instant::from_mjd_parts(TimeScale::Tai, day, 0.0)) - dat0;
-            let utc_seconds = since_utc_midnight / (1.0 + drift / 86_400.0);
+            let utc_seconds = since_utc_midnight / (1.0 + drift / SECONDS_PER_DAY);
             let length = self.leap_seconds.utc_day_length_s(day)?;
             if utc_seconds >= 0.0 && utc_seconds < length {
-                return Ok(if utc_seconds >= 86_400.0 {
+                return Ok(if utc_seconds >= SECONDS_PER_DAY {
                     Instant::from_utc_parts_unchecked(day, utc_seconds)
                 } else {
                     Instant::from_mjd_parts(TimeScale::Utc, day, utc_seconds)

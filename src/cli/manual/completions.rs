@@ -79,7 +79,9 @@ fn bash(spec: &CommandSpec) -> String {
     s.push_str("    if [ \"$COMP_CWORD\" -gt 0 ]; then prev=\"${COMP_WORDS[COMP_CWORD-1]}\"; fi\n");
     // bash splits `--option=value` at '=' (COMP_WORDBREAKS): complete the value of --option.
     s.push_str("    if [ \"$cur\" = \"=\" ] && [ \"$COMP_CWORD\" -gt 0 ]; then cur=\"\"; prev=\"${COMP_WORDS[COMP_CWORD-1]}\";\n");
-    s.push_str("    elif [ \"$prev\" = \"=\" ] && [ \"$COMP_CWORD\" -gt 1 ]; then prev=\"${COMP_WORDS[COMP_CWORD-2]}\"; fi\n");
+    s.push_str(
+        "    elif [ \"$prev\" = \"=\" ] && [ \"$COMP_CWORD\" -gt 1 ]; then prev=\"${COMP_WORDS[COMP_CWORD-2]}\"; fi\n",
+    );
     let _ = writeln!(s, "    where={}", single_quoted(program));
     s.push_str("    for ((i = 1; i < COMP_CWORD; i++)); do\n");
     s.push_str("        word=\"${COMP_WORDS[i]}\"\n");
@@ -88,7 +90,12 @@ fn bash(spec: &CommandSpec) -> String {
         for sub in &c.subcommands {
             let from = c.path.join(" ");
             let to = sub.path.join(" ");
-            let _ = writeln!(s, "            {}) where={} ;;", single_quoted(&format!("{from}/{}", sub.name)), single_quoted(&to));
+            let _ = writeln!(
+                s,
+                "            {}) where={} ;;",
+                single_quoted(&format!("{from}/{}", sub.name)),
+                single_quoted(&to)
+            );
         }
     }
     s.push_str("        esac\n    done\n");
@@ -103,9 +110,15 @@ fn bash(spec: &CommandSpec) -> String {
                 continue;
             }
             let action = match &o.kind {
-                ValueKind::Path => "compopt -o filenames 2>/dev/null; COMPREPLY=($(compgen -f -- \"$cur\")); return 0".to_string(),
-                ValueKind::Folder => "compopt -o filenames 2>/dev/null; COMPREPLY=($(compgen -d -- \"$cur\")); return 0".to_string(),
-                ValueKind::Choice(words) => format!("COMPREPLY=($(compgen -W {} -- \"$cur\")); return 0", single_quoted(&words.join(" "))),
+                ValueKind::Path => {
+                    "compopt -o filenames 2>/dev/null; COMPREPLY=($(compgen -f -- \"$cur\")); return 0".to_string()
+                }
+                ValueKind::Folder => {
+                    "compopt -o filenames 2>/dev/null; COMPREPLY=($(compgen -d -- \"$cur\")); return 0".to_string()
+                }
+                ValueKind::Choice(words) => {
+                    format!("COMPREPLY=($(compgen -W {} -- \"$cur\")); return 0", single_quoted(&words.join(" ")))
+                }
                 _ => "COMPREPLY=(); return 0".to_string(),
             };
             let _ = writeln!(value_cases, "                {}) {action} ;;", names.join("|"));
@@ -132,7 +145,11 @@ fn bash(spec: &CommandSpec) -> String {
             })
             .collect();
         if !choices.is_empty() {
-            let _ = writeln!(s, "            if [[ \"$cur\" != -* ]]; then words={}; fi", single_quoted(&choices.join(" ")));
+            let _ = writeln!(
+                s,
+                "            if [[ \"$cur\" != -* ]]; then words={}; fi",
+                single_quoted(&choices.join(" "))
+            );
         }
         let positional_paths = c.positionals.iter().any(|p| matches!(p.kind, ValueKind::Path | ValueKind::Folder));
         if positional_paths {
@@ -169,7 +186,9 @@ fn zsh_value_action(kind: &ValueKind) -> String {
     match kind {
         ValueKind::Path => "_files".to_string(),
         ValueKind::Folder => "_files -/".to_string(),
-        ValueKind::Choice(words) => format!("({})", words.iter().map(|w| zsh_description(w)).collect::<Vec<_>>().join(" ")),
+        ValueKind::Choice(words) => {
+            format!("({})", words.iter().map(|w| zsh_description(w)).collect::<Vec<_>>().join(" "))
+        }
         _ => " ".to_string(),
     }
 }
@@ -193,7 +212,11 @@ fn zsh(spec: &CommandSpec) -> String {
                 if o.takes_value() {
                     let value = zsh_description(o.value_name.as_deref().unwrap_or("VALUE"));
                     let equals = if name.starts_with("--") { "=" } else { "+" };
-                    let _ = writeln!(s, "        '{repeat}{name}{equals}[{description}]:{value}:{}' \\", zsh_value_action(&o.kind));
+                    let _ = writeln!(
+                        s,
+                        "        '{repeat}{name}{equals}[{description}]:{value}:{}' \\",
+                        zsh_value_action(&o.kind)
+                    );
                 } else {
                     let _ = writeln!(s, "        '{repeat}{name}[{description}]' \\");
                 }
@@ -219,7 +242,11 @@ fn zsh(spec: &CommandSpec) -> String {
                 let _ = writeln!(s, "                {}", single_quoted(&format!("{name}:{}", sub.about)));
             }
             s.push_str("            )\n");
-            let _ = writeln!(s, "            _describe -t commands {} commands ;;", single_quoted(&format!("{} command", c.full_name())));
+            let _ = writeln!(
+                s,
+                "            _describe -t commands {} commands ;;",
+                single_quoted(&format!("{} command", c.full_name()))
+            );
             s.push_str("        argument)\n");
             s.push_str("            case $line[1] in\n");
             for sub in &c.subcommands {
@@ -230,7 +257,12 @@ fn zsh(spec: &CommandSpec) -> String {
         }
         s.push_str("}\n");
     }
-    let _ = writeln!(s, "\nif [ \"$funcstack[1]\" = \"_{program}\" ]; then\n    _{} \"$@\"\nelse\n    compdef _{} {program}\nfi", function_name(&spec.path), function_name(&spec.path));
+    let _ = writeln!(
+        s,
+        "\nif [ \"$funcstack[1]\" = \"_{program}\" ]; then\n    _{} \"$@\"\nelse\n    compdef _{} {program}\nfi",
+        function_name(&spec.path),
+        function_name(&spec.path)
+    );
     s
 }
 
@@ -261,7 +293,12 @@ fn fish(spec: &CommandSpec) -> String {
     for c in all_commands(spec) {
         let condition = format!("-n {}", fish_quoted(&format!("__{prefix}_at {}", fish_quoted(&c.path.join(" ")))));
         for sub in &c.subcommands {
-            let _ = writeln!(s, "complete -c {program} {condition} -a {} -d {}", fish_quoted(&sub.name), fish_quoted(&sub.about));
+            let _ = writeln!(
+                s,
+                "complete -c {program} {condition} -a {} -d {}",
+                fish_quoted(&sub.name),
+                fish_quoted(&sub.about)
+            );
         }
         for o in &c.options {
             let mut line = format!("complete -c {program} {condition}");
@@ -289,7 +326,12 @@ fn fish(spec: &CommandSpec) -> String {
             if let ValueKind::Choice(words) = &p.kind {
                 let what = p.summary();
                 for w in words {
-                    let _ = writeln!(s, "complete -c {program} {condition} -a {} -d {}", fish_quoted(w), fish_quoted(&what));
+                    let _ = writeln!(
+                        s,
+                        "complete -c {program} {condition} -a {} -d {}",
+                        fish_quoted(w),
+                        fish_quoted(&what)
+                    );
                 }
             }
         }
@@ -332,7 +374,12 @@ mod tests {
     #[test]
     fn fish_script_conditions_on_the_command_path() {
         let s = completion_script(&toy(), Shell::Fish);
-        assert!(s.contains("complete -c toy -n '__toy_at \\'toy\\'' -a 'fold-star' -d 'Fold the light curve of Star Alpha'"), "{s}");
+        assert!(
+            s.contains(
+                "complete -c toy -n '__toy_at \\'toy\\'' -a 'fold-star' -d 'Fold the light curve of Star Alpha'"
+            ),
+            "{s}"
+        );
         assert!(s.contains("-l input -r -F -d 'Input table'"), "{s}");
         assert!(s.contains("-l method -x -a 'mean median' -d 'Binning'"), "{s}");
         assert!(s.contains("-l bins -x -d 'Number of bins'"), "{s}");

@@ -110,11 +110,8 @@ impl CommandSpec {
                 options.push(spec);
             }
         }
-        let subcommands = command
-            .get_subcommands_mut()
-            .filter(|c| !c.is_hide_set())
-            .map(|c| Self::walk(c, path.clone()))
-            .collect();
+        let subcommands =
+            command.get_subcommands_mut().filter(|c| !c.is_hide_set()).map(|c| Self::walk(c, path.clone())).collect();
         CommandSpec {
             name: command.get_name().to_string(),
             version: command.get_version().map(str::to_string),
@@ -164,12 +161,8 @@ fn arg_spec(arg: &clap::Arg) -> ArgSpec {
     let kind = if !takes_value {
         ValueKind::None
     } else {
-        let choices: Vec<String> = arg
-            .get_possible_values()
-            .iter()
-            .filter(|v| !v.is_hide_set())
-            .map(|v| v.get_name().to_string())
-            .collect();
+        let choices: Vec<String> =
+            arg.get_possible_values().iter().filter(|v| !v.is_hide_set()).map(|v| v.get_name().to_string()).collect();
         let named_file = value_name.as_deref().is_some_and(|n| n == "FILE" || n.ends_with("_FILE"));
         if !choices.is_empty() {
             ValueKind::Choice(choices)
@@ -183,11 +176,8 @@ fn arg_spec(arg: &clap::Arg) -> ArgSpec {
     };
     let repeatable = matches!(arg.get_action(), ArgAction::Append | ArgAction::Count)
         || arg.get_num_args().is_some_and(|n| n.max_values() > 1);
-    let help = arg
-        .get_long_help()
-        .or_else(|| arg.get_help())
-        .map(|s| s.to_string().trim().to_string())
-        .unwrap_or_default();
+    let help =
+        arg.get_long_help().or_else(|| arg.get_help()).map(|s| s.to_string().trim().to_string()).unwrap_or_default();
     ArgSpec {
         long: arg.get_long().map(str::to_string),
         short: arg.get_short(),
@@ -235,7 +225,8 @@ mod tests {
         assert!(names.contains(&"fold-star") && names.contains(&"outputs") && names.contains(&"help"), "{names:?}");
         let fold = &t.subcommands[0];
         assert_eq!(fold.path, vec!["toy", "fold-star"]);
-        let get = |n: &str| fold.options.iter().find(|o| o.long.as_deref() == Some(n)).unwrap_or_else(|| panic!("no --{n}"));
+        let get =
+            |n: &str| fold.options.iter().find(|o| o.long.as_deref() == Some(n)).unwrap_or_else(|| panic!("no --{n}"));
         assert_eq!(get("input").kind, ValueKind::Path);
         assert!(get("input").required);
         assert_eq!(get("method").kind, ValueKind::Choice(vec!["mean".into(), "median".into()]));
@@ -249,7 +240,10 @@ mod tests {
         assert!(fold.example.as_deref().unwrap().starts_with("Example:"));
         assert!(fold.usage.starts_with("toy fold-star"), "{}", fold.usage);
         let outputs = &t.subcommands[1];
-        assert_eq!(outputs.options.iter().find(|o| o.long.as_deref() == Some("folder")).unwrap().kind, ValueKind::Folder);
+        assert_eq!(
+            outputs.options.iter().find(|o| o.long.as_deref() == Some("folder")).unwrap().kind,
+            ValueKind::Folder
+        );
         assert!(t.subcommands.iter().find(|c| c.name == "help").unwrap().is_help_command());
         assert!(!fold.is_help_command());
     }
@@ -283,7 +277,11 @@ pub fn print_or_write(text: &str, output: Option<&std::path::Path>) -> anyhow::R
         };
     };
     if path.is_dir() {
-        bail!("--output {} is a folder; give a file name inside it, e.g. {}", path.display(), path.join("skyclock.out").display());
+        bail!(
+            "--output {} is a folder; give a file name inside it, e.g. {}",
+            path.display(),
+            path.join("skyclock.out").display()
+        );
     }
     if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
         if !parent.is_dir() {
@@ -291,9 +289,15 @@ pub fn print_or_write(text: &str, output: Option<&std::path::Path>) -> anyhow::R
         }
     }
     if let Ok(program) = std::env::current_exe() {
-        crate::table::refuse_overwriting_inputs(path, &[program.as_path()])
-            .map_err(|_| anyhow::anyhow!("refusing to write over the skyclock program itself ({}); choose another --output", path.display()))?;
+        skyclock::table::refuse_overwriting_inputs(path, &[program.as_path()]).map_err(|_| {
+            anyhow::anyhow!(
+                "refusing to write over the skyclock program itself ({}); choose another --output",
+                path.display()
+            )
+        })?;
     }
-    crate::table::write::write_atomically(path, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))
-        .with_context(|| format!("writing {} (check that the folder is writable)", path.display()))
+    skyclock::table::write::write_atomically(path, |f| {
+        std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string())
+    })
+    .with_context(|| format!("writing {} (check that the folder is writable)", path.display()))
 }
