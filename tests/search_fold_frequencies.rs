@@ -5,8 +5,9 @@ mod common;
 use common::*;
 use skyclock::fit::SeededRng;
 use skyclock::fold::{BinStatistic, bin_folded, fold_times, refine_period};
+use skyclock::frequencies::peaks::{PeakOptions, describe_peaks};
 use skyclock::frequencies::prewhiten::{Combination, PrewhitenOptions, StopReason, prewhiten};
-use skyclock::periodogram::peaks::{AliasKind, PeakOptions, describe_peaks, window_sidelobes};
+use skyclock::periodogram::peaks::{AliasKind, window_sidelobes};
 use skyclock::periodogram::*;
 use std::f64::consts::TAU;
 

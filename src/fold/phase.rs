@@ -2,14 +2,7 @@
 
 use crate::periodogram::SearchError;
 
-/// Phase in [0, 1) of time `time_d` for period `period_d` and epoch `epoch_d` (all days,
-/// same reference). Accuracy: f64 rounding of (t − t₀)/P, ~1e-16 × cycle count.
-/// Source: definition (common practice).
-pub fn phase_of(time_d: f64, period_d: f64, epoch_d: f64) -> f64 {
-    let x = (time_d - epoch_d) / period_d;
-    let p = x - x.floor();
-    if p >= 1.0 { 0.0 } else { p }
-}
+pub use crate::light_curve::phase_of;
 
 /// Phases of all times; refuses a non-positive or non-finite period or epoch.
 pub fn fold_times(time_d: &[f64], period_d: f64, epoch_d: f64) -> Result<Vec<f64>, SearchError> {

@@ -6,6 +6,8 @@
 
 pub mod detrend;
 pub mod model;
+pub mod peaks;
 pub mod prewhiten;
 
 pub use model::{FittedSinusoid, MultiSineFit, Sinusoid, fit_sinusoids};
+pub use peaks::{PeakOptions, describe_peaks};

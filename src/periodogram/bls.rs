@@ -7,7 +7,7 @@
 //! SDE = (peak − mean)/std of the spectrum (KZM02 §2).
 
 use super::{FrequencyGrid, Periodogram, SearchError, Series, Spectrum};
-use crate::fold::phase_of;
+use crate::light_curve::phase_of;
 use rayon::prelude::*;
 
 /// Options of the box search.

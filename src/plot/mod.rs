@@ -315,7 +315,7 @@ mod tests {
     #[test]
     fn writes_svg_and_png_with_two_panels() {
         let x: Vec<f64> = (0..50).map(|i| i as f64 * 0.02).collect();
-        let y: Vec<f64> = x.iter().map(|v| (6.28 * v).sin()).collect();
+        let y: Vec<f64> = x.iter().map(|v| (std::f64::consts::TAU * v).sin()).collect();
         let fig = Figure {
             title: "invented".into(),
             panels: vec![

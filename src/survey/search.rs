@@ -2,11 +2,12 @@
 //! evaluate the chosen method, pick and refine the top peaks, annotate aliases (including
 //! spectral-window sidelobes), and attach false-alarm probabilities.
 
+use crate::frequencies::peaks::{PeakOptions, describe_peaks};
 use crate::periodogram::bls::{BoxDetection, BoxFitPeriodogram, BoxOptions, box_detection, box_search};
 use crate::periodogram::dispersion::PhaseDispersion;
 use crate::periodogram::entropy::ConditionalEntropy;
 use crate::periodogram::multiharmonic::MultiHarmonic;
-use crate::periodogram::peaks::{Peak, PeakOptions, describe_peaks, window_sidelobes};
+use crate::periodogram::peaks::{Peak, window_sidelobes};
 use crate::periodogram::significance::{BootstrapOptions, baluev_fap, bootstrap_fap};
 use crate::periodogram::{
     Algorithm, ClassicalLombScargle, GeneralisedLombScargle, GridRequest, MultiBandLombScargle, Periodogram,
