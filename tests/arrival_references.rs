@@ -241,8 +241,8 @@ fn space_motion_matches_erfa_pmsafe() {
         let d = s.direction_at(&t);
         let (ra, dec) = (f(&r, "ra_rad"), f(&r, "dec_rad"));
         let expected = [dec.cos() * ra.cos(), dec.cos() * ra.sin(), dec.sin()];
-        for k in 0..3 {
-            assert!((d.unit[k] - expected[k]).abs() < 1e-12, "{}", r["star_name"]);
+        for (u, e) in d.unit.iter().zip(expected) {
+            assert!((u - e).abs() < 1e-12, "{}", r["star_name"]);
         }
     }
 }

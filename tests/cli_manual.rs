@@ -288,9 +288,9 @@ fn manual_page_lists_every_command_and_formats_without_warnings() {
     }
     // Every text line that starts with a request character is a real request.
     for line in page.lines() {
-        if line.starts_with('.') {
+        if let Some(rest) = line.strip_prefix('.') {
             let request: String =
-                line[1..].chars().take_while(|c| c.is_ascii_alphabetic() || *c == '\\' || *c == '"').collect();
+                rest.chars().take_while(|c| c.is_ascii_alphabetic() || *c == '\\' || *c == '"').collect();
             assert!(
                 ["TH", "SH", "SS", "TP", "PP", "B", "I", "RI", "br", "nf", "fi", "RS", "RE", "sp", "nh", "ad", "\\\""]
                     .contains(&request.as_str()),

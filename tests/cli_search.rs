@@ -221,11 +221,14 @@ fn fold_and_extract_frequencies() {
     assert!((f[0] - 9.123).abs() < 1e-3 && (f[1] - 11.871).abs() < 1e-3, "{f:?}");
 }
 
+/// Rows of an invented light curve: (time, value, error).
+type Rows = Vec<(f64, f64, f64)>;
+
 #[test]
 fn bad_input_names_file_row_and_column() {
     let d = dir("bad");
     let good = light_curve(1, &[(2.0, 0.1)], 0.01);
-    let case = |name: &str, edit: &dyn Fn(&mut Vec<(f64, f64, f64)>), extra: &[&str], expect: &[&str]| {
+    let case = |name: &str, edit: &dyn Fn(&mut Rows), extra: &[&str], expect: &[&str]| {
         let mut rows = good.clone();
         edit(&mut rows);
         let path = d.join(name);

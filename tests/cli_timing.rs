@@ -9,7 +9,7 @@ use std::process::Command;
 use skyclock::fit::SeededRng;
 use skyclock::oc::models::light_time_d;
 
-const EPOCH_JD: f64 = 2_448_000.3456;
+const EPOCH_JD: f64 = 2_448_000.345_6;
 const PERIOD_D: f64 = 0.612_345_6;
 const QUADRATIC_D: f64 = 2.0e-10;
 const LTTE: [f64; 5] = [0.003, 3_900.0, 0.3, 0.2, 1.0];

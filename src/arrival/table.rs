@@ -217,7 +217,7 @@ pub fn correct_table_with_geometry(
         max_total_correction_s: f64::NEG_INFINITY,
         ..Default::default()
     };
-    let mut cols: Vec<Vec<f64>> = vec![Vec::with_capacity(n); 10];
+    let mut cols: Vec<Vec<f64>> = (0..10).map(|_| Vec::with_capacity(n)).collect();
     let mut bjd_text = Vec::with_capacity(n);
     let mut obs_text = Vec::with_capacity(n);
     let mut clock_text = Vec::with_capacity(n);

@@ -2,6 +2,15 @@
 //! validation; each command hands typed values to the library and prints its results.
 //! No science lives here.
 
+// Compiled into tests and an example with `#[path]` as well as into the binary, so the
+// crate-wide lint choices of src/main.rs are repeated here (see there for the reasons).
+#![allow(
+    clippy::neg_cmp_op_on_partial_ord,
+    clippy::needless_range_loop,
+    clippy::nonminimal_bool,
+    clippy::result_large_err
+)]
+
 pub mod barycentre;
 pub mod barycentre_events;
 pub mod common;

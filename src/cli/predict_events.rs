@@ -283,8 +283,8 @@ pub fn run(a: Args) -> Result<()> {
     } else {
         println!("{} event(s) of {} from {} to {} UTC at {}", events.len(), source.name, a.from, a.until, site.name);
         println!(
-            "{:<9} {:>10} {:<19} {:>8} {:>7} {:>7} {:<21} {:>6}  {}",
-            "kind", "cycle", "UTC", "±σ min", "alt°", "Sun°", "sky", "Moon°", "verdict"
+            "{:<9} {:>10} {:<19} {:>8} {:>7} {:>7} {:<21} {:>6}  verdict",
+            "kind", "cycle", "UTC", "±σ min", "alt°", "Sun°", "sky", "Moon°"
         );
         for e in &events {
             let verdict = if e.sun_caution.is_some() {

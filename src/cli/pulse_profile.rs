@@ -247,7 +247,7 @@ pub fn run(a: Args) -> Result<()> {
     if let Some(path) = &a.figure {
         use skyclock::plot::{Figure, Layer, Panel, write_figure};
         let two = |v: &[f64], shift: bool| -> Vec<f64> {
-            v.iter().map(|x| *x).chain(v.iter().map(|x| if shift { x + 1.0 } else { *x })).collect()
+            v.iter().copied().chain(v.iter().map(|x| if shift { x + 1.0 } else { *x })).collect()
         };
         let grid: Vec<f64> = (0..=400).map(|i| 2.0 * i as f64 / 400.0).collect();
         let fig = Figure {

@@ -144,7 +144,7 @@ pub fn run(a: Args) -> Result<()> {
     let jd2 = float_column(&table.corrected, file, "bjd_tdb_jd2")?;
     let rows = &table.rows;
     let origins = match &a.origin_column {
-        Some(c) => Some(text_column(&df, &file, c)?),
+        Some(c) => Some(text_column(df, file, c)?),
         None => None,
     };
     let timings: Vec<Timing> = rows
@@ -199,7 +199,7 @@ pub fn run(a: Args) -> Result<()> {
     ];
     let mut model_json = Vec::new();
     for f in &fits {
-        let name = f.kind.name().replace('+', "_").replace('-', "_");
+        let name = f.kind.name().replace(['+', '-'], "_");
         let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
         let sigma: Vec<f64> = (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
         let resid: Vec<f64> = series.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect();

@@ -6,6 +6,15 @@
 //! are made by [`scenario::write_datasets`] with a fixed seed (`cargo run --release
 //! --example make_demo_datasets`); the survey is written into the output folder.
 
+// Compiled into tests and an example with `#[path]` as well as into the binary, so the
+// crate-wide lint choices of src/main.rs are repeated here (see there for the reasons).
+#![allow(
+    clippy::neg_cmp_op_on_partial_ord,
+    clippy::needless_range_loop,
+    clippy::nonminimal_bool,
+    clippy::result_large_err
+)]
+
 pub mod chain;
 pub mod pulsar_scenario;
 pub mod random;

@@ -66,14 +66,14 @@ fn interpolate(t: &[f64], v: &[f64], x: f64) -> f64 {
 /// Pairs (i, k) reflected about half-step position `j` (grid index j/2), for k = 1..=K.
 fn max_pairs(j: usize, m: usize) -> usize {
     let g = j / 2;
-    if j % 2 == 0 { g.min(m - 1 - g) } else { (g + 1).min(m - 1 - g) }
+    if j.is_multiple_of(2) { g.min(m - 1 - g) } else { (g + 1).min(m - 1 - g) }
 }
 
 fn sum_of_squares(grid: &[f64], j: usize, pairs: usize) -> f64 {
     let g = j / 2;
     let mut s = 0.0;
     for k in 1..=pairs {
-        let (lo, hi) = if j % 2 == 0 { (g - k, g + k) } else { (g + 1 - k, g + k) };
+        let (lo, hi) = if j.is_multiple_of(2) { (g - k, g + k) } else { (g + 1 - k, g + k) };
         let d = grid[hi] - grid[lo];
         s += d * d;
     }

@@ -156,7 +156,7 @@ impl EarthOrientationTable {
     pub fn interpolate(&self, utc_mjd: f64) -> Option<OrientationValues> {
         let n = self.mjd.len();
         let i = self.mjd.partition_point(|&m| m <= utc_mjd);
-        if i == 0 || i >= n + 1 {
+        if i == 0 || i > n {
             return None;
         }
         let lo = i - 1;

@@ -14,7 +14,7 @@ use crate::constants::SECONDS_PER_DAY;
 use crate::time::{DtdbSite, Instant};
 
 /// Earth rotation rate, rad/s (IERS Conventions 2010).
-pub const EARTH_ROTATION_RAD_PER_S: f64 = 2.0 * std::f64::consts::PI * 1.002_737_811_911_354_48 / SECONDS_PER_DAY;
+pub const EARTH_ROTATION_RAD_PER_S: f64 = 2.0 * std::f64::consts::PI * 1.002_737_811_911_354_6 / SECONDS_PER_DAY;
 
 /// A ground site on the WGS84 ellipsoid.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]

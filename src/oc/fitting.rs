@@ -628,6 +628,9 @@ pub fn bootstrap(series: &OcSeries, fit: &ModelFit, options: &BootstrapOptions) 
     bootstrap_with_progress(series, fit, options, &|_| {})
 }
 
+/// One bootstrap resample's fitted parameters and derived quantities.
+type DrawPair = (Vec<f64>, Vec<f64>);
+
 /// [`bootstrap`] calling `progress(1)` after each resample (from any thread), for a caller's
 /// progress display. Results are the same as without it.
 pub fn bootstrap_with_progress(
@@ -684,7 +687,7 @@ pub fn bootstrap_with_progress(
             detail: format!("only {} of {} bootstrap resamples could be fitted", ok.len(), options.resamples),
         });
     }
-    let sd = |get: &dyn Fn(&(Vec<f64>, Vec<f64>)) -> f64| {
+    let sd = |get: &dyn Fn(&DrawPair) -> f64| {
         let m = ok.iter().map(|d| get(d)).sum::<f64>() / ok.len() as f64;
         (ok.iter().map(|d| (get(d) - m).powi(2)).sum::<f64>() / (ok.len() - 1) as f64).sqrt()
     };

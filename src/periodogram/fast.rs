@@ -33,6 +33,9 @@ impl Default for FastOptions {
     }
 }
 
+/// A cached deconvolution table: (FFT length, τ bits, largest |k'|) and its values.
+type DeconvolutionTable = ((usize, u64, usize), std::sync::Arc<Vec<f64>>);
+
 /// Per-thread work arrays and FFT plans: reused across calls, so a batch of light curves
 /// on one grid allocates and plans once per worker thread.
 struct Workspace {
@@ -42,7 +45,7 @@ struct Workspace {
     u: Vec<f64>,
     h: Vec<Complex64>,
     /// Deconvolution tables of recent transform shapes ((nfft, τ bits, max |k'|), table).
-    deconv: Vec<((usize, u64, usize), std::sync::Arc<Vec<f64>>)>,
+    deconv: Vec<DeconvolutionTable>,
 }
 
 thread_local! {

@@ -125,11 +125,11 @@ fn finish(
     floating_mean: bool,
     algorithm: Algorithm,
 ) -> Spectrum {
-    if let ([s], [w]) = (sums, wb) {
-        if *w > 0.0 {
-            let (power, amplitude) = single_band(s, *w, yy, grid.len, floating_mean);
-            return Spectrum { grid: *grid, power, amplitude: Some(amplitude), algorithm: Some(algorithm) };
-        }
+    if let ([s], [w]) = (sums, wb)
+        && *w > 0.0
+    {
+        let (power, amplitude) = single_band(s, *w, yy, grid.len, floating_mean);
+        return Spectrum { grid: *grid, power, amplitude: Some(amplitude), algorithm: Some(algorithm) };
     }
     let (power, amplitude): (Vec<f64>, Vec<f64>) =
         (0..grid.len).map(|k| power_at(sums, wb, yy, k, floating_mean)).unzip();

@@ -218,10 +218,10 @@ pub fn event_arrival_times(
     model.validate().map_err(PulsarError::Model)?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
-    if let Some(w) = weights {
-        if w.len() != times_s.len() {
-            return Err(PulsarError::Input(format!("{} weights for {} events", w.len(), times_s.len())));
-        }
+    if let Some(w) = weights
+        && w.len() != times_s.len()
+    {
+        return Err(PulsarError::Input(format!("{} weights for {} events", w.len(), times_s.len())));
     }
     if min_photons < 2 {
         return Err(PulsarError::Input(format!("minimum photons per segment {min_photons}: use at least 2")));

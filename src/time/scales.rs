@@ -85,7 +85,7 @@ impl ScaleConverter {
             return Ok(*t);
         }
         let tai = self.to_tai(t)?;
-        self.from_tai(&tai, to)
+        self.tai_to(&tai, to)
     }
 
     fn to_tai(&self, t: &Instant) -> Result<Instant, TimeError> {
@@ -102,7 +102,7 @@ impl ScaleConverter {
         })
     }
 
-    fn from_tai(&self, tai: &Instant, to: TimeScale) -> Result<Instant, TimeError> {
+    fn tai_to(&self, tai: &Instant, to: TimeScale) -> Result<Instant, TimeError> {
         Ok(match to {
             TimeScale::Tai => *tai,
             TimeScale::Utc => self.tai_to_utc(tai)?,

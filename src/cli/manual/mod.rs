@@ -190,6 +190,46 @@ fn arg_spec(arg: &clap::Arg) -> ArgSpec {
     }
 }
 
+/// Prints `text` on stdout, or writes it to `output` atomically (temporary file in the same
+/// folder, then rename). The running program itself counts as an input: writing over it is
+/// refused.
+pub fn print_or_write(text: &str, output: Option<&std::path::Path>) -> anyhow::Result<()> {
+    use anyhow::{Context, bail};
+    let Some(path) = output else {
+        use std::io::Write;
+        let mut stdout = std::io::stdout().lock();
+        return match stdout.write_all(text.as_bytes()).and_then(|_| stdout.flush()) {
+            // A reader that stops early (`| head`) is not a failure.
+            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+            other => other.context("writing to standard output"),
+        };
+    };
+    if path.is_dir() {
+        bail!(
+            "--output {} is a folder; give a file name inside it, e.g. {}",
+            path.display(),
+            path.join("skyclock.out").display()
+        );
+    }
+    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty())
+        && !parent.is_dir()
+    {
+        bail!("cannot write {}: the folder {} does not exist (create it first)", path.display(), parent.display());
+    }
+    if let Ok(program) = std::env::current_exe() {
+        skyclock::table::refuse_overwriting_inputs(path, &[program.as_path()]).map_err(|_| {
+            anyhow::anyhow!(
+                "refusing to write over the skyclock program itself ({}); choose another --output",
+                path.display()
+            )
+        })?;
+    }
+    skyclock::table::write::write_atomically(path, |f| {
+        std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string())
+    })
+    .with_context(|| format!("writing {} (check that the folder is writable)", path.display()))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -260,44 +300,4 @@ mod tests {
             assert!(spec.subcommands.iter().any(|c| &c.name == name), "{name} missing from the walk");
         }
     }
-}
-
-/// Prints `text` on stdout, or writes it to `output` atomically (temporary file in the same
-/// folder, then rename). The running program itself counts as an input: writing over it is
-/// refused.
-pub fn print_or_write(text: &str, output: Option<&std::path::Path>) -> anyhow::Result<()> {
-    use anyhow::{Context, bail};
-    let Some(path) = output else {
-        use std::io::Write;
-        let mut stdout = std::io::stdout().lock();
-        return match stdout.write_all(text.as_bytes()).and_then(|_| stdout.flush()) {
-            // A reader that stops early (`| head`) is not a failure.
-            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-            other => other.context("writing to standard output"),
-        };
-    };
-    if path.is_dir() {
-        bail!(
-            "--output {} is a folder; give a file name inside it, e.g. {}",
-            path.display(),
-            path.join("skyclock.out").display()
-        );
-    }
-    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-        if !parent.is_dir() {
-            bail!("cannot write {}: the folder {} does not exist (create it first)", path.display(), parent.display());
-        }
-    }
-    if let Ok(program) = std::env::current_exe() {
-        skyclock::table::refuse_overwriting_inputs(path, &[program.as_path()]).map_err(|_| {
-            anyhow::anyhow!(
-                "refusing to write over the skyclock program itself ({}); choose another --output",
-                path.display()
-            )
-        })?;
-    }
-    skyclock::table::write::write_atomically(path, |f| {
-        std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string())
-    })
-    .with_context(|| format!("writing {} (check that the folder is writable)", path.display()))
 }
