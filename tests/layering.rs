@@ -123,3 +123,32 @@ fn the_scanner_sees_grouped_and_plain_references() {
     let refs = crate_references("use crate::{time::Instant, fit};\nlet x = crate::oc::fit(); // crate::report");
     assert_eq!(refs, vec!["time", "fit", "oc"]);
 }
+
+#[test]
+fn no_library_function_returns_a_bare_string_error() {
+    // Library errors are typed (thiserror enums naming the value and what is accepted);
+    // `Result<_, String>` is for nobody (DEVELOPERS.md, Conventions).
+    let mut files = Vec::new();
+    for &(module, _) in RANKS {
+        let dir = Path::new("src").join(module);
+        if dir.is_dir() {
+            rust_files(&dir, &mut files);
+        } else {
+            files.push(Path::new("src").join(format!("{module}.rs")));
+        }
+    }
+    let mut found = Vec::new();
+    for file in files {
+        let Ok(text) = std::fs::read_to_string(&file) else { continue };
+        for (i, line) in text.lines().enumerate() {
+            let code = line.split("//").next().unwrap_or("");
+            if let Some(at) = code.find("-> Result<") {
+                let rest = &code[at..];
+                if rest.contains(", String>") {
+                    found.push(format!("{}:{}: {}", file.display(), i + 1, line.trim()));
+                }
+            }
+        }
+    }
+    assert!(found.is_empty(), "library functions returning Result<_, String>:\n{}", found.join("\n"));
+}

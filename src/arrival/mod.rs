@@ -10,4 +10,4 @@ pub mod source;
 pub mod table;
 
 pub use correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, DelayOptions, ReferencePoint};
-pub use source::{Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};
+pub use source::{CoordinateError, Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};

@@ -47,7 +47,7 @@ pub struct SourceDirection {
 impl Source {
     /// A fixed direction (no motion, infinite distance) from degrees; epoch J2000.0 TDB.
     /// Errors if the declination is outside ±90° or a value is not finite.
-    pub fn fixed_degrees(name: &str, ra_deg: f64, dec_deg: f64) -> Result<Source, String> {
+    pub fn fixed_degrees(name: &str, ra_deg: f64, dec_deg: f64) -> Result<Source, CoordinateError> {
         validate_position(name, ra_deg, dec_deg)?;
         Ok(Source {
             name: name.to_string(),
@@ -105,56 +105,115 @@ impl Source {
     }
 }
 
-fn validate_position(name: &str, ra_deg: f64, dec_deg: f64) -> Result<(), String> {
+/// A source position or coordinate text that cannot be used.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum CoordinateError {
+    /// Right ascension or declination is NaN or infinite.
+    #[error("source '{name}': right ascension and declination must be finite numbers")]
+    NotFinite {
+        /// Source name.
+        name: String,
+    },
+    /// Declination beyond the poles.
+    #[error("source '{name}': declination {dec_deg}° is outside -90..+90°")]
+    DeclinationBeyondPole {
+        /// Source name.
+        name: String,
+        /// The declination given, degrees.
+        dec_deg: f64,
+    },
+    /// Sexagesimal right ascension with a field out of range.
+    #[error("right ascension '{text}': hours 0-23, minutes and seconds 0-59.999")]
+    RightAscensionFields {
+        /// The text given.
+        text: String,
+    },
+    /// Right ascension that is no number.
+    #[error("right ascension '{text}' is neither decimal degrees (e.g. 201.365) nor hh:mm:ss.s (e.g. 13:25:27.6)")]
+    RightAscensionUnreadable {
+        /// The text given.
+        text: String,
+    },
+    /// Right ascension outside 0..360°.
+    #[error("right ascension '{text}' = {value_deg}° is outside 0..360°")]
+    RightAscensionRange {
+        /// The text given.
+        text: String,
+        /// Its value, degrees.
+        value_deg: f64,
+    },
+    /// Sexagesimal declination with arcminutes or arcseconds of 60 or more.
+    #[error("declination '{text}': arcminutes and arcseconds must be below 60")]
+    DeclinationFields {
+        /// The text given.
+        text: String,
+    },
+    /// Declination that is no number.
+    #[error("declination '{text}' is neither decimal degrees (e.g. -43.019) nor ±dd:mm:ss.s (e.g. -43:01:08.9)")]
+    DeclinationUnreadable {
+        /// The text given.
+        text: String,
+    },
+    /// Declination beyond ±90°.
+    #[error("declination '{text}' = {value_deg}° is beyond ±90°")]
+    DeclinationRange {
+        /// The text given.
+        text: String,
+        /// Its value, degrees.
+        value_deg: f64,
+    },
+}
+
+fn validate_position(name: &str, ra_deg: f64, dec_deg: f64) -> Result<(), CoordinateError> {
     if !ra_deg.is_finite() || !dec_deg.is_finite() {
-        return Err(format!("source '{name}': right ascension and declination must be finite numbers"));
+        return Err(CoordinateError::NotFinite { name: name.to_string() });
     }
     if dec_deg.abs() > 90.0 {
-        return Err(format!("source '{name}': declination {dec_deg}° is outside -90..+90°"));
+        return Err(CoordinateError::DeclinationBeyondPole { name: name.to_string(), dec_deg });
     }
     Ok(())
 }
 
 /// Reads a right ascension: decimal degrees (`123.456`) or sexagesimal hours
 /// (`12:34:56.7`, `12h34m56.7s`, `12 34 56.7`). Returns degrees.
-pub fn parse_right_ascension_deg(text: &str) -> Result<f64, String> {
+pub fn parse_right_ascension_deg(text: &str) -> Result<f64, CoordinateError> {
     let t = text.trim();
     let v = match sexagesimal_parts(t) {
         Some((sign, a, b, c)) => {
             if sign < 0.0 || a >= 24.0 || b >= 60.0 || c >= 60.0 {
-                return Err(format!("right ascension '{text}': hours 0-23, minutes and seconds 0-59.999"));
+                return Err(CoordinateError::RightAscensionFields { text: text.to_string() });
             }
             15.0 * (a + b / 60.0 + c / 3600.0)
         }
-        None => t.trim_end_matches(['d', '°']).parse::<f64>().map_err(|_| {
-            format!(
-                "right ascension '{text}' is neither decimal degrees (e.g. 201.365) nor hh:mm:ss.s (e.g. 13:25:27.6)"
-            )
-        })?,
+        None => t
+            .trim_end_matches(['d', '°'])
+            .parse::<f64>()
+            .map_err(|_| CoordinateError::RightAscensionUnreadable { text: text.to_string() })?,
     };
     if !(0.0..360.0).contains(&v) {
-        return Err(format!("right ascension '{text}' = {v}° is outside 0..360°"));
+        return Err(CoordinateError::RightAscensionRange { text: text.to_string(), value_deg: v });
     }
     Ok(v)
 }
 
 /// Reads a declination: decimal degrees (`-43.019`) or sexagesimal (`-43:01:08.9`,
 /// `-43d01m08.9s`, `-43 01 08.9`). Returns degrees; refuses |dec| > 90°.
-pub fn parse_declination_deg(text: &str) -> Result<f64, String> {
+pub fn parse_declination_deg(text: &str) -> Result<f64, CoordinateError> {
     let t = text.trim();
     let v = match sexagesimal_parts(t) {
         Some((sign, a, b, c)) => {
             if b >= 60.0 || c >= 60.0 {
-                return Err(format!("declination '{text}': arcminutes and arcseconds must be below 60"));
+                return Err(CoordinateError::DeclinationFields { text: text.to_string() });
             }
             sign * (a + b / 60.0 + c / 3600.0)
         }
-        None => t.trim_end_matches(['d', '°']).parse::<f64>().map_err(|_| {
-            format!("declination '{text}' is neither decimal degrees (e.g. -43.019) nor ±dd:mm:ss.s (e.g. -43:01:08.9)")
-        })?,
+        None => t
+            .trim_end_matches(['d', '°'])
+            .parse::<f64>()
+            .map_err(|_| CoordinateError::DeclinationUnreadable { text: text.to_string() })?,
     };
     if !v.is_finite() || v.abs() > 90.0 {
-        return Err(format!("declination '{text}' = {v}° is beyond ±90°"));
+        return Err(CoordinateError::DeclinationRange { text: text.to_string(), value_deg: v });
     }
     Ok(v)
 }

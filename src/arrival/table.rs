@@ -29,7 +29,7 @@ impl ClockSpec {
     /// Reads a clock label `<kind>_<scale>`: kind `jd`, `mjd`, `rjd` (JD − 2400000), `iso`
     /// at the observer; `hjd`, `hmjd` heliocentric; `bjd`, `bmjd` barycentric; scale `utc`,
     /// `tai`, `tt`, `tdb`, `tcb`, `gps`. Examples: `jd_utc`, `hjd_utc`, `bjd_tdb`, `mjd_tt`.
-    pub fn parse_label(label: &str) -> Result<ClockSpec, String> {
+    pub fn parse_label(label: &str) -> Result<ClockSpec, ClockLabelError> {
         let lower = label.trim().to_ascii_lowercase().replace([' ', '-'], "_");
         let (kind, scale) = lower.rsplit_once('_').ok_or_else(|| Self::help(label))?;
         let scale = TimeScale::parse(scale).ok_or_else(|| Self::help(label))?;
@@ -47,10 +47,25 @@ impl ClockSpec {
         Ok(ClockSpec { format, scale, reference })
     }
 
-    fn help(label: &str) -> String {
-        format!(
-            "'{label}' is not a clock label; use <kind>_<scale> with kind jd, mjd, rjd, iso, hjd, hmjd, bjd, bmjd and scale utc, tai, tt, tdb, tcb, gps (e.g. jd_utc, hjd_utc, bjd_tdb, mjd_tt)"
-        )
+    fn help(label: &str) -> ClockLabelError {
+        ClockLabelError { label: label.to_string() }
+    }
+}
+
+/// A clock label that is not `<kind>_<scale>`.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error(
+    "'{label}' is not a clock label; use <kind>_<scale> with kind jd, mjd, rjd, iso, hjd, hmjd, bjd, bmjd and scale utc, tai, tt, tdb, tcb, gps (e.g. jd_utc, hjd_utc, bjd_tdb, mjd_tt)"
+)]
+pub struct ClockLabelError {
+    /// The label given.
+    pub label: String,
+}
+
+impl std::str::FromStr for ClockSpec {
+    type Err = ClockLabelError;
+    fn from_str(label: &str) -> Result<ClockSpec, ClockLabelError> {
+        ClockSpec::parse_label(label)
     }
 }
 
@@ -180,7 +195,7 @@ pub fn correct_table_with_geometry(
                 (Some(labels), _) => {
                     let col = request.clock_column.as_deref().unwrap_or("");
                     let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
-                    ClockSpec::parse_label(label).map_err(|m| cell(i, col, m))?
+                    ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
                 }
                 (None, Some(c)) => c,
                 (None, None) => {

@@ -113,7 +113,7 @@ pub fn run(a: Args) -> Result<()> {
     let sidecar = skyclock::table::write::sidecar_path(&a.output);
     skyclock::table::write::write_atomically(&sidecar, |f| {
         use std::io::Write;
-        f.write_all(provenance.to_json().as_bytes()).map_err(|e| e.to_string())
+        f.write_all(provenance.to_json().as_bytes())
     })?;
     if a.json {
         println!(

@@ -259,7 +259,7 @@ pub fn spinner(message: &str, quiet: bool) -> indicatif::ProgressBar {
 pub fn write_text(path: &std::path::Path, text: &str, inputs: &[&std::path::Path]) -> Result<()> {
     use std::io::Write;
     skyclock::table::refuse_overwriting_inputs(path, inputs)?;
-    skyclock::table::write::write_atomically(path, |f| f.write_all(text.as_bytes()).map_err(|e| e.to_string()))?;
+    skyclock::table::write::write_atomically(path, |f| f.write_all(text.as_bytes()))?;
     Ok(())
 }
 

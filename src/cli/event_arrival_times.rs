@@ -116,11 +116,9 @@ pub fn run(a: Args) -> Result<()> {
             t.shift.z2
         ));
     }
-    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
     let provenance = ev.provenance.clone().with("template", a.template.display().to_string());
-    write_atomically(&sidecar_path(&a.output), |f| {
-        std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string())
-    })?;
+    write_atomically(&sidecar_path(&a.output), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()))?;
     let skipped: Vec<serde_json::Value> = result
         .skipped
         .iter()

@@ -146,9 +146,9 @@ pub fn run(a: Args) -> Result<()> {
             orbital.map_or(String::new(), |p| format!("{p:.6}"))
         ));
     }
-    write_atomically(&a.output_residuals, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&a.output_residuals, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
     write_atomically(&sidecar_path(&a.output_residuals), |f| {
-        std::io::Write::write_all(f, provenance.to_json().as_bytes()).map_err(|e| e.to_string())
+        std::io::Write::write_all(f, provenance.to_json().as_bytes())
     })?;
     if let Some(path) = &a.figure {
         use skyclock::plot::{Figure, Layer, Panel, write_figure};
@@ -192,9 +192,7 @@ pub fn run(a: Args) -> Result<()> {
         write_figure(&fig, path)?;
     }
     let toml_text = fit.model.to_toml()?;
-    write_atomically(&a.output_model, |f| {
-        std::io::Write::write_all(f, toml_text.as_bytes()).map_err(|e| e.to_string())
-    })?;
+    write_atomically(&a.output_model, |f| std::io::Write::write_all(f, toml_text.as_bytes()))?;
     let summary = serde_json::json!({
         "arrival_times": toas.len(),
         "fit": fit,
@@ -205,7 +203,7 @@ pub fn run(a: Args) -> Result<()> {
     });
     let text = serde_json::to_string_pretty(&summary)?;
     if let Some(p) = &a.output_summary {
-        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
     }
     if a.json {
         println!("{text}");

@@ -234,15 +234,15 @@ pub fn run(a: Args) -> Result<()> {
             binned.expected_relative_intensity(&template, x)
         ));
     }
-    write_atomically(&a.output_profile, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&a.output_profile, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
     write_atomically(&sidecar_path(&a.output_profile), |f| {
-        std::io::Write::write_all(f, ev.provenance.to_json().as_bytes()).map_err(|e| e.to_string())
+        std::io::Write::write_all(f, ev.provenance.to_json().as_bytes())
     })?;
     if let Some(p) = &a.output_template {
         let provenance: serde_json::Value = serde_json::from_str(&ev.provenance.to_json())?;
         let doc = serde_json::json!({ "template": template, "empirical_fourier": empirical, "provenance": provenance });
         let text = serde_json::to_string_pretty(&doc)?;
-        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string()))?;
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
     }
     if let Some(path) = &a.figure {
         use skyclock::plot::{Figure, Layer, Panel, write_figure};

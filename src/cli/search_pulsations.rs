@@ -139,7 +139,7 @@ pub fn run(a: Args) -> Result<()> {
             csv.push_str(&format!("{:.12},{:e},{:.6}\n", grid.freq_hz(k), fd, result.z2(d, k)));
         }
     }
-    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
     if let Some(path) = &a.figure {
         refuse_overwriting_inputs(path, &[a.events.as_path()])?;
         let d_best = grid.freq_derivs_hz_per_s.iter().position(|fd| *fd == peak.freq_deriv_hz_per_s).unwrap_or(0);

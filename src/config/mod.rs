@@ -38,6 +38,68 @@ pub enum ConfigError {
     Invalid { file: String, message: String },
 }
 
+/// A source entry of a description that cannot be used.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum SourceEntryError {
+    /// `ra` as a number outside 0..360°.
+    #[error("source '{name}': ra = {value} is outside 0..360 degrees")]
+    RightAscensionRange {
+        /// Source name.
+        name: String,
+        /// The value given, degrees.
+        value: f64,
+    },
+    /// `dec` as a number beyond ±90°.
+    #[error("source '{name}': dec = {value} is beyond ±90 degrees")]
+    DeclinationRange {
+        /// Source name.
+        name: String,
+        /// The value given, degrees.
+        value: f64,
+    },
+    /// A coordinate written as text that cannot be read.
+    #[error(transparent)]
+    Coordinate(#[from] crate::arrival::source::CoordinateError),
+    /// A space-motion value that is NaN or infinite.
+    #[error("source '{name}': {key} must be a finite number")]
+    NotFinite {
+        /// Source name.
+        name: String,
+        /// The key, e.g. `parallax_mas`.
+        key: &'static str,
+    },
+    /// A negative parallax.
+    #[error("source '{name}': parallax_mas = {value} is negative")]
+    NegativeParallax {
+        /// Source name.
+        name: String,
+        /// The value given, mas.
+        value: f64,
+    },
+    /// A position epoch that cannot be read.
+    #[error("source '{name}': position_epoch: {error}")]
+    Epoch {
+        /// Source name.
+        name: String,
+        /// Why.
+        error: EpochError,
+    },
+}
+
+/// An epoch text that is neither a Julian epoch, an ISO date nor a Julian Date.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum EpochError {
+    /// `J…` not followed by a number.
+    #[error("'{text}' is not a Julian epoch such as J2016.0")]
+    NotJulianEpoch {
+        /// The text given.
+        text: String,
+    },
+    /// ISO or JD text that does not parse.
+    #[error(transparent)]
+    Time(#[from] crate::time::TimeError),
+}
+
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct SiteEntry {
@@ -102,22 +164,23 @@ pub fn parse_description(text: &str, file: &str) -> Result<Description, ConfigEr
     let doc: Document = toml::from_str(text).map_err(|e| invalid(e.to_string()))?;
     let mut out = Description::default();
     for s in doc.site {
-        let site = Site::from_degrees(&s.name, s.east_longitude_deg, s.latitude_deg, s.height_m).map_err(invalid)?;
+        let site = Site::from_degrees(&s.name, s.east_longitude_deg, s.latitude_deg, s.height_m)
+            .map_err(|e| invalid(e.to_string()))?;
         if out.sites.insert(s.name.clone(), site).is_some() {
             return Err(invalid(format!("site '{}' is described twice", s.name)));
         }
     }
     if let Some(src) = doc.source {
-        out.source = Some(source_from_entry(src).map_err(invalid)?);
+        out.source = Some(source_from_entry(src).map_err(|e| invalid(e.to_string()))?);
     }
     Ok(out)
 }
 
-fn source_from_entry(e: SourceEntry) -> Result<Source, String> {
+fn source_from_entry(e: SourceEntry) -> Result<Source, SourceEntryError> {
     let ra_deg = match e.ra {
         Angle::Number(v) => {
             if !(0.0..360.0).contains(&v) {
-                return Err(format!("source '{}': ra = {v} is outside 0..360 degrees", e.name));
+                return Err(SourceEntryError::RightAscensionRange { name: e.name, value: v });
             }
             v
         }
@@ -126,7 +189,7 @@ fn source_from_entry(e: SourceEntry) -> Result<Source, String> {
     let dec_deg = match e.dec {
         Angle::Number(v) => {
             if !(-90.0..=90.0).contains(&v) {
-                return Err(format!("source '{}': dec = {v} is beyond ±90 degrees", e.name));
+                return Err(SourceEntryError::DeclinationRange { name: e.name, value: v });
             }
             v
         }
@@ -140,32 +203,32 @@ fn source_from_entry(e: SourceEntry) -> Result<Source, String> {
         ("radial_velocity_km_per_s", e.radial_velocity_km_per_s),
     ] {
         if !v.is_finite() {
-            return Err(format!("source '{}': {key} must be a finite number", e.name));
+            return Err(SourceEntryError::NotFinite { name: e.name, key });
         }
     }
     if e.parallax_mas < 0.0 {
-        return Err(format!("source '{}': parallax_mas = {} is negative", e.name, e.parallax_mas));
+        return Err(SourceEntryError::NegativeParallax { name: e.name, value: e.parallax_mas });
     }
     source.proper_motion_ra_mas_per_yr = e.proper_motion_ra_mas_per_yr;
     source.proper_motion_dec_mas_per_yr = e.proper_motion_dec_mas_per_yr;
     source.parallax_mas = e.parallax_mas;
     source.radial_velocity_km_per_s = e.radial_velocity_km_per_s;
     if let Some(epoch) = e.position_epoch {
-        source.epoch = parse_epoch(&epoch).map_err(|m| format!("source '{}': position_epoch: {m}", e.name))?;
+        source.epoch = parse_epoch(&epoch).map_err(|error| SourceEntryError::Epoch { name: e.name.clone(), error })?;
     }
     Ok(source)
 }
 
 /// Reads an epoch: ISO 8601 (TDB), `J2000`/`J2016.0` (Julian epochs, TDB), or a JD number.
-pub fn parse_epoch(text: &str) -> Result<Instant, String> {
+pub fn parse_epoch(text: &str) -> Result<Instant, EpochError> {
     let t = text.trim();
     if let Some(years) = t.strip_prefix('J').or_else(|| t.strip_prefix('j')) {
-        let y: f64 = years.parse().map_err(|_| format!("'{t}' is not a Julian epoch such as J2016.0"))?;
+        let y: f64 = years.parse().map_err(|_| EpochError::NotJulianEpoch { text: t.to_string() })?;
         // Julian epoch: JD = 2451545.0 + (y - 2000) * 365.25 (IAU 1976; common practice).
         return Ok(Instant::from_seconds_since_j2000(TimeScale::Tdb, (y - 2000.0) * 365.25 * SECONDS_PER_DAY));
     }
     let format = if t.contains('-') && t.len() >= 10 { TimeFormat::Iso } else { TimeFormat::Jd };
-    parse_time(t, format, TimeScale::Tdb, &LeapSecondTable::builtin()).map_err(|e| e.to_string())
+    Ok(parse_time(t, format, TimeScale::Tdb, &LeapSecondTable::builtin())?)
 }
 
 #[cfg(test)]

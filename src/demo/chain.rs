@@ -118,9 +118,7 @@ fn combine_timings(historical: &Path, new_tables: &[&Path], combined: &Path) -> 
             added += 1;
         }
     }
-    skyclock::table::write::write_atomically(combined, |f| {
-        std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string())
-    })?;
+    skyclock::table::write::write_atomically(combined, |f| std::io::Write::write_all(f, text.as_bytes()))?;
     Ok(added)
 }
 
@@ -705,7 +703,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     });
     let summary_text = serde_json::to_string_pretty(&summary)?;
     skyclock::table::write::write_atomically(&o("summary.json"), |f| {
-        std::io::Write::write_all(f, summary_text.as_bytes()).map_err(|e| e.to_string())
+        std::io::Write::write_all(f, summary_text.as_bytes())
     })?;
 
     println!("\n== what was recovered, beside the truth");

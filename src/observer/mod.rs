@@ -6,7 +6,7 @@ pub mod earth_orientation;
 pub mod site;
 
 pub use earth_orientation::{EarthOrientation, EarthOrientationTable, OrientationValues};
-pub use site::{GcrsState, Site};
+pub use site::{GcrsState, Site, SiteError};
 
 /// Where an arrival time was recorded.
 #[derive(Debug, Clone, PartialEq)]

@@ -38,20 +38,51 @@ pub struct GcrsState {
     pub velocity_km_per_s: [f64; 3],
 }
 
+/// Site coordinates that describe no place on the ground.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum SiteError {
+    /// A coordinate is NaN or infinite.
+    #[error("site '{name}': longitude, latitude and height must be finite numbers")]
+    NotFinite {
+        /// Site name.
+        name: String,
+    },
+    /// Latitude beyond ±90°.
+    #[error("site '{name}': latitude {latitude_deg}° is outside -90..90°")]
+    LatitudeBeyondPole {
+        /// Site name.
+        name: String,
+        /// The latitude given, degrees.
+        latitude_deg: f64,
+    },
+    /// Height outside −12 km … +100 km.
+    #[error("site '{name}': height {height_m} m is outside -12000..100000 m (use a spacecraft position for orbits)")]
+    HeightNotGround {
+        /// Site name.
+        name: String,
+        /// The height given, m.
+        height_m: f64,
+    },
+}
+
 impl Site {
     /// A site from degrees and metres; errors if latitude is outside ±90° or a value is not
     /// finite, or the height is outside −12 km … +100 km (not a ground site).
-    pub fn from_degrees(name: &str, east_longitude_deg: f64, latitude_deg: f64, height_m: f64) -> Result<Site, String> {
+    pub fn from_degrees(
+        name: &str,
+        east_longitude_deg: f64,
+        latitude_deg: f64,
+        height_m: f64,
+    ) -> Result<Site, SiteError> {
+        let name = name.to_string();
         if !east_longitude_deg.is_finite() || !latitude_deg.is_finite() || !height_m.is_finite() {
-            return Err(format!("site '{name}': longitude, latitude and height must be finite numbers"));
+            return Err(SiteError::NotFinite { name });
         }
         if latitude_deg.abs() > 90.0 {
-            return Err(format!("site '{name}': latitude {latitude_deg}° is outside -90..90°"));
+            return Err(SiteError::LatitudeBeyondPole { name, latitude_deg });
         }
         if !(-12_000.0..=100_000.0).contains(&height_m) {
-            return Err(format!(
-                "site '{name}': height {height_m} m is outside -12000..100000 m (use a spacecraft position for orbits)"
-            ));
+            return Err(SiteError::HeightNotGround { name, height_m });
         }
         Ok(Site {
             name: name.to_string(),

@@ -86,11 +86,20 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
+/// A drawing backend refused to draw (its message).
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{0}")]
+struct DrawingFailed(String);
+
+fn drawing_failed(e: impl std::fmt::Display) -> DrawingFailed {
+    DrawingFailed(e.to_string())
+}
+
 fn draw_panel<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     panel: &Panel,
     title: Option<&str>,
-) -> Result<(), String> {
+) -> Result<(), DrawingFailed> {
     let xs = panel.layers.iter().flat_map(|l| match l {
         Layer::Points { x, .. }
         | Layer::Line { x, .. }
@@ -119,7 +128,7 @@ fn draw_panel<DB: DrawingBackend>(
     if let Some(t) = title {
         builder.caption(t, (FAMILY, 22));
     }
-    let mut chart = builder.build_cartesian_2d(x0..x1, ya..yb).map_err(|e| e.to_string())?;
+    let mut chart = builder.build_cartesian_2d(x0..x1, ya..yb).map_err(drawing_failed)?;
     chart
         .configure_mesh()
         .x_desc(panel.x_label.as_str())
@@ -128,7 +137,7 @@ fn draw_panel<DB: DrawingBackend>(
         .axis_desc_style((FAMILY, 18))
         .light_line_style(RGBColor(235, 235, 235))
         .draw()
-        .map_err(|e| e.to_string())?;
+        .map_err(drawing_failed)?;
     for layer in &panel.layers {
         match layer {
             Layer::Band { label, x, lower, upper, colour } => {
@@ -140,7 +149,7 @@ fn draw_panel<DB: DrawingBackend>(
                     ok.iter().map(|&i| (x[i], upper[i])).chain(ok.iter().rev().map(|&i| (x[i], lower[i]))).collect();
                 let anno = chart
                     .draw_series(std::iter::once(Polygon::new(outline, c.mix(0.25).filled())))
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
                 if !label.is_empty() {
                     anno.label(label.as_str()).legend(move |(px, py)| {
                         Rectangle::new([(px, py - 5), (px + 16, py + 5)], c.mix(0.25).filled())
@@ -160,7 +169,7 @@ fn draw_panel<DB: DrawingBackend>(
                                     PathElement::new(vec![(a, b - e), (a, b + e)], c.mix(0.6).stroke_width(1))
                                 }),
                         )
-                        .map_err(|e| e.to_string())?;
+                        .map_err(drawing_failed)?;
                 }
                 let s = *size as i32;
                 let anno = chart
@@ -170,7 +179,7 @@ fn draw_panel<DB: DrawingBackend>(
                             .filter(|(a, b)| a.is_finite() && b.is_finite())
                             .map(|(&a, &b)| Circle::new((a, b), s, c.filled())),
                     )
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
                 if !label.is_empty() {
                     anno.label(label.as_str()).legend(move |(px, py)| Circle::new((px + 8, py), s.max(3), c.filled()));
                 }
@@ -182,7 +191,7 @@ fn draw_panel<DB: DrawingBackend>(
                         x.iter().zip(y).filter(|(a, b)| a.is_finite() && b.is_finite()).map(|(&a, &b)| (a, b)),
                         c.stroke_width(2),
                     ))
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
                 if !label.is_empty() {
                     anno.label(label.as_str())
                         .legend(move |(px, py)| PathElement::new(vec![(px, py), (px + 16, py)], c.stroke_width(2)));
@@ -194,7 +203,7 @@ fn draw_panel<DB: DrawingBackend>(
                     .draw_series(
                         x.iter().map(|&a| PathElement::new(vec![(a, ya), (a, yb)], c.mix(0.8).stroke_width(1))),
                     )
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
                 if !label.is_empty() {
                     anno.label(label.as_str()).legend(move |(px, py)| {
                         PathElement::new(vec![(px + 8, py - 6), (px + 8, py + 6)], c.stroke_width(2))
@@ -207,7 +216,7 @@ fn draw_panel<DB: DrawingBackend>(
                             .zip(text)
                             .map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 14).into_font().color(&c))),
                     )
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
             }
             Layer::Guides { label, x, text, colour } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
@@ -215,7 +224,7 @@ fn draw_panel<DB: DrawingBackend>(
                     .draw_series(
                         x.iter().map(|&a| DashedPathElement::new(vec![(a, ya), (a, yb)], 6, 4, c.stroke_width(1))),
                     )
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
                 if !label.is_empty() {
                     anno.label(label.as_str()).legend(move |(px, py)| {
                         DashedPathElement::new(vec![(px + 2, py), (px + 16, py)], 4, 3, c.stroke_width(2))
@@ -229,7 +238,7 @@ fn draw_panel<DB: DrawingBackend>(
                             .zip(text)
                             .map(|(&a, t)| Text::new(t.clone(), (a, ytext), (FAMILY, 13).into_font().color(&c))),
                     )
-                    .map_err(|e| e.to_string())?;
+                    .map_err(drawing_failed)?;
             }
         }
     }
@@ -251,12 +260,12 @@ fn draw_panel<DB: DrawingBackend>(
         .border_style(BLACK)
         .position(SeriesLabelPosition::UpperRight)
         .draw()
-        .map_err(|e| e.to_string())?;
+        .map_err(drawing_failed)?;
     Ok(())
 }
 
-fn draw_all<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, fig: &Figure) -> Result<(), String> {
-    root.fill(&WHITE).map_err(|e| e.to_string())?;
+fn draw_all<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, fig: &Figure) -> Result<(), DrawingFailed> {
+    root.fill(&WHITE).map_err(drawing_failed)?;
     let total: u32 = fig.panels.iter().map(|p| p.height_weight.max(1)).sum::<u32>().max(1);
     let mut rest = root.clone();
     let h = fig.height;
@@ -267,7 +276,7 @@ fn draw_all<DB: DrawingBackend>(root: DrawingArea<DB, Shift>, fig: &Figure) -> R
         draw_panel(&top, panel, (k == 0).then_some(fig.title.as_str()))?;
         rest = bottom;
     }
-    root.present().map_err(|e| e.to_string())
+    root.present().map_err(drawing_failed)
 }
 
 /// Writes `fig` to `path` (.svg or .png), atomically (temporary file, then rename).
@@ -281,7 +290,8 @@ pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
         "svg" => render_svg(fig)
             .map_err(|e| e.to_string())
             .and_then(|text| std::fs::write(&tmp, text).map_err(|e| e.to_string())),
-        "png" => draw_all(BitMapBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig),
+        "png" => draw_all(BitMapBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig)
+            .map_err(|e| e.to_string()),
         _ => return Err(PlotError::Format { file, ext }),
     };
     let done = drawn.and_then(|_| std::fs::rename(&tmp, path).map_err(|e| e.to_string()));
@@ -299,7 +309,7 @@ pub fn render_svg(fig: &Figure) -> Result<String, PlotError> {
     register_font();
     let mut out = String::new();
     draw_all(SVGBackend::with_string(&mut out, (fig.width, fig.height)).into_drawing_area(), fig)
-        .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message })?;
+        .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message: message.to_string() })?;
     // The glyphs were measured with the embedded DejaVu Sans; a viewer without our private
     // family name should fall back to the same face, or a sans-serif one, never to serif.
     Ok(out.replace(

@@ -215,7 +215,7 @@ pub fn event_arrival_times(
     instrument: &str,
 ) -> Result<EventArrivalTimes, PulsarError> {
     template.validate()?;
-    model.validate().map_err(PulsarError::Model)?;
+    model.validate().map_err(|e| PulsarError::Model(e.to_string()))?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     if let Some(w) = weights

@@ -64,6 +64,35 @@ pub struct Orbit {
     pub shapiro_shape: f64,
 }
 
+/// A timing model whose values or fit list cannot be used.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ModelCheckError {
+    /// The spin part is out of range (its own message).
+    #[error("{0}")]
+    Spin(String),
+    /// A value outside its physical range.
+    #[error("{parameter} = {value}: must be {accepted}")]
+    OutOfRange {
+        /// Parameter as written in model files.
+        parameter: &'static str,
+        /// The value given.
+        value: f64,
+        /// What is accepted.
+        accepted: &'static str,
+    },
+    /// Orbit semi-major axis, Shapiro range or shape out of range.
+    #[error("orbit: projected_semi_major_axis_lt_s and shapiro_range_s must be ≥ 0 and shapiro_shape in [−1, 1]")]
+    OrbitShape,
+    /// The fit list names a parameter this model does not have.
+    #[error("fit names '{name}', which this model cannot fit; use {known}")]
+    UnknownFitName {
+        /// The name given.
+        name: String,
+        /// The names this model can fit.
+        known: String,
+    },
+}
+
 /// The full timing model (TOML: see [`TimingModel::from_toml`]).
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -227,23 +256,35 @@ impl TimingModel {
     }
 
     /// Checks physical ranges and that every fitted name is known.
-    pub fn validate(&self) -> Result<(), String> {
-        self.spin().validate().map_err(|e| e.to_string())?;
+    pub fn validate(&self) -> Result<(), ModelCheckError> {
+        self.spin().validate().map_err(|e| ModelCheckError::Spin(e.to_string()))?;
         if !self.dispersion_measure_pc_per_cm3.is_finite() || self.dispersion_measure_pc_per_cm3 < 0.0 {
-            return Err(format!("dispersion_measure_pc_per_cm3 = {}: must be ≥ 0", self.dispersion_measure_pc_per_cm3));
+            return Err(ModelCheckError::OutOfRange {
+                parameter: "dispersion_measure_pc_per_cm3",
+                value: self.dispersion_measure_pc_per_cm3,
+                accepted: "≥ 0",
+            });
         }
         if let Some(o) = &self.orbit {
             if !(o.orbital_period_d > 0.0 && o.orbital_period_d.is_finite()) {
-                return Err(format!("orbit.orbital_period_d = {}: must be > 0", o.orbital_period_d));
+                return Err(ModelCheckError::OutOfRange {
+                    parameter: "orbit.orbital_period_d",
+                    value: o.orbital_period_d,
+                    accepted: "> 0",
+                });
             }
             if !(0.0..1.0).contains(&o.eccentricity) {
-                return Err(format!("orbit.eccentricity = {}: must be in [0, 1)", o.eccentricity));
+                return Err(ModelCheckError::OutOfRange {
+                    parameter: "orbit.eccentricity",
+                    value: o.eccentricity,
+                    accepted: "in [0, 1)",
+                });
             }
             if !(o.projected_semi_major_axis_lt_s >= 0.0)
                 || !(o.shapiro_range_s >= 0.0)
                 || !(-1.0..=1.0).contains(&o.shapiro_shape)
             {
-                return Err("orbit: projected_semi_major_axis_lt_s and shapiro_range_s must be ≥ 0 and shapiro_shape in [−1, 1]".into());
+                return Err(ModelCheckError::OrbitShape);
             }
         }
         for name in &self.fit {
@@ -253,16 +294,19 @@ impl TimingModel {
                 || (ORBIT_PARAMETERS.contains(&name.as_str()) && self.orbit.is_some())
                 || name.strip_prefix("instrument_delay_s:").is_some_and(|n| !n.is_empty());
             if !known {
-                return Err(format!(
-                    "fit names '{name}', which this model cannot fit; use {}, dispersion_measure_pc_per_cm3, {}, instrument_delay_s:NAME{}",
-                    SPIN_PARAMETERS.join(", "),
-                    POSITION_PARAMETERS.join(", "),
-                    if self.orbit.is_some() {
-                        format!(", {}", ORBIT_PARAMETERS.join(", "))
-                    } else {
-                        " (orbit parameters need an [orbit] table)".into()
-                    }
-                ));
+                return Err(ModelCheckError::UnknownFitName {
+                    name: name.clone(),
+                    known: format!(
+                        "{}, dispersion_measure_pc_per_cm3, {}, instrument_delay_s:NAME{}",
+                        SPIN_PARAMETERS.join(", "),
+                        POSITION_PARAMETERS.join(", "),
+                        if self.orbit.is_some() {
+                            format!(", {}", ORBIT_PARAMETERS.join(", "))
+                        } else {
+                            " (orbit parameters need an [orbit] table)".into()
+                        }
+                    ),
+                });
             }
         }
         Ok(())

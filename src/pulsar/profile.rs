@@ -34,7 +34,7 @@ pub fn fold_events(
     valid_for_s: f64,
     instrument: &str,
 ) -> Result<Vec<f64>, PulsarError> {
-    model.validate().map_err(PulsarError::Model)?;
+    model.validate().map_err(|e| PulsarError::Model(e.to_string()))?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     Ok(times_s.iter().map(|&t| event_phase_cycles(model, t, instrument).rem_euclid(1.0)).collect())

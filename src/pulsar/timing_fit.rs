@@ -84,7 +84,7 @@ pub fn fit_timing_model(
     max_iterations: usize,
 ) -> Result<TimingFit, PulsarError> {
     check_arrival_times(toas)?;
-    start.validate().map_err(PulsarError::Model)?;
+    start.validate().map_err(|e| PulsarError::Model(e.to_string()))?;
     if start.refines_position()
         && let Some(i) = toas.iter().position(|a| a.observer.is_none())
     {

@@ -371,7 +371,7 @@ pub fn render_html(report: &Report) -> Result<String, ReportError> {
 pub fn write_report(report: &Report, path: &Path, inputs: &[&Path]) -> Result<(), ReportError> {
     refuse_overwriting_inputs(path, inputs)?;
     let html = render_html(report)?;
-    write_atomically(path, |f| f.write_all(html.as_bytes()).map_err(|e| e.to_string()))?;
+    write_atomically(path, |f| f.write_all(html.as_bytes()))?;
     Ok(())
 }
 

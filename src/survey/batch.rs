@@ -377,7 +377,18 @@ pub struct SourceRows {
 /// batches whose clock is not barycentric. Errors are messages for the source's report.
 pub trait SourceArrival: Sync {
     /// BJD_TDB of each time, for a source at `ra_deg`, `dec_deg` (ICRS, degrees).
-    fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, String>;
+    fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, BarycentringError>;
+}
+
+/// Why a survey source's times could not be carried to the barycentre.
+#[derive(Debug, thiserror::Error)]
+pub enum BarycentringError {
+    /// The source position from the table is unusable.
+    #[error(transparent)]
+    Position(#[from] crate::arrival::CoordinateError),
+    /// The correction itself failed (time outside the ephemeris, UTC before 1960, …).
+    #[error(transparent)]
+    Correction(#[from] crate::arrival::ArrivalError),
 }
 
 /// [`SourceArrival`] for one observer (a site or the geocentre) with the arrival stage's
@@ -391,7 +402,7 @@ pub struct ObserverArrival {
 }
 
 impl SourceArrival for ObserverArrival {
-    fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, String> {
+    fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, BarycentringError> {
         use crate::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
         let source = Source::fixed_degrees("source", ra_deg, dec_deg)?;
         let corrector = BarycentricCorrector::new(
@@ -407,7 +418,7 @@ impl SourceArrival for ObserverArrival {
                 corrector
                     .correct(t, &self.observer, ReferencePoint::Observer)
                     .map(|c| c.bjd_tdb)
-                    .map_err(|e| e.to_string())
+                    .map_err(BarycentringError::from)
             })
             .collect()
     }

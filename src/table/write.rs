@@ -34,12 +34,12 @@ fn temporary_path(path: &Path) -> PathBuf {
 }
 
 /// Writes bytes produced by `fill` to `path` atomically.
-pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> Result<(), String>) -> Result<(), TableError> {
+pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> std::io::Result<()>) -> Result<(), TableError> {
     let fail = |message: String| TableError::File { file: path.display().to_string(), message };
     let tmp = temporary_path(path);
     let result = (|| {
         let mut file = File::create(&tmp).map_err(|e| format!("cannot create {}: {e}", tmp.display()))?;
-        fill(&mut file)?;
+        fill(&mut file).map_err(|e| format!("cannot write {}: {e}", tmp.display()))?;
         file.flush().map_err(|e| e.to_string())?;
         file.sync_all().map_err(|e| e.to_string())?;
         std::fs::rename(&tmp, path).map_err(|e| format!("cannot move the finished file into place: {e}"))
@@ -66,10 +66,14 @@ pub fn write_table(
         TableFormat::Csv | TableFormat::Tsv => {
             let separator = if format == TableFormat::Tsv { b'\t' } else { b',' };
             write_atomically(path, |f| {
-                CsvWriter::new(f).include_header(true).with_separator(separator).finish(df).map_err(|e| e.to_string())
+                CsvWriter::new(f)
+                    .include_header(true)
+                    .with_separator(separator)
+                    .finish(df)
+                    .map_err(std::io::Error::other)
             })?;
             let sidecar = sidecar_path(path);
-            write_atomically(&sidecar, |f| f.write_all(json.as_bytes()).map_err(|e| e.to_string()))?;
+            write_atomically(&sidecar, |f| f.write_all(json.as_bytes()).map_err(std::io::Error::other))?;
         }
         TableFormat::Parquet => {
             write_atomically(path, |f| {
@@ -80,7 +84,7 @@ pub fn write_table(
                     )])))
                     .finish(df)
                     .map(|_| ())
-                    .map_err(|e| e.to_string())
+                    .map_err(std::io::Error::other)
             })?;
         }
     }

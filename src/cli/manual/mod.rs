@@ -224,10 +224,8 @@ pub fn print_or_write(text: &str, output: Option<&std::path::Path>) -> anyhow::R
             )
         })?;
     }
-    skyclock::table::write::write_atomically(path, |f| {
-        std::io::Write::write_all(f, text.as_bytes()).map_err(|e| e.to_string())
-    })
-    .with_context(|| format!("writing {} (check that the folder is writable)", path.display()))
+    skyclock::table::write::write_atomically(path, |f| std::io::Write::write_all(f, text.as_bytes()))
+        .with_context(|| format!("writing {} (check that the folder is writable)", path.display()))
 }
 
 #[cfg(test)]
