@@ -6,7 +6,7 @@ use statrs::distribution::{ContinuousCDF, FisherSnedecor};
 use super::fitting::ModelFit;
 
 /// Goodness of fit of one model.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct ModelComparison {
     /// Model name.
     pub model: String,
@@ -36,14 +36,34 @@ pub fn information(fit: &ModelFit) -> ModelComparison {
     }
 }
 
+/// F-test threshold: p below 0.0027 (3σ for a Gaussian; common practice).
+pub const F_TEST_P_THRESHOLD: f64 = 0.0027;
+/// ΔBIC threshold: below −6 is "strong" evidence (Kass & Raftery 1995, JASA 90, 773).
+pub const DELTA_BIC_THRESHOLD: f64 = -6.0;
+
+/// A probability as text: "p = 3.1e-5", or "p < 1e-16" below what a double-precision
+/// 1 − CDF can resolve (the computed value is then 0 or rounding noise).
+pub fn format_p_value(p: f64) -> String {
+    if !p.is_finite() {
+        "p not computable".to_string()
+    } else if p < 1e-16 {
+        "p < 1e-16".to_string()
+    } else if p < 1e-3 {
+        format!("p = {p:.2e}")
+    } else {
+        format!("p = {p:.3}")
+    }
+}
+
 /// The F-test between a simpler model and a richer one that contains it.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct NestedTest {
     /// Simpler model.
     pub simpler: String,
     /// Richer model.
     pub richer: String,
     /// F = [(χ²₁ − χ²₂)/(k₂ − k₁)] / [χ²₂/(n − k₂)].
+    #[serde(with = "crate::table::summary::nan_as_null")]
     pub f_statistic: f64,
     /// Probability of an F this large by chance if the simpler model were true.
     pub p_value: f64,
@@ -51,7 +71,11 @@ pub struct NestedTest {
     pub delta_bic: f64,
     /// Whether the richer model is preferred (p < 0.0027, i.e. 3σ, and ΔBIC < −6).
     pub richer_preferred: bool,
-    /// The verdict in words with its numbers.
+    /// Whether the F-test and ΔBIC point the same way (both favour the richer model, or
+    /// neither does).
+    pub criteria_agree: bool,
+    /// The verdict in words with its numbers: which criterion decided, and where the F-test
+    /// and ΔBIC disagree.
     pub verdict: String,
 }
 
@@ -71,17 +95,34 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
     let f = ((a.chi2 - b.chi2) / d1) / (b.chi2 / d2);
     let p = if f > 0.0 { FisherSnedecor::new(d1, d2).ok().map(|dist| 1.0 - dist.cdf(f))? } else { 1.0 };
     let delta_bic = b.bic - a.bic;
-    let preferred = p < 0.0027 && delta_bic < -6.0;
-    let verdict = if preferred {
-        format!(
-            "the {} model is preferred over the {} model: χ² falls from {:.1} to {:.1} for {} more parameters (F = {:.2}, p = {:.2e}; ΔBIC = {:.1})",
-            b.model, a.model, a.chi2, b.chi2, d1, f, p, delta_bic
-        )
-    } else {
-        format!(
-            "the {} model is not justified over the {} model: χ² {:.1} → {:.1} for {} more parameters (F = {:.2}, p = {:.3}; ΔBIC = {:.1}); keep the simpler model",
-            b.model, a.model, a.chi2, b.chi2, d1, f, p, delta_bic
-        )
+    let f_test_favours = p < F_TEST_P_THRESHOLD;
+    let bic_favours = delta_bic < DELTA_BIC_THRESHOLD;
+    let preferred = f_test_favours && bic_favours;
+    let numbers = format!(
+        "χ² {:.1} → {:.1} for {} more parameters; F-test: F = {:.2}, {}; ΔBIC = {:.1}",
+        a.chi2,
+        b.chi2,
+        d1,
+        f,
+        format_p_value(p),
+        delta_bic
+    );
+    let verdict = match (f_test_favours, bic_favours) {
+        (true, true) => {
+            format!("the {} model is preferred over the {} model by both criteria ({numbers})", b.model, a.model)
+        }
+        (false, false) => format!(
+            "the {} model is not justified over the {} model by either criterion ({numbers}); keep the simpler model",
+            b.model, a.model
+        ),
+        (true, false) => format!(
+            "the criteria disagree: the F-test favours the {} model but ΔBIC does not reach {DELTA_BIC_THRESHOLD} ({numbers}); both are required, so keep the {} model",
+            b.model, a.model
+        ),
+        (false, true) => format!(
+            "the criteria disagree: ΔBIC favours the {} model but the F-test does not reach p < {F_TEST_P_THRESHOLD} ({numbers}); both are required, so keep the {} model",
+            b.model, a.model
+        ),
     };
     Some(NestedTest {
         simpler: a.model,
@@ -90,6 +131,21 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
         p_value: p,
         delta_bic,
         richer_preferred: preferred,
+        criteria_agree: f_test_favours == bic_favours,
         verdict,
     })
+}
+
+#[cfg(test)]
+mod verdict_tests {
+    use super::format_p_value;
+
+    #[test]
+    fn p_values_below_the_double_floor_are_bounds() {
+        assert_eq!(format_p_value(0.0), "p < 1e-16");
+        assert_eq!(format_p_value(3e-20), "p < 1e-16");
+        assert_eq!(format_p_value(3.1e-5), "p = 3.10e-5");
+        assert_eq!(format_p_value(0.25), "p = 0.250");
+        assert_eq!(format_p_value(f64::NAN), "p not computable");
+    }
 }

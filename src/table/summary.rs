@@ -39,6 +39,46 @@ impl<T: Serialize> Summary<T> {
     }
 }
 
+/// Serde helpers for numbers that may be NaN: written as `null` (JSON has no NaN), read
+/// back from `null` as NaN, so a result type round-trips through its JSON. Use with
+/// `#[serde(with = "crate::table::summary::nan_as_null")]`.
+pub mod nan_as_null {
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    /// Writes a finite number as itself and NaN or ±∞ as `null`.
+    pub fn serialize<S: Serializer>(value: &f64, s: S) -> Result<S::Ok, S::Error> {
+        if value.is_finite() { s.serialize_f64(*value) } else { s.serialize_none() }
+    }
+
+    /// Reads a number, or `null` as NaN.
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+        Ok(Option::<f64>::deserialize(d)?.unwrap_or(f64::NAN))
+    }
+}
+
+/// [`nan_as_null`] for a list of numbers.
+pub mod nan_as_null_vec {
+    use serde::{Deserialize, Deserializer, Serializer, ser::SerializeSeq};
+
+    /// Writes each number, NaN or ±∞ as `null`.
+    pub fn serialize<S: Serializer>(values: &[f64], s: S) -> Result<S::Ok, S::Error> {
+        let mut seq = s.serialize_seq(Some(values.len()))?;
+        for v in values {
+            if v.is_finite() {
+                seq.serialize_element(v)?;
+            } else {
+                seq.serialize_element(&Option::<f64>::None)?;
+            }
+        }
+        seq.end()
+    }
+
+    /// Reads numbers, `null` as NaN.
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<f64>, D::Error> {
+        Ok(Vec::<Option<f64>>::deserialize(d)?.into_iter().map(|v| v.unwrap_or(f64::NAN)).collect())
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -59,5 +99,21 @@ mod tests {
         assert_eq!(value["schema_version"], SCHEMA_VERSION);
         let back: Summary<Toy> = serde_json::from_str(&text).unwrap();
         assert_eq!(back, s);
+    }
+
+    #[derive(Debug, Serialize, Deserialize)]
+    struct MaybeNumbers {
+        #[serde(with = "nan_as_null")]
+        one: f64,
+        #[serde(with = "nan_as_null_vec")]
+        many: Vec<f64>,
+    }
+
+    #[test]
+    fn not_a_number_travels_as_null_and_comes_back() {
+        let text = serde_json::to_string(&MaybeNumbers { one: f64::NAN, many: vec![1.5, f64::INFINITY] }).unwrap();
+        assert_eq!(text, r#"{"one":null,"many":[1.5,null]}"#);
+        let back: MaybeNumbers = serde_json::from_str(&text).unwrap();
+        assert!(back.one.is_nan() && back.many[0] == 1.5 && back.many[1].is_nan());
     }
 }
