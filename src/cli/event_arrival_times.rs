@@ -76,7 +76,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let template = read_template(&a.template)?;
     let valid_s = a.input.validity_s()?;
-    let ev = a.input.load("event-arrival-times")?;
+    let ev = a.input.load("event-arrival-times", a.quiet)?;
     if let Some(w) = &ev.weights {
         if let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(0.0..=1.0).contains(*v)) {
             bail!(

@@ -92,8 +92,9 @@ pub fn run(a: Args) -> Result<()> {
     let model_text = std::fs::read_to_string(&a.model).with_context(|| format!("reading {}", a.model.display()))?;
     let start = TimingModel::from_toml(&model_text, &a.model.display().to_string())?;
     let description = a.observer.description()?;
-    let source = a.source.load(description.as_ref())?;
+    let source = super::pulse_profile::source_unless_barycentric(clock.as_ref(), &a.source, description.as_ref())?;
     let observer = a.observer.observer_spec(description.as_ref())?;
+    super::pulse_profile::note_geocentre(&observer, clock.as_ref(), a.quiet);
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(
         reference.ephemeris.clone(),

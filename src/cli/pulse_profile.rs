@@ -32,6 +32,37 @@ const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an in
   template.json: the template (Fourier coefficients a_k, b_k with errors) that
   event-arrival-times matches. The figure shows two cycles.";
 
+/// The source for barycentring. Times already at the barycentre (`bjd_*`, `bmjd_*` for
+/// every row) need none: without one, a placeholder direction stands in that the
+/// correction of barycentric rows never uses.
+pub fn source_unless_barycentric(
+    clock: Option<&ClockSpec>,
+    args: &SourceArgs,
+    description: Option<&skyclock::config::Description>,
+) -> Result<skyclock::arrival::Source> {
+    let barycentric = clock.is_some_and(|c| c.reference == skyclock::arrival::ReferencePoint::Barycentric);
+    let given = args.source_file.is_some()
+        || args.ra.is_some()
+        || args.dec.is_some()
+        || description.is_some_and(|d| d.source.is_some());
+    if barycentric && !given {
+        return skyclock::arrival::Source::fixed_degrees("none needed: times already barycentric", 0.0, 0.0)
+            .map_err(anyhow::Error::msg);
+    }
+    args.load(description)
+}
+
+/// Says once on stderr (unless `quiet`) that times not at the barycentre are taken as
+/// recorded at the geocentre because no site or spacecraft positions were given.
+pub fn note_geocentre(observer: &skyclock::arrival::table::ObserverSpec, clock: Option<&ClockSpec>, quiet: bool) {
+    let barycentric = clock.is_some_and(|c| c.reference == skyclock::arrival::ReferencePoint::Barycentric);
+    if !quiet && !barycentric && matches!(observer, skyclock::arrival::table::ObserverSpec::Geocentre) {
+        eprintln!(
+            "note: no site given (--site, --site-coordinates, --site-column or --spacecraft-columns): the times are taken as recorded at the geocentre"
+        );
+    }
+}
+
 /// The event table, its clock, the observer, the source and the timing model.
 #[derive(Debug, ClapArgs)]
 pub struct EventTableArgs {
@@ -89,14 +120,15 @@ impl EventTableArgs {
     }
 
     /// Reads the model and the events, barycentres the times, reads the weights.
-    pub fn load(&self, stage: &str) -> Result<LoadedEvents> {
+    pub fn load(&self, stage: &str, quiet: bool) -> Result<LoadedEvents> {
         let model_text =
             std::fs::read_to_string(&self.model).with_context(|| format!("reading {}", self.model.display()))?;
         let model = TimingModel::from_toml(&model_text, &self.model.display().to_string())?;
         let clock = ClockSpec::parse_label(&self.clock).map_err(anyhow::Error::msg)?;
         let description = self.observer.description()?;
-        let source = self.source.load(description.as_ref())?;
+        let source = source_unless_barycentric(Some(&clock), &self.source, description.as_ref())?;
         let observer = self.observer.observer_spec(description.as_ref())?;
+        note_geocentre(&observer, Some(&clock), quiet);
         let reference = self.reference_data.load()?;
         let corrector = BarycentricCorrector::new(
             reference.ephemeris.clone(),
@@ -228,7 +260,7 @@ pub fn run(a: Args) -> Result<()> {
         valid_for_s: a.input.validity_s()?,
         instrument: a.input.instrument.clone(),
     };
-    let ev = a.input.load("pulse-profile")?;
+    let ev = a.input.load("pulse-profile", a.quiet)?;
     ev.warn_repeated_times(&a.input.time_column);
     if let (Some(w), Some(c)) = (&ev.weights, &a.input.weight_column) {
         check_weights(ev.times_s.len(), Some(w)).map_err(|e| ev.locate(c, e))?;
@@ -313,11 +345,11 @@ pub fn run(a: Args) -> Result<()> {
         println!("{text}");
     } else if !a.quiet {
         println!(
-            "{} events folded into {} bins; H = {:.1} (false alarm {}); template: {}; peak at phase {:.4}",
+            "{} events folded into {} bins; H = {:.1} (false alarm {:.2e}); template: {}; peak at phase {:.4}",
             result.events,
             result.bins,
             result.h_test.h,
-            super::search_pulsations::format_probability(result.h_test.false_alarm),
+            result.h_test.false_alarm,
             result.template_kind,
             result.template_peak_phase_cycles
         );

@@ -90,11 +90,12 @@ pub fn run(a: Args) -> Result<()> {
     }
     let clock = ClockSpec::parse_label(&a.clock).map_err(anyhow::Error::msg)?;
     let description = a.observer.description()?;
-    let source = a.source.load(description.as_ref())?;
+    let source = super::pulse_profile::source_unless_barycentric(Some(&clock), &a.source, description.as_ref())?;
     let observer = match a.observer.single_site(description.as_ref())? {
         Some(s) => ObserverSpec::Site(s),
         None => ObserverSpec::Geocentre,
     };
+    super::pulse_profile::note_geocentre(&observer, Some(&clock), a.quiet);
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(
         reference.ephemeris.clone(),
@@ -166,10 +167,7 @@ pub fn run(a: Args) -> Result<()> {
                         colour: (120, 120, 120),
                     },
                     skyclock::plot::Layer::Markers {
-                        label: format!(
-                            "best trial (false alarm after trials {})",
-                            format_probability(peak.false_alarm)
-                        ),
+                        label: format!("best trial (false alarm after trials {:.1e})", peak.false_alarm),
                         x: vec![0.0],
                         text: vec!["best".into()],
                         colour: (200, 30, 30),
@@ -201,20 +199,15 @@ pub fn run(a: Args) -> Result<()> {
         println!("{text}");
     } else if !a.quiet {
         println!(
-            "best trial {:.12} Hz ({:e} Hz/s): Z²_{} = {:.2}; {} trials; false alarm after trials {} ({:.1} σ)",
+            "best trial {:.12} Hz ({:e} Hz/s): Z²_{} = {:.2}; {} trials; false alarm after trials {:.3e} ({:.1} σ)",
             peak.freq_hz,
             peak.freq_deriv_hz_per_s,
             peak.harmonics,
             peak.z2,
             peak.trials,
-            format_probability(peak.false_alarm),
+            peak.false_alarm,
             peak.significance_sigma
         );
     }
     Ok(())
-}
-
-/// A probability for reading: below the double-precision floor as a bound.
-pub fn format_probability(p: f64) -> String {
-    if p < 1e-16 { "< 1e-16".to_string() } else { format!("{p:.3e}") }
 }

@@ -151,9 +151,14 @@ pub struct EventArrivalTimes {
     pub epoch_mjd_day_tdb: i64,
     /// Epoch, seconds of that day (TDB).
     pub epoch_seconds_of_day_tdb: f64,
-    /// One arrival time per usable segment, in time order.
+    /// Number of arrival times measured (JSON `arrival_times`).
+    #[serde(rename = "arrival_times")]
+    pub arrival_time_count: usize,
+    /// One arrival time per usable segment, in time order (JSON `measurements`).
+    #[serde(rename = "measurements")]
     pub arrival_times: Vec<EventArrivalTime>,
-    /// Segments that gave no arrival time, with the reason.
+    /// Segments that gave no arrival time, with the reason (JSON `skipped_segments`).
+    #[serde(rename = "skipped_segments")]
     pub skipped: Vec<SkippedSegment>,
     /// Median 1-σ uncertainty of the arrival times, µs (`None` when there are none).
     pub median_error_us: Option<f64>,
@@ -274,6 +279,7 @@ pub fn event_arrival_times(
         events: times_s.len(),
         epoch_mjd_day_tdb: model.epoch_mjd_day_tdb,
         epoch_seconds_of_day_tdb: model.epoch_seconds_of_day_tdb,
+        arrival_time_count: 0,
         arrival_times: vec![],
         skipped: vec![],
         median_error_us: None,
@@ -294,6 +300,7 @@ pub fn event_arrival_times(
     let mut errors_us: Vec<f64> = out.arrival_times.iter().map(|t| t.error_s * 1e6).collect();
     errors_us.sort_by(f64::total_cmp);
     out.median_error_us = errors_us.get(errors_us.len() / 2).copied();
+    out.arrival_time_count = out.arrival_times.len();
     Ok(out)
 }
 
