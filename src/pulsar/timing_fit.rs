@@ -11,7 +11,7 @@ use super::PulsarError;
 use super::model::{ArrivalTime, FitParameter, POSITION_PARAMETERS, TimingModel, TimingParameter};
 use crate::arrival::Source;
 use crate::constants::SECONDS_PER_DAY;
-use crate::fit::weighted_linear_lsq;
+use crate::fit::{Estimate, Parameter, UnknownParameter, weighted_linear_lsq};
 
 /// Result of a timing fit.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -39,6 +39,50 @@ pub struct TimingFit {
     pub pulse_numbers: Vec<f64>,
     /// Iterations used.
     pub iterations: usize,
+}
+
+impl TimingFit {
+    /// Every fitted parameter as an [`Estimate`] (value and 1σ), in fit order.
+    pub fn estimates(&self) -> Vec<Estimate<FitParameter>> {
+        self.parameters
+            .iter()
+            .enumerate()
+            .map(|(i, p)| Estimate { parameter: p.clone(), value: self.values[i], sigma: self.uncertainties[i] })
+            .collect()
+    }
+
+    /// The estimate of `p`, if it was fitted.
+    pub fn estimate(&self, p: impl Into<FitParameter>) -> Option<Estimate<FitParameter>> {
+        let p = p.into();
+        let i = self.parameters.iter().position(|q| *q == p)?;
+        Some(Estimate { parameter: p, value: self.values[i], sigma: self.uncertainties[i] })
+    }
+
+    /// Covariance of two fitted parameters.
+    pub fn covariance_of(&self, a: impl Into<FitParameter>, b: impl Into<FitParameter>) -> Option<f64> {
+        let (a, b) = (a.into(), b.into());
+        let n = self.parameters.len();
+        let i = self.parameters.iter().position(|q| *q == a)?;
+        let j = self.parameters.iter().position(|q| *q == b)?;
+        self.covariance.get(i * n + j).copied()
+    }
+
+    /// The estimate of the parameter called `name`; an unknown name, or one this fit did not
+    /// adjust, is refused with the names it did fit.
+    pub fn by_name(&self, name: &str) -> Result<Estimate<FitParameter>, UnknownParameter> {
+        let refuse =
+            || UnknownParameter { name: name.to_string(), known: self.parameters.iter().map(fitted_name).collect() };
+        let p: FitParameter = name.parse().map_err(|_| refuse())?;
+        self.estimate(p).ok_or_else(refuse)
+    }
+}
+
+/// A static name for a fitted parameter (instrument delays share the generic form).
+fn fitted_name(p: &FitParameter) -> &'static str {
+    match p {
+        FitParameter::Model(q) => q.name(),
+        FitParameter::InstrumentDelay(_) => "instrument_delay_s:NAME",
+    }
 }
 
 /// Checks arrival times: finite, errors > 0, no duplicates (same time and instrument).
@@ -325,6 +369,15 @@ mod tests {
             iterations: 1,
         };
         let source = Source::fixed_degrees("invented", 10.0, 0.0).unwrap();
+        assert_eq!(fit.estimate(TimingParameter::PositionOffsetRaMas).unwrap().sigma, 0.25);
+        assert_eq!(fit.by_name("position_offset_ra_mas").unwrap().value, theta_mas);
+        let refused = fit.by_name("freq_hz").unwrap_err();
+        assert_eq!(refused.known, vec!["phase_offset_cycles", "position_offset_ra_mas"]);
+        assert!(fit.by_name("spin").is_err());
+        assert_eq!(
+            fit.covariance_of(TimingParameter::PhaseOffsetCycles, TimingParameter::PositionOffsetRaMas),
+            Some(0.0)
+        );
         let p = fitted_position(&fit, &source).unwrap();
         let theta = theta_mas * std::f64::consts::PI / 648_000_000.0;
         assert!((p.ra_deg - (10.0 + theta.atan().to_degrees())).abs() < 1e-12, "{}", p.ra_deg);
