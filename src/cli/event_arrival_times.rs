@@ -77,15 +77,15 @@ pub fn run(a: Args) -> Result<()> {
     let template = read_template(&a.template)?;
     let valid_s = a.input.validity_s()?;
     let ev = a.input.load("event-arrival-times", a.quiet)?;
-    if let Some(w) = &ev.weights {
-        if let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(0.0..=1.0).contains(*v)) {
-            bail!(
-                "{}, row {}, column '{}': weight {v}; weights are probabilities in [0, 1]",
-                ev.file,
-                i + 1,
-                a.input.weight_column.as_deref().unwrap_or("")
-            );
-        }
+    if let Some(w) = &ev.weights
+        && let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(0.0..=1.0).contains(*v))
+    {
+        bail!(
+            "{}, row {}, column '{}': weight {v}; weights are probabilities in [0, 1]",
+            ev.file,
+            i + 1,
+            a.input.weight_column.as_deref().unwrap_or("")
+        );
     }
     ev.warn_repeated_times(&a.input.time_column);
     let spin = super::common::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet || a.json);

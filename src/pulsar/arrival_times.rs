@@ -30,17 +30,17 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
     };
     let mut out = Vec::with_capacity(df.height());
     for i in 0..df.height() {
-        if !(err[i] > 0.0) {
+        if err[i].is_nan() || err[i] <= 0.0 {
             return Err(cell(i, "error_us", format!("{} µs: every arrival time needs an uncertainty > 0", err[i])));
         }
-        if let Some(f) = freq[i] {
-            if !(f > 0.0) {
-                return Err(cell(
-                    i,
-                    "freq_mhz",
-                    format!("{f} MHz: an observing frequency must be > 0 (leave the cell empty for no dispersion)"),
-                ));
-            }
+        if let Some(f) = freq[i]
+            && (f.is_nan() || f <= 0.0)
+        {
+            return Err(cell(
+                i,
+                "freq_mhz",
+                format!("{f} MHz: an observing frequency must be > 0 (leave the cell empty for no dispersion)"),
+            ));
         }
         let t = Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]);
         out.push(ArrivalTime {

@@ -82,7 +82,7 @@ pub fn phase_shift(
         tau -= 1.0;
     }
     let curvature = corr(tau, 2);
-    if !(curvature < 0.0) {
+    if curvature.is_nan() || curvature >= 0.0 {
         return Err(PulsarError::Fit(
             "the cross-correlation with the template has no curvature at its maximum: no pulse to align".into(),
         ));
@@ -239,10 +239,10 @@ pub fn event_arrival_times(
     model.validate()?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
-    if let Some(w) = weights {
-        if w.len() != times_s.len() {
-            return Err(PulsarError::Input(format!("{} weights for {} events", w.len(), times_s.len())));
-        }
+    if let Some(w) = weights
+        && w.len() != times_s.len()
+    {
+        return Err(PulsarError::Input(format!("{} weights for {} events", w.len(), times_s.len())));
     }
     if min_photons < 2 {
         return Err(PulsarError::Input(format!("minimum photons per segment {min_photons}: use at least 2")));

@@ -53,7 +53,7 @@ impl SpinGrid {
         if !(oversample >= 1.0 && oversample.is_finite()) {
             return Err(PulsarError::Input(format!("oversampling {oversample}: use a number ≥ 1")));
         }
-        if !(fdot_min <= fdot_max) {
+        if fdot_min.is_nan() || fdot_max.is_nan() || fdot_min > fdot_max {
             return Err(PulsarError::Input(format!("frequency-derivative range {fdot_min}..{fdot_max} Hz/s is empty")));
         }
         let step = 1.0 / (oversample * baseline_s);
