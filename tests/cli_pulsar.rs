@@ -22,7 +22,7 @@ fn run(dir: &std::path::Path) -> std::process::Output {
         .current_dir(dir)
         .args([
             "fit-timing",
-            "--arrival-times",
+            "--input",
             "toas.csv",
             "--clock",
             "bmjd_tdb",
@@ -32,9 +32,9 @@ fn run(dir: &std::path::Path) -> std::process::Output {
             "20",
             "--model",
             "m.toml",
-            "--output-residuals",
+            "--output",
             "r.csv",
-            "--output-model",
+            "--model-output",
             "out.toml",
             "--json",
         ])
@@ -80,7 +80,7 @@ fn search_pulsations_finds_an_invented_pulsar() {
         .current_dir(&dir)
         .args([
             "search-pulsations",
-            "--events",
+            "--input",
             "ev.csv",
             "--clock",
             "bmjd_tdb",
@@ -175,7 +175,7 @@ fn fits_position_end_to_end_from_geocentric_times() {
         .current_dir(&dir)
         .args([
             "fit-timing",
-            "--arrival-times",
+            "--input",
             "toas.csv",
             "--clock",
             "mjd_tdb",
@@ -185,11 +185,11 @@ fn fits_position_end_to_end_from_geocentric_times() {
             &dec0.to_string(),
             "--model",
             "m.toml",
-            "--output-residuals",
+            "--output",
             "r.csv",
-            "--output-model",
+            "--model-output",
             "out.toml",
-            "--output-summary",
+            "--summary",
             "fit.json",
             "--json",
         ])

@@ -61,7 +61,7 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
     let dir = std::env::temp_dir().join(format!("skyclock_cli_profiles_{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     write_events(&dir, "ev.csv", false);
-    let common = ["--events", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml"];
+    let common = ["--input", "ev.csv", "--clock", "bmjd_tdb", "--ra", "10", "--dec", "20", "--model", "m.toml"];
     let mut args = vec!["pulse-profile"];
     args.extend(common);
     args.extend([
@@ -69,9 +69,9 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
         "25",
         "--harmonics",
         "4",
-        "--output-profile",
+        "--output",
         "profile.csv",
-        "--output-template",
+        "--template-output",
         "template.json",
         "--figure",
         "profile.svg",
@@ -119,7 +119,7 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
         &dir,
         &[
             "fit-timing",
-            "--arrival-times",
+            "--input",
             "toas.csv",
             "--time-column",
             "arrival_bjd_tdb",
@@ -131,9 +131,9 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
             "20",
             "--model",
             "m.toml",
-            "--output-residuals",
+            "--output",
             "r.csv",
-            "--output-model",
+            "--model-output",
             "fitted.toml",
             "--figure",
             "residuals.svg",
@@ -152,7 +152,7 @@ fn profile_template_arrival_times_and_timing_fit_chain() {
     // refusing to overwrite an input
     let mut args = vec!["pulse-profile"];
     args.extend(common);
-    args.extend(["--output-profile", "ev.csv"]);
+    args.extend(["--output", "ev.csv"]);
     let out = skyclock(&dir, &args);
     assert_eq!(out.status.code(), Some(1));
     let _ = std::fs::remove_dir_all(&dir);
@@ -167,7 +167,7 @@ fn unsorted_events_and_too_short_segments_are_named() {
         &dir,
         &[
             "pulse-profile",
-            "--events",
+            "--input",
             "bad.csv",
             "--clock",
             "bmjd_tdb",
@@ -177,7 +177,7 @@ fn unsorted_events_and_too_short_segments_are_named() {
             "20",
             "--model",
             "m.toml",
-            "--output-profile",
+            "--output",
             "p.csv",
         ],
     );
@@ -189,7 +189,7 @@ fn unsorted_events_and_too_short_segments_are_named() {
         &dir,
         &[
             "pulse-profile",
-            "--events",
+            "--input",
             "bad.csv",
             "--clock",
             "bmjd_tdb",
@@ -199,7 +199,7 @@ fn unsorted_events_and_too_short_segments_are_named() {
             "20",
             "--model",
             "m.toml",
-            "--output-profile",
+            "--output",
             "p.csv",
             "--model-validity-days",
             "2",

@@ -8,19 +8,20 @@ use clap::Args as ClapArgs;
 
 use super::pulse_profile::{EventTableArgs, read_template};
 use skyclock::pulsar::event_toas::{Segmentation, event_arrival_times};
+use skyclock::table::summary::Summary;
 use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
 use skyclock::time::format::{TimeFormat, format_time};
 
 const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3'):
-  skyclock event-arrival-times --events corvina_events.csv --clock mjd_tt \\
+  skyclock event-arrival-times --input corvina_events.csv --clock mjd_tt \\
       --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
       --model corvina.toml --template template.json \\
       --segment-duration-s 86400 --min-photons 200 --output arrival_times.csv
-  skyclock fit-timing --arrival-times arrival_times.csv --time-column arrival_bjd_tdb \\
-      --clock bjd_tdb --ra 201.3 --dec 12.8 --model corvina.toml \\
-      --output-residuals residuals.csv --output-model fitted.toml
+  skyclock fit-timing --input arrival_times.csv --time-column arrival_bjd_tdb \\
+      --clock bjd_tdb --model corvina.toml \\
+      --output residuals.csv --model-output fitted.toml
 
-  The template comes from pulse-profile --output-template. Segments are cut by duration
+  The template comes from pulse-profile --template-output. Segments are cut by duration
   (--segment-duration-s) or by photon count (--segment-photons); segments with fewer than
   --min-photons photons are skipped and listed. arrival_times.csv: arrival_bjd_tdb (TDB
   at the barycentre, 14 decimals), error_us, instrument — the columns fit-timing reads —
@@ -33,7 +34,7 @@ const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3'):
 pub struct Args {
     #[command(flatten)]
     pub input: EventTableArgs,
-    /// Template (.json) from pulse-profile --output-template.
+    /// Template (.json) from pulse-profile --template-output.
     #[arg(long, value_name = "FILE")]
     pub template: PathBuf,
     /// Cut the events into segments of this length, s.
@@ -48,10 +49,13 @@ pub struct Args {
     /// Arrival-time table to write (.csv).
     #[arg(long, value_name = "FILE")]
     pub output: PathBuf,
-    /// Print the JSON summary on stdout.
+    /// JSON summary to write (the text --json prints).
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout instead of the result line.
     #[arg(long)]
     pub json: bool,
-    /// No progress display on stderr.
+    /// Print nothing but warnings and errors (no progress display, no result line).
     #[arg(long)]
     pub quiet: bool,
 }
@@ -60,7 +64,9 @@ pub struct Args {
 pub fn run(a: Args) -> Result<()> {
     let mut inputs = a.input.inputs();
     inputs.push(a.template.as_path());
-    refuse_overwriting_inputs(&a.output, &inputs)?;
+    for out in [Some(&a.output), a.summary.as_ref()].into_iter().flatten() {
+        refuse_overwriting_inputs(out, &inputs)?;
+    }
     let segmentation = match (a.segment_duration_s, a.segment_photons) {
         (Some(seconds), None) => Segmentation::Duration { seconds },
         (None, Some(count)) => Segmentation::Photons { count },
@@ -70,7 +76,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let template = read_template(&a.template)?;
     let valid_s = a.input.validity_s()?;
-    let ev = a.input.load("event-arrival-times")?;
+    let ev = a.input.load("event-arrival-times", a.quiet)?;
     if let Some(w) = &ev.weights
         && let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(0.0..=1.0).contains(*v))
     {
@@ -82,7 +88,7 @@ pub fn run(a: Args) -> Result<()> {
         );
     }
     ev.warn_repeated_times(&a.input.time_column);
-    let spin = super::common::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet);
+    let spin = super::common::spinner(&format!("arrival times from {} events", ev.times_s.len()), a.quiet || a.json);
     let result = event_arrival_times(
         &ev.model,
         &ev.times_s,
@@ -119,42 +125,35 @@ pub fn run(a: Args) -> Result<()> {
     write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
     let provenance = ev.provenance.clone().with("template", a.template.display().to_string());
     write_atomically(&sidecar_path(&a.output), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()))?;
-    let skipped: Vec<serde_json::Value> = result
-        .skipped
-        .iter()
-        .map(|s| serde_json::json!({ "segment": s.segment, "photons": s.photons, "start_bjd_tdb": jd(s.start_s), "end_bjd_tdb": jd(s.end_s), "reason": s.reason }))
+    let outputs = vec![a.output.display().to_string()]
+        .into_iter()
+        .chain(a.summary.as_ref().map(|p| p.display().to_string()))
         .collect();
-    let summary = serde_json::json!({
-        "events": ev.times_s.len(),
-        "arrival_times": result.arrival_times.len(),
-        "skipped_segments": skipped,
-        "template": a.template.display().to_string(),
-        "output": a.output.display().to_string(),
-    });
+    let input_names = inputs.iter().map(|p| p.display().to_string()).collect();
     for s in &result.skipped {
         eprintln!(
-            "warning: {}: segment {} ({} to {}) skipped: {}",
+            "warning: {}: segment {} (BJD_TDB {} to {}, {} photons) skipped: {}",
             ev.file,
             s.segment,
             jd(s.start_s),
             jd(s.end_s),
+            s.photons,
             s.reason
         );
     }
+    let text = Summary::new(result.clone(), provenance, input_names, outputs).to_json()?;
+    if let Some(p) = &a.summary {
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
+    }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&summary)?);
-    } else {
-        let median_us = {
-            let mut e: Vec<f64> = result.arrival_times.iter().map(|t| t.error_s * 1e6).collect();
-            e.sort_by(f64::total_cmp);
-            e[e.len() / 2]
-        };
+        println!("{text}");
+    } else if !a.quiet {
         println!(
             "{} arrival times from {} events ({} segments skipped); median uncertainty {:.3} µs; written to {}",
             result.arrival_times.len(),
-            ev.times_s.len(),
+            result.events,
             result.skipped.len(),
-            median_us,
+            result.median_error_us.unwrap_or(f64::NAN),
             a.output.display()
         );
     }

@@ -11,15 +11,16 @@ use skyclock::arrival::table::{TableRequest, correct_table_with_geometry};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::pulsar::arrival_times::{arrival_times_from_table, attach_observer_geometry};
 use skyclock::pulsar::model::TimingModel;
-use skyclock::pulsar::timing_fit::{fit_timing_model, fitted_position};
+use skyclock::pulsar::timing_fit::fit_timing;
+use skyclock::table::summary::Summary;
 use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
 use skyclock::table::{Provenance, read_table};
 
 const EXAMPLE: &str = "Example:
-  skyclock fit-timing --arrival-times pulses.csv --time-column time --clock mjd_utc \\
+  skyclock fit-timing --input pulses.csv --time-column time --clock mjd_utc \\
       --site-column site --sites-file sites.toml --ra 287.4 --dec -12.9 \\
-      --model starting_model.toml --output-residuals residuals.csv \\
-      --output-model fitted_model.toml --output-summary fit.json
+      --model starting_model.toml --output residuals.csv \\
+      --model-output fitted_model.toml --summary fit.json
 
   The arrival-time table has: the time column (any clock label), error_us (1-σ, µs),
   optional freq_mhz (observing frequency; empty = no dispersion) and optional instrument.
@@ -39,7 +40,7 @@ const EXAMPLE: &str = "Example:
 pub struct Args {
     /// Arrival-time table (.csv, .tsv or .parquet).
     #[arg(long, value_name = "FILE")]
-    pub arrival_times: PathBuf,
+    pub input: PathBuf,
     /// Column of arrival times.
     #[arg(long, default_value = "time")]
     pub time_column: String,
@@ -63,20 +64,20 @@ pub struct Args {
     pub max_iterations: usize,
     /// Residual table to write (.csv).
     #[arg(long, value_name = "FILE")]
-    pub output_residuals: PathBuf,
+    pub output: PathBuf,
     /// Fitted model to write (TOML).
     #[arg(long, value_name = "FILE")]
-    pub output_model: PathBuf,
-    /// JSON file with parameters, uncertainties, covariance and χ².
+    pub model_output: PathBuf,
+    /// JSON summary to write (the text --json prints): parameters, uncertainties, covariance, χ².
     #[arg(long, value_name = "FILE")]
-    pub output_summary: Option<PathBuf>,
+    pub summary: Option<PathBuf>,
     /// Figure of the residuals against time (and against orbital phase for a binary), .svg or .png.
     #[arg(long, value_name = "FILE")]
     pub figure: Option<PathBuf>,
-    /// Print the JSON summary on stdout.
+    /// Print the JSON summary on stdout instead of the result lines.
     #[arg(long)]
     pub json: bool,
-    /// No progress display on stderr.
+    /// Print nothing but warnings and errors (no progress display, no result lines).
     #[arg(long)]
     pub quiet: bool,
 }
@@ -84,18 +85,16 @@ pub struct Args {
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
     let clock = super::common::clock_choice(&a.clock, &a.clock_column, "mjd_utc")?;
-    let inputs = [a.arrival_times.as_path(), a.model.as_path()];
-    for out in [Some(&a.output_residuals), Some(&a.output_model), a.output_summary.as_ref(), a.figure.as_ref()]
-        .into_iter()
-        .flatten()
-    {
+    let inputs = [a.input.as_path(), a.model.as_path()];
+    for out in [Some(&a.output), Some(&a.model_output), a.summary.as_ref(), a.figure.as_ref()].into_iter().flatten() {
         refuse_overwriting_inputs(out, &inputs)?;
     }
     let model_text = std::fs::read_to_string(&a.model).with_context(|| format!("reading {}", a.model.display()))?;
     let start = TimingModel::from_toml(&model_text, &a.model.display().to_string())?;
     let description = a.observer.description()?;
-    let source = a.source.load(description.as_ref())?;
+    let source = super::pulse_profile::source_unless_barycentric(clock.as_ref(), &a.source, description.as_ref())?;
     let observer = a.observer.observer_spec(description.as_ref())?;
+    super::pulse_profile::note_geocentre(&observer, clock.as_ref(), a.quiet);
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(
         reference.ephemeris.clone(),
@@ -106,19 +105,20 @@ pub fn run(a: Args) -> Result<()> {
     );
     let request =
         TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
-    let file = a.arrival_times.display().to_string();
-    let df = read_table(&a.arrival_times, &request.text_columns())?;
+    let file = a.input.display().to_string();
+    let df = read_table(&a.input, &request.text_columns())?;
     let (corrected, _, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
     let mut toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
     attach_observer_geometry(&mut toas, &geometry);
     let spin = super::common::spinner(
         &format!("fitting {} parameters to {} arrival times", start.fit.len() + 1, toas.len()),
-        a.quiet,
+        a.quiet || a.json,
     );
-    let fit = fit_timing_model(&start, &toas, a.max_iterations)
+    let solution = fit_timing(&start, &toas, a.max_iterations, &source)
         .with_context(|| format!("fitting {} to {file}", a.model.display()));
     spin.finish_and_clear();
-    let fit = fit?;
+    let solution = solution?;
+    let fit = &solution.fit;
 
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "fit-timing")
@@ -130,11 +130,7 @@ pub fn run(a: Args) -> Result<()> {
         "seconds_after_epoch_tdb,residual_us,residual_cycles,error_us,freq_mhz,instrument,orbital_phase\n",
     );
     for (i, t) in toas.iter().enumerate() {
-        let orbital = fit
-            .model
-            .orbit
-            .as_ref()
-            .map(|o| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * SECONDS_PER_DAY)).rem_euclid(1.0));
+        let orbital = solution.orbital_phase_cycles.get(i);
         csv.push_str(&format!(
             "{:.9},{:.6},{:.9},{:.6},{},{},{}\n",
             t.t_s,
@@ -146,10 +142,8 @@ pub fn run(a: Args) -> Result<()> {
             orbital.map_or(String::new(), |p| format!("{p:.6}"))
         ));
     }
-    write_atomically(&a.output_residuals, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
-    write_atomically(&sidecar_path(&a.output_residuals), |f| {
-        std::io::Write::write_all(f, provenance.to_json().as_bytes())
-    })?;
+    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
+    write_atomically(&sidecar_path(&a.output), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()))?;
     if let Some(path) = &a.figure {
         use skyclock::plot::{Figure, Layer, Panel, write_figure};
         let residual_us: Vec<f64> = fit.residual_s.iter().map(|r| r * 1e6).collect();
@@ -169,11 +163,8 @@ pub fn run(a: Args) -> Result<()> {
             invert_y: false,
             height_weight: 1,
         }];
-        if let Some(o) = fit.model.orbit.as_ref() {
-            let phase = toas
-                .iter()
-                .map(|t| ((t.t_s - o.periastron_time_s) / (o.orbital_period_d * SECONDS_PER_DAY)).rem_euclid(1.0))
-                .collect();
+        if !solution.orbital_phase_cycles.is_empty() {
+            let phase = solution.orbital_phase_cycles.clone();
             panels.push(Panel {
                 x_label: "orbital phase from periastron (cycles)".into(),
                 y_label: "residual (µs)".into(),
@@ -192,33 +183,32 @@ pub fn run(a: Args) -> Result<()> {
         write_figure(&fig, path)?;
     }
     let toml_text = fit.model.to_toml()?;
-    write_atomically(&a.output_model, |f| std::io::Write::write_all(f, toml_text.as_bytes()))?;
-    let summary = serde_json::json!({
-        "arrival_times": toas.len(),
-        "fit": fit,
-        "reduced_chi2": fit.chi2 / fit.dof.max(1) as f64,
-        "position": fitted_position(&fit, &source),
-        "ephemeris": reference.ephemeris.name(),
-        "outputs": [a.output_residuals.display().to_string(), a.output_model.display().to_string()],
-    });
-    let text = serde_json::to_string_pretty(&summary)?;
-    if let Some(p) = &a.output_summary {
+    write_atomically(&a.model_output, |f| std::io::Write::write_all(f, toml_text.as_bytes()))?;
+    let outputs: Vec<String> = [Some(&a.output), Some(&a.model_output), a.summary.as_ref(), a.figure.as_ref()]
+        .into_iter()
+        .flatten()
+        .map(|p| p.display().to_string())
+        .collect();
+    let input_names = inputs.iter().map(|p| p.display().to_string()).collect();
+    let text = Summary::new(solution.clone(), provenance, input_names, outputs).to_json()?;
+    if let Some(p) = &a.summary {
         write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
     }
     if a.json {
         println!("{text}");
-    } else {
+    } else if !a.quiet {
         println!(
-            "fitted {} parameters to {} arrival times: χ² = {:.2} for {} degrees of freedom",
+            "fitted {} parameters to {} arrival times: χ² = {:.2} for {} degrees of freedom; weighted rms residual {:.3} µs",
             fit.parameters.len(),
-            toas.len(),
+            solution.arrival_times,
             fit.chi2,
-            fit.dof
+            fit.dof,
+            solution.weighted_rms_residual_us
         );
         for ((n, v), s) in fit.parameters.iter().zip(&fit.values).zip(&fit.uncertainties) {
-            println!("  {n:<34} {v:>24.15e} ± {s:.3e}");
+            println!("  {:<34} {v:>24.15e} ± {s:.3e}", n.to_string());
         }
-        if let Some(p) = fitted_position(&fit, &source) {
+        if let Some(p) = &solution.position {
             println!(
                 "  position at MJD {:.5} (TDB): RA {:.9}° ± {:.3} mas, Dec {:.9}° ± {:.3} mas; proper motion {:.3} ± {:.3} mas/yr east, {:.3} ± {:.3} mas/yr north",
                 p.epoch_mjd_tdb,

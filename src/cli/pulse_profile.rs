@@ -12,17 +12,17 @@ use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::pulsar::model::TimingModel;
-use skyclock::pulsar::profile::{PulseTemplate, binned_profile, fold_events, fourier_template, gaussian_template};
-use skyclock::pulsar::statistics::h_test;
+use skyclock::pulsar::profile::{ProfileRequest, PulseTemplate, check_weights, pulse_profile};
+use skyclock::table::summary::Summary;
 use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
 use skyclock::table::{Provenance, float_column, read_table};
 use skyclock::time::{Instant, TimeScale};
 
 const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an invented X-ray satellite):
-  skyclock pulse-profile --events corvina_events.csv --time-column time --clock mjd_tt \\
+  skyclock pulse-profile --input corvina_events.csv --time-column time --clock mjd_tt \\
       --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
       --model corvina.toml --bins 40 --harmonics 6 \\
-      --output-profile profile.csv --output-template template.json --figure profile.svg
+      --output profile.csv --template-output template.json --figure profile.svg
 
   The events are barycentred on the way in (use --clock bjd_tdb for barycentric times) and
   folded with the timing model (the TOML that fit-timing reads; binary orbits included).
@@ -32,12 +32,43 @@ const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an in
   template.json: the template (Fourier coefficients a_k, b_k with errors) that
   event-arrival-times matches. The figure shows two cycles.";
 
+/// The source for barycentring. Times already at the barycentre (`bjd_*`, `bmjd_*` for
+/// every row) need none: without one, a placeholder direction stands in that the
+/// correction of barycentric rows never uses.
+pub fn source_unless_barycentric(
+    clock: Option<&ClockSpec>,
+    args: &SourceArgs,
+    description: Option<&skyclock::config::Description>,
+) -> Result<skyclock::arrival::Source> {
+    let barycentric = clock.is_some_and(|c| c.reference == skyclock::arrival::ReferencePoint::Barycentric);
+    let given = args.source_file.is_some()
+        || args.ra.is_some()
+        || args.dec.is_some()
+        || description.is_some_and(|d| d.source.is_some());
+    if barycentric && !given {
+        return skyclock::arrival::Source::fixed_degrees("none needed: times already barycentric", 0.0, 0.0)
+            .map_err(anyhow::Error::msg);
+    }
+    args.load(description)
+}
+
+/// Says once on stderr (unless `quiet`) that times not at the barycentre are taken as
+/// recorded at the geocentre because no site or spacecraft positions were given.
+pub fn note_geocentre(observer: &skyclock::arrival::table::ObserverSpec, clock: Option<&ClockSpec>, quiet: bool) {
+    let barycentric = clock.is_some_and(|c| c.reference == skyclock::arrival::ReferencePoint::Barycentric);
+    if !quiet && !barycentric && matches!(observer, skyclock::arrival::table::ObserverSpec::Geocentre) {
+        eprintln!(
+            "note: no site given (--site, --site-coordinates, --site-column or --spacecraft-columns): the times are taken as recorded at the geocentre"
+        );
+    }
+}
+
 /// The event table, its clock, the observer, the source and the timing model.
 #[derive(Debug, ClapArgs)]
 pub struct EventTableArgs {
     /// Photon-event table (.csv, .tsv or .parquet).
     #[arg(long, value_name = "FILE")]
-    pub events: PathBuf,
+    pub input: PathBuf,
     /// Column of event times.
     #[arg(long, default_value = "time")]
     pub time_column: String,
@@ -77,7 +108,7 @@ pub struct LoadedEvents {
 impl EventTableArgs {
     /// The inputs (for refusing to overwrite them).
     pub fn inputs(&self) -> Vec<&Path> {
-        vec![self.events.as_path(), self.model.as_path()]
+        vec![self.input.as_path(), self.model.as_path()]
     }
 
     /// The model's validity half-width in seconds.
@@ -89,14 +120,15 @@ impl EventTableArgs {
     }
 
     /// Reads the model and the events, barycentres the times, reads the weights.
-    pub fn load(&self, stage: &str) -> Result<LoadedEvents> {
+    pub fn load(&self, stage: &str, quiet: bool) -> Result<LoadedEvents> {
         let model_text =
             std::fs::read_to_string(&self.model).with_context(|| format!("reading {}", self.model.display()))?;
         let model = TimingModel::from_toml(&model_text, &self.model.display().to_string())?;
         let clock = ClockSpec::parse_label(&self.clock).map_err(anyhow::Error::msg)?;
         let description = self.observer.description()?;
-        let source = self.source.load(description.as_ref())?;
+        let source = source_unless_barycentric(Some(&clock), &self.source, description.as_ref())?;
         let observer = self.observer.observer_spec(description.as_ref())?;
+        note_geocentre(&observer, Some(&clock), quiet);
         let reference = self.reference_data.load()?;
         let corrector = BarycentricCorrector::new(
             reference.ephemeris.clone(),
@@ -105,10 +137,10 @@ impl EventTableArgs {
             source,
             DelayOptions::default(),
         );
-        let file = self.events.display().to_string();
+        let file = self.input.display().to_string();
         let request =
             TableRequest { time_column: self.time_column.clone(), clock: Some(clock), clock_column: None, observer };
-        let df = read_table(&self.events, &request.text_columns())?;
+        let df = read_table(&self.input, &request.text_columns())?;
         let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
         let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
         let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
@@ -152,13 +184,24 @@ impl LoadedEvents {
     }
 }
 
-/// Reads a template written by `pulse-profile --output-template`.
+/// The template file `--template-output` writes and `event-arrival-times --template` reads.
+#[derive(Debug, Clone, serde::Serialize, serde::Deserialize)]
+pub struct TemplateFile {
+    /// The template to match.
+    pub template: PulseTemplate,
+    /// The empirical Fourier coefficients it came from.
+    pub empirical_fourier: PulseTemplate,
+    /// Where it came from.
+    pub provenance: Provenance,
+}
+
+/// Reads a template written by `pulse-profile --template-output`.
 pub fn read_template(path: &Path) -> Result<PulseTemplate> {
     let text = std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
     let value: serde_json::Value =
         serde_json::from_str(&text).with_context(|| format!("{}: not JSON", path.display()))?;
     let inner = value.get("template").cloned().ok_or_else(|| {
-        anyhow!("{}: no 'template' key; write templates with skyclock pulse-profile --output-template", path.display())
+        anyhow!("{}: no 'template' key; write templates with skyclock pulse-profile --template-output", path.display())
     })?;
     let t: PulseTemplate = serde_json::from_value(inner).with_context(|| format!("{}: 'template'", path.display()))?;
     t.validate().with_context(|| format!("{}", path.display()))?;
@@ -182,17 +225,20 @@ pub struct Args {
     pub gaussian_components: Option<usize>,
     /// Binned profile to write (.csv).
     #[arg(long, value_name = "FILE")]
-    pub output_profile: PathBuf,
+    pub output: PathBuf,
     /// Template to write (.json), the input of event-arrival-times.
     #[arg(long, value_name = "FILE")]
-    pub output_template: Option<PathBuf>,
+    pub template_output: Option<PathBuf>,
     /// Figure of the profile with errors and the template, two cycles (.svg or .png).
     #[arg(long, value_name = "FILE")]
     pub figure: Option<PathBuf>,
-    /// Print the JSON summary on stdout.
+    /// JSON summary to write (the text --json prints).
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout instead of the result line.
     #[arg(long)]
     pub json: bool,
-    /// No progress display on stderr.
+    /// Print nothing but warnings and errors (no progress display, no result line).
     #[arg(long)]
     pub quiet: bool,
 }
@@ -200,48 +246,56 @@ pub struct Args {
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
     let inputs = a.input.inputs();
-    for out in [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()].into_iter().flatten() {
+    let outputs: Vec<&PathBuf> = [Some(&a.output), a.template_output.as_ref(), a.figure.as_ref(), a.summary.as_ref()]
+        .into_iter()
+        .flatten()
+        .collect();
+    for out in &outputs {
         refuse_overwriting_inputs(out, &inputs)?;
     }
-    let valid_s = a.input.validity_s()?;
-    let ev = a.input.load("pulse-profile")?;
+    let request = ProfileRequest {
+        bins: a.bins,
+        harmonics: a.harmonics,
+        gaussian_components: a.gaussian_components,
+        valid_for_s: a.input.validity_s()?,
+        instrument: a.input.instrument.clone(),
+    };
+    let ev = a.input.load("pulse-profile", a.quiet)?;
     ev.warn_repeated_times(&a.input.time_column);
-    let spin = super::common::spinner(&format!("folding {} events", ev.times_s.len()), a.quiet);
-    let phases = fold_events(&ev.model, &ev.times_s, valid_s, &a.input.instrument)
+    if let (Some(w), Some(c)) = (&ev.weights, &a.input.weight_column) {
+        check_weights(ev.times_s.len(), Some(w)).map_err(|e| ev.locate(c, e))?;
+    }
+    let spin = super::common::spinner(&format!("folding {} events", ev.times_s.len()), a.quiet || a.json);
+    let result = pulse_profile(&ev.model, &ev.times_s, ev.weights.as_deref(), &request)
         .map_err(|e| ev.locate(&a.input.time_column, e));
     spin.finish_and_clear();
-    let phases = phases?;
-    let weight_col = a.input.weight_column.clone().unwrap_or_default();
-    let binned = binned_profile(&phases, ev.weights.as_deref(), a.bins).map_err(|e| ev.locate(&weight_col, e))?;
-    let empirical = fourier_template(&phases, ev.weights.as_deref(), a.harmonics)?;
-    let template = match a.gaussian_components {
-        Some(c) => gaussian_template(&empirical, c)?,
-        None => empirical.clone(),
-    };
-    let h = h_test(&phases, ev.weights.as_deref())?;
+    let result = result?;
+    let binned = &result.profile;
+    let template = &result.template;
 
     let mut csv = String::from(
         "phase_center_cycles,counts,count_error,relative_intensity,relative_intensity_error,template_density\n",
     );
-    for i in 0..a.bins {
-        let x = binned.phase_center_cycles[i];
+    for i in 0..result.bins {
         csv.push_str(&format!(
-            "{x:.6},{:.6},{:.6},{:.6},{:.6},{:.6}\n",
+            "{:.6},{:.6},{:.6},{:.6},{:.6},{:.6}\n",
+            binned.phase_center_cycles[i],
             binned.counts[i],
             binned.count_errors[i],
             binned.relative_intensity[i],
             binned.relative_intensity_errors[i],
-            binned.expected_relative_intensity(&template, x)
+            result.template_density[i]
         ));
     }
-    write_atomically(&a.output_profile, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
-    write_atomically(&sidecar_path(&a.output_profile), |f| {
-        std::io::Write::write_all(f, ev.provenance.to_json().as_bytes())
-    })?;
-    if let Some(p) = &a.output_template {
-        let provenance: serde_json::Value = serde_json::from_str(&ev.provenance.to_json())?;
-        let doc = serde_json::json!({ "template": template, "empirical_fourier": empirical, "provenance": provenance });
-        let text = serde_json::to_string_pretty(&doc)?;
+    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
+    write_atomically(&sidecar_path(&a.output), |f| std::io::Write::write_all(f, ev.provenance.to_json().as_bytes()))?;
+    if let Some(p) = &a.template_output {
+        let file = TemplateFile {
+            template: template.clone(),
+            empirical_fourier: result.empirical_fourier.clone(),
+            provenance: ev.provenance.clone(),
+        };
+        let text = serde_json::to_string_pretty(&file)?;
         write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
     }
     if let Some(path) = &a.figure {
@@ -251,7 +305,7 @@ pub fn run(a: Args) -> Result<()> {
         };
         let grid: Vec<f64> = (0..=400).map(|i| 2.0 * i as f64 / 400.0).collect();
         let fig = Figure {
-            title: format!("{}: {} photons folded, {} bins", ev.file, phases.len(), a.bins),
+            title: format!("{}: {} photons folded, {} bins", ev.file, result.events, result.bins),
             panels: vec![Panel {
                 x_label: "pulse phase (cycles)".into(),
                 y_label: "relative intensity (1 = mean)".into(),
@@ -269,7 +323,7 @@ pub fn run(a: Args) -> Result<()> {
                     Layer::Line {
                         label: template.kind.clone(),
                         x: grid.clone(),
-                        y: grid.iter().map(|x| binned.expected_relative_intensity(&template, *x)).collect(),
+                        y: grid.iter().map(|x| binned.expected_relative_intensity(template, *x)).collect(),
                         colour: (200, 80, 30),
                     },
                 ],
@@ -279,33 +333,23 @@ pub fn run(a: Args) -> Result<()> {
         };
         write_figure(&fig, path)?;
     }
-    let outputs: Vec<String> = [Some(&a.output_profile), a.output_template.as_ref(), a.figure.as_ref()]
-        .into_iter()
-        .flatten()
-        .map(|p| p.display().to_string())
-        .collect();
-    let summary = serde_json::json!({
-        "events": phases.len(),
-        "model": a.input.model.display().to_string(),
-        "bins": a.bins,
-        "total_weight": binned.total_weight,
-        "h_test": h,
-        "z2_of_template_harmonics": skyclock::pulsar::statistics::z2n(&phases, ev.weights.as_deref(), a.harmonics)?,
-        "template_kind": template.kind,
-        "template_peak_phase_cycles": template.peak_phase_cycles(),
-        "outputs": outputs,
-    });
+    let outputs: Vec<String> = outputs.iter().map(|p| p.display().to_string()).collect();
+    let inputs: Vec<String> = inputs.iter().map(|p| p.display().to_string()).collect();
+    let text = Summary::new(result.clone(), ev.provenance.clone(), inputs, outputs).to_json()?;
+    if let Some(p) = &a.summary {
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
+    }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&summary)?);
-    } else {
+        println!("{text}");
+    } else if !a.quiet {
         println!(
             "{} events folded into {} bins; H = {:.1} (false alarm {:.2e}); template: {}; peak at phase {:.4}",
-            phases.len(),
-            a.bins,
-            h.h,
-            h.false_alarm,
-            template.kind,
-            template.peak_phase_cycles()
+            result.events,
+            result.bins,
+            result.h_test.h,
+            result.h_test.false_alarm,
+            result.template_kind,
+            result.template_peak_phase_cycles
         );
     }
     Ok(())

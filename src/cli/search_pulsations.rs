@@ -2,19 +2,20 @@
 
 use std::path::PathBuf;
 
-use anyhow::{Result, bail};
+use anyhow::{Result, anyhow, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use skyclock::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions};
-use skyclock::pulsar::search::{SpinGrid, best_trial, z2_grid};
+use skyclock::pulsar::search::{PulsationSearchRequest, search_pulsations};
+use skyclock::table::summary::Summary;
 use skyclock::table::write::{refuse_overwriting_inputs, write_atomically};
-use skyclock::table::{float_column, read_table};
+use skyclock::table::{Provenance, float_column, read_table};
 use skyclock::time::{Instant, TimeScale};
 
 const EXAMPLE: &str = "Example:
-  skyclock search-pulsations --events photons.csv --time-column time --clock mjd_tt \\
+  skyclock search-pulsations --input photons.csv --time-column time --clock mjd_tt \\
       --ra 83.633 --dec 22.0145 --min-freq-hz 29.5 --max-freq-hz 30.0 --harmonics 2 \\
       --output z2_spectrum.csv --figure z2_spectrum.svg --json
 
@@ -29,7 +30,7 @@ const EXAMPLE: &str = "Example:
 pub struct Args {
     /// Photon-event table (.csv, .tsv or .parquet).
     #[arg(long, value_name = "FILE")]
-    pub events: PathBuf,
+    pub input: PathBuf,
     /// Column of event times.
     #[arg(long, default_value = "time")]
     pub time_column: String,
@@ -59,7 +60,7 @@ pub struct Args {
     pub max_freq_deriv_hz_per_s: f64,
     /// Oversampling of the 1/T frequency step.
     #[arg(long, default_value_t = 4.0)]
-    pub oversample: f64,
+    pub oversampling: f64,
     /// Harmonics n of Z²ₙ (20 or more also reports the H-test).
     #[arg(long, default_value_t = 2)]
     pub harmonics: usize,
@@ -70,24 +71,31 @@ pub struct Args {
     /// .png), with the best trial marked and the mean level of pure noise (2n).
     #[arg(long, value_name = "FILE")]
     pub figure: Option<PathBuf>,
-    /// Print the JSON summary on stdout.
+    /// JSON summary to write (the text --json prints).
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout instead of the result line.
     #[arg(long)]
     pub json: bool,
-    /// No progress display on stderr.
+    /// Print nothing but warnings and errors (no progress display, no result line).
     #[arg(long)]
     pub quiet: bool,
 }
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    refuse_overwriting_inputs(&a.output, &[a.events.as_path()])?;
+    let inputs = [a.input.as_path()];
+    for out in [Some(&a.output), a.figure.as_ref(), a.summary.as_ref()].into_iter().flatten() {
+        refuse_overwriting_inputs(out, &inputs)?;
+    }
     let clock = ClockSpec::parse_label(&a.clock).map_err(anyhow::Error::msg)?;
     let description = a.observer.description()?;
-    let source = a.source.load(description.as_ref())?;
+    let source = super::pulse_profile::source_unless_barycentric(Some(&clock), &a.source, description.as_ref())?;
     let observer = match a.observer.single_site(description.as_ref())? {
         Some(s) => ObserverSpec::Site(s),
         None => ObserverSpec::Geocentre,
     };
+    super::pulse_profile::note_geocentre(&observer, Some(&clock), a.quiet);
     let reference = a.reference_data.load()?;
     let corrector = BarycentricCorrector::new(
         reference.ephemeris.clone(),
@@ -96,63 +104,56 @@ pub fn run(a: Args) -> Result<()> {
         source,
         DelayOptions::default(),
     );
-    let file = a.events.display().to_string();
-    let df = read_table(&a.events, &[a.time_column.as_str()])?;
+    let file = a.input.display().to_string();
+    let df = read_table(&a.input, &[a.time_column.as_str()])?;
     let request = TableRequest { time_column: a.time_column.clone(), clock: Some(clock), clock_column: None, observer };
     let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
     let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
     let instants: Vec<Instant> =
         jd1.iter().zip(&jd2).map(|(a, b)| Instant::from_jd_two_part(TimeScale::Tdb, *a, *b)).collect();
-    let Some(first) = instants.first() else { bail!("{file}: no events") };
-    let span = instants.iter().map(|t| t.seconds_since(first)).fold(0.0, f64::max);
-    let epoch = first.add_seconds(0.5 * span);
-    let times: Vec<f64> = instants.iter().map(|t| t.seconds_since(&epoch)).collect();
+    if instants.is_empty() {
+        bail!("{file}: the event table has no rows");
+    }
     let weights = match &a.weight_column {
         Some(c) => Some(float_column(&corrected, &file, c)?),
         None => None,
     };
-    let grid = SpinGrid::from_baseline(
-        a.min_freq_hz,
-        a.max_freq_hz,
-        span,
-        a.oversample,
-        a.min_freq_deriv_hz_per_s,
-        a.max_freq_deriv_hz_per_s,
-    )?;
-    let spin = super::common::spinner(
-        &format!(
-            "Z²_{} over {} trials of {} events",
-            a.harmonics,
-            grid.freq_count * grid.freq_derivs_hz_per_s.len(),
-            times.len()
-        ),
-        a.quiet,
-    );
-    let result = z2_grid(&times, weights.as_deref(), a.harmonics, &grid);
+    let search = PulsationSearchRequest {
+        min_freq_hz: a.min_freq_hz,
+        max_freq_hz: a.max_freq_hz,
+        min_freq_deriv_hz_per_s: a.min_freq_deriv_hz_per_s,
+        max_freq_deriv_hz_per_s: a.max_freq_deriv_hz_per_s,
+        oversampling: a.oversampling,
+        harmonics: a.harmonics,
+    };
+    let spin =
+        super::common::spinner(&format!("Z²_{} search of {} events", a.harmonics, instants.len()), a.quiet || a.json);
+    let result = search_pulsations(&instants, weights.as_deref(), &search);
     spin.finish_and_clear();
-    let result = result?;
-    let peak = best_trial(&result);
+    let (result, spectrum) = result.map_err(|e| match &a.weight_column {
+        Some(c) if e.to_string().contains("weight") => anyhow!("{file}, column '{c}': {e}"),
+        _ => anyhow!("{file}: {e}"),
+    })?;
+    let grid = &result.grid;
+    let peak = &result.best;
     let mut csv = String::from("freq_hz,freq_deriv_hz_per_s,z2\n");
     for (d, fd) in grid.freq_derivs_hz_per_s.iter().enumerate() {
         for k in 0..grid.freq_count {
-            csv.push_str(&format!("{:.12},{:e},{:.6}\n", grid.freq_hz(k), fd, result.z2(d, k)));
+            csv.push_str(&format!("{:.12},{:e},{:.6}\n", grid.freq_hz(k), fd, spectrum.z2(d, k)));
         }
     }
     write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
     if let Some(path) = &a.figure {
-        refuse_overwriting_inputs(path, &[a.events.as_path()])?;
         let d_best = grid.freq_derivs_hz_per_s.iter().position(|fd| *fd == peak.freq_deriv_hz_per_s).unwrap_or(0);
         let x: Vec<f64> = (0..grid.freq_count).map(|k| (grid.freq_hz(k) - peak.freq_hz) * 1e3).collect();
-        let y: Vec<f64> = (0..grid.freq_count).map(|k| result.z2(d_best, k)).collect();
+        let y: Vec<f64> = (0..grid.freq_count).map(|k| spectrum.z2(d_best, k)).collect();
         let noise = 2.0 * a.harmonics as f64;
         let (x0, x1) = (x.first().copied().unwrap_or(0.0), x.last().copied().unwrap_or(0.0));
         let fig = skyclock::plot::Figure {
             title: format!(
                 "Z²_{} of {} events against frequency (ν̇ = {:e} Hz/s)",
-                a.harmonics,
-                times.len(),
-                peak.freq_deriv_hz_per_s
+                a.harmonics, result.events, peak.freq_deriv_hz_per_s
             ),
             panels: vec![skyclock::plot::Panel {
                 x_label: format!("frequency − {:.9} Hz (mHz)", peak.freq_hz),
@@ -180,11 +181,23 @@ pub fn run(a: Args) -> Result<()> {
         };
         skyclock::plot::write_figure(&fig, path)?;
     }
-    let (mjd1, mjd2) = epoch.mjd_two_part();
-    let summary = serde_json::json!({ "events": times.len(), "epoch_mjd_tdb": mjd1 + mjd2, "baseline_s": span, "best": peak, "output": a.output.display().to_string() });
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "search-pulsations")
+        .with("input", file.clone())
+        .with("ephemeris", reference.ephemeris.name())
+        .with("leap_seconds", reference.converter.leap_seconds().source());
+    let outputs: Vec<String> = [Some(&a.output), a.figure.as_ref(), a.summary.as_ref()]
+        .into_iter()
+        .flatten()
+        .map(|p| p.display().to_string())
+        .collect();
+    let text = Summary::new(result.clone(), provenance, vec![file], outputs).to_json()?;
+    if let Some(p) = &a.summary {
+        write_atomically(p, |f| std::io::Write::write_all(f, text.as_bytes()))?;
+    }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&summary)?);
-    } else {
+        println!("{text}");
+    } else if !a.quiet {
         println!(
             "best trial {:.12} Hz ({:e} Hz/s): Z²_{} = {:.2}; {} trials; false alarm after trials {:.3e} ({:.1} σ)",
             peak.freq_hz,

@@ -133,16 +133,19 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     if let Some(o) = start.orbit.as_mut() {
         o.projected_semi_major_axis_lt_s += 0.002;
     }
-    start.fit = [
-        "freq_hz",
-        "freq_deriv_hz_per_s",
-        "dispersion_measure_pc_per_cm3",
-        "projected_semi_major_axis_lt_s",
-        "periastron_time_s",
-    ]
-    .iter()
-    .map(|s| s.to_string())
-    .collect();
+    {
+        use skyclock::pulsar::model::TimingParameter as P;
+        start.fit = [
+            P::FreqHz,
+            P::FreqDerivHzPerS,
+            P::DispersionMeasurePcPerCm3,
+            P::ProjectedSemiMajorAxisLtS,
+            P::PeriastronTimeS,
+        ]
+        .into_iter()
+        .map(Into::into)
+        .collect();
+    }
     std::fs::write(folder.join(PULSAR_START_MODEL_FILE), start.to_toml()?)?;
     std::fs::write(folder.join(PULSAR_DESCRIPTION_FILE), PULSAR_DESCRIPTION_TOML)?;
     Ok(())

@@ -30,11 +30,11 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
     };
     let mut out = Vec::with_capacity(df.height());
     for i in 0..df.height() {
-        if !(err[i] > 0.0) {
+        if err[i].is_nan() || err[i] <= 0.0 {
             return Err(cell(i, "error_us", format!("{} µs: every arrival time needs an uncertainty > 0", err[i])));
         }
         if let Some(f) = freq[i]
-            && !(f > 0.0)
+            && (f.is_nan() || f <= 0.0)
         {
             return Err(cell(
                 i,

@@ -35,7 +35,7 @@ use super::statistics::trigonometric_moments;
 use std::f64::consts::TAU;
 
 /// A phase shift between a segment and the template.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct PhaseShift {
     /// τ̂, cycles in (−0.5, 0.5]: the segment's pulse lags the template by τ̂.
     pub shift_cycles: f64,
@@ -82,7 +82,7 @@ pub fn phase_shift(
         tau -= 1.0;
     }
     let curvature = corr(tau, 2);
-    if !(curvature < 0.0) {
+    if curvature.is_nan() || curvature >= 0.0 {
         return Err(PulsarError::Fit(
             "the cross-correlation with the template has no curvature at its maximum: no pulse to align".into(),
         ));
@@ -109,12 +109,13 @@ pub enum Segmentation {
 }
 
 /// One arrival time from a segment of events.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct EventArrivalTime {
     /// Segment number (1-based, in time order, counting skipped segments).
     pub segment: usize,
-    /// First and last event of the segment, s after the model epoch (TDB).
+    /// First event of the segment, s after the model epoch (TDB).
     pub start_s: f64,
+    /// Last event of the segment, s after the model epoch (TDB).
     pub end_s: f64,
     /// Photons in the segment.
     pub photons: usize,
@@ -127,20 +128,40 @@ pub struct EventArrivalTime {
 }
 
 /// A segment that gave no arrival time, and why.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct SkippedSegment {
+    /// Segment number (1-based, in time order).
     pub segment: usize,
+    /// First event of the segment, s after the model epoch (TDB).
     pub start_s: f64,
+    /// Last event of the segment, s after the model epoch (TDB).
     pub end_s: f64,
+    /// Photons in the segment.
     pub photons: usize,
+    /// Why no arrival time was measured.
     pub reason: String,
 }
 
 /// Arrival times and skipped segments.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct EventArrivalTimes {
+    /// Events used (all rows of the table).
+    pub events: usize,
+    /// Epoch the times are counted from (the model's), integer MJD day (TDB).
+    pub epoch_mjd_day_tdb: i64,
+    /// Epoch, seconds of that day (TDB).
+    pub epoch_seconds_of_day_tdb: f64,
+    /// Number of arrival times measured (JSON `arrival_times`).
+    #[serde(rename = "arrival_times")]
+    pub arrival_time_count: usize,
+    /// One arrival time per usable segment, in time order (JSON `measurements`).
+    #[serde(rename = "measurements")]
     pub arrival_times: Vec<EventArrivalTime>,
+    /// Segments that gave no arrival time, with the reason (JSON `skipped_segments`).
+    #[serde(rename = "skipped_segments")]
     pub skipped: Vec<SkippedSegment>,
+    /// Median 1-σ uncertainty of the arrival times, µs (`None` when there are none).
+    pub median_error_us: Option<f64>,
 }
 
 /// Splits sorted times into segments: index ranges [start, end).
@@ -215,7 +236,7 @@ pub fn event_arrival_times(
     instrument: &str,
 ) -> Result<EventArrivalTimes, PulsarError> {
     template.validate()?;
-    model.validate().map_err(|e| PulsarError::Model(e.to_string()))?;
+    model.validate()?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     if let Some(w) = weights
@@ -254,7 +275,15 @@ pub fn event_arrival_times(
             Ok(EventArrivalTime { segment: i + 1, start_s, end_s, photons, arrival_s, error_s, shift })
         })
         .collect();
-    let mut out = EventArrivalTimes { arrival_times: vec![], skipped: vec![] };
+    let mut out = EventArrivalTimes {
+        events: times_s.len(),
+        epoch_mjd_day_tdb: model.epoch_mjd_day_tdb,
+        epoch_seconds_of_day_tdb: model.epoch_seconds_of_day_tdb,
+        arrival_time_count: 0,
+        arrival_times: vec![],
+        skipped: vec![],
+        median_error_us: None,
+    };
     for r in results {
         match r {
             Ok(t) => out.arrival_times.push(t),
@@ -268,6 +297,10 @@ pub fn event_arrival_times(
             ranges.len()
         )));
     }
+    let mut errors_us: Vec<f64> = out.arrival_times.iter().map(|t| t.error_s * 1e6).collect();
+    errors_us.sort_by(f64::total_cmp);
+    out.median_error_us = errors_us.get(errors_us.len() / 2).copied();
+    out.arrival_time_count = out.arrival_times.len();
     Ok(out)
 }
 

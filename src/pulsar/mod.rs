@@ -36,6 +36,9 @@ pub enum PulsarError {
     /// A timing model that cannot be read or is not physical.
     #[error("timing model: {0}")]
     Model(String),
+    /// A timing model outside its physical range, or a parameter name it does not know.
+    #[error("timing model: {0}")]
+    InvalidModel(#[from] model::ModelError),
     /// The fit lost phase connection or did not converge.
     #[error("{0}")]
     Fit(String),

@@ -28,6 +28,7 @@ use std::f64::consts::{PI, TAU};
 
 use super::PulsarError;
 use super::spin::Spin;
+use crate::fit::{Parameter, UnknownParameter, parse_parameter};
 
 /// Dispersion constant K, s MHz² pc⁻¹ cm³ (common practice).
 pub const DISPERSION_CONSTANT_S_MHZ2: f64 = 4.148808e3;
@@ -64,33 +65,11 @@ pub struct Orbit {
     pub shapiro_shape: f64,
 }
 
-/// A timing model whose values or fit list cannot be used.
-#[derive(Debug, Clone, PartialEq, thiserror::Error)]
-pub enum ModelCheckError {
-    /// The spin part is out of range (its own message).
-    #[error("{0}")]
-    Spin(String),
-    /// A value outside its physical range.
-    #[error("{parameter} = {value}: must be {accepted}")]
-    OutOfRange {
-        /// Parameter as written in model files.
-        parameter: &'static str,
-        /// The value given.
-        value: f64,
-        /// What is accepted.
-        accepted: &'static str,
-    },
-    /// Orbit semi-major axis, Shapiro range or shape out of range.
-    #[error("orbit: projected_semi_major_axis_lt_s and shapiro_range_s must be ≥ 0 and shapiro_shape in [−1, 1]")]
-    OrbitShape,
-    /// The fit list names a parameter this model does not have.
-    #[error("fit names '{name}', which this model cannot fit; use {known}")]
-    UnknownFitName {
-        /// The name given.
-        name: String,
-        /// The names this model can fit.
-        known: String,
-    },
+impl Orbit {
+    /// Orbital phase from periastron, cycles in [0, 1), at `t_s` seconds after the epoch.
+    pub fn phase_from_periastron_cycles(&self, t_s: f64) -> f64 {
+        ((t_s - self.periastron_time_s) / (self.orbital_period_d * DAY_S)).rem_euclid(1.0)
+    }
 }
 
 /// The full timing model (TOML: see [`TimingModel::from_toml`]).
@@ -141,10 +120,10 @@ pub struct TimingModel {
     /// Binary orbit, if any.
     #[serde(default)]
     pub orbit: Option<Orbit>,
-    /// Names of the parameters to fit (keys of this file; instrument delays as
+    /// The parameters to fit (keys of this file; instrument delays as
     /// `instrument_delay_s:NAME`). The phase offset is always fitted.
     #[serde(default)]
-    pub fit: Vec<String>,
+    pub fit: Vec<FitParameter>,
 }
 
 /// Where the observer was when one arrival time was barycentred, and towards which
@@ -191,28 +170,262 @@ pub struct ArrivalTime {
     pub observer: Option<ObserverGeometry>,
 }
 
-/// Parameter names the model knows, with the order used in design matrices.
-pub const SPIN_PARAMETERS: [&str; 4] =
-    ["phase_offset_cycles", "freq_hz", "freq_deriv_hz_per_s", "freq_second_deriv_hz_per_s2"];
-/// Orbit parameter names.
-pub const ORBIT_PARAMETERS: [&str; 8] = [
-    "orbital_period_d",
-    "projected_semi_major_axis_lt_s",
-    "eccentricity",
-    "periastron_longitude_deg",
-    "periastron_time_s",
-    "einstein_amplitude_s",
-    "shapiro_range_s",
-    "shapiro_shape",
+/// Spin parameters, in the order used in design matrices.
+pub const SPIN_PARAMETERS: [TimingParameter; 4] = [
+    TimingParameter::PhaseOffsetCycles,
+    TimingParameter::FreqHz,
+    TimingParameter::FreqDerivHzPerS,
+    TimingParameter::FreqSecondDerivHzPerS2,
+];
+/// Orbit parameters, in the order of the orbit partials.
+pub const ORBIT_PARAMETERS: [TimingParameter; 8] = [
+    TimingParameter::OrbitalPeriodD,
+    TimingParameter::ProjectedSemiMajorAxisLtS,
+    TimingParameter::Eccentricity,
+    TimingParameter::PeriastronLongitudeDeg,
+    TimingParameter::PeriastronTimeS,
+    TimingParameter::EinsteinAmplitudeS,
+    TimingParameter::ShapiroRangeS,
+    TimingParameter::ShapiroShape,
 ];
 
-/// Position and proper-motion parameter names (see the module documentation).
-pub const POSITION_PARAMETERS: [&str; 4] = [
-    "position_offset_ra_mas",
-    "position_offset_dec_mas",
-    "proper_motion_ra_mas_per_yr",
-    "proper_motion_dec_mas_per_yr",
+/// Position and proper-motion parameters (see the module documentation).
+pub const POSITION_PARAMETERS: [TimingParameter; 4] = [
+    TimingParameter::PositionOffsetRaMas,
+    TimingParameter::PositionOffsetDecMas,
+    TimingParameter::ProperMotionRaMasPerYr,
+    TimingParameter::ProperMotionDecMasPerYr,
 ];
+
+/// A parameter of the timing model with a fixed name (every key of the model file that
+/// holds a number, except the epoch). Instrument delays are keyed by instrument name and are
+/// [`FitParameter::InstrumentDelay`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum TimingParameter {
+    /// Phase at the epoch, cycles.
+    PhaseOffsetCycles,
+    /// Spin frequency ν, Hz.
+    FreqHz,
+    /// ν̇, Hz/s.
+    FreqDerivHzPerS,
+    /// ν̈, Hz/s².
+    FreqSecondDerivHzPerS2,
+    /// Dispersion measure, pc cm⁻³.
+    DispersionMeasurePcPerCm3,
+    /// Position offset east (Δα cos δ), mas.
+    PositionOffsetRaMas,
+    /// Position offset north (Δδ), mas.
+    PositionOffsetDecMas,
+    /// Proper motion east, mas/yr.
+    ProperMotionRaMasPerYr,
+    /// Proper motion north, mas/yr.
+    ProperMotionDecMasPerYr,
+    /// Orbital period, d.
+    OrbitalPeriodD,
+    /// Projected semi-major axis, light seconds.
+    ProjectedSemiMajorAxisLtS,
+    /// Eccentricity.
+    Eccentricity,
+    /// Longitude of periastron, degrees.
+    PeriastronLongitudeDeg,
+    /// Time of periastron, s after the epoch.
+    PeriastronTimeS,
+    /// Einstein delay amplitude γ, s.
+    EinsteinAmplitudeS,
+    /// Shapiro range r, s.
+    ShapiroRangeS,
+    /// Shapiro shape s = sin i.
+    ShapiroShape,
+}
+
+impl TimingParameter {
+    /// True for the parameters of the `[orbit]` table.
+    pub fn is_orbit(self) -> bool {
+        ORBIT_PARAMETERS.contains(&self)
+    }
+}
+
+impl Parameter for TimingParameter {
+    const ALL: &'static [TimingParameter] = &[
+        TimingParameter::PhaseOffsetCycles,
+        TimingParameter::FreqHz,
+        TimingParameter::FreqDerivHzPerS,
+        TimingParameter::FreqSecondDerivHzPerS2,
+        TimingParameter::DispersionMeasurePcPerCm3,
+        TimingParameter::PositionOffsetRaMas,
+        TimingParameter::PositionOffsetDecMas,
+        TimingParameter::ProperMotionRaMasPerYr,
+        TimingParameter::ProperMotionDecMasPerYr,
+        TimingParameter::OrbitalPeriodD,
+        TimingParameter::ProjectedSemiMajorAxisLtS,
+        TimingParameter::Eccentricity,
+        TimingParameter::PeriastronLongitudeDeg,
+        TimingParameter::PeriastronTimeS,
+        TimingParameter::EinsteinAmplitudeS,
+        TimingParameter::ShapiroRangeS,
+        TimingParameter::ShapiroShape,
+    ];
+
+    fn name(self) -> &'static str {
+        use TimingParameter as T;
+        match self {
+            T::PhaseOffsetCycles => "phase_offset_cycles",
+            T::FreqHz => "freq_hz",
+            T::FreqDerivHzPerS => "freq_deriv_hz_per_s",
+            T::FreqSecondDerivHzPerS2 => "freq_second_deriv_hz_per_s2",
+            T::DispersionMeasurePcPerCm3 => "dispersion_measure_pc_per_cm3",
+            T::PositionOffsetRaMas => "position_offset_ra_mas",
+            T::PositionOffsetDecMas => "position_offset_dec_mas",
+            T::ProperMotionRaMasPerYr => "proper_motion_ra_mas_per_yr",
+            T::ProperMotionDecMasPerYr => "proper_motion_dec_mas_per_yr",
+            T::OrbitalPeriodD => "orbital_period_d",
+            T::ProjectedSemiMajorAxisLtS => "projected_semi_major_axis_lt_s",
+            T::Eccentricity => "eccentricity",
+            T::PeriastronLongitudeDeg => "periastron_longitude_deg",
+            T::PeriastronTimeS => "periastron_time_s",
+            T::EinsteinAmplitudeS => "einstein_amplitude_s",
+            T::ShapiroRangeS => "shapiro_range_s",
+            T::ShapiroShape => "shapiro_shape",
+        }
+    }
+
+    fn unit(self) -> &'static str {
+        use TimingParameter as T;
+        match self {
+            T::PhaseOffsetCycles => "cycle",
+            T::FreqHz => "Hz",
+            T::FreqDerivHzPerS => "Hz/s",
+            T::FreqSecondDerivHzPerS2 => "Hz/s²",
+            T::DispersionMeasurePcPerCm3 => "pc cm⁻³",
+            T::PositionOffsetRaMas | T::PositionOffsetDecMas => "mas",
+            T::ProperMotionRaMasPerYr | T::ProperMotionDecMasPerYr => "mas/yr",
+            T::OrbitalPeriodD => "d",
+            T::ProjectedSemiMajorAxisLtS => "lt-s",
+            T::Eccentricity | T::ShapiroShape => "1",
+            T::PeriastronLongitudeDeg => "deg",
+            T::PeriastronTimeS | T::EinsteinAmplitudeS | T::ShapiroRangeS => "s",
+        }
+    }
+}
+
+impl std::fmt::Display for TimingParameter {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// Prefix of an instrument delay's name in fit lists: `instrument_delay_s:NAME`.
+pub const INSTRUMENT_DELAY_PREFIX: &str = "instrument_delay_s:";
+
+/// A parameter a timing fit can adjust: one of the fixed [`TimingParameter`]s or the delay
+/// of one named instrument. Written and read as its name (`freq_hz`,
+/// `instrument_delay_s:NAME`); an unknown name is refused with the list of known ones.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize, serde::Deserialize)]
+#[serde(try_from = "String", into = "String")]
+pub enum FitParameter {
+    /// A parameter with a fixed name.
+    Model(TimingParameter),
+    /// The constant delay of the named instrument, s.
+    InstrumentDelay(String),
+}
+
+impl FitParameter {
+    /// Unit of the value.
+    pub fn unit(&self) -> &'static str {
+        match self {
+            FitParameter::Model(p) => p.unit(),
+            FitParameter::InstrumentDelay(_) => "s",
+        }
+    }
+}
+
+impl From<TimingParameter> for FitParameter {
+    fn from(p: TimingParameter) -> FitParameter {
+        FitParameter::Model(p)
+    }
+}
+
+impl From<&TimingParameter> for FitParameter {
+    fn from(p: &TimingParameter) -> FitParameter {
+        FitParameter::Model(*p)
+    }
+}
+
+impl From<&FitParameter> for FitParameter {
+    fn from(p: &FitParameter) -> FitParameter {
+        p.clone()
+    }
+}
+
+impl PartialEq<TimingParameter> for FitParameter {
+    fn eq(&self, other: &TimingParameter) -> bool {
+        *self == FitParameter::Model(*other)
+    }
+}
+
+impl std::fmt::Display for FitParameter {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            FitParameter::Model(p) => f.write_str(p.name()),
+            FitParameter::InstrumentDelay(name) => write!(f, "{INSTRUMENT_DELAY_PREFIX}{name}"),
+        }
+    }
+}
+
+impl std::str::FromStr for FitParameter {
+    type Err = UnknownParameter;
+
+    /// Parses `freq_hz`, …, or `instrument_delay_s:NAME` (NAME not empty).
+    fn from_str(s: &str) -> Result<FitParameter, UnknownParameter> {
+        let wanted = s.trim();
+        if let Some(name) = wanted.strip_prefix(INSTRUMENT_DELAY_PREFIX)
+            && !name.trim().is_empty()
+        {
+            return Ok(FitParameter::InstrumentDelay(name.trim().to_string()));
+        }
+        parse_parameter::<TimingParameter>(wanted).map(FitParameter::Model).map_err(|mut e| {
+            e.known.push("instrument_delay_s:NAME");
+            e
+        })
+    }
+}
+
+impl TryFrom<String> for FitParameter {
+    type Error = UnknownParameter;
+    fn try_from(s: String) -> Result<FitParameter, UnknownParameter> {
+        s.parse()
+    }
+}
+
+impl From<FitParameter> for String {
+    fn from(p: FitParameter) -> String {
+        p.to_string()
+    }
+}
+
+/// Why a timing model is refused.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ModelError {
+    /// The spin part is not physical.
+    #[error("{0}")]
+    Spin(String),
+    /// A value outside its physical range.
+    #[error("{key} = {value}: must be {expected}")]
+    OutOfRange {
+        /// The model-file key.
+        key: &'static str,
+        /// The value given.
+        value: f64,
+        /// What would be accepted.
+        expected: &'static str,
+    },
+    /// An orbit parameter is fitted or set in a model without an `[orbit]` table.
+    #[error("fit names '{0}', an orbit parameter, but the model has no [orbit] table; add one or remove the name")]
+    NeedsOrbit(TimingParameter),
+    /// A parameter name that the model does not know.
+    #[error(transparent)]
+    Unknown(#[from] UnknownParameter),
+}
 
 /// Emission time and the pieces needed for derivatives.
 #[derive(Debug, Clone, Copy)]
@@ -255,123 +468,114 @@ impl TimingModel {
         )
     }
 
-    /// Checks physical ranges and that every fitted name is known.
-    pub fn validate(&self) -> Result<(), ModelCheckError> {
-        self.spin().validate().map_err(|e| ModelCheckError::Spin(e.to_string()))?;
-        if !self.dispersion_measure_pc_per_cm3.is_finite() || self.dispersion_measure_pc_per_cm3 < 0.0 {
-            return Err(ModelCheckError::OutOfRange {
-                parameter: "dispersion_measure_pc_per_cm3",
-                value: self.dispersion_measure_pc_per_cm3,
-                accepted: "≥ 0",
-            });
-        }
+    /// Checks physical ranges and that every fitted orbit parameter has an orbit.
+    pub fn validate(&self) -> Result<(), ModelError> {
+        self.spin().validate().map_err(|e| ModelError::Spin(e.to_string()))?;
+        let range = |key, value: f64, ok: bool, expected| {
+            if ok { Ok(()) } else { Err(ModelError::OutOfRange { key, value, expected }) }
+        };
+        let dm = self.dispersion_measure_pc_per_cm3;
+        range("dispersion_measure_pc_per_cm3", dm, dm.is_finite() && dm >= 0.0, "≥ 0")?;
         if let Some(o) = &self.orbit {
-            if !(o.orbital_period_d > 0.0 && o.orbital_period_d.is_finite()) {
-                return Err(ModelCheckError::OutOfRange {
-                    parameter: "orbit.orbital_period_d",
-                    value: o.orbital_period_d,
-                    accepted: "> 0",
-                });
-            }
-            if !(0.0..1.0).contains(&o.eccentricity) {
-                return Err(ModelCheckError::OutOfRange {
-                    parameter: "orbit.eccentricity",
-                    value: o.eccentricity,
-                    accepted: "in [0, 1)",
-                });
-            }
-            if !(o.projected_semi_major_axis_lt_s >= 0.0)
-                || !(o.shapiro_range_s >= 0.0)
-                || !(-1.0..=1.0).contains(&o.shapiro_shape)
-            {
-                return Err(ModelCheckError::OrbitShape);
-            }
+            let pb = o.orbital_period_d;
+            range("orbit.orbital_period_d", pb, pb > 0.0 && pb.is_finite(), "> 0")?;
+            range("orbit.eccentricity", o.eccentricity, (0.0..1.0).contains(&o.eccentricity), "in [0, 1)")?;
+            let x = o.projected_semi_major_axis_lt_s;
+            range("orbit.projected_semi_major_axis_lt_s", x, x >= 0.0 && x.is_finite(), "≥ 0")?;
+            let r = o.shapiro_range_s;
+            range("orbit.shapiro_range_s", r, r >= 0.0 && r.is_finite(), "≥ 0")?;
+            range("orbit.shapiro_shape", o.shapiro_shape, (-1.0..=1.0).contains(&o.shapiro_shape), "in [−1, 1]")?;
         }
-        for name in &self.fit {
-            let known = SPIN_PARAMETERS.contains(&name.as_str())
-                || POSITION_PARAMETERS.contains(&name.as_str())
-                || name == "dispersion_measure_pc_per_cm3"
-                || (ORBIT_PARAMETERS.contains(&name.as_str()) && self.orbit.is_some())
-                || name.strip_prefix("instrument_delay_s:").is_some_and(|n| !n.is_empty());
-            if !known {
-                return Err(ModelCheckError::UnknownFitName {
-                    name: name.clone(),
-                    known: format!(
-                        "{}, dispersion_measure_pc_per_cm3, {}, instrument_delay_s:NAME{}",
-                        SPIN_PARAMETERS.join(", "),
-                        POSITION_PARAMETERS.join(", "),
-                        if self.orbit.is_some() {
-                            format!(", {}", ORBIT_PARAMETERS.join(", "))
-                        } else {
-                            " (orbit parameters need an [orbit] table)".into()
-                        }
-                    ),
-                });
+        for p in &self.fit {
+            if let FitParameter::Model(q) = p
+                && q.is_orbit()
+                && self.orbit.is_none()
+            {
+                return Err(ModelError::NeedsOrbit(*q));
             }
         }
         Ok(())
     }
 
-    /// Value of a named parameter.
-    pub fn get(&self, name: &str) -> Option<f64> {
-        if let Some(i) = name.strip_prefix("instrument_delay_s:") {
-            return Some(*self.instrument_delays_s.get(i).unwrap_or(&0.0));
-        }
+    /// Value of a parameter (`None` for an orbit parameter of a model without an orbit; an
+    /// instrument without a delay has 0).
+    pub fn get(&self, p: impl Into<FitParameter>) -> Option<f64> {
+        use TimingParameter as T;
+        let q = match p.into() {
+            FitParameter::InstrumentDelay(i) => return Some(*self.instrument_delays_s.get(&i).unwrap_or(&0.0)),
+            FitParameter::Model(q) => q,
+        };
         let o = self.orbit.as_ref();
-        Some(match name {
-            "phase_offset_cycles" => self.phase_offset_cycles,
-            "freq_hz" => self.freq_hz,
-            "freq_deriv_hz_per_s" => self.freq_deriv_hz_per_s,
-            "freq_second_deriv_hz_per_s2" => self.freq_second_deriv_hz_per_s2,
-            "dispersion_measure_pc_per_cm3" => self.dispersion_measure_pc_per_cm3,
-            "position_offset_ra_mas" => self.position_offset_ra_mas,
-            "position_offset_dec_mas" => self.position_offset_dec_mas,
-            "proper_motion_ra_mas_per_yr" => self.proper_motion_ra_mas_per_yr,
-            "proper_motion_dec_mas_per_yr" => self.proper_motion_dec_mas_per_yr,
-            "orbital_period_d" => o?.orbital_period_d,
-            "projected_semi_major_axis_lt_s" => o?.projected_semi_major_axis_lt_s,
-            "eccentricity" => o?.eccentricity,
-            "periastron_longitude_deg" => o?.periastron_longitude_deg,
-            "periastron_time_s" => o?.periastron_time_s,
-            "einstein_amplitude_s" => o?.einstein_amplitude_s,
-            "shapiro_range_s" => o?.shapiro_range_s,
-            "shapiro_shape" => o?.shapiro_shape,
-            _ => return None,
+        Some(match q {
+            T::PhaseOffsetCycles => self.phase_offset_cycles,
+            T::FreqHz => self.freq_hz,
+            T::FreqDerivHzPerS => self.freq_deriv_hz_per_s,
+            T::FreqSecondDerivHzPerS2 => self.freq_second_deriv_hz_per_s2,
+            T::DispersionMeasurePcPerCm3 => self.dispersion_measure_pc_per_cm3,
+            T::PositionOffsetRaMas => self.position_offset_ra_mas,
+            T::PositionOffsetDecMas => self.position_offset_dec_mas,
+            T::ProperMotionRaMasPerYr => self.proper_motion_ra_mas_per_yr,
+            T::ProperMotionDecMasPerYr => self.proper_motion_dec_mas_per_yr,
+            T::OrbitalPeriodD => o?.orbital_period_d,
+            T::ProjectedSemiMajorAxisLtS => o?.projected_semi_major_axis_lt_s,
+            T::Eccentricity => o?.eccentricity,
+            T::PeriastronLongitudeDeg => o?.periastron_longitude_deg,
+            T::PeriastronTimeS => o?.periastron_time_s,
+            T::EinsteinAmplitudeS => o?.einstein_amplitude_s,
+            T::ShapiroRangeS => o?.shapiro_range_s,
+            T::ShapiroShape => o?.shapiro_shape,
         })
     }
 
-    /// Sets a named parameter (ignored for unknown names).
-    pub fn set(&mut self, name: &str, v: f64) {
-        if let Some(i) = name.strip_prefix("instrument_delay_s:") {
-            self.instrument_delays_s.insert(i.to_string(), v);
-            return;
+    /// Value of the parameter called `name`; an unknown name is refused with the known ones.
+    pub fn get_by_name(&self, name: &str) -> Result<Option<f64>, UnknownParameter> {
+        Ok(self.get(name.parse::<FitParameter>()?))
+    }
+
+    /// Sets a parameter. An orbit parameter of a model without an orbit is refused.
+    pub fn set(&mut self, p: impl Into<FitParameter>, v: f64) -> Result<(), ModelError> {
+        use TimingParameter as T;
+        let q = match p.into() {
+            FitParameter::InstrumentDelay(i) => {
+                self.instrument_delays_s.insert(i, v);
+                return Ok(());
+            }
+            FitParameter::Model(q) => q,
+        };
+        if q.is_orbit() && self.orbit.is_none() {
+            return Err(ModelError::NeedsOrbit(q));
         }
-        match name {
-            "phase_offset_cycles" => self.phase_offset_cycles = v,
-            "freq_hz" => self.freq_hz = v,
-            "freq_deriv_hz_per_s" => self.freq_deriv_hz_per_s = v,
-            "freq_second_deriv_hz_per_s2" => self.freq_second_deriv_hz_per_s2 = v,
-            "dispersion_measure_pc_per_cm3" => self.dispersion_measure_pc_per_cm3 = v,
-            "position_offset_ra_mas" => self.position_offset_ra_mas = v,
-            "position_offset_dec_mas" => self.position_offset_dec_mas = v,
-            "proper_motion_ra_mas_per_yr" => self.proper_motion_ra_mas_per_yr = v,
-            "proper_motion_dec_mas_per_yr" => self.proper_motion_dec_mas_per_yr = v,
+        match q {
+            T::PhaseOffsetCycles => self.phase_offset_cycles = v,
+            T::FreqHz => self.freq_hz = v,
+            T::FreqDerivHzPerS => self.freq_deriv_hz_per_s = v,
+            T::FreqSecondDerivHzPerS2 => self.freq_second_deriv_hz_per_s2 = v,
+            T::DispersionMeasurePcPerCm3 => self.dispersion_measure_pc_per_cm3 = v,
+            T::PositionOffsetRaMas => self.position_offset_ra_mas = v,
+            T::PositionOffsetDecMas => self.position_offset_dec_mas = v,
+            T::ProperMotionRaMasPerYr => self.proper_motion_ra_mas_per_yr = v,
+            T::ProperMotionDecMasPerYr => self.proper_motion_dec_mas_per_yr = v,
             _ => {
                 if let Some(o) = self.orbit.as_mut() {
-                    match name {
-                        "orbital_period_d" => o.orbital_period_d = v,
-                        "projected_semi_major_axis_lt_s" => o.projected_semi_major_axis_lt_s = v,
-                        "eccentricity" => o.eccentricity = v,
-                        "periastron_longitude_deg" => o.periastron_longitude_deg = v,
-                        "periastron_time_s" => o.periastron_time_s = v,
-                        "einstein_amplitude_s" => o.einstein_amplitude_s = v,
-                        "shapiro_range_s" => o.shapiro_range_s = v,
-                        "shapiro_shape" => o.shapiro_shape = v,
-                        _ => {}
+                    match q {
+                        T::OrbitalPeriodD => o.orbital_period_d = v,
+                        T::ProjectedSemiMajorAxisLtS => o.projected_semi_major_axis_lt_s = v,
+                        T::Eccentricity => o.eccentricity = v,
+                        T::PeriastronLongitudeDeg => o.periastron_longitude_deg = v,
+                        T::PeriastronTimeS => o.periastron_time_s = v,
+                        T::EinsteinAmplitudeS => o.einstein_amplitude_s = v,
+                        T::ShapiroRangeS => o.shapiro_range_s = v,
+                        _ => o.shapiro_shape = v,
                     }
                 }
             }
         }
+        Ok(())
+    }
+
+    /// Sets the parameter called `name`; an unknown name is refused with the known ones.
+    pub fn set_by_name(&mut self, name: &str, v: f64) -> Result<(), ModelError> {
+        self.set(name.parse::<FitParameter>()?, v)
     }
 
     /// Dispersion delay, s, at observing frequency `freq_mhz`.
@@ -494,33 +698,41 @@ impl TimingModel {
 
     /// Analytic ∂φ/∂p (cycles per parameter unit) for the named parameters.
     /// Delays enter through t_e: ∂φ/∂q = −ν(t_e)·∂Δ/∂q/(1 + ∂Δ_bin/∂t_e) (implicit derivative).
-    pub fn phase_derivatives(&self, toa: &ArrivalTime, names: &[String]) -> Vec<f64> {
+    pub fn phase_derivatives(&self, toa: &ArrivalTime, parameters: &[FitParameter]) -> Vec<f64> {
+        use TimingParameter as T;
         let em = self.emission(toa);
         let t = em.t_e;
         let nu = self.spin().freq_at_hz(t);
         let implicit = 1.0 / (1.0 + em.orbit_rate);
-        names
+        parameters
             .iter()
-            .map(|n| match n.as_str() {
-                "phase_offset_cycles" => 1.0,
-                "freq_hz" => t,
-                "freq_deriv_hz_per_s" => 0.5 * t * t,
-                "freq_second_deriv_hz_per_s2" => t * t * t / 6.0,
-                "dispersion_measure_pc_per_cm3" => match toa.freq_mhz {
-                    Some(f) if f > 0.0 => -nu * implicit * DISPERSION_CONSTANT_S_MHZ2 / (f * f),
-                    _ => 0.0,
-                },
-                other => {
-                    if let Some(inst) = other.strip_prefix("instrument_delay_s:") {
-                        if inst == toa.instrument { -nu * implicit } else { 0.0 }
-                    } else if let Some(k) = POSITION_PARAMETERS.iter().position(|p| *p == other) {
-                        nu * implicit * self.position_delay_s(toa).1[k]
-                    } else if let Some(k) = ORBIT_PARAMETERS.iter().position(|p| *p == other) {
-                        -nu * implicit * em.orbit_partials[k]
+            .map(|p| match p {
+                FitParameter::InstrumentDelay(inst) => {
+                    if *inst == toa.instrument {
+                        -nu * implicit
                     } else {
                         0.0
                     }
                 }
+                FitParameter::Model(q) => match q {
+                    T::PhaseOffsetCycles => 1.0,
+                    T::FreqHz => t,
+                    T::FreqDerivHzPerS => 0.5 * t * t,
+                    T::FreqSecondDerivHzPerS2 => t * t * t / 6.0,
+                    T::DispersionMeasurePcPerCm3 => match toa.freq_mhz {
+                        Some(f) if f > 0.0 => -nu * implicit * DISPERSION_CONSTANT_S_MHZ2 / (f * f),
+                        _ => 0.0,
+                    },
+                    other => {
+                        if let Some(k) = POSITION_PARAMETERS.iter().position(|p| p == other) {
+                            nu * implicit * self.position_delay_s(toa).1[k]
+                        } else if let Some(k) = ORBIT_PARAMETERS.iter().position(|p| p == other) {
+                            -nu * implicit * em.orbit_partials[k]
+                        } else {
+                            0.0
+                        }
+                    }
+                },
             })
             .collect()
     }
@@ -562,10 +774,10 @@ mod tests {
     #[test]
     fn analytic_derivatives_match_numeric() {
         let m = binary_model();
-        let mut names: Vec<String> =
-            SPIN_PARAMETERS.iter().chain(ORBIT_PARAMETERS.iter()).map(|s| s.to_string()).collect();
-        names.push("dispersion_measure_pc_per_cm3".into());
-        names.push("instrument_delay_s:b".into());
+        let mut names: Vec<FitParameter> =
+            SPIN_PARAMETERS.iter().chain(ORBIT_PARAMETERS.iter()).map(Into::into).collect();
+        names.push(TimingParameter::DispersionMeasurePcPerCm3.into());
+        names.push("instrument_delay_s:b".parse().unwrap());
         for (k, t) in [-3.1e6, 1.0e4, 4.4e5, 2.9e7].into_iter().enumerate() {
             let toa = ArrivalTime {
                 t_s: t,
@@ -577,10 +789,10 @@ mod tests {
             let a = m.phase_derivatives(&toa, &names);
             for (j, n) in names.iter().enumerate() {
                 let v = m.get(n).unwrap();
-                let h = 1e-6 * v.abs().max(1e-3) * if n.starts_with("freq") { 1e-4 } else { 1.0 };
+                let h = 1e-6 * v.abs().max(1e-3) * if n.to_string().starts_with("freq") { 1e-4 } else { 1.0 };
                 let (mut up, mut dn) = (m.clone(), m.clone());
-                up.set(n, v + h);
-                dn.set(n, v - h);
+                up.set(n, v + h).unwrap();
+                dn.set(n, v - h).unwrap();
                 let num = (up.phase_cycles(&toa) - dn.phase_cycles(&toa)) / (2.0 * h);
                 let tol = 1e-5 * a[j].abs().max(num.abs()) + 1e-6 * (m.phase_cycles(&toa).abs() * 1e-15 / h).max(1e-9);
                 assert!(
@@ -611,7 +823,7 @@ mod tests {
         // emission time, so a large step (1000 mas, 1000 mas/yr: ~ms delays) keeps the
         // central difference free of rounding while its truncation error stays ≪ 1e-6.
         let m = binary_model();
-        let names: Vec<String> = POSITION_PARAMETERS.iter().map(|s| s.to_string()).collect();
+        let names: Vec<FitParameter> = POSITION_PARAMETERS.iter().map(Into::into).collect();
         for t in [-3.1e6, 1.0e4, 4.4e5, 2.9e7] {
             let toa = ArrivalTime {
                 t_s: t,
@@ -625,8 +837,8 @@ mod tests {
                 let v = m.get(n).unwrap();
                 let h = 1000.0;
                 let (mut up, mut dn) = (m.clone(), m.clone());
-                up.set(n, v + h);
-                dn.set(n, v - h);
+                up.set(n, v + h).unwrap();
+                dn.set(n, v - h).unwrap();
                 let num = (up.phase_cycles(&toa) - dn.phase_cycles(&toa)) / (2.0 * h);
                 let rounding = 4.0 * f64::EPSILON * m.phase_cycles(&toa).abs() / h;
                 assert!(
@@ -664,9 +876,38 @@ mod tests {
         let e = crate::pulsar::profile::fold_events(&m, &[0.0, 1.0], 1e9, "a").unwrap_err().to_string();
         assert!(e.contains("position_offset_ra_mas = 120") && e.contains("--ra/--dec"), "{e}");
         for p in POSITION_PARAMETERS {
-            m.set(p, 0.0);
+            m.set(p, 0.0).unwrap();
         }
         assert!(crate::pulsar::profile::fold_events(&m, &[0.0, 1.0], 1e9, "a").is_ok());
+    }
+
+    #[test]
+    fn unknown_parameter_names_are_refused_with_the_known_ones() {
+        let e = TimingModel::from_toml("epoch_mjd_day_tdb = 60000\nfreq_hz = 1.0\nfit = [\"freq_dot\"]\n", "m.toml")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("m.toml") && e.contains("freq_dot") && e.contains("freq_deriv_hz_per_s"), "{e}");
+        assert!(e.contains("instrument_delay_s:NAME"), "{e}");
+        let mut m = binary_model();
+        assert!(m.set_by_name("spin_rate", 1.0).unwrap_err().to_string().contains("known parameters"));
+        assert!(m.get_by_name("spin_rate").is_err());
+        m.set_by_name("instrument_delay_s:c", 4e-6).unwrap();
+        assert_eq!(m.get_by_name("instrument_delay_s:c").unwrap(), Some(4e-6));
+        let e =
+            TimingModel::from_toml("epoch_mjd_day_tdb = 60000\nfreq_hz = 1.0\nfit = [\"eccentricity\"]\n", "m.toml")
+                .unwrap_err()
+                .to_string();
+        assert!(e.contains("no [orbit] table"), "{e}");
+        let mut isolated = m.clone();
+        isolated.orbit = None;
+        assert_eq!(
+            isolated.set(TimingParameter::Eccentricity, 0.1),
+            Err(ModelError::NeedsOrbit(TimingParameter::Eccentricity))
+        );
+        // every fixed name parses back to its parameter
+        for p in TimingParameter::ALL {
+            assert_eq!(p.name().parse::<FitParameter>().unwrap(), FitParameter::Model(*p));
+        }
     }
 
     #[test]

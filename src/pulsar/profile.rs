@@ -17,6 +17,7 @@ use std::f64::consts::TAU;
 
 use super::PulsarError;
 use super::model::{ArrivalTime, TimingModel};
+use super::statistics::HTest;
 use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
 
 /// Rotational phase (cycles, fractional part in [0, 1)) of each event under a timing model.
@@ -34,7 +35,7 @@ pub fn fold_events(
     valid_for_s: f64,
     instrument: &str,
 ) -> Result<Vec<f64>, PulsarError> {
-    model.validate().map_err(|e| PulsarError::Model(e.to_string()))?;
+    model.validate()?;
     model.require_no_position_offset()?;
     check_event_times(times_s, valid_for_s)?;
     Ok(times_s.iter().map(|&t| event_phase_cycles(model, t, instrument).rem_euclid(1.0)).collect())
@@ -101,7 +102,8 @@ pub fn repeated_times(times_s: &[f64]) -> (usize, Option<usize>) {
     (count, first)
 }
 
-fn check_weights(n: usize, weights: Option<&[f64]>) -> Result<(), PulsarError> {
+/// Checks weights: one per photon, each in [0, 1]. Errors name the photon (1-based).
+pub fn check_weights(n: usize, weights: Option<&[f64]>) -> Result<(), PulsarError> {
     if let Some(w) = weights {
         if w.len() != n {
             return Err(PulsarError::Input(format!("{} weights for {n} photons; give one weight per photon", w.len())));
@@ -121,7 +123,7 @@ fn check_weights(n: usize, weights: Option<&[f64]>) -> Result<(), PulsarError> {
 }
 
 /// A binned pulse profile.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct BinnedProfile {
     /// Bin centres, cycles.
     pub phase_center_cycles: Vec<f64>,
@@ -556,6 +558,90 @@ pub fn gaussian_template(empirical: &PulseTemplate, components: usize) -> Result
         gaussian_components: comps,
         photons: empirical.photons,
         sum_weights_squared: empirical.sum_weights_squared,
+    })
+}
+
+/// What `pulse_profile` makes: bins, template and where the model applies.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct ProfileRequest {
+    /// Phase bins of the profile (≥ 2).
+    pub bins: usize,
+    /// Harmonics n of the Fourier template (≥ 1).
+    pub harmonics: usize,
+    /// Make the template from this many wrapped Gaussian components instead (1..=5).
+    pub gaussian_components: Option<usize>,
+    /// Half-width, s, of the interval around the model epoch where the model is trusted.
+    pub valid_for_s: f64,
+    /// Instrument name for the model's instrument delays.
+    pub instrument: String,
+}
+
+/// A folded pulse profile with its template and periodicity tests.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PulseProfile {
+    /// Events folded.
+    pub events: usize,
+    /// Phase bins.
+    pub bins: usize,
+    /// Harmonics of the Fourier template.
+    pub harmonics: usize,
+    /// Σ w over all photons (the count without weights).
+    pub total_weight: f64,
+    /// H-test of the folded phases.
+    pub h_test: HTest,
+    /// Z²ₙ of the folded phases with n = `harmonics`.
+    pub z2_of_template_harmonics: f64,
+    /// Kind of the template ("fourier" or Gaussian components), as in `template.kind`.
+    pub template_kind: String,
+    /// Phase of the template's maximum, cycles in [0, 1).
+    pub template_peak_phase_cycles: f64,
+    /// The binned profile.
+    pub profile: BinnedProfile,
+    /// The template's prediction for each bin of `profile` (relative intensity, diluted by
+    /// the background when weighted; see [`BinnedProfile::expected_relative_intensity`]).
+    pub template_density: Vec<f64>,
+    /// The template that `event_arrival_times` matches.
+    pub template: PulseTemplate,
+    /// The empirical Fourier coefficients of the folded phases (with errors).
+    pub empirical_fourier: PulseTemplate,
+}
+
+/// Folds barycentric event times with a timing model and makes the binned profile, the
+/// template (Fourier, or Gaussian components fitted to it) and the H and Z²ₙ tests.
+///
+/// Given: the model, event times in seconds after its epoch (TDB, barycentric, sorted),
+/// optional weights in [0, 1], the request. Errors: as [`fold_events`], [`binned_profile`],
+/// [`fourier_template`] and [`gaussian_template`], naming the event or photon (1-based).
+pub fn pulse_profile(
+    model: &TimingModel,
+    times_s: &[f64],
+    weights: Option<&[f64]>,
+    request: &ProfileRequest,
+) -> Result<PulseProfile, PulsarError> {
+    let phases = fold_events(model, times_s, request.valid_for_s, &request.instrument)?;
+    let profile = binned_profile(&phases, weights, request.bins)?;
+    let empirical = fourier_template(&phases, weights, request.harmonics)?;
+    let template = match request.gaussian_components {
+        Some(c) => gaussian_template(&empirical, c)?,
+        None => empirical.clone(),
+    };
+    let h_test = super::statistics::h_test(&phases, weights)?;
+    let z2 = super::statistics::z2n(&phases, weights, request.harmonics)?;
+    let template_density =
+        profile.phase_center_cycles.iter().map(|x| profile.expected_relative_intensity(&template, *x)).collect();
+    Ok(PulseProfile {
+        events: phases.len(),
+        bins: request.bins,
+        harmonics: request.harmonics,
+        total_weight: profile.total_weight,
+        h_test,
+        z2_of_template_harmonics: z2,
+        template_kind: template.kind.clone(),
+        template_peak_phase_cycles: template.peak_phase_cycles(),
+        profile,
+        template_density,
+        template,
+        empirical_fourier: empirical,
     })
 }
 

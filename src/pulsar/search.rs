@@ -17,7 +17,7 @@ pub const RESEED_EVERY: usize = 256;
 const CHUNK: usize = 32_768;
 
 /// A rectangular grid of trial frequencies and frequency derivatives.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct SpinGrid {
     /// First trial frequency, Hz.
     pub start_freq_hz: f64,
@@ -53,7 +53,7 @@ impl SpinGrid {
         if !(oversample >= 1.0 && oversample.is_finite()) {
             return Err(PulsarError::Input(format!("oversampling {oversample}: use a number ≥ 1")));
         }
-        if !(fdot_min <= fdot_max) {
+        if fdot_min.is_nan() || fdot_max.is_nan() || fdot_min > fdot_max {
             return Err(PulsarError::Input(format!("frequency-derivative range {fdot_min}..{fdot_max} Hz/s is empty")));
         }
         let step = 1.0 / (oversample * baseline_s);
@@ -240,7 +240,7 @@ pub fn z2_grid_naive(
 }
 
 /// The best trial of a search and its significance.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct SearchPeak {
     /// Frequency of the best trial, Hz.
     pub freq_hz: f64,
@@ -294,6 +294,91 @@ pub fn best_trial(result: &Z2Grid) -> SearchPeak {
         false_alarm: pc,
         significance_sigma: sigma_equivalent(pc),
     }
+}
+
+/// What `search_pulsations` searches: the grid limits and the statistic.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PulsationSearchRequest {
+    /// Lowest trial frequency, Hz.
+    pub min_freq_hz: f64,
+    /// Highest trial frequency, Hz.
+    pub max_freq_hz: f64,
+    /// Lowest trial frequency derivative, Hz/s.
+    pub min_freq_deriv_hz_per_s: f64,
+    /// Highest trial frequency derivative, Hz/s.
+    pub max_freq_deriv_hz_per_s: f64,
+    /// Oversampling of the independent frequency step 1/T (≥ 1).
+    pub oversampling: f64,
+    /// Harmonics n of Z²ₙ (≥ 1; 20 or more also gives the H-test at the best trial).
+    pub harmonics: usize,
+}
+
+/// Result of a pulsation search of barycentred events.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PulsationSearch {
+    /// Events searched.
+    pub events: usize,
+    /// Reference epoch of the trial phases (the middle of the span), integer MJD day (TDB).
+    pub epoch_mjd_day_tdb: i64,
+    /// Reference epoch, seconds of that day (TDB).
+    pub epoch_seconds_of_day_tdb: f64,
+    /// The same epoch as one MJD (TDB) number, for reading (~1 µs resolution).
+    pub epoch_mjd_tdb: f64,
+    /// Span of the events, s.
+    pub baseline_s: f64,
+    /// The trial grid.
+    pub grid: SpinGrid,
+    /// The best trial and its trials-corrected significance.
+    pub best: SearchPeak,
+}
+
+/// Z²ₙ search of barycentric (TDB) event times over the grid of `request`.
+///
+/// Given: event instants (TDB at the barycentre, any order), optional weights in [0, 1]
+/// (one per event), the request. The trial phases are counted from the middle of the span,
+/// which decorrelates ν and ν̇. Returned: the summary (best trial with trials-corrected
+/// false alarm) and the whole grid of Z²ₙ values. Errors: no events, a zero span, a bad
+/// grid or bad weights (naming the event, 1-based).
+pub fn search_pulsations(
+    instants: &[crate::time::Instant],
+    weights: Option<&[f64]>,
+    request: &PulsationSearchRequest,
+) -> Result<(PulsationSearch, Z2Grid), PulsarError> {
+    let Some(first) = instants.first() else {
+        return Err(PulsarError::Input("no events: a pulsation search needs photons".into()));
+    };
+    let (mut lo, mut hi) = (0.0_f64, 0.0_f64);
+    for t in instants {
+        let s = t.seconds_since(first);
+        lo = lo.min(s);
+        hi = hi.max(s);
+    }
+    let span = hi - lo;
+    let epoch = first.add_seconds(lo + 0.5 * span);
+    let times: Vec<f64> = instants.iter().map(|t| t.seconds_since(&epoch)).collect();
+    let grid = SpinGrid::from_baseline(
+        request.min_freq_hz,
+        request.max_freq_hz,
+        span,
+        request.oversampling,
+        request.min_freq_deriv_hz_per_s,
+        request.max_freq_deriv_hz_per_s,
+    )?;
+    let spectrum = z2_grid(&times, weights, request.harmonics, &grid)?;
+    let best = best_trial(&spectrum);
+    let (mjd1, mjd2) = epoch.mjd_two_part();
+    Ok((
+        PulsationSearch {
+            events: times.len(),
+            epoch_mjd_day_tdb: epoch.mjd_day(),
+            epoch_seconds_of_day_tdb: epoch.seconds_of_day(),
+            epoch_mjd_tdb: mjd1 + mjd2,
+            baseline_s: span,
+            grid,
+            best,
+        },
+        spectrum,
+    ))
 }
 
 #[cfg(test)]

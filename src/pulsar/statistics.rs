@@ -125,7 +125,7 @@ pub fn chi2_false_alarm(statistic: f64, dof: usize) -> f64 {
 }
 
 /// Result of the H-test.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct HTest {
     /// H = max over m of (Z²ₘ − 4m + 4).
     pub h: f64,

@@ -8,24 +8,24 @@
 //! ~1e-16·|φ| cycles (20 ns for 300 Hz over ±3 yr).
 
 use super::PulsarError;
-use super::model::{ArrivalTime, POSITION_PARAMETERS, TimingModel};
+use super::model::{ArrivalTime, FitParameter, POSITION_PARAMETERS, TimingModel, TimingParameter};
 use crate::arrival::Source;
 use crate::constants::SECONDS_PER_DAY;
-use crate::fit::weighted_linear_lsq;
+use crate::fit::{Estimate, Parameter, UnknownParameter, weighted_linear_lsq};
 
 /// Result of a timing fit.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct TimingFit {
-    /// The fitted model.
-    #[serde(skip)]
+    /// The fitted model (the keys of the model file).
     pub model: TimingModel,
-    /// Names of the fitted parameters (phase offset first).
-    pub parameters: Vec<String>,
+    /// The fitted parameters (phase offset first), written by name.
+    pub parameters: Vec<FitParameter>,
     /// Fitted values, in the units of their names.
     pub values: Vec<f64>,
     /// 1-σ uncertainties (from the covariance, not rescaled by χ²/dof).
     pub uncertainties: Vec<f64>,
-    /// Covariance matrix, row-major.
+    /// Covariance matrix, row-major (p × p for p parameters), in the products of the
+    /// parameters' units.
     pub covariance: Vec<f64>,
     /// χ² of the time residuals.
     pub chi2: f64,
@@ -39,6 +39,50 @@ pub struct TimingFit {
     pub pulse_numbers: Vec<f64>,
     /// Iterations used.
     pub iterations: usize,
+}
+
+impl TimingFit {
+    /// Every fitted parameter as an [`Estimate`] (value and 1σ), in fit order.
+    pub fn estimates(&self) -> Vec<Estimate<FitParameter>> {
+        self.parameters
+            .iter()
+            .enumerate()
+            .map(|(i, p)| Estimate { parameter: p.clone(), value: self.values[i], sigma: self.uncertainties[i] })
+            .collect()
+    }
+
+    /// The estimate of `p`, if it was fitted.
+    pub fn estimate(&self, p: impl Into<FitParameter>) -> Option<Estimate<FitParameter>> {
+        let p = p.into();
+        let i = self.parameters.iter().position(|q| *q == p)?;
+        Some(Estimate { parameter: p, value: self.values[i], sigma: self.uncertainties[i] })
+    }
+
+    /// Covariance of two fitted parameters.
+    pub fn covariance_of(&self, a: impl Into<FitParameter>, b: impl Into<FitParameter>) -> Option<f64> {
+        let (a, b) = (a.into(), b.into());
+        let n = self.parameters.len();
+        let i = self.parameters.iter().position(|q| *q == a)?;
+        let j = self.parameters.iter().position(|q| *q == b)?;
+        self.covariance.get(i * n + j).copied()
+    }
+
+    /// The estimate of the parameter called `name`; an unknown name, or one this fit did not
+    /// adjust, is refused with the names it did fit.
+    pub fn by_name(&self, name: &str) -> Result<Estimate<FitParameter>, UnknownParameter> {
+        let refuse =
+            || UnknownParameter { name: name.to_string(), known: self.parameters.iter().map(fitted_name).collect() };
+        let p: FitParameter = name.parse().map_err(|_| refuse())?;
+        self.estimate(p).ok_or_else(refuse)
+    }
+}
+
+/// A static name for a fitted parameter (instrument delays share the generic form).
+fn fitted_name(p: &FitParameter) -> &'static str {
+    match p {
+        FitParameter::Model(q) => q.name(),
+        FitParameter::InstrumentDelay(_) => "instrument_delay_s:NAME",
+    }
 }
 
 /// Checks arrival times: finite, errors > 0, no duplicates (same time and instrument).
@@ -84,18 +128,22 @@ pub fn fit_timing_model(
     max_iterations: usize,
 ) -> Result<TimingFit, PulsarError> {
     check_arrival_times(toas)?;
-    start.validate().map_err(|e| PulsarError::Model(e.to_string()))?;
+    start.validate()?;
     if start.refines_position()
         && let Some(i) = toas.iter().position(|a| a.observer.is_none())
     {
         return Err(PulsarError::Input(format!(
             "the model refines the source position ({}), which needs the observer's barycentric position at each arrival time, but arrival time {} has none: it was given already at the barycentre (e.g. clock bjd_tdb). Give the arrival times as recorded at the observer (e.g. clock mjd_utc with a site, or at the geocentre) so they are barycentred here, or remove the position parameters from the model",
-            POSITION_PARAMETERS.join(", "),
+            POSITION_PARAMETERS.map(|p| p.to_string()).join(", "),
             i + 1
         )));
     }
-    let mut names = vec!["phase_offset_cycles".to_string()];
-    names.extend(start.fit.iter().filter(|n| n.as_str() != "phase_offset_cycles").cloned());
+    let mut names = vec![FitParameter::Model(TimingParameter::PhaseOffsetCycles)];
+    for n in &start.fit {
+        if !names.contains(n) {
+            names.push(n.clone());
+        }
+    }
     let p = names.len();
     if toas.len() <= p {
         return Err(PulsarError::Input(format!(
@@ -147,7 +195,7 @@ pub fn fit_timing_model(
                 converged = false;
             }
             let v = model.get(&names[j]).unwrap_or(0.0);
-            model.set(&names[j], v + step);
+            model.set(&names[j], v + step)?;
         }
         model.validate().map_err(|e| {
             PulsarError::Fit(format!("the fit left the physical range ({e}); start from a better model"))
@@ -188,7 +236,7 @@ pub fn fit_timing_model(
 }
 
 /// The source position and proper motion implied by a fit that refined them.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct FittedPosition {
     /// Epoch of the position (the model epoch), MJD (TDB).
     pub epoch_mjd_tdb: f64,
@@ -220,7 +268,7 @@ pub fn fitted_position(fit: &TimingFit, source: &Source) -> Option<FittedPositio
     if !m.refines_position() {
         return None;
     }
-    let sigma = |name: &str| fit.parameters.iter().position(|p| p == name).map_or(0.0, |j| fit.uncertainties[j]);
+    let sigma = |p: TimingParameter| fit.parameters.iter().position(|q| *q == p).map_or(0.0, |j| fit.uncertainties[j]);
     let n0 = source.direction_at(&m.epoch()).unit;
     let rho = (n0[0] * n0[0] + n0[1] * n0[1]).sqrt();
     let (east, north) = if rho > 1e-15 {
@@ -237,13 +285,56 @@ pub fn fitted_position(fit: &TimingFit, source: &Source) -> Option<FittedPositio
     Some(FittedPosition {
         epoch_mjd_tdb: m.epoch_mjd_day_tdb as f64 + m.epoch_seconds_of_day_tdb / SECONDS_PER_DAY,
         ra_deg,
-        ra_uncertainty_mas: sigma("position_offset_ra_mas"),
+        ra_uncertainty_mas: sigma(TimingParameter::PositionOffsetRaMas),
         dec_deg,
-        dec_uncertainty_mas: sigma("position_offset_dec_mas"),
+        dec_uncertainty_mas: sigma(TimingParameter::PositionOffsetDecMas),
         proper_motion_ra_mas_per_yr: source.proper_motion_ra_mas_per_yr + m.proper_motion_ra_mas_per_yr,
-        proper_motion_ra_uncertainty_mas_per_yr: sigma("proper_motion_ra_mas_per_yr"),
+        proper_motion_ra_uncertainty_mas_per_yr: sigma(TimingParameter::ProperMotionRaMasPerYr),
         proper_motion_dec_mas_per_yr: source.proper_motion_dec_mas_per_yr + m.proper_motion_dec_mas_per_yr,
-        proper_motion_dec_uncertainty_mas_per_yr: sigma("proper_motion_dec_mas_per_yr"),
+        proper_motion_dec_uncertainty_mas_per_yr: sigma(TimingParameter::ProperMotionDecMasPerYr),
+    })
+}
+
+/// A timing solution: the fit, its residual statistics and the refined position.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct TimingSolution {
+    /// Arrival times fitted.
+    pub arrival_times: usize,
+    /// The fit: model, parameters, uncertainties, covariance, residuals.
+    pub fit: TimingFit,
+    /// χ² per degree of freedom.
+    pub reduced_chi2: f64,
+    /// Weighted root-mean-square time residual √(Σ rᵢ²/σᵢ² / Σ 1/σᵢ²), µs.
+    pub weighted_rms_residual_us: f64,
+    /// Orbital phase from periastron of each arrival time, cycles (empty without an orbit).
+    pub orbital_phase_cycles: Vec<f64>,
+    /// The corrected position and proper motion, when the model refines them.
+    pub position: Option<FittedPosition>,
+}
+
+/// Phase-connected fit of `start` to `toas` ([`fit_timing_model`]) with its residual
+/// statistics and, when the model refines the position, the corrected position of `source`
+/// (the source the arrival times were barycentred towards; [`fitted_position`]).
+pub fn fit_timing(
+    start: &TimingModel,
+    toas: &[ArrivalTime],
+    max_iterations: usize,
+    source: &Source,
+) -> Result<TimingSolution, PulsarError> {
+    let fit = fit_timing_model(start, toas, max_iterations)?;
+    let weight_sum: f64 = toas.iter().map(|a| a.error_s.powi(-2)).sum();
+    let weighted: f64 = fit.residual_s.iter().zip(toas).map(|(r, a)| (r / a.error_s).powi(2)).sum();
+    let orbital_phase_cycles = match &fit.model.orbit {
+        Some(o) => toas.iter().map(|a| o.phase_from_periastron_cycles(a.t_s)).collect(),
+        None => vec![],
+    };
+    Ok(TimingSolution {
+        arrival_times: toas.len(),
+        reduced_chi2: fit.chi2 / fit.dof.max(1) as f64,
+        weighted_rms_residual_us: (weighted / weight_sum).sqrt() * 1e6,
+        orbital_phase_cycles,
+        position: fitted_position(&fit, source),
+        fit,
     })
 }
 
@@ -266,7 +357,7 @@ mod tests {
         model.proper_motion_dec_mas_per_yr = -4.0;
         let fit = TimingFit {
             model: model.clone(),
-            parameters: vec!["phase_offset_cycles".into(), "position_offset_ra_mas".into()],
+            parameters: vec![TimingParameter::PhaseOffsetCycles.into(), TimingParameter::PositionOffsetRaMas.into()],
             values: vec![0.0, theta_mas],
             uncertainties: vec![0.0, 0.25],
             covariance: vec![0.0; 4],
@@ -278,6 +369,15 @@ mod tests {
             iterations: 1,
         };
         let source = Source::fixed_degrees("invented", 10.0, 0.0).unwrap();
+        assert_eq!(fit.estimate(TimingParameter::PositionOffsetRaMas).unwrap().sigma, 0.25);
+        assert_eq!(fit.by_name("position_offset_ra_mas").unwrap().value, theta_mas);
+        let refused = fit.by_name("freq_hz").unwrap_err();
+        assert_eq!(refused.known, vec!["phase_offset_cycles", "position_offset_ra_mas"]);
+        assert!(fit.by_name("spin").is_err());
+        assert_eq!(
+            fit.covariance_of(TimingParameter::PhaseOffsetCycles, TimingParameter::PositionOffsetRaMas),
+            Some(0.0)
+        );
         let p = fitted_position(&fit, &source).unwrap();
         let theta = theta_mas * std::f64::consts::PI / 648_000_000.0;
         assert!((p.ra_deg - (10.0 + theta.atan().to_degrees())).abs() < 1e-12, "{}", p.ra_deg);
