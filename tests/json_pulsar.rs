@@ -74,7 +74,7 @@ fn every_pulsar_command_prints_its_typed_summary() {
     // search-pulsations
     let mut args = vec!["search-pulsations", "--input", "ev.csv"];
     args.extend(source);
-    args.extend(["--min-freq-hz", "2.3", "--max-freq-hz", "2.45", "--oversampling", "3", "--output", "z.csv"]);
+    args.extend(["--min-freq-hz", "2.365", "--max-freq-hz", "2.375", "--oversampling", "3", "--output", "z.csv"]);
     let mut with_json = args.clone();
     with_json.extend(["--json", "--summary", "search.json"]);
     let text = ok(&skyclock(&dir, &with_json));
