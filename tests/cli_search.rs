@@ -69,7 +69,7 @@ fn find_periods_recovers_an_invented_pulsator() {
         "12",
         "--output",
         spectrum.to_str().unwrap(),
-        "--peaks-output",
+        "--summary",
         peaks.to_str().unwrap(),
         "--figure",
         d.join("p.svg").to_str().unwrap(),

@@ -11,13 +11,14 @@ use super::common::{spinner, write_text};
 use super::light_curve_input::LightCurveArgs;
 use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest};
-use skyclock::survey::search::{SearchMethod, SearchOutcome, SearchPlan, describe_alias, search_series};
-use skyclock::table::{Provenance, write_table};
+use skyclock::survey::report::{format_false_alarm, period_search_report};
+use skyclock::survey::search::{SearchMethod, SearchPlan, describe_alias, search_series};
+use skyclock::table::{Provenance, Summary, write_table};
 
 const EXAMPLE: &str = "Example (invented star, times already BJD_TDB):
   skyclock find-periods --input vx_invented.csv --time-column bjd --value-column mag \\
       --error-column mag_err --max-freq-per-day 20 --peaks 5 \\
-      --output vx_spectrum.csv --peaks-output vx_peaks.json
+      --output vx_spectrum.csv --summary vx_peaks.json
   Writes the spectrum (freq_per_day, period_d, power[, amplitude]) and the peaks as JSON:
   frequency, period, amplitude and phase with least-squares errors, false-alarm
   probability (Baluev 2008, for the sinusoid methods) and notes when a peak is a likely
@@ -163,9 +164,10 @@ pub struct Args {
     /// Spectrum table output (.csv, .tsv or .parquet).
     #[arg(long, value_name = "FILE")]
     pub output: Option<PathBuf>,
-    /// Peaks as JSON.
+    /// JSON summary: peaks with errors, false-alarm probabilities and alias notes, grid,
+    /// box detection (the same text `--json` prints).
     #[arg(long, value_name = "FILE")]
-    pub peaks_output: Option<PathBuf>,
+    pub summary: Option<PathBuf>,
     /// Figure of the periodogram with the peaks and alias notes marked (.svg or .png).
     #[arg(long, value_name = "FILE")]
     pub figure: Option<PathBuf>,
@@ -175,43 +177,6 @@ pub struct Args {
     /// Print nothing but errors.
     #[arg(long)]
     pub quiet: bool,
-}
-
-/// The peaks of a search as JSON.
-pub fn peaks_json(out: &SearchOutcome, epoch_jd: &str) -> serde_json::Value {
-    let num = |v: f64| if v.is_finite() { serde_json::json!(v) } else { serde_json::Value::Null };
-    serde_json::json!({
-        "phase_reference_bjd_tdb": epoch_jd,
-        "points": out.n_points,
-        "rows_dropped_nan": out.n_dropped,
-        "baseline_d": out.baseline_d,
-        "grid": {
-            "start_per_day": out.spectrum.grid.start_per_day,
-            "step_per_day": out.spectrum.grid.step_per_day,
-            "frequencies": out.spectrum.grid.len,
-        },
-        "window_sidelobes_per_day": out.window_sidelobes_per_day,
-        "bootstrap_fap_top_peak": out.bootstrap_fap.map(num),
-        "box": out.box_detection.as_ref().map(|b| serde_json::json!({
-            "period_d": b.period_d, "depth": b.depth, "depth_err": num(b.depth_err), "duration_d": b.duration_d,
-            "duration_resolution_d": b.duration_resolution_d, "mid_event_d_since_reference": b.epoch_d, "signal_detection_efficiency": num(b.sde), "points_in_box": b.n_in_box,
-        })),
-        "peaks": out.peaks.iter().enumerate().map(|(k, p)| serde_json::json!({
-            "rank": k + 1,
-            "freq_per_day": p.peak.freq_per_day,
-            "freq_err_per_day": num(p.peak.freq_err_per_day),
-            "period_d": p.peak.period_d,
-            "period_err_d": num(p.peak.period_err_d),
-            "power": p.peak.power,
-            "amplitude": num(p.peak.amplitude),
-            "amplitude_err": num(p.peak.amplitude_err),
-            "phase_of_maximum_cycles": num(p.peak.phase_cycles),
-            "phase_err_cycles": num(p.peak.phase_err_cycles),
-            "refined": p.peak.refined,
-            "false_alarm_probability": num(p.fap),
-            "alias_notes": p.peak.aliases.iter().map(describe_alias).collect::<Vec<_>>(),
-        })).collect::<Vec<_>>(),
-    })
 }
 
 /// Runs the command.
@@ -244,24 +209,21 @@ pub fn run(a: Args) -> Result<()> {
         let mut df = DataFrame::new_infer_height(cols)?;
         write_table(&mut df, path, &provenance, &[input])?;
     }
-    let peaks = peaks_json(&out, &epoch);
-    if let Some(path) = &a.peaks_output {
-        let doc = serde_json::json!({"provenance": provenance, "method": plan.method.label(), "result": peaks});
-        write_text(path, &serde_json::to_string_pretty(&doc)?, &[input])?;
-    }
     if let Some(path) = &a.figure {
         use skyclock::plot::{search::periodogram_figure, write_figure};
         skyclock::table::refuse_overwriting_inputs(path, &[input])?;
         let fig = periodogram_figure(&out, &format!("{} — {}", plan.method.label(), input.display()));
         write_figure(&fig, path)?;
     }
+    let report = period_search_report(&out, &plan.method.label(), &note, &epoch);
+    let outputs: Vec<String> =
+        [&a.output, &a.summary, &a.figure].into_iter().flatten().map(|p| p.display().to_string()).collect();
+    let text = Summary::new(report, provenance, vec![input.display().to_string()], outputs).to_json()?;
+    if let Some(path) = &a.summary {
+        write_text(path, &text, &[input])?;
+    }
     if a.json {
-        println!(
-            "{}",
-            serde_json::to_string_pretty(
-                &serde_json::json!({"method": plan.method.label(), "times": note, "result": peaks})
-            )?
-        );
+        println!("{text}");
     } else if !a.quiet {
         println!(
             "{} on {} points ({} rows with NaN dropped), baseline {:.3} d, {} frequencies",
@@ -279,7 +241,7 @@ pub fn run(a: Args) -> Result<()> {
                 p.peak.period_d,
                 p.peak.period_err_d,
                 p.peak.power,
-                if p.fap.is_finite() { format!("{:.2e}", p.fap) } else { "n/a".into() },
+                format_false_alarm(p.fap),
                 if notes.is_empty() { String::new() } else { format!("  [{notes}]") }
             );
         }

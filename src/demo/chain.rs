@@ -212,7 +212,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         "--magnitudes",
         "--peaks",
         "3",
-        "--peaks-output",
+        "--summary",
         &ot("kx_periods.json"),
         "--figure",
         &ot("kx_periodogram.svg"),

@@ -9,4 +9,5 @@
 
 pub mod batch;
 pub mod input;
+pub mod report;
 pub mod search;

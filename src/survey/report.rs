@@ -1,0 +1,198 @@
+//! The serialisable report of one period search: what `find-periods --json` writes and a
+//! library caller keeps. Built from a [`super::search::SearchOutcome`] (which also holds the
+//! whole spectrum, left out here) by [`period_search_report`].
+
+use serde::{Deserialize, Serialize};
+
+use super::search::{SearchOutcome, describe_alias};
+use crate::table::summary::nan_as_null;
+
+/// The frequency grid searched.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct GridReport {
+    /// First frequency, cycles per day.
+    pub start_per_day: f64,
+    /// Step, cycles per day.
+    pub step_per_day: f64,
+    /// Number of trial frequencies.
+    pub frequencies: usize,
+}
+
+/// The best box (transit or eclipse) of a box search.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BoxReport {
+    /// Period, days.
+    pub period_d: f64,
+    /// Depth, units of the values.
+    pub depth: f64,
+    /// 1σ of the depth.
+    #[serde(with = "nan_as_null")]
+    pub depth_err: f64,
+    /// Duration, days.
+    pub duration_d: f64,
+    /// Resolution of the box edges, days.
+    pub duration_resolution_d: f64,
+    /// Mid-event time, days since the time reference of the search.
+    pub mid_event_d_since_reference: f64,
+    /// Signal detection efficiency (peak height over the spectrum's spread).
+    #[serde(with = "nan_as_null")]
+    pub signal_detection_efficiency: f64,
+    /// Points inside the box.
+    pub points_in_box: usize,
+}
+
+/// One ranked peak.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PeakReport {
+    /// Rank, 1 for the highest.
+    pub rank: usize,
+    /// Frequency, cycles per day.
+    pub freq_per_day: f64,
+    /// 1σ of the frequency (null when the peak was not refined).
+    #[serde(with = "nan_as_null")]
+    pub freq_err_per_day: f64,
+    /// Period, days.
+    pub period_d: f64,
+    /// 1σ of the period, days.
+    #[serde(with = "nan_as_null")]
+    pub period_err_d: f64,
+    /// Power of the method at the peak.
+    pub power: f64,
+    /// Sinusoid semi-amplitude, units of the values.
+    #[serde(with = "nan_as_null")]
+    pub amplitude: f64,
+    /// 1σ of the amplitude.
+    #[serde(with = "nan_as_null")]
+    pub amplitude_err: f64,
+    /// Phase of maximum, cycles from the time reference.
+    #[serde(with = "nan_as_null")]
+    pub phase_of_maximum_cycles: f64,
+    /// 1σ of that phase, cycles.
+    #[serde(with = "nan_as_null")]
+    pub phase_err_cycles: f64,
+    /// Whether the least-squares refinement succeeded.
+    pub refined: bool,
+    /// Analytic false-alarm probability (null where the method has none).
+    #[serde(with = "nan_as_null")]
+    pub false_alarm_probability: f64,
+    /// Why this peak may be an alias of a stronger one.
+    pub alias_notes: Vec<String>,
+}
+
+/// Peaks, grid and detection of one search.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PeakTable {
+    /// BJD_TDB (JD) the times, phases and mid-event times count from.
+    pub phase_reference_bjd_tdb: String,
+    /// Points searched.
+    pub points: usize,
+    /// Rows dropped because a time, value or error was not a number.
+    pub rows_dropped_nan: usize,
+    /// Baseline, days.
+    pub baseline_d: f64,
+    /// The frequency grid.
+    pub grid: GridReport,
+    /// Spectral-window sidelobes tested as alias sources, cycles per day.
+    pub window_sidelobes_per_day: Vec<f64>,
+    /// Bootstrap false-alarm probability of the top peak, if asked for.
+    pub bootstrap_fap_top_peak: Option<f64>,
+    /// The best box of a box search.
+    #[serde(rename = "box")]
+    pub box_detection: Option<BoxReport>,
+    /// The peaks, highest first.
+    pub peaks: Vec<PeakReport>,
+}
+
+/// The report of one period search.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PeriodSearchReport {
+    /// The method, in words.
+    pub method: String,
+    /// How the times were read and carried to BJD_TDB.
+    pub times: String,
+    /// Peaks, grid and detection.
+    pub result: PeakTable,
+}
+
+/// The report of `outcome`: `method` and `times` describe the search and the input's
+/// times; `phase_reference_bjd_tdb` is the JD text the search's times count from.
+pub fn period_search_report(
+    outcome: &SearchOutcome,
+    method: &str,
+    times: &str,
+    phase_reference_bjd_tdb: &str,
+) -> PeriodSearchReport {
+    let grid = &outcome.spectrum.grid;
+    PeriodSearchReport {
+        method: method.to_string(),
+        times: times.to_string(),
+        result: PeakTable {
+            phase_reference_bjd_tdb: phase_reference_bjd_tdb.to_string(),
+            points: outcome.n_points,
+            rows_dropped_nan: outcome.n_dropped,
+            baseline_d: outcome.baseline_d,
+            grid: GridReport {
+                start_per_day: grid.start_per_day,
+                step_per_day: grid.step_per_day,
+                frequencies: grid.len,
+            },
+            window_sidelobes_per_day: outcome.window_sidelobes_per_day.clone(),
+            bootstrap_fap_top_peak: outcome.bootstrap_fap.filter(|v| v.is_finite()),
+            box_detection: outcome.box_detection.as_ref().map(|b| BoxReport {
+                period_d: b.period_d,
+                depth: b.depth,
+                depth_err: b.depth_err,
+                duration_d: b.duration_d,
+                duration_resolution_d: b.duration_resolution_d,
+                mid_event_d_since_reference: b.epoch_d,
+                signal_detection_efficiency: b.sde,
+                points_in_box: b.n_in_box,
+            }),
+            peaks: outcome
+                .peaks
+                .iter()
+                .enumerate()
+                .map(|(k, p)| PeakReport {
+                    rank: k + 1,
+                    freq_per_day: p.peak.freq_per_day,
+                    freq_err_per_day: p.peak.freq_err_per_day,
+                    period_d: p.peak.period_d,
+                    period_err_d: p.peak.period_err_d,
+                    power: p.peak.power,
+                    amplitude: p.peak.amplitude,
+                    amplitude_err: p.peak.amplitude_err,
+                    phase_of_maximum_cycles: p.peak.phase_cycles,
+                    phase_err_cycles: p.peak.phase_err_cycles,
+                    refined: p.peak.refined,
+                    false_alarm_probability: p.fap,
+                    alias_notes: p.peak.aliases.iter().map(describe_alias).collect(),
+                })
+                .collect(),
+        },
+    }
+}
+
+/// A false-alarm probability as text: "3.1e-5", "< 1e-16" below what a double-precision
+/// tail probability resolves, "n/a" where the method has none.
+pub fn format_false_alarm(p: f64) -> String {
+    if !p.is_finite() {
+        "n/a".to_string()
+    } else if p < 1e-16 {
+        "< 1e-16".to_string()
+    } else {
+        format!("{p:.2e}")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::format_false_alarm;
+
+    #[test]
+    fn tiny_probabilities_are_bounds() {
+        assert_eq!(format_false_alarm(0.0), "< 1e-16");
+        assert_eq!(format_false_alarm(2e-30), "< 1e-16");
+        assert_eq!(format_false_alarm(0.0123), "1.23e-2");
+        assert_eq!(format_false_alarm(f64::NAN), "n/a");
+    }
+}
