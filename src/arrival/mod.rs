@@ -6,8 +6,12 @@ pub mod correction;
 pub mod delays;
 pub mod events;
 pub mod interpolated;
+pub mod reference;
+pub mod run;
 pub mod source;
 pub mod table;
 
 pub use correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, DelayOptions, ReferencePoint};
+pub use reference::{ReferenceData, ReferenceDataError, ReferenceNames};
+pub use run::{BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, observer_times};
 pub use source::{CoordinateError, Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};

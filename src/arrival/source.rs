@@ -15,7 +15,7 @@ pub const MAS_TO_RAD: f64 = PI / 648_000_000.0;
 pub use crate::constants::ASTRONOMICAL_UNIT_KM as AU_KM;
 
 /// A source in the ICRS with optional space motion.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Source {
     /// Name used in outputs.
     pub name: String,

@@ -109,7 +109,7 @@ impl TableRequest {
 }
 
 /// Summary of a table correction.
-#[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, Default, serde::Serialize, serde::Deserialize)]
 pub struct TableSummary {
     /// Rows corrected.
     pub rows: usize,

@@ -8,9 +8,8 @@ use clap::Args as ClapArgs;
 
 use skyclock::arrival::Source;
 use skyclock::config::{Description, parse_epoch, read_description};
-use skyclock::ephemeris::{SharedEphemeris, SpkKernel, embedded};
-use skyclock::observer::{EarthOrientation, EarthOrientationTable, Site};
-use skyclock::time::{LeapSecondTable, ScaleConverter};
+use skyclock::observer::Site;
+use skyclock::time::LeapSecondTable;
 
 /// Where solar-system positions, leap seconds and Earth orientation come from.
 #[derive(Debug, Clone, ClapArgs)]
@@ -26,32 +25,17 @@ pub struct ReferenceDataArgs {
     pub earth_orientation: Option<PathBuf>,
 }
 
-/// The loaded reference data.
-pub struct ReferenceData {
-    /// Solar-system ephemeris.
-    pub ephemeris: SharedEphemeris,
-    /// Scale converter with the leap-second table.
-    pub converter: ScaleConverter,
-    /// Earth orientation.
-    pub orientation: EarthOrientation,
-}
+/// The loaded reference data (the library type).
+pub use skyclock::arrival::ReferenceData;
 
 impl ReferenceDataArgs {
     /// Loads what the options name, or the built-in defaults.
     pub fn load(&self) -> Result<ReferenceData> {
-        let ephemeris: SharedEphemeris = match &self.ephemeris_kernel {
-            Some(p) => SpkKernel::open(p).with_context(|| format!("opening ephemeris kernel {}", p.display()))?.into(),
-            None => embedded().into(),
-        };
-        let leap = match &self.leap_seconds {
-            Some(p) => LeapSecondTable::from_file(p)?,
-            None => LeapSecondTable::builtin(),
-        };
-        let orientation = match &self.earth_orientation {
-            Some(p) => EarthOrientation::Table(EarthOrientationTable::from_file(p)?),
-            None => EarthOrientation::Ignored,
-        };
-        Ok(ReferenceData { ephemeris, converter: ScaleConverter::new(leap), orientation })
+        Ok(ReferenceData::load(
+            self.ephemeris_kernel.as_deref(),
+            self.leap_seconds.as_deref(),
+            self.earth_orientation.as_deref(),
+        )?)
     }
 }
 
@@ -240,6 +224,48 @@ impl ObserverArgs {
             Some(site) => ObserverSpec::Site(site),
             None => ObserverSpec::Geocentre,
         })
+    }
+
+    /// As [`ObserverArgs::observer_spec`], and says once on stderr (unless `quiet`) when the
+    /// geocentre is assumed because no site was given. `clock_is_barycentric` (times already
+    /// in BJD or HJD) suppresses the note: such times need no site.
+    pub fn observer_spec_noting(
+        &self,
+        description: Option<&Description>,
+        clock_is_barycentric: bool,
+        quiet: bool,
+    ) -> Result<skyclock::arrival::table::ObserverSpec> {
+        let spec = self.observer_spec(description)?;
+        if matches!(spec, skyclock::arrival::table::ObserverSpec::Geocentre) && !clock_is_barycentric {
+            note_geocentre(quiet);
+        }
+        Ok(spec)
+    }
+
+    /// The single observer of a command: a site from --site/--site-coordinates, or the
+    /// geocentre, said once on stderr (unless `quiet`).
+    pub fn single_observer_noting(
+        &self,
+        description: Option<&Description>,
+        quiet: bool,
+    ) -> Result<skyclock::observer::Observer> {
+        Ok(match self.single_site(description)? {
+            Some(site) => skyclock::observer::Observer::Site(site),
+            None => {
+                note_geocentre(quiet);
+                skyclock::observer::Observer::Geocentre
+            }
+        })
+    }
+}
+
+/// The note printed when no site was given.
+pub const GEOCENTRE_NOTE: &str = "note: no site given (--site, --site-coordinates, --site-column or --spacecraft-columns); times are taken as observed at the geocentre";
+
+/// Prints [`GEOCENTRE_NOTE`] on stderr unless `quiet`.
+pub fn note_geocentre(quiet: bool) {
+    if !quiet {
+        eprintln!("{GEOCENTRE_NOTE}");
     }
 }
 

@@ -4,10 +4,12 @@
 use anyhow::Result;
 use clap::Args as ClapArgs;
 
-use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
-use skyclock::observer::Observer;
-use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
+use std::path::PathBuf;
+
+use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs, write_text};
+use skyclock::arrival::observer_times;
+use skyclock::table::{Provenance, Summary};
+use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example:
   skyclock observer-time 2461010.4321 --ra 05:12:33.2 --dec +21:07:44 \\
@@ -31,9 +33,15 @@ pub struct Args {
     pub source: SourceArgs,
     #[command(flatten)]
     pub reference_data: ReferenceDataArgs,
-    /// Print JSON on stdout.
+    /// Write the JSON summary (the text --json prints) to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub summary: Option<PathBuf>,
+    /// Print the JSON summary on stdout instead of the human-readable lines.
     #[arg(long)]
     pub json: bool,
+    /// Print nothing but warnings and errors.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -42,41 +50,32 @@ pub fn run(a: Args) -> Result<()> {
         .ok_or_else(|| anyhow::anyhow!("unknown time scale '{}'; use utc, tai, tt, tdb, tcb or gps", a.to_scale))?;
     let description = a.observer.description()?;
     let source = a.source.load(description.as_ref())?;
-    let observer = match a.observer.single_site(description.as_ref())? {
-        Some(s) => Observer::Site(s),
-        None => Observer::Geocentre,
-    };
+    let observer = a.observer.single_observer_noting(description.as_ref(), a.quiet)?;
     let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source,
-        DelayOptions::default(),
-    );
-    let mut out = Vec::new();
-    for text in &a.bjd_tdb {
-        let bjd = parse_time(text, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
-            .map_err(|e| anyhow::anyhow!("BJD_TDB '{text}': {e}"))?;
-        let t = corrector.arrival_at_observer(&bjd, &observer, scale)?;
-        out.push(serde_json::json!({
-            "bjd_tdb": text,
-            "scale": scale.name(),
-            "iso": format_time(&t, TimeFormat::Iso),
-            "jd": format_time(&t, TimeFormat::Jd),
-        }));
+    let instants = a
+        .bjd_tdb
+        .iter()
+        .map(|text| {
+            parse_time(text, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
+                .map_err(|e| anyhow::anyhow!("BJD_TDB '{text}': {e}"))
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let result = observer_times(&instants, &observer, scale, &reference, &source)?;
+    let names = &result.reference;
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "observer-time")
+        .with("ephemeris", names.ephemeris.clone())
+        .with("leap_seconds", names.leap_seconds.clone())
+        .with("earth_orientation", names.earth_orientation.clone());
+    let summary = Summary::new(result, provenance, vec![], vec![]);
+    if let Some(path) = &a.summary {
+        write_text(path, &summary.to_json()?, &[])?;
     }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&out)?);
-    } else {
-        for r in &out {
-            println!(
-                "BJD_TDB {} → {} {} (JD {})",
-                r["bjd_tdb"].as_str().unwrap_or(""),
-                r["iso"].as_str().unwrap_or(""),
-                scale,
-                r["jd"].as_str().unwrap_or("")
-            );
+        println!("{}", summary.to_json()?);
+    } else if !a.quiet {
+        for (text, r) in a.bjd_tdb.iter().zip(&summary.result.readings) {
+            println!("BJD_TDB {text} → {} {scale} (JD {})", r.iso, r.jd);
         }
     }
     Ok(())
