@@ -128,6 +128,8 @@ fn box_method_finds_an_invented_transit() {
         "mag",
         "--method",
         "box",
+        "--brightness",
+        "flux",
         "--durations-d",
         "0.05,0.1,0.15",
         "--max-freq-per-day",

@@ -335,3 +335,12 @@ pub fn timing_kinds_and_errors(
         })
         .collect()
 }
+
+/// How the values of a light curve are written (`--brightness`, one meaning in every command).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum BrightnessArg {
+    /// Magnitudes (larger is fainter).
+    Magnitude,
+    /// Fluxes (larger is brighter).
+    Flux,
+}

@@ -18,7 +18,7 @@ use skyclock::table::{Provenance, write_table};
 const EXAMPLE: &str = "Example (invented multiperiodic pulsator):
   skyclock extract-frequencies --input dsct_invented.csv --time-column bjd \\
       --value-column mag --max-freq-per-day 50 --signal-to-noise-stop 4 \\
-      --output dsct_frequencies.csv --summary-output dsct_frequencies.json
+      --output dsct_frequencies.csv --summary dsct_frequencies.json
   Each row: frequency, amplitude and phase with least-squares errors from the final joint
   fit, S/N when accepted, and combination notes (f_i+f_j, |f_i-f_j|, 2f_i within 1/T).
   Phases are of maximum of A cos(2π(f t - φ)) with t in days since the reported epoch.";
@@ -58,7 +58,7 @@ pub struct Args {
     pub output: Option<PathBuf>,
     /// Summary JSON file (frequencies with uncertainties and combination notes).
     #[arg(long, value_name = "FILE")]
-    pub summary_output: Option<PathBuf>,
+    pub summary: Option<PathBuf>,
     /// Print a machine-readable summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
@@ -159,7 +159,7 @@ pub fn run(a: Args) -> Result<()> {
         })).collect::<Vec<_>>(),
         "times": note,
     });
-    if let Some(path) = &a.summary_output {
+    if let Some(path) = &a.summary {
         write_text(
             path,
             &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,

@@ -7,7 +7,7 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::common::{spinner, write_text};
+use super::common::{BrightnessArg, spinner, write_text};
 use super::light_curve_input::LightCurveArgs;
 use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest};
@@ -78,9 +78,9 @@ pub struct SearchOptionArgs {
     /// Box durations in days for --method box, comma-separated.
     #[arg(long, value_name = "D1,D2,..", default_value = "0.05,0.1,0.2")]
     pub durations_d: String,
-    /// Values are magnitudes (a dip is an increase) for --method box.
-    #[arg(long)]
-    pub magnitudes: bool,
+    /// What the values are (for --method box: with magnitudes a dip is an increase).
+    #[arg(long, value_enum, default_value_t = BrightnessArg::Magnitude)]
+    pub brightness: BrightnessArg,
     /// Highest frequency searched, cycles per day.
     #[arg(long, default_value_t = 10.0)]
     pub max_freq_per_day: f64,
@@ -130,7 +130,7 @@ impl SearchOptionArgs {
                     }
                     d.push(v);
                 }
-                SearchMethod::Box { durations_d: d, values_are_magnitudes: self.magnitudes }
+                SearchMethod::Box { durations_d: d, values_are_magnitudes: self.brightness == BrightnessArg::Magnitude }
             }
         };
         if !(self.memory_limit_gib.is_finite() && self.memory_limit_gib > 0.0) {

@@ -16,7 +16,7 @@ use skyclock::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
   skyclock fold-curve --input vx_invented.csv --time-column bjd --value-column mag \\
-      --error-column mag_err --period-d 0.3712841 --epoch-bjd 2460123.4567 \\
+      --error-column mag_err --period-d 0.3712841 --epoch-bjd-tdb 2460123.4567 \\
       --bins 50 --output vx_folded.csv --binned-output vx_binned.csv
   Phase 0 is at the epoch (a BJD_TDB Julian Date; default: the first time). Folded rows
   keep the input row number; binned rows give phase centre, mean or median, error, count.";
@@ -41,7 +41,7 @@ pub struct Args {
     pub period_d: f64,
     /// Epoch of phase zero, BJD_TDB as a Julian Date (text keeps every digit).
     #[arg(long, value_name = "JD")]
-    pub epoch_bjd: Option<String>,
+    pub epoch_bjd_tdb: Option<String>,
     /// Refine the period by least squares with this many harmonics before folding.
     #[arg(long, value_name = "HARMONICS")]
     pub refine_harmonics: Option<usize>,
@@ -59,7 +59,7 @@ pub struct Args {
     pub binned_output: Option<PathBuf>,
     /// Summary JSON file.
     #[arg(long, value_name = "FILE")]
-    pub summary_output: Option<PathBuf>,
+    pub summary: Option<PathBuf>,
     /// Figure of the folded points and the binned curve (.svg or .png).
     #[arg(long, value_name = "FILE")]
     pub figure: Option<PathBuf>,
@@ -78,11 +78,11 @@ pub fn run(a: Args) -> Result<()> {
     }
     let (lc, note) = a.light_curve.load()?;
     let series = lc.series()?;
-    let epoch_d = match &a.epoch_bjd {
+    let epoch_d = match &a.epoch_bjd_tdb {
         None => series.time_d()[0],
         Some(text) => {
             let t = parse_time(text, TimeFormat::Jd, TimeScale::Tdb, &LeapSecondTable::builtin())
-                .map_err(|e| anyhow::anyhow!("--epoch-bjd: {e}"))?;
+                .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb: {e}"))?;
             days_since(&t, &lc.epoch)
         }
     };
@@ -142,7 +142,7 @@ pub fn run(a: Args) -> Result<()> {
         "empty_bins": bins.iter().filter(|b| b.count == 0).count(),
         "times": note,
     });
-    if let Some(path) = &a.summary_output {
+    if let Some(path) = &a.summary {
         write_text(
             path,
             &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,

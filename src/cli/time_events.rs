@@ -9,7 +9,7 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::common::write_text;
+use super::common::{BrightnessArg, write_text};
 use super::light_curve_input::LightCurveArgs;
 use skyclock::minima::{
     Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape,
@@ -42,15 +42,6 @@ pub enum MethodArg {
     SymmetricPolynomial,
     /// Gaussian profile, bootstrap errors.
     SymmetricGaussian,
-}
-
-/// How the values are written.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
-pub enum BrightnessArg {
-    /// Magnitudes (larger is fainter).
-    Magnitude,
-    /// Fluxes (larger is brighter).
-    Flux,
 }
 
 /// Event kind.
