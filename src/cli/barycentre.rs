@@ -59,7 +59,7 @@ pub struct Args {
     /// Print the JSON summary on stdout instead of the human-readable lines.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but warnings and errors.
+    /// Print nothing but warnings and errors (no progress display, no result lines).
     #[arg(long)]
     pub quiet: bool,
 }

@@ -62,7 +62,7 @@ pub struct Args {
     /// Print a machine-readable summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but errors.
+    /// Print nothing but warnings and errors (no progress display, no result lines).
     #[arg(long)]
     pub quiet: bool,
 }

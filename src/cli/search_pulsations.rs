@@ -77,7 +77,7 @@ pub struct Args {
     /// Print the JSON summary on stdout instead of the result line.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but warnings and errors (no progress display, no result line).
+    /// Print nothing but warnings and errors (no progress display, no result lines).
     #[arg(long)]
     pub quiet: bool,
 }
