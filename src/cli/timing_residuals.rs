@@ -11,10 +11,10 @@ use polars::prelude::{Column, DataFrame};
 
 use super::timing_table::TimingTableArgs;
 use skyclock::oc::{
-    BootstrapOptions, CycleOptions, FitOptions, ModelKind, ReferenceEphemeris, Timing, assign_cycles, compare_nested,
-    fit_model, information, minimum_companion_mass_msun,
+    AnalysisOptions, BootstrapOptions, CycleOptions, FitOptions, LIGHT_TIME_CAUTION, ModelKind, ReferenceEphemeris,
+    Timing, analyse, information,
 };
-use skyclock::table::{Provenance, float_column, text_column, write_table};
+use skyclock::table::{Provenance, Summary, float_column, text_column, write_table};
 use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
@@ -108,21 +108,6 @@ pub fn run(a: Args) -> Result<()> {
         .split(',')
         .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time")))
         .collect::<Result<_>>()?;
-    // Stated with every companion fit: its intervals were calibrated on synthetic sets with
-    // ~2.6 companion orbits inside the baseline (tests/timing_recovery.rs).
-    let cautions: Vec<String> = if models.iter().any(|m| m.has_light_time()) {
-        vec![
-            "caution: a light-time companion fit is the best local minimum of a grid search; its intervals were \
-              verified on synthetic sets covering several companion orbits, and a companion period near or beyond \
-              the baseline trades off against dP/dt, so read such fits as indicative"
-                .to_string(),
-        ]
-    } else {
-        Vec::new()
-    };
-    for c in &cautions {
-        eprintln!("{c}");
-    }
     let range = match &a.companion_period_range_d {
         None => None,
         Some(t) => {
@@ -161,22 +146,51 @@ pub fn run(a: Args) -> Result<()> {
     let epoch = parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
-    let series = assign_cycles(&timings, &eph, &CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles })
-        .map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-    let options = FitOptions {
-        rescale_per_source: a.rescale_per_source,
-        companion_period_range_d: range,
-        huber_k: a.robust_loss.then_some(a.robust_tuning_constant),
-        ..Default::default()
+    let options = AnalysisOptions {
+        models,
+        cycles: CycleOptions { allow_ambiguous: a.allow_ambiguous_cycles },
+        fit: FitOptions {
+            rescale_per_source: a.rescale_per_source,
+            companion_period_range_d: range,
+            huber_k: a.robust_loss.then_some(a.robust_tuning_constant),
+            ..Default::default()
+        },
+        bootstrap: (a.bootstrap > 0).then_some(BootstrapOptions { resamples: a.bootstrap, seed: a.seed }),
+        binary_mass_msun: a.binary_mass_msun,
     };
-    let mut fits = Vec::new();
-    for &m in &models {
-        let spin =
-            super::common::spinner(&format!("fitting the {} model to {} timings", m.name(), series.len()), a.quiet);
-        let fit = fit_model(&series, m, &options).map_err(|e| anyhow::anyhow!("{file}: {e}"));
-        spin.finish_and_clear();
-        fits.push(fit?);
+    if options.models.iter().any(|m| m.has_light_time()) {
+        eprintln!("{LIGHT_TIME_CAUTION}");
     }
+    // One progress bar per model's bootstrap; the library reports which model it is on.
+    let bar: std::sync::Mutex<Option<indicatif::ProgressBar>> = std::sync::Mutex::new(None);
+    let n_timings = timings.len();
+    let on_model = |m: ModelKind, _index: usize| {
+        if let Some(pb) = bar.lock().unwrap_or_else(|e| e.into_inner()).take() {
+            pb.finish_and_clear();
+        }
+        let pb = if a.bootstrap > 0 {
+            super::common::progress_bar(
+                a.bootstrap as u64,
+                &format!("fitting and bootstrap of the {} model", m.name()),
+                a.quiet,
+            )
+        } else {
+            super::common::spinner(&format!("fitting the {} model to {n_timings} timings", m.name()), a.quiet)
+        };
+        *bar.lock().unwrap_or_else(|e| e.into_inner()) = Some(pb);
+    };
+    let progress = |n: u64| {
+        if let Some(pb) = bar.lock().unwrap_or_else(|e| e.into_inner()).as_ref() {
+            pb.inc(n);
+        }
+    };
+    let analysis = analyse(&timings, &eph, &options, &on_model, &progress);
+    if let Some(pb) = bar.lock().unwrap_or_else(|e| e.into_inner()).take() {
+        pb.finish_and_clear();
+    }
+    let analysis = analysis.map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+    let series = analysis.series.as_ref().context("the analysis kept no O–C series")?;
+    let fits = &analysis.fits;
     // The O–C table.
     let mut columns = vec![
         Column::new("row".into(), series.row.iter().map(|&r| r as u64).collect::<Vec<_>>()),
@@ -197,8 +211,7 @@ pub fn run(a: Args) -> Result<()> {
         Column::new("error_d".into(), series.error_d.clone()),
         Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
     ];
-    let mut model_json = Vec::new();
-    for f in &fits {
+    for f in fits {
         let name = f.kind.name().replace('+', "_").replace('-', "_");
         let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
         let sigma: Vec<f64> = (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
@@ -206,60 +219,6 @@ pub fn run(a: Args) -> Result<()> {
         columns.push(Column::new(format!("model_{name}_d").into(), model));
         columns.push(Column::new(format!("model_sigma_{name}_d").into(), sigma));
         columns.push(Column::new(format!("residual_{name}_d").into(), resid));
-        let boot = if a.bootstrap > 0 {
-            let pb = super::common::progress_bar(
-                a.bootstrap as u64,
-                &format!("bootstrap of the {} model", f.kind.name()),
-                a.quiet,
-            );
-            let b = skyclock::oc::bootstrap_with_progress(
-                &series,
-                f,
-                &BootstrapOptions { resamples: a.bootstrap, seed: a.seed },
-                &|n| pb.inc(n),
-            )
-            .map_err(|e| anyhow::anyhow!("{e}"))?;
-            pb.finish_and_clear();
-            Some(b)
-        } else {
-            None
-        };
-        let names = f.kind.parameter_names();
-        let params: Vec<serde_json::Value> = names
-            .iter()
-            .enumerate()
-            .map(|(j, n)| serde_json::json!({"name": n, "value": f.params[j], "sigma_covariance": f.sigma(j), "sigma_bootstrap": boot.as_ref().map(|b| b.parameter_sigma[j])}))
-            .collect();
-        let mut derived: Vec<serde_json::Value> = f
-            .derived
-            .iter()
-            .enumerate()
-            .map(|(j, d)| serde_json::json!({"name": d.0, "value": d.1, "sigma_covariance": d.2, "sigma_bootstrap": boot.as_ref().map(|b| b.derived_sigma[j].1)}))
-            .collect();
-        for (function_name, mass_name) in [
-            ("mass_function_msun", "minimum_companion_mass_msun"),
-            ("companion2_mass_function_msun", "companion2_minimum_mass_msun"),
-        ] {
-            if let (Some(m12), Some((fm, fm_s))) = (a.binary_mass_msun, f.derived_value(function_name)) {
-                let m3 = minimum_companion_mass_msun(fm, m12);
-                let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
-                derived.push(serde_json::json!({"name": mass_name, "value": m3, "sigma_covariance": m3.zip(m3_hi).map(|(a, b)| b - a), "binary_mass_msun": m12}));
-            }
-        }
-        model_json.push(serde_json::json!({
-            "model": f.kind.name(), "fit": information(f), "parameters": params, "derived": derived,
-            "covariance": f.covariance, "source_error_scale": f.source_scale, "notes": f.notes,
-            "bootstrap": boot.as_ref().map(|b| serde_json::json!({"resamples": b.resamples, "failed": b.failed, "seed": a.seed})),
-        }));
-    }
-    let mut comparisons = Vec::new();
-    for i in 0..fits.len() {
-        for j in 0..fits.len() {
-            let nested = fits[i].kind.is_nested_in(fits[j].kind);
-            if nested && let Some(t) = compare_nested(&fits[i], &fits[j]) {
-                comparisons.push(t);
-            }
-        }
     }
     let mut out = DataFrame::new(series.len(), columns).context("building the output table")?;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
@@ -269,32 +228,25 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
-    let by_bic = |f: &&skyclock::oc::ModelFit| information(f).bic;
     let title = format!("O − C of {}", source.name);
     if let Some(path) = &a.figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
-        let best = fits.iter().min_by(|x, y| by_bic(x).total_cmp(&by_bic(y))).context("no model was fitted")?;
+        let best = analysis.best_by_bic(false).context("no model was fitted")?;
         let (e1, e2) = epoch.jd_two_part();
-        skyclock::plot::write_figure(&skyclock::plot::timing::oc_diagram(&title, &series, best, e1 + e2), path)?;
+        skyclock::plot::write_figure(&skyclock::plot::timing::oc_diagram(&title, series, best, e1 + e2), path)?;
     }
     if let Some(path) = &a.orbit_figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
-        let best = fits
-            .iter()
-            .filter(|f| f.kind.has_light_time())
-            .min_by(|x, y| by_bic(x).total_cmp(&by_bic(y)))
+        let best = analysis
+            .best_by_bic(true)
             .context("--orbit-figure needs a light-time model in --models (light-time or quadratic+light-time)")?;
-        if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, &series, best) {
+        if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, series, best) {
             skyclock::plot::write_figure(&fig, path)?;
         }
     }
-    let summary = serde_json::json!({
-        "input": file, "output": a.output.display().to_string(), "timings": series.len(),
-        "reference_ephemeris": {"epoch_bjd_tdb": a.epoch_bjd_tdb, "period_d": a.period_d, "period_sigma_d": a.period_sigma_d},
-        "warnings": series.warnings, "cautions": cautions, "models": model_json, "comparisons": comparisons,
-        "verdicts": comparisons.iter().map(|c| c.verdict.clone()).collect::<Vec<_>>(),
-    });
-    let text = serde_json::to_string_pretty(&summary)?;
+    let mut outputs = vec![a.output.display().to_string()];
+    outputs.extend(a.summary.iter().chain(&a.figure).chain(&a.orbit_figure).map(|p| p.display().to_string()));
+    let text = Summary::new(analysis.clone(), provenance, vec![file.clone()], outputs).to_json()?;
     if let Some(path) = &a.summary {
         super::common::write_text(path, &text, &[a.table.input.as_path()])?;
     }
@@ -311,15 +263,15 @@ pub fn run(a: Args) -> Result<()> {
             series.cycle.last().unwrap_or(&0.0),
             a.output.display()
         );
-        for f in &fits {
+        for f in fits {
             let i = information(f);
             println!(
                 "  {:<22} χ² = {:.1} for {} dof (reduced {:.2}), BIC = {:.1}",
                 i.model, i.chi2, i.dof, i.reduced_chi2, i.bic
             );
         }
-        for c in &comparisons {
-            println!("  {}", c.verdict);
+        for v in &analysis.verdicts {
+            println!("  {v}");
         }
     }
     Ok(())

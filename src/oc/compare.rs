@@ -6,7 +6,7 @@ use statrs::distribution::{ContinuousCDF, FisherSnedecor};
 use super::fitting::ModelFit;
 
 /// Goodness of fit of one model.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct ModelComparison {
     /// Model name.
     pub model: String,
@@ -37,7 +37,7 @@ pub fn information(fit: &ModelFit) -> ModelComparison {
 }
 
 /// The F-test between a simpler model and a richer one that contains it.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct NestedTest {
     /// Simpler model.
     pub simpler: String,
@@ -69,19 +69,51 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
     let d1 = (b.parameters - a.parameters) as f64;
     let d2 = b.dof as f64;
     let f = ((a.chi2 - b.chi2) / d1) / (b.chi2 / d2);
-    let p = if f > 0.0 { FisherSnedecor::new(d1, d2).ok().map(|dist| 1.0 - dist.cdf(f))? } else { 1.0 };
-    let delta_bic = b.bic - a.bic;
-    let preferred = p < 0.0027 && delta_bic < -6.0;
-    let verdict = if preferred {
-        format!(
-            "the {} model is preferred over the {} model: χ² falls from {:.1} to {:.1} for {} more parameters (F = {:.2}, p = {:.2e}; ΔBIC = {:.1})",
-            b.model, a.model, a.chi2, b.chi2, d1, f, p, delta_bic
-        )
+    let p = if f > 0.0 {
+        let dist = FisherSnedecor::new(d1, d2).ok()?;
+        let p = dist.sf(f);
+        // A huge F makes the survival function underflow (or come back undefined); it is
+        // then below anything a double can hold, not "no evidence".
+        if p.is_finite() {
+            p.clamp(0.0, 1.0)
+        } else if f > 1.0 {
+            0.0
+        } else {
+            1.0
+        }
     } else {
-        format!(
-            "the {} model is not justified over the {} model: χ² {:.1} → {:.1} for {} more parameters (F = {:.2}, p = {:.3}; ΔBIC = {:.1}); keep the simpler model",
-            b.model, a.model, a.chi2, b.chi2, d1, f, p, delta_bic
-        )
+        1.0
+    };
+    let delta_bic = b.bic - a.bic;
+    let f_says = p < F_TEST_P_LIMIT;
+    let bic_says = delta_bic < DELTA_BIC_LIMIT;
+    let preferred = f_says && bic_says;
+    let numbers = format!(
+        "χ² {:.1} → {:.1} for {} more parameters; F = {:.2}, {}; ΔBIC = {:.1}",
+        a.chi2,
+        b.chi2,
+        d1,
+        f,
+        format_p_value(p),
+        delta_bic
+    );
+    let verdict = match (f_says, bic_says) {
+        (true, true) => format!(
+            "the {} model is preferred over the {} model: the F-test and ΔBIC agree ({numbers})",
+            b.model, a.model
+        ),
+        (false, false) => format!(
+            "the {} model is not justified over the {} model: neither the F-test nor ΔBIC favours it ({numbers}); keep the simpler model",
+            b.model, a.model
+        ),
+        (true, false) => format!(
+            "the F-test favours the {} model over the {} model but ΔBIC does not reach {DELTA_BIC_LIMIT} ({numbers}); ΔBIC decided (both are required): keep the simpler model",
+            b.model, a.model
+        ),
+        (false, true) => format!(
+            "ΔBIC favours the {} model over the {} model but the F-test does not reach p < {F_TEST_P_LIMIT} ({numbers}); the F-test decided (both are required): keep the simpler model",
+            b.model, a.model
+        ),
     };
     Some(NestedTest {
         simpler: a.model,
@@ -92,4 +124,21 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
         richer_preferred: preferred,
         verdict,
     })
+}
+
+/// F-test false-alarm limit of [`compare_nested`] (3σ, common practice).
+pub const F_TEST_P_LIMIT: f64 = 0.0027;
+/// ΔBIC limit of [`compare_nested`] ("strong" evidence, Kass & Raftery 1995).
+pub const DELTA_BIC_LIMIT: f64 = -6.0;
+
+/// A p-value as text: below 1e-16 (the double-precision floor of 1 − CDF) as the bound
+/// "p < 1e-16", otherwise `p = 1.23e-5` or `p = 0.123`.
+pub fn format_p_value(p: f64) -> String {
+    if p < 1e-16 {
+        "p < 1e-16".to_string()
+    } else if p < 1e-3 {
+        format!("p = {p:.2e}")
+    } else {
+        format!("p = {p:.3}")
+    }
 }

@@ -10,6 +10,7 @@
 //! Times enter as BJD_TDB [`Instant`]s; inside, every time is an `f64` offset in days from
 //! the reference epoch (decades of offsets keep ~1e-11 d resolution). Nothing here prints.
 
+pub mod analysis;
 pub mod companion;
 pub mod compare;
 pub mod cycles;
@@ -18,8 +19,12 @@ pub mod light_time_method;
 pub mod models;
 pub mod orbit;
 
+pub use analysis::{
+    AnalysisOptions, BootstrapRun, EstimateSummary, LIGHT_TIME_CAUTION, ModelSummary, OcAnalysis,
+    ReferenceEphemerisSummary, analyse,
+};
 pub use companion::{mass_function_msun, minimum_companion_mass_msun, projected_semi_major_axis_au};
-pub use compare::{ModelComparison, NestedTest, compare_nested, information};
+pub use compare::{ModelComparison, NestedTest, compare_nested, format_p_value, information};
 pub use cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
 pub use fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap, bootstrap_with_progress, fit_model};
 pub use models::{ModelKind, OcModel};
