@@ -23,7 +23,7 @@ const EXAMPLE: &str = "Example (invented star, times written at the telescope, n
   skyclock measure-light-time --input raw_minima.csv --time-column time --clock jd_utc \\
       --error-column error_d --kind-column kind --ra 08:45:00.0 --dec +17:30:00 \\
       --site-coordinates=14.25,47.10,520 \\
-      --epoch-d 2459000.3145 --period-d 0.87654321 \\
+      --epoch-jd 2459000.3145 --period-d 0.87654321 \\
       --output light_time_residuals.csv --summary light_time.json
 
   The times must be in an observer's clock (jd_*, mjd_*, rjd_*, iso_*): heliocentric or
@@ -41,10 +41,11 @@ pub struct Args {
     /// The timings: times in an observer's clock such as jd_utc, mjd_tt, iso_utc.
     #[command(flatten)]
     pub table: TimingTableArgs,
-    /// Epoch of a primary event (cycle 0) as seen by the observer, JD on the TDB scale
-    /// (an observed time of minimum is good enough: the fit refines it).
+    /// Epoch of a primary event (cycle 0) as seen by the observer, a JD in the input clock's
+    /// scale (the scale of --clock; TDB with --clock-column). An observed time of minimum is
+    /// good enough: the fit refines it.
     #[arg(long, value_name = "JD")]
-    pub epoch_d: String,
+    pub epoch_jd: String,
     /// Period, days.
     #[arg(long, value_name = "DAYS")]
     pub period_d: f64,
@@ -113,8 +114,10 @@ pub fn run(a: Args) -> Result<()> {
             }
         })
         .collect();
-    let epoch = parse_time(&a.epoch_d, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
-        .map_err(|e| anyhow::anyhow!("--epoch-d '{}': {e}", a.epoch_d))?;
+    let epoch_scale = table.clock.map_or(TimeScale::Tdb, |c| c.scale);
+    let epoch = parse_time(&a.epoch_jd, TimeFormat::Jd, epoch_scale, reference.converter.leap_seconds())
+        .and_then(|t| reference.converter.convert(&t, TimeScale::Tdb))
+        .map_err(|e| anyhow::anyhow!("--epoch-jd '{}': {e}", a.epoch_jd))?;
     if !(a.period_d.is_finite() && a.period_d > 0.0) {
         bail!("--period-d {}: the period must be a positive number of days", a.period_d);
     }

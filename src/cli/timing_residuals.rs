@@ -11,8 +11,8 @@ use polars::prelude::{Column, DataFrame};
 
 use super::timing_table::TimingTableArgs;
 use skyclock::oc::{
-    AnalysisOptions, AnalysisProgress, BootstrapOptions, CycleOptions, FitOptions, ModelKind, OcAnalysis,
-    ReferenceEphemeris, Timing, analyse_timings,
+    AnalysisOptions, BootstrapOptions, CycleOptions, FitOptions, LIGHT_TIME_CAUTION, ModelKind, ReferenceEphemeris,
+    Timing, analyse, information,
 };
 use skyclock::table::{Provenance, Summary, float_column, text_column, write_table};
 use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
@@ -212,16 +212,42 @@ pub fn run(a: Args) -> Result<()> {
             huber_k: a.robust_loss.then_some(a.robust_tuning_constant),
             ..Default::default()
         },
-        bootstrap: BootstrapOptions { resamples: a.bootstrap, seed: a.seed },
+        bootstrap: (a.bootstrap > 0).then_some(BootstrapOptions { resamples: a.bootstrap, seed: a.seed }),
         binary_mass_msun: a.binary_mass_msun,
     };
-    let progress = Progress { quiet: a.quiet, bar: std::sync::Mutex::new(None) };
-    let run = analyse_timings(&timings, &eph, &options, &progress).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-    let (series, fits, analysis) = (&run.series, &run.fits, &run.result);
-    // Cautions are printed even under --quiet: they qualify the numbers.
-    for c in &analysis.cautions {
-        eprintln!("caution: {c}");
+    if options.models.iter().any(|m| m.has_light_time()) {
+        eprintln!("{LIGHT_TIME_CAUTION}");
     }
+    // One progress bar per model's bootstrap; the library reports which model it is on.
+    let bar: std::sync::Mutex<Option<indicatif::ProgressBar>> = std::sync::Mutex::new(None);
+    let n_timings = timings.len();
+    let on_model = |m: ModelKind, _index: usize| {
+        if let Some(pb) = bar.lock().unwrap_or_else(|e| e.into_inner()).take() {
+            pb.finish_and_clear();
+        }
+        let pb = if a.bootstrap > 0 {
+            super::common::progress_bar(
+                a.bootstrap as u64,
+                &format!("fitting and bootstrap of the {} model", m.name()),
+                a.quiet,
+            )
+        } else {
+            super::common::spinner(&format!("fitting the {} model to {n_timings} timings", m.name()), a.quiet)
+        };
+        *bar.lock().unwrap_or_else(|e| e.into_inner()) = Some(pb);
+    };
+    let progress = |n: u64| {
+        if let Some(pb) = bar.lock().unwrap_or_else(|e| e.into_inner()).as_ref() {
+            pb.inc(n);
+        }
+    };
+    let analysis = analyse(&timings, &eph, &options, &on_model, &progress);
+    if let Some(pb) = bar.lock().unwrap_or_else(|e| e.into_inner()).take() {
+        pb.finish_and_clear();
+    }
+    let analysis = analysis.map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+    let series = analysis.series.as_ref().context("the analysis kept no O–C series")?;
+    let fits = &analysis.fits;
     // The O–C table.
     let mut columns = vec![
         Column::new("row".into(), series.row.iter().map(|&r| r as u64).collect::<Vec<_>>()),
@@ -243,7 +269,7 @@ pub fn run(a: Args) -> Result<()> {
         Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
     ];
     for f in fits {
-        let name = f.kind.name().replace(['+', '-'], "_");
+        let name = f.kind.name().replace('+', "_").replace('-', "_");
         let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
         let sigma: Vec<f64> = (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
         let resid: Vec<f64> = series.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect();
@@ -260,33 +286,27 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
-    let by_bic = |f: &&skyclock::oc::ModelFit| skyclock::oc::information(f).bic;
     let title = format!("O − C of {}", source.name);
     let mut outputs = vec![a.output.display().to_string()];
     if let Some(path) = &a.figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
-        let best = fits.iter().min_by(|x, y| by_bic(x).total_cmp(&by_bic(y))).context("no model was fitted")?;
+        let best = analysis.best_by_bic(false).context("no model was fitted")?;
         let (e1, e2) = epoch.jd_two_part();
         skyclock::plot::write_figure(&skyclock::plot::timing::oc_diagram(&title, series, best, e1 + e2), path)?;
-        outputs.push(path.display().to_string());
     }
     if let Some(path) = &a.orbit_figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
-        let best = fits
-            .iter()
-            .filter(|f| f.kind.has_light_time())
-            .min_by(|x, y| by_bic(x).total_cmp(&by_bic(y)))
+        let best = analysis
+            .best_by_bic(true)
             .context("--orbit-figure needs a light-time model in --models (light-time or quadratic+light-time)")?;
         if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, series, best) {
             skyclock::plot::write_figure(&fig, path)?;
             outputs.push(path.display().to_string());
         }
     }
-    if let Some(path) = &a.summary {
-        outputs.push(path.display().to_string());
-    }
-    let summary: Summary<OcAnalysis> = Summary::new(analysis.clone(), provenance, vec![file.clone()], outputs);
-    let text = summary.to_json()?;
+    let mut outputs = vec![a.output.display().to_string()];
+    outputs.extend(a.summary.iter().chain(&a.figure).chain(&a.orbit_figure).map(|p| p.display().to_string()));
+    let text = Summary::new(analysis.clone(), provenance, vec![file.clone()], outputs).to_json()?;
     if let Some(path) = &a.summary {
         super::common::write_text(path, &text, &[a.table.input.as_path()])?;
     }
@@ -303,8 +323,8 @@ pub fn run(a: Args) -> Result<()> {
             series.cycle.last().unwrap_or(&0.0),
             a.output.display()
         );
-        for m in &analysis.models {
-            let i = &m.fit;
+        for f in fits {
+            let i = information(f);
             println!(
                 "  {:<22} χ² = {:.1} for {} dof (reduced {:.2}), BIC = {:.1}",
                 i.model, i.chi2, i.dof, i.reduced_chi2, i.bic

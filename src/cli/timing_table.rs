@@ -12,9 +12,10 @@ use super::common::{
     ObserverArgs, ReferenceData, ReferenceDataArgs, SourceArgs, clock_choice, timing_kinds_and_errors,
 };
 use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions, Source};
+use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
 use skyclock::oc::EventKind;
 use skyclock::table::read_table;
+use skyclock::time::TimeScale;
 
 /// A table of event timings and how to read it.
 #[derive(Debug, ClapArgs)]
@@ -70,7 +71,19 @@ impl TimingTableArgs {
     pub fn read(&self, example_clock: &str, extra_text_columns: &[&str]) -> Result<TimingTable> {
         let clock = clock_choice(&self.clock, &self.clock_column, example_clock)?;
         let description = self.observer.description()?;
-        let source = self.source.load(description.as_ref())?;
+        // Times already in BJD_TDB need no source: no delay is applied to them, so a
+        // placeholder direction stands in when none is given.
+        let barycentric_tdb = self.clock_column.is_none()
+            && clock.is_some_and(|c| c.reference == ReferencePoint::Barycentric && c.scale == TimeScale::Tdb);
+        let no_position_given =
+            self.source.source_file.is_none() && self.source.ra.is_none() && self.source.dec.is_none();
+        let source = match self.source.load(description.as_ref()) {
+            Ok(s) => s,
+            Err(_) if barycentric_tdb && no_position_given => {
+                Source::fixed_degrees("target", 0.0, 0.0).map_err(anyhow::Error::msg)?
+            }
+            Err(e) => return Err(e),
+        };
         let observer = self.observer.observer_spec(description.as_ref())?;
         let reference = self.reference_data.load()?;
         let corrector = BarycentricCorrector::new(

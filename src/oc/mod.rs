@@ -19,7 +19,10 @@ pub mod light_time_method;
 pub mod models;
 pub mod orbit;
 
-pub use analysis::{AnalysisOptions, AnalysisProgress, NoProgress, OcAnalysis, OcAnalysisRun, analyse_timings};
+pub use analysis::{
+    AnalysisOptions, BootstrapRun, EstimateSummary, LIGHT_TIME_CAUTION, ModelSummary, OcAnalysis,
+    ReferenceEphemerisSummary, analyse,
+};
 pub use companion::{mass_function_msun, minimum_companion_mass_msun, projected_semi_major_axis_au};
 pub use compare::{ModelComparison, NestedTest, compare_nested, format_p_value, information};
 pub use cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
