@@ -96,74 +96,17 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but warnings, cautions and errors (no progress display, no result lines).
+    /// No progress display on stderr.
     #[arg(long)]
     pub quiet: bool,
 }
 
-/// The command's progress display: a spinner per model fit, a bar per bootstrap.
-struct Progress {
-    quiet: bool,
-    bar: std::sync::Mutex<Option<indicatif::ProgressBar>>,
-}
-
-impl Progress {
-    fn show(&self, bar: indicatif::ProgressBar) {
-        if let Ok(mut slot) = self.bar.lock() {
-            *slot = Some(bar);
-        }
-    }
-    fn clear(&self) {
-        if let Ok(mut slot) = self.bar.lock()
-            && let Some(bar) = slot.take()
-        {
-            bar.finish_and_clear();
-        }
-    }
-}
-
-impl AnalysisProgress for Progress {
-    fn model_started(&self, model: ModelKind, timings: usize) {
-        self.show(super::common::spinner(
-            &format!("fitting the {} model to {timings} timings", model.name()),
-            self.quiet,
-        ));
-    }
-    fn model_finished(&self) {
-        self.clear();
-    }
-    fn bootstrap_started(&self, model: ModelKind, resamples: usize) {
-        self.show(super::common::progress_bar(
-            resamples as u64,
-            &format!("bootstrap of the {} model", model.name()),
-            self.quiet,
-        ));
-    }
-    fn bootstrap_advanced(&self, done: u64) {
-        if let Ok(slot) = self.bar.lock()
-            && let Some(bar) = slot.as_ref()
-        {
-            bar.inc(done);
-        }
-    }
-    fn bootstrap_finished(&self) {
-        self.clear();
-    }
-}
-
-/// Runs the command: reads and barycentres the timings, calls
-/// [`skyclock::oc::analyse_timings`], writes the O–C table, figures and summary.
+/// Runs the command.
 pub fn run(a: Args) -> Result<()> {
     let models: Vec<ModelKind> = a
         .models
         .split(',')
-        .map(|m| {
-            ModelKind::parse(m).with_context(|| {
-                format!(
-                    "--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time"
-                )
-            })
-        })
+        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time")))
         .collect::<Result<_>>()?;
     let range = match &a.companion_period_range_d {
         None => None,
@@ -269,7 +212,7 @@ pub fn run(a: Args) -> Result<()> {
         Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
     ];
     for f in fits {
-        let name = f.kind.name().replace('+', "_").replace('-', "_");
+        let name = f.kind.name().replace(['+', '-'], "_");
         let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
         let sigma: Vec<f64> = (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
         let resid: Vec<f64> = series.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect();
@@ -278,8 +221,7 @@ pub fn run(a: Args) -> Result<()> {
         columns.push(Column::new(format!("residual_{name}_d").into(), resid));
     }
     let mut out = DataFrame::new(series.len(), columns).context("building the output table")?;
-    let command_line = std::env::args().collect::<Vec<_>>().join(" ");
-    let provenance = Provenance::new(&command_line)
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "timing-residuals")
         .with("input", file.clone())
         .with("ephemeris", reference.ephemeris.name())
@@ -287,7 +229,6 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
     let title = format!("O − C of {}", source.name);
-    let mut outputs = vec![a.output.display().to_string()];
     if let Some(path) = &a.figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = analysis.best_by_bic(false).context("no model was fitted")?;
@@ -301,7 +242,6 @@ pub fn run(a: Args) -> Result<()> {
             .context("--orbit-figure needs a light-time model in --models (light-time or quadratic+light-time)")?;
         if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, series, best) {
             skyclock::plot::write_figure(&fig, path)?;
-            outputs.push(path.display().to_string());
         }
     }
     let mut outputs = vec![a.output.display().to_string()];
@@ -315,7 +255,7 @@ pub fn run(a: Args) -> Result<()> {
     }
     if a.json {
         println!("{text}");
-    } else if !a.quiet {
+    } else {
         println!(
             "{} timings on cycles {} … {} → {}",
             series.len(),

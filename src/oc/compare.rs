@@ -36,25 +36,6 @@ pub fn information(fit: &ModelFit) -> ModelComparison {
     }
 }
 
-/// F-test threshold: p below 0.0027 (3σ for a Gaussian; common practice).
-pub const F_TEST_P_THRESHOLD: f64 = 0.0027;
-/// ΔBIC threshold: below −6 is "strong" evidence (Kass & Raftery 1995, JASA 90, 773).
-pub const DELTA_BIC_THRESHOLD: f64 = -6.0;
-
-/// A probability as text: "p = 3.1e-5", or "p < 1e-16" below what a double-precision
-/// 1 − CDF can resolve (the computed value is then 0 or rounding noise).
-pub fn format_p_value(p: f64) -> String {
-    if !p.is_finite() {
-        "p not computable".to_string()
-    } else if p < 1e-16 {
-        "p < 1e-16".to_string()
-    } else if p < 1e-3 {
-        format!("p = {p:.2e}")
-    } else {
-        format!("p = {p:.3}")
-    }
-}
-
 /// The F-test between a simpler model and a richer one that contains it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct NestedTest {
@@ -63,7 +44,6 @@ pub struct NestedTest {
     /// Richer model.
     pub richer: String,
     /// F = [(χ²₁ − χ²₂)/(k₂ − k₁)] / [χ²₂/(n − k₂)].
-    #[serde(with = "crate::table::summary::nan_as_null")]
     pub f_statistic: f64,
     /// Probability of an F this large by chance if the simpler model were true.
     pub p_value: f64,
@@ -71,11 +51,7 @@ pub struct NestedTest {
     pub delta_bic: f64,
     /// Whether the richer model is preferred (p < 0.0027, i.e. 3σ, and ΔBIC < −6).
     pub richer_preferred: bool,
-    /// Whether the F-test and ΔBIC point the same way (both favour the richer model, or
-    /// neither does).
-    pub criteria_agree: bool,
-    /// The verdict in words with its numbers: which criterion decided, and where the F-test
-    /// and ΔBIC disagree.
+    /// The verdict in words with its numbers.
     pub verdict: String,
 }
 
@@ -146,7 +122,6 @@ pub fn compare_nested(simpler: &ModelFit, richer: &ModelFit) -> Option<NestedTes
         p_value: p,
         delta_bic,
         richer_preferred: preferred,
-        criteria_agree: f_test_favours == bic_favours,
         verdict,
     })
 }
