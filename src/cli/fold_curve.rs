@@ -9,9 +9,9 @@ use polars::prelude::*;
 
 use super::common::write_text;
 use super::light_curve_input::LightCurveArgs;
-use skyclock::fold::{BinStatistic, bin_folded, fold_times, refine_period};
+use skyclock::fold::{BinStatistic, FoldRequest, fold_light_curve};
 use skyclock::survey::input::days_since;
-use skyclock::table::{Provenance, write_table};
+use skyclock::table::{Provenance, Summary, write_table};
 use skyclock::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
@@ -86,21 +86,14 @@ pub fn run(a: Args) -> Result<()> {
             days_since(&t, &lc.epoch)
         }
     };
-    let (period_d, refined) = match a.refine_harmonics {
-        Some(h) => {
-            let r = refine_period(&series, 1.0 / a.period_d, h).map_err(|e| lc.locate(e))?;
-            (r.period_d, Some(r))
-        }
-        None => (a.period_d, None),
-    };
-    let phase = fold_times(series.time_d(), period_d, epoch_d).map_err(|e| lc.locate(e))?;
-    let errors: Option<Vec<f64>> =
-        series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
-    let stat = match a.bin_statistic {
+    let statistic = match a.bin_statistic {
         BinArg::Mean => BinStatistic::Mean,
         BinArg::Median => BinStatistic::Median,
     };
-    let bins = bin_folded(&phase, series.value(), errors.as_deref(), a.bins, stat).map_err(|e| lc.locate(e))?;
+    let request =
+        FoldRequest { period_d: a.period_d, epoch_d, refine_harmonics: a.refine_harmonics, bins: a.bins, statistic };
+    let folded = fold_light_curve(&series, &request, &note).map_err(|e| lc.locate(e))?;
+    let (phase, errors, bins, period_d) = (&folded.phase, &folded.error, &folded.bins, folded.period_d);
     let input = a.light_curve.input.as_path();
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "fold-curve")
@@ -111,7 +104,7 @@ pub fn run(a: Args) -> Result<()> {
         let rows: Vec<u64> = series.row().iter().map(|&i| lc.file_row[i] as u64).collect();
         let mut cols = vec![
             Column::new("input_row".into(), rows),
-            Column::new("phase".into(), phase.clone()),
+            Column::new("phase".into(), phase.to_vec()),
             Column::new("days_since_epoch".into(), series.time_d().iter().map(|t| t - epoch_d).collect::<Vec<f64>>()),
             Column::new("value".into(), series.value().to_vec()),
         ];
@@ -130,42 +123,32 @@ pub fn run(a: Args) -> Result<()> {
         ])?;
         write_table(&mut df, path, &provenance, &[input])?;
     }
-    let num = |v: f64| if v.is_finite() { serde_json::json!(v) } else { serde_json::Value::Null };
-    let summary = serde_json::json!({
-        "points": series.len(),
-        "rows_dropped_nan": series.n_dropped(),
-        "period_d": period_d,
-        "period_err_d": refined.as_ref().map(|r| num(r.period_err_d)),
-        "refined_with_harmonics": refined.as_ref().map(|r| r.harmonics),
-        "epoch_days_after_first_noon": epoch_d,
-        "bins": bins.len(),
-        "empty_bins": bins.iter().filter(|b| b.count == 0).count(),
-        "times": note,
-    });
-    if let Some(path) = &a.summary {
-        write_text(
-            path,
-            &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,
-            &[input],
-        )?;
-    }
     if let Some(path) = &a.figure {
         use skyclock::plot::{search::FoldedCurve, search::folded_figure, write_figure};
         skyclock::table::refuse_overwriting_inputs(path, &[input])?;
         let label = format!("{} (input units)", a.light_curve.value_column);
         let curve = FoldedCurve {
-            phase: &phase,
+            phase,
             value: series.value(),
             error: errors.as_deref(),
-            bins: &bins,
+            bins,
             value_label: &label,
             invert_y: false,
         };
         let fig = folded_figure(&curve, &format!("{} folded at P = {period_d:.8} d", input.display()));
         write_figure(&fig, path)?;
     }
+    let outputs: Vec<String> = [&a.output, &a.binned_output, &a.summary, &a.figure]
+        .into_iter()
+        .flatten()
+        .map(|p| p.display().to_string())
+        .collect();
+    let text = Summary::new(folded.report.clone(), provenance, vec![input.display().to_string()], outputs).to_json()?;
+    if let Some(path) = &a.summary {
+        write_text(path, &text, &[input])?;
+    }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&summary)?);
+        println!("{text}");
     } else if !a.quiet {
         println!(
             "folded {} points at P = {period_d:.10} d into {} bins ({} empty)",

@@ -7,7 +7,9 @@
 pub mod binning;
 pub mod phase;
 pub mod refine;
+pub mod run;
 
 pub use binning::{BinStatistic, PhaseBin, bin_folded, residuals_from_bins};
 pub use phase::{fold_times, phase_of};
 pub use refine::{RefinedPeriod, refine_period};
+pub use run::{FoldReport, FoldRequest, FoldedLightCurve, fold_light_curve};
