@@ -50,7 +50,7 @@ fn corrects_a_table_and_records_provenance() {
     let prov = std::fs::read_to_string(d.join("out.csv.provenance.json")).unwrap();
     assert!(prov.contains("DE440") && prov.contains("leap_seconds"), "{prov}");
     let summary: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-    assert_eq!(summary["summary"]["rows"], 2);
+    assert_eq!(summary["correction"]["rows"], 2);
     // Parquet output with the same content.
     let pq = d.join("out.parquet");
     let o = run_barycentre(&input, &pq, &["--clock", "jd_utc"]);
