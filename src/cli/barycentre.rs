@@ -100,11 +100,10 @@ pub fn run(a: Args) -> Result<()> {
     } else if !a.quiet {
         let r = &summary.result;
         println!(
-            "corrected {} rows to BJD_TDB for {} → {}\n  clocks: {}; total correction {:.6} … {:.6} s; ephemeris: {}",
+            "corrected {} rows to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}",
             r.correction.rows,
             source.name,
             a.output.display(),
-            r.clocks_seen.join(", "),
             r.correction.min_total_correction_s,
             r.correction.max_total_correction_s,
             r.reference.ephemeris
