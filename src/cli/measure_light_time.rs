@@ -67,6 +67,10 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Print nothing but warnings and errors: no progress display, no notes, no result lines
+    /// (--json still prints).
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -172,7 +176,7 @@ pub fn run(a: Args) -> Result<()> {
     }
     if a.json {
         println!("{text}");
-    } else {
+    } else if !a.quiet {
         println!(
             "{} timings, projections r·n from {:.3} to {:.3} au → {}",
             m.n,
