@@ -10,6 +10,9 @@
 use std::path::PathBuf;
 use std::process::Command;
 
+#[path = "common/json.rs"]
+mod json;
+
 use skyclock::fit::SeededRng;
 use skyclock::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, UncorrectedTiming, measure_light_time};
 use skyclock::oc::{EventKind, ReferenceEphemeris};
@@ -87,6 +90,9 @@ fn the_command_measures_the_light_time_per_au_from_astropy_timings() {
         "--json",
     ]);
     assert_eq!(code, 0, "{stderr}");
+    // The --json output is exactly Summary<LightTimeMeasurement>.
+    let typed = json::assert_summary_round_trip::<skyclock::oc::light_time_method::LightTimeMeasurement>(&stdout);
+    assert!((typed.result.defined_light_time_per_au_s - LIGHT_TIME_PER_AU_S).abs() < 1e-9);
     let v: serde_json::Value = serde_json::from_str(&stdout).expect("json");
     let a = v["light_time_per_au_s"].as_f64().unwrap();
     let c = v["speed_of_light_m_per_s"].as_f64().unwrap();

@@ -13,9 +13,7 @@ use super::timing_table::TimingTableArgs;
 use skyclock::arrival::ReferencePoint;
 use skyclock::arrival::table::ClockSpec;
 use skyclock::oc::ReferenceEphemeris;
-use skyclock::oc::light_time_method::{
-    LIGHT_TIME_PER_AU_S, LightTimeOptions, SPEED_OF_LIGHT_M_PER_S, UncorrectedTiming, measure_light_time,
-};
+use skyclock::oc::light_time_method::{LIGHT_TIME_PER_AU_S, LightTimeOptions, UncorrectedTiming, measure_light_time};
 use skyclock::table::{Provenance, float_column, text_column, write_table};
 use skyclock::time::{Instant, TimeFormat, TimeScale, parse_time};
 
@@ -67,6 +65,10 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Print nothing but warnings and errors: no progress display, no notes, no result lines
+    /// (--json still prints).
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -138,26 +140,10 @@ pub fn run(a: Args) -> Result<()> {
         .with("input", file.clone())
         .with("ephemeris", reference.ephemeris.name());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
-    let deviation_sigma = (m.light_time_per_au_s - LIGHT_TIME_PER_AU_S) / m.light_time_per_au_sigma_scaled_s;
-    let summary = serde_json::json!({
-        "input": file, "output": a.output.display().to_string(), "timings": m.n,
-        "light_time_per_au_s": m.light_time_per_au_s,
-        "light_time_per_au_sigma_s": m.light_time_per_au_sigma_s,
-        "light_time_per_au_sigma_scaled_s": m.light_time_per_au_sigma_scaled_s,
-        "speed_of_light_m_per_s": m.speed_of_light_m_per_s,
-        "speed_of_light_sigma_m_per_s": m.speed_of_light_sigma_m_per_s,
-        "defined_light_time_per_au_s": LIGHT_TIME_PER_AU_S,
-        "defined_speed_of_light_m_per_s": SPEED_OF_LIGHT_M_PER_S,
-        "deviation_from_defined_sigma": deviation_sigma,
-        "period_d": m.period_d, "period_sigma_d": m.period_sigma_d,
-        "epoch_shift_d": m.epoch_shift_d, "epoch_shift_sigma_d": m.epoch_shift_sigma_d,
-        "quadratic_d": m.quadratic_d.map(|q| serde_json::json!({"value": q.0, "sigma": q.1})),
-        "chi2": m.chi2, "dof": m.dof, "reduced_chi2": m.reduced_chi2,
-        "projection_range_au": [m.projection_range_au.0, m.projection_range_au.1],
-        "warnings": m.warnings,
-        "ephemeris": reference.ephemeris.name(),
-    });
-    let text = serde_json::to_string_pretty(&summary)?;
+    let deviation_sigma = m.deviation_from_defined_sigma;
+    let mut outputs = vec![a.output.display().to_string()];
+    outputs.extend(a.summary.iter().map(|p| p.display().to_string()));
+    let text = skyclock::table::Summary::new(m.clone(), provenance, vec![file.clone()], outputs).to_json()?;
     if let Some(path) = &a.summary {
         super::common::write_text(path, &text, &[a.table.input.as_path()])?;
     }
@@ -172,7 +158,7 @@ pub fn run(a: Args) -> Result<()> {
     }
     if a.json {
         println!("{text}");
-    } else {
+    } else if !a.quiet {
         println!(
             "{} timings, projections r·n from {:.3} to {:.3} au → {}",
             m.n,

@@ -109,7 +109,8 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but warnings and errors (no progress display, no result lines).
+    /// Print nothing but warnings and errors: no progress display, no notes, no result lines
+    /// (--json still prints).
     #[arg(long)]
     pub quiet: bool,
 }

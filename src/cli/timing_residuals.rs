@@ -96,7 +96,8 @@ pub struct Args {
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
-    /// No progress display on stderr.
+    /// Print nothing but warnings and errors: no progress display, no notes, no result lines
+    /// (--json still prints).
     #[arg(long)]
     pub quiet: bool,
 }
@@ -255,7 +256,7 @@ pub fn run(a: Args) -> Result<()> {
     }
     if a.json {
         println!("{text}");
-    } else {
+    } else if !a.quiet {
         println!(
             "{} timings on cycles {} … {} → {}",
             series.len(),

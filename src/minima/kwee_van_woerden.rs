@@ -116,8 +116,8 @@ pub fn kwee_van_woerden(time_d: &[f64], value: &[f64]) -> Result<KweeVanWoerden,
     };
     if max_pairs(jc - 1, m) < min_pairs || max_pairs(jc + 1, m) < min_pairs {
         return Err(MinimaError::NoExtremum(format!(
-            "the most symmetric point lies at the edge of the middle half of the window ({:.6} d); centre the window on the event",
-            time_d[0] + jc as f64 * h / 2.0
+            "the most symmetric point lies at the edge of the middle half of the window ({:.6} d after its first point); centre the window on the event",
+            jc as f64 * h / 2.0
         )));
     }
     let pairs = max_pairs(jc - 1, m).min(max_pairs(jc, m)).min(max_pairs(jc + 1, m));

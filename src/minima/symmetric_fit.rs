@@ -237,8 +237,8 @@ pub fn fit_symmetric(
     let x_max = x.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     if fit.params[0] < x_min || fit.params[0] > x_max {
         return Err(MinimaError::NoExtremum(format!(
-            "the fitted centre {:.6} d lies outside the points",
-            origin_d + fit.params[0] * scale_d
+            "the fitted centre lies {:+.6} d from the origin of the fit (the predicted centre), outside the points",
+            fit.params[0] * scale_d
         )));
     }
     // The fitted extremum must be of the requested kind (curvature sign).

@@ -46,7 +46,7 @@ pub struct LightTimeOptions {
 }
 
 /// The measured light time per au and what came with it.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct LightTimeMeasurement {
     /// Light time per au A, s, and its 1σ (from the covariance, errors as given).
     pub light_time_per_au_s: f64,
@@ -82,6 +82,10 @@ pub struct LightTimeMeasurement {
     pub residuals: Vec<(usize, f64, f64, f64)>,
     /// Warnings from the cycle count.
     pub warnings: Vec<String>,
+    /// The defined light time per au (IAU 2012 au and SI c), s, for comparison.
+    pub defined_light_time_per_au_s: f64,
+    /// (A − defined value) / scaled 1σ of A.
+    pub deviation_from_defined_sigma: f64,
 }
 
 /// Measures the light time per au from timings not corrected to the barycentre.
@@ -175,6 +179,8 @@ pub fn measure_light_time(
         projection_range_au: (lo, hi),
         residuals,
         warnings: series.warnings,
+        defined_light_time_per_au_s: LIGHT_TIME_PER_AU_S,
+        deviation_from_defined_sigma: (a - LIGHT_TIME_PER_AU_S) / (a_sigma * reduced.max(1.0).sqrt()),
     })
 }
 
