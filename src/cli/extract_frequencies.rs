@@ -11,9 +11,10 @@ use super::common::{spinner, write_text};
 use super::find_periods::KernelArg;
 use super::light_curve_input::LightCurveArgs;
 use skyclock::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
-use skyclock::frequencies::prewhiten::{Combination, PrewhitenOptions, StopReason, prewhiten};
+use skyclock::frequencies::prewhiten::{PrewhitenOptions, StopReason, prewhiten};
+use skyclock::frequencies::summary::{ExtractedFrequency, FrequencyExtractionResult, combination_text};
 use skyclock::periodogram::{GridRequest, plan_grid};
-use skyclock::table::{Provenance, write_table};
+use skyclock::table::{Provenance, Summary, write_table};
 
 const EXAMPLE: &str = "Example (invented multiperiodic pulsator):
   skyclock extract-frequencies --input dsct_invented.csv --time-column bjd \\
@@ -62,20 +63,9 @@ pub struct Args {
     /// Print a machine-readable summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but warnings and errors (no progress display, no result lines).
+    /// Print nothing but errors.
     #[arg(long)]
     pub quiet: bool,
-}
-
-fn combination_text(c: &[Combination]) -> String {
-    c.iter()
-        .map(|c| match c {
-            Combination::Sum { i, j } => format!("f{}+f{}", i + 1, j + 1),
-            Combination::Difference { i, j } => format!("|f{}-f{}|", i + 1, j + 1),
-            Combination::Double { i } => format!("2f{}", i + 1),
-        })
-        .collect::<Vec<_>>()
-        .join(" ")
 }
 
 /// Runs the command.
@@ -140,34 +130,40 @@ pub fn run(a: Args) -> Result<()> {
         StopReason::MaxFrequencies => format!("reached {} frequencies", a.max_frequencies),
         StopReason::OutOfDegreesOfFreedom => "the model has as many parameters as the data allow".into(),
     };
-    let summary = serde_json::json!({
-        "points": series.len(),
-        "rows_dropped_nan": series.n_dropped(),
-        "baseline_d": series.baseline_d(),
-        "resolution_per_day": 1.0 / series.baseline_d(),
-        "phase_reference_bjd_tdb": epoch,
-        "detrending": detrending,
-        "residual_rms": result.residual_rms,
-        "stopped_because": stop,
-        "frequencies": f.iter().enumerate().map(|(k, x)| serde_json::json!({
-            "label": format!("f{}", k + 1),
-            "freq_per_day": x.fit.freq_per_day, "freq_err_per_day": x.fit.freq_err_per_day,
-            "amplitude": x.fit.amplitude, "amplitude_err": x.fit.amplitude_err,
-            "phase_cycles": x.fit.phase_cycles, "phase_err_cycles": x.fit.phase_err_cycles,
-            "signal_to_noise": x.snr, "noise": x.noise,
-            "combination": combination_text(&x.combinations),
-        })).collect::<Vec<_>>(),
-        "times": note,
-    });
+    let result = FrequencyExtractionResult {
+        points: series.len(),
+        rows_dropped_nan: series.n_dropped(),
+        baseline_d: series.baseline_d(),
+        resolution_per_day: 1.0 / series.baseline_d(),
+        phase_reference_bjd_tdb: epoch.clone(),
+        detrending: detrending.clone(),
+        residual_rms: result.residual_rms,
+        stopped_because: stop.clone(),
+        frequencies: f
+            .iter()
+            .enumerate()
+            .map(|(k, x)| ExtractedFrequency {
+                label: format!("f{}", k + 1),
+                freq_per_day: x.fit.freq_per_day,
+                freq_err_per_day: x.fit.freq_err_per_day,
+                amplitude: x.fit.amplitude,
+                amplitude_err: x.fit.amplitude_err,
+                phase_cycles: x.fit.phase_cycles,
+                phase_err_cycles: x.fit.phase_err_cycles,
+                signal_to_noise: x.snr,
+                noise: x.noise,
+                combination: combination_text(&x.combinations),
+            })
+            .collect(),
+        times: note.clone(),
+    };
+    let outputs: Vec<String> = [&a.output, &a.summary].into_iter().flatten().map(|p| p.display().to_string()).collect();
+    let summary = Summary::new(result, provenance.clone(), vec![input.display().to_string()], outputs);
     if let Some(path) = &a.summary {
-        write_text(
-            path,
-            &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,
-            &[input],
-        )?;
+        write_text(path, &summary.to_json()?, &[input])?;
     }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&summary)?);
+        println!("{}", summary.to_json()?);
     } else if !a.quiet {
         println!("extracted {} frequencies from {} points; {stop}", f.len(), series.len());
         for (k, x) in f.iter().enumerate() {

@@ -13,7 +13,7 @@ use skyclock::survey::batch::{
     BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows,
     run_batch_with_arrival,
 };
-use skyclock::table::{Provenance, write_table};
+use skyclock::table::{Provenance, Summary, write_table};
 use skyclock::time::LeapSecondTable;
 
 const EXAMPLE: &str = "Example (invented survey field):
@@ -84,7 +84,7 @@ pub struct Args {
     /// Print a machine-readable summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
-    /// Print nothing but warnings and errors (no progress display, no result lines).
+    /// Print nothing but errors.
     #[arg(long)]
     pub quiet: bool,
 }
@@ -264,12 +264,15 @@ pub fn run(a: Args) -> Result<()> {
     write_table(&mut df, &a.output, &provenance, &[a.input.as_path()])?;
     let seconds = started.elapsed().as_secs_f64();
     if a.json {
-        println!(
-            "{}",
-            serde_json::to_string_pretty(
-                &serde_json::json!({"output": a.output.display().to_string(), "times": times_note, "summary": summary, "seconds": seconds, "first_skipped": first_problems})
-            )?
-        );
+        let result = skyclock::survey::batch::BatchResult {
+            summary: summary.clone(),
+            output: a.output.display().to_string(),
+            times: times_note.clone(),
+            seconds,
+            first_skipped: first_problems.clone(),
+        };
+        let doc = Summary::new(result, provenance.clone(), vec![file.clone()], vec![a.output.display().to_string()]);
+        println!("{}", doc.to_json()?);
     } else if !a.quiet {
         println!(
             "{} sources ({} searched, {} skipped) from {} rows in {:.1} s → {}",

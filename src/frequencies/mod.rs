@@ -8,6 +8,7 @@ pub mod detrend;
 pub mod model;
 pub mod peaks;
 pub mod prewhiten;
+pub mod summary;
 
 pub use model::{FittedSinusoid, MultiSineFit, Sinusoid, fit_sinusoids};
 pub use peaks::{PeakOptions, describe_peaks};

@@ -374,7 +374,7 @@ pub struct SourceRows {
 }
 
 /// Carries the arrival times of one source, read in the table's clock, to BJD_TDB — for
-/// batches whose clock is not barycentric. Errors are messages for the source's report.
+/// batches whose clock is not barycentric. Errors go into the source's report.
 pub trait SourceArrival: Sync {
     /// BJD_TDB of each time, for a source at `ra_deg`, `dec_deg` (ICRS, degrees).
     fn to_barycentre(&self, ra_deg: f64, dec_deg: f64, times: &[Instant]) -> Result<Vec<Instant>, BarycentringError>;
@@ -449,11 +449,15 @@ pub struct SourceReport {
 /// Counts at the end of a batch, with the memory high-water marks (in rows) that show the
 /// batch stayed bounded: at most `peak_reader_rows + peak_points_held` data rows were held
 /// at once, whatever the size of the table.
-#[derive(Debug, Clone, Default, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Default, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct BatchSummary {
+    /// Sources found in the table.
     pub sources: usize,
+    /// Sources searched.
     pub searched: usize,
+    /// Sources skipped (their first problem is in their report).
     pub skipped: usize,
+    /// Data rows read.
     pub rows: usize,
     /// Most rows the table reader held at once (its slice; 1 for CSV/TSV).
     pub peak_reader_rows: usize,
@@ -461,6 +465,22 @@ pub struct BatchSummary {
     /// search, the sources gathering into the next batch and the source being read.
     /// Bounded by 3 × (`batch_points` + the longest source).
     pub peak_points_held: usize,
+}
+
+/// Result of `survey-batch`: the counts of a batch, the first problems met and the
+/// per-source table written.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct BatchResult {
+    /// Counts and memory high-water marks.
+    pub summary: BatchSummary,
+    /// Per-source table written (path as given).
+    pub output: String,
+    /// How the times were taken (clock, site, conversion), as text.
+    pub times: String,
+    /// Wall-clock seconds the batch took (informative only; varies run to run).
+    pub seconds: f64,
+    /// The first few skipped sources' problems, in words.
+    pub first_skipped: Vec<String>,
 }
 
 struct Grouper<'a> {
