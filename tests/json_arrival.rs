@@ -59,3 +59,49 @@ fn observer_time_json_is_its_library_type() {
     // --quiet: the geocentre note is not printed.
     assert!(!String::from_utf8_lossy(&o.stderr).contains("geocentre"));
 }
+
+/// A short invented event list (seconds after a TT time zero), an invented source direction.
+#[test]
+fn barycentre_events_json_is_its_result_type() {
+    let d = workdir_events();
+    let input = d.join("events.csv");
+    let mut text = String::from("seconds\n");
+    for k in 0..50 {
+        text.push_str(&format!("{}\n", k as f64 * 97.3));
+    }
+    std::fs::write(&input, text).unwrap();
+    let output = d.join("events_bary.csv");
+    let o = skyclock()
+        .args(["barycentre-events", "--input"])
+        .arg(&input)
+        .args(["--time-column", "seconds", "--time-zero", "2459000.5", "--time-zero-scale", "tt"])
+        .args(["--ra", "141.7", "--dec", "-37.4", "--json", "--output"])
+        .arg(&output)
+        .output()
+        .unwrap();
+    let s = json::assert_summary_round_trip::<skyclock::arrival::BarycentreEventsResult>(&stdout_of(&o));
+    assert_eq!(s.result.events.events, 50);
+}
+
+#[test]
+fn convert_time_json_is_its_result_type() {
+    // 2016-12-31T23:59:60.5 UTC = 2017-01-01T00:00:36.5 TAI (TAI−UTC 36 s that day, IERS Bulletin C).
+    let o = skyclock()
+        .args(["convert-time", "2016-12-31T23:59:60.5", "--format", "iso", "--scale", "utc", "--json"])
+        .output()
+        .unwrap();
+    let s = json::assert_summary_round_trip::<skyclock::arrival::ConvertTimeResult>(&stdout_of(&o));
+    assert_eq!(s.result.times[0].scales["tai"], "2017-01-01T00:00:36.500000000");
+    assert_eq!(s.result.times[0].scales.len(), 6);
+}
+
+fn workdir_events() -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("skyclock-json-arrival-events-{}", std::process::id()));
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn stdout_of(o: &std::process::Output) -> String {
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    String::from_utf8(o.stdout.clone()).unwrap()
+}

@@ -2,29 +2,20 @@
 //! type: it deserialises into `Summary<T>` and serialises back to the same JSON.
 //! Data: the invented demo scenario in `datasets/`.
 
+#[path = "common/cli.rs"]
+mod cli;
 #[path = "common/json.rs"]
 mod json;
 
+use cli::{run_ok, workdir};
+
 use std::path::PathBuf;
-use std::process::Command;
 
 use skyclock::survey::report::PeriodSearchReport;
 
-fn workdir(name: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("skyclock_json_search_{name}_{}", std::process::id()));
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
-fn run_ok(args: &[&str]) -> String {
-    let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().unwrap();
-    assert!(out.status.success(), "skyclock {args:?} failed:\n{}", String::from_utf8_lossy(&out.stderr));
-    String::from_utf8(out.stdout).unwrap()
-}
-
 #[test]
 fn find_periods_json_is_the_period_search_report() {
-    let d = workdir("find");
+    let d = workdir("json_search", "find");
     let summary = d.join("peaks.json");
     let stdout = run_ok(&[
         "find-periods",
@@ -87,12 +78,6 @@ fn invented_star() -> PathBuf {
     p
 }
 
-fn run_json(args: &[&str]) -> String {
-    let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
-    String::from_utf8(out.stdout).unwrap()
-}
-
 #[test]
 fn search_commands_print_their_typed_results() {
     let input = invented_star();
@@ -102,7 +87,7 @@ fn search_commands_print_their_typed_results() {
     let mut args = vec!["find-periods"];
     args.extend(common);
     args.extend(["--max-freq-per-day", "20", "--peaks", "3", "--json"]);
-    let s = json::assert_summary_round_trip::<PeriodSearchReport>(&run_json(&args));
+    let s = json::assert_summary_round_trip::<PeriodSearchReport>(&run_ok(&args));
     assert!((s.result.result.peaks[0].freq_per_day - 9.123).abs() < 2e-3, "{:?}", s.result.result.peaks[0]);
     assert_eq!(s.inputs, vec![input.to_string()]);
 
@@ -110,7 +95,7 @@ fn search_commands_print_their_typed_results() {
     let mut args = vec!["fold-curve"];
     args.extend(common);
     args.extend(["--period-d", &period, "--bins", "20", "--json"]);
-    let s = json::assert_summary_round_trip::<skyclock::fold::FoldReport>(&run_json(&args));
+    let s = json::assert_summary_round_trip::<skyclock::fold::FoldReport>(&run_ok(&args));
     assert_eq!(s.result.bins, 20);
     assert_eq!(s.result.points, 360);
 
@@ -118,7 +103,7 @@ fn search_commands_print_their_typed_results() {
     args.extend(common);
     args.extend(["--max-freq-per-day", "20", "--json"]);
     let s =
-        json::assert_summary_round_trip::<skyclock::frequencies::summary::FrequencyExtractionResult>(&run_json(&args));
+        json::assert_summary_round_trip::<skyclock::frequencies::summary::FrequencyExtractionResult>(&run_ok(&args));
     assert!((s.result.frequencies[0].freq_per_day - 9.123).abs() < 2e-3);
 
     // A batch of two invented stars (the same curve under two ids, the second shifted by
@@ -137,7 +122,7 @@ fn search_commands_print_their_typed_results() {
     let batch_in = dir.join("field_invented.csv");
     std::fs::write(&batch_in, batch).unwrap();
     let batch_out = dir.join("periods.csv");
-    let s = json::assert_summary_round_trip::<skyclock::survey::batch::BatchResult>(&run_json(&[
+    let s = json::assert_summary_round_trip::<skyclock::survey::batch::BatchResult>(&run_ok(&[
         "survey-batch",
         "--input",
         batch_in.to_str().unwrap(),

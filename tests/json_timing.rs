@@ -3,16 +3,18 @@
 //! no site and no source. Data: invented timings of an invented star (a linear ephemeris plus
 //! a steady period change, seeded noise); the values checked are the invented ones.
 
+#[path = "common/cli.rs"]
+mod cli;
 #[path = "common/json.rs"]
 mod json;
 
-use std::process::Command;
+use cli::skyclock;
 
 use skyclock::fit::SeededRng;
 use skyclock::oc::OcAnalysis;
 
 fn run(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_skyclock")).args(args).output().expect("run skyclock");
+    let out = skyclock().args(args).output().expect("run skyclock");
     (
         out.status.code().unwrap_or(-1),
         String::from_utf8_lossy(&out.stdout).into_owned(),

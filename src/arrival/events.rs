@@ -28,7 +28,7 @@ pub enum EventStreamError {
 }
 
 /// Result of a streamed correction.
-#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize, serde::Deserialize)]
 pub struct EventStreamSummary {
     /// Events corrected.
     pub events: usize,

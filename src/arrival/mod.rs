@@ -2,6 +2,7 @@
 //! solar-system barycentre (BJD_TDB), keeping every delay term for audit; repairs legacy
 //! heliocentric times; and inverts the correction for predictions.
 
+pub mod conversion;
 pub mod correction;
 pub mod delays;
 pub mod events;
@@ -11,6 +12,7 @@ pub mod run;
 pub mod source;
 pub mod table;
 
+pub use conversion::{BarycentreEventsResult, ConvertTimeResult, ConvertedTime, convert_times};
 pub use correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, DelayOptions, ReferencePoint};
 pub use reference::{ReferenceData, ReferenceDataError, ReferenceNames};
 pub use run::{BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, observer_times};

@@ -8,9 +8,9 @@ use clap::Args as ClapArgs;
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use skyclock::arrival::events::correct_event_file;
 use skyclock::arrival::interpolated::{DEFAULT_NODE_SPACING_S, InterpolatedCorrector};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::arrival::{BarycentreEventsResult, BarycentricCorrector, DelayOptions};
 use skyclock::observer::Observer;
-use skyclock::table::Provenance;
+use skyclock::table::{Provenance, Summary};
 use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example:
@@ -115,22 +115,24 @@ pub fn run(a: Args) -> Result<()> {
         use std::io::Write;
         f.write_all(provenance.to_json().as_bytes())
     })?;
+    let result = BarycentreEventsResult {
+        source: source.name.clone(),
+        events: summary,
+        time_zero: format!("{} {}", a.time_zero, scale),
+        node_spacing_s: a.node_spacing_s,
+        reference: reference.names(),
+    };
     if a.json {
-        println!(
-            "{}",
-            serde_json::to_string_pretty(&serde_json::json!({
-                "output": a.output.display().to_string(),
-                "summary": summary,
-                "ephemeris": reference.ephemeris.name(),
-            }))?
-        );
+        let inputs = vec![a.input.display().to_string()];
+        let outputs = vec![a.output.display().to_string()];
+        println!("{}", Summary::new(result, provenance, inputs, outputs).to_json()?);
     } else {
         println!(
             "corrected {} events → {} (correction {:.6} … {:.6} s)",
-            summary.events,
+            result.events.events,
             a.output.display(),
-            summary.min_correction_s,
-            summary.max_correction_s
+            result.events.min_correction_s,
+            result.events.max_correction_s
         );
     }
     Ok(())

@@ -4,7 +4,9 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs};
-use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::arrival::convert_times;
+use skyclock::table::{Provenance, Summary};
+use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example:
   skyclock convert-time 2016-12-31T23:59:60.5 --format iso --scale utc
@@ -68,36 +70,30 @@ pub fn run(a: Args) -> Result<()> {
     let description = a.observer.description()?;
     let site = a.observer.single_site(description.as_ref())?;
     let converter = reference.converter.at_site(site.as_ref().map(|s| s.dtdb_site()));
-    let mut records = Vec::new();
+    if a.times.is_empty() {
+        bail!("no times given");
+    }
+    let mut instants = Vec::with_capacity(a.times.len());
     for text in &a.times {
         let t = parse_time(text, format, scale, converter.leap_seconds())
             .map_err(|e| anyhow::anyhow!("time '{text}': {e}"))?;
-        let mut row = serde_json::Map::new();
-        row.insert("input".into(), text.clone().into());
-        for target in &targets {
-            let converted = converter.convert(&t, *target).map_err(|e| anyhow::anyhow!("time '{text}': {e}"))?;
-            if converted.scale() == TimeScale::Utc
-                && converter.leap_seconds().days_beyond_horizon(converted.mjd_day()).is_some()
-            {
-                eprintln!(
-                    "warning: {text} is beyond the leap-second table ({}); UTC may be off by 1 s",
-                    converter.leap_seconds().source()
-                );
-            }
-            row.insert(target.name().into(), format_time(&converted, to_format).into());
-        }
-        records.push(serde_json::Value::Object(row));
+        instants.push((text.clone(), t));
     }
-    if records.is_empty() {
-        bail!("no times given");
+    let result = convert_times(&instants, &converter, &targets, to_format, site.is_some())?;
+    for note in &result.notes {
+        eprintln!("{note}");
     }
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&records)?);
+        let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+            .with("stage", "convert-time")
+            .with("leap_seconds", result.leap_seconds.clone());
+        println!("{}", Summary::new(result, provenance, vec![], vec![]).to_json()?);
     } else {
-        for r in &records {
-            println!("{}", r["input"].as_str().unwrap_or_default());
+        for r in &result.times {
+            println!("{}", r.input);
             for target in &targets {
-                println!("  {:<4} {}", target.to_string(), r[target.name()].as_str().unwrap_or_default());
+                let value = r.scales.get(target.name()).map(String::as_str).unwrap_or_default();
+                println!("  {:<4} {value}", target.to_string());
             }
         }
     }
