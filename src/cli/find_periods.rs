@@ -49,7 +49,7 @@ pub enum KernelArg {
     Auto,
     /// Exact sums (slow on large grids).
     Exact,
-    /// Extirpolation + FFT (power within 1e-4 of exact).
+    /// Gaussian gridding + FFT, a non-uniform FFT (power within 1e-4 of exact).
     Fast,
 }
 
