@@ -7,9 +7,11 @@ pub mod format;
 pub mod instant;
 pub mod leap_seconds;
 pub mod scales;
+pub mod traits;
 
 pub use error::TimeError;
 pub use format::{TimeFormat, format_time, parse_time};
 pub use instant::{Instant, TimeScale};
 pub use leap_seconds::LeapSecondTable;
 pub use scales::{DtdbSite, ScaleConverter};
+pub use traits::{Duration, UnknownScale};
