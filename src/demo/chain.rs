@@ -79,12 +79,17 @@ fn figure(path: &Path, caption: &str) -> Result<ReportFigure> {
     Ok(ReportFigure { caption: caption.to_string(), svg })
 }
 
-/// A derived or fitted quantity of a model in a `timing-residuals` summary: (value, σ).
-fn model_value(summary: &serde_json::Value, model: &str, name: &str) -> Option<(f64, f64)> {
-    let m = summary["models"].as_array()?.iter().find(|m| m["model"] == model)?;
-    let all = m["parameters"].as_array()?.iter().chain(m["derived"].as_array()?.iter());
-    let found = all.into_iter().find(|p| p["name"] == name)?;
-    Some((found["value"].as_f64()?, found["sigma_covariance"].as_f64().unwrap_or(f64::NAN)))
+/// A stage's summary file read back as its library result type.
+fn read_summary<T: serde::de::DeserializeOwned>(path: &Path) -> Result<skyclock::table::Summary<T>> {
+    let text = std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
+    serde_json::from_str(&text).with_context(|| format!("{} is not the summary this stage writes", path.display()))
+}
+
+/// A derived or fitted quantity of a model in an O–C analysis: (value, σ).
+fn model_value(analysis: &skyclock::oc::OcAnalysis, model: &str, name: &str) -> Option<(f64, f64)> {
+    let m = analysis.models.iter().find(|m| m.model == model)?;
+    let found = m.parameters.iter().chain(&m.derived).find(|p| p.name == name)?;
+    Some((found.value, found.sigma_covariance.unwrap_or(f64::NAN)))
 }
 
 /// Today's UTC date as YYYY-MM-DD and the date `days` later.
@@ -219,9 +224,9 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         &ot("kx_periodogram.svg"),
         "--quiet",
     ]))?;
-    let peaks = read_json(&o("kx_periods.json"))?;
-    let p_found = peaks["result"]["peaks"][0]["period_d"].as_f64().context("no period found")?;
-    let p_err = peaks["result"]["peaks"][0]["period_err_d"].as_f64().unwrap_or(f64::NAN);
+    let peaks = read_summary::<skyclock::survey::report::PeriodSearchReport>(&o("kx_periods.json"))?.result;
+    let top = peaks.result.peaks.first().context("no period found")?;
+    let (p_found, p_err) = (top.period_d, top.period_err_d);
     comparisons.push(compare("period from one season of photometry (d)", p_found, p_err, TRUE_PERIOD_D, 6));
     command(&s(&[
         "fold-curve",
@@ -355,7 +360,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         "--orbit-figure",
         &ot("kx_orbit.svg"),
     ]))?;
-    let oc = read_json(&o("kx_oc.json"))?;
+    let oc = read_summary::<skyclock::oc::OcAnalysis>(&o("kx_oc.json"))?.result;
     let best = "quadratic+light-time";
     let truth_amp_s = {
         let (e, w) = skyclock::oc::models::eccentricity_omega(THIRD_BODY[2], THIRD_BODY[3]);
@@ -372,10 +377,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         let (v, sg) = model_value(&oc, best, name).with_context(|| format!("{name} missing from the O–C summary"))?;
         comparisons.push(compare(label, v, sg, truth, digits));
     }
-    let verdicts: Vec<String> = oc["verdicts"]
-        .as_array()
-        .map(|v| v.iter().filter_map(|x| x.as_str().map(String::from)).collect())
-        .unwrap_or_default();
+    let verdicts: Vec<String> = oc.verdicts.clone();
     let mut oc_table = Table::new(
         "Fitted third body and period change (covariance 1σ) beside the invented truth",
         &["quantity", "recovered", "truth"],
@@ -391,10 +393,8 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     for v in &verdicts {
         oc_section = oc_section.with_paragraph(v);
     }
-    if let Some(cautions) = oc["cautions"].as_array() {
-        for c in cautions.iter().filter_map(|c| c.as_str()) {
-            oc_section = oc_section.with_caution(c.trim_start_matches("caution: "));
-        }
+    for c in &oc.cautions {
+        oc_section = oc_section.with_caution(c.trim_start_matches("caution: "));
     }
     report_sections.push(oc_section);
 
