@@ -69,11 +69,6 @@ fn data_rows(path: &Path) -> usize {
     std::fs::read_to_string(path).map(|t| t.lines().count().saturating_sub(1)).unwrap_or(0)
 }
 
-fn read_json(path: &Path) -> Result<serde_json::Value> {
-    let text = std::fs::read_to_string(path).with_context(|| format!("reading {}", path.display()))?;
-    serde_json::from_str(&text).with_context(|| format!("{} is not JSON", path.display()))
-}
-
 fn figure(path: &Path, caption: &str) -> Result<ReportFigure> {
     let svg = std::fs::read_to_string(path).with_context(|| format!("reading the figure {}", path.display()))?;
     Ok(ReportFigure { caption: caption.to_string(), svg })
@@ -545,13 +540,9 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         &std::fs::read_to_string(o("veyra_fitted.toml"))?,
         &ot("veyra_fitted.toml"),
     )?;
-    let fit = read_json(&o("veyra_fit.json"))?;
+    let solution = read_summary::<skyclock::pulsar::timing_fit::TimingSolution>(&o("veyra_fit.json"))?.result;
     let truth = pulsar_scenario::true_model();
-    let sigma_of = |name: &str| -> f64 {
-        let names = fit["fit"]["parameters"].as_array();
-        let idx = names.and_then(|n| n.iter().position(|x| x == name));
-        idx.and_then(|i| fit["fit"]["uncertainties"][i].as_f64()).unwrap_or(f64::NAN)
-    };
+    let sigma_of = |name: &str| -> f64 { solution.fit.by_name(name).map_or(f64::NAN, |e| e.sigma) };
     comparisons.push(compare("pulsar spin frequency ν (Hz)", fitted.freq_hz, sigma_of("freq_hz"), truth.freq_hz, 11));
     comparisons.push(Comparison {
         quantity: "pulsar ν̇ (Hz/s)".into(),
