@@ -17,6 +17,10 @@ pub const SPEED_OF_LIGHT_KM_PER_S: f64 = SPEED_OF_LIGHT_M_PER_S / 1000.0;
 pub const ASTRONOMICAL_UNIT_M: f64 = 149_597_870_700.0;
 /// Astronomical unit, km (exact).
 pub const ASTRONOMICAL_UNIT_KM: f64 = ASTRONOMICAL_UNIT_M / 1000.0;
+/// Smallest tail probability a double-precision 1 − CDF resolves; below it a computed
+/// p-value or false-alarm probability is rounding noise and is printed as the bound
+/// "< 1e-16" (common practice: 1 − CDF loses everything below the machine epsilon, 2.2e-16).
+pub const PROBABILITY_FLOOR: f64 = 1e-16;
 /// Light time for one astronomical unit, s (≈ 499.004 784 s; from the two exact values above).
 pub const LIGHT_TIME_PER_AU_S: f64 = ASTRONOMICAL_UNIT_M / SPEED_OF_LIGHT_M_PER_S;
 

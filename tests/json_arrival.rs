@@ -1,16 +1,13 @@
 //! The `--json` output of the arrival commands is exactly `Summary<T>` of their library
 //! result types (checked by deserialising and re-serialising). Input times are invented.
 
+#[path = "common/cli.rs"]
+mod cli;
 #[path = "common/json.rs"]
 mod json;
 
-use std::process::Command;
-
+use cli::{skyclock, stdout_of, workdir};
 use skyclock::arrival::{BarycentreRun, ObserverTimes};
-
-fn skyclock() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_skyclock"))
-}
 
 #[test]
 fn barycentre_json_is_its_library_type() {
@@ -63,7 +60,7 @@ fn observer_time_json_is_its_library_type() {
 /// A short invented event list (seconds after a TT time zero), an invented source direction.
 #[test]
 fn barycentre_events_json_is_its_result_type() {
-    let d = workdir_events();
+    let d = workdir("json_arrival", "events");
     let input = d.join("events.csv");
     let mut text = String::from("seconds\n");
     for k in 0..50 {
@@ -93,15 +90,4 @@ fn convert_time_json_is_its_result_type() {
     let s = json::assert_summary_round_trip::<skyclock::arrival::ConvertTimeResult>(&stdout_of(&o));
     assert_eq!(s.result.times[0].scales["tai"], "2017-01-01T00:00:36.500000000");
     assert_eq!(s.result.times[0].scales.len(), 6);
-}
-
-fn workdir_events() -> std::path::PathBuf {
-    let d = std::env::temp_dir().join(format!("skyclock-json-arrival-events-{}", std::process::id()));
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
-fn stdout_of(o: &std::process::Output) -> String {
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    String::from_utf8(o.stdout.clone()).unwrap()
 }

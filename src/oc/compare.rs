@@ -134,7 +134,7 @@ pub const DELTA_BIC_LIMIT: f64 = -6.0;
 /// A p-value as text: below 1e-16 (the double-precision floor of 1 − CDF) as the bound
 /// "p < 1e-16", otherwise `p = 1.23e-5` or `p = 0.123`.
 pub fn format_p_value(p: f64) -> String {
-    if p < 1e-16 {
+    if p < crate::constants::PROBABILITY_FLOOR {
         "p < 1e-16".to_string()
     } else if p < 1e-3 {
         format!("p = {p:.2e}")

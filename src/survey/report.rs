@@ -177,7 +177,7 @@ pub fn period_search_report(
 pub fn format_false_alarm(p: f64) -> String {
     if !p.is_finite() {
         "n/a".to_string()
-    } else if p < 1e-16 {
+    } else if p < crate::constants::PROBABILITY_FLOOR {
         "< 1e-16".to_string()
     } else {
         format!("{p:.2e}")

@@ -23,3 +23,9 @@ pub fn run_ok(args: &[&str]) -> String {
     assert!(out.status.success(), "skyclock {args:?} failed:\n{}", String::from_utf8_lossy(&out.stderr));
     String::from_utf8(out.stdout).expect("stdout is UTF-8")
 }
+
+/// The stdout of a finished run, failing the test with its stderr unless it exited 0.
+pub fn stdout_of(o: &std::process::Output) -> String {
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
+}
