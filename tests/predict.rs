@@ -2,15 +2,20 @@
 //! Monte-Carlo of the ephemeris covariance, the Sun caution, and the `predict-events`
 //! command end to end with its bad inputs.
 
+#[path = "common/json.rs"]
+mod json;
+
 use std::path::PathBuf;
 use std::process::Command;
 
 use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
 use skyclock::ephemeris::{Body, Ephemeris, embedded};
+use skyclock::fit::Estimates;
 use skyclock::fit::SeededRng;
 use skyclock::observer::{EarthOrientation, Observer, Site};
 use skyclock::oc::EventKind;
-use skyclock::predict::{EventEphemeris, PredictionOptions, SkyGeometry, predict_events};
+use skyclock::oc::{FittedEphemeris, ModelKind, ReferenceEphemeris};
+use skyclock::predict::{PredictionOptions, SkyGeometry, predict_events};
 use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeFormat, TimeScale, parse_time};
 
 /// The invented site of tests/reference/predict/generate_altaz.py.
@@ -102,7 +107,14 @@ fn propagated_sigma_matches_a_monte_carlo_of_the_covariance() {
             c[i][j] = rho[i][j] * sig[i] * sig[j];
         }
     }
-    let eph = EventEphemeris::new(epoch, 1.234567, 2e-10, c).unwrap();
+    let estimates = Estimates::new(
+        ModelKind::Quadratic.parameters(),
+        vec![0.0, 0.0, 2e-10],
+        c.iter().map(|r| r.to_vec()).collect(),
+    )
+    .unwrap();
+    let reference = ReferenceEphemeris { epoch, period_d: 1.234567, period_sigma_d: sig[1] };
+    let eph = FittedEphemeris::new(reference, ModelKind::Quadratic, estimates).unwrap();
     // Cholesky L (lower) of C.
     let mut l = [[0.0; 3]; 3];
     for i in 0..3 {
@@ -150,8 +162,8 @@ fn events_for(source: Source, start: &str, end: &str) -> Vec<skyclock::predict::
     let site = quarry_hill();
     let start = parse_time(start, TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
     let end = parse_time(end, TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
-    let eph =
-        EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
+    let eph = FittedEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7)
+        .unwrap();
     let corrector =
         BarycentricCorrector::new(embedded(), conv.clone(), EarthOrientation::Ignored, source, DelayOptions::default());
     let sky = SkyGeometry::new(embedded(), conv.clone(), EarthOrientation::Ignored);
@@ -214,8 +226,8 @@ fn sun_caution_triggers_near_the_sun_only() {
     let conv = converter();
     let start = parse_time("2026-12-19T12:00", TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
     let end = parse_time("2026-12-21T12:00", TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
-    let eph =
-        EventEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7).unwrap();
+    let eph = FittedEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_461_000.5, 0.1), 0.377, 1e-4, 1e-7)
+        .unwrap();
     let corrector = BarycentricCorrector::new(
         embedded(),
         conv.clone(),
@@ -332,6 +344,10 @@ fn command_round_trip_from_a_timing_summary() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     let events = v["events"].as_array().unwrap();
+    // The --json output is the serialisation of the library's Forecast.
+    let typed = json::assert_summary_round_trip::<skyclock::predict::Forecast>(&String::from_utf8_lossy(&o.stdout));
+    assert_eq!(typed.result.events.len(), events.len());
+    assert_eq!(typed.result.ephemeris.model, ModelKind::Quadratic);
     // The σ written is the propagation of the summary's quadratic covariance.
     let sv: serde_json::Value = serde_json::from_slice(&std::fs::read(&summary).unwrap()).unwrap();
     let model = sv["models"].as_array().unwrap().iter().find(|m| m["model"] == "quadratic").unwrap();
@@ -534,9 +550,7 @@ fn bad_inputs_fail_with_clear_messages() {
 /// the parameter covariance (independent Monte-Carlo, Cholesky factor; 3 % tolerance).
 #[test]
 fn light_time_models_are_extrapolated_with_their_covariance() {
-    use skyclock::oc::ModelKind;
     use skyclock::oc::models::evaluate;
-    use skyclock::predict::events::EventEphemeris;
     let kind = ModelKind::QuadraticLightTime;
     let reference = skyclock::time::Instant::from_jd_two_part(skyclock::time::TimeScale::Tdb, 2_459_000.5, -0.15432110);
     let p_ref = 0.837_123_45;
@@ -552,7 +566,15 @@ fn light_time_models_are_extrapolated_with_their_covariance() {
         cov[i * n + j] = r * sig[i] * sig[j];
         cov[j * n + i] = cov[i * n + j];
     }
-    let e = EventEphemeris::from_fitted_model(reference, p_ref, kind, &params, &cov).unwrap();
+    let estimates =
+        Estimates::new(kind.parameters(), params.to_vec(), (0..n).map(|i| cov[i * n..(i + 1) * n].to_vec()).collect())
+            .unwrap();
+    let e = FittedEphemeris::new(
+        ReferenceEphemeris { epoch: reference, period_d: p_ref, period_sigma_d: 0.0 },
+        kind,
+        estimates,
+    )
+    .unwrap();
     // Cholesky factor of the covariance for the Monte-Carlo draws.
     let mut l = vec![0.0; n * n];
     for i in 0..n {
@@ -574,9 +596,13 @@ fn light_time_models_are_extrapolated_with_their_covariance() {
         .collect();
     for cycle in [2_800.0, 3_000.5, 4_200.0] {
         let model_at = |p: &[f64]| {
-            // O–C model: T = T_ref + P_ref E + (O − C)(E, t), t ≈ time since T_ref.
-            let t_d = p_ref * cycle + p[0] + p[1] * cycle + p[2] * cycle * cycle;
-            p_ref * cycle + evaluate(kind, p, cycle, t_d)
+            // O–C model: T = T_ref + P_ref E + (O − C)(E, t), t = T − T_ref (the time the
+            // event is seen), solved here by 20 fixed-point steps.
+            let mut t_d = p_ref * cycle;
+            for _ in 0..20 {
+                t_d = p_ref * cycle + evaluate(kind, p, cycle, t_d);
+            }
+            t_d
         };
         let predicted_d = e.time_at(cycle).seconds_since(&reference) / 86_400.0;
         assert!(

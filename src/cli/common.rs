@@ -9,7 +9,6 @@ use clap::Args as ClapArgs;
 use skyclock::arrival::Source;
 use skyclock::config::{Description, parse_epoch, read_description};
 use skyclock::observer::Site;
-use skyclock::time::LeapSecondTable;
 
 /// Where solar-system positions, leap seconds and Earth orientation come from.
 #[derive(Debug, Clone, ClapArgs)]
@@ -164,17 +163,6 @@ impl ObserverArgs {
         }
         Ok(None)
     }
-}
-
-/// Prints a warning about stale leap seconds if any UTC time lies beyond the table.
-pub fn leap_second_warning(rows: usize, max_days: i64, table: &LeapSecondTable) -> Option<String> {
-    (rows > 0).then(|| {
-        format!(
-            "warning: {rows} UTC time(s) lie up to {max_days} days beyond the leap-second table's validity ({}); \
-             if a leap second was announced since, those times are off by 1 s. Load a newer table with --leap-seconds FILE.",
-            table.source()
-        )
-    })
 }
 
 /// The clock of a table: one label for all rows (`--clock`) or a column of labels

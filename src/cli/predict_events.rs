@@ -9,11 +9,10 @@ use polars::prelude::{Column, DataFrame};
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions};
-use skyclock::oc::EventKind;
-use skyclock::predict::{EventEphemeris, PredictionOptions, SUN_CAUTION_DEG, SkyGeometry, predict_events};
-use skyclock::table::{Provenance, write_table};
-use skyclock::time::format::format_iso;
-use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::oc::{EventKind, FittedEphemeris, ModelKind, OcAnalysis};
+use skyclock::predict::{Forecast, ForecastRequest, PredictionOptions, SUN_CAUTION_DEG, SkyGeometry, forecast};
+use skyclock::table::{Provenance, Summary, write_table};
+use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star and site):
   skyclock predict-events --ra 07:41:12.5 --dec +28:14:03 \\
@@ -118,11 +117,7 @@ pub fn run(a: Args) -> Result<()> {
     let kinds: Vec<EventKind> = a
         .kinds
         .split(',')
-        .map(|k| {
-            EventKind::parse(k).with_context(|| {
-                format!("--kinds: unknown event kind '{}'; use primary, secondary or maximum", k.trim())
-            })
-        })
+        .map(|k| k.parse::<EventKind>().map_err(|e| anyhow::anyhow!("--kinds: {e}")))
         .collect::<Result<_>>()?;
     let description = a.observer.description()?;
     let site = a
@@ -136,7 +131,7 @@ pub fn run(a: Args) -> Result<()> {
         .map_err(|e| anyhow::anyhow!("--from '{}': {e}", a.from))?;
     let end = parse_time(&a.until, TimeFormat::Iso, TimeScale::Utc, &leap)
         .map_err(|e| anyhow::anyhow!("--until '{}': {e}", a.until))?;
-    let (ephemeris, ephemeris_text) = load_ephemeris(&a, &leap)?;
+    let (ephemeris, ephemeris_origin) = load_ephemeris(&a, &leap)?;
     let options = PredictionOptions {
         min_target_altitude_deg: a.min_target_altitude_deg,
         max_sun_altitude_deg: a.max_sun_altitude_deg,
@@ -152,26 +147,19 @@ pub fn run(a: Args) -> Result<()> {
         DelayOptions::default(),
     );
     let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
-    let mut events = predict_events(&ephemeris, &kinds, &start, &end, &site, &corrector, &sky, &options)?;
-    let cautions: Vec<String> = events
-        .iter()
-        .filter_map(|e| {
-            e.sun_caution
-                .as_ref()
-                .map(|c| format!("{} {} at {} UTC: {c}", e.kind.name(), e.cycle, format_iso(&e.utc, 0)))
-        })
-        .collect();
-    for c in &cautions {
+    let request = ForecastRequest {
+        ephemeris: &ephemeris,
+        ephemeris_origin,
+        kinds: &kinds,
+        start,
+        end,
+        site: &site,
+        options,
+        only_observable: a.only_observable,
+    };
+    let result = forecast(&request, &corrector, &sky)?;
+    for c in result.cautions.iter().chain(&result.warnings) {
         eprintln!("{c}");
-    }
-    let beyond: Vec<i64> = events.iter().filter_map(|e| leap.days_beyond_horizon(e.utc.mjd_day())).collect();
-    let leap_warning =
-        super::common::leap_second_warning(beyond.len(), beyond.iter().copied().max().unwrap_or(0), &leap);
-    if let Some(w) = &leap_warning {
-        eprintln!("{w}");
-    }
-    if a.only_observable {
-        events.retain(|e| e.observable && e.window_observable.unwrap_or(true));
     }
 
     let mut inputs: Vec<&Path> = Vec::new();
@@ -188,44 +176,44 @@ pub fn run(a: Args) -> Result<()> {
     {
         inputs.push(p.as_path());
     }
+    let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
+        .with("stage", "predict-events")
+        .with("ephemeris", reference.ephemeris.name())
+        .with("leap_seconds", leap.source().to_string())
+        .with("earth_orientation", reference.orientation.describe())
+        .with("event_ephemeris", describe_ephemeris(&result))
+        .with(
+            "site",
+            format!(
+                "{} ({:.6}°E, {:.6}°N, {} m)",
+                site.name,
+                site.east_longitude_rad.to_degrees(),
+                site.latitude_rad.to_degrees(),
+                site.height_m
+            ),
+        )
+        .with("altitudes", "geometric, no refraction; Moon from low-precision formulae (~0.3°)");
+    let events = &result.events;
     if let Some(path) = &a.output {
         let n = events.len();
         let mut columns = vec![
             Column::new("kind".into(), events.iter().map(|e| e.kind.name().to_string()).collect::<Vec<_>>()),
             Column::new("cycle".into(), events.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-            Column::new(
-                "bjd_tdb".into(),
-                events.iter().map(|e| format_time(&e.bjd_tdb, TimeFormat::Jd)).collect::<Vec<_>>(),
-            ),
-            Column::new("bjd_tdb_jd1".into(), events.iter().map(|e| e.bjd_tdb.jd_two_part().0).collect::<Vec<_>>()),
-            Column::new("bjd_tdb_jd2".into(), events.iter().map(|e| e.bjd_tdb.jd_two_part().1).collect::<Vec<_>>()),
+            Column::new("bjd_tdb".into(), events.iter().map(|e| e.bjd_tdb.clone()).collect::<Vec<_>>()),
+            Column::new("bjd_tdb_jd1".into(), events.iter().map(|e| e.bjd_tdb_jd1).collect::<Vec<_>>()),
+            Column::new("bjd_tdb_jd2".into(), events.iter().map(|e| e.bjd_tdb_jd2).collect::<Vec<_>>()),
             Column::new("sigma_d".into(), events.iter().map(|e| e.sigma_d).collect::<Vec<_>>()),
-            Column::new("utc_iso".into(), events.iter().map(|e| format_iso(&e.utc, 3)).collect::<Vec<_>>()),
-            Column::new(
-                "target_altitude_deg".into(),
-                events.iter().map(|e| e.sky.target.altitude_deg).collect::<Vec<_>>(),
-            ),
-            Column::new(
-                "target_azimuth_deg".into(),
-                events.iter().map(|e| e.sky.target.azimuth_deg).collect::<Vec<_>>(),
-            ),
-            Column::new("sun_altitude_deg".into(), events.iter().map(|e| e.sky.sun.altitude_deg).collect::<Vec<_>>()),
-            Column::new(
-                "sky_condition".into(),
-                events.iter().map(|e| e.condition.name().to_string()).collect::<Vec<_>>(),
-            ),
-            Column::new(
-                "sun_separation_deg".into(),
-                events.iter().map(|e| e.sky.sun_separation_deg).collect::<Vec<_>>(),
-            ),
-            Column::new("moon_altitude_deg".into(), events.iter().map(|e| e.sky.moon.altitude_deg).collect::<Vec<_>>()),
-            Column::new(
-                "moon_separation_deg".into(),
-                events.iter().map(|e| e.sky.moon_separation_deg).collect::<Vec<_>>(),
-            ),
+            Column::new("utc_iso".into(), events.iter().map(|e| e.utc_iso.clone()).collect::<Vec<_>>()),
+            Column::new("target_altitude_deg".into(), events.iter().map(|e| e.target.altitude_deg).collect::<Vec<_>>()),
+            Column::new("target_azimuth_deg".into(), events.iter().map(|e| e.target.azimuth_deg).collect::<Vec<_>>()),
+            Column::new("sun_altitude_deg".into(), events.iter().map(|e| e.sun.altitude_deg).collect::<Vec<_>>()),
+            Column::new("sky_condition".into(), events.iter().map(|e| e.sky_condition.clone()).collect::<Vec<_>>()),
+            Column::new("sun_separation_deg".into(), events.iter().map(|e| e.sun_separation_deg).collect::<Vec<_>>()),
+            Column::new("moon_altitude_deg".into(), events.iter().map(|e| e.moon.altitude_deg).collect::<Vec<_>>()),
+            Column::new("moon_separation_deg".into(), events.iter().map(|e| e.moon_separation_deg).collect::<Vec<_>>()),
             Column::new(
                 "moon_illuminated_fraction".into(),
-                events.iter().map(|e| e.sky.moon_illuminated_fraction).collect::<Vec<_>>(),
+                events.iter().map(|e| e.moon_illuminated_fraction).collect::<Vec<_>>(),
             ),
             Column::new("observable".into(), events.iter().map(|e| e.observable).collect::<Vec<_>>()),
         ];
@@ -237,75 +225,54 @@ pub fn run(a: Args) -> Result<()> {
         }
         columns.push(Column::new(
             "caution".into(),
-            events.iter().map(|e| e.sun_caution.clone().unwrap_or_default()).collect::<Vec<_>>(),
+            events.iter().map(|e| e.caution.clone().unwrap_or_default()).collect::<Vec<_>>(),
         ));
         let mut df = DataFrame::new(n, columns).context("building the output table")?;
-        let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
-            .with("stage", "predict-events")
-            .with("ephemeris", reference.ephemeris.name())
-            .with("leap_seconds", leap.source().to_string())
-            .with("earth_orientation", reference.orientation.describe())
-            .with("event_ephemeris", ephemeris_text.clone())
-            .with(
-                "site",
-                format!(
-                    "{} ({:.6}°E, {:.6}°N, {} m)",
-                    site.name,
-                    site.east_longitude_rad.to_degrees(),
-                    site.latitude_rad.to_degrees(),
-                    site.height_m
-                ),
-            )
-            .with("altitudes", "geometric, no refraction; Moon from low-precision formulae (~0.3°)");
         write_table(&mut df, path, &provenance, &inputs)?;
     }
 
     if a.json {
-        let rows: Vec<serde_json::Value> = events
-            .iter()
-            .map(|e| {
-                serde_json::json!({
-                    "kind": e.kind.name(), "cycle": e.cycle, "bjd_tdb": format_time(&e.bjd_tdb, TimeFormat::Jd),
-                    "sigma_d": e.sigma_d, "utc_iso": format_iso(&e.utc, 3),
-                    "target": e.sky.target, "sun": e.sky.sun, "moon": e.sky.moon,
-                    "sky_condition": e.condition.name(), "sun_separation_deg": e.sky.sun_separation_deg,
-                    "moon_separation_deg": e.sky.moon_separation_deg, "moon_illuminated_fraction": e.sky.moon_illuminated_fraction,
-                    "observable": e.observable, "window_observable": e.window_observable, "caution": e.sun_caution,
-                })
-            })
-            .collect();
-        let summary = serde_json::json!({
-            "event_ephemeris": ephemeris_text, "site": site.name, "source": source.name,
-            "from_utc": a.from, "until_utc": a.until, "events": rows, "cautions": cautions, "warnings": leap_warning.iter().collect::<Vec<_>>(),
-            "output": a.output.as_ref().map(|p| p.display().to_string()),
-        });
-        println!("{}", serde_json::to_string_pretty(&summary)?);
+        let summary = Summary::new(
+            result.clone(),
+            provenance,
+            inputs.iter().map(|p| p.display().to_string()).collect(),
+            a.output.iter().map(|p| p.display().to_string()).collect(),
+        );
+        println!("{}", summary.to_json()?);
     } else {
-        println!("{} event(s) of {} from {} to {} UTC at {}", events.len(), source.name, a.from, a.until, site.name);
+        println!(
+            "{} event(s) of {} from {} to {} UTC at {}",
+            events.len(),
+            result.source,
+            a.from,
+            a.until,
+            result.site
+        );
         println!(
             "{:<9} {:>10} {:<19} {:>8} {:>7} {:>7} {:<21} {:>6}  verdict",
             "kind", "cycle", "UTC", "±σ min", "alt°", "Sun°", "sky", "Moon°"
         );
-        for e in &events {
-            let verdict = if e.sun_caution.is_some() {
+        for e in events {
+            let verdict = if e.caution.is_some() {
                 "CAUTION: near the Sun, do not observe"
-            } else if e.observable && e.window_observable.unwrap_or(true) {
+            } else if e.fully_observable() {
                 "observable"
             } else if e.observable {
                 "event only (window not fully)"
             } else {
                 "-"
             };
+            let utc_minutes: String = e.utc_iso.chars().take(19).collect();
             println!(
                 "{:<9} {:>10.1} {:<19} {:>8.2} {:>7.1} {:>7.1} {:<21} {:>6.0}  {}",
                 e.kind.name(),
                 e.cycle,
-                format_iso(&e.utc, 0).replacen('T', " ", 1),
+                utc_minutes.replacen('T', " ", 1),
                 e.sigma_d * 1440.0,
-                e.sky.target.altitude_deg,
-                e.sky.sun.altitude_deg,
-                e.condition.name(),
-                e.sky.moon_separation_deg,
+                e.target.altitude_deg,
+                e.sun.altitude_deg,
+                e.sky_condition,
+                e.moon_separation_deg,
                 verdict
             );
         }
@@ -316,84 +283,51 @@ pub fn run(a: Args) -> Result<()> {
     Ok(())
 }
 
-/// The ephemeris from the summary file or the command line, and a text for provenance.
-fn load_ephemeris(a: &Args, leap: &skyclock::time::LeapSecondTable) -> Result<(EventEphemeris, String)> {
+/// The ephemeris in words, for provenance.
+fn describe_ephemeris(f: &Forecast) -> String {
+    let e = &f.ephemeris;
+    format!(
+        "{} model ({}): T0 = {} BJD_TDB, P = {} d, Q = {} d",
+        e.model, e.origin, e.epoch_bjd_tdb, e.period_d, e.quadratic_d
+    )
+}
+
+/// The fitted ephemeris from the summary file or the command line, and where it came from.
+fn load_ephemeris(a: &Args, leap: &skyclock::time::LeapSecondTable) -> Result<(FittedEphemeris, String)> {
     if let Some(path) = &a.ephemeris_summary {
         if a.epoch_bjd_tdb.is_some() || a.period_d.is_some() {
             bail!("give either --ephemeris-summary or --epoch-bjd-tdb with --period-d, not both");
         }
         let file = path.display().to_string();
         let text = std::fs::read_to_string(path).with_context(|| format!("reading {file}"))?;
-        let v: serde_json::Value = serde_json::from_str(&text).with_context(|| format!("{file}: not valid JSON"))?;
-        let reference = &v["reference_ephemeris"];
-        let epoch_text = reference["epoch_bjd_tdb"].as_str().with_context(|| {
-            format!("{file}: no reference_ephemeris.epoch_bjd_tdb (is this a timing-residuals summary?)")
+        let summary: Summary<OcAnalysis> = serde_json::from_str(&text).with_context(|| {
+            format!("{file}: not a timing-residuals summary with a reference_ephemeris and its models (write one with timing-residuals --summary)")
         })?;
-        let period =
-            reference["period_d"].as_f64().with_context(|| format!("{file}: no reference_ephemeris.period_d"))?;
-        let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap)
-            .map_err(|e| anyhow::anyhow!("{file}: reference_ephemeris.epoch_bjd_tdb: {e}"))?;
-        let wanted = a.summary_model.trim().to_ascii_lowercase();
-        let Some(kind) = skyclock::oc::ModelKind::parse(&wanted) else {
-            bail!(
-                "--summary-model '{}': use one of the models timing-residuals fits (linear, quadratic, light-time, quadratic+light-time, two-light-time, quadratic+two-light-time)",
-                a.summary_model
-            );
-        };
-        let wanted = kind.name().to_string();
-        let models = v["models"].as_array().with_context(|| format!("{file}: no models array"))?;
-        let model = models.iter().find(|m| m["model"].as_str() == Some(wanted.as_str())).with_context(|| {
-            let have: Vec<&str> = models.iter().filter_map(|m| m["model"].as_str()).collect();
-            format!("{file}: no '{wanted}' model; the summary holds: {}", have.join(", "))
-        })?;
-        let params =
-            model["parameters"].as_array().with_context(|| format!("{file}: model '{wanted}' has no parameters"))?;
-        let shifts: Vec<f64> = params
-            .iter()
-            .enumerate()
-            .map(|(j, p)| {
-                p["value"]
-                    .as_f64()
-                    .with_context(|| format!("{file}: model '{wanted}' parameter {j} has no numeric value"))
-            })
-            .collect::<Result<_>>()?;
-        let cov: Vec<f64> = model["covariance"]
-            .as_array()
-            .with_context(|| format!("{file}: model '{wanted}' has no covariance"))?
-            .iter()
-            .enumerate()
-            .map(|(j, x)| {
-                x.as_f64().with_context(|| format!("{file}: model '{wanted}' covariance element {j} is not a number"))
-            })
-            .collect::<Result<_>>()?;
-        let e = EventEphemeris::from_fitted_model(epoch, period, kind, &shifts, &cov)
-            .map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-        let desc = format!(
-            "{wanted} model from {file}: T0 = {} BJD_TDB, P = {} d, Q = {} d",
-            format_time(&e.epoch, TimeFormat::Jd),
-            e.period_d,
-            e.quadratic_d
-        );
-        return Ok((e, desc));
+        let kind: ModelKind = a.summary_model.parse().map_err(|e| anyhow::anyhow!("--summary-model: {e}"))?;
+        let e = summary.result.ephemeris(kind).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
+        return Ok((e, format!("{kind} model of {file}")));
     }
     let (Some(epoch_text), Some(period)) = (&a.epoch_bjd_tdb, a.period_d) else {
         bail!("no ephemeris given: use --epoch-bjd-tdb JD with --period-d DAYS, or --ephemeris-summary FILE");
     };
     let epoch = parse_time(epoch_text, TimeFormat::Jd, TimeScale::Tdb, leap)
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{epoch_text}': {e}"))?;
-    let mut e =
-        EventEphemeris::linear(epoch, period, a.epoch_sigma_d, a.period_sigma_d).map_err(|e| anyhow::anyhow!("{e}"))?;
     if !(a.period_change_per_cycle_sigma_d.is_finite() && a.period_change_per_cycle_sigma_d >= 0.0)
         || !a.period_change_per_cycle_d.is_finite()
     {
         bail!("--period-change-per-cycle-d and its sigma must be finite (the sigma non-negative)");
     }
     // Q = ½ dP/dE, σ_Q = ½ σ(dP/dE).
-    e.quadratic_d = 0.5 * a.period_change_per_cycle_d;
-    e.covariance_d2[2][2] = (0.5 * a.period_change_per_cycle_sigma_d).powi(2);
-    let desc = format!(
-        "command line: T0 = {epoch_text} BJD_TDB ± {} d, P = {period} ± {} d, dP/dE = {} ± {} d",
-        a.epoch_sigma_d, a.period_sigma_d, a.period_change_per_cycle_d, a.period_change_per_cycle_sigma_d
-    );
-    Ok((e, desc))
+    let e = if a.period_change_per_cycle_d == 0.0 && a.period_change_per_cycle_sigma_d == 0.0 {
+        FittedEphemeris::linear(epoch, period, a.epoch_sigma_d, a.period_sigma_d)
+    } else {
+        FittedEphemeris::quadratic(
+            epoch,
+            period,
+            0.5 * a.period_change_per_cycle_d,
+            [a.epoch_sigma_d, a.period_sigma_d, 0.5 * a.period_change_per_cycle_sigma_d],
+        )
+    }
+    .map_err(|e| anyhow::anyhow!("{e}"))?;
+    Ok((e, "command line".to_string()))
 }

@@ -82,7 +82,7 @@ fn read_summary<T: serde::de::DeserializeOwned>(path: &Path) -> Result<skyclock:
 
 /// A derived or fitted quantity of a model in an O–C analysis: (value, σ).
 fn model_value(analysis: &skyclock::oc::OcAnalysis, model: &str, name: &str) -> Option<(f64, f64)> {
-    let m = analysis.models.iter().find(|m| m.model == model)?;
+    let m = analysis.models.iter().find(|m| m.model.name() == model)?;
     let found = m.parameters.iter().chain(&m.derived).find(|p| p.name == name)?;
     Some((found.value, found.sigma_covariance.unwrap_or(f64::NAN)))
 }

@@ -71,7 +71,7 @@ pub struct BootstrapRun {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ModelSummary {
     /// Model name (`linear`, `quadratic`, `light-time`, `quadratic+light-time`, …).
-    pub model: String,
+    pub model: ModelKind,
     /// χ², degrees of freedom and BIC.
     pub fit: ModelComparison,
     /// Fitted parameters (offsets from the reference ephemeris, days; companion elements).
@@ -204,7 +204,7 @@ pub fn analyse(
             }
         }
         models.push(ModelSummary {
-            model: f.kind.name().to_string(),
+            model: f.kind,
             fit: information(&f),
             parameters,
             derived,

@@ -14,6 +14,7 @@ pub mod analysis;
 pub mod companion;
 pub mod compare;
 pub mod cycles;
+pub mod ephemeris;
 pub mod fitting;
 pub mod light_time_method;
 pub mod models;
@@ -26,14 +27,16 @@ pub use analysis::{
 pub use companion::{mass_function_msun, minimum_companion_mass_msun, projected_semi_major_axis_au};
 pub use compare::{ModelComparison, NestedTest, compare_nested, format_p_value, information};
 pub use cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
+pub use ephemeris::{EphemerisError, FittedEphemeris};
 pub use fitting::{BootstrapOptions, FitOptions, ModelFit, bootstrap, bootstrap_with_progress, fit_model};
-pub use models::{ModelKind, OcModel};
+pub use models::{ModelKind, OcModel, OcParameter, UnknownModel};
 
 use crate::fit::FitError;
 use crate::time::Instant;
 
 /// The kind of a timed event.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum EventKind {
     /// Primary minimum (integer cycles).
     Primary,
@@ -66,6 +69,25 @@ impl EventKind {
             EventKind::Secondary => "secondary",
             EventKind::Maximum => "maximum",
         }
+    }
+}
+
+impl std::fmt::Display for EventKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// An event-kind name that is none of ours.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("unknown event kind '{0}'; use primary, secondary or maximum")]
+pub struct UnknownEventKind(pub String);
+
+impl std::str::FromStr for EventKind {
+    type Err = UnknownEventKind;
+    /// As [`EventKind::parse`].
+    fn from_str(text: &str) -> Result<EventKind, UnknownEventKind> {
+        EventKind::parse(text).ok_or_else(|| UnknownEventKind(text.trim().to_string()))
     }
 }
 

@@ -11,13 +11,13 @@
 use std::f64::consts::TAU;
 
 use super::cycles::OcSeries;
-use crate::fit::LsqModel;
+use crate::fit::{LsqModel, Parameter, UnknownParameter, parse_parameter};
 
 /// Largest eccentricity the model evaluates (the fit is held inside e < 1).
 pub const MAX_ECCENTRICITY: f64 = 0.95;
 
 /// Which ephemeris model.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum ModelKind {
     /// T = T₀ + P·E.
     Linear,
@@ -96,31 +96,161 @@ impl ModelKind {
     pub fn n_params(self) -> usize {
         self.n_polynomial() + 5 * self.companions()
     }
-    /// Parameter names with units, in order.
-    pub fn parameter_names(self) -> Vec<&'static str> {
-        let mut v = vec!["epoch_shift_d", "period_shift_d"];
+    /// The fitted parameters, in the order of the parameter vector and covariance rows.
+    pub fn parameters(self) -> Vec<OcParameter> {
+        use OcParameter::*;
+        let mut v = vec![EpochShiftD, PeriodShiftD];
         if self.has_quadratic() {
-            v.push("quadratic_d");
+            v.push(QuadraticD);
         }
         if self.companions() >= 1 {
-            v.extend([
-                "projected_light_time_d",
-                "companion_period_d",
-                "sqrt_e_cos_omega",
-                "sqrt_e_sin_omega",
-                "mean_anomaly_at_epoch_rad",
-            ]);
+            v.extend([ProjectedLightTimeD, CompanionPeriodD, SqrtECosOmega, SqrtESinOmega, MeanAnomalyAtEpochRad]);
         }
         if self.companions() == 2 {
             v.extend([
-                "companion2_projected_light_time_d",
-                "companion2_period_d",
-                "companion2_sqrt_e_cos_omega",
-                "companion2_sqrt_e_sin_omega",
-                "companion2_mean_anomaly_at_epoch_rad",
+                Companion2ProjectedLightTimeD,
+                Companion2PeriodD,
+                Companion2SqrtECosOmega,
+                Companion2SqrtESinOmega,
+                Companion2MeanAnomalyAtEpochRad,
             ]);
         }
         v
+    }
+    /// Parameter names with units, in order (the [`Parameter::name`] of [`Self::parameters`]).
+    pub fn parameter_names(self) -> Vec<&'static str> {
+        self.parameters().into_iter().map(Parameter::name).collect()
+    }
+    /// Every model kind, in order of complexity.
+    pub const ALL: [ModelKind; 6] = [
+        ModelKind::Linear,
+        ModelKind::Quadratic,
+        ModelKind::LinearLightTime,
+        ModelKind::QuadraticLightTime,
+        ModelKind::LinearTwoLightTime,
+        ModelKind::QuadraticTwoLightTime,
+    ];
+}
+
+impl std::fmt::Display for ModelKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// A model name that is not one of the O–C models.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error(
+    "unknown O–C model '{0}'; the models are linear, quadratic, light-time, quadratic+light-time, two-light-time and quadratic+two-light-time"
+)]
+pub struct UnknownModel(pub String);
+
+impl std::str::FromStr for ModelKind {
+    type Err = UnknownModel;
+    fn from_str(s: &str) -> Result<ModelKind, UnknownModel> {
+        ModelKind::parse(s).ok_or_else(|| UnknownModel(s.trim().to_string()))
+    }
+}
+
+impl serde::Serialize for ModelKind {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(self.name())
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for ModelKind {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<ModelKind, D::Error> {
+        let text = String::deserialize(d)?;
+        text.parse().map_err(serde::de::Error::custom)
+    }
+}
+
+/// A fitted parameter of the O–C models (see [`ModelKind::parameters`]). Names carry the
+/// unit: `_d` days, `_rad` radians; the (√e cos ω, √e sin ω) pair is dimensionless.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum OcParameter {
+    /// ΔT₀: the fitted epoch minus the reference epoch, days.
+    EpochShiftD,
+    /// ΔP: the fitted period minus the reference period, days.
+    PeriodShiftD,
+    /// Q = ½ dP/dE, days per cycle².
+    QuadraticD,
+    /// First companion: a₁₂ sin i / c, days.
+    ProjectedLightTimeD,
+    /// First companion: orbital period P₃, days.
+    CompanionPeriodD,
+    /// First companion: √e cos ω.
+    SqrtECosOmega,
+    /// First companion: √e sin ω.
+    SqrtESinOmega,
+    /// First companion: mean anomaly at the reference epoch, radians.
+    MeanAnomalyAtEpochRad,
+    /// Second companion: a sin i / c, days.
+    Companion2ProjectedLightTimeD,
+    /// Second companion: orbital period, days.
+    Companion2PeriodD,
+    /// Second companion: √e cos ω.
+    Companion2SqrtECosOmega,
+    /// Second companion: √e sin ω.
+    Companion2SqrtESinOmega,
+    /// Second companion: mean anomaly at the reference epoch, radians.
+    Companion2MeanAnomalyAtEpochRad,
+}
+
+impl Parameter for OcParameter {
+    const ALL: &'static [OcParameter] = &[
+        OcParameter::EpochShiftD,
+        OcParameter::PeriodShiftD,
+        OcParameter::QuadraticD,
+        OcParameter::ProjectedLightTimeD,
+        OcParameter::CompanionPeriodD,
+        OcParameter::SqrtECosOmega,
+        OcParameter::SqrtESinOmega,
+        OcParameter::MeanAnomalyAtEpochRad,
+        OcParameter::Companion2ProjectedLightTimeD,
+        OcParameter::Companion2PeriodD,
+        OcParameter::Companion2SqrtECosOmega,
+        OcParameter::Companion2SqrtESinOmega,
+        OcParameter::Companion2MeanAnomalyAtEpochRad,
+    ];
+    fn name(self) -> &'static str {
+        use OcParameter::*;
+        match self {
+            EpochShiftD => "epoch_shift_d",
+            PeriodShiftD => "period_shift_d",
+            QuadraticD => "quadratic_d",
+            ProjectedLightTimeD => "projected_light_time_d",
+            CompanionPeriodD => "companion_period_d",
+            SqrtECosOmega => "sqrt_e_cos_omega",
+            SqrtESinOmega => "sqrt_e_sin_omega",
+            MeanAnomalyAtEpochRad => "mean_anomaly_at_epoch_rad",
+            Companion2ProjectedLightTimeD => "companion2_projected_light_time_d",
+            Companion2PeriodD => "companion2_period_d",
+            Companion2SqrtECosOmega => "companion2_sqrt_e_cos_omega",
+            Companion2SqrtESinOmega => "companion2_sqrt_e_sin_omega",
+            Companion2MeanAnomalyAtEpochRad => "companion2_mean_anomaly_at_epoch_rad",
+        }
+    }
+    fn unit(self) -> &'static str {
+        use OcParameter::*;
+        match self {
+            SqrtECosOmega | SqrtESinOmega | Companion2SqrtECosOmega | Companion2SqrtESinOmega => "1",
+            MeanAnomalyAtEpochRad | Companion2MeanAnomalyAtEpochRad => "rad",
+            _ => "d",
+        }
+    }
+}
+
+impl std::fmt::Display for OcParameter {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl std::str::FromStr for OcParameter {
+    type Err = UnknownParameter;
+    fn from_str(s: &str) -> Result<OcParameter, UnknownParameter> {
+        parse_parameter(s)
     }
 }
 
@@ -216,6 +346,27 @@ pub fn evaluate(kind: ModelKind, params: &[f64], cycle: f64, t_d: f64) -> f64 {
         v += light_time_d(&params[np + 5 * c..np + 5 * c + 5], t_d);
     }
     v
+}
+
+/// The model O − C (days) and its gradient with respect to every parameter of `kind`
+/// (analytic: 1, E, E² and the light-time derivatives of [`light_time_with_gradient_d`]).
+pub fn evaluate_with_gradient(kind: ModelKind, params: &[f64], cycle: f64, t_d: f64) -> (f64, Vec<f64>) {
+    let np = kind.n_polynomial();
+    let mut g = vec![0.0; kind.n_params()];
+    g[0] = 1.0;
+    g[1] = cycle;
+    let mut v = params[0] + params[1] * cycle;
+    if kind.has_quadratic() {
+        g[2] = cycle * cycle;
+        v += params[2] * cycle * cycle;
+    }
+    for c in 0..kind.companions() {
+        let first = np + 5 * c;
+        let (tau, grad) = light_time_with_gradient_d(&params[first..first + 5], t_d);
+        v += tau;
+        g[first..first + 5].copy_from_slice(&grad);
+    }
+    (v, g)
 }
 
 /// An O–C series with a model kind: the [`LsqModel`] handed to Levenberg–Marquardt.

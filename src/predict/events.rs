@@ -1,10 +1,10 @@
 //! Upcoming events of an ephemeris and their observing conditions at a site.
 //!
-//! Ephemeris (common practice; Sterken 2005, ASP Conf. Ser. 335, 3):
-//! T(E) = T₀ + P·E + Q·E², Q = ½ dP/dE, with E integer for primary minima and maxima and
-//! half-integer for secondary minima. The 1σ of a predicted time follows from the
-//! parameter covariance C of (T₀, P, Q) by linear propagation, σ² = gᵀ C g with
-//! g = ∂T/∂(T₀, P, Q) = (1, E, E²) (exact here, since T is linear in the parameters).
+//! The events come from a fitted O–C model itself ([`FittedEphemeris`]: a linear or
+//! quadratic ephemeris, common practice, Sterken 2005, ASP Conf. Ser. 335, 3, optionally
+//! with the light time of one or two companions), with E integer for primary minima and
+//! maxima and half-integer for secondary minima. The 1σ of a predicted time is the fit's
+//! covariance propagated linearly ([`FittedEphemeris::sigma_d`]).
 //!
 //! Each event's BJD_TDB is carried back to the clock time at the site (UTC) with the
 //! inverse barycentric correction ([`BarycentricCorrector::arrival_at_observer`]), and the
@@ -19,301 +19,13 @@ use super::{PredictError, SUN_CAUTION_DEG};
 use crate::arrival::BarycentricCorrector;
 use crate::constants::SECONDS_PER_DAY;
 use crate::observer::{Observer, Site};
-use crate::oc::EventKind;
+use crate::oc::{EventKind, FittedEphemeris};
 use crate::time::{Instant, TimeScale};
 
 /// The most events one call lists.
 pub const MAX_EVENTS: u64 = 200_000;
 /// Longest step between checks of an event window, minutes.
 const WINDOW_STEP_MIN: f64 = 10.0;
-
-/// The light time of one or two fitted companions (O–C models of `oc`), carried into the
-/// predictions with the full covariance of all ephemeris parameters.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct CompanionLightTime {
-    /// Number of companions (1 or 2).
-    pub companions: usize,
-    /// Each companion's `[a₁₂ sin i / c (d), P₃ (d), √e cos ω, √e sin ω, M₀ (rad)]` as in
-    /// `oc::models`; the mean anomaly runs from the reference epoch of the O–C series.
-    pub params: [[f64; 5]; 2],
-    /// Days from that reference epoch to [`EventEphemeris::epoch`] (the fitted ΔT₀).
-    pub reference_offset_d: f64,
-    /// Covariance of (T₀, P, Q, companion 1, companion 2), d² and mixed units, row-major;
-    /// rows of absent parameters are zero.
-    pub covariance: [[f64; 13]; 13],
-}
-
-/// A linear or quadratic ephemeris with the covariance of its parameters, optionally with
-/// the light time of fitted companions.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct EventEphemeris {
-    /// Epoch of the primary event E = 0, BJD_TDB (scale TDB).
-    pub epoch: Instant,
-    /// Period at E = 0, days.
-    pub period_d: f64,
-    /// Quadratic coefficient Q = ½ dP/dE, days (0 for a linear ephemeris).
-    pub quadratic_d: f64,
-    /// Covariance of (T₀ [d], P [d], Q [d]), d², row-major, symmetric.
-    pub covariance_d2: [[f64; 3]; 3],
-    /// Light time of fitted companions, if the ephemeris has any.
-    pub light_time: Option<CompanionLightTime>,
-}
-
-impl EventEphemeris {
-    /// Builds and checks an ephemeris: the epoch must be on TDB, the period positive and
-    /// finite, the covariance finite and symmetric with non-negative variances.
-    pub fn new(
-        epoch: Instant,
-        period_d: f64,
-        quadratic_d: f64,
-        covariance_d2: [[f64; 3]; 3],
-    ) -> Result<EventEphemeris, PredictError> {
-        if epoch.scale() != TimeScale::Tdb {
-            return Err(PredictError::BadEphemeris(format!(
-                "the epoch must be a BJD_TDB (scale TDB), got scale {}",
-                epoch.scale()
-            )));
-        }
-        if !(period_d.is_finite() && period_d > 0.0) {
-            return Err(PredictError::BadEphemeris(format!(
-                "the period must be a positive number of days, got {period_d}"
-            )));
-        }
-        if !quadratic_d.is_finite() {
-            return Err(PredictError::BadEphemeris(format!("the quadratic term must be finite, got {quadratic_d}")));
-        }
-        for i in 0..3 {
-            if covariance_d2[i][i] < 0.0 {
-                return Err(PredictError::BadEphemeris(format!(
-                    "covariance element ({i},{i}) is a variance and cannot be negative: {}",
-                    covariance_d2[i][i]
-                )));
-            }
-            for j in 0..3 {
-                let v = covariance_d2[i][j];
-                if !v.is_finite() {
-                    return Err(PredictError::BadEphemeris(format!("covariance element ({i},{j}) is not finite: {v}")));
-                }
-                let w = covariance_d2[j][i];
-                if (v - w).abs() > 1e-9 * (v.abs() + w.abs()) + f64::MIN_POSITIVE {
-                    return Err(PredictError::BadEphemeris(format!(
-                        "covariance is not symmetric: ({i},{j}) = {v} but ({j},{i}) = {w}"
-                    )));
-                }
-            }
-        }
-        Ok(EventEphemeris { epoch, period_d, quadratic_d, covariance_d2, light_time: None })
-    }
-
-    /// A linear ephemeris with independent 1σ errors of epoch and period (days).
-    pub fn linear(
-        epoch: Instant,
-        period_d: f64,
-        epoch_sigma_d: f64,
-        period_sigma_d: f64,
-    ) -> Result<EventEphemeris, PredictError> {
-        for (name, v) in [("epoch", epoch_sigma_d), ("period", period_sigma_d)] {
-            if !(v.is_finite() && v >= 0.0) {
-                return Err(PredictError::BadEphemeris(format!(
-                    "the {name} 1σ must be a non-negative number of days, got {v}"
-                )));
-            }
-        }
-        let mut c = [[0.0; 3]; 3];
-        c[0][0] = epoch_sigma_d * epoch_sigma_d;
-        c[1][1] = period_sigma_d * period_sigma_d;
-        EventEphemeris::new(epoch, period_d, 0.0, c)
-    }
-
-    /// From a fitted O–C model relative to a reference ephemeris (T_ref, P_ref), as written
-    /// by `timing-residuals`: `shifts` = (ΔT₀, ΔP[, Q]) in days and their row-major
-    /// covariance (2×2 or 3×3). T₀ = T_ref + ΔT₀, P = P_ref + ΔP.
-    pub fn from_fitted_shifts(
-        reference_epoch: Instant,
-        reference_period_d: f64,
-        shifts: &[f64],
-        covariance: &[f64],
-    ) -> Result<EventEphemeris, PredictError> {
-        let n = shifts.len();
-        if !(n == 2 || n == 3) {
-            return Err(PredictError::BadEphemeris(format!(
-                "a linear or quadratic model has 2 or 3 parameters, got {n}"
-            )));
-        }
-        if covariance.len() != n * n {
-            return Err(PredictError::BadEphemeris(format!(
-                "{n} parameters need a {n}×{n} covariance ({} numbers), got {}",
-                n * n,
-                covariance.len()
-            )));
-        }
-        let mut c = [[0.0; 3]; 3];
-        for i in 0..n {
-            for j in 0..n {
-                c[i][j] = covariance[i * n + j];
-            }
-        }
-        let q = if n == 3 { shifts[2] } else { 0.0 };
-        EventEphemeris::new(
-            reference_epoch.add_seconds(shifts[0] * SECONDS_PER_DAY),
-            reference_period_d + shifts[1],
-            q,
-            c,
-        )
-    }
-
-    /// From a fitted O–C model of any kind (`oc::ModelKind`), as written by
-    /// `timing-residuals`: parameters (ΔT₀, ΔP[, Q][, companion 1][, companion 2]) and their
-    /// row-major covariance. Light-time models keep the companions' delays in the
-    /// predictions and their parameters' covariance in the σ.
-    pub fn from_fitted_model(
-        reference_epoch: Instant,
-        reference_period_d: f64,
-        kind: crate::oc::ModelKind,
-        params: &[f64],
-        covariance: &[f64],
-    ) -> Result<EventEphemeris, PredictError> {
-        let n = kind.n_params();
-        if params.len() != n || covariance.len() != n * n {
-            return Err(PredictError::BadEphemeris(format!(
-                "the {} model has {n} parameters and a {n}×{n} covariance, got {} and {} numbers",
-                kind.name(),
-                params.len(),
-                covariance.len()
-            )));
-        }
-        let np = kind.n_polynomial();
-        // Position of each fitted parameter in the 13-slot layout (T₀, P, Q, 5 + 5).
-        let slot = |j: usize| if j < np { if j < 2 { j } else { 2 } } else { 3 + (j - np) };
-        let poly_shifts: Vec<f64> = params[..np].to_vec();
-        let poly_cov: Vec<f64> =
-            (0..np).flat_map(|a| (0..np).map(move |b| (a, b))).map(|(a, b)| covariance[a * n + b]).collect();
-        let mut e = EventEphemeris::from_fitted_shifts(reference_epoch, reference_period_d, &poly_shifts, &poly_cov)?;
-        if kind.companions() == 0 {
-            return Ok(e);
-        }
-        let mut full = [[0.0; 13]; 13];
-        for a in 0..n {
-            for b in 0..n {
-                let v = covariance[a * n + b];
-                if !v.is_finite() {
-                    return Err(PredictError::BadEphemeris(format!("covariance element ({a},{b}) is not finite: {v}")));
-                }
-                full[slot(a)][slot(b)] = v;
-            }
-        }
-        let mut companion = [[0.0; 5]; 2];
-        for c in 0..kind.companions() {
-            companion[c].copy_from_slice(&params[np + 5 * c..np + 5 * c + 5]);
-            if !(companion[c][1].is_finite() && companion[c][1] > 0.0) {
-                return Err(PredictError::BadEphemeris(format!(
-                    "companion {} has period {} d; it must be positive",
-                    c + 1,
-                    companion[c][1]
-                )));
-            }
-        }
-        e.light_time = Some(CompanionLightTime {
-            companions: kind.companions(),
-            params: companion,
-            reference_offset_d: params[0],
-            covariance: full,
-        });
-        Ok(e)
-    }
-
-    /// Days since the O–C reference epoch at cycle `cycle` (argument of the light time).
-    fn since_reference_d(&self, lt: &CompanionLightTime, cycle: f64) -> f64 {
-        lt.reference_offset_d + self.period_d * cycle + self.quadratic_d * cycle * cycle
-    }
-
-    /// T(E) − T₀, days (with the companions' light time when present).
-    pub fn offset_d(&self, cycle: f64) -> f64 {
-        let mut v = self.period_d * cycle + self.quadratic_d * cycle * cycle;
-        if let Some(lt) = &self.light_time {
-            let t = self.since_reference_d(lt, cycle);
-            for c in 0..lt.companions {
-                v += crate::oc::models::light_time_d(&lt.params[c], t);
-            }
-        }
-        v
-    }
-
-    /// Predicted BJD_TDB of cycle `cycle`.
-    pub fn time_at(&self, cycle: f64) -> Instant {
-        self.epoch.add_seconds(self.offset_d(cycle) * SECONDS_PER_DAY)
-    }
-
-    /// Instantaneous period P + 2QE at cycle `cycle`, days.
-    pub fn period_at_d(&self, cycle: f64) -> f64 {
-        self.period_d + 2.0 * self.quadratic_d * cycle
-    }
-
-    /// 1σ of T(E), days: √(gᵀ C g), g = (1, E, E²[, ∂τ/∂companion parameters]).
-    pub fn sigma_d(&self, cycle: f64) -> f64 {
-        if let Some(lt) = &self.light_time {
-            let mut g = [0.0; 13];
-            g[0] = 1.0;
-            g[1] = cycle;
-            g[2] = cycle * cycle;
-            let t = self.since_reference_d(lt, cycle);
-            for c in 0..lt.companions {
-                let (_, grad) = crate::oc::models::light_time_with_gradient_d(&lt.params[c], t);
-                g[3 + 5 * c..8 + 5 * c].copy_from_slice(&grad);
-            }
-            let mut v = 0.0;
-            for i in 0..13 {
-                for j in 0..13 {
-                    v += g[i] * lt.covariance[i][j] * g[j];
-                }
-            }
-            return v.max(0.0).sqrt();
-        }
-        let g = [1.0, cycle, cycle * cycle];
-        let mut v = 0.0;
-        for i in 0..3 {
-            for j in 0..3 {
-                v += g[i] * self.covariance_d2[i][j] * g[j];
-            }
-        }
-        v.max(0.0).sqrt()
-    }
-
-    /// The (fractional) cycle at BJD_TDB `t`: the root of P·E + Q·E² = t − T₀ on the branch
-    /// through E = 0. Errors when the quadratic ephemeris never reaches `t` there.
-    pub fn cycle_at(&self, t: &Instant) -> Result<f64, PredictError> {
-        let polynomial = self.polynomial_cycle_at(t)?;
-        if self.light_time.is_none() {
-            return Ok(polynomial);
-        }
-        // With companions: Newton steps on T(E) − T₀ = t − T₀ from the polynomial root (the
-        // light time changes far more slowly than one cycle).
-        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / SECONDS_PER_DAY;
-        let mut e = polynomial;
-        for _ in 0..8 {
-            e -= (self.offset_d(e) - dt) / self.period_at_d(e);
-        }
-        Ok(e)
-    }
-
-    fn polynomial_cycle_at(&self, t: &Instant) -> Result<f64, PredictError> {
-        let dt = t.relabel(TimeScale::Tdb).seconds_since(&self.epoch) / SECONDS_PER_DAY;
-        if self.quadratic_d == 0.0 {
-            return Ok(dt / self.period_d);
-        }
-        let disc = self.period_d * self.period_d + 4.0 * self.quadratic_d * dt;
-        if disc <= 0.0 {
-            return Err(PredictError::BadEphemeris(format!(
-                "the quadratic ephemeris (P = {} d, Q = {} d) never reaches {}: its period would have fallen to zero",
-                self.period_d,
-                self.quadratic_d,
-                crate::ephemeris::describe_instant(t)
-            )));
-        }
-        // Stable form of the root through E = 0.
-        Ok(2.0 * dt / (self.period_d + disc.sqrt()))
-    }
-}
 
 /// Limits that decide whether an event can be observed.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -422,7 +134,7 @@ pub fn sun_caution_message(separation_deg: f64) -> String {
 /// inverse barycentric correction; `sky` computes the conditions.
 #[allow(clippy::too_many_arguments)]
 pub fn predict_events(
-    ephemeris: &EventEphemeris,
+    ephemeris: &FittedEphemeris,
     kinds: &[EventKind],
     start: &Instant,
     end: &Instant,
@@ -525,34 +237,8 @@ pub fn predict_events(
 mod tests {
     use super::*;
 
-    fn epoch() -> Instant {
-        Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.25)
-    }
-
     #[test]
-    fn cycle_at_inverts_time_at_for_quadratic_ephemerides() {
-        let e = EventEphemeris::new(epoch(), 0.8, 3e-10, [[0.0; 3]; 3]).unwrap();
-        for cycle in [-5000.0, -1.5, 0.0, 2.5, 12_345.0] {
-            let t = e.time_at(cycle);
-            assert!((e.cycle_at(&t).unwrap() - cycle).abs() < 1e-9, "{cycle}");
-        }
-    }
-
-    #[test]
-    fn sigma_is_the_quadratic_form() {
-        let c = [[1e-8, 2e-11, 0.0], [2e-11, 1e-13, 0.0], [0.0, 0.0, 0.0]];
-        let e = EventEphemeris::new(epoch(), 1.1, 0.0, c).unwrap();
-        let cycle = 1000.0;
-        let want = (1e-8 + 2.0 * cycle * 2e-11 + cycle * cycle * 1e-13f64).sqrt();
-        assert!((e.sigma_d(cycle) - want).abs() < 1e-15);
-    }
-
-    #[test]
-    fn rejects_bad_ephemerides_and_options() {
-        assert!(EventEphemeris::linear(epoch(), -1.0, 0.0, 0.0).is_err());
-        assert!(EventEphemeris::linear(epoch().relabel(TimeScale::Utc), 1.0, 0.0, 0.0).is_err());
-        assert!(EventEphemeris::new(epoch(), 1.0, 0.0, [[1.0, 0.5, 0.0], [0.4, 1.0, 0.0], [0.0, 0.0, 0.0]]).is_err());
-        assert!(EventEphemeris::from_fitted_shifts(epoch(), 1.0, &[0.0, 0.0], &[0.0; 3]).is_err());
+    fn rejects_bad_options() {
         let o = PredictionOptions { sun_caution_deg: 5.0, ..Default::default() };
         assert!(o.validate().is_err());
         let o = PredictionOptions { event_duration_d: Some(-0.1), ..Default::default() };

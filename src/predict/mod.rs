@@ -1,6 +1,6 @@
 //! # predict — upcoming events and whether they can be observed
 //!
-//! [`events`] lists the events of a linear or quadratic ephemeris (primary and secondary
+//! [`events`] lists the events of a fitted O–C ephemeris (`oc::FittedEphemeris`) (primary and secondary
 //! minima, maxima) in a date range, with the timing uncertainty propagated from the
 //! ephemeris covariance, the clock time at a site, and the observing conditions there;
 //! [`sky`] computes those conditions: altitude and azimuth of the target, the Sun and the
@@ -11,9 +11,13 @@
 //! Nothing here prints.
 
 pub mod events;
+pub mod forecast;
 pub mod sky;
 
-pub use events::{EventEphemeris, PredictedEvent, PredictionOptions, predict_events};
+pub use events::{PredictedEvent, PredictionOptions, predict_events};
+pub use forecast::{
+    Forecast, ForecastEphemeris, ForecastEvent, ForecastRequest, forecast, leap_second_horizon_warning,
+};
 pub use sky::{HorizontalPosition, SkyCondition, SkyGeometry, SkySnapshot};
 
 use thiserror::Error;
@@ -35,6 +39,8 @@ pub enum PredictError {
     Ephemeris(#[from] EphemerisError),
     #[error(transparent)]
     Arrival(#[from] ArrivalError),
+    #[error(transparent)]
+    Model(#[from] crate::oc::EphemerisError),
     /// The date range is empty or reversed.
     #[error("the range ends ({end}) before it starts ({start}); give an end later than the start")]
     EmptyRange { start: String, end: String },

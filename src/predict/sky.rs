@@ -48,7 +48,7 @@ pub const NAUTICAL_TWILIGHT_DEG: f64 = -12.0;
 pub const ASTRONOMICAL_TWILIGHT_DEG: f64 = -18.0;
 
 /// Altitude and azimuth of one body, degrees.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct HorizontalPosition {
     /// Geometric (airless) altitude above the horizon plane, degrees, −90…+90.
     pub altitude_deg: f64,
@@ -57,7 +57,7 @@ pub struct HorizontalPosition {
 }
 
 /// The sky at one site and instant.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct SkySnapshot {
     /// The target.
     pub target: HorizontalPosition,
