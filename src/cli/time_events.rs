@@ -2,7 +2,6 @@
 //! measure each event's time of minimum (or maximum) with its error; the table it writes
 //! is read directly by `timing-residuals`.
 
-use skyclock::constants::SECONDS_PER_DAY;
 use std::path::PathBuf;
 
 use anyhow::{Result, bail};
@@ -12,12 +11,12 @@ use polars::prelude::*;
 use super::common::{BrightnessArg, write_text};
 use super::light_curve_input::LightCurveArgs;
 use skyclock::minima::{
-    Brightness, EventCurve, EventEphemeris, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape,
-    TimingMethod, time_events,
+    Brightness, EventCurve, EventTimingRequest, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape,
+    TimingMethod, time_light_curve,
 };
-use skyclock::oc::EventKind;
-use skyclock::table::{Provenance, write_table};
-use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::oc::{EventKind, ReferenceEphemeris};
+use skyclock::table::{Provenance, Summary, write_table};
+use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
   skyclock time-events --input kq_invented.csv --time-column bjd --value-column mag \\
@@ -161,43 +160,24 @@ pub fn run(a: Args) -> Result<()> {
             .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let errors: Option<Vec<f64>> =
         series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
-    let curve = EventCurve {
-        reference: lc.epoch,
-        time_d: series.time_d(),
-        value: series.value(),
-        error: errors.as_deref(),
-        brightness,
+    let input_rows: Vec<usize> = series.row().iter().map(|&r| lc.file_row[r]).collect();
+    let request = EventTimingRequest {
+        curve: EventCurve {
+            reference: lc.epoch,
+            time_d: series.time_d(),
+            value: series.value(),
+            error: errors.as_deref(),
+            brightness,
+        },
+        input_rows: &input_rows,
+        ephemeris: ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: 0.0 },
+        kind,
+        window,
+        segmenting: SegmentOptions { min_points: a.min_points, min_points_per_branch: a.min_points_per_side },
+        method,
     };
-    let ephemeris = EventEphemeris { epoch, period_d: a.period_d, kind };
-    let segmenting = SegmentOptions { min_points: a.min_points, min_points_per_branch: a.min_points_per_side };
-    let result =
-        time_events(&curve, &ephemeris, window, &segmenting, &method).map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
-    let file_row = |i: usize| lc.file_row[series.row()[i]];
-    let instant = |d: f64| format_time(&lc.epoch.add_seconds(d * SECONDS_PER_DAY), TimeFormat::Jd);
-    let skipped_lines: Vec<String> = result
-        .skipped
-        .iter()
-        .map(|s| {
-            format!(
-                "cycle {} (rows {}–{}, predicted {}): {}",
-                s.cycle,
-                file_row(s.first_index),
-                file_row(s.last_index),
-                instant(s.predicted_d),
-                s.reason
-            )
-        })
-        .collect();
-    if result.timed.is_empty() {
-        bail!(
-            "{file}: no event could be timed from column '{}' ({} points, {} predicted events without data){}{}",
-            a.light_curve.value_column,
-            series.len(),
-            result.empty_windows,
-            if skipped_lines.is_empty() { "" } else { ":\n  " },
-            skipped_lines.join("\n  ")
-        );
-    }
+    let report = time_light_curve(&request)
+        .map_err(|e| anyhow::anyhow!("{file}: column '{}': {e}", a.light_curve.value_column))?;
     let input = a.light_curve.input.as_path();
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "time-events")
@@ -205,94 +185,62 @@ pub fn run(a: Args) -> Result<()> {
         .with("method", method.name())
         .with("epoch_bjd_tdb", a.epoch_bjd_tdb.clone())
         .with("period_d", a.period_d.to_string())
-        .with("times", note.clone());
-    let t = &result.timed;
+        .with("times", note.clone())
+        .with("rows_dropped_nan", series.n_dropped().to_string());
+    let t = &report.timed;
     let mut df = DataFrame::new_infer_height(vec![
-        Column::new("time".into(), t.iter().map(|e| instant(e.centre_d)).collect::<Vec<_>>()),
+        Column::new("time".into(), t.iter().map(|e| e.time.clone()).collect::<Vec<_>>()),
         Column::new("error_d".into(), t.iter().map(|e| e.error_d).collect::<Vec<_>>()),
-        Column::new("kind".into(), t.iter().map(|_| kind.name()).collect::<Vec<_>>()),
+        Column::new("kind".into(), t.iter().map(|e| e.kind.name()).collect::<Vec<_>>()),
         Column::new("cycle".into(), t.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-        Column::new("method".into(), t.iter().map(|_| method.name()).collect::<Vec<_>>()),
+        Column::new("method".into(), t.iter().map(|e| e.method.clone()).collect::<Vec<_>>()),
         Column::new("points".into(), t.iter().map(|e| e.points as u64).collect::<Vec<_>>()),
         Column::new("error_formal_d".into(), t.iter().map(|e| e.error_formal_d).collect::<Vec<_>>()),
         Column::new("error_bootstrap_d".into(), t.iter().map(|e| e.error_bootstrap_d).collect::<Vec<Option<f64>>>()),
-        Column::new("predicted_bjd_tdb".into(), t.iter().map(|e| instant(e.predicted_d)).collect::<Vec<_>>()),
-        Column::new("first_row".into(), t.iter().map(|e| file_row(e.first_index) as u64).collect::<Vec<_>>()),
-        Column::new("last_row".into(), t.iter().map(|e| file_row(e.last_index) as u64).collect::<Vec<_>>()),
+        Column::new("predicted_bjd_tdb".into(), t.iter().map(|e| e.predicted_bjd_tdb.clone()).collect::<Vec<_>>()),
+        Column::new("first_row".into(), t.iter().map(|e| e.first_row as u64).collect::<Vec<_>>()),
+        Column::new("last_row".into(), t.iter().map(|e| e.last_row as u64).collect::<Vec<_>>()),
     ])?;
     write_table(&mut df, &a.output, &provenance, &[input])?;
+    let mut outputs = vec![a.output.display().to_string()];
     if let Some(path) = &a.skipped_output {
-        let s = &result.skipped;
+        let s = &report.skipped;
         let mut df = DataFrame::new_infer_height(vec![
             Column::new("cycle".into(), s.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-            Column::new("predicted_bjd_tdb".into(), s.iter().map(|e| instant(e.predicted_d)).collect::<Vec<_>>()),
+            Column::new("predicted_bjd_tdb".into(), s.iter().map(|e| e.predicted_bjd_tdb.clone()).collect::<Vec<_>>()),
             Column::new("points".into(), s.iter().map(|e| e.points as u64).collect::<Vec<_>>()),
-            Column::new("first_row".into(), s.iter().map(|e| file_row(e.first_index) as u64).collect::<Vec<_>>()),
-            Column::new("last_row".into(), s.iter().map(|e| file_row(e.last_index) as u64).collect::<Vec<_>>()),
-            Column::new("reason_code".into(), s.iter().map(|e| e.reason.code()).collect::<Vec<_>>()),
-            Column::new("reason".into(), s.iter().map(|e| e.reason.to_string()).collect::<Vec<_>>()),
+            Column::new("first_row".into(), s.iter().map(|e| e.first_row as u64).collect::<Vec<_>>()),
+            Column::new("last_row".into(), s.iter().map(|e| e.last_row as u64).collect::<Vec<_>>()),
+            Column::new("reason_code".into(), s.iter().map(|e| e.reason_code.clone()).collect::<Vec<_>>()),
+            Column::new("reason".into(), s.iter().map(|e| e.reason.clone()).collect::<Vec<_>>()),
         ])?;
         write_table(&mut df, path, &provenance, &[input, a.output.as_path()])?;
+        outputs.push(path.display().to_string());
     }
-    let median_error_d = {
-        let mut e: Vec<f64> = t.iter().map(|x| x.error_d).collect();
-        e.sort_by(f64::total_cmp);
-        e[e.len() / 2]
-    };
-    // Stated with every Kwee–van Woerden run (docs/minima.md): its error formula rests on an
-    // assumed number of independent pairs and is known to mislead for few points or red noise.
-    let notes: Vec<&str> = if matches!(method, TimingMethod::KweeVanWoerden) {
-        vec![
-            "note: the Kwee–van Woerden error assumes Z = N/4 independent pairs and white noise; it can be too small for \
-              few points or correlated noise — compare with --method symmetric-polynomial and its bootstrap error",
-        ]
-    } else {
-        Vec::new()
-    };
-    let summary = serde_json::json!({
-        "notes": notes,
-        "input": input.display().to_string(),
-        "output": a.output.display().to_string(),
-        "method": method.name(),
-        "event_kind": kind.name(),
-        "brightness": brightness,
-        "ephemeris": {"epoch_bjd_tdb": a.epoch_bjd_tdb, "period_d": a.period_d},
-        "window_half_width_d": window.half_width_d(a.period_d),
-        "points": series.len(),
-        "rows_dropped_nan": series.n_dropped(),
-        "timed": t.len(),
-        "skipped": result.skipped.len(),
-        "predicted_events_without_data": result.empty_windows,
-        "median_error_d": median_error_d,
-        "skipped_events": result.skipped.iter().map(|s| serde_json::json!({
-            "cycle": s.cycle, "predicted_bjd_tdb": instant(s.predicted_d), "points": s.points,
-            "first_row": file_row(s.first_index), "last_row": file_row(s.last_index),
-            "reason_code": s.reason.code(), "reason": s.reason.to_string(),
-        })).collect::<Vec<_>>(),
-        "times": note,
-    });
     if let Some(path) = &a.summary {
-        write_text(
-            path,
-            &serde_json::to_string_pretty(&serde_json::json!({"provenance": provenance, "summary": summary}))?,
-            &[input, a.output.as_path()],
-        )?;
+        outputs.push(path.display().to_string());
     }
+    let summary = Summary::new(report, provenance, vec![input.display().to_string()], outputs);
+    let text = summary.to_json()?;
+    if let Some(path) = &a.summary {
+        write_text(path, &text, &[input, a.output.as_path()])?;
+    }
+    let report = &summary.result;
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&summary)?);
+        println!("{text}");
     } else if !a.quiet {
         println!(
             "timed {} {} events with {} ({} skipped, {} predicted events without data)",
-            t.len(),
+            report.timed.len(),
             kind.name(),
             method.name(),
-            result.skipped.len(),
-            result.empty_windows
+            report.skipped.len(),
+            report.predicted_events_without_data
         );
-        for line in &skipped_lines {
-            println!("  skipped {line}");
+        for s in &report.skipped {
+            println!("  skipped {}", s.describe());
         }
-        for n in &notes {
+        for n in &report.notes {
             println!("{n}");
         }
     }

@@ -17,16 +17,19 @@
 //! prints or reads the command line.
 
 pub mod kwee_van_woerden;
+pub mod run;
 pub mod segmentation;
 pub mod symmetric_fit;
 
 pub use kwee_van_woerden::{KweeVanWoerden, kwee_van_woerden};
-pub use segmentation::{
-    EventEphemeris, EventWindow, Segment, SegmentOptions, SkipReason, SkippedEvent, segment_events,
+pub use run::{
+    EventTimingError, EventTimingReport, EventTimingRequest, SkippedEventRow, TimedEventRow, time_light_curve,
 };
+pub use segmentation::{EventWindow, Segment, SegmentOptions, SkipReason, SkippedEvent, segment_events};
 pub use symmetric_fit::{SymmetricFit, SymmetricOptions, SymmetricShape, fit_symmetric};
 
 use crate::fit::FitError;
+use crate::oc::{EventKind, ReferenceEphemeris};
 use crate::time::Instant;
 
 pub use crate::light_curve::Brightness;
@@ -186,7 +189,8 @@ pub struct EventCurve<'a> {
     pub brightness: Brightness,
 }
 
-/// Segments a light curve around an ephemeris and times every event with `method`.
+/// Segments a light curve around a reference ephemeris and times every event of `kind`
+/// with `method`.
 ///
 /// Events that cannot be timed (a missing branch, too few points, a failed fit, a centre
 /// that falls outside its window) are returned in `skipped` with their reason — never
@@ -194,15 +198,16 @@ pub struct EventCurve<'a> {
 /// depend on which events are present or on thread count.
 pub fn time_events(
     curve: &EventCurve,
-    ephemeris: &EventEphemeris,
+    ephemeris: &ReferenceEphemeris,
+    kind: EventKind,
     window: EventWindow,
     segmenting: &SegmentOptions,
     method: &TimingMethod,
 ) -> Result<EventTimings, MinimaError> {
     validate(curve.time_d, curve.value, curve.error)?;
     let (segments, mut skipped, empty_windows) =
-        segment_events(curve.time_d, curve.reference, ephemeris, window, segmenting)?;
-    let extremum = if ephemeris.kind == crate::oc::EventKind::Maximum { Extremum::Maximum } else { Extremum::Minimum };
+        segment_events(curve.time_d, curve.reference, ephemeris, kind, window, segmenting)?;
+    let extremum = if kind == EventKind::Maximum { Extremum::Maximum } else { Extremum::Minimum };
     let half_width_d = window.half_width_d(ephemeris.period_d);
     let mut timed = Vec::new();
     for s in segments {

@@ -11,19 +11,8 @@
 
 use super::MinimaError;
 use crate::constants::SECONDS_PER_DAY;
-use crate::oc::EventKind;
+use crate::oc::{EventKind, ReferenceEphemeris};
 use crate::time::Instant;
-
-/// A linear ephemeris of one kind of event.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct EventEphemeris {
-    /// Epoch T₀ of cycle 0 (a primary minimum, or a maximum for pulsators), BJD_TDB.
-    pub epoch: Instant,
-    /// Period P, days.
-    pub period_d: f64,
-    /// Which events to cut out (secondaries sit at half cycles).
-    pub kind: EventKind,
-}
 
 /// Half-width of the window around each predicted centre.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -159,7 +148,8 @@ pub struct SkippedEvent {
 /// for the span).
 pub const MAX_EVENTS: f64 = 5.0e6;
 
-/// Cuts a light curve (times in days since `reference`, strictly increasing) into events.
+/// Cuts a light curve (times in days since `reference`, strictly increasing) into the
+/// events of `kind` around the reference ephemeris (epoch of cycle 0, period).
 ///
 /// Returned: the events to time, the skipped events with reasons, and the number of
 /// predicted events inside the span with an empty window. Errors: a period or half-width
@@ -168,7 +158,8 @@ pub const MAX_EVENTS: f64 = 5.0e6;
 pub fn segment_events(
     time_d: &[f64],
     reference: Instant,
-    ephemeris: &EventEphemeris,
+    ephemeris: &ReferenceEphemeris,
+    kind: EventKind,
     window: EventWindow,
     options: &SegmentOptions,
 ) -> Result<(Vec<Segment>, Vec<SkippedEvent>, usize), MinimaError> {
@@ -202,7 +193,7 @@ pub fn segment_events(
         return Ok((segments, skipped, empty));
     };
     let epoch_d = ephemeris.epoch.seconds_since(&reference) / SECONDS_PER_DAY;
-    let k = ephemeris.kind.cycle_offset();
+    let k = kind.cycle_offset();
     let e_lo = ((first - w - epoch_d) / p - k).ceil();
     let e_hi = ((last + w - epoch_d) / p - k).floor();
     if e_hi - e_lo > MAX_EVENTS {
@@ -260,10 +251,10 @@ mod tests {
     #[test]
     fn events_cut_and_reasons_given() {
         let reference = Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.0);
-        let eph = EventEphemeris {
+        let eph = ReferenceEphemeris {
             epoch: Instant::from_jd_two_part(TimeScale::Tdb, 2_460_000.5, 0.25),
             period_d: 1.0,
-            kind: EventKind::Primary,
+            period_sigma_d: 0.0,
         };
         // Cycle 0 at 0.25 d: full coverage; cycle 1 at 1.25: only before; cycle 2 at 2.25: 4 points.
         let mut t: Vec<f64> = (0..40).map(|i| 0.15 + 0.005 * i as f64).collect();
@@ -273,6 +264,7 @@ mod tests {
             &t,
             reference,
             &eph,
+            EventKind::Primary,
             EventWindow::HalfWidthPhase(0.1),
             &SegmentOptions { min_points: 10, min_points_per_branch: 2 },
         )
@@ -284,13 +276,27 @@ mod tests {
         assert!(matches!(skip[0].reason, SkipReason::BranchMissing { branch: Branch::After, .. }));
         assert!(matches!(skip[1].reason, SkipReason::TooFewPoints { got: 4, needed: 10 }));
         assert_eq!(empty, 0);
-        let sec = EventEphemeris { kind: EventKind::Secondary, ..eph };
-        let (seg, skip, empty) =
-            segment_events(&t, reference, &sec, EventWindow::HalfWidthDays(0.05), &SegmentOptions::default()).unwrap();
+        let (seg, skip, empty) = segment_events(
+            &t,
+            reference,
+            &eph,
+            EventKind::Secondary,
+            EventWindow::HalfWidthDays(0.05),
+            &SegmentOptions::default(),
+        )
+        .unwrap();
         assert!(seg.is_empty() && skip.is_empty());
         assert_eq!(empty, 2, "secondaries at 0.75 and 1.75 d have no points");
         assert!(
-            segment_events(&t, reference, &eph, EventWindow::HalfWidthPhase(0.6), &SegmentOptions::default()).is_err()
+            segment_events(
+                &t,
+                reference,
+                &eph,
+                EventKind::Primary,
+                EventWindow::HalfWidthPhase(0.6),
+                &SegmentOptions::default()
+            )
+            .is_err()
         );
     }
 }
