@@ -619,3 +619,58 @@ fn light_time_models_are_extrapolated_with_their_covariance() {
         assert!((e.cycle_at(&e.time_at(cycle)).unwrap() - cycle).abs() < 1e-9);
     }
 }
+
+/// "When can I next observe it?" gives an answer from any start date: for the demo's
+/// invented target and site (datasets/kx_inventa_sites.toml), from the first of each month
+/// of 2027 the search finds observable minima within a year, the window it returns holds
+/// them, and every window it passed over holds none (checked again window by window).
+#[test]
+fn the_next_observable_window_is_found_from_any_date() {
+    use skyclock::predict::{ForecastRequest, first_observable_window, forecast};
+    let description = skyclock::config::read_description(std::path::Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/datasets/kx_inventa_sites.toml"
+    )))
+    .unwrap();
+    let site = description.sites.get("Ridge Hollow Observatory").unwrap().clone();
+    let source = description.source.clone().unwrap();
+    let conv = converter();
+    let corrector =
+        BarycentricCorrector::new(embedded(), conv.clone(), EarthOrientation::Ignored, source, DelayOptions::default());
+    let sky = SkyGeometry::new(embedded(), conv.clone(), EarthOrientation::Ignored);
+    let eph =
+        FittedEphemeris::linear(Instant::from_jd_two_part(TimeScale::Tdb, 2_459_000.5, -0.154), 0.8371234, 1e-4, 1e-7)
+            .unwrap();
+    let kinds = [EventKind::Primary, EventKind::Secondary];
+    let mut moved = 0;
+    for month in 1..=12 {
+        let start =
+            parse_time(&format!("2027-{month:02}-01"), TimeFormat::Iso, TimeScale::Utc, conv.leap_seconds()).unwrap();
+        let request = ForecastRequest {
+            ephemeris: &eph,
+            ephemeris_origin: "test".into(),
+            kinds: &kinds,
+            start,
+            end: start,
+            site: &site,
+            options: PredictionOptions { event_duration_d: Some(2.5 / 24.0), ..Default::default() },
+            only_observable: true,
+        };
+        let (found, passed) = first_observable_window(&request, 30.0, 13, &corrector, &sky).unwrap();
+        assert!(found.fully_observable() > 0, "2027-{month:02}: nothing observable within a year");
+        assert!(found.events.iter().all(|e| e.fully_observable()));
+        for k in 0..passed {
+            let s = start.add_seconds(k as f64 * 30.0 * 86_400.0);
+            let r = forecast(
+                &ForecastRequest { start: s, end: s.add_seconds(30.0 * 86_400.0), ..request.clone() },
+                &corrector,
+                &sky,
+            )
+            .unwrap();
+            assert_eq!(r.fully_observable(), 0, "2027-{month:02}: window {k} was passed over but holds events");
+        }
+        moved += (passed > 0) as usize;
+    }
+    // The target (RA 5h) is behind the Sun in northern summer: some start dates must move on.
+    assert!(moved >= 2, "only {moved} start dates needed a later window");
+}

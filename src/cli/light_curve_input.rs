@@ -8,12 +8,9 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
-use skyclock::survey::input::{
-    LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times,
-};
-use skyclock::table::{read_table, text_column};
+use skyclock::arrival::table::{ClockSpec, ObserverSpec};
+use skyclock::survey::input::{LightCurveColumns, TableLightCurve, is_barycentric_tdb};
+use skyclock::survey::load::{LightCurveSource, TimeOrigin, read_light_curve};
 
 /// Where the light curve is and how to read it.
 #[derive(Debug, Clone, ClapArgs)]
@@ -62,59 +59,25 @@ impl LightCurveArgs {
     /// Reads the table and returns the light curve with times in days since its epoch
     /// (BJD_TDB), plus a note on how the times were obtained.
     pub fn load(&self) -> Result<(TableLightCurve, String)> {
-        let file = self.input.display().to_string();
-        let columns = self.columns();
-        let mut text_cols = vec![self.time_column.as_str()];
-        if let Some(c) = &self.clock_column {
-            text_cols.push(c);
-        }
-        if let Some(c) = &self.observer.site_column {
-            text_cols.push(c);
-        }
-        let df = read_table(&self.input, &text_cols)?;
         let clock = ClockSpec::parse_label(&self.clock).map_err(anyhow::Error::msg)?;
         let reference = self.reference_data.load()?;
-        let leap = reference.converter.leap_seconds().clone();
-        let bjd = ClockSpec::parse_label("bjd_tdb").map_err(anyhow::Error::msg)?;
-        let (times, note) = if self.clock_column.is_none() && is_barycentric_tdb(&clock) {
-            let texts = text_column(&df, &file, &self.time_column)?;
-            (
-                parse_barycentric_times(&texts, &clock, &file, &self.time_column, &leap)?,
-                format!("times read as {} (already barycentric)", self.clock),
-            )
+        let barycentric = self.clock_column.is_none() && is_barycentric_tdb(&clock);
+        let (observer, source) = if barycentric {
+            (ObserverSpec::Geocentre, None)
         } else {
             let description = self.observer.description()?;
-            let source = self.source.load(description.as_ref())?;
-            let observer = self.observer.observer_spec(description.as_ref())?;
-            let corrector = BarycentricCorrector::new(
-                reference.ephemeris.clone(),
-                reference.converter.clone(),
-                reference.orientation.clone(),
-                source.clone(),
-                DelayOptions::default(),
-            );
-            let request = TableRequest {
-                time_column: self.time_column.clone(),
-                clock: if self.clock_column.is_some() { None } else { Some(clock) },
-                clock_column: self.clock_column.clone(),
-                observer,
-            };
-            let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
-            let texts = text_column(&corrected, &file, "bjd_tdb")?;
-            (
-                parse_barycentric_times(&texts, &bjd, &file, "bjd_tdb", &leap)?,
-                format!(
-                    "times carried from {} to BJD_TDB for {} with {}",
-                    self.clock_column.as_deref().map_or(self.clock.clone(), |c| format!("the clocks in column '{c}'")),
-                    source.name,
-                    reference.ephemeris.name()
-                ),
-            )
+            (self.observer.observer_spec(description.as_ref())?, Some(self.source.load(description.as_ref())?))
         };
-        let values = text_column(&df, &file, &self.value_column)?;
-        let errors = self.error_column.as_deref().map(|c| text_column(&df, &file, c)).transpose()?;
-        let bands = self.band_column.as_deref().map(|c| text_column(&df, &file, c)).transpose()?;
-        let lc = assemble(&file, &columns, &times, &values, errors.as_deref(), bands.as_deref(), &|i| i + 1)?;
-        Ok((lc, note))
+        let request = LightCurveSource {
+            path: &self.input,
+            columns: self.columns(),
+            times: match &self.clock_column {
+                Some(c) => TimeOrigin::ClockColumn(c.clone()),
+                None => TimeOrigin::Clock(self.clock.clone()),
+            },
+            observer,
+            source,
+        };
+        Ok(read_light_curve(&request, &reference)?)
     }
 }

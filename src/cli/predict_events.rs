@@ -5,7 +5,6 @@ use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result, bail};
 use clap::Args as ClapArgs;
-use polars::prelude::{Column, DataFrame};
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use skyclock::arrival::{BarycentricCorrector, DelayOptions};
@@ -195,39 +194,7 @@ pub fn run(a: Args) -> Result<()> {
         .with("altitudes", "geometric, no refraction; Moon from low-precision formulae (~0.3°)");
     let events = &result.events;
     if let Some(path) = &a.output {
-        let n = events.len();
-        let mut columns = vec![
-            Column::new("kind".into(), events.iter().map(|e| e.kind.name().to_string()).collect::<Vec<_>>()),
-            Column::new("cycle".into(), events.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-            Column::new("bjd_tdb".into(), events.iter().map(|e| e.bjd_tdb.clone()).collect::<Vec<_>>()),
-            Column::new("bjd_tdb_jd1".into(), events.iter().map(|e| e.bjd_tdb_jd1).collect::<Vec<_>>()),
-            Column::new("bjd_tdb_jd2".into(), events.iter().map(|e| e.bjd_tdb_jd2).collect::<Vec<_>>()),
-            Column::new("sigma_d".into(), events.iter().map(|e| e.sigma_d).collect::<Vec<_>>()),
-            Column::new("utc_iso".into(), events.iter().map(|e| e.utc_iso.clone()).collect::<Vec<_>>()),
-            Column::new("target_altitude_deg".into(), events.iter().map(|e| e.target.altitude_deg).collect::<Vec<_>>()),
-            Column::new("target_azimuth_deg".into(), events.iter().map(|e| e.target.azimuth_deg).collect::<Vec<_>>()),
-            Column::new("sun_altitude_deg".into(), events.iter().map(|e| e.sun.altitude_deg).collect::<Vec<_>>()),
-            Column::new("sky_condition".into(), events.iter().map(|e| e.sky_condition.clone()).collect::<Vec<_>>()),
-            Column::new("sun_separation_deg".into(), events.iter().map(|e| e.sun_separation_deg).collect::<Vec<_>>()),
-            Column::new("moon_altitude_deg".into(), events.iter().map(|e| e.moon.altitude_deg).collect::<Vec<_>>()),
-            Column::new("moon_separation_deg".into(), events.iter().map(|e| e.moon_separation_deg).collect::<Vec<_>>()),
-            Column::new(
-                "moon_illuminated_fraction".into(),
-                events.iter().map(|e| e.moon_illuminated_fraction).collect::<Vec<_>>(),
-            ),
-            Column::new("observable".into(), events.iter().map(|e| e.observable).collect::<Vec<_>>()),
-        ];
-        if options.event_duration_d.is_some() {
-            columns.push(Column::new(
-                "window_observable".into(),
-                events.iter().map(|e| e.window_observable.unwrap_or(false)).collect::<Vec<_>>(),
-            ));
-        }
-        columns.push(Column::new(
-            "caution".into(),
-            events.iter().map(|e| e.caution.clone().unwrap_or_default()).collect::<Vec<_>>(),
-        ));
-        let mut df = DataFrame::new(n, columns).context("building the output table")?;
+        let mut df = result.table().context("building the output table")?;
         write_table(&mut df, path, &provenance, &inputs)?;
     }
 

@@ -6,7 +6,6 @@ use std::path::PathBuf;
 
 use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
-use polars::prelude::*;
 
 use super::common::{BrightnessArg, write_text};
 use super::light_curve_input::LightCurveArgs;
@@ -187,33 +186,11 @@ pub fn run(a: Args) -> Result<()> {
         .with("period_d", a.period_d.to_string())
         .with("times", note.clone())
         .with("rows_dropped_nan", series.n_dropped().to_string());
-    let t = &report.timed;
-    let mut df = DataFrame::new_infer_height(vec![
-        Column::new("time".into(), t.iter().map(|e| e.time.clone()).collect::<Vec<_>>()),
-        Column::new("error_d".into(), t.iter().map(|e| e.error_d).collect::<Vec<_>>()),
-        Column::new("kind".into(), t.iter().map(|e| e.kind.name()).collect::<Vec<_>>()),
-        Column::new("cycle".into(), t.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-        Column::new("method".into(), t.iter().map(|e| e.method.clone()).collect::<Vec<_>>()),
-        Column::new("points".into(), t.iter().map(|e| e.points as u64).collect::<Vec<_>>()),
-        Column::new("error_formal_d".into(), t.iter().map(|e| e.error_formal_d).collect::<Vec<_>>()),
-        Column::new("error_bootstrap_d".into(), t.iter().map(|e| e.error_bootstrap_d).collect::<Vec<Option<f64>>>()),
-        Column::new("predicted_bjd_tdb".into(), t.iter().map(|e| e.predicted_bjd_tdb.clone()).collect::<Vec<_>>()),
-        Column::new("first_row".into(), t.iter().map(|e| e.first_row as u64).collect::<Vec<_>>()),
-        Column::new("last_row".into(), t.iter().map(|e| e.last_row as u64).collect::<Vec<_>>()),
-    ])?;
+    let mut df = report.timed_table()?;
     write_table(&mut df, &a.output, &provenance, &[input])?;
     let mut outputs = vec![a.output.display().to_string()];
     if let Some(path) = &a.skipped_output {
-        let s = &report.skipped;
-        let mut df = DataFrame::new_infer_height(vec![
-            Column::new("cycle".into(), s.iter().map(|e| e.cycle).collect::<Vec<_>>()),
-            Column::new("predicted_bjd_tdb".into(), s.iter().map(|e| e.predicted_bjd_tdb.clone()).collect::<Vec<_>>()),
-            Column::new("points".into(), s.iter().map(|e| e.points as u64).collect::<Vec<_>>()),
-            Column::new("first_row".into(), s.iter().map(|e| e.first_row as u64).collect::<Vec<_>>()),
-            Column::new("last_row".into(), s.iter().map(|e| e.last_row as u64).collect::<Vec<_>>()),
-            Column::new("reason_code".into(), s.iter().map(|e| e.reason_code.clone()).collect::<Vec<_>>()),
-            Column::new("reason".into(), s.iter().map(|e| e.reason.clone()).collect::<Vec<_>>()),
-        ])?;
+        let mut df = report.skipped_table()?;
         write_table(&mut df, path, &provenance, &[input, a.output.as_path()])?;
         outputs.push(path.display().to_string());
     }

@@ -18,14 +18,25 @@ use super::scenario::{
     self, BINARY_MASS_MSUN, DESCRIPTION_FILE, MINIMA_FILE, PHOTOMETRY_FILE, THIRD_BODY, TRUE_PERIOD_D, TRUE_QUADRATIC_D,
 };
 use super::survey_scenario::{SURVEY_FILE, SURVEY_TRUTH_FILE, write_survey};
+use skyclock::arrival::table::ObserverSpec;
+use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferenceData};
+use skyclock::config::read_description;
 use skyclock::ephemeris::Ephemeris;
+use skyclock::light_curve::Brightness;
+use skyclock::minima::{
+    EventCurve, EventTimingReport, EventTimingRequest, EventWindow, Extremum, SegmentOptions, TimingMethod,
+    estimate_epoch, time_light_curve,
+};
+use skyclock::oc::{EventKind, ModelKind, ReferenceEphemeris};
+use skyclock::predict::{ForecastRequest, PredictionOptions, SkyGeometry, first_observable_window};
 use skyclock::report::{Report, ReportFigure, Section, Table, write_report};
-use skyclock::table::{Provenance, float_column, read_table, text_column};
+use skyclock::survey::input::LightCurveColumns;
+use skyclock::survey::load::{LightCurveSource, TimeOrigin, read_light_curve};
+use skyclock::table::{Provenance, float_column, read_table, text_column, write_table};
+use skyclock::time::{Instant, TimeFormat, TimeScale, format_time, parse_time};
 
 /// Site used for the photometry and the predictions.
 const HOME_SITE: &str = "Ridge Hollow Observatory";
-/// Reference ephemeris a user would start from (the scenario's linear elements).
-const REFERENCE_EPOCH: &str = "2459000.34567890";
 
 /// One recovered quantity beside its truth.
 #[derive(Debug, Clone, PartialEq)]
@@ -87,36 +98,24 @@ fn model_value(analysis: &skyclock::oc::OcAnalysis, model: &str, name: &str) -> 
     Some((found.value, found.sigma_covariance.unwrap_or(f64::NAN)))
 }
 
-/// Today's UTC date as YYYY-MM-DD and the date `days` later.
-fn coming_dates(days: i64) -> (String, String) {
+/// Today's UTC date as YYYY-MM-DD.
+fn today_utc() -> String {
     let now_s =
         std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map(|d| d.as_secs() as i64).unwrap_or(0);
-    let mjd = 40_587 + now_s / 86_400;
-    let date = |m: i64| {
-        let (y, mo, d) = skyclock::time::calendar::civil_from_mjd(m);
-        format!("{y:04}-{mo:02}-{d:02}")
-    };
-    (date(mjd), date(mjd + days))
+    let (y, mo, d) = skyclock::time::calendar::civil_from_mjd(40_587 + now_s / 86_400);
+    format!("{y:04}-{mo:02}-{d:02}")
 }
 
 /// Appends the minima timed from the photometry to the historical table (same columns).
-fn combine_timings(historical: &Path, new_tables: &[&Path], combined: &Path) -> Result<usize> {
+fn combine_timings(historical: &Path, season: &[EventTimingReport], combined: &Path) -> Result<usize> {
     let mut text = std::fs::read_to_string(historical).with_context(|| format!("reading {}", historical.display()))?;
     if !text.ends_with('\n') {
         text.push('\n');
     }
     let mut added = 0;
-    for table in new_tables {
-        let file = path_text(table);
-        let df = read_table(table, &["time", "kind"])?;
-        let times = text_column(&df, &file, "time")?;
-        let kinds = text_column(&df, &file, "kind")?;
-        let errors = float_column(&df, &file, "error_d")?;
-        for i in 0..df.height() {
-            let (Some(t), Some(k)) = (&times[i], &kinds[i]) else { continue };
-            writeln!(text, "{HOME_SITE},skyclock demo photometry,bjd_tdb,{k},{t},{:.6}", errors[i])?;
-            added += 1;
-        }
+    for e in season.iter().flat_map(|r| &r.timed) {
+        writeln!(text, "{HOME_SITE},skyclock demo photometry,bjd_tdb,{},{},{:.6}", e.kind, e.time, e.error_d)?;
+        added += 1;
     }
     skyclock::table::write::write_atomically(combined, |f| std::io::Write::write_all(f, text.as_bytes()))?;
     Ok(added)
@@ -159,8 +158,9 @@ fn survey_recovery(results: &Path, truth: &Path) -> Result<Vec<(String, usize, u
 }
 
 /// Runs every stage on the datasets in `data`, writing into `out`; prints each stage's own
-/// output, then the comparison with the truth, and writes `out/report.html`.
-pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
+/// output, then the comparison with the truth, and writes `out/report.html`. Predictions
+/// start at `prediction_start` (UTC date, YYYY-MM-DD), today when `None`.
+pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Result<Vec<Comparison>> {
     let d = |name: &str| path_text(&data.join(name));
     let o = |name: &str| out.join(name);
     let ot = |name: &str| path_text(&out.join(name));
@@ -223,6 +223,41 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     let top = peaks.result.peaks.first().context("no period found")?;
     let (p_found, p_err) = (top.period_d, top.period_err_d);
     comparisons.push(compare("period from one season of photometry (d)", p_found, p_err, TRUE_PERIOD_D, 6));
+    let reference = ReferenceData::default();
+    let description = read_description(&data.join(DESCRIPTION_FILE))?;
+    let home = description.sites.get(HOME_SITE).cloned().with_context(|| format!("{HOME_SITE} in the description"))?;
+    let photometry = data.join(PHOTOMETRY_FILE);
+    let (lc, times_note) = read_light_curve(
+        &LightCurveSource {
+            path: &photometry,
+            columns: LightCurveColumns {
+                time: "time".into(),
+                value: "mag".into(),
+                error: Some("mag_err".into()),
+                band: None,
+            },
+            times: TimeOrigin::Clock("jd_utc".into()),
+            observer: ObserverSpec::Site(home.clone()),
+            source: description.source.clone(),
+        },
+        &reference,
+    )?;
+    let series = lc.series()?;
+    let errors: Option<Vec<f64>> =
+        series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
+    let input_rows: Vec<usize> = series.row().iter().map(|&r| lc.file_row[r]).collect();
+    let curve = EventCurve {
+        reference: lc.epoch,
+        time_d: series.time_d(),
+        value: series.value(),
+        error: errors.as_deref(),
+        brightness: Brightness::Magnitude,
+    };
+    let first_epoch = estimate_epoch(&curve, p_found, Extremum::Minimum, 50)?;
+    println!(
+        "   {times_note}; first epoch from the folded season: BJD_TDB {}",
+        format_time(&first_epoch, TimeFormat::Jd)
+    );
     command(&s(&[
         "fold-curve",
         "--input",
@@ -244,7 +279,7 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         "--period-d",
         &format!("{p_found:.8}"),
         "--epoch-bjd-tdb",
-        REFERENCE_EPOCH,
+        &format_time(&first_epoch, TimeFormat::Jd),
         "--bins",
         "100",
         "--output",
@@ -260,52 +295,58 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
                 data_rows(&data.join(PHOTOMETRY_FILE))
             ))
             .with_figure(figure(&o("kx_periodogram.svg"), "Periodogram of KX Inventa with the top peaks and the alias positions of the highest one.")?)
-            .with_figure(figure(&o("kx_folded.svg"), "The season folded at the period found (phase 0 at the reference epoch), with the binned curve and the residuals.")?),
+            .with_figure(figure(&o("kx_folded.svg"), "The season folded at the period found (phase 0 at the epoch read from the season), with the binned curve and the residuals.")?),
     );
 
-    // 2. Times of minimum from the photometry (Kwee–van Woerden).
-    println!("\n== 2. times of minimum from the photometry (Kwee–van Woerden)");
-    for (kind, file) in [("primary", "kx_primary_minima_2025.csv"), ("secondary", "kx_secondary_minima_2025.csv")] {
-        command(&s(&[
-            "time-events",
-            "--input",
-            &d(PHOTOMETRY_FILE),
-            "--time-column",
-            "time",
-            "--value-column",
-            "mag",
-            "--error-column",
-            "mag_err",
-            "--clock",
-            "jd_utc",
-            "--sites-file",
-            &d(DESCRIPTION_FILE),
-            "--site",
-            HOME_SITE,
-            "--source-file",
-            &d(DESCRIPTION_FILE),
-            "--epoch-bjd-tdb",
-            REFERENCE_EPOCH,
-            "--period-d",
-            "0.83712345",
-            "--event-kind",
+    // 2. Times of minimum from the photometry (Kwee–van Woerden), around the period found
+    // in stage 1 and an epoch read from the same photometry: nothing of the truth is used.
+    println!("\n== 2. times of minimum from the photometry (Kwee–van Woerden), at the period found above");
+    let mut season = Vec::new();
+    for (kind, file) in
+        [(EventKind::Primary, "kx_primary_minima_2025.csv"), (EventKind::Secondary, "kx_secondary_minima_2025.csv")]
+    {
+        let report = time_light_curve(&EventTimingRequest {
+            curve,
+            input_rows: &input_rows,
+            ephemeris: ReferenceEphemeris { epoch: first_epoch, period_d: p_found, period_sigma_d: p_err },
             kind,
-            "--half-width-phase",
-            "0.09",
-            "--method",
-            "kwee-van-woerden",
-            "--output",
-            &ot(file),
-            "--summary",
-            &ot(&file.replace(".csv", ".json")),
-        ]))?;
+            window: EventWindow::HalfWidthPhase(0.09),
+            segmenting: SegmentOptions::default(),
+            method: TimingMethod::KweeVanWoerden,
+        })
+        .with_context(|| format!("{}: timing the {kind} minima", photometry.display()))?;
+        let provenance = Provenance::new("skyclock demo")
+            .with("stage", "times of minimum")
+            .with("times", times_note.clone())
+            .with("method", report.method.clone());
+        write_table(&mut report.timed_table()?, &o(file), &provenance, &[photometry.as_path()])?;
+        println!(
+            "   {} {kind} minima timed ({} skipped, {} predicted without data) → {}",
+            report.timed.len(),
+            report.skipped.len(),
+            report.predicted_events_without_data,
+            o(file).display()
+        );
+        season.push(report);
+    }
+    // The reference ephemeris of the O–C stage: the season's first measured primary minimum
+    // and the period found in stage 1 with its error.
+    let first_primary = season[0].timed.first().context("no primary minimum timed in the season")?;
+    let oc_epoch_text = first_primary.time.clone();
+    let oc_epoch: skyclock::time::Instant = format!("JD {oc_epoch_text} TDB").parse()?;
+    {
+        let cycle = (oc_epoch.seconds_since(&scenario::true_minimum(0)) / SECONDS_PER_DAY / TRUE_PERIOD_D).round();
+        let miss_s = oc_epoch.seconds_since(&scenario::true_minimum_at(cycle));
+        let sigma_s = first_primary.error_d * SECONDS_PER_DAY;
+        comparisons.push(Comparison {
+            quantity: format!("first minimum of the season (cycle {cycle}): measured − true (s)"),
+            recovered: format!("{miss_s:.1} ± {sigma_s:.1}"),
+            truth: "0".into(),
+            deviation_sigma: Some(miss_s.abs() / sigma_s),
+        });
     }
     let combined = o("kx_all_minima.csv");
-    let added = combine_timings(
-        &data.join(MINIMA_FILE),
-        &[&o("kx_primary_minima_2025.csv"), &o("kx_secondary_minima_2025.csv")],
-        &combined,
-    )?;
+    let added = combine_timings(&data.join(MINIMA_FILE), &season, &combined)?;
     println!(
         "   {added} new minima appended to the {} historical timings → {}",
         data_rows(&data.join(MINIMA_FILE)),
@@ -335,11 +376,11 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         "--source-file",
         &d(DESCRIPTION_FILE),
         "--epoch-bjd-tdb",
-        REFERENCE_EPOCH,
+        &oc_epoch_text,
         "--period-d",
-        "0.83712345",
+        &format!("{p_found:.9}"),
         "--period-sigma-d",
-        "2e-7",
+        &format!("{p_err:.3e}"),
         "--models",
         "linear,quadratic,quadratic+light-time",
         "--bootstrap",
@@ -393,81 +434,94 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
     }
     report_sections.push(oc_section);
 
-    // 4. Predictions for the coming month at the home site.
-    let (from, until) = coming_dates(30);
+    // 4. Predictions at the home site from the fitted model itself, in the first 30-day
+    // window from the start date that holds observable minima (at most a year ahead).
+    let start_text = prediction_start.map_or_else(today_utc, str::to_string);
+    let start = parse_time(&start_text, TimeFormat::Iso, TimeScale::Utc, reference.converter.leap_seconds())
+        .with_context(|| format!("the prediction start date '{start_text}'"))?;
+    let ephemeris = oc.ephemeris(ModelKind::QuadraticLightTime)?;
+    let source = description.source.clone().context("the description has a source")?;
+    let corrector = BarycentricCorrector::new(
+        reference.ephemeris.clone(),
+        reference.converter.clone(),
+        reference.orientation.clone(),
+        source,
+        DelayOptions::default(),
+    );
+    let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
+    let kinds = [EventKind::Primary, EventKind::Secondary];
+    let request = ForecastRequest {
+        ephemeris: &ephemeris,
+        ephemeris_origin: "quadratic+light-time model of the O–C stage".into(),
+        kinds: &kinds,
+        start,
+        end: start,
+        site: &home,
+        options: PredictionOptions { event_duration_d: Some(2.5 / 24.0), ..Default::default() },
+        only_observable: true,
+    };
+    const WINDOW_D: f64 = 30.0;
+    let (upcoming, passed) = first_observable_window(&request, WINDOW_D, 13, &corrector, &sky)?;
+    let (from, until) = (&upcoming.from_utc[..10], &upcoming.until_utc[..10]);
     println!("\n== 4. minima of KX Inventa observable from {HOME_SITE}, {from} to {until}");
-    command(&s(&[
-        "predict-events",
-        "--source-file",
-        &d(DESCRIPTION_FILE),
-        "--sites-file",
-        &d(DESCRIPTION_FILE),
-        "--site",
-        HOME_SITE,
-        "--ephemeris-summary",
-        &ot("kx_oc.json"),
-        "--summary-model",
-        "quadratic+light-time",
-        "--kinds",
-        "primary,secondary",
-        "--from",
-        &from,
-        "--until",
-        &until,
-        "--event-duration-hours",
-        "2.5",
-        "--only-observable",
-        "--output",
-        &ot("kx_upcoming.csv"),
-    ]))?;
-    let upcoming = read_table(&o("kx_upcoming.csv"), &["kind", "utc_iso", "sky_condition", "observable", "caution"])?;
-    let uf = ot("kx_upcoming.csv");
+    if passed > 0 {
+        println!(
+            "   (no observable minimum in the {passed} window(s) of {WINDOW_D} days from {start_text}: the target is too close to the Sun or too low at night then)"
+        );
+    }
+    for line in upcoming.cautions.iter().chain(&upcoming.warnings) {
+        eprintln!("   {line}");
+    }
+    let provenance = Provenance::new("skyclock demo")
+        .with("stage", "predictions")
+        .with("ephemeris", reference.ephemeris.name())
+        .with("event_ephemeris", upcoming.ephemeris.origin.clone());
+    write_table(&mut upcoming.table()?, &o("kx_upcoming.csv"), &provenance, &[o("kx_oc.json").as_path()])?;
     let mut pred_table = Table::new(
         &format!("Minima of KX Inventa, {from} to {until}, at {HOME_SITE}"),
         &["kind", "UTC", "σ (min)", "target alt (°)", "Sun alt (°)", "observable"],
     );
-    let kinds = text_column(&upcoming, &uf, "kind")?;
-    let utc = text_column(&upcoming, &uf, "utc_iso")?;
-    let sigma = float_column(&upcoming, &uf, "sigma_d")?;
-    let alt = float_column(&upcoming, &uf, "target_altitude_deg")?;
-    let sun = float_column(&upcoming, &uf, "sun_altitude_deg")?;
-    let obs = text_column(&upcoming, &uf, "observable")?;
-    let cautions = text_column(&upcoming, &uf, "caution")?;
-    // The first predicted event against the scenario's truth.
-    let cycles = float_column(&upcoming, &uf, "cycle")?;
-    let jd1 = float_column(&upcoming, &uf, "bjd_tdb_jd1")?;
-    let jd2 = float_column(&upcoming, &uf, "bjd_tdb_jd2")?;
-    if upcoming.height() > 0 {
-        let predicted = skyclock::time::Instant::from_jd_two_part(skyclock::time::TimeScale::Tdb, jd1[0], jd2[0]);
-        let truth = scenario::true_minimum_at(cycles[0]);
-        let miss_s = predicted.seconds_since(&truth);
-        comparisons.push(Comparison {
-            quantity: format!("next minimum (cycle {}): predicted − true (s)", cycles[0]),
-            recovered: format!("{miss_s:.1} ± {:.1}", sigma[0] * SECONDS_PER_DAY),
-            truth: "0".into(),
-            deviation_sigma: Some(miss_s.abs() / (sigma[0] * SECONDS_PER_DAY)),
-        });
-    }
-    let mut n_observable = 0_usize;
-    for i in 0..upcoming.height() {
-        let ok = obs[i].as_deref() == Some("true");
-        n_observable += ok as usize;
+    for e in &upcoming.events {
+        println!(
+            "   {:<9} cycle {:>8.1}  {} UTC  ± {:.1} min  target {:>4.0}°  Sun {:>4.0}°",
+            e.kind.name(),
+            e.cycle,
+            &e.utc_iso[..19],
+            e.sigma_d * 1440.0,
+            e.target.altitude_deg,
+            e.sun.altitude_deg
+        );
         pred_table = pred_table.with_row(&[
-            kinds[i].as_deref().unwrap_or(""),
-            utc[i].as_deref().unwrap_or(""),
-            &format!("{:.1}", sigma[i] * 1440.0),
-            &format!("{:.0}", alt[i]),
-            &format!("{:.0}", sun[i]),
-            if ok { "yes" } else { "no" },
+            e.kind.name(),
+            &e.utc_iso,
+            &format!("{:.1}", e.sigma_d * 1440.0),
+            &format!("{:.0}", e.target.altitude_deg),
+            &format!("{:.0}", e.sun.altitude_deg),
+            if e.fully_observable() { "yes" } else { "no" },
         ]);
     }
-    let mut pred_section = Section::new("Predictions for the coming month")
+    // The first predicted event against the scenario's truth (cycle counted from the truth).
+    if let Some(first) = upcoming.events.first() {
+        let predicted = Instant::from_jd_two_part(TimeScale::Tdb, first.bjd_tdb_jd1, first.bjd_tdb_jd2);
+        let true_cycle =
+            (2.0 * predicted.seconds_since(&scenario::true_minimum(0)) / SECONDS_PER_DAY / TRUE_PERIOD_D).round() / 2.0;
+        let miss_s = predicted.seconds_since(&scenario::true_minimum_at(true_cycle));
+        let sigma_s = first.sigma_d * SECONDS_PER_DAY;
+        comparisons.push(Comparison {
+            quantity: format!("next minimum (cycle {true_cycle}): predicted − true (s)"),
+            recovered: format!("{miss_s:.1} ± {sigma_s:.1}"),
+            truth: "0".into(),
+            deviation_sigma: Some(miss_s.abs() / sigma_s),
+        });
+    }
+    let mut pred_section = Section::new("Predictions")
         .with_paragraph(&format!(
-            "{n_observable} of {} listed minima observable in the window (target above 30°, Sun below −12°, the whole 2.5-h event). Predicted from the fitted quadratic + light-time ephemeris: the third body's delay is extrapolated and the σ carries the covariance of all eight parameters.",
-            upcoming.height()
+            "{} minima observable in {from} to {until} (target above 30°, Sun below −12°, the whole 2.5-h event){}. Predicted from the fitted quadratic + light-time ephemeris itself: the third body's delay is extrapolated and the σ carries the covariance of all eight parameters.",
+            upcoming.fully_observable(),
+            if passed > 0 { format!(", the first {WINDOW_D}-day window from {start_text} holding any") } else { String::new() }
         ))
         .with_table(pred_table);
-    for c in cautions.iter().flatten().filter(|c| !c.is_empty()).take(1) {
+    for c in upcoming.cautions.iter().take(1) {
         pred_section = pred_section.with_caution(c.trim_start_matches("caution: "));
     }
     report_sections.push(pred_section);

@@ -93,8 +93,9 @@ fn locate_datasets(output: &Path) -> Result<PathBuf> {
     Ok(folder)
 }
 
-/// Runs the demo, writing outputs into `output`.
-pub fn run_demo(output: &Path) -> Result<()> {
+/// Runs the demo, writing outputs into `output`; predictions start at `prediction_start`
+/// (UTC date YYYY-MM-DD), today when `None`.
+pub fn run_demo(output: &Path, prediction_start: Option<&str>) -> Result<()> {
     std::fs::create_dir_all(output).with_context(|| format!("creating {}", output.display()))?;
     let data = locate_datasets(output)?;
     let minima_path = data.join(MINIMA_FILE);
@@ -176,6 +177,6 @@ pub fn run_demo(output: &Path) -> Result<()> {
         z.abs(),
         raw.half_range_s
     );
-    super::chain::run_chain(&data, output)?;
+    super::chain::run_chain(&data, output, prediction_start)?;
     Ok(())
 }

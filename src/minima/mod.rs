@@ -23,7 +23,8 @@ pub mod symmetric_fit;
 
 pub use kwee_van_woerden::{KweeVanWoerden, kwee_van_woerden};
 pub use run::{
-    EventTimingError, EventTimingReport, EventTimingRequest, SkippedEventRow, TimedEventRow, time_light_curve,
+    EventTimingError, EventTimingReport, EventTimingRequest, SkippedEventRow, TimedEventRow, estimate_epoch,
+    time_light_curve,
 };
 pub use segmentation::{EventWindow, Segment, SegmentOptions, SkipReason, SkippedEvent, segment_events};
 pub use symmetric_fit::{SymmetricFit, SymmetricOptions, SymmetricShape, fit_symmetric};

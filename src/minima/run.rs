@@ -120,6 +120,57 @@ pub struct EventTimingReport {
     pub notes: Vec<String>,
 }
 
+impl EventTimingReport {
+    /// The timing table, one row per timed event (read directly by the O–C stage): time,
+    /// error_d, kind, cycle, method, points, error_formal_d, error_bootstrap_d,
+    /// predicted_bjd_tdb, first_row, last_row.
+    pub fn timed_table(&self) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
+        use polars::prelude::{Column, DataFrame};
+        let t = &self.timed;
+        DataFrame::new(
+            t.len(),
+            vec![
+                Column::new("time".into(), t.iter().map(|e| e.time.clone()).collect::<Vec<_>>()),
+                Column::new("error_d".into(), t.iter().map(|e| e.error_d).collect::<Vec<_>>()),
+                Column::new("kind".into(), t.iter().map(|e| e.kind.name()).collect::<Vec<_>>()),
+                Column::new("cycle".into(), t.iter().map(|e| e.cycle).collect::<Vec<_>>()),
+                Column::new("method".into(), t.iter().map(|e| e.method.clone()).collect::<Vec<_>>()),
+                Column::new("points".into(), t.iter().map(|e| e.points as u64).collect::<Vec<_>>()),
+                Column::new("error_formal_d".into(), t.iter().map(|e| e.error_formal_d).collect::<Vec<_>>()),
+                Column::new("error_bootstrap_d".into(), t.iter().map(|e| e.error_bootstrap_d).collect::<Vec<_>>()),
+                Column::new(
+                    "predicted_bjd_tdb".into(),
+                    t.iter().map(|e| e.predicted_bjd_tdb.clone()).collect::<Vec<_>>(),
+                ),
+                Column::new("first_row".into(), t.iter().map(|e| e.first_row as u64).collect::<Vec<_>>()),
+                Column::new("last_row".into(), t.iter().map(|e| e.last_row as u64).collect::<Vec<_>>()),
+            ],
+        )
+    }
+
+    /// The skipped events, one row each: cycle, predicted_bjd_tdb, points, first_row,
+    /// last_row, reason_code, reason.
+    pub fn skipped_table(&self) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
+        use polars::prelude::{Column, DataFrame};
+        let s = &self.skipped;
+        DataFrame::new(
+            s.len(),
+            vec![
+                Column::new("cycle".into(), s.iter().map(|e| e.cycle).collect::<Vec<_>>()),
+                Column::new(
+                    "predicted_bjd_tdb".into(),
+                    s.iter().map(|e| e.predicted_bjd_tdb.clone()).collect::<Vec<_>>(),
+                ),
+                Column::new("points".into(), s.iter().map(|e| e.points as u64).collect::<Vec<_>>()),
+                Column::new("first_row".into(), s.iter().map(|e| e.first_row as u64).collect::<Vec<_>>()),
+                Column::new("last_row".into(), s.iter().map(|e| e.last_row as u64).collect::<Vec<_>>()),
+                Column::new("reason_code".into(), s.iter().map(|e| e.reason_code.clone()).collect::<Vec<_>>()),
+                Column::new("reason".into(), s.iter().map(|e| e.reason.clone()).collect::<Vec<_>>()),
+            ],
+        )
+    }
+}
+
 /// Why no report could be made.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum EventTimingError {
@@ -229,4 +280,53 @@ pub fn time_light_curve(request: &EventTimingRequest) -> Result<EventTimingRepor
 
 fn jd_text(t: &Instant) -> String {
     format_time(t, TimeFormat::Jd)
+}
+
+/// A first epoch of the deepest event (a primary minimum, or the highest maximum with
+/// `Extremum::Maximum`) from the light curve alone, for a known period: the curve is folded
+/// at `period_d`, averaged in `bins` phase bins, and the centre of the most extreme bin
+/// (refined by a parabola through it and its neighbours) is placed on the cycle nearest the
+/// middle of the data. Accuracy about one bin width (P / bins) or better; it only has to put
+/// each event inside its timing window, where [`time_light_curve`] measures it.
+///
+/// Errors: a period that is not positive, fewer than 3 bins, or fewer than 3 filled bins.
+pub fn estimate_epoch(
+    curve: &EventCurve,
+    period_d: f64,
+    extremum: super::Extremum,
+    bins: usize,
+) -> Result<Instant, MinimaError> {
+    super::validate(curve.time_d, curve.value, curve.error)?;
+    if !(period_d.is_finite() && period_d > 0.0) {
+        return Err(MinimaError::BadOption(format!("the period must be a positive number of days, got {period_d}")));
+    }
+    if bins < 3 {
+        return Err(MinimaError::BadOption(format!("at least 3 phase bins are needed, got {bins}")));
+    }
+    let (mut sum, mut count) = (vec![0.0; bins], vec![0usize; bins]);
+    for (&t, &v) in curve.time_d.iter().zip(curve.value) {
+        let phase = (t / period_d).rem_euclid(1.0);
+        let b = ((phase * bins as f64) as usize).min(bins - 1);
+        sum[b] += v;
+        count[b] += 1;
+    }
+    let filled = count.iter().filter(|&&c| c > 0).count();
+    if filled < 3 {
+        return Err(MinimaError::TooFewPoints { method: "epoch estimate (filled phase bins)", needed: 3, got: filled });
+    }
+    let sign = super::peak_sign(curve.brightness, extremum);
+    let mean = |b: usize| (count[b] > 0).then(|| sign * sum[b] / count[b] as f64);
+    let best = (0..bins)
+        .filter(|&b| count[b] > 0)
+        .max_by(|&a, &b| mean(a).unwrap_or(f64::MIN).total_cmp(&mean(b).unwrap_or(f64::MIN)))
+        .unwrap_or(0);
+    let (left, right) = (mean((best + bins - 1) % bins), mean((best + 1) % bins));
+    let shift = match (left, right, mean(best)) {
+        (Some(l), Some(r), Some(c)) if l + r - 2.0 * c < 0.0 => (0.5 * (l - r) / (l + r - 2.0 * c)).clamp(-0.5, 0.5),
+        _ => 0.0,
+    };
+    let phase = (best as f64 + 0.5 + shift) / bins as f64;
+    let middle = 0.5 * (curve.time_d[0] + curve.time_d[curve.time_d.len() - 1]);
+    let cycle = ((middle / period_d) - phase).round();
+    Ok(curve.reference.add_seconds((cycle + phase) * period_d * SECONDS_PER_DAY))
 }

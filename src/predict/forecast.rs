@@ -134,6 +134,8 @@ pub struct Forecast {
     pub until_utc: String,
     /// Whether only observable events were kept.
     pub only_observable: bool,
+    /// Whether whole event windows were checked (an event duration was given).
+    pub checked_windows: bool,
     /// The events, in time order.
     pub events: Vec<ForecastEvent>,
     /// One Sun caution per event with the target near the Sun (kept even when the event
@@ -201,8 +203,93 @@ pub fn forecast(
         from_utc: format_iso(&request.start, 0),
         until_utc: format_iso(&request.end, 0),
         only_observable: request.only_observable,
+        checked_windows: request.options.event_duration_d.is_some(),
         events: rows,
         cautions,
         warnings,
     })
+}
+
+impl Forecast {
+    /// The events as a table, one row per event: kind, cycle, bjd_tdb (text, 14 decimals),
+    /// bjd_tdb_jd1, bjd_tdb_jd2, sigma_d, utc_iso, target_altitude_deg, target_azimuth_deg,
+    /// sun_altitude_deg, sky_condition, sun_separation_deg, moon_altitude_deg,
+    /// moon_separation_deg, moon_illuminated_fraction, observable, window_observable (only
+    /// when the forecast checked event windows), caution (empty when none).
+    pub fn table(&self) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
+        use polars::prelude::{Column, DataFrame};
+        let e = &self.events;
+        let mut columns = vec![
+            Column::new("kind".into(), e.iter().map(|e| e.kind.name()).collect::<Vec<_>>()),
+            Column::new("cycle".into(), e.iter().map(|e| e.cycle).collect::<Vec<_>>()),
+            Column::new("bjd_tdb".into(), e.iter().map(|e| e.bjd_tdb.clone()).collect::<Vec<_>>()),
+            Column::new("bjd_tdb_jd1".into(), e.iter().map(|e| e.bjd_tdb_jd1).collect::<Vec<_>>()),
+            Column::new("bjd_tdb_jd2".into(), e.iter().map(|e| e.bjd_tdb_jd2).collect::<Vec<_>>()),
+            Column::new("sigma_d".into(), e.iter().map(|e| e.sigma_d).collect::<Vec<_>>()),
+            Column::new("utc_iso".into(), e.iter().map(|e| e.utc_iso.clone()).collect::<Vec<_>>()),
+            Column::new("target_altitude_deg".into(), e.iter().map(|e| e.target.altitude_deg).collect::<Vec<_>>()),
+            Column::new("target_azimuth_deg".into(), e.iter().map(|e| e.target.azimuth_deg).collect::<Vec<_>>()),
+            Column::new("sun_altitude_deg".into(), e.iter().map(|e| e.sun.altitude_deg).collect::<Vec<_>>()),
+            Column::new("sky_condition".into(), e.iter().map(|e| e.sky_condition.clone()).collect::<Vec<_>>()),
+            Column::new("sun_separation_deg".into(), e.iter().map(|e| e.sun_separation_deg).collect::<Vec<_>>()),
+            Column::new("moon_altitude_deg".into(), e.iter().map(|e| e.moon.altitude_deg).collect::<Vec<_>>()),
+            Column::new("moon_separation_deg".into(), e.iter().map(|e| e.moon_separation_deg).collect::<Vec<_>>()),
+            Column::new(
+                "moon_illuminated_fraction".into(),
+                e.iter().map(|e| e.moon_illuminated_fraction).collect::<Vec<_>>(),
+            ),
+            Column::new("observable".into(), e.iter().map(|e| e.observable).collect::<Vec<_>>()),
+        ];
+        if self.checked_windows {
+            columns.push(Column::new(
+                "window_observable".into(),
+                e.iter().map(|e| e.window_observable.unwrap_or(false)).collect::<Vec<_>>(),
+            ));
+        }
+        columns.push(Column::new(
+            "caution".into(),
+            e.iter().map(|e| e.caution.clone().unwrap_or_default()).collect::<Vec<_>>(),
+        ));
+        DataFrame::new(e.len(), columns)
+    }
+
+    /// Events observable at their centre and, with a duration, over their whole window.
+    pub fn fully_observable(&self) -> usize {
+        self.events.iter().filter(|e| e.fully_observable()).count()
+    }
+}
+
+/// The forecast of the first of successive windows of `window_d` days, starting at
+/// `request.start` (its `end` is ignored), that holds at least one fully observable event;
+/// at most `max_windows` are tried. Returns the forecast and how many windows were passed
+/// over (0: the first one held events). When none of them holds any, the last window's
+/// forecast is returned with `max_windows − 1` passed: the caller should say that no
+/// observable event was found (e.g. the target stays in daylight).
+///
+/// This is what a user asks with "when can I next observe it?", and what keeps an output
+/// the same whatever the date it is run on.
+pub fn first_observable_window(
+    request: &ForecastRequest,
+    window_d: f64,
+    max_windows: usize,
+    corrector: &BarycentricCorrector,
+    sky: &SkyGeometry,
+) -> Result<(Forecast, usize), PredictError> {
+    if !(window_d.is_finite() && window_d > 0.0 && window_d <= 366.0) {
+        return Err(PredictError::BadOption(format!("the window must be 0–366 days long, got {window_d}")));
+    }
+    if max_windows == 0 {
+        return Err(PredictError::BadOption("at least one window must be tried".into()));
+    }
+    let mut last = None;
+    for k in 0..max_windows {
+        let start = request.start.add_seconds(k as f64 * window_d * crate::constants::SECONDS_PER_DAY);
+        let end = start.add_seconds(window_d * crate::constants::SECONDS_PER_DAY);
+        let r = forecast(&ForecastRequest { start, end, ..request.clone() }, corrector, sky)?;
+        if r.fully_observable() > 0 {
+            return Ok((r, k));
+        }
+        last = Some((r, k));
+    }
+    last.ok_or_else(|| PredictError::BadOption("at least one window must be tried".into()))
 }

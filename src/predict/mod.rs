@@ -16,7 +16,8 @@ pub mod sky;
 
 pub use events::{PredictedEvent, PredictionOptions, predict_events};
 pub use forecast::{
-    Forecast, ForecastEphemeris, ForecastEvent, ForecastRequest, forecast, leap_second_horizon_warning,
+    Forecast, ForecastEphemeris, ForecastEvent, ForecastRequest, first_observable_window, forecast,
+    leap_second_horizon_warning,
 };
 pub use sky::{HorizontalPosition, SkyCondition, SkyGeometry, SkySnapshot};
 

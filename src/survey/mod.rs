@@ -9,5 +9,6 @@
 
 pub mod batch;
 pub mod input;
+pub mod load;
 pub mod report;
 pub mod search;
