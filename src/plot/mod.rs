@@ -520,7 +520,7 @@ mod tests {
         let mut nan = fig.clone();
         if let Layer::Points { y, .. } = &mut nan.panels[0].layers[0] {
             y[1] = f64::NAN;
-            y[2] = 59_000.123_456_789_123_4;
+            y[2] = 59_000.123_456_789_12;
         }
         let v: serde_json::Value = serde_json::from_str(&data::figure_data_json(&nan)).unwrap();
         assert!(v["panels"][0]["layers"][0]["y"][1].is_null());
