@@ -173,7 +173,7 @@
     xl.textContent = p.data.x_label;
     var yl = this.el('text', { x: 0, y: 0, 'text-anchor': 'middle', 'class': 'sc-axis', transform: 'translate(18 ' + (p.top + p.height / 2) + ') rotate(-90)' }, g);
     yl.textContent = p.data.y_label;
-    // A nested <svg> clips the series to the plot area.
+    // A nested svg element clips the series to the plot area.
     var clip = this.el('svg', { x: left, y: p.top, width: w, height: p.height, viewBox: left + ' ' + p.top + ' ' + w + ' ' + p.height, overflow: 'hidden' }, g);
     p.data.layers.forEach(function (l, k) {
       var lg = self.el('g', { 'class': 'sc-layer', 'data-layer': k, 'data-group': l.group }, clip);

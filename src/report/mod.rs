@@ -484,6 +484,9 @@ mod tests {
         // One inline figure, without namespace URL or XML declaration; nothing fetched.
         assert_eq!(h.matches("<svg").count(), 1);
         assert!(h.contains("data-figures-expected=\"1\""));
+        // The figure carries its data, so the page makes it explorable.
+        assert!(h.contains("data-figures-explorable-expected=\"1\""));
+        assert!(h.contains("<metadata class=\"skyclock-figure-data\">"));
         assert!(h.contains("<figcaption>periodogram &lt;1&gt;</figcaption>"));
         assert!(!h.contains("<?xml"));
         assert!(!h.contains("http:") && !h.contains("https:"));
