@@ -155,6 +155,7 @@ pub fn run(a: Args) -> Result<()> {
             y_err: Some(error_us.clone()),
             colour: (40, 70, 150),
             size: 3,
+            details: None,
         };
         let mut panels = vec![Panel {
             x_label: "days after the model epoch (TDB)".into(),

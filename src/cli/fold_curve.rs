@@ -7,9 +7,10 @@ use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
 use polars::prelude::*;
 
-use super::common::write_text;
+use super::common::{BrightnessArg, write_text};
 use super::light_curve_input::LightCurveArgs;
 use skyclock::fold::{BinStatistic, FoldRequest, fold_light_curve};
+use skyclock::plot::PhaseRange;
 use skyclock::survey::input::days_since;
 use skyclock::table::{Provenance, Summary, write_table};
 use skyclock::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
@@ -19,7 +20,9 @@ const EXAMPLE: &str = "Example (invented star):
       --error-column mag_err --period-d 0.3712841 --epoch-bjd-tdb 2460123.4567 \\
       --bins 50 --output vx_folded.csv --binned-output vx_binned.csv
   Phase 0 is at the epoch (a BJD_TDB Julian Date; default: the first time). Folded rows
-  keep the input row number; binned rows give phase centre, mean or median, error, count.";
+  keep the input row number; binned rows give phase centre, mean or median, error, count.
+  The figure shows phases -0.25 to 1.25 (--phase-range), so an event at phase 0 is seen
+  whole; magnitudes are drawn increasing downwards.";
 
 /// Statistic per phase bin.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -63,12 +66,28 @@ pub struct Args {
     /// Figure of the folded points and the binned curve (.svg or .png).
     #[arg(long, value_name = "FILE")]
     pub figure: Option<PathBuf>,
+    /// Phases the figure shows, cycles: START,END (each point at every copy of its phase
+    /// inside; at most 4 cycles wide).
+    #[arg(long, value_name = "START,END", default_value = "-0.25,1.25", allow_hyphen_values = true)]
+    pub phase_range: PhaseRange,
+    /// What the values are; magnitudes are drawn increasing downwards (default: magnitude,
+    /// or flux when the value column's name contains "flux").
+    #[arg(long, value_enum)]
+    pub brightness: Option<BrightnessArg>,
     /// Print a machine-readable summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,
     /// Print nothing but warnings and errors (no progress display, no result lines).
     #[arg(long)]
     pub quiet: bool,
+}
+
+/// What the values are: as given, else flux when the column's name says so, else
+/// magnitude (the default of every light-curve command).
+fn brightness_of(given: Option<BrightnessArg>, value_column: &str) -> BrightnessArg {
+    given.unwrap_or_else(|| {
+        if value_column.to_ascii_lowercase().contains("flux") { BrightnessArg::Flux } else { BrightnessArg::Magnitude }
+    })
 }
 
 /// Runs the command.
@@ -124,16 +143,22 @@ pub fn run(a: Args) -> Result<()> {
         write_table(&mut df, path, &provenance, &[input])?;
     }
     if let Some(path) = &a.figure {
-        use skyclock::plot::{search::FoldedCurve, search::folded_figure, write_figure};
+        use skyclock::plot::search::{FoldedCurve, FoldedTimes, folded_figure};
+        use skyclock::plot::write_figure;
         skyclock::table::refuse_overwriting_inputs(path, &[input])?;
-        let label = format!("{} (input units)", a.light_curve.value_column);
+        let magnitudes = brightness_of(a.brightness, &a.light_curve.value_column) == BrightnessArg::Magnitude;
+        let column = &a.light_curve.value_column;
+        let label = if magnitudes { format!("{column} (mag)") } else { format!("{column} (input units)") };
+        let rows: Vec<usize> = series.row().iter().map(|&i| lc.file_row[i]).collect();
         let curve = FoldedCurve {
             phase,
             value: series.value(),
             error: errors.as_deref(),
             bins,
             value_label: &label,
-            invert_y: false,
+            invert_y: magnitudes,
+            phase_range: a.phase_range,
+            times: Some(FoldedTimes { epoch: lc.epoch, days: series.time_d(), rows: Some(&rows) }),
         };
         let fig = folded_figure(&curve, &format!("{} folded at P = {period_d:.8} d", input.display()));
         write_figure(&fig, path)?;

@@ -319,6 +319,7 @@ pub fn run(a: Args) -> Result<()> {
                         y_err: Some(two(&binned.relative_intensity_errors, false)),
                         colour: (40, 70, 150),
                         size: 3,
+                        details: None,
                     },
                     Layer::Line {
                         label: template.kind.clone(),

@@ -93,6 +93,10 @@ pub struct Args {
     /// Light-time orbit figure (.svg or .png) of the preferred light-time model, if one was fitted.
     #[arg(long, value_name = "FILE")]
     pub orbit_figure: Option<PathBuf>,
+    /// Companion orbital phases the orbit figure shows, cycles: START,END (each timing at
+    /// every copy of its phase inside, so periastron is seen whole; at most 4 cycles wide).
+    #[arg(long, value_name = "START,END", default_value = "-0.25,1.25", allow_hyphen_values = true)]
+    pub phase_range: skyclock::plot::PhaseRange,
     /// Print the JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
@@ -230,18 +234,27 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
     let title = format!("O − C of {}", source.name);
+    // The time at the observer of each row, for the UTC shown on hover in the report.
+    let observer_tdb: Vec<Option<skyclock::time::Instant>> = text_column(&table.corrected, file, "observer_tdb")?
+        .iter()
+        .map(|t| {
+            t.as_deref()
+                .and_then(|t| parse_time(t, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds()).ok())
+        })
+        .collect();
+    let hover =
+        skyclock::plot::timing::HoverTimes { converter: &reference.converter, observer_tdb: Some(&observer_tdb) };
     if let Some(path) = &a.figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = analysis.best_by_bic(false).context("no model was fitted")?;
-        let (e1, e2) = epoch.jd_two_part();
-        skyclock::plot::write_figure(&skyclock::plot::timing::oc_diagram(&title, series, best, e1 + e2), path)?;
+        skyclock::plot::write_figure(&skyclock::plot::timing::oc_diagram(&title, series, best, &hover), path)?;
     }
     if let Some(path) = &a.orbit_figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = analysis
             .best_by_bic(true)
             .context("--orbit-figure needs a light-time model in --models (light-time or quadratic+light-time)")?;
-        if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, series, best) {
+        if let Some(fig) = skyclock::plot::timing::light_time_orbit(&title, series, best, a.phase_range, &hover) {
             skyclock::plot::write_figure(&fig, path)?;
         }
     }

@@ -295,7 +295,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
                 data_rows(&data.join(PHOTOMETRY_FILE))
             ))
             .with_figure(figure(&o("kx_periodogram.svg"), "Periodogram of KX Inventa with the top peaks and the alias positions of the highest one.")?)
-            .with_figure(figure(&o("kx_folded.svg"), "The season folded at the period found (phase 0 at the epoch read from the season), with the binned curve and the residuals.")?),
+            .with_figure(figure(&o("kx_folded.svg"), "The season folded at the period found (phase 0 at the epoch read from the season), drawn over phases −0.25 to 1.25 so that the primary eclipse is seen whole, magnitudes increasing downwards; with the binned curve and the residuals.")?),
     );
 
     // 2. Times of minimum from the photometry (Kwee–van Woerden), around the period found

@@ -6,9 +6,18 @@
 //! panel plus a residuals panel) all use the same pieces. Text uses the DejaVu Sans font
 //! committed beside this file (Bitstream Vera licence, see fonts/DejaVuSans-LICENSE.txt),
 //! so no system fonts are needed.
+//!
+//! Every SVG figure also carries its data (axes, series, per-point details) as JSON in a
+//! `<metadata>` element ([`data`]), from which the HTML report draws the explorable
+//! version of the figure. Folded figures are drawn over a [`PhaseRange`] (default −0.25
+//! to 1.25) so that events at phase 0 are seen whole; magnitude axes increase downwards.
 
+pub mod data;
+pub mod phase;
 pub mod search;
 pub mod timing;
+
+pub use phase::{PhaseRange, PhaseRangeError};
 
 use std::path::Path;
 
@@ -16,11 +25,47 @@ use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 
+/// What a reader is shown for each point of a [`Layer::Points`] when pointing at it in the
+/// HTML report: column names and one row of text per point (same order as the points).
+/// Text is formatted by the code that knows the quantities (times with their scale,
+/// errors with their units).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PointDetails {
+    /// Names of the values, with units (e.g. "BJD_TDB", "error (d)").
+    pub names: Vec<String>,
+    /// One row per point, one cell per name.
+    pub rows: Vec<Vec<String>>,
+}
+
+impl PointDetails {
+    /// Details with `names` and no rows yet.
+    pub fn new(names: &[&str]) -> PointDetails {
+        PointDetails { names: names.iter().map(|n| n.to_string()).collect(), rows: Vec::new() }
+    }
+
+    /// The rows at `index` (in that order), for points drawn more than once or a subset.
+    pub fn pick(&self, index: &[usize]) -> PointDetails {
+        PointDetails {
+            names: self.names.clone(),
+            rows: index.iter().map(|&i| self.rows.get(i).cloned().unwrap_or_default()).collect(),
+        }
+    }
+}
+
 /// Layer drawn in a panel. A layer with an empty label stays out of the legend.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Layer {
-    /// Points with optional symmetric 1-σ y uncertainty bars.
-    Points { label: String, x: Vec<f64>, y: Vec<f64>, y_err: Option<Vec<f64>>, colour: (u8, u8, u8), size: u32 },
+    /// Points with optional symmetric 1-σ y uncertainty bars and optional per-point details
+    /// (shown on hover in the report; not drawn in the static figure).
+    Points {
+        label: String,
+        x: Vec<f64>,
+        y: Vec<f64>,
+        y_err: Option<Vec<f64>>,
+        colour: (u8, u8, u8),
+        size: u32,
+        details: Option<PointDetails>,
+    },
     /// A connected line.
     Line { label: String, x: Vec<f64>, y: Vec<f64>, colour: (u8, u8, u8) },
     /// Vertical markers at x with a short text each (peaks, aliases).
@@ -156,7 +201,7 @@ fn draw_panel<DB: DrawingBackend>(
                     });
                 }
             }
-            Layer::Points { label, x, y, y_err, colour, size } => {
+            Layer::Points { label, x, y, y_err, colour, size, .. } => {
                 let c = RGBColor(colour.0, colour.1, colour.2);
                 if let Some(e) = y_err {
                     chart
@@ -312,10 +357,21 @@ pub fn render_svg(fig: &Figure) -> Result<String, PlotError> {
         .map_err(|message| PlotError::Draw { file: format!("figure '{}'", fig.title), message: message.to_string() })?;
     // The glyphs were measured with the embedded DejaVu Sans; a viewer without our private
     // family name should fall back to the same face, or a sans-serif one, never to serif.
-    Ok(out.replace(
+    let mut out = out.replace(
         &format!("font-family=\"{FAMILY}\""),
         &format!("font-family=\"{FAMILY}, DejaVu Sans, Liberation Sans, Arial, sans-serif\""),
-    ))
+    );
+    // The figure's data, for the explorable report and for reading the numbers back.
+    match out.rfind("</svg>") {
+        Some(end) => out.insert_str(end, &data::figure_data_element(fig)),
+        None => {
+            return Err(PlotError::Draw {
+                file: format!("figure '{}'", fig.title),
+                message: "the SVG backend wrote no closing </svg>".into(),
+            });
+        }
+    }
+    Ok(out)
 }
 
 #[cfg(test)]
@@ -342,6 +398,7 @@ mod tests {
                             y_err: Some(vec![0.1; 50]),
                             colour: (40, 80, 160),
                             size: 2,
+                            details: None,
                         },
                         Layer::Markers {
                             label: "marks".into(),
@@ -378,5 +435,95 @@ mod tests {
         // In memory: the same drawing as the file.
         let text = render_svg(&fig).unwrap();
         assert_eq!(text, svg);
+    }
+
+    /// (value, y position) of every `<text>` that reads as a number and sits left of `x_max`.
+    fn y_tick_labels(svg: &str, x_max: f64) -> Vec<(f64, f64)> {
+        let attr = |tag: &str, name: &str| -> Option<f64> {
+            let key = format!(" {name}=\"");
+            let from = tag.find(&key)? + key.len();
+            tag[from..from + tag[from..].find('"')?].parse().ok()
+        };
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|chunk| {
+                let close = chunk.find('>')?;
+                let (tag, body) = (&chunk[..close], &chunk[close + 1..]);
+                let value: f64 = body[..body.find("</text>")?].trim().parse().ok()?;
+                let (x, y) = (attr(tag, "x")?, attr(tag, "y")?);
+                (x < x_max).then_some((value, y))
+            })
+            .collect()
+    }
+
+    fn magnitude_figure(invert_y: bool) -> Figure {
+        Figure {
+            title: "invented eclipse".into(),
+            panels: vec![Panel {
+                x_label: "phase (cycles)".into(),
+                y_label: "V (mag)".into(),
+                invert_y,
+                height_weight: 1,
+                layers: vec![Layer::Points {
+                    label: "observations".into(),
+                    x: vec![0.0, 0.25, 0.5, 0.75],
+                    y: vec![11.0, 10.0, 10.5, 10.0],
+                    y_err: None,
+                    colour: (0, 0, 0),
+                    size: 2,
+                    details: Some(PointDetails {
+                        names: vec!["row".into()],
+                        rows: (1..=4).map(|r| vec![r.to_string()]).collect(),
+                    }),
+                }],
+            }],
+            width: 600,
+            height: 400,
+        }
+    }
+
+    #[test]
+    fn magnitude_axes_increase_downwards() {
+        // Convention (common practice): brighter (smaller magnitude) is drawn higher.
+        for invert in [true, false] {
+            let svg = render_svg(&magnitude_figure(invert)).unwrap();
+            let mut ticks = y_tick_labels(&svg, 80.0);
+            assert!(ticks.len() >= 3, "y tick labels: {ticks:?}");
+            ticks.sort_by(|a, b| a.0.total_cmp(&b.0));
+            // SVG y grows downwards: with inverted axes the larger value has the larger y.
+            let downwards = ticks.windows(2).all(|w| w[1].1 > w[0].1);
+            let upwards = ticks.windows(2).all(|w| w[1].1 < w[0].1);
+            assert!(if invert { downwards } else { upwards }, "invert_y = {invert}: {ticks:?}");
+        }
+    }
+
+    #[test]
+    fn svg_carries_the_figure_data() {
+        let fig = magnitude_figure(true);
+        let svg = render_svg(&fig).unwrap();
+        let value = data::figure_data_from_svg(&svg).expect("figure data in the SVG");
+        assert_eq!(value["version"], 1);
+        let panel = &value["panels"][0];
+        assert_eq!(panel["invert_y"], true);
+        assert_eq!(panel["y_label"], "V (mag)");
+        let layer = &panel["layers"][0];
+        assert_eq!(layer["type"], "points");
+        assert_eq!(layer["y"][0].as_f64(), Some(11.0));
+        assert_eq!(layer["details"]["rows"][3][0], "4");
+        // Escaped for XML: a label with markup characters survives the round trip.
+        let mut odd = fig.clone();
+        odd.title = "a < b & c > d".into();
+        let svg = render_svg(&odd).unwrap();
+        assert!(!svg.contains("a < b"));
+        assert_eq!(data::figure_data_from_svg(&svg).unwrap()["title"], "a < b & c > d");
+        // Non-finite numbers become null, the others keep 12 significant digits.
+        let mut nan = fig.clone();
+        if let Layer::Points { y, .. } = &mut nan.panels[0].layers[0] {
+            y[1] = f64::NAN;
+            y[2] = 59_000.123_456_789_12;
+        }
+        let v: serde_json::Value = serde_json::from_str(&data::figure_data_json(&nan)).unwrap();
+        assert!(v["panels"][0]["layers"][0]["y"][1].is_null());
+        assert_eq!(v["panels"][0]["layers"][0]["y"][2].as_f64(), Some(59_000.123_456_8));
     }
 }

@@ -7,9 +7,18 @@
 //!
 //! The page needs nothing from outside: the style sheet is inline, figures are inline
 //! `<svg>` elements, no fonts, images or scripts are fetched. All text is HTML-escaped.
-//! A small inline script checks after loading that every figure has a non-zero drawn
-//! size and records the count on `<body>` as `data-figures-rendered` (beside the static
-//! `data-figures-expected`), so a headless browser can confirm that figures render.
+//!
+//! Figures are explorable: every SVG figure skyclock draws carries its data
+//! ([`crate::plot::data`]), and a small inline script written for this report
+//! (`explore.js`, no library) redraws each such figure so that it can be zoomed (wheel;
+//! Shift for x only) and panned (drag), shows the values of a point on hover or tap (for
+//! timings: BJD_TDB, UTC, cycle, observer, error, residual), toggles series from legend
+//! buttons and returns to the whole figure with Reset or a double click. Printing shows
+//! the static figures (print style sheet); so does a reader without scripts. The script
+//! also checks after loading that every figure has a non-zero drawn size and records the
+//! counts on `<body>` as `data-figures-rendered` and `data-figures-explorable` (beside
+//! the static `data-figures-expected` and `data-figures-explorable-expected`), so a
+//! headless browser can confirm that figures render.
 //!
 //! ```no_run
 //! use skyclock::report::{Report, ReportFigure, Section, Table, write_report};
@@ -32,6 +41,7 @@ use std::fmt::Write as _;
 use std::io::Write as _;
 use std::path::Path;
 
+use crate::plot::data::FIGURE_DATA_CLASS;
 use crate::plot::{Figure, PlotError, render_svg};
 use crate::table::write::{refuse_overwriting_inputs, write_atomically};
 use crate::table::{Provenance, TableError};
@@ -111,6 +121,11 @@ impl Report {
     pub fn figure_count(&self) -> usize {
         self.sections.iter().map(|s| s.figures.len()).sum()
     }
+
+    /// Number of figures that carry their data and so become explorable in the page.
+    pub fn explorable_figure_count(&self) -> usize {
+        self.sections.iter().flat_map(|s| &s.figures).filter(|f| f.is_explorable()).count()
+    }
 }
 
 impl Section {
@@ -162,9 +177,16 @@ impl Table {
 }
 
 impl ReportFigure {
-    /// Renders `fig` to SVG text (see [`crate::plot::render_svg`]) with `caption`.
+    /// Renders `fig` to SVG text (see [`crate::plot::render_svg`]) with `caption`; the SVG
+    /// carries the figure's data, so the figure is explorable in the page.
     pub fn from_figure(fig: &Figure, caption: &str) -> Result<ReportFigure, PlotError> {
         Ok(ReportFigure { caption: caption.to_string(), svg: render_svg(fig)? })
+    }
+
+    /// Whether the SVG carries the figure's data ([`crate::plot::data`]), as every SVG
+    /// figure skyclock writes does: the page then draws it as an explorable figure.
+    pub fn is_explorable(&self) -> bool {
+        self.svg.contains(&format!("<metadata class=\"{FIGURE_DATA_CLASS}\">"))
     }
 }
 
@@ -250,6 +272,24 @@ figure svg { display: block; max-width: 100%; height: auto; border: 1px solid va
 figure svg text { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
 figcaption { color: var(--muted); font-size: 0.92rem; margin-top: 0.35rem; }
 figure.not-rendered { outline: 3px solid #b00020; }
+figure.explorable > svg { display: none; }
+.sc-toolbar { display: flex; flex-wrap: wrap; gap: 0.35rem; align-items: center; margin-bottom: 0.35rem; font-size: 0.85rem; }
+.sc-toolbar button { font: inherit; border: 1px solid var(--rule); background: #fff; border-radius: 3px; padding: 0.1rem 0.5rem; cursor: pointer; }
+.sc-toolbar button[aria-pressed="false"] { opacity: 0.45; text-decoration: line-through; }
+.sc-swatch { display: inline-block; width: 0.8rem; height: 0.8rem; margin-right: 0.3rem; vertical-align: -0.1rem; border-radius: 2px; }
+.sc-hint { color: var(--muted); margin-left: auto; }
+.sc-holder { position: relative; border: 1px solid var(--rule); }
+.sc-plot { display: block; width: 100%; height: auto; touch-action: none; cursor: crosshair; user-select: none; }
+.sc-plot text { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
+.sc-title { font-size: 20px; }
+.sc-tick { font-size: 13px; fill: #333; }
+.sc-axis { font-size: 15px; }
+.sc-mark { font-size: 12px; }
+.sc-tip { position: absolute; z-index: 2; background: #fffffff2; border: 1px solid var(--ink); padding: 0.3rem 0.5rem; font-size: 0.8rem; pointer-events: none; box-shadow: 0 1px 4px #0003; }
+.sc-tip-head { font-weight: 600; margin-bottom: 0.15rem; }
+.sc-tip table { margin: 0; font-size: inherit; border-collapse: collapse; }
+.sc-tip th, .sc-tip td { border: 0; padding: 0 0.4rem 0 0; font-variant-numeric: tabular-nums; white-space: nowrap; }
+.sc-tip th { font-weight: normal; color: var(--muted); }
 footer { margin-top: 3rem; color: var(--muted); font-size: 0.85rem; border-top: 1px solid var(--rule); padding-top: 0.5rem; }
 @media print {
   body { max-width: none; padding: 0; font-size: 11pt; }
@@ -258,28 +298,17 @@ footer { margin-top: 3rem; color: var(--muted); font-size: 0.85rem; border-top: 
   figure, table, .caution { break-inside: avoid; page-break-inside: avoid; }
   h2 { break-after: avoid; page-break-after: avoid; }
   tbody tr:nth-child(even) { background: none; }
+  .sc-view { display: none !important; }
+  figure.explorable > svg { display: block !important; }
 }
 "#;
 
-/// Runs once the page has loaded: counts figures whose `<svg>` has a non-zero layout box
-/// and non-zero drawn content, marks the others, and records the count on `<body>`.
-const CHECK_SCRIPT: &str = r#"
-window.addEventListener('load', function () {
-  var figures = document.querySelectorAll('figure.report-figure');
-  var rendered = 0;
-  for (var i = 0; i < figures.length; i++) {
-    var svg = figures[i].querySelector('svg');
-    var ok = false;
-    if (svg) {
-      var box = svg.getBoundingClientRect();
-      var drawn = svg.getBBox();
-      ok = box.width > 0 && box.height > 0 && drawn.width > 0 && drawn.height > 0;
-    }
-    if (ok) { rendered++; } else { figures[i].classList.add('not-rendered'); }
-  }
-  document.body.setAttribute('data-figures-rendered', String(rendered));
-});
-"#;
+/// The page's one script (`explore.js`, written for this report, no library): runs once
+/// the page has loaded, redraws every figure that carries its data as an explorable figure
+/// (zoom, pan, values on hover or tap, legend toggles, reset), counts figures whose
+/// drawing has a non-zero layout box and drawn content, marks the others, and records the
+/// counts on `<body>` (`data-figures-rendered`, `data-figures-explorable`).
+const EXPLORE_SCRIPT: &str = include_str!("explore.js");
 
 /// The whole report as one HTML5 document (see the module notes for what it contains).
 pub fn render_html(report: &Report) -> Result<String, ReportError> {
@@ -295,7 +324,12 @@ pub fn render_html(report: &Report) -> Result<String, ReportError> {
         e(&report.title),
         STYLE
     );
-    let _ = writeln!(h, "<body data-figures-expected=\"{}\">", report.figure_count());
+    let _ = writeln!(
+        h,
+        "<body data-figures-expected=\"{}\" data-figures-explorable-expected=\"{}\">",
+        report.figure_count(),
+        report.explorable_figure_count()
+    );
     let _ = writeln!(h, "<header class=\"title-block\">\n<h1>{}</h1>", e(&report.title));
     for line in &report.subtitle {
         let _ = writeln!(h, "<p class=\"subtitle\">{}</p>", e(line));
@@ -362,7 +396,7 @@ pub fn render_html(report: &Report) -> Result<String, ReportError> {
         h.push_str("</section>\n");
     }
     let _ = writeln!(h, "<footer>Written by {} {}.</footer>", e(&p.tool), e(&p.version));
-    let _ = writeln!(h, "<script>{CHECK_SCRIPT}</script>\n</body>\n</html>");
+    let _ = writeln!(h, "<script>{EXPLORE_SCRIPT}</script>\n</body>\n</html>");
     Ok(h)
 }
 
@@ -450,6 +484,9 @@ mod tests {
         // One inline figure, without namespace URL or XML declaration; nothing fetched.
         assert_eq!(h.matches("<svg").count(), 1);
         assert!(h.contains("data-figures-expected=\"1\""));
+        // The figure carries its data, so the page makes it explorable.
+        assert!(h.contains("data-figures-explorable-expected=\"1\""));
+        assert!(h.contains("<metadata class=\"skyclock-figure-data\">"));
         assert!(h.contains("<figcaption>periodogram &lt;1&gt;</figcaption>"));
         assert!(!h.contains("<?xml"));
         assert!(!h.contains("http:") && !h.contains("https:"));
