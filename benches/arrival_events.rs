@@ -15,7 +15,7 @@ use skyclock::time::{Instant, LeapSecondTable, ScaleConverter, TimeScale};
 fn main() {
     let events: usize = std::env::var("SKYCLOCK_BENCH_EVENTS").ok().and_then(|v| v.parse().ok()).unwrap_or(10_000_000);
     let site = Site::from_degrees("Invented Ridge", -105.123, 39.456, 2150.0).unwrap();
-    let source = Source::fixed_degrees("invented pulsar", 83.633, 22.0145).unwrap();
+    let source = Source::fixed_degrees("invented pulsar", 127.418, -14.277).unwrap();
     let exact = BarycentricCorrector::new(
         embedded(),
         ScaleConverter::new(LeapSecondTable::builtin()),

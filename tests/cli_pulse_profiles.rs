@@ -8,7 +8,7 @@ use skyclock::fit::SeededRng;
 use skyclock::pulsar::model::TimingModel;
 use skyclock::pulsar::profile::event_phase_cycles;
 
-const MODEL: &str = "name = \"invented pulsar Corvina X-3\"\nepoch_mjd_day_tdb = 60300\nfreq_hz = 3.71\nfreq_deriv_hz_per_s = -2.0e-12\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\"]\n";
+const MODEL: &str = "name = \"invented pulsar Corvina Lantern\"\nepoch_mjd_day_tdb = 60300\nfreq_hz = 3.71\nfreq_deriv_hz_per_s = -2.0e-12\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\"]\n";
 
 /// Events in 12 windows of 20 000 s over ±6e5 s, 700 photons each; 50 % pulsed with a
 /// two-peaked invented profile f(φ) = 1 + 0.5 cos 2πφ + 0.3 cos 4πφ. Times as BMJD_TDB text.

@@ -18,7 +18,7 @@ use skyclock::pulsar::search::PulsationSearch;
 use skyclock::pulsar::timing_fit::TimingSolution;
 
 const MODEL: &str =
-    "name = \"invented pulsar Lumen X-9\"\nepoch_mjd_day_tdb = 60500\nfreq_hz = 2.37\nfit = [\"freq_hz\"]\n";
+    "name = \"invented pulsar Lumen Drift\"\nepoch_mjd_day_tdb = 60500\nfreq_hz = 2.37\nfit = [\"freq_hz\"]\n";
 
 /// 10 windows of 15 000 s over ±5e5 s, 500 photons each, 60 % pulsed with the invented
 /// profile f(φ) = 1 + 0.7 cos 2πφ; times as BMJD_TDB text.

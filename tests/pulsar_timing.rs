@@ -105,7 +105,7 @@ fn coverage_per_parameter(
 #[test]
 fn isolated_pulsar_parameters_within_one_sigma_68_percent() {
     let truth = TimingModel::from_toml(
-        "epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfreq_deriv_hz_per_s = -3.7e-12\ndispersion_measure_pc_per_cm3 = 56.8\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\", \"dispersion_measure_pc_per_cm3\"]\n",
+        "epoch_mjd_day_tdb = 60100\nfreq_hz = 17.43\nfreq_deriv_hz_per_s = -2.6e-13\ndispersion_measure_pc_per_cm3 = 31.9\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\", \"dispersion_measure_pc_per_cm3\"]\n",
         "invented isolated pulsar",
     ).unwrap();
     let (frac, n) = coverage(&truth, 240, 40, 3.0e7, 50e-6);
@@ -150,7 +150,7 @@ fn binary_pulsar_parameters_within_one_sigma_68_percent() {
 #[test]
 fn lost_phase_connection_is_reported() {
     let truth =
-        TimingModel::from_toml("epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfit = [\"freq_hz\"]\n", "t").unwrap();
+        TimingModel::from_toml("epoch_mjd_day_tdb = 60100\nfreq_hz = 17.43\nfit = [\"freq_hz\"]\n", "t").unwrap();
     let toas = simulate(&truth, 1, 30, 3.0e7, 50e-6);
     let mut start = truth.clone();
     start.freq_hz += 2e-7; // 3 cycles of drift over the span
@@ -163,7 +163,7 @@ fn position_and_proper_motion_recovered_within_one_sigma_68_percent() {
     // Invented pulsar 200 mas east and 150 mas south of the position used to barycentre,
     // moving 30 mas/yr east and 20 mas/yr south; 60 arrival times over 2.5 years, σ = 2 µs.
     let truth = TimingModel::from_toml(
-        "epoch_mjd_day_tdb = 60400\nfreq_hz = 29.71\nfreq_deriv_hz_per_s = -3.7e-14\ndispersion_measure_pc_per_cm3 = 56.8\n\
+        "epoch_mjd_day_tdb = 60400\nfreq_hz = 17.43\nfreq_deriv_hz_per_s = -2.6e-14\ndispersion_measure_pc_per_cm3 = 31.9\n\
          position_offset_ra_mas = 200.0\nposition_offset_dec_mas = -150.0\nproper_motion_ra_mas_per_yr = 30.0\nproper_motion_dec_mas_per_yr = -20.0\n\
          fit = [\"freq_hz\", \"freq_deriv_hz_per_s\", \"position_offset_ra_mas\", \"position_offset_dec_mas\", \"proper_motion_ra_mas_per_yr\", \"proper_motion_dec_mas_per_yr\"]\n",
         "invented moving pulsar",
@@ -202,7 +202,7 @@ fn position_and_proper_motion_recovered_within_one_sigma_68_percent() {
 #[test]
 fn position_needs_arrival_times_at_an_observer() {
     let model = TimingModel::from_toml(
-        "epoch_mjd_day_tdb = 60100\nfreq_hz = 29.71\nfit = [\"freq_hz\", \"position_offset_ra_mas\"]\n",
+        "epoch_mjd_day_tdb = 60100\nfreq_hz = 17.43\nfit = [\"freq_hz\", \"position_offset_ra_mas\"]\n",
         "t",
     )
     .unwrap();

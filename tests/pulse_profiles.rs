@@ -186,7 +186,7 @@ fn phase_shift_recovered_precisely_with_many_photons() {
 /// Invented isolated pulsar with a strong spin-down.
 fn spin_down_pulsar() -> TimingModel {
     TimingModel::from_toml(
-        "name = \"invented pulsar Corvina P-5\"\nepoch_mjd_day_tdb = 60400\nfreq_hz = 11.23\nfreq_deriv_hz_per_s = -4.1e-11\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\"]\n",
+        "name = \"invented pulsar Corvina Wisp\"\nepoch_mjd_day_tdb = 60400\nfreq_hz = 11.23\nfreq_deriv_hz_per_s = -4.1e-11\nfit = [\"freq_hz\", \"freq_deriv_hz_per_s\"]\n",
         "invented",
     )
     .unwrap()

@@ -15,7 +15,7 @@ use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example:
   skyclock barycentre-events --input events.csv --time-column seconds \\
-      --time-zero 2024-03-01T00:00:00 --time-zero-scale tt --ra 83.633 --dec 22.0145 \\
+      --time-zero 2024-03-01T00:00:00 --time-zero-scale tt --ra 127.418 --dec -14.277 \\
       --output events_bary.csv
 
   Event times are seconds after --time-zero on its scale. The output repeats every input line

@@ -12,7 +12,7 @@ use skyclock::table::summary::Summary;
 use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
 use skyclock::time::format::{TimeFormat, format_time};
 
-const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3'):
+const EXAMPLE: &str = "Example (invented pulsar 'Corvina Lantern'):
   skyclock event-arrival-times --input corvina_events.csv --clock mjd_tt \\
       --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
       --model corvina.toml --template template.json \\

@@ -18,7 +18,7 @@ use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atom
 use skyclock::table::{Provenance, float_column, read_table};
 use skyclock::time::{Instant, TimeScale};
 
-const EXAMPLE: &str = "Example (invented pulsar 'Corvina X-3', events from an invented X-ray satellite):
+const EXAMPLE: &str = "Example (invented pulsar 'Corvina Lantern', events from an invented X-ray satellite):
   skyclock pulse-profile --input corvina_events.csv --time-column time --clock mjd_tt \\
       --spacecraft-columns sc_x_km,sc_y_km,sc_z_km --ra 201.3 --dec 12.8 \\
       --model corvina.toml --bins 40 --harmonics 6 \\

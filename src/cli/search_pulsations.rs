@@ -16,7 +16,7 @@ use skyclock::time::{Instant, TimeScale};
 
 const EXAMPLE: &str = "Example:
   skyclock search-pulsations --input photons.csv --time-column time --clock mjd_tt \\
-      --ra 83.633 --dec 22.0145 --min-freq-hz 29.5 --max-freq-hz 30.0 --harmonics 2 \\
+      --ra 127.418 --dec -14.277 --min-freq-hz 17.3 --max-freq-hz 17.6 --harmonics 2 \\
       --output z2_spectrum.csv --figure z2_spectrum.svg --json
 
   Times are barycentred on the way in (use --clock bmjd_tdb for barycentric times). The

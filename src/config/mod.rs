@@ -245,9 +245,9 @@ latitude_deg = 39.4
 height_m = 2150.0
 
 [[site]]
-name = "Salt Flat"
-east_longitude_deg = 20.5
-latitude_deg = -32.3
+name = "Saltbush Plain"
+east_longitude_deg = 23.5
+latitude_deg = -30.6
 height_m = 1800.0
 
 [source]

@@ -564,7 +564,9 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
     );
 
     // 6. The binary pulsar: radio timing fit, then the X-ray events folded with it.
-    println!("\n== 6. pulsar: radio arrival times of Veyra X-2 (UTC at the site) → phase-connected spin + orbit fit");
+    println!(
+        "\n== 6. pulsar: radio arrival times of Veyra Beacon (UTC at the site) → phase-connected spin + orbit fit"
+    );
     command(&s(&[
         "fit-timing",
         "--input",
@@ -640,7 +642,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
         &ot("veyra_profile.svg"),
     ]))?;
     report_sections.push(
-        Section::new("Binary pulsar Veyra X-2")
+        Section::new("Binary pulsar Veyra Beacon")
             .with_paragraph(&format!(
                 "{} radio arrival times over 500 days at two frequencies, barycentred on the way in, fitted for ν, ν̇, dispersion measure and two orbital elements; the fitted model then folds {} X-ray photons into a profile.",
                 data_rows(&data.join(PULSAR_TOAS_FILE)),
@@ -660,7 +662,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
         (PULSAR_TOAS_FILE, "radio pulse arrival times, MJD UTC at Harrow Moss Radio Array"),
         (PULSAR_EVENTS_FILE, "X-ray photon events, barycentric MJD TDB"),
         (DESCRIPTION_FILE, "sites and source of KX Inventa"),
-        (PULSAR_DESCRIPTION_FILE, "site and source of Veyra X-2"),
+        (PULSAR_DESCRIPTION_FILE, "site and source of Veyra Beacon"),
         (PULSAR_START_MODEL_FILE, "starting timing model"),
     ] {
         let rows = data_rows(&data.join(name));
@@ -724,7 +726,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
         .with("leap_seconds", skyclock::time::LeapSecondTable::builtin().source())
         .with("datasets", path_text(data));
     let mut report = Report::new(
-        "skyclock demonstration: KX Inventa, a survey field and Veyra X-2 (all invented)",
+        "skyclock demonstration: KX Inventa, a survey field and Veyra Beacon (all invented)",
         provenance,
     )
     .with_subtitle(

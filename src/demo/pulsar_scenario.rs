@@ -1,4 +1,4 @@
-//! The invented binary pulsar of the demo, Veyra X-2: radio arrival times from one invented
+//! The invented binary pulsar of the demo, Veyra Beacon: radio arrival times from one invented
 //! site over 500 days (UTC at the site, dispersed at 1400 and 820 MHz) and an 8 ks list of
 //! X-ray photon arrival times already referred to the barycentre (TDB), both made from one
 //! true timing model ([`true_model`]) with `pulsar::model`.
@@ -26,23 +26,23 @@ latitude_deg = 53.911
 height_m = 41.0
 
 [source]
-name = "Veyra X-2"
+name = "Veyra Beacon"
 ra = "16:41:07.30"
 dec = "-23:35:12.0"
 "#;
 /// File names inside the datasets folder.
-pub const PULSAR_DESCRIPTION_FILE: &str = "veyra_x2.toml";
+pub const PULSAR_DESCRIPTION_FILE: &str = "veyra_beacon.toml";
 /// Radio arrival times.
-pub const PULSAR_TOAS_FILE: &str = "veyra_x2_radio_toas.csv";
+pub const PULSAR_TOAS_FILE: &str = "veyra_beacon_radio_toas.csv";
 /// X-ray photon events (barycentric).
-pub const PULSAR_EVENTS_FILE: &str = "veyra_x2_xray_events.csv";
+pub const PULSAR_EVENTS_FILE: &str = "veyra_beacon_xray_events.csv";
 /// Starting model for the timing fit (true values slightly perturbed).
-pub const PULSAR_START_MODEL_FILE: &str = "veyra_x2_start_model.toml";
+pub const PULSAR_START_MODEL_FILE: &str = "veyra_beacon_start_model.toml";
 
 /// The true timing model (invented).
 pub fn true_model() -> TimingModel {
     TimingModel {
-        name: "Veyra X-2".into(),
+        name: "Veyra Beacon".into(),
         epoch_mjd_day_tdb: 60_400,
         epoch_seconds_of_day_tdb: 0.0,
         phase_offset_cycles: 0.0,
@@ -130,8 +130,13 @@ pub fn write_pulsar_datasets(folder: &Path, seed: u64) -> Result<()> {
     let mut start = model.clone();
     start.freq_hz += 4e-9;
     start.freq_deriv_hz_per_s = -2.08e-14;
+    // Every fitted parameter starts away from the truth (a fit that does nothing must fail
+    // the demo's comparison): ν by 4e-9 Hz, ν̇ by 1 %, DM by 0.05 pc/cm³, x by 2 ms of light,
+    // the time of periastron by 20 s.
+    start.dispersion_measure_pc_per_cm3 += 0.05;
     if let Some(o) = start.orbit.as_mut() {
         o.projected_semi_major_axis_lt_s += 0.002;
+        o.periastron_time_s += 20.0;
     }
     {
         use skyclock::pulsar::model::TimingParameter as P;

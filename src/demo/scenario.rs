@@ -55,16 +55,16 @@ latitude_deg = 39.456
 height_m = 2150.0
 
 [[site]]
-name = "Salt Flat Station"
-east_longitude_deg = 20.811
-latitude_deg = -32.379
-height_m = 1798.0
+name = "Saltbush Plain Station"
+east_longitude_deg = 23.472
+latitude_deg = -30.618
+height_m = 1342.0
 
 [[site]]
-name = "Kestrel Point"
-east_longitude_deg = 149.066
-latitude_deg = -31.277
-height_m = 1149.0
+name = "Kestrel Downs"
+east_longitude_deg = 146.517
+latitude_deg = -30.406
+height_m = 212.0
 
 [source]
 name = "KX Inventa"
@@ -125,8 +125,8 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
     );
     let observers: BTreeMap<&str, (&str, f64)> = [
         ("Ridge Hollow Observatory", ("A. Quillfeather", 25.0)),
-        ("Salt Flat Station", ("B. Marrowdale", 45.0)),
-        ("Kestrel Point", ("C. Tansyworth", 70.0)),
+        ("Saltbush Plain Station", ("B. Marrowdale", 45.0)),
+        ("Kestrel Downs", ("C. Tansyworth", 70.0)),
     ]
     .into_iter()
     .collect();

@@ -72,7 +72,7 @@ mod tests {
 
     #[test]
     fn phase_derivative_is_frequency() {
-        let s = Spin { freq_hz: 29.6, freq_deriv_hz_per_s: -3.7e-10, freq_second_deriv_hz_per_s2: 1e-20 };
+        let s = Spin { freq_hz: 17.43, freq_deriv_hz_per_s: -2.6e-13, freq_second_deriv_hz_per_s2: 1e-20 };
         let t = 1.3e7;
         let h = 1e-3;
         let num = (s.phase_cycles(t + h) - s.phase_cycles(t - h)) / (2.0 * h);
