@@ -19,5 +19,7 @@ pub use correction::{
 };
 pub use reference::{ReferenceData, ReferenceDataError, ReferenceNames};
 pub use row_batches::CorrectionPath;
-pub use run::{BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, observer_times};
+pub use run::{
+    BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, barycentre_table_along, observer_times,
+};
 pub use source::{CoordinateError, Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};

@@ -66,43 +66,79 @@ pub fn correct_rows(
     rows: &[RowTime],
     path: CorrectionPath,
 ) -> BatchOutcome {
-    let exact = |r: &RowTime| {
-        let observer = match r.observer {
-            RowObserver::Fixed(i) => observers.get(i).cloned().unwrap_or(Observer::Geocentre),
-            RowObserver::Spacecraft(s) => Observer::Spacecraft(s),
-        };
-        corrector.correct(&r.time, &observer, r.reference)
-    };
-    if path == CorrectionPath::ExactEveryRow || !matches!(observers.first(), Some(Observer::Geocentre)) {
-        return BatchOutcome { rows: rows.par_iter().map(exact).collect(), interpolated: 0, nodes: 0 };
-    }
-    let plan: Vec<Option<Plan>> = rows.par_iter().map(|r| plan_row(corrector, observers, r)).collect();
-    let mut chosen = vec![false; rows.len()];
-    let grids: Vec<NodeGrid> = (0..observers.len())
-        .map(|group| {
-            let slots = choose_clusters(&plan, group, &mut chosen);
-            if slots.is_empty() { NodeGrid::default() } else { NodeGrid::build(corrector, &observers[group], &slots) }
-        })
-        .collect();
-    let results: Vec<(Result<Corrected, ArrivalError>, bool)> = rows
-        .par_iter()
-        .zip(plan.par_iter())
-        .zip(chosen.par_iter())
-        .map(|((r, p), &fast)| {
-            if fast
-                && let Some(p) = p
-                && let Some(c) = interpolate_row(corrector, &grids[0], &grids[p.group], r)
-            {
-                return (Ok(c), true);
-            }
-            (exact(r), false)
-        })
-        .collect();
+    let prepared = PreparedRows::new(corrector, observers, rows, path);
+    let results = prepared.correct_range(0..rows.len());
     let interpolated = results.iter().filter(|(_, fast)| *fast).count();
-    BatchOutcome {
-        rows: results.into_iter().map(|(r, _)| r).collect(),
-        interpolated,
-        nodes: grids.iter().map(NodeGrid::len).sum(),
+    BatchOutcome { rows: results.into_iter().map(|(r, _)| r).collect(), interpolated, nodes: prepared.nodes() }
+}
+
+/// Rows with their correction planned and the nodes computed, ready to be corrected range by
+/// range (so that a caller can keep only one range of results in memory at a time).
+pub struct PreparedRows<'a> {
+    corrector: &'a BarycentricCorrector,
+    observers: &'a [Observer],
+    rows: &'a [RowTime],
+    plan: Vec<Option<Plan>>,
+    chosen: Vec<bool>,
+    grids: Vec<NodeGrid>,
+}
+
+impl<'a> PreparedRows<'a> {
+    /// Groups and clusters `rows` and computes the nodes the chosen clusters need (see the
+    /// module doc); `observers[0]` must be the geocentre, else every row is exact.
+    pub fn new(
+        corrector: &'a BarycentricCorrector,
+        observers: &'a [Observer],
+        rows: &'a [RowTime],
+        path: CorrectionPath,
+    ) -> PreparedRows<'a> {
+        let mut prepared =
+            PreparedRows { corrector, observers, rows, plan: Vec::new(), chosen: Vec::new(), grids: Vec::new() };
+        if path == CorrectionPath::ExactEveryRow || !matches!(observers.first(), Some(Observer::Geocentre)) {
+            return prepared;
+        }
+        prepared.plan = rows.par_iter().map(|r| plan_row(corrector, observers, r)).collect();
+        prepared.chosen = vec![false; rows.len()];
+        prepared.grids = (0..observers.len())
+            .map(|group| {
+                let slots = choose_clusters(&prepared.plan, group, &mut prepared.chosen);
+                if slots.is_empty() {
+                    NodeGrid::default()
+                } else {
+                    NodeGrid::build(corrector, &observers[group], &slots)
+                }
+            })
+            .collect();
+        prepared
+    }
+
+    /// Nodes computed.
+    pub fn nodes(&self) -> usize {
+        self.grids.iter().map(NodeGrid::len).sum()
+    }
+
+    /// The corrections of rows `range` (in order), each with `true` when it was interpolated.
+    pub fn correct_range(&self, range: std::ops::Range<usize>) -> Vec<(Result<Corrected, ArrivalError>, bool)> {
+        let exact = |r: &RowTime| {
+            let observer = match r.observer {
+                RowObserver::Fixed(i) => self.observers.get(i).cloned().unwrap_or(Observer::Geocentre),
+                RowObserver::Spacecraft(s) => Observer::Spacecraft(s),
+            };
+            self.corrector.correct(&r.time, &observer, r.reference)
+        };
+        range
+            .into_par_iter()
+            .map(|i| {
+                let r = &self.rows[i];
+                if self.chosen.get(i).copied().unwrap_or(false)
+                    && let Some(Some(p)) = self.plan.get(i)
+                    && let Some(c) = interpolate_row(self.corrector, &self.grids[0], &self.grids[p.group], r)
+                {
+                    return (Ok(c), true);
+                }
+                (exact(r), false)
+            })
+            .collect()
     }
 }
 

@@ -9,7 +9,7 @@ use polars::prelude::*;
 use rayon::prelude::*;
 
 use super::correction::{BarycentricCorrector, ReferencePoint};
-use super::row_batches::{CorrectionPath, RowObserver, RowTime, correct_rows};
+use super::row_batches::{CorrectionPath, PreparedRows, RowObserver, RowTime};
 use crate::observer::{Observer, PositionOrigin, Site, SpacecraftPosition};
 use crate::table::{TableError, float_column, text_column};
 use crate::time::format::format_whole_and_fraction;
@@ -219,121 +219,110 @@ fn correct_rows_of_table(
         message,
     };
     let leap = corrector.converter().leap_seconds();
-    let parsed: Vec<Result<(RowTime, ClockSpec), TableError>> = (0..n)
-        .into_par_iter()
-        .map(|i| {
-            let clock = match (&clock_labels, request.clock) {
-                (Some(labels), _) => {
-                    let col = request.clock_column.as_deref().unwrap_or("");
-                    let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
-                    ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
-                }
-                (None, Some(c)) => c,
-                (None, None) => {
-                    return Err(TableError::File {
-                        file: file.to_string(),
-                        message: "no clock given: name a clock for all rows or a clock column".into(),
-                    });
-                }
-            };
-            let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
-            let time = parse_time(text, clock.format, clock.scale, leap)
-                .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
-            let observer = row_observers.get(i).copied().unwrap_or(RowObserver::Fixed(0));
-            Ok((RowTime { time, reference: clock.reference, observer }, clock))
-        })
-        .collect();
-    drop(times);
-    drop(clock_labels);
+    let parse = |i: usize| -> Result<(RowTime, ClockSpec), TableError> {
+        let clock = match (&clock_labels, request.clock) {
+            (Some(labels), _) => {
+                let col = request.clock_column.as_deref().unwrap_or("");
+                let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
+                ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
+            }
+            (None, Some(c)) => c,
+            (None, None) => {
+                return Err(TableError::File {
+                    file: file.to_string(),
+                    message: "no clock given: name a clock for all rows or a clock column".into(),
+                });
+            }
+        };
+        let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
+        let time = parse_time(text, clock.format, clock.scale, leap)
+            .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
+        let observer = row_observers.get(i).copied().unwrap_or(RowObserver::Fixed(0));
+        Ok((RowTime { time, reference: clock.reference, observer }, clock))
+    };
+    let parsed: Vec<Option<(RowTime, ClockSpec)>> = (0..n).into_par_iter().map(|i| parse(i).ok()).collect();
     // Rows before the first unreadable one are corrected, so that the first bad row of
     // either kind is the one reported.
-    let readable = parsed.iter().position(Result::is_err).unwrap_or(n);
-    let mut inputs = Vec::with_capacity(readable);
-    let mut clocks = Vec::with_capacity(readable);
-    for p in &parsed[..readable] {
-        if let Ok((row, clock)) = p {
-            inputs.push(*row);
-            clocks.push(*clock);
-        }
-    }
-    let outcome = correct_rows(corrector, &observers, &inputs, path);
-    let mut rows = Vec::with_capacity(readable);
-    for (i, (result, input)) in outcome.rows.into_iter().zip(&inputs).enumerate() {
-        let corrected = result.map_err(|e| cell(i, &request.time_column, e.to_string()))?;
-        rows.push((corrected, clocks[i], input.time));
-    }
-    if let Some(Err(e)) = parsed.into_iter().nth(readable) {
-        return Err(e);
-    }
-    let geometry: Vec<RowGeometry> = if want_geometry {
-        rows.iter()
-            .map(|(c, _, _)| RowGeometry {
-                observer_barycentric_km: c.observer_barycentric_km,
-                source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
-            })
-            .collect()
-    } else {
-        Vec::new()
-    };
+    let readable = parsed.iter().position(Option::is_none).unwrap_or(n);
+    let unreadable = (readable < n).then(|| parse(readable).err()).flatten();
+    drop(times);
+    drop(clock_labels);
+    let (inputs, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
+    let prepared = PreparedRows::new(corrector, &observers, &inputs, path);
     let mut summary = TableSummary {
         rows: n,
-        rows_interpolated: outcome.interpolated,
         min_total_correction_s: f64::INFINITY,
         max_total_correction_s: f64::NEG_INFINITY,
         ..Default::default()
     };
+    let mut geometry = Vec::with_capacity(if want_geometry { n } else { 0 });
     let mut cols: Vec<Vec<f64>> = (0..10).map(|_| Vec::with_capacity(n)).collect();
     let mut bjd_text = StringChunkedBuilder::new("bjd_tdb".into(), n);
     let mut obs_text = StringChunkedBuilder::new("observer_tdb".into(), n);
     let mut clock_text = StringChunkedBuilder::new("input_clock".into(), n);
     let mut labels: Vec<(ClockSpec, String)> = Vec::new();
     let mut buffer = String::with_capacity(32);
-    for (c, clock, input) in &rows {
-        if input.scale() == TimeScale::Utc
-            && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
-        {
-            summary.rows_beyond_leap_second_horizon += 1;
-            summary.max_days_beyond_leap_second_horizon = summary.max_days_beyond_leap_second_horizon.max(days);
-        }
-        if c.earth_orientation_from_table {
-            summary.rows_with_earth_orientation_table += 1;
-        }
-        let d = &c.delays;
-        let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
-        summary.min_total_correction_s = summary.min_total_correction_s.min(total);
-        summary.max_total_correction_s = summary.max_total_correction_s.max(total);
-        let (jd1, jd2) = c.bjd_tdb.jd_two_part();
-        write_jd_text(&mut buffer, &c.bjd_tdb);
-        bjd_text.append_value(&buffer);
-        write_jd_text(&mut buffer, &c.observer_tdb);
-        obs_text.append_value(&buffer);
-        let label = match labels.iter().position(|(k, _)| k == clock) {
-            Some(i) => &labels[i].1,
-            None => {
-                labels.push((*clock, clock_label(clock)));
-                &labels[labels.len() - 1].1
+    // Results are held one block at a time; the output columns grow block by block.
+    const BLOCK_ROWS: usize = 1 << 16;
+    for block in (0..readable).step_by(BLOCK_ROWS) {
+        let results = prepared.correct_range(block..(block + BLOCK_ROWS).min(readable));
+        for (k, (result, fast)) in results.into_iter().enumerate() {
+            let i = block + k;
+            let c = result.map_err(|e| cell(i, &request.time_column, e.to_string()))?;
+            let (clock, input) = (&clocks[i], &inputs[i].time);
+            summary.rows_interpolated += usize::from(fast);
+            if want_geometry {
+                geometry.push(RowGeometry {
+                    observer_barycentric_km: c.observer_barycentric_km,
+                    source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
+                });
             }
-        };
-        clock_text.append_value(label);
-        for (k, v) in [
-            jd1,
-            jd2,
-            d.clock_to_tt_s,
-            d.einstein_s,
-            d.roemer_s,
-            d.curvature_s,
-            d.shapiro_sun_s,
-            d.shapiro_planets_s,
-            d.heliocentric_removed_s,
-            total,
-        ]
-        .into_iter()
-        .enumerate()
-        {
-            cols[k].push(v);
+            if input.scale() == TimeScale::Utc
+                && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
+            {
+                summary.rows_beyond_leap_second_horizon += 1;
+                summary.max_days_beyond_leap_second_horizon = summary.max_days_beyond_leap_second_horizon.max(days);
+            }
+            if c.earth_orientation_from_table {
+                summary.rows_with_earth_orientation_table += 1;
+            }
+            let d = &c.delays;
+            let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
+            summary.min_total_correction_s = summary.min_total_correction_s.min(total);
+            summary.max_total_correction_s = summary.max_total_correction_s.max(total);
+            let (jd1, jd2) = c.bjd_tdb.jd_two_part();
+            write_jd_text(&mut buffer, &c.bjd_tdb);
+            bjd_text.append_value(&buffer);
+            write_jd_text(&mut buffer, &c.observer_tdb);
+            obs_text.append_value(&buffer);
+            let label = match labels.iter().position(|(k, _)| k == clock) {
+                Some(j) => &labels[j].1,
+                None => {
+                    labels.push((*clock, clock_label(clock)));
+                    &labels[labels.len() - 1].1
+                }
+            };
+            clock_text.append_value(label);
+            for (col, v) in cols.iter_mut().zip([
+                jd1,
+                jd2,
+                d.clock_to_tt_s,
+                d.einstein_s,
+                d.roemer_s,
+                d.curvature_s,
+                d.shapiro_sun_s,
+                d.shapiro_planets_s,
+                d.heliocentric_removed_s,
+                total,
+            ]) {
+                col.push(v);
+            }
         }
     }
-    drop(rows);
+    if let Some(e) = unreadable {
+        return Err(e);
+    }
+    drop(prepared);
     let mut out = df.clone();
     let mut add = |name: &str, column: Column| -> Result<(), TableError> {
         if out.get_column_names().iter().any(|c| c.as_str() == name) {
