@@ -157,3 +157,48 @@ fn convert_time_handles_the_leap_second() {
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(v["times"][0]["scales"]["tai"], "2017-01-01T00:00:36.500000000");
 }
+
+/// A dense table goes through the interpolation nodes by default and `--exact-per-row`
+/// corrects every row on its own; the BJD_TDB columns agree to ≤ 1 ns (the exact twin is the
+/// reference, itself checked against astropy 8.0.2 in tests/arrival_references.rs).
+#[test]
+fn exact_per_row_matches_the_default_node_path() {
+    let d = workdir("nodes");
+    let input = d.join("dense.csv");
+    let mut text = String::from("time,mag\n");
+    for k in 0..600 {
+        text.push_str(&format!("2459000.{:09},12.0\n", 600_000_000 + k * 300_000));
+    }
+    std::fs::write(&input, text).unwrap();
+    let site = ["--clock", "jd_utc", "--site-coordinates=-105.1,39.4,2150", "--json"];
+    let (fast, exact) = (d.join("fast.csv"), d.join("exact.csv"));
+    let o = run_barycentre(&input, &fast, &site);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let summary: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(summary["correction"]["rows_interpolated"], 600);
+    let mut with_flag = site.to_vec();
+    with_flag.push("--exact-per-row");
+    let o = run_barycentre(&input, &exact, &with_flag);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let summary: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(summary["correction"]["rows_interpolated"], 0);
+    let parts = |path: &Path| -> Vec<(f64, f64)> {
+        let text = std::fs::read_to_string(path).unwrap();
+        let mut lines = text.lines();
+        let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+        let (a, b) = (
+            header.iter().position(|c| *c == "bjd_tdb_jd1").unwrap(),
+            header.iter().position(|c| *c == "bjd_tdb_jd2").unwrap(),
+        );
+        lines
+            .map(|l| {
+                let cells: Vec<&str> = l.split(',').collect();
+                (cells[a].parse().unwrap(), cells[b].parse().unwrap())
+            })
+            .collect()
+    };
+    let (x, y) = (parts(&fast), parts(&exact));
+    assert_eq!(x.len(), 600);
+    let worst = x.iter().zip(&y).map(|(p, q)| (((p.0 - q.0) + (p.1 - q.1)) * 86_400.0).abs()).fold(0.0, f64::max);
+    assert!(worst <= 1e-9, "{worst} s");
+}

@@ -1,8 +1,14 @@
 //! False-alarm probabilities: Baluev (2008, MNRAS 385, 1279) against a bootstrap on white
-//! noise, and the bootstrap's independence of the thread count.
+//! noise, the bootstrap's independence of the thread count, and the log-space evaluation
+//! against astropy 8.0.2 and a 50-digit mpmath 1.4.1 evaluation
+//! (tests/reference/baluev_fap.csv, generator and README beside it).
+
+mod reference_tables;
 
 use skyclock::fit::SeededRng;
-use skyclock::periodogram::significance::{BootstrapOptions, baluev_fap, bootstrap_fap};
+use skyclock::periodogram::significance::{
+    BootstrapOptions, baluev_fap, baluev_log10_fap, bootstrap_fap, format_log10_probability,
+};
 use skyclock::periodogram::*;
 
 fn white_noise(seed: u64, n: usize) -> Series {
@@ -62,4 +68,52 @@ fn baluev_is_monotonic_and_checks_input() {
     }
     assert!(baluev_fap(1.5, &s, 5.0).is_err());
     assert!(baluev_fap(0.5, &s, -1.0).is_err());
+}
+
+/// The invented series of tests/reference/generate_fap_references.py.
+fn reference_series(n: usize) -> Series {
+    let t: Vec<f64> = (0..n).map(|i| 0.05 * i as f64 + 0.02 * (1.7 * i as f64).sin()).collect();
+    let y: Vec<f64> = t.iter().map(|x| x.sin()).collect();
+    let dy = vec![1.0; n];
+    Series::from_arrays(&t, &y, Some(&dy)).unwrap()
+}
+
+/// astropy 8.0.2 (float64) where it does not underflow, relative 1e-9; the 50-digit mpmath
+/// log₁₀ everywhere, 1e-9 in log₁₀ — down to 1e-993, far below the 1e-16 at which a
+/// probability computed as 1 − CDF loses all its digits.
+#[test]
+fn log_space_false_alarm_matches_astropy_and_a_50_digit_evaluation() {
+    let rows = reference_tables::read("baluev_fap.csv");
+    assert_eq!(rows.len(), 17);
+    let mut smallest_log10 = 0.0_f64;
+    for r in &rows {
+        let s = reference_series(reference_tables::f(r, "n") as usize);
+        let (z, fmax) = (reference_tables::f(r, "power"), reference_tables::f(r, "max_freq_per_day"));
+        let log10 = baluev_log10_fap(z, &s, fmax).unwrap();
+        let want_log10 = reference_tables::f(r, "log10_fap_mpmath");
+        assert!((log10 - want_log10).abs() < 1e-9, "z = {z}: log10 {log10} vs mpmath {want_log10}");
+        let astropy = reference_tables::f(r, "fap_astropy");
+        let fap = baluev_fap(z, &s, fmax).unwrap();
+        if astropy >= 1e-300 {
+            assert!((fap / astropy - 1.0).abs() < 1e-9, "z = {z}: {fap} vs astropy {astropy}");
+        } else {
+            assert_eq!(fap, 0.0, "below the f64 range the plain value underflows, as astropy's");
+        }
+        smallest_log10 = smallest_log10.min(log10);
+    }
+    assert!(smallest_log10 < -900.0);
+}
+
+/// The text form: plain digits while an f64 holds the value, a power of ten below.
+#[test]
+fn log_probabilities_print_without_a_floor() {
+    assert_eq!(format_log10_probability(-0.5), "0.316");
+    assert_eq!(format_log10_probability(-26.823_908_740_944_32), "1.50e-27");
+    assert_eq!(format_log10_probability(-412.34), "10^-412.3");
+    assert_eq!(format_log10_probability(f64::NEG_INFINITY), "0");
+    assert_eq!(format_log10_probability(f64::NAN), "n/a");
+    // A perfect fit (power 1) has probability 0; power 0 has probability 1.
+    let s = reference_series(50);
+    assert_eq!(baluev_log10_fap(1.0, &s, 5.0).unwrap(), f64::NEG_INFINITY);
+    assert_eq!(baluev_log10_fap(0.0, &s, 5.0).unwrap(), 0.0);
 }

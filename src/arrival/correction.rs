@@ -98,6 +98,37 @@ pub struct Corrected {
     pub observer_barycentric_km: Option<[f64; 3]>,
 }
 
+/// The smooth terms of one correction at a TT instant, in the order of
+/// [`NodeTerms::EINSTEIN`] … [`NodeTerms::POSITION`]: Einstein delay, Rømer delay, curvature,
+/// Shapiro (Sun), Shapiro (planets), the Sun's projection r_Sun·n̂/c (all s), and the
+/// observer's barycentric position x, y, z (km, ICRS axes).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NodeTerms {
+    /// The values, s and km (see the type's doc for the order).
+    pub values: [f64; NodeTerms::COUNT],
+    /// Whether Earth orientation came from a table at this instant.
+    pub earth_orientation_from_table: bool,
+}
+
+impl NodeTerms {
+    /// Number of tabulated values.
+    pub const COUNT: usize = 9;
+    /// Index of the Einstein delay TDB − TT at the observer, s.
+    pub const EINSTEIN: usize = 0;
+    /// Index of the Rømer delay, s.
+    pub const ROEMER: usize = 1;
+    /// Index of the wavefront-curvature term, s.
+    pub const CURVATURE: usize = 2;
+    /// Index of the Sun's Shapiro delay, s.
+    pub const SHAPIRO_SUN: usize = 3;
+    /// Index of the planets' Shapiro delay, s.
+    pub const SHAPIRO_PLANETS: usize = 4;
+    /// Index of r_Sun·n̂/c, s (the Rømer delay minus this is the heliocentric light time).
+    pub const SUN_PROJECTION: usize = 5;
+    /// Index of the first of the three position components, km.
+    pub const POSITION: usize = 6;
+}
+
 /// Why a time could not be corrected.
 #[derive(Debug, Error)]
 pub enum ArrivalError {
@@ -324,6 +355,33 @@ impl BarycentricCorrector {
             shapiro_sun_s,
             shapiro_planets_s,
             heliocentric_removed_s,
+        })
+    }
+
+    /// The smooth terms of the correction at TT instant `tt` for `observer` (ground site or
+    /// geocentre), as tabulated at the nodes of the table corrector
+    /// ([`super::interpolated::NodeGrid`]). Every value is computed exactly as
+    /// [`BarycentricCorrector::correct`] computes it for an arrival at `tt`.
+    pub fn node_terms(&self, tt: &Instant, observer: &Observer) -> Result<NodeTerms, ArrivalError> {
+        let clock = tt.relabel(TimeScale::Tt);
+        let (tdb, _, tt) = self.observer_tdb(&clock, observer)?;
+        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, &clock, observer)?;
+        let d = self.delays_at(&tdb, &r_obs, 0.0, tdb.seconds_since(&tt), 0.0)?;
+        let sun = self.ephemeris.state(Body::Sun, &tdb)?;
+        let sun_projection_s = roemer_delay_s(&sun.position_km, &self.source.direction_at(&tdb).unit);
+        Ok(NodeTerms {
+            values: [
+                d.einstein_s,
+                d.roemer_s,
+                d.curvature_s,
+                d.shapiro_sun_s,
+                d.shapiro_planets_s,
+                sun_projection_s,
+                r_obs[0],
+                r_obs[1],
+                r_obs[2],
+            ],
+            earth_orientation_from_table: from_table,
         })
     }
 

@@ -8,12 +8,18 @@ pub mod delays;
 pub mod events;
 pub mod interpolated;
 pub mod reference;
+pub mod row_batches;
 pub mod run;
 pub mod source;
 pub mod table;
 
 pub use conversion::{BarycentreEventsResult, ConvertTimeResult, ConvertedTime, convert_times};
-pub use correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, DelayOptions, ReferencePoint};
+pub use correction::{
+    ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, DelayOptions, NodeTerms, ReferencePoint,
+};
 pub use reference::{ReferenceData, ReferenceDataError, ReferenceNames};
-pub use run::{BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, observer_times};
+pub use row_batches::CorrectionPath;
+pub use run::{
+    BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, barycentre_table_along, observer_times,
+};
 pub use source::{CoordinateError, Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};

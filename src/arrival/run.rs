@@ -6,7 +6,8 @@ use std::collections::BTreeSet;
 use polars::prelude::DataFrame;
 
 use super::correction::ArrivalError;
-use super::table::{TableRequest, TableSummary, correct_table};
+use super::row_batches::CorrectionPath;
+use super::table::{TableRequest, TableSummary, correct_table_along};
 use super::{DelayOptions, ReferenceData, ReferenceNames, Source};
 use crate::observer::Observer;
 use crate::table::{TableError, text_column};
@@ -56,6 +57,8 @@ pub fn leap_second_note(summary: &TableSummary, reference: &ReferenceData) -> Op
 
 /// Corrects every row of `df` (read from `file`) to BJD_TDB towards `source`: the table
 /// with the added columns of [`super::table::ADDED_COLUMNS`], and the typed run summary.
+/// Dense rows go through interpolation nodes (≤ 1 ns from the exact correction; see
+/// [`barycentre_table_along`] to correct every row exactly).
 pub fn barycentre_table(
     df: &DataFrame,
     file: &str,
@@ -64,8 +67,21 @@ pub fn barycentre_table(
     source: &Source,
     delays: DelayOptions,
 ) -> Result<(DataFrame, BarycentreRun), TableError> {
+    barycentre_table_along(df, file, request, reference, source, delays, CorrectionPath::Automatic)
+}
+
+/// As [`barycentre_table`], choosing how the rows are corrected ([`CorrectionPath`]).
+pub fn barycentre_table_along(
+    df: &DataFrame,
+    file: &str,
+    request: &TableRequest,
+    reference: &ReferenceData,
+    source: &Source,
+    delays: DelayOptions,
+    path: CorrectionPath,
+) -> Result<(DataFrame, BarycentreRun), TableError> {
     let corrector = reference.corrector(source.clone(), delays);
-    let (out, correction) = correct_table(df, file, request, &corrector)?;
+    let (out, correction, _) = correct_table_along(df, file, request, &corrector, path)?;
     let clocks: BTreeSet<String> =
         text_column(&out, file, "input_clock")?.into_iter().flatten().map(|s| s.to_string()).collect();
     let notes = leap_second_note(&correction, reference).into_iter().collect();

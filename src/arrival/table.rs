@@ -8,7 +8,8 @@ use std::collections::BTreeMap;
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::correction::{BarycentricCorrector, Corrected, ReferencePoint};
+use super::correction::{BarycentricCorrector, ReferencePoint};
+use super::row_batches::{CorrectionPath, PreparedRows, RowObserver, RowTime};
 use crate::observer::{Observer, PositionOrigin, Site, SpacecraftPosition};
 use crate::table::{TableError, float_column, text_column};
 use crate::time::format::format_whole_and_fraction;
@@ -119,6 +120,10 @@ pub struct TableSummary {
     pub max_days_beyond_leap_second_horizon: i64,
     /// Rows at a site whose UT1 − UTC came from a table (the rest assumed UT1 = UTC).
     pub rows_with_earth_orientation_table: usize,
+    /// Rows corrected through interpolation nodes (≤ 1 ns from the exact correction); the
+    /// rest were corrected exactly, row by row.
+    #[serde(default)]
+    pub rows_interpolated: usize,
     /// Smallest and largest total correction, s.
     pub min_total_correction_s: f64,
     /// Largest total correction, s.
@@ -151,7 +156,8 @@ pub fn correct_table(
     request: &TableRequest,
     corrector: &BarycentricCorrector,
 ) -> Result<(DataFrame, TableSummary), TableError> {
-    correct_table_with_geometry(df, file, request, corrector).map(|(out, summary, _)| (out, summary))
+    correct_rows_of_table(df, file, request, corrector, CorrectionPath::Automatic, false)
+        .map(|(out, summary, _)| (out, summary))
 }
 
 /// The geometry of one corrected row: where the observer was and which direction the
@@ -174,13 +180,38 @@ pub fn correct_table_with_geometry(
     request: &TableRequest,
     corrector: &BarycentricCorrector,
 ) -> Result<(DataFrame, TableSummary, Vec<RowGeometry>), TableError> {
+    correct_rows_of_table(df, file, request, corrector, CorrectionPath::Automatic, true)
+}
+
+/// As [`correct_table_with_geometry`], choosing how rows are corrected: through the
+/// interpolation nodes of [`super::row_batches`] where they pay (the default of the other
+/// entry points; ≤ 1 ns from the exact correction, see [`super::interpolated`]), or every
+/// row exactly.
+pub fn correct_table_along(
+    df: &DataFrame,
+    file: &str,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+    path: CorrectionPath,
+) -> Result<(DataFrame, TableSummary, Vec<RowGeometry>), TableError> {
+    correct_rows_of_table(df, file, request, corrector, path, true)
+}
+
+fn correct_rows_of_table(
+    df: &DataFrame,
+    file: &str,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+    path: CorrectionPath,
+    want_geometry: bool,
+) -> Result<(DataFrame, TableSummary, Vec<RowGeometry>), TableError> {
     let n = df.height();
     let times = text_column(df, file, &request.time_column)?;
     let clock_labels = match &request.clock_column {
         Some(c) => Some(text_column(df, file, c)?),
         None => None,
     };
-    let observers = observers_per_row(df, file, &request.observer)?;
+    let (observers, row_observers) = observers_per_row(df, file, &request.observer)?;
     let cell = |row: usize, column: &str, message: String| TableError::Cell {
         file: file.to_string(),
         row: row + 1,
@@ -188,105 +219,110 @@ pub fn correct_table_with_geometry(
         message,
     };
     let leap = corrector.converter().leap_seconds();
-    let results: Vec<Result<(Corrected, ClockSpec, Instant), TableError>> = (0..n)
-        .into_par_iter()
-        .map(|i| {
-            let clock = match (&clock_labels, request.clock) {
-                (Some(labels), _) => {
-                    let col = request.clock_column.as_deref().unwrap_or("");
-                    let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
-                    ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
-                }
-                (None, Some(c)) => c,
-                (None, None) => {
-                    return Err(TableError::File {
-                        file: file.to_string(),
-                        message: "no clock given: name a clock for all rows or a clock column".into(),
-                    });
-                }
-            };
-            let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
-            let t = parse_time(text, clock.format, clock.scale, leap)
-                .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
-            let observer = observers.get(i).cloned().unwrap_or(Observer::Geocentre);
-            let corrected = corrector
-                .correct(&t, &observer, clock.reference)
-                .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
-            Ok((corrected, clock, t))
-        })
-        .collect();
-    let mut rows = Vec::with_capacity(n);
-    for r in results {
-        rows.push(r?);
-    }
-    let geometry: Vec<RowGeometry> = rows
-        .iter()
-        .map(|(c, _, _)| RowGeometry {
-            observer_barycentric_km: c.observer_barycentric_km,
-            source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
-        })
-        .collect();
+    let parse = |i: usize| -> Result<(RowTime, ClockSpec), TableError> {
+        let clock = match (&clock_labels, request.clock) {
+            (Some(labels), _) => {
+                let col = request.clock_column.as_deref().unwrap_or("");
+                let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
+                ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
+            }
+            (None, Some(c)) => c,
+            (None, None) => {
+                return Err(TableError::File {
+                    file: file.to_string(),
+                    message: "no clock given: name a clock for all rows or a clock column".into(),
+                });
+            }
+        };
+        let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
+        let time = parse_time(text, clock.format, clock.scale, leap)
+            .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
+        let observer = row_observers.get(i).copied().unwrap_or(RowObserver::Fixed(0));
+        Ok((RowTime { time, reference: clock.reference, observer }, clock))
+    };
+    let parsed: Vec<Option<(RowTime, ClockSpec)>> = (0..n).into_par_iter().map(|i| parse(i).ok()).collect();
+    // Rows before the first unreadable one are corrected, so that the first bad row of
+    // either kind is the one reported.
+    let readable = parsed.iter().position(Option::is_none).unwrap_or(n);
+    let unreadable = (readable < n).then(|| parse(readable).err()).flatten();
+    drop(times);
+    drop(clock_labels);
+    let (inputs, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
+    let prepared = PreparedRows::new(corrector, &observers, &inputs, path);
     let mut summary = TableSummary {
         rows: n,
         min_total_correction_s: f64::INFINITY,
         max_total_correction_s: f64::NEG_INFINITY,
         ..Default::default()
     };
+    let mut geometry = Vec::with_capacity(if want_geometry { n } else { 0 });
     let mut cols: Vec<Vec<f64>> = (0..10).map(|_| Vec::with_capacity(n)).collect();
-    let mut bjd_text = Vec::with_capacity(n);
-    let mut obs_text = Vec::with_capacity(n);
-    let mut clock_text = Vec::with_capacity(n);
-    for (c, clock, input) in &rows {
-        if input.scale() == TimeScale::Utc
-            && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
-        {
-            summary.rows_beyond_leap_second_horizon += 1;
-            summary.max_days_beyond_leap_second_horizon = summary.max_days_beyond_leap_second_horizon.max(days);
-        }
-        if c.earth_orientation_from_table {
-            summary.rows_with_earth_orientation_table += 1;
-        }
-        let d = &c.delays;
-        let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
-        summary.min_total_correction_s = summary.min_total_correction_s.min(total);
-        summary.max_total_correction_s = summary.max_total_correction_s.max(total);
-        let (jd1, jd2) = c.bjd_tdb.jd_two_part();
-        bjd_text.push(jd_text(&c.bjd_tdb));
-        obs_text.push(jd_text(&c.observer_tdb));
-        clock_text.push(format!(
-            "{}_{}",
-            match (clock.reference, clock.format) {
-                (ReferencePoint::Heliocentric, TimeFormat::Mjd) => "hmjd",
-                (ReferencePoint::Heliocentric, _) => "hjd",
-                (ReferencePoint::Barycentric, TimeFormat::Mjd) => "bmjd",
-                (ReferencePoint::Barycentric, _) => "bjd",
-                (_, f) => match f {
-                    TimeFormat::Jd => "jd",
-                    TimeFormat::Mjd => "mjd",
-                    TimeFormat::ReducedJd => "rjd",
-                    TimeFormat::Iso => "iso",
-                },
-            },
-            clock.scale.name()
-        ));
-        for (k, v) in [
-            jd1,
-            jd2,
-            d.clock_to_tt_s,
-            d.einstein_s,
-            d.roemer_s,
-            d.curvature_s,
-            d.shapiro_sun_s,
-            d.shapiro_planets_s,
-            d.heliocentric_removed_s,
-            total,
-        ]
-        .into_iter()
-        .enumerate()
-        {
-            cols[k].push(v);
+    let mut bjd_text = StringChunkedBuilder::new("bjd_tdb".into(), n);
+    let mut obs_text = StringChunkedBuilder::new("observer_tdb".into(), n);
+    let mut clock_text = StringChunkedBuilder::new("input_clock".into(), n);
+    let mut labels: Vec<(ClockSpec, String)> = Vec::new();
+    let mut buffer = String::with_capacity(32);
+    // Results are held one block at a time; the output columns grow block by block.
+    const BLOCK_ROWS: usize = 1 << 16;
+    for block in (0..readable).step_by(BLOCK_ROWS) {
+        let results = prepared.correct_range(block..(block + BLOCK_ROWS).min(readable));
+        for (k, (result, fast)) in results.into_iter().enumerate() {
+            let i = block + k;
+            let c = result.map_err(|e| cell(i, &request.time_column, e.to_string()))?;
+            let (clock, input) = (&clocks[i], &inputs[i].time);
+            summary.rows_interpolated += usize::from(fast);
+            if want_geometry {
+                geometry.push(RowGeometry {
+                    observer_barycentric_km: c.observer_barycentric_km,
+                    source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
+                });
+            }
+            if input.scale() == TimeScale::Utc
+                && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
+            {
+                summary.rows_beyond_leap_second_horizon += 1;
+                summary.max_days_beyond_leap_second_horizon = summary.max_days_beyond_leap_second_horizon.max(days);
+            }
+            if c.earth_orientation_from_table {
+                summary.rows_with_earth_orientation_table += 1;
+            }
+            let d = &c.delays;
+            let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
+            summary.min_total_correction_s = summary.min_total_correction_s.min(total);
+            summary.max_total_correction_s = summary.max_total_correction_s.max(total);
+            let (jd1, jd2) = c.bjd_tdb.jd_two_part();
+            write_jd_text(&mut buffer, &c.bjd_tdb);
+            bjd_text.append_value(&buffer);
+            write_jd_text(&mut buffer, &c.observer_tdb);
+            obs_text.append_value(&buffer);
+            let label = match labels.iter().position(|(k, _)| k == clock) {
+                Some(j) => &labels[j].1,
+                None => {
+                    labels.push((*clock, clock_label(clock)));
+                    &labels[labels.len() - 1].1
+                }
+            };
+            clock_text.append_value(label);
+            for (col, v) in cols.iter_mut().zip([
+                jd1,
+                jd2,
+                d.clock_to_tt_s,
+                d.einstein_s,
+                d.roemer_s,
+                d.curvature_s,
+                d.shapiro_sun_s,
+                d.shapiro_planets_s,
+                d.heliocentric_removed_s,
+                total,
+            ]) {
+                col.push(v);
+            }
         }
     }
+    if let Some(e) = unreadable {
+        return Err(e);
+    }
+    drop(prepared);
     let mut out = df.clone();
     let mut add = |name: &str, column: Column| -> Result<(), TableError> {
         if out.get_column_names().iter().any(|c| c.as_str() == name) {
@@ -299,15 +335,15 @@ pub fn correct_table_with_geometry(
             .map(|_| ())
             .map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
     };
-    add("bjd_tdb", Column::new("bjd_tdb".into(), bjd_text))?;
+    add("bjd_tdb", bjd_text.finish().into_column())?;
     for (k, name) in ADDED_COLUMNS[1..3].iter().enumerate() {
         add(name, Column::new((*name).into(), std::mem::take(&mut cols[k])))?;
     }
-    add("observer_tdb", Column::new("observer_tdb".into(), obs_text))?;
+    add("observer_tdb", obs_text.finish().into_column())?;
     for (k, name) in ADDED_COLUMNS[4..12].iter().enumerate() {
         add(name, Column::new((*name).into(), std::mem::take(&mut cols[k + 2])))?;
     }
-    add("input_clock", Column::new("input_clock".into(), clock_text))?;
+    add("input_clock", clock_text.finish().into_column())?;
     if n == 0 {
         summary.min_total_correction_s = 0.0;
         summary.max_total_correction_s = 0.0;
@@ -315,52 +351,82 @@ pub fn correct_table_with_geometry(
     Ok((out, summary, geometry))
 }
 
-/// JD text with 14 decimals (~1 ns).
-fn jd_text(t: &Instant) -> String {
+/// The clock label of a row (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).
+fn clock_label(clock: &ClockSpec) -> String {
+    let kind = match (clock.reference, clock.format) {
+        (ReferencePoint::Heliocentric, TimeFormat::Mjd) => "hmjd",
+        (ReferencePoint::Heliocentric, _) => "hjd",
+        (ReferencePoint::Barycentric, TimeFormat::Mjd) => "bmjd",
+        (ReferencePoint::Barycentric, _) => "bjd",
+        (_, f) => match f {
+            TimeFormat::Jd => "jd",
+            TimeFormat::Mjd => "mjd",
+            TimeFormat::ReducedJd => "rjd",
+            TimeFormat::Iso => "iso",
+        },
+    };
+    format!("{kind}_{}", clock.scale.name())
+}
+
+/// JD text with 14 decimals (~1 ns), written into `buffer` (cleared first).
+fn write_jd_text(buffer: &mut String, t: &Instant) {
     let (a, b) = t.jd_two_part();
     // a is half-integral: write from integer JD at noon plus fraction.
-    let whole = (a + 0.5) as i64 - 1;
+    let mut whole = (a + 0.5) as i64 - 1;
     let mut frac = b + 0.5;
-    let mut whole = whole;
     if frac >= 1.0 {
         frac -= 1.0;
         whole += 1;
     }
-    format_whole_and_fraction(whole, frac, 14)
+    buffer.clear();
+    buffer.push_str(&format_whole_and_fraction(whole, frac, 14));
 }
 
-fn observers_per_row(df: &DataFrame, file: &str, spec: &ObserverSpec) -> Result<Vec<Observer>, TableError> {
+/// The distinct fixed observers (the geocentre first) and each row's observer.
+fn observers_per_row(
+    df: &DataFrame,
+    file: &str,
+    spec: &ObserverSpec,
+) -> Result<(Vec<Observer>, Vec<RowObserver>), TableError> {
     let n = df.height();
     Ok(match spec {
-        ObserverSpec::Geocentre => vec![Observer::Geocentre; n],
-        ObserverSpec::Site(s) => vec![Observer::Site(s.clone()); n],
+        ObserverSpec::Geocentre => (vec![Observer::Geocentre], vec![RowObserver::Fixed(0); n]),
+        ObserverSpec::Site(s) => (vec![Observer::Geocentre, Observer::Site(s.clone())], vec![RowObserver::Fixed(1); n]),
         ObserverSpec::SiteColumn { column, sites } => {
             let names = text_column(df, file, column)?;
             let known = sites.keys().cloned().collect::<Vec<_>>().join(", ");
-            names
+            let mut observers = vec![Observer::Geocentre];
+            observers.extend(sites.values().cloned().map(Observer::Site));
+            let rows = names
                 .into_iter()
                 .enumerate()
                 .map(|(i, name)| {
                     let name = name.unwrap_or_default();
                     if name.eq_ignore_ascii_case("geocentre") || name.eq_ignore_ascii_case("geocenter") {
-                        return Ok(Observer::Geocentre);
+                        return Ok(RowObserver::Fixed(0));
                     }
-                    sites.get(&name).cloned().map(Observer::Site).ok_or_else(|| TableError::Cell {
-                        file: file.to_string(),
-                        row: i + 1,
-                        column: column.clone(),
-                        message: format!("unknown site '{name}'; described sites: {known} (or 'geocentre')"),
+                    sites.keys().position(|k| *k == name).map(|k| RowObserver::Fixed(k + 1)).ok_or_else(|| {
+                        TableError::Cell {
+                            file: file.to_string(),
+                            row: i + 1,
+                            column: column.clone(),
+                            message: format!("unknown site '{name}'; described sites: {known} (or 'geocentre')"),
+                        }
                     })
                 })
-                .collect::<Result<_, _>>()?
+                .collect::<Result<_, _>>()?;
+            (observers, rows)
         }
         ObserverSpec::Spacecraft { columns, origin } => {
             let x = float_column(df, file, &columns[0])?;
             let y = float_column(df, file, &columns[1])?;
             let z = float_column(df, file, &columns[2])?;
-            (0..n)
-                .map(|i| Observer::Spacecraft(SpacecraftPosition { position_km: [x[i], y[i], z[i]], origin: *origin }))
-                .collect()
+            let rows = (0..n)
+                .map(|i| {
+                    RowObserver::Spacecraft(SpacecraftPosition { position_km: [x[i], y[i], z[i]], origin: *origin })
+                })
+                .collect();
+            (vec![Observer::Geocentre], rows)
         }
     })
 }

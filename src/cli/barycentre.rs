@@ -6,9 +6,8 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs, write_text};
-use skyclock::arrival::DelayOptions;
-use skyclock::arrival::barycentre_table;
 use skyclock::arrival::table::TableRequest;
+use skyclock::arrival::{CorrectionPath, DelayOptions, barycentre_table_along};
 use skyclock::table::{Provenance, Summary, read_table, write_table};
 
 const EXAMPLE: &str = "Example:
@@ -50,6 +49,10 @@ pub struct Args {
     /// Add the Shapiro delays of Jupiter and Saturn.
     #[arg(long)]
     pub with_planet_shapiro: bool,
+    /// Correct every row on its own instead of interpolating dense rows between exactly
+    /// corrected nodes (the two agree to ≤ 1 ns; this is slower, for audits).
+    #[arg(long)]
+    pub exact_per_row: bool,
     /// Output table (.csv, .tsv or .parquet); a CSV gets a .provenance.json beside it.
     #[arg(long, value_name = "FILE")]
     pub output: PathBuf,
@@ -77,7 +80,8 @@ pub fn run(a: Args) -> Result<()> {
         TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
     let file = a.input.display().to_string();
     let df = read_table(&a.input, &request.text_columns())?;
-    let (mut out, result) = barycentre_table(&df, &file, &request, &reference, &source, delays)?;
+    let path = if a.exact_per_row { CorrectionPath::ExactEveryRow } else { CorrectionPath::Automatic };
+    let (mut out, result) = barycentre_table_along(&df, &file, &request, &reference, &source, delays, path)?;
     let names = &result.reference;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "barycentre")
@@ -100,13 +104,16 @@ pub fn run(a: Args) -> Result<()> {
     } else if !a.quiet {
         let r = &summary.result;
         println!(
-            "corrected {} rows to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}",
+            "corrected {} rows to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}\n  \
+             {} rows interpolated between exactly corrected nodes (≤ 1 ns from the exact correction), {} corrected one by one",
             r.correction.rows,
             source.name,
             a.output.display(),
             r.correction.min_total_correction_s,
             r.correction.max_total_correction_s,
-            r.reference.ephemeris
+            r.reference.ephemeris,
+            r.correction.rows_interpolated,
+            r.correction.rows - r.correction.rows_interpolated,
         );
     }
     Ok(())
