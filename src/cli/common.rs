@@ -293,37 +293,6 @@ pub fn progress_bar(total: u64, message: &str, quiet: bool) -> indicatif::Progre
     pb
 }
 
-/// Event kind and 1σ error (days) of every row of a timing table: kinds from `kind_column`
-/// (primary, secondary, maximum; all primary without one), errors finite and > 0. Errors
-/// name the file, row and column.
-pub fn timing_kinds_and_errors(
-    df: &polars::prelude::DataFrame,
-    file: &str,
-    error_column: &str,
-    kind_column: Option<&str>,
-) -> Result<Vec<(skyclock::oc::EventKind, f64)>> {
-    use skyclock::oc::EventKind;
-    let errors = skyclock::table::float_column(df, file, error_column)?;
-    let kinds = kind_column.map(|c| skyclock::table::text_column(df, file, c)).transpose()?;
-    (0..df.height())
-        .map(|i| {
-            let kind = match &kinds {
-                None => EventKind::Primary,
-                Some(k) => {
-                    let text = k[i].as_deref().unwrap_or("");
-                    EventKind::parse(text).with_context(|| {
-                        format!("{file}, row {}, column '{}': event kind '{text}' is not one of primary, secondary, maximum", i + 1, kind_column.unwrap_or(""))
-                    })?
-                }
-            };
-            if !(errors[i].is_finite() && errors[i] > 0.0) {
-                bail!("{file}, row {}, column '{error_column}': error {} d must be finite and > 0", i + 1, errors[i]);
-            }
-            Ok((kind, errors[i]))
-        })
-        .collect()
-}
-
 /// How the values of a light curve are written (`--brightness`, one meaning in every command).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum BrightnessArg {

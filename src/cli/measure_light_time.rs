@@ -73,7 +73,7 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
-    let table = a.table.read("jd_utc", &[])?;
+    let table = a.table.read("jd_utc", None)?;
     if let Some(spec) = &table.clock
         && spec.reference != ReferencePoint::Observer
     {

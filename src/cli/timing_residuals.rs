@@ -2,20 +2,18 @@
 //! observed-minus-computed values against a reference ephemeris → fitted ephemeris models
 //! with covariance and bootstrap uncertainties, and a verdict on which model the data need.
 
-use skyclock::constants::SECONDS_PER_DAY;
 use std::path::PathBuf;
 
 use anyhow::{Context, Result, bail};
 use clap::Args as ClapArgs;
-use polars::prelude::{Column, DataFrame};
 
 use super::timing_table::TimingTableArgs;
 use skyclock::oc::{
     AnalysisOptions, BootstrapOptions, CycleOptions, FitOptions, LIGHT_TIME_CAUTION, ModelKind, ReferenceEphemeris,
-    Timing, analyse, information,
+    analyse, information,
 };
-use skyclock::table::{Provenance, Summary, float_column, text_column, write_table};
-use skyclock::time::{TimeFormat, TimeScale, format_time, parse_time};
+use skyclock::table::{Provenance, Summary, write_table};
+use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 const EXAMPLE: &str = "Example (invented star):
   skyclock timing-residuals --input minima.csv --time-column time --clock hjd_utc \\
@@ -127,27 +125,9 @@ pub fn run(a: Args) -> Result<()> {
             Some((v[0], v[1]))
         }
     };
-    let extra: Vec<&str> = a.origin_column.as_deref().into_iter().collect();
-    let table = a.table.read("hjd_utc", &extra)?;
-    let (file, df, source, reference) = (&table.file, &table.df, &table.source, &table.reference);
-    let jd1 = float_column(&table.corrected, file, "bjd_tdb_jd1")?;
-    let jd2 = float_column(&table.corrected, file, "bjd_tdb_jd2")?;
-    let rows = &table.rows;
-    let origins = match &a.origin_column {
-        Some(c) => Some(text_column(df, file, c)?),
-        None => None,
-    };
-    let timings: Vec<Timing> = rows
-        .iter()
-        .enumerate()
-        .map(|(i, &(kind, error_d))| Timing {
-            bjd_tdb: skyclock::time::Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]),
-            error_d,
-            kind,
-            source: origins.as_ref().and_then(|o| o[i].clone()),
-            row: i + 1,
-        })
-        .collect();
+    let table = a.table.read("hjd_utc", a.origin_column.as_deref())?;
+    let (file, source, reference) = (&table.file, &table.source, &table.reference);
+    let timings = table.read.timings.clone();
     let epoch = parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds())
         .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
     let eph = ReferenceEphemeris { epoch, period_d: a.period_d, period_sigma_d: a.period_sigma_d };
@@ -196,36 +176,7 @@ pub fn run(a: Args) -> Result<()> {
     let analysis = analysis.map_err(|e| anyhow::anyhow!("{file}: {e}"))?;
     let series = analysis.series.as_ref().context("the analysis kept no O–C series")?;
     let fits = &analysis.fits;
-    // The O–C table.
-    let mut columns = vec![
-        Column::new("row".into(), series.row.iter().map(|&r| r as u64).collect::<Vec<_>>()),
-        Column::new(
-            "bjd_tdb".into(),
-            series
-                .time_d
-                .iter()
-                .map(|&t| format_time(&epoch.add_seconds(t * SECONDS_PER_DAY), TimeFormat::Jd))
-                .collect::<Vec<_>>(),
-        ),
-        Column::new("cycle".into(), series.cycle.clone()),
-        Column::new("kind".into(), series.kind.iter().map(|k| k.name().to_string()).collect::<Vec<_>>()),
-        Column::new(
-            "source".into(),
-            series.source_index.iter().map(|&s| series.sources[s].clone()).collect::<Vec<_>>(),
-        ),
-        Column::new("error_d".into(), series.error_d.clone()),
-        Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
-    ];
-    for f in fits {
-        let name = f.kind.name().replace(['+', '-'], "_");
-        let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
-        let sigma: Vec<f64> = (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
-        let resid: Vec<f64> = series.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect();
-        columns.push(Column::new(format!("model_{name}_d").into(), model));
-        columns.push(Column::new(format!("model_sigma_{name}_d").into(), sigma));
-        columns.push(Column::new(format!("residual_{name}_d").into(), resid));
-    }
-    let mut out = DataFrame::new(series.len(), columns).context("building the output table")?;
+    let mut out = analysis.table().context("building the output table")?;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "timing-residuals")
         .with("input", file.clone())
@@ -234,16 +185,9 @@ pub fn run(a: Args) -> Result<()> {
         .with("reference_period_d", a.period_d.to_string());
     write_table(&mut out, &a.output, &provenance, &[a.table.input.as_path()])?;
     let title = format!("O − C of {}", source.name);
-    // The time at the observer of each row, for the UTC shown on hover in the report.
-    let observer_tdb: Vec<Option<skyclock::time::Instant>> = text_column(&table.corrected, file, "observer_tdb")?
-        .iter()
-        .map(|t| {
-            t.as_deref()
-                .and_then(|t| parse_time(t, TimeFormat::Jd, TimeScale::Tdb, reference.converter.leap_seconds()).ok())
-        })
-        .collect();
+    let observer_tdb = &table.read.observer_tdb;
     let hover =
-        skyclock::plot::timing::HoverTimes { converter: &reference.converter, observer_tdb: Some(&observer_tdb) };
+        skyclock::plot::timing::HoverTimes { converter: &reference.converter, observer_tdb: Some(observer_tdb) };
     if let Some(path) = &a.figure {
         skyclock::table::write::refuse_overwriting_inputs(path, &[a.table.input.as_path()])?;
         let best = analysis.best_by_bic(false).context("no model was fitted")?;

@@ -8,13 +8,11 @@ use anyhow::Result;
 use clap::Args as ClapArgs;
 use polars::prelude::DataFrame;
 
-use super::common::{
-    ObserverArgs, ReferenceData, ReferenceDataArgs, SourceArgs, clock_choice, timing_kinds_and_errors,
-};
-use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferencePoint, Source};
+use super::common::{ObserverArgs, ReferenceData, ReferenceDataArgs, SourceArgs, clock_choice};
+use skyclock::arrival::table::ClockSpec;
+use skyclock::arrival::{ReferencePoint, Source};
 use skyclock::oc::EventKind;
-use skyclock::table::read_table;
+use skyclock::oc::input::{TimingTableSource, read_timing_table};
 use skyclock::time::TimeScale;
 
 /// A table of event timings and how to read it.
@@ -62,50 +60,55 @@ pub struct TimingTable {
     pub reference: ReferenceData,
     /// Kind and 1σ error (days) of every row.
     pub rows: Vec<(EventKind, f64)>,
+    /// The library's reading: timings (BJD_TDB, kind, error, origin, row) and observer times.
+    pub read: skyclock::oc::input::TimingTable,
 }
 
 impl TimingTableArgs {
-    /// Reads the table (times, clock labels, kinds and `extra_text_columns` as text), carries
+    /// Reads the table (times, clock labels, kinds and the origin column as text), carries
     /// every row to BJD_TDB and checks kinds and errors. `example_clock` is the clock the
     /// message suggests when neither `--clock` nor `--clock-column` is given.
-    pub fn read(&self, example_clock: &str, extra_text_columns: &[&str]) -> Result<TimingTable> {
+    pub fn read(&self, example_clock: &str, origin_column: Option<&str>) -> Result<TimingTable> {
         let clock = clock_choice(&self.clock, &self.clock_column, example_clock)?;
         let description = self.observer.description()?;
-        // Times already in BJD_TDB need no source: no delay is applied to them, so a
-        // placeholder direction stands in when none is given.
+        // Times already in BJD_TDB need no source: no delay is applied to them.
         let barycentric_tdb = self.clock_column.is_none()
             && clock.is_some_and(|c| c.reference == ReferencePoint::Barycentric && c.scale == TimeScale::Tdb);
         let no_position_given =
             self.source.source_file.is_none() && self.source.ra.is_none() && self.source.dec.is_none();
         let source = match self.source.load(description.as_ref()) {
-            Ok(s) => s,
-            Err(_) if barycentric_tdb && no_position_given => {
-                Source::fixed_degrees("target", 0.0, 0.0).map_err(anyhow::Error::msg)?
-            }
+            Ok(s) => Some(s),
+            Err(_) if barycentric_tdb && no_position_given => None,
             Err(e) => return Err(e),
         };
         let observer = self.observer.observer_spec(description.as_ref())?;
         let reference = self.reference_data.load()?;
-        let corrector = BarycentricCorrector::new(
-            reference.ephemeris.clone(),
-            reference.converter.clone(),
-            reference.orientation.clone(),
-            source.clone(),
-            DelayOptions::default(),
-        );
-        let file = self.input.display().to_string();
-        let request = TableRequest {
+        let request = TimingTableSource {
+            path: &self.input,
             time_column: self.time_column.clone(),
             clock,
             clock_column: self.clock_column.clone(),
+            error_column: self.error_column.clone(),
+            kind_column: self.kind_column.clone(),
+            origin_column: origin_column.map(str::to_string),
             observer,
+            source: source.clone(),
         };
-        let mut text_columns = request.text_columns();
-        text_columns.extend(self.kind_column.as_deref());
-        text_columns.extend(extra_text_columns);
-        let df = read_table(&self.input, &text_columns)?;
-        let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
-        let rows = timing_kinds_and_errors(&df, &file, &self.error_column, self.kind_column.as_deref())?;
-        Ok(TimingTable { file, df, corrected, clock, source, reference, rows })
+        let read = read_timing_table(&request, &reference)?;
+        let source = match source {
+            Some(s) => s,
+            None => Source::fixed_degrees("target", 0.0, 0.0).map_err(anyhow::Error::msg)?,
+        };
+        let rows = read.timings.iter().map(|t| (t.kind, t.error_d)).collect();
+        Ok(TimingTable {
+            file: read.file.clone(),
+            df: read.table.clone(),
+            corrected: read.corrected.clone(),
+            clock,
+            source,
+            reference,
+            rows,
+            read,
+        })
     }
 }

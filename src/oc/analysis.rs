@@ -124,6 +124,50 @@ impl OcAnalysis {
     }
 }
 
+impl OcAnalysis {
+    /// The O–C table, one row per timing: row (input, 1-based), bjd_tdb (text, 14 decimals),
+    /// cycle, kind, source, error_d, observed_minus_computed_d, then per fitted model
+    /// (`+` and `-` in its name written `_`) model_<name>_d, model_sigma_<name>_d and
+    /// residual_<name>_d, all in days. Empty when the analysis kept no series.
+    pub fn table(&self) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
+        use crate::constants::SECONDS_PER_DAY;
+        use crate::time::{TimeFormat, format_time};
+        use polars::prelude::{Column, DataFrame};
+        let Some(series) = self.series.as_ref() else { return Ok(DataFrame::empty()) };
+        let epoch = series.reference.epoch;
+        let mut columns = vec![
+            Column::new("row".into(), series.row.iter().map(|&r| r as u64).collect::<Vec<_>>()),
+            Column::new(
+                "bjd_tdb".into(),
+                series
+                    .time_d
+                    .iter()
+                    .map(|&t| format_time(&epoch.add_seconds(t * SECONDS_PER_DAY), TimeFormat::Jd))
+                    .collect::<Vec<_>>(),
+            ),
+            Column::new("cycle".into(), series.cycle.clone()),
+            Column::new("kind".into(), series.kind.iter().map(|k| k.name().to_string()).collect::<Vec<_>>()),
+            Column::new(
+                "source".into(),
+                series.source_index.iter().map(|&s| series.sources[s].clone()).collect::<Vec<_>>(),
+            ),
+            Column::new("error_d".into(), series.error_d.clone()),
+            Column::new("observed_minus_computed_d".into(), series.oc_d.clone()),
+        ];
+        for f in &self.fits {
+            let name = f.kind.name().replace(['+', '-'], "_");
+            let model: Vec<f64> = (0..series.len()).map(|i| f.model_oc_d(series.cycle[i], series.time_d[i])).collect();
+            let sigma: Vec<f64> =
+                (0..series.len()).map(|i| f.model_sigma_d(series.cycle[i], series.time_d[i])).collect();
+            let resid: Vec<f64> = series.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect();
+            columns.push(Column::new(format!("model_{name}_d").into(), model));
+            columns.push(Column::new(format!("model_sigma_{name}_d").into(), sigma));
+            columns.push(Column::new(format!("residual_{name}_d").into(), resid));
+        }
+        DataFrame::new(series.len(), columns)
+    }
+}
+
 /// The caution stated with every light-time companion fit: its intervals were calibrated on
 /// synthetic sets with ~2.6 companion orbits inside the baseline (tests/timing_recovery.rs).
 pub const LIGHT_TIME_CAUTION: &str = "caution: a light-time companion fit is the best local minimum of a grid search; \

@@ -16,6 +16,7 @@ pub mod compare;
 pub mod cycles;
 pub mod ephemeris;
 pub mod fitting;
+pub mod input;
 pub mod light_time_method;
 pub mod models;
 pub mod orbit;
