@@ -223,7 +223,6 @@ fn hjd_tdb_at_a_site_is_repaired_to_astropy_bjd() {
     assert!(worst <= 300e-9, "HJD_TDB at a site → BJD_TDB: worst {worst} s");
 }
 
-
 #[test]
 #[ignore = "reason: bug — the inverse to a TDB clock at a ground site omits the topocentric dtdb term (2.1 µs); reported"]
 fn inverse_to_a_tdb_clock_at_a_site_matches_astropy() {

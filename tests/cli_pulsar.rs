@@ -2,10 +2,18 @@
 
 use std::process::Command;
 
+/// The invented pulsar spins at exactly 2 Hz; the start model is 3e-7 Hz away from that
+/// (0.14 turns of drift over the 5.5-day span, so the phase connection stays unambiguous),
+/// so a fit that returns its start value fails the 1e-9 Hz check below.
+const TRUE_FREQ_HZ: f64 = 2.0;
+const START_FREQ_HZ: f64 = 2.000_000_3;
+
 fn setup(dir: &std::path::Path, zero_error_row: Option<usize>) {
     std::fs::write(
         dir.join("m.toml"),
-        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.0\nfit = [\"freq_hz\"]\n",
+        format!(
+            "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = {START_FREQ_HZ}\nfit = [\"freq_hz\"]\n"
+        ),
     )
     .unwrap();
     let mut s = String::from("time,error_us,freq_mhz,instrument\n");
@@ -51,8 +59,13 @@ fn fits_and_writes_outputs_and_names_bad_cells() {
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     let f = json["fit"]["values"][1].as_f64().unwrap();
-    assert!((f - 2.0).abs() < 1e-9, "{f}");
-    assert!(std::fs::read_to_string(dir.join("out.toml")).unwrap().contains("freq_hz"));
+    // Truth: the invented 2 Hz spin the arrival times were made from (whole turns). The fit
+    // starts 3e-7 Hz away; catches a fit that does not move (off by 3e-7), a step of the
+    // wrong sign (6e-7) or a wrong phase derivative (a fraction of 3e-7 left).
+    assert!((f - TRUE_FREQ_HZ).abs() < 1e-9, "fitted {f} Hz from a start at {START_FREQ_HZ} Hz");
+    let written = std::fs::read_to_string(dir.join("out.toml")).unwrap();
+    let model = skyclock::pulsar::model::TimingModel::from_toml(&written, "out.toml").unwrap();
+    assert!((model.freq_hz - TRUE_FREQ_HZ).abs() < 1e-9, "written model keeps {} Hz", model.freq_hz);
     setup(&dir, Some(3));
     let out = run(&dir);
     assert_eq!(out.status.code(), Some(1));

@@ -654,7 +654,8 @@ fn kvw_reference_events() -> Vec<(Vec<f64>, Vec<f64>, std::collections::HashMap<
     reference[1..]
         .iter()
         .map(|row| {
-            let info: std::collections::HashMap<String, String> = header.iter().cloned().zip(row.iter().cloned()).collect();
+            let info: std::collections::HashMap<String, String> =
+                header.iter().cloned().zip(row.iter().cloned()).collect();
             let event = &info["event"];
             let (t, v): (Vec<f64>, Vec<f64>) = points[1..]
                 .iter()
@@ -681,7 +682,12 @@ fn kwee_van_woerden_matches_an_independent_implementation_of_the_paper() {
         let r = kwee_van_woerden(t, v).expect("timed");
         let label = &info["event"];
         assert!((r.centre_d - num("centre_d")).abs() < 1e-9, "event {label}: {} vs {}", r.centre_d, num("centre_d"));
-        assert!((r.error_d / num("error_d") - 1.0).abs() < 1e-6, "event {label}: error {} vs {}", r.error_d, num("error_d"));
+        assert!(
+            (r.error_d / num("error_d") - 1.0).abs() < 1e-6,
+            "event {label}: error {} vs {}",
+            r.error_d,
+            num("error_d")
+        );
         assert!((r.error_d / num("error_z_half_d") - 1.0).abs() > 0.25, "event {label}: Z = N/2 not told apart");
         assert_eq!(r.pairs, info["pairs"].parse::<usize>().unwrap(), "event {label}: pairs");
         assert_eq!(r.observations_used, info["observations_used"].parse::<usize>().unwrap(), "event {label}: N");
