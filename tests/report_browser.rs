@@ -6,8 +6,11 @@
 //! folder, never in git). All data are invented. The two detectors are first shown to
 //! fire on pages that deliberately fail, so a silent browser cannot pass the test.
 //!
-//! When neither `chromium` nor `chromium-browser` is on PATH the test prints
-//! "SKIPPED: chromium not installed" and passes.
+//! When neither `chromium` nor `chromium-browser` is on PATH the test prints a "SKIPPED:"
+//! line on stderr and passes — except under `CI=true` (`.ci/run`), where it fails.
+
+#[path = "common/prerequisite.rs"]
+mod prerequisite;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
@@ -222,7 +225,10 @@ fn report_renders_in_headless_chromium() {
     }
 
     let Some(browser) = find_chromium() else {
-        println!("SKIPPED: chromium not installed (the report was written to {} but not opened)", page.display());
+        prerequisite::missing(
+            &format!("chromium (the report was written to {} but not opened)", page.display()),
+            "apt-get install chromium",
+        );
         return;
     };
 
