@@ -20,10 +20,11 @@ Library versions (pinned in tests/reference/requirements.txt): numpy 2.4.6, astr
 
 All light curves are invented (seeded); times in days.
 
-    python tests/reference/search_methods/generate_search_methods.py > tests/reference/search_methods/search_methods.json
+    python tests/reference/search_methods/generate_search_methods.py   (writes search_methods.json here)
 """
 import json
 import math
+import os
 import sys
 
 import numpy as np
@@ -125,7 +126,9 @@ out = {
         "astropy_best_log_likelihood": float(res.log_likelihood[i]),
     },
 }
-json.dump(out, sys.stdout, indent=0)
-sys.stdout.write("\n")
+path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "search_methods.json")
+with open(path, "w") as fh:
+    json.dump(out, fh, indent=0)
+    fh.write("\n")
 print(f"box: astropy best period {res.period[i]:.5f} d, depth {res.depth[i]:.5f} ± {res.depth_err[i]:.5f}, "
       f"duration {res.duration[i]}, log L {res.log_likelihood[i]:.2f}", file=sys.stderr)
