@@ -642,7 +642,10 @@ fn symmetric_fits_match_scipy_curve_fit() {
 /// by generate_kwee_van_woerden.py — an independent numpy 2.4.6 implementation written from
 /// Kwee & van Woerden (1956, BAN 12, 327; procedure from memory) on 30 invented minima
 /// (12–150 points, Gaussian and flat-bottomed dips, uneven sampling, seeded noise).
-fn kvw_reference_events() -> Vec<(Vec<f64>, Vec<f64>, std::collections::HashMap<String, String>)> {
+/// One reference event: times, magnitudes and the generator's row (column → text).
+type ReferenceEvent = (Vec<f64>, Vec<f64>, std::collections::HashMap<String, String>);
+
+fn kvw_reference_events() -> Vec<ReferenceEvent> {
     let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/minima");
     let parse = |name: &str| -> Vec<Vec<String>> {
         let text = std::fs::read_to_string(format!("{dir}/{name}")).unwrap();
