@@ -181,7 +181,10 @@ fn fits_position_end_to_end_from_geocentric_times() {
     std::fs::write(dir.join("toas.csv"), s).unwrap();
     std::fs::write(
         dir.join("m.toml"),
-        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.0\nfit = [\"freq_hz\", \"position_offset_ra_mas\", \"position_offset_dec_mas\", \"proper_motion_ra_mas_per_yr\", \"proper_motion_dec_mas_per_yr\"]\n",
+        // Started away from the truth in every fitted parameter: position offsets 0 (truth
+        // +300, −200 mas), proper motions 0 (truth 0, fitted), spin 2e-9 Hz off (0.06 turns
+        // of drift over ±1 year, so the phase connection holds).
+        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.000000002\nfit = [\"freq_hz\", \"position_offset_ra_mas\", \"position_offset_dec_mas\", \"proper_motion_ra_mas_per_yr\", \"proper_motion_dec_mas_per_yr\"]\n",
     )
     .unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
@@ -224,6 +227,10 @@ fn fits_position_end_to_end_from_geocentric_times() {
     assert!(dra_mas.abs() < 3.0 * sr && ddec_mas.abs() < 3.0 * sd, "position off by {dra_mas} / {ddec_mas} mas");
     assert!(get("proper_motion_ra_mas_per_yr").abs() < 3.0 * get("proper_motion_ra_uncertainty_mas_per_yr"));
     assert!(get("proper_motion_dec_mas_per_yr").abs() < 3.0 * get("proper_motion_dec_uncertainty_mas_per_yr"));
-    assert!(std::fs::read_to_string(dir.join("out.toml")).unwrap().contains("position_offset_ra_mas"));
+    let written = std::fs::read_to_string(dir.join("out.toml")).unwrap();
+    assert!(written.contains("position_offset_ra_mas"));
+    // The spin: truth 2 Hz exactly; a fit that left it at its start would be 2e-9 Hz off.
+    let model = skyclock::pulsar::model::TimingModel::from_toml(&written, "out.toml").unwrap();
+    assert!((model.freq_hz - 2.0).abs() < 1e-11, "fitted spin {} Hz", model.freq_hz);
     let _ = std::fs::remove_dir_all(&dir);
 }
