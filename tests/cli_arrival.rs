@@ -51,11 +51,40 @@ fn corrects_a_table_and_records_provenance() {
     assert!(prov.contains("DE440") && prov.contains("leap_seconds"), "{prov}");
     let summary: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(summary["correction"]["rows"], 2);
-    // Parquet output with the same content.
+    // Parquet output with the same content: the same run written as Parquet must hold the
+    // same columns in the same order and the same values, cell by cell (numbers to 1e-15
+    // relative, i.e. the same double up to the CSV's shortest round-trip text; text equal).
+    // Faults caught: a column dropped or renamed in one writer, rows reordered, a time
+    // column written with fewer digits (ms of BJD lost) or as a different quantity.
     let pq = d.join("out.parquet");
-    let o = run_barycentre(&input, &pq, &["--clock", "jd_utc"]);
+    let o = run_barycentre(&input, &pq, &["--clock", "jd_utc", "--site-coordinates=-105.1,39.4,2150"]);
     assert!(o.status.success(), "{}", stderr(&o));
-    assert!(std::fs::metadata(&pq).unwrap().len() > 0);
+    assert_same_content(&output, &pq);
+}
+
+/// Asserts that two tables (any formats skyclock reads) hold the same columns and cells:
+/// numbers (cells that parse as numbers in both) to 1e-15 relative, other text equal.
+fn assert_same_content(a: &Path, b: &Path) {
+    use skyclock::table::{read_table, text_column};
+    let da = read_table(a, &[]).unwrap();
+    let db = read_table(b, &[]).unwrap();
+    let names =
+        |df: &polars::prelude::DataFrame| df.get_column_names().iter().map(|n| n.to_string()).collect::<Vec<_>>();
+    assert_eq!(names(&da), names(&db), "columns of {} and {}", a.display(), b.display());
+    assert_eq!(da.height(), db.height());
+    for name in names(&da) {
+        let ta = text_column(&da, &a.display().to_string(), &name).unwrap();
+        let tb = text_column(&db, &b.display().to_string(), &name).unwrap();
+        for (row, (x, y)) in ta.iter().zip(&tb).enumerate() {
+            let parsed = (x.as_deref().map(str::parse::<f64>), y.as_deref().map(str::parse::<f64>));
+            match parsed {
+                (Some(Ok(u)), Some(Ok(v))) => {
+                    assert!((u - v).abs() <= 1e-15 * u.abs().max(v.abs()), "column {name}, row {}: {u} vs {v}", row + 1)
+                }
+                _ => assert_eq!(x, y, "column {name}, row {}", row + 1),
+            }
+        }
+    }
 }
 
 #[test]

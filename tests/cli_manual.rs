@@ -5,8 +5,8 @@
 //! Outside checks and their sources:
 //! - `bash -n`, `zsh -n`, `fish --no-execute`: each shell's own parser (GNU Bash Reference
 //!   Manual, "The Set Builtin", -n; zsh manual, "Options", NO_EXEC; fish documentation,
-//!   `fish --no-execute`). zsh and fish checks skip with a plain message when the shell is
-//!   missing.
+//!   `fish --no-execute`). zsh and fish checks skip with a "SKIPPED:" line when the shell is
+//!   missing, and fail instead under `CI=true` (`.ci/run` installs them).
 //! - Completion behaviour: bash's programmable completion (GNU Bash Reference Manual,
 //!   "Programmable Completion": COMP_WORDS, COMP_CWORD, COMPREPLY) driven directly.
 //! - Manual page: `groff -man -Tutf8 -ww` (groff(1): -ww enables all warnings) must stay
@@ -14,6 +14,9 @@
 //!   from man-pages(7). Skips with a plain message when groff is missing.
 //! - Exit status 2 for usage errors: clap's documented behaviour (clap `Error::exit`),
 //!   which the page's EXIT STATUS states.
+
+#[path = "common/prerequisite.rs"]
+mod prerequisite;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
@@ -109,7 +112,7 @@ fn completion_scripts_name_every_command_and_long_option() {
 #[test]
 fn bash_script_parses_and_completes() {
     if !available("bash", "--version") {
-        eprintln!("skipped: bash is not installed");
+        prerequisite::missing("bash", "apt-get install bash");
         return;
     }
     let d = dir("bash");
@@ -193,7 +196,10 @@ fn zsh_and_fish_scripts_parse_where_those_shells_exist() {
         ok(&["shell-completions", shell, "--output", path.to_str().unwrap()]);
         assert!(std::fs::metadata(&path).unwrap().len() > 100);
         if !available(shell, "--version") {
-            eprintln!("skipped: {shell} is not installed, so `{shell} {flag}` was not run on the {shell} script");
+            prerequisite::missing(
+                &format!("{shell} (so `{shell} {flag}` was not run on the {shell} script)"),
+                &format!("apt-get install {shell}"),
+            );
             continue;
         }
         let out = Command::new(shell).arg(flag).arg(&path).output().expect(shell);
@@ -300,7 +306,7 @@ fn manual_page_lists_every_command_and_formats_without_warnings() {
         assert!(!line.starts_with('\''), "a line starts with a quote: {line}");
     }
     if !available("groff", "--version") {
-        eprintln!("skipped: groff is not installed, so the page was not formatted (apt-get install groff-base)");
+        prerequisite::missing("groff (so the page was not formatted)", "apt-get install groff");
         return;
     }
     let mut child = Command::new("groff")

@@ -2,10 +2,18 @@
 
 use std::process::Command;
 
+/// The invented pulsar spins at exactly 2 Hz; the start model is 3e-7 Hz away from that
+/// (0.14 turns of drift over the 5.5-day span, so the phase connection stays unambiguous),
+/// so a fit that returns its start value fails the 1e-9 Hz check below.
+const TRUE_FREQ_HZ: f64 = 2.0;
+const START_FREQ_HZ: f64 = 2.000_000_3;
+
 fn setup(dir: &std::path::Path, zero_error_row: Option<usize>) {
     std::fs::write(
         dir.join("m.toml"),
-        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.0\nfit = [\"freq_hz\"]\n",
+        format!(
+            "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = {START_FREQ_HZ}\nfit = [\"freq_hz\"]\n"
+        ),
     )
     .unwrap();
     let mut s = String::from("time,error_us,freq_mhz,instrument\n");
@@ -51,8 +59,13 @@ fn fits_and_writes_outputs_and_names_bad_cells() {
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     let f = json["fit"]["values"][1].as_f64().unwrap();
-    assert!((f - 2.0).abs() < 1e-9, "{f}");
-    assert!(std::fs::read_to_string(dir.join("out.toml")).unwrap().contains("freq_hz"));
+    // Truth: the invented 2 Hz spin the arrival times were made from (whole turns). The fit
+    // starts 3e-7 Hz away; catches a fit that does not move (off by 3e-7), a step of the
+    // wrong sign (6e-7) or a wrong phase derivative (a fraction of 3e-7 left).
+    assert!((f - TRUE_FREQ_HZ).abs() < 1e-9, "fitted {f} Hz from a start at {START_FREQ_HZ} Hz");
+    let written = std::fs::read_to_string(dir.join("out.toml")).unwrap();
+    let model = skyclock::pulsar::model::TimingModel::from_toml(&written, "out.toml").unwrap();
+    assert!((model.freq_hz - TRUE_FREQ_HZ).abs() < 1e-9, "written model keeps {} Hz", model.freq_hz);
     setup(&dir, Some(3));
     let out = run(&dir);
     assert_eq!(out.status.code(), Some(1));
@@ -168,7 +181,10 @@ fn fits_position_end_to_end_from_geocentric_times() {
     std::fs::write(dir.join("toas.csv"), s).unwrap();
     std::fs::write(
         dir.join("m.toml"),
-        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.0\nfit = [\"freq_hz\", \"position_offset_ra_mas\", \"position_offset_dec_mas\", \"proper_motion_ra_mas_per_yr\", \"proper_motion_dec_mas_per_yr\"]\n",
+        // Started away from the truth in every fitted parameter: position offsets 0 (truth
+        // +300, −200 mas), proper motions 0 (truth 0, fitted), spin 2e-9 Hz off (0.06 turns
+        // of drift over ±1 year, so the phase connection holds).
+        "name = \"invented pulsar\"\nepoch_mjd_day_tdb = 60100\nfreq_hz = 2.000000002\nfit = [\"freq_hz\", \"position_offset_ra_mas\", \"position_offset_dec_mas\", \"proper_motion_ra_mas_per_yr\", \"proper_motion_dec_mas_per_yr\"]\n",
     )
     .unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
@@ -211,6 +227,10 @@ fn fits_position_end_to_end_from_geocentric_times() {
     assert!(dra_mas.abs() < 3.0 * sr && ddec_mas.abs() < 3.0 * sd, "position off by {dra_mas} / {ddec_mas} mas");
     assert!(get("proper_motion_ra_mas_per_yr").abs() < 3.0 * get("proper_motion_ra_uncertainty_mas_per_yr"));
     assert!(get("proper_motion_dec_mas_per_yr").abs() < 3.0 * get("proper_motion_dec_uncertainty_mas_per_yr"));
-    assert!(std::fs::read_to_string(dir.join("out.toml")).unwrap().contains("position_offset_ra_mas"));
+    let written = std::fs::read_to_string(dir.join("out.toml")).unwrap();
+    assert!(written.contains("position_offset_ra_mas"));
+    // The spin: truth 2 Hz exactly; a fit that left it at its start would be 2e-9 Hz off.
+    let model = skyclock::pulsar::model::TimingModel::from_toml(&written, "out.toml").unwrap();
+    assert!((model.freq_hz - 2.0).abs() < 1e-11, "fitted spin {} Hz", model.freq_hz);
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -5,6 +5,9 @@
 //! Source of the expected values: the invented scenario (src/demo/scenario.rs,
 //! src/demo/pulsar_scenario.rs).
 
+#[path = "common/prerequisite.rs"]
+mod prerequisite;
+
 use std::process::Command;
 
 #[test]
@@ -58,7 +61,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         .iter()
         .find(|b| Command::new(b).arg("--version").output().is_ok_and(|o| o.status.success()));
     match chromium {
-        None => eprintln!("SKIPPED (browser part): chromium not installed"),
+        None => prerequisite::missing("chromium (browser part of the demo test)", "apt-get install chromium"),
         Some(browser) => {
             let profile = out.join("browser-profile");
             let page = format!("file://{}", out.join("report.html").display());

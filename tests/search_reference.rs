@@ -38,8 +38,9 @@ fn max_diff(a: &[f64], b: &[f64]) -> f64 {
 #[test]
 fn gls_power_matches_astropy_and_scipy() {
     let (s, grid, r) = setup(true);
-    // exact kernel to 1e-9; fast kernel within its contract of 1e-4 (measured 1.1e-5 here)
-    for (alg, tol) in [(Algorithm::Exact, 1e-9), (Algorithm::Fast, 1e-4)] {
+    // exact kernel to 1e-9; fast kernel to 1e-5, the accuracy README.md states (catches a
+    // fast kernel that drifts from the exact sums by more than the claim; docs measure 3e-10)
+    for (alg, tol) in [(Algorithm::Exact, 1e-9), (Algorithm::Fast, 1e-5)] {
         let p = GeneralisedLombScargle { algorithm: alg }.evaluate(&s, &grid).unwrap().power;
         // astropy 8.0.2 LombScargle(fit_mean=True, center_data=True, "standard"), method "slow"
         assert!(

@@ -21,8 +21,14 @@ fn worst(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| (x - y).abs()).fold(0.0, f64::max)
 }
 
-/// Fast (Press & Rybicki 1989) against exact GLS, classical LS, multi-band LS and spectral
-/// window: ≤ 1e-4 in power for N from 10 to 20000 (the accuracy target).
+/// Fast (Gaussian-spreading FFT, Greengard & Lee 2004) against exact GLS, classical LS,
+/// multi-band LS and spectral window: ≤ 1e-5 in power for N from 10 to 20000, the accuracy
+/// README.md states (docs/search-stage.md measures ≤ 3e-10). Reference: the exact kernel
+/// (direct sums), itself checked against astropy 8.0.2 and scipy 1.17.1 to 1e-9 in
+/// tests/search_reference.rs. Faults caught: a spreading width too narrow for the reached
+/// oversampling, a deconvolution by the wrong Gaussian transform, a half-bin shift of the
+/// FFT grid (errors of 1e-4–1e-2 in power), the double-frequency sums taken from the wrong
+/// FFT length.
 #[test]
 fn fast_matches_exact_for_many_sizes() {
     let mut rng = SeededRng::new(99);
@@ -59,7 +65,7 @@ fn fast_matches_exact_for_many_sizes() {
             let b = fast.evaluate(&s, &g).unwrap();
             let d = worst(&a.power, &b.power);
             eprintln!("{} n={n}: worst {d:e}", exact.name());
-            assert!(d <= 1e-4, "{} n={n}: {d:e}", exact.name());
+            assert!(d <= 1e-5, "{} n={n}: {d:e}", exact.name());
         }
     }
 }
