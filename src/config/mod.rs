@@ -45,7 +45,7 @@ pub enum ConfigError {
     Invalid {
         /// The file, as given.
         file: String,
-        /// What is wrong, naming the site or source.
+        /// What is wrong: the TOML reader's message, or the site or source at fault.
         message: String,
     },
 }
