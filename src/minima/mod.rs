@@ -3,7 +3,7 @@
 //! The step between a light curve and an O–C diagram: the light curve is cut into events
 //! around the predicted times of a linear ephemeris ([`segmentation`]), and each event's
 //! centre is measured with its 1σ error, either by the Kwee & van Woerden (1956) method
-//! ([`kwee_van_woerden`]) or by fitting a symmetric model — an even polynomial or a
+//! ([`kwee_van_woerden`](mod@kwee_van_woerden)) or by fitting a symmetric model — an even polynomial or a
 //! Gaussian profile — with covariance and seeded bootstrap errors ([`symmetric_fit`]).
 //!
 //! Times inside this module are `f64` days relative to a reference instant held by the
