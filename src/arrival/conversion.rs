@@ -26,6 +26,7 @@ pub struct BarycentreEventsResult {
     pub reference: ReferenceNames,
 }
 
+/// One time of `convert-time`, written on every scale.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ConvertedTime {
     /// The time as given.

@@ -132,14 +132,20 @@ impl NodeTerms {
 /// Why a time could not be corrected.
 #[derive(Debug, Error)]
 pub enum ArrivalError {
+    /// A time could not be converted between scales.
     #[error(transparent)]
     Time(#[from] TimeError),
+    /// The ephemeris could not give a body's state at the instant needed.
     #[error(transparent)]
     Ephemeris(#[from] EphemerisError),
+    /// A ground site's time is before 1960, where UTC (and so the Earth's rotation) is not
+    /// defined; holds the instant.
     #[error(
         "a ground site needs UTC for the Earth's rotation, but {0} is before 1960; give the site's times as geocentric or already barycentric"
     )]
     SiteBeforeUtc(String),
+    /// The arrival time at the observer for a barycentric time did not converge in 10
+    /// iterations; holds the barycentric instant.
     #[error("the inverse correction did not converge for {0}")]
     NoConvergence(String),
 }

@@ -19,12 +19,38 @@ use crate::time::{Instant, ScaleConverter, TimeScale};
 /// Problems while streaming events.
 #[derive(Debug, Error)]
 pub enum EventStreamError {
+    /// The input cannot be read, lacks the time column, or the output cannot be written.
     #[error("{file}: {message}")]
-    File { file: String, message: String },
+    File {
+        /// The input event file, as given.
+        file: String,
+        /// What went wrong.
+        message: String,
+    },
+    /// An event time is not a finite number, or cannot be carried to TT.
     #[error("{file}, row {row}, column '{column}': {message}")]
-    Cell { file: String, row: usize, column: String, message: String },
+    Cell {
+        /// The input event file, as given.
+        file: String,
+        /// Data row, 1-based, not counting blank lines.
+        row: usize,
+        /// The time column's name.
+        column: String,
+        /// What is wrong with the value.
+        message: String,
+    },
+    /// The barycentric correction failed for a block of events (e.g. outside the interpolator's span).
     #[error("{file}, rows {first_row}-{last_row}: {source}")]
-    Correction { file: String, first_row: usize, last_row: usize, source: ArrivalError },
+    Correction {
+        /// The input event file, as given.
+        file: String,
+        /// First data row of the block, 1-based.
+        first_row: usize,
+        /// Last data row of the block, 1-based.
+        last_row: usize,
+        /// The underlying correction error.
+        source: ArrivalError,
+    },
 }
 
 /// Result of a streamed correction.
@@ -32,7 +58,7 @@ pub enum EventStreamError {
 pub struct EventStreamSummary {
     /// Events corrected.
     pub events: usize,
-    /// Smallest and largest correction, s.
+    /// Smallest correction, s.
     pub min_correction_s: f64,
     /// Largest correction, s.
     pub max_correction_s: f64,

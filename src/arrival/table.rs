@@ -78,9 +78,19 @@ pub enum ObserverSpec {
     /// All rows at one site.
     Site(Site),
     /// A site per row, named in `column`, looked up in `sites`.
-    SiteColumn { column: String, sites: BTreeMap<String, Site> },
+    SiteColumn {
+        /// Column holding each row's site name (`geocentre` for the geocentre).
+        column: String,
+        /// The described sites, by the name used in `column`.
+        sites: BTreeMap<String, Site>,
+    },
     /// A spacecraft with x, y, z position columns in km.
-    Spacecraft { columns: [String; 3], origin: PositionOrigin },
+    Spacecraft {
+        /// Names of the x, y and z columns, km, ICRF axes.
+        columns: [String; 3],
+        /// Whether the positions are geocentric or barycentric.
+        origin: PositionOrigin,
+    },
 }
 
 /// What to correct in a table.

@@ -32,10 +32,22 @@ use crate::time::{Instant, LeapSecondTable, TimeFormat, TimeScale, parse_time};
 /// A problem in a site/source description.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum ConfigError {
+    /// The description file cannot be opened or read as text.
     #[error("{file}: cannot read: {message}")]
-    Read { file: String, message: String },
+    Read {
+        /// The file, as given.
+        file: String,
+        /// The operating system's message.
+        message: String,
+    },
+    /// The file is not valid TOML, or a site or the source in it cannot be used.
     #[error("{file}: {message}")]
-    Invalid { file: String, message: String },
+    Invalid {
+        /// The file, as given.
+        file: String,
+        /// What is wrong: the TOML reader's message, or the site or source at fault.
+        message: String,
+    },
 }
 
 /// A source entry of a description that cannot be used.

@@ -58,16 +58,27 @@ pub const GM_MOON_KM3_PER_S2: f64 = 4_902.800_118;
 /// themselves.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Body {
+    /// The Sun (NAIF 10).
     Sun,
+    /// The Mercury system barycentre (NAIF 1).
     Mercury,
+    /// The Venus system barycentre (NAIF 2).
     Venus,
+    /// The Earth itself (NAIF 399).
     Earth,
+    /// The Moon itself (NAIF 301).
     Moon,
+    /// The Earth–Moon barycentre (NAIF 3).
     EarthMoonBarycentre,
+    /// The Mars system barycentre (NAIF 4).
     Mars,
+    /// The Jupiter system barycentre (NAIF 5).
     Jupiter,
+    /// The Saturn system barycentre (NAIF 6).
     Saturn,
+    /// The Uranus system barycentre (NAIF 7).
     Uranus,
+    /// The Neptune system barycentre (NAIF 8).
     Neptune,
 }
 
@@ -148,33 +159,93 @@ pub struct BodyState {
 pub enum EphemerisError {
     /// The instant lies outside what the source covers for that body.
     #[error("{source_name}: no data for {body} at {instant}; this source covers {span_start} to {span_end} for it")]
-    OutOfRange { source_name: String, body: Body, instant: String, span_start: String, span_end: String },
+    OutOfRange {
+        /// The ephemeris's provenance name.
+        source_name: String,
+        /// The body asked for.
+        body: Body,
+        /// The instant asked for, as date and JD on TDB.
+        instant: String,
+        /// First instant covered for the body, as date and JD on TDB.
+        span_start: String,
+        /// Last instant covered for the body, as date and JD on TDB.
+        span_end: String,
+    },
     /// The source has no chain of segments leading from `body` to the barycentre.
     #[error("{source_name}: no data for {body}; bodies available: {available}")]
-    BodyNotAvailable { source_name: String, body: Body, available: String },
+    BodyNotAvailable {
+        /// The ephemeris's provenance name.
+        source_name: String,
+        /// The body asked for.
+        body: Body,
+        /// The bodies the source has, comma-separated.
+        available: String,
+    },
     /// The instant is not on the TDB scale.
     #[error("ephemeris states need an instant on the TDB scale, got {got} ({instant}); convert to TDB first")]
-    WrongTimeScale { got: TimeScale, instant: String },
+    WrongTimeScale {
+        /// The scale the instant was on.
+        got: TimeScale,
+        /// The instant, as date and JD on its scale.
+        instant: String,
+    },
     /// The file could not be opened or read. `reason` is the operating system's message
     /// (kept as text so that the error stays `Clone` and `PartialEq`).
     #[error("{path}: {message}: {reason}")]
-    Io { path: PathBuf, message: String, reason: String },
+    Io {
+        /// The kernel file, as given.
+        path: PathBuf,
+        /// What was being read when it failed.
+        message: String,
+        /// The operating system's message.
+        reason: String,
+    },
     /// The file is not a DAF/SPK file, or is damaged or truncated.
     #[error("{path}: not a usable SPK kernel: {message}")]
-    BadFile { path: PathBuf, message: String },
+    BadFile {
+        /// The kernel file, as given.
+        path: PathBuf,
+        /// What is wrong with it.
+        message: String,
+    },
     /// A segment of a type this reader does not evaluate.
     #[error(
         "{path}: segment {segment_name:?} (target {target}, centre {center}) has SPK type {data_type}; supported types are 2 and 3 (Chebyshev)"
     )]
-    UnsupportedSegmentType { path: PathBuf, segment_name: String, target: i32, center: i32, data_type: i32 },
+    UnsupportedSegmentType {
+        /// The kernel file, as given.
+        path: PathBuf,
+        /// The segment's name in the kernel.
+        segment_name: String,
+        /// NAIF code of the body whose state the segment gives.
+        target: i32,
+        /// NAIF code of the centre it is relative to.
+        center: i32,
+        /// The segment's SPK data type.
+        data_type: i32,
+    },
     /// A segment in a reference frame other than ICRF/J2000 (NAIF frame 1).
     #[error(
         "{path}: segment {segment_name:?} (target {target}) is in NAIF frame {frame}; only frame 1 (J2000/ICRF) is supported"
     )]
-    UnsupportedFrame { path: PathBuf, segment_name: String, target: i32, frame: i32 },
+    UnsupportedFrame {
+        /// The kernel file, as given.
+        path: PathBuf,
+        /// The segment's name in the kernel.
+        segment_name: String,
+        /// NAIF code of the body whose state the segment gives.
+        target: i32,
+        /// The segment's NAIF frame code.
+        frame: i32,
+    },
     /// The embedded pack (or a pack given as bytes) is malformed.
     #[error("ephemeris pack {name}: {message}")]
-    BadPack { name: String, message: String },
+    BadPack {
+        /// The pack's label (`embedded` for the one compiled in).
+        name: String,
+        /// What is wrong with it.
+        message: String,
+    },
 }
 
 /// A source of barycentric states of solar-system bodies at TDB instants.

@@ -148,11 +148,17 @@ impl<'a> Reader<'a> {
 /// One body's series to encode with [`encode_pack`].
 #[derive(Debug, Clone)]
 pub struct BodySeries {
+    /// NAIF code.
     pub naif_id: i32,
+    /// Start of the first interval, TDB s past J2000 (a whole number of days).
     pub start_seconds: f64,
+    /// Interval length, s.
     pub interval_seconds: f64,
+    /// Number of intervals.
     pub intervals: usize,
+    /// Chebyshev coefficients per component and interval.
     pub coefficients: usize,
+    /// Quantum the coefficients are rounded to when encoded, km.
     pub quantum_km: f64,
     /// `[interval][component][order]`, km (before quantisation).
     pub data: Vec<f64>,

@@ -620,11 +620,17 @@ fn read_directory(
 pub struct SegmentData {
     /// Name (at most 40 characters are kept).
     pub name: String,
+    /// First TDB second past J2000 covered.
     pub start_seconds_tdb: f64,
+    /// Last TDB second past J2000 covered.
     pub end_seconds_tdb: f64,
+    /// NAIF code of the body whose state the segment gives.
     pub target: i32,
+    /// NAIF code of the centre it is relative to.
     pub center: i32,
+    /// NAIF frame code (1 = J2000/ICRF).
     pub frame: i32,
+    /// SPK data type (2 or 3 are the types skyclock reads).
     pub data_type: i32,
     /// The segment's words: records followed by the type's directory.
     pub words: Vec<f64>,

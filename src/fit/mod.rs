@@ -23,25 +23,55 @@ pub use random::SeededRng;
 pub enum FitError {
     /// Fewer observations than free parameters.
     #[error("least squares needs at least {needed} observations for {needed} parameters, got {got}")]
-    TooFewObservations { needed: usize, got: usize },
+    TooFewObservations {
+        /// Observations needed: the number of free parameters (at least 1).
+        needed: usize,
+        /// Observations given.
+        got: usize,
+    },
     /// Array lengths disagree.
     #[error("{what}: expected length {expected}, got {got}")]
-    LengthMismatch { what: &'static str, expected: usize, got: usize },
+    LengthMismatch {
+        /// Which array, e.g. `weights`.
+        what: &'static str,
+        /// The length it must have.
+        expected: usize,
+        /// The length it has.
+        got: usize,
+    },
     /// A weight is negative, zero or not finite.
     #[error("weight at index {index} is {value}; weights must be finite and > 0")]
-    BadWeight { index: usize, value: f64 },
+    BadWeight {
+        /// Observation index, 0-based.
+        index: usize,
+        /// The weight given.
+        value: f64,
+    },
     /// An input value is NaN or infinite.
     #[error("{what} at index {index} is {value}; finite numbers are required")]
-    NonFinite { what: &'static str, index: usize, value: f64 },
+    NonFinite {
+        /// Which input, e.g. `value` or `design matrix element`.
+        what: &'static str,
+        /// Index in that input, 0-based (row-major for the design matrix).
+        index: usize,
+        /// The value found.
+        value: f64,
+    },
     /// The design matrix does not determine all parameters.
     #[error(
         "the parameters are not determined by the data (condition number {condition:.3e}); remove a parameter or add data"
     )]
-    Singular { condition: f64 },
+    Singular {
+        /// Condition number of the column-scaled, weighted design matrix (above 1e13, or infinite).
+        condition: f64,
+    },
     /// The numerical decomposition failed.
     #[error("linear algebra failure: {0}")]
     Decomposition(String),
     /// The nonlinear iteration produced non-finite values.
     #[error("the nonlinear fit diverged after {iterations} iterations")]
-    Diverged { iterations: usize },
+    Diverged {
+        /// Iterations done before the failure (0: the starting parameters already give a non-finite χ²).
+        iterations: usize,
+    },
 }

@@ -3,7 +3,7 @@
 //! The step between a light curve and an O–C diagram: the light curve is cut into events
 //! around the predicted times of a linear ephemeris ([`segmentation`]), and each event's
 //! centre is measured with its 1σ error, either by the Kwee & van Woerden (1956) method
-//! ([`kwee_van_woerden`]) or by fitting a symmetric model — an even polynomial or a
+//! ([`kwee_van_woerden`](mod@kwee_van_woerden)) or by fitting a symmetric model — an even polynomial or a
 //! Gaussian profile — with covariance and seeded bootstrap errors ([`symmetric_fit`]).
 //!
 //! Times inside this module are `f64` days relative to a reference instant held by the
@@ -113,21 +113,54 @@ pub struct EventTimings {
 pub enum MinimaError {
     /// Too few points for the method.
     #[error("{method} needs at least {needed} points, got {got}")]
-    TooFewPoints { method: &'static str, needed: usize, got: usize },
+    TooFewPoints {
+        /// The method, e.g. `the Kwee–van Woerden method`.
+        method: &'static str,
+        /// Points the method needs at least.
+        needed: usize,
+        /// Points it had (for the epoch estimate: filled phase bins).
+        got: usize,
+    },
     /// Arrays of different lengths.
     #[error("{what}: expected length {expected}, got {got}")]
-    LengthMismatch { what: &'static str, expected: usize, got: usize },
+    LengthMismatch {
+        /// Which array: `values` or `uncertainties`.
+        what: &'static str,
+        /// The length of the times.
+        expected: usize,
+        /// The length it has.
+        got: usize,
+    },
     /// A NaN or infinite input.
     #[error("{what} at index {index} is {value}; finite numbers are required")]
-    NonFinite { what: &'static str, index: usize, value: f64 },
+    NonFinite {
+        /// Which input: `time` or `value`.
+        what: &'static str,
+        /// Point index, 0-based.
+        index: usize,
+        /// The value found.
+        value: f64,
+    },
     /// Times not strictly increasing.
     #[error(
         "time at index {index} ({time_d} d) does not follow the previous one ({previous_d} d); sort the light curve and remove repeated times"
     )]
-    UnsortedTimes { index: usize, time_d: f64, previous_d: f64 },
+    UnsortedTimes {
+        /// Point index, 0-based.
+        index: usize,
+        /// Its time, days since the light curve's reference.
+        time_d: f64,
+        /// The previous point's time, days since the same reference.
+        previous_d: f64,
+    },
     /// An uncertainty that is zero, negative or not finite.
     #[error("uncertainty at index {index} is {value}; uncertainties must be finite and > 0")]
-    BadError { index: usize, value: f64 },
+    BadError {
+        /// Point index, 0-based.
+        index: usize,
+        /// The uncertainty given.
+        value: f64,
+    },
     /// A bad option value.
     #[error("{0}")]
     BadOption(String),
@@ -142,7 +175,10 @@ pub enum MinimaError {
     Fit(#[from] FitError),
     /// A fit that did not converge.
     #[error("the model fit did not converge in {iterations} iterations")]
-    NotConverged { iterations: usize },
+    NotConverged {
+        /// Iterations done.
+        iterations: usize,
+    },
 }
 
 /// Checks lengths, finiteness, strict time order and uncertainties.

@@ -81,13 +81,32 @@ pub enum Branch {
 #[derive(Debug, Clone, PartialEq)]
 pub enum SkipReason {
     /// A branch has too few points.
-    BranchMissing { branch: Branch, before: usize, after: usize, needed: usize },
+    BranchMissing {
+        /// The branch that is short.
+        branch: Branch,
+        /// Points in the window before the predicted centre.
+        before: usize,
+        /// Points in the window after the predicted centre.
+        after: usize,
+        /// Points needed on each branch.
+        needed: usize,
+    },
     /// Too few points in the window.
-    TooFewPoints { got: usize, needed: usize },
+    TooFewPoints {
+        /// Points in the window.
+        got: usize,
+        /// Points needed in the window.
+        needed: usize,
+    },
     /// The timing method failed (the message says why).
     Failed(String),
     /// The measured centre lies outside the window or outside the points.
-    CentreOutside { centre_d: f64, predicted_d: f64 },
+    CentreOutside {
+        /// The measured centre, days since the light curve's reference instant.
+        centre_d: f64,
+        /// The predicted centre, days since the same reference.
+        predicted_d: f64,
+    },
 }
 
 impl SkipReason {

@@ -29,12 +29,32 @@ pub struct OrientationValues {
 /// Problems reading an Earth-orientation table.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum EarthOrientationError {
+    /// The file cannot be opened or read as text.
     #[error("Earth-orientation file {file}: cannot read: {message}")]
-    Read { file: String, message: String },
+    Read {
+        /// The file, as given.
+        file: String,
+        /// The operating system's message.
+        message: String,
+    },
+    /// A line lacks its MJD or holds a field that is not a number.
     #[error("Earth-orientation file {file}, line {line}, columns {columns}: {message}")]
-    Parse { file: String, line: usize, columns: String, message: String },
+    Parse {
+        /// The file, as given.
+        file: String,
+        /// Line in the file, 1-based.
+        line: usize,
+        /// The fixed columns of the field, 1-based and inclusive, e.g. `8-15`.
+        columns: String,
+        /// What is wrong there.
+        message: String,
+    },
+    /// No line of the file has a UT1 − UTC value.
     #[error("Earth-orientation file {file} has no rows with UT1-UTC values")]
-    Empty { file: String },
+    Empty {
+        /// The file, as given.
+        file: String,
+    },
 }
 
 /// A loaded table of daily Earth-orientation values.

@@ -111,26 +111,72 @@ pub struct Timing {
 /// What can go wrong in the O–C stage; rows are 1-based rows of the timing table.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum OcError {
+    /// A timing's uncertainty is zero, negative or not finite.
     #[error(
         "row {row}: timing error {value} d is not usable; errors must be finite and > 0 (give a realistic uncertainty)"
     )]
-    BadError { row: usize, value: f64 },
+    BadError {
+        /// Row of the timing table, 1-based.
+        row: usize,
+        /// The uncertainty given, days.
+        value: f64,
+    },
+    /// Two timings of the same kind fall on the same cycle.
     #[error(
         "rows {first} and {second} hold the same {kind} timing (cycle {cycle}); remove the duplicate or merge them"
     )]
-    DuplicateTiming { first: usize, second: usize, kind: &'static str, cycle: f64 },
+    DuplicateTiming {
+        /// Row of one of the two timings, 1-based (the earlier in time order).
+        first: usize,
+        /// Row of the other, 1-based.
+        second: usize,
+        /// The event kind: `primary`, `secondary` or `maximum`.
+        kind: &'static str,
+        /// The cycle number both were given (half-integral for secondaries).
+        cycle: f64,
+    },
+    /// The reference period or its uncertainty is not finite, or the period is not > 0.
     #[error("the reference ephemeris is not usable: {0}")]
     BadEphemeris(String),
+    /// Between two successive timings the 3σ period error grows beyond a quarter of the
+    /// event spacing, so the cycle count may be wrong.
     #[error(
         "cycle count is ambiguous at row {row}: {gap_cycles:.0} cycles since the previous timing, and a period error of {period_sigma_d:.3e} d accumulates to {drift_d:.4} d there, more than a quarter of the event spacing ({limit_d:.4} d); supply a better period, fewer cycles between timings, or allow ambiguity explicitly"
     )]
-    AmbiguousCycles { row: usize, gap_cycles: f64, period_sigma_d: f64, drift_d: f64, limit_d: f64 },
+    AmbiguousCycles {
+        /// Row of the later timing, 1-based.
+        row: usize,
+        /// Cycles since the previous timing in time order.
+        gap_cycles: f64,
+        /// 1σ uncertainty of the reference period, days.
+        period_sigma_d: f64,
+        /// Three times the period uncertainty accumulated over the gap, days.
+        drift_d: f64,
+        /// A quarter of the event spacing (the period, or half of it with secondaries), days.
+        limit_d: f64,
+    },
+    /// Too few timings for the parameters of a model.
     #[error("{model} needs at least {needed} timings, got {got}")]
-    TooFewTimings { model: &'static str, needed: usize, got: usize },
+    TooFewTimings {
+        /// The model's name, e.g. `quadratic`.
+        model: &'static str,
+        /// Timings needed.
+        needed: usize,
+        /// Timings given.
+        got: usize,
+    },
+    /// A nonlinear model fit, or its bootstrap, did not give finite results.
     #[error("the {model} fit did not converge ({detail}); try other starting values or a simpler model")]
-    NotConverged { model: &'static str, detail: String },
+    NotConverged {
+        /// The model's name, e.g. `light-time`.
+        model: &'static str,
+        /// What failed.
+        detail: String,
+    },
+    /// A least-squares failure.
     #[error("fit failed: {0}")]
     Fit(#[from] FitError),
+    /// A timing or option that cannot be used (the message says which).
     #[error("{0}")]
     Invalid(String),
 }

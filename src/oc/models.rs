@@ -5,7 +5,7 @@
 //! where E is the cycle number, t the time since the reference epoch, Q = ½ dP/dE
 //! (quadratic ephemeris, common practice; Sterken 2005, ASP Conf. Ser. 335, 3) and τ the
 //! light-time delay of Irwin (1952, ApJ 116, 211). The companion's orbit is parameterised
-//! for fitting as (a₁₂ sin i / c [d], P₃ [d], √e cos ω, √e sin ω, M₀ [rad]) with M₀ the mean
+//! for fitting as (a₁₂ sin i / c \[d\], P₃ \[d\], √e cos ω, √e sin ω, M₀ \[rad\]) with M₀ the mean
 //! anomaly at the reference epoch; these stay well-behaved as e → 0.
 
 use std::f64::consts::TAU;

@@ -58,30 +58,78 @@ pub enum Layer {
     /// Points with optional symmetric 1-σ y uncertainty bars and optional per-point details
     /// (shown on hover in the report; not drawn in the static figure).
     Points {
+        /// Legend text; empty keeps the layer out of the legend.
         label: String,
+        /// x of each point, in the panel's x unit; points with a non-finite x or y are not drawn.
         x: Vec<f64>,
+        /// y of each point, in the panel's y unit.
         y: Vec<f64>,
+        /// 1σ uncertainty of each y, same unit, drawn as a bar from y − σ to y + σ.
         y_err: Option<Vec<f64>>,
+        /// Colour, 8-bit red, green, blue.
         colour: (u8, u8, u8),
+        /// Marker radius, pixels.
         size: u32,
+        /// Per-point details for the report's hover text, one row per point.
         details: Option<PointDetails>,
     },
     /// A connected line.
-    Line { label: String, x: Vec<f64>, y: Vec<f64>, colour: (u8, u8, u8) },
+    Line {
+        /// Legend text; empty keeps the layer out of the legend.
+        label: String,
+        /// x of each vertex, in the panel's x unit; non-finite vertices are left out.
+        x: Vec<f64>,
+        /// y of each vertex, in the panel's y unit.
+        y: Vec<f64>,
+        /// Colour, 8-bit red, green, blue.
+        colour: (u8, u8, u8),
+    },
     /// Vertical markers at x with a short text each (peaks, aliases).
-    Markers { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+    Markers {
+        /// Legend text; empty keeps the layer out of the legend.
+        label: String,
+        /// Where each marker stands, in the panel's x unit.
+        x: Vec<f64>,
+        /// The text written beside each marker, in the order of `x`.
+        text: Vec<String>,
+        /// Colour, 8-bit red, green, blue.
+        colour: (u8, u8, u8),
+    },
     /// Dashed vertical guides at x with a short text each, written lower than the
     /// [`Layer::Markers`] texts (e.g. where aliases of a peak would fall).
-    Guides { label: String, x: Vec<f64>, text: Vec<String>, colour: (u8, u8, u8) },
+    Guides {
+        /// Legend text; empty keeps the layer out of the legend.
+        label: String,
+        /// Where each guide stands, in the panel's x unit.
+        x: Vec<f64>,
+        /// The text written beside each guide, in the order of `x`.
+        text: Vec<String>,
+        /// Colour, 8-bit red, green, blue.
+        colour: (u8, u8, u8),
+    },
     /// A shaded band between `lower` and `upper` along x (a model's 1σ region).
-    Band { label: String, x: Vec<f64>, lower: Vec<f64>, upper: Vec<f64>, colour: (u8, u8, u8) },
+    Band {
+        /// Legend text; empty keeps the layer out of the legend.
+        label: String,
+        /// x of each band point, in the panel's x unit, in drawing order.
+        x: Vec<f64>,
+        /// Lower edge at each x, in the panel's y unit.
+        lower: Vec<f64>,
+        /// Upper edge at each x, in the panel's y unit.
+        upper: Vec<f64>,
+        /// Colour, 8-bit red, green, blue (filled at 25 % opacity).
+        colour: (u8, u8, u8),
+    },
 }
 
 /// One panel: axes with labels (put units in them, e.g. "period (d)").
 #[derive(Debug, Clone, PartialEq)]
 pub struct Panel {
+    /// Label of the x axis, with its unit.
     pub x_label: String,
+    /// Label of the y axis, with its unit.
     pub y_label: String,
+    /// What is drawn, in drawing order (later layers on top).
     pub layers: Vec<Layer>,
     /// Draw y increasing downwards (magnitudes).
     pub invert_y: bool,
@@ -92,20 +140,35 @@ pub struct Panel {
 /// A figure: a title and panels stacked vertically (a main panel and e.g. residuals).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Figure {
+    /// Title drawn above the panels.
     pub title: String,
+    /// Panels, top to bottom.
     pub panels: Vec<Panel>,
-    /// Size in pixels.
+    /// Width, pixels.
     pub width: u32,
+    /// Height, pixels, shared among the panels by their `height_weight`.
     pub height: u32,
 }
 
 /// Why a figure could not be written.
 #[derive(Debug, thiserror::Error)]
 pub enum PlotError {
+    /// The output file's extension is neither `.svg` nor `.png`.
     #[error("{file}: figures are written as .svg or .png, not '{ext}'")]
-    Format { file: String, ext: String },
+    Format {
+        /// The output file, as given.
+        file: String,
+        /// Its extension, lower-cased.
+        ext: String,
+    },
+    /// Drawing the figure, or writing or moving the file into place, failed.
     #[error("{file}: {message}")]
-    Draw { file: String, message: String },
+    Draw {
+        /// The output file, as given (or `figure '<title>'` when rendered in memory).
+        file: String,
+        /// What went wrong.
+        message: String,
+    },
 }
 
 static FONT: &[u8] = include_bytes!("fonts/DejaVuSans.ttf");

@@ -21,12 +21,30 @@ pub struct PhaseRange {
 /// Why a phase range was refused (the text a user typed and what is wrong with it).
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum PhaseRangeError {
+    /// The text is not two numbers separated by one comma.
     #[error("phase range '{text}': expected two numbers START,END in cycles, e.g. -0.25,1.25")]
-    Syntax { text: String },
+    Syntax {
+        /// The text as given.
+        text: String,
+    },
+    /// A bound is not finite, or the end is not after the start.
     #[error("phase range {start},{end}: the end must be after the start and both finite")]
-    Order { start: f64, end: f64 },
+    Order {
+        /// First phase given, cycles.
+        start: f64,
+        /// Last phase given, cycles.
+        end: f64,
+    },
+    /// The range is wider than [`MAX_PHASE_SPAN`].
     #[error("phase range {start},{end}: at most {max} cycles wide")]
-    TooWide { start: f64, end: f64, max: f64 },
+    TooWide {
+        /// First phase given, cycles.
+        start: f64,
+        /// Last phase given, cycles.
+        end: f64,
+        /// The widest range accepted, cycles.
+        max: f64,
+    },
 }
 
 impl PhaseRange {

@@ -87,6 +87,7 @@ pub struct FoldedTimes<'a> {
 pub struct FoldedCurve<'a> {
     /// Phases of the points, cycles.
     pub phase: &'a [f64],
+    /// Values of the points (magnitudes or fluxes), in the unit named by `value_label`.
     pub value: &'a [f64],
     /// 1-σ uncertainties of the values (drawn as error bars), if known.
     pub error: Option<&'a [f64]>,

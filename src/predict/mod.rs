@@ -34,17 +34,26 @@ pub const SUN_CAUTION_DEG: f64 = 15.0;
 /// Why a prediction could not be made.
 #[derive(Debug, Error)]
 pub enum PredictError {
+    /// A time could not be converted between scales.
     #[error(transparent)]
     Time(#[from] TimeError),
+    /// The solar-system ephemeris could not give a body's state at an instant needed.
     #[error(transparent)]
     Ephemeris(#[from] EphemerisError),
+    /// An event time could not be carried from the barycentre to the site.
     #[error(transparent)]
     Arrival(#[from] ArrivalError),
+    /// The source's event ephemeris never reaches an end of the range (its period would fall to zero).
     #[error(transparent)]
     Model(#[from] crate::oc::EphemerisError),
     /// The date range is empty or reversed.
     #[error("the range ends ({end}) before it starts ({start}); give an end later than the start")]
-    EmptyRange { start: String, end: String },
+    EmptyRange {
+        /// The start given, as date and JD on its scale.
+        start: String,
+        /// The end given, as date and JD on its scale.
+        end: String,
+    },
     /// An ephemeris value is unusable.
     #[error("ephemeris: {0}")]
     BadEphemeris(String),
@@ -53,5 +62,10 @@ pub enum PredictError {
     BadOption(String),
     /// The range holds more events than the limit.
     #[error("the range holds about {count} events, more than the limit of {limit}; narrow the date range")]
-    TooManyEvents { count: u64, limit: u64 },
+    TooManyEvents {
+        /// Events in the range, counted up to the event kind that passed the limit.
+        count: u64,
+        /// The most events one prediction lists ([`events::MAX_EVENTS`]).
+        limit: u64,
+    },
 }

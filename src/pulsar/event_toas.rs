@@ -103,9 +103,15 @@ pub fn phase_shift(
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Segmentation {
     /// Consecutive intervals of this length, s, from the first event (empty ones are not listed).
-    Duration { seconds: f64 },
+    Duration {
+        /// Segment length, s.
+        seconds: f64,
+    },
     /// Consecutive groups of this many photons (the last may be shorter).
-    Photons { count: usize },
+    Photons {
+        /// Photons per segment.
+        count: usize,
+    },
 }
 
 /// One arrival time from a segment of events.

@@ -55,15 +55,20 @@ pub struct Report {
     pub subtitle: Vec<String>,
     /// Tool, version, command and entries such as "ephemeris" and "leap_seconds".
     pub provenance: Provenance,
+    /// Sections, in page order (each listed in the contents).
     pub sections: Vec<Section>,
 }
 
 /// One section: a heading, then cautions, paragraphs, tables and figures in that order.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Section {
+    /// Heading, also its entry in the contents.
     pub heading: String,
+    /// Paragraphs of plain text (HTML-escaped when written).
     pub paragraphs: Vec<String>,
+    /// Tables, after the paragraphs.
     pub tables: Vec<Table>,
+    /// Figures, after the tables.
     pub figures: Vec<ReportFigure>,
     /// Warnings the reader must not miss (shown first, in a marked box).
     pub cautions: Vec<String>,
@@ -73,8 +78,11 @@ pub struct Section {
 /// Cells that read as numbers are right-aligned.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Table {
+    /// Caption, shown above the table and named in errors.
     pub caption: String,
+    /// Column headings, with units where they have one.
     pub columns: Vec<String>,
+    /// Rows of cells, one cell per column.
     pub rows: Vec<Vec<String>>,
 }
 
@@ -82,19 +90,39 @@ pub struct Table {
 /// with a caption.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ReportFigure {
+    /// Caption, shown below the figure and named in errors.
     pub caption: String,
+    /// The figure as SVG text.
     pub svg: String,
 }
 
 /// Why a report could not be produced.
 #[derive(Debug, thiserror::Error)]
 pub enum ReportError {
+    /// A figure is not one `<svg>` element, or it scripts or fetches something.
     #[error("report figure '{caption}': {message}")]
-    Figure { caption: String, message: String },
+    Figure {
+        /// The figure's caption.
+        caption: String,
+        /// What is wrong with its SVG.
+        message: String,
+    },
+    /// A table row has a different number of cells than the table has columns.
     #[error("report table '{caption}', row {row}: {cells} cells, but the table has {columns} columns")]
-    TableShape { caption: String, row: usize, cells: usize, columns: usize },
+    TableShape {
+        /// The table's caption.
+        caption: String,
+        /// The row, 1-based.
+        row: usize,
+        /// Cells in that row.
+        cells: usize,
+        /// Columns of the table.
+        columns: usize,
+    },
+    /// A figure could not be rendered.
     #[error(transparent)]
     Plot(#[from] PlotError),
+    /// The output path is one of the inputs, or the file could not be written.
     #[error(transparent)]
     Output(#[from] TableError),
 }

@@ -8,20 +8,52 @@ use thiserror::Error;
 pub enum TimeError {
     /// A leap-second file could not be read or parsed.
     #[error("leap-second file {file}, line {line}: {message}")]
-    LeapFile { file: String, line: usize, message: String },
+    LeapFile {
+        /// The leap-second file, as given.
+        file: String,
+        /// Line in the file, 1-based; 0 when the file could not be read at all.
+        line: usize,
+        /// What is wrong there.
+        message: String,
+    },
     /// UTC is defined from 1960-01-01 only.
     #[error("UTC before 1960-01-01 is not defined (MJD {mjd_day}); give such times in TT or TDB")]
-    UtcBefore1960 { mjd_day: i64 },
+    UtcBefore1960 {
+        /// The day asked for, as an integer MJD.
+        mjd_day: i64,
+    },
     /// A time string could not be read in the stated format.
     #[error("'{text}' is not a valid {format} time: {expected}")]
-    Unparseable { text: String, format: &'static str, expected: String },
+    Unparseable {
+        /// The text as given.
+        text: String,
+        /// The format it was read in (e.g. `jd`, `mjd`, `ISO 8601`).
+        format: &'static str,
+        /// What that format accepts, with an example.
+        expected: String,
+    },
     /// A time value is NaN or infinite.
     #[error("time value {value} is not a finite number")]
-    NotFinite { value: f64 },
+    NotFinite {
+        /// The value read.
+        value: f64,
+    },
     /// 23:59:60 on a day that has no leap second.
     #[error("{text}: second 60 exists only on a day that ends with a leap second, and {date} does not")]
-    NoLeapSecondThatDay { text: String, date: String },
+    NoLeapSecondThatDay {
+        /// The time string as given.
+        text: String,
+        /// Its date part, `YYYY-MM-DD`.
+        date: String,
+    },
     /// A conversion was asked of a scale that needs more information.
     #[error("cannot convert {from} to {to}: {reason}")]
-    Conversion { from: String, to: String, reason: String },
+    Conversion {
+        /// Name of the scale converted from.
+        from: String,
+        /// Name of the scale converted to.
+        to: String,
+        /// Why the conversion cannot be made, and what to do instead.
+        reason: String,
+    },
 }

@@ -1,5 +1,5 @@
 //! The core time types read and print the same everywhere: `Instant` implements `Display`
-//! and `FromStr` (one text form, "JD <Julian Date, 14 decimals> <SCALE>", e.g.
+//! and `FromStr` (one text form, `JD <Julian Date, 14 decimals> <SCALE>`, e.g.
 //! `JD 2459000.50000000000000 TDB`, which round-trips at ≤ 1 ns), a partial order within one
 //! scale (instants on different scales are not comparable without a conversion, so
 //! `partial_cmp` answers `None` for them), and arithmetic with [`Duration`] (seconds).
@@ -90,7 +90,7 @@ impl fmt::Display for Instant {
 
 impl FromStr for Instant {
     type Err = TimeError;
-    /// Reads the [`Display`](fmt::Display) form ("JD <number> <scale>"; the "JD" is optional).
+    /// Reads the [`Display`](fmt::Display) form (`JD <number> <scale>`; the `JD` is optional).
     /// UTC uses the built-in leap-second table.
     fn from_str(text: &str) -> Result<Instant, TimeError> {
         let unreadable = || TimeError::Unparseable {
