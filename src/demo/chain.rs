@@ -27,12 +27,18 @@ use skyclock::minima::{
     EventCurve, EventTimingReport, EventTimingRequest, EventWindow, Extremum, SegmentOptions, TimingMethod,
     estimate_epoch, time_light_curve,
 };
-use skyclock::oc::{EventKind, ModelKind, ReferenceEphemeris};
+use skyclock::oc::input::{TimingTableSource, read_timing_table};
+use skyclock::oc::{
+    AnalysisOptions, BootstrapOptions, CycleOptions, EventKind, FitOptions, ModelKind, ReferenceEphemeris, analyse,
+    information,
+};
+use skyclock::plot::timing::{HoverTimes, light_time_orbit, oc_diagram};
+use skyclock::plot::{PhaseRange, write_figure};
 use skyclock::predict::{ForecastRequest, PredictionOptions, SkyGeometry, first_observable_window};
 use skyclock::report::{Report, ReportFigure, Section, Table, write_report};
 use skyclock::survey::input::LightCurveColumns;
 use skyclock::survey::load::{LightCurveSource, TimeOrigin, read_light_curve};
-use skyclock::table::{Provenance, float_column, read_table, text_column, write_table};
+use skyclock::table::{Provenance, Summary, float_column, read_table, text_column, write_table};
 use skyclock::time::{Instant, TimeFormat, TimeScale, format_time, parse_time};
 
 /// Site used for the photometry and the predictions.
@@ -355,48 +361,81 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
 
     // 3. O–C over thirty years in mixed clocks: period change and a third body.
     println!("\n== 3. O–C: 30 years of timings in mixed clocks from three sites");
-    command(&s(&[
-        "timing-residuals",
-        "--input",
-        &path_text(&combined),
-        "--time-column",
-        "time",
-        "--clock-column",
-        "clock",
-        "--error-column",
-        "error_d",
-        "--kind-column",
-        "kind",
-        "--origin-column",
-        "observer",
-        "--sites-file",
-        &d(DESCRIPTION_FILE),
-        "--site-column",
-        "site",
-        "--source-file",
-        &d(DESCRIPTION_FILE),
-        "--epoch-bjd-tdb",
-        &oc_epoch_text,
-        "--period-d",
-        &format!("{p_found:.9}"),
-        "--period-sigma-d",
-        &format!("{p_err:.3e}"),
-        "--models",
-        "linear,quadratic,quadratic+light-time",
-        "--bootstrap",
-        "100",
-        "--binary-mass-msun",
-        &BINARY_MASS_MSUN.to_string(),
-        "--output",
-        &ot("kx_oc.csv"),
-        "--summary",
-        &ot("kx_oc.json"),
-        "--figure",
-        &ot("kx_oc.svg"),
-        "--orbit-figure",
-        &ot("kx_orbit.svg"),
-    ]))?;
-    let oc = read_summary::<skyclock::oc::OcAnalysis>(&o("kx_oc.json"))?.result;
+    let timing_table = read_timing_table(
+        &TimingTableSource {
+            path: &combined,
+            time_column: "time".into(),
+            clock: None,
+            clock_column: Some("clock".into()),
+            error_column: "error_d".into(),
+            kind_column: Some("kind".into()),
+            origin_column: Some("observer".into()),
+            observer: ObserverSpec::SiteColumn { column: "site".into(), sites: description.sites.clone() },
+            source: description.source.clone(),
+        },
+        &reference,
+    )?;
+    let oc_reference = ReferenceEphemeris { epoch: oc_epoch, period_d: p_found, period_sigma_d: p_err };
+    let options = AnalysisOptions {
+        models: vec![ModelKind::Linear, ModelKind::Quadratic, ModelKind::QuadraticLightTime],
+        cycles: CycleOptions::default(),
+        fit: FitOptions::default(),
+        bootstrap: Some(BootstrapOptions { resamples: 100, seed: 1 }),
+        binary_mass_msun: Some(BINARY_MASS_MSUN),
+    };
+    let oc = analyse(
+        &timing_table.timings,
+        &oc_reference,
+        &options,
+        &|m, _| {
+            println!("   fitting the {m} model to {} timings (100 bootstrap resamples)", timing_table.timings.len())
+        },
+        &|_| {},
+    )
+    .with_context(|| format!("{}: the O–C analysis", combined.display()))?;
+    let series = oc.series.as_ref().context("the analysis kept no O–C series")?;
+    let provenance = Provenance::new("skyclock demo")
+        .with("stage", "O–C analysis")
+        .with("ephemeris", reference.ephemeris.name())
+        .with("reference_epoch_bjd_tdb", oc_epoch_text.clone())
+        .with("reference_period_d", p_found.to_string());
+    write_table(&mut oc.table()?, &o("kx_oc.csv"), &provenance, &[combined.as_path()])?;
+    let summary_text =
+        Summary::new(oc.clone(), provenance, vec![path_text(&combined)], vec![ot("kx_oc.csv")]).to_json()?;
+    skyclock::table::write::write_atomically(&o("kx_oc.json"), |f| {
+        std::io::Write::write_all(f, summary_text.as_bytes())
+    })?;
+    let hover = HoverTimes { converter: &reference.converter, observer_tdb: Some(&timing_table.observer_tdb) };
+    let title = "O − C of KX Inventa";
+    let best_overall = oc.best_by_bic(false).context("no model was fitted")?;
+    write_figure(&oc_diagram(title, series, best_overall, &hover), &o("kx_oc.svg"))?;
+    let best_light_time = oc.best_by_bic(true).context("no light-time model was fitted")?;
+    let orbit = light_time_orbit(title, series, best_light_time, PhaseRange::default(), &hover)
+        .context("the light-time orbit figure")?;
+    write_figure(&orbit, &o("kx_orbit.svg"))?;
+    println!(
+        "   {} timings on cycles {} … {} → {}",
+        series.len(),
+        series.cycle.first().unwrap_or(&0.0),
+        series.cycle.last().unwrap_or(&0.0),
+        o("kx_oc.csv").display()
+    );
+    for f in &oc.fits {
+        let i = information(f);
+        println!(
+            "   {:<22} χ² = {:.1} for {} dof (reduced {:.2}), BIC = {:.1}",
+            i.model, i.chi2, i.dof, i.reduced_chi2, i.bic
+        );
+    }
+    for v in &oc.verdicts {
+        println!("   {v}");
+    }
+    for w in &series.warnings {
+        eprintln!("   warning: {w}");
+    }
+    for c in &oc.cautions {
+        eprintln!("   {c}");
+    }
     let best = "quadratic+light-time";
     let truth_amp_s = {
         let (e, w) = skyclock::oc::models::eccentricity_omega(THIRD_BODY[2], THIRD_BODY[3]);
