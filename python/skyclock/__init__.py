@@ -1,0 +1,587 @@
+"""skyclock for Python: timing periodic astronomical sources.
+
+Arrival times from any clock and site to BJD_TDB with every delay term, periodograms with
+peaks and false-alarm probabilities, folding, frequency extraction, survey batches, the
+O–C analysis of times of minimum, and pulsar timing — computed by the skyclock Rust
+library (the same functions the ``skyclock`` command line calls), with numpy arrays in and
+pandas DataFrames out. See ``docs/python.md`` in the repository.
+
+Times are given as float JD arrays (optionally a second array ``jd2`` for two-part JDs
+that keep every digit) or as text (e.g. read from a table with ``dtype=str``: every digit
+kept). Rows in error messages count from 1, as in a file; the input arrays are named by
+their keyword (``column 'times'``).
+
+Place keywords (``**place``), shared by every function that needs an observer or a source:
+``site`` (a name from ``sites_file``, or ``(east_longitude_deg, latitude_deg, height_m)``),
+``sites_file``, ``source_file``, ``ra``, ``dec`` (text ``hh:mm:ss.s`` / ``±dd:mm:ss`` or
+decimal degrees), ``proper_motion_ra_mas_per_yr``, ``proper_motion_dec_mas_per_yr``,
+``parallax_mas``, ``radial_velocity_km_per_s``, ``position_epoch`` (default ``"J2000.0"``),
+``ephemeris_kernel``, ``leap_seconds``, ``earth_orientation`` (files; built-in data
+otherwise). Without a site the observer is the geocentre.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from typing import Any, Iterable, Optional, Sequence
+
+import numpy as np
+import pandas as pd
+
+from . import _native
+from ._native import SkyclockError
+from ._results import Result, frame
+
+__version__ = _native.__version__
+
+__all__ = [
+    "SkyclockError",
+    "Result",
+    "barycentre",
+    "convert_times",
+    "observer_times",
+    "search_periods",
+    "fold",
+    "extract_frequencies",
+    "survey_batch",
+    "analyse_timings",
+    "fit_pulsar_timing",
+]
+
+_PLACE_KEYS = {
+    "site",
+    "sites_file",
+    "source_file",
+    "ra",
+    "dec",
+    "proper_motion_ra_mas_per_yr",
+    "proper_motion_dec_mas_per_yr",
+    "parallax_mas",
+    "radial_velocity_km_per_s",
+    "position_epoch",
+    "ephemeris_kernel",
+    "leap_seconds",
+    "earth_orientation",
+}
+
+
+def _place(place: dict) -> str:
+    unknown = sorted(set(place) - _PLACE_KEYS)
+    if unknown:
+        raise TypeError(f"unknown keyword(s) {', '.join(unknown)}; place keywords are {', '.join(sorted(_PLACE_KEYS))}")
+    doc = {}
+    for key, value in place.items():
+        if value is None:
+            continue
+        if key in ("ra", "dec"):
+            value = value if isinstance(value, str) else repr(float(value))
+        elif key == "site" and not isinstance(value, str):
+            value = [float(v) for v in value]
+        elif key in ("sites_file", "source_file", "ephemeris_kernel", "leap_seconds", "earth_orientation"):
+            value = os.fspath(value)
+        elif key != "position_epoch":
+            value = float(value)
+        doc[key] = value
+    return json.dumps(doc)
+
+
+def _one_dimensional(values: Any, name: str) -> np.ndarray:
+    a = np.asarray(values)
+    if a.ndim != 1:
+        raise SkyclockError(f"'{name}' must be one-dimensional, got an array of shape {a.shape}")
+    return a
+
+
+def _floats(values: Any, name: str) -> np.ndarray:
+    """A 1-D array for the native module, which converts any numeric dtype and strides."""
+    a = _one_dimensional(values, name)
+    if a.dtype.kind not in "biuf":
+        try:
+            a = a.astype(np.float64)
+        except (TypeError, ValueError) as e:
+            raise SkyclockError(f"'{name}' must hold numbers: {e}") from None
+    return a
+
+
+def _texts(values: Any, name: str) -> Optional[list]:
+    if values is None:
+        return None
+    a = _one_dimensional(values, name)
+    return [None if (v is None or (isinstance(v, float) and np.isnan(v))) else str(v) for v in a.tolist()]
+
+
+def _times(times: Any, jd2: Any = None, name: str = "times") -> list:
+    """Times as the text the library parses: text kept as given, floats written in their
+    shortest round-trip form, two-part JDs as "jd1 jd2"."""
+    a = _one_dimensional(times, name)
+    if a.dtype.kind in "USO":
+        if jd2 is not None:
+            raise SkyclockError(f"'{name}' given as text cannot take a second part jd2")
+        return [None if v is None else (repr(v) if isinstance(v, float) else str(v)) for v in a.tolist()]
+    a = _floats(a, name)
+    return _native.times_as_text(a, None if jd2 is None else _floats(jd2, "jd2"))
+
+
+def _epoch_text(value: Any, name: str) -> Optional[str]:
+    if value is None:
+        return None
+    return value if isinstance(value, str) else repr(float(value))
+
+
+def _light_curve(times, values, errors, jd2, bands):
+    return _times(times, jd2), _floats(values, "values"), None if errors is None else _floats(errors, "errors"), _texts(bands, "bands")
+
+
+# ----------------------------------------------------------------------------------------
+# Arrival times
+
+
+def barycentre(
+    times,
+    clock: Optional[str] = None,
+    *,
+    jd2=None,
+    clocks=None,
+    site_names=None,
+    solar_shapiro: bool = True,
+    planet_shapiro: bool = False,
+    **place,
+) -> Result:
+    """Arrival times to BJD_TDB with every delay term (library ``arrival::barycentre_table``).
+
+    ``times`` in the clock ``clock`` (``jd_utc``, ``mjd_tt``, ``hjd_utc``, ``iso_utc``,
+    ``bjd_tdb``…; or one label per row in ``clocks``), observed at ``site`` (or per row at
+    ``site_names`` described in ``sites_file``) from ``source``. Accuracy as the library's
+    correction (sub-µs with the built-in DE440 pack; see docs/arrival.md).
+
+    Returns a Result (``BarycentreRun``) whose ``table`` has ``bjd_tdb`` (JD text, 14
+    decimals), ``bjd_tdb_jd1``/``bjd_tdb_jd2`` (two parts), ``observer_tdb`` and one column
+    per delay term in seconds (``einstein_delay_s``, ``roemer_delay_s``, …,
+    ``total_correction_s``).
+    """
+    texts = _times(times, jd2)
+    options = json.dumps({"clock": clock, "solar_shapiro": bool(solar_shapiro), "planet_shapiro": bool(planet_shapiro)})
+    data, columns = _native.barycentre(texts, options, _place(place), _texts(clocks, "clocks"), _texts(site_names, "site_names"))
+    return Result("BarycentreRun", data, {"table": frame(columns)})
+
+
+def convert_times(times, scale: str, *, format: str = "jd", to_scale: Optional[str] = None, to_format: Optional[str] = None, **place) -> Result:
+    """Single times between scales (utc, tai, tt, tdb, tcb, gps) and formats (jd, mjd,
+    reduced-jd, iso) (library ``arrival::convert_times``). Without ``to_scale`` every scale
+    is given. TDB includes the site's topocentric term when a site is given.
+
+    Returns a Result (``ConvertTimeResult``) with ``table``: one row per time, the input and
+    one text column per scale.
+    """
+    texts = _times(times) if not isinstance(times, str) else [times]
+    if any(t is None for t in texts):
+        raise SkyclockError("convert_times: a time is missing (None)")
+    options = json.dumps({"format": format, "scale": scale, "to_scale": to_scale, "to_format": to_format})
+    data = _native.convert_times(texts, options, _place(place))
+    parsed = json.loads(data)
+    rows = [{"input": t["input"], **t["scales"]} for t in parsed["times"]]
+    return Result("ConvertTimeResult", data, {"table": pd.DataFrame(rows)})
+
+
+def observer_times(bjd_tdb, *, jd2=None, to_scale: str = "utc", **place) -> Result:
+    """BJD_TDB instants carried back to the clock reading (``to_scale``) at which the signal
+    reaches the site (library ``arrival::observer_times``; the inverse of ``barycentre``).
+
+    Returns a Result (``ObserverTimes``) with ``table``: ``bjd_tdb``, ``iso`` and ``jd``
+    (text, in ``to_scale``) per instant.
+    """
+    texts = _times(bjd_tdb, jd2, "bjd_tdb")
+    if any(t is None for t in texts):
+        raise SkyclockError("observer_times: a BJD_TDB is missing (None)")
+    data = _native.observer_times(texts, to_scale, _place(place))
+    parsed = json.loads(data)
+    rows = [{"bjd_tdb": r["bjd_tdb_jd"], "iso": r["iso"], "jd": r["jd"]} for r in parsed["readings"]]
+    return Result("ObserverTimes", data, {"table": pd.DataFrame(rows)})
+
+
+# ----------------------------------------------------------------------------------------
+# Light curves
+
+
+def _search_options(
+    method="sinusoid",
+    harmonics=3,
+    phase_bins=10,
+    durations_d=(0.05, 0.1, 0.2),
+    brightness="magnitude",
+    max_freq_per_day=10.0,
+    min_freq_per_day=None,
+    oversampling=5.0,
+    kernel="auto",
+    peaks=5,
+    memory_limit_gib=2.0,
+    bootstrap_trials=None,
+    seed=1,
+) -> str:
+    return json.dumps(
+        {
+            "method": method,
+            "harmonics": int(harmonics),
+            "phase_bins": int(phase_bins),
+            "durations_d": [float(d) for d in durations_d],
+            "brightness": brightness,
+            "max_freq_per_day": float(max_freq_per_day),
+            "min_freq_per_day": None if min_freq_per_day is None else float(min_freq_per_day),
+            "oversampling": float(oversampling),
+            "kernel": kernel,
+            "peaks": int(peaks),
+            "memory_limit_gib": float(memory_limit_gib),
+            "bootstrap_trials": None if bootstrap_trials is None else int(bootstrap_trials),
+            "seed": int(seed),
+        }
+    )
+
+
+_SEARCH_KEYS = set(_search_options.__code__.co_varnames[: _search_options.__code__.co_argcount])
+
+
+def _split_search(kwargs: dict):
+    search = {k: kwargs.pop(k) for k in list(kwargs) if k in _SEARCH_KEYS}
+    return _search_options(**search), kwargs
+
+
+def search_periods(
+    times,
+    values,
+    errors=None,
+    *,
+    jd2=None,
+    bands=None,
+    clock: str = "bjd_tdb",
+    clocks=None,
+    site_names=None,
+    **keywords,
+) -> Result:
+    """Periodogram of one light curve, its top peaks with least-squares errors,
+    false-alarm probabilities and alias notes (library ``survey::search::search_series``).
+
+    Search keywords: ``method`` (``sinusoid`` — generalised Lomb–Scargle, per-band zero
+    points with ``bands``; ``classical-sinusoid``; ``harmonics``; ``phase-dispersion``;
+    ``conditional-entropy``; ``box``), ``harmonics``, ``phase_bins``, ``durations_d``,
+    ``brightness`` (``magnitude``/``flux``), ``max_freq_per_day`` (10), ``min_freq_per_day``
+    (1/baseline), ``oversampling`` (5), ``kernel`` (``auto``/``exact``/``fast``), ``peaks``
+    (5), ``memory_limit_gib``, ``bootstrap_trials``, ``seed``; and the place keywords when
+    ``clock`` is not barycentric. Values that are NaN are dropped and counted
+    (``result.result['rows_dropped_nan']``), as the command line drops empty cells.
+
+    Returns a Result (``PeriodSearchReport``) with tables ``spectrum`` (``freq_per_day``,
+    ``period_d``, ``power``[, ``amplitude``]) and ``peaks``.
+    """
+    search, place = _split_search(dict(keywords))
+    t, v, e, b = _light_curve(times, values, errors, jd2, bands)
+    data, spectrum = _native.search_periods(t, v, search, _place(place), clock, e, b, _texts(clocks, "clocks"), _texts(site_names, "site_names"))
+    peaks = pd.json_normalize(json.loads(data)["result"]["peaks"])
+    return Result("PeriodSearchReport", data, {"spectrum": frame(spectrum), "peaks": peaks})
+
+
+def fold(
+    times,
+    values,
+    errors=None,
+    *,
+    period_d: float,
+    epoch_bjd_tdb=None,
+    refine_harmonics: Optional[int] = None,
+    bins: int = 50,
+    bin_statistic: str = "mean",
+    jd2=None,
+    bands=None,
+    clock: str = "bjd_tdb",
+    clocks=None,
+    site_names=None,
+    **place,
+) -> Result:
+    """Folds a light curve at ``period_d`` days from ``epoch_bjd_tdb`` (default: the first
+    time), optionally refining the period with a Fourier series of ``refine_harmonics``
+    terms, into ``bins`` phase bins (``mean`` or ``median``) (library
+    ``fold::fold_light_curve``).
+
+    Returns a Result (``FoldReport``) with tables ``points`` (``input_row``, ``phase``,
+    ``days_since_epoch``, ``value``[, ``error``]) and ``bins`` (``phase_center``, ``value``,
+    ``error``, ``count``).
+    """
+    t, v, e, b = _light_curve(times, values, errors, jd2, bands)
+    options = json.dumps(
+        {
+            "period_d": float(period_d),
+            "epoch_bjd_tdb": _epoch_text(epoch_bjd_tdb, "epoch_bjd_tdb"),
+            "refine_harmonics": refine_harmonics,
+            "bins": int(bins),
+            "bin_statistic": bin_statistic,
+        }
+    )
+    data, points, binned = _native.fold_light_curve(t, v, options, _place(place), clock, e, b, _texts(clocks, "clocks"), _texts(site_names, "site_names"))
+    return Result("FoldReport", data, {"points": frame(points), "bins": frame(binned)})
+
+
+def extract_frequencies(
+    times,
+    values,
+    errors=None,
+    *,
+    max_freq_per_day: float = 50.0,
+    oversampling: float = 10.0,
+    signal_to_noise_stop: float = 4.0,
+    max_frequencies: int = 20,
+    noise_box_per_day: float = 2.0,
+    kernel: str = "auto",
+    detrend_polynomial_degree: Optional[int] = None,
+    segment_gap_d: Optional[float] = None,
+    jd2=None,
+    bands=None,
+    clock: str = "bjd_tdb",
+    clocks=None,
+    site_names=None,
+    **place,
+) -> Result:
+    """Iterative frequency extraction (prewhitening) to an amplitude signal-to-noise limit,
+    optionally after removing a polynomial or per-segment zero points (library
+    ``frequencies::prewhiten``). Phases are of maximum of A cos(2π(f t − φ)) with t in days
+    since ``phase_reference_bjd_tdb``.
+
+    Returns a Result (``FrequencyExtractionResult``) with table ``frequencies``.
+    """
+    t, v, e, b = _light_curve(times, values, errors, jd2, bands)
+    options = json.dumps(
+        {
+            "max_freq_per_day": float(max_freq_per_day),
+            "oversampling": float(oversampling),
+            "signal_to_noise_stop": float(signal_to_noise_stop),
+            "max_frequencies": int(max_frequencies),
+            "noise_box_per_day": float(noise_box_per_day),
+            "kernel": kernel,
+            "detrend_polynomial_degree": detrend_polynomial_degree,
+            "segment_gap_d": None if segment_gap_d is None else float(segment_gap_d),
+        }
+    )
+    data = _native.extract_frequencies(t, v, options, _place(place), clock, e, b, _texts(clocks, "clocks"), _texts(site_names, "site_names"))
+    return Result("FrequencyExtractionResult", data, {"frequencies": pd.DataFrame(json.loads(data)["frequencies"])})
+
+
+# ----------------------------------------------------------------------------------------
+# Surveys
+
+
+def _cell_texts(column: pd.Series) -> list:
+    """A table column as the text cells the batch reads (missing → None; floats in their
+    shortest round-trip form, as the command line reads them from a file)."""
+    out = []
+    for v in column.tolist():
+        if v is None or (isinstance(v, float) and np.isnan(v)) or v is pd.NA:
+            out.append(None)
+        elif isinstance(v, float):
+            out.append(repr(v))
+        else:
+            out.append(str(v))
+    return out
+
+
+def survey_batch(
+    table,
+    *,
+    source_column: str = "source",
+    time_column: str = "time",
+    value_column: str = "value",
+    error_column: Optional[str] = None,
+    band_column: Optional[str] = None,
+    clock: str = "bjd_tdb",
+    ra_column: Optional[str] = None,
+    dec_column: Optional[str] = None,
+    refine_peaks: bool = False,
+    batch_points: int = 2_000_000,
+    row_numbers=None,
+    table_name: str = "input table",
+    **keywords,
+) -> Result:
+    """Period search of every source of a survey table (pandas DataFrame or pyarrow
+    Table), one row per source (library ``survey::batch::run_batch_with_arrival``). Rows
+    of one source must be contiguous. Takes the search keywords of ``search_periods``;
+    ``clock`` other than ``bjd_tdb``/``bmjd_tdb`` needs ``ra_column``/``dec_column`` (ICRS
+    degrees) and a ``site`` (or the geocentre). ``row_numbers`` (1-based) name the rows in
+    messages and ``first_row`` (default 1, 2, …); ``table_name`` names the table.
+
+    Returns a Result (``BatchSummary`` fields with ``times`` and ``first_skipped``) with
+    table ``sources``: ``source_id``, ``status``, ``message``, ``first_row``, ``points``,
+    ``rows_dropped_nan``, ``baseline_d``, ``time_reference_bjd_tdb`` and per peak k
+    ``period_d_k``, ``period_err_d_k``, ``freq_per_day_k``, ``power_k``,
+    ``false_alarm_probability_k``, ``amplitude_k``, ``alias_note_k``.
+    """
+    search, place = _split_search(dict(keywords))
+    if not isinstance(table, pd.DataFrame):
+        if hasattr(table, "to_pandas"):
+            table = table.to_pandas()
+        else:
+            raise SkyclockError("survey_batch: table must be a pandas DataFrame or a pyarrow Table")
+
+    def column(name: Optional[str], what: str):
+        if name is None:
+            return None
+        if name not in table.columns:
+            raise SkyclockError(f"{table_name}: no column '{name}' ({what}); columns: {', '.join(map(str, table.columns))}")
+        return _cell_texts(table[name])
+
+    n = len(table)
+    rows = np.arange(1, n + 1, dtype=np.int64) if row_numbers is None else np.asarray(row_numbers, dtype=np.int64)
+    options = json.dumps(
+        {
+            "clock": clock,
+            "refine_peaks": bool(refine_peaks),
+            "batch_points": int(batch_points),
+            "table_name": table_name,
+            "source_column": source_column,
+            "time_column": time_column,
+            "value_column": value_column,
+            "error_column": error_column,
+            "band_column": band_column,
+            "ra_column": ra_column,
+            "dec_column": dec_column,
+        }
+    )
+    data, columns = _native.survey_batch(
+        rows.tolist(),
+        column(source_column, "source id"),
+        column(time_column, "time"),
+        column(value_column, "value"),
+        options,
+        search,
+        _place(place),
+        column(error_column, "error"),
+        column(band_column, "band"),
+        column(ra_column, "right ascension"),
+        column(dec_column, "declination"),
+    )
+    parsed = json.loads(data)
+    flat = json.dumps({**parsed["summary"], "times": parsed["times"], "first_skipped": parsed["first_skipped"]})
+    return Result("BatchSummary", flat, {"sources": frame(columns)})
+
+
+# ----------------------------------------------------------------------------------------
+# Timing
+
+
+def analyse_timings(
+    times,
+    errors_d,
+    *,
+    epoch_bjd_tdb,
+    period_d: float,
+    period_sigma_d: float = 0.0,
+    kinds=None,
+    origins=None,
+    models: Sequence[str] = ("linear", "quadratic"),
+    allow_ambiguous_cycles: bool = False,
+    companion_period_range_d=None,
+    rescale_per_source: bool = False,
+    robust_loss: bool = False,
+    robust_tuning_constant: Optional[float] = None,
+    bootstrap: int = 0,
+    seed: int = 1,
+    binary_mass_msun: Optional[float] = None,
+    jd2=None,
+    clock: Optional[str] = "bjd_tdb",
+    clocks=None,
+    site_names=None,
+    **place,
+) -> Result:
+    """O–C analysis of times of minimum or maximum (library ``oc::analyse``): cycles
+    against the ephemeris ``epoch_bjd_tdb`` + E × ``period_d``, fits of ``models``
+    (``linear``, ``quadratic``, ``light-time``, ``quadratic+light-time``, ``two-light-time``,
+    ``quadratic+two-light-time``) with 1σ errors ``errors_d`` (days), nested comparisons,
+    companions' minimum masses (with ``binary_mass_msun``) and verdicts. ``kinds`` per row:
+    ``primary``, ``secondary``, ``maximum``; ``origins``: who measured each time (for
+    ``rescale_per_source``). Times in another clock are carried to BJD_TDB first (place
+    keywords).
+
+    Returns a Result (``OcAnalysis``) with tables ``oc`` (``row``, ``bjd_tdb``, ``cycle``,
+    ``kind``, ``source``, ``error_d``, ``observed_minus_computed_d``, and per model
+    ``model_<m>_d``, ``model_sigma_<m>_d``, ``residual_<m>_d``) and ``models``.
+    """
+    if isinstance(models, str):
+        models = [m.strip() for m in models.split(",")]
+    options = json.dumps(
+        {
+            "epoch_bjd_tdb": _epoch_text(epoch_bjd_tdb, "epoch_bjd_tdb"),
+            "period_d": float(period_d),
+            "period_sigma_d": float(period_sigma_d),
+            "models": list(models),
+            "allow_ambiguous_cycles": bool(allow_ambiguous_cycles),
+            "companion_period_range_d": None if companion_period_range_d is None else [float(x) for x in companion_period_range_d],
+            "rescale_per_source": bool(rescale_per_source),
+            "robust_loss": bool(robust_loss),
+            "robust_tuning_constant": None if robust_tuning_constant is None else float(robust_tuning_constant),
+            "bootstrap": int(bootstrap),
+            "seed": int(seed),
+            "binary_mass_msun": None if binary_mass_msun is None else float(binary_mass_msun),
+        }
+    )
+    if clocks is not None:
+        clock = None
+    data, columns = _native.analyse_timings(
+        _times(times, jd2),
+        _floats(errors_d, "errors_d"),
+        options,
+        _place(place),
+        clock,
+        _texts(kinds, "kinds"),
+        _texts(origins, "origins"),
+        _texts(clocks, "clocks"),
+        _texts(site_names, "site_names"),
+    )
+    models_table = pd.json_normalize(json.loads(data)["models"])
+    return Result("OcAnalysis", data, {"oc": frame(columns), "models": models_table})
+
+
+def fit_pulsar_timing(
+    times,
+    error_us,
+    model,
+    *,
+    freq_mhz=None,
+    instrument=None,
+    max_iterations: int = 20,
+    jd2=None,
+    clock: Optional[str] = None,
+    clocks=None,
+    site_names=None,
+    **place,
+) -> Result:
+    """Phase-connected fit of a pulsar timing model to arrival times (library
+    ``pulsar::timing_fit::fit_timing``). ``model`` is a timing-model file (TOML, see
+    docs/pulsar_timing.md) or its text; ``error_us`` the 1σ errors in µs; ``freq_mhz`` and
+    ``instrument`` per row as in a timing table; times in ``clock`` (e.g. ``mjd_utc``) at
+    ``site`` (place keywords).
+
+    Returns a Result (``TimingSolution``) with table ``residuals``
+    (``seconds_after_epoch_tdb``, ``residual_us``, ``residual_cycles``, ``error_us``,
+    ``freq_mhz``, ``instrument``[, ``orbital_phase``]) and ``fitted_model_toml``.
+    """
+    if isinstance(model, (os.PathLike,)) or (isinstance(model, str) and "\n" not in model and os.path.exists(model)):
+        name = os.fspath(model)
+        with open(name, encoding="utf-8") as f:
+            text = f.read()
+    elif isinstance(model, str):
+        name, text = "model text", model
+    else:
+        raise SkyclockError("fit_pulsar_timing: model must be a timing-model file or its TOML text")
+    if clocks is not None:
+        clock = None
+    data, columns, toml = _native.fit_pulsar_timing(
+        _times(times, jd2),
+        _floats(error_us, "error_us"),
+        text,
+        name,
+        int(max_iterations),
+        _place(place),
+        clock,
+        None if freq_mhz is None else _floats(freq_mhz, "freq_mhz"),
+        _texts(instrument, "instrument"),
+        _texts(clocks, "clocks"),
+        _texts(site_names, "site_names"),
+    )
+    return Result("TimingSolution", data, {"residuals": frame(columns)}, fitted_model_toml=toml)
