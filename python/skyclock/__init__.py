@@ -45,8 +45,12 @@ __all__ = [
     "fold",
     "extract_frequencies",
     "survey_batch",
+    "time_events",
     "analyse_timings",
+    "predict_events",
     "fit_pulsar_timing",
+    "search_pulsations",
+    "pulse_profile",
 ]
 
 _PLACE_KEYS = {
@@ -537,6 +541,17 @@ def analyse_timings(
     return Result("OcAnalysis", data, {"oc": frame(columns), "models": models_table})
 
 
+def _model_text(model):
+    """(name, TOML text) of a timing model given as a file or as its text."""
+    if isinstance(model, os.PathLike) or (isinstance(model, str) and "\n" not in model and os.path.exists(model)):
+        name = os.fspath(model)
+        with open(name, encoding="utf-8") as f:
+            return name, f.read()
+    if isinstance(model, str):
+        return "model text", model
+    raise SkyclockError("model must be a timing-model file or its TOML text")
+
+
 def fit_pulsar_timing(
     times,
     error_us,
@@ -561,14 +576,7 @@ def fit_pulsar_timing(
     (``seconds_after_epoch_tdb``, ``residual_us``, ``residual_cycles``, ``error_us``,
     ``freq_mhz``, ``instrument``[, ``orbital_phase``]) and ``fitted_model_toml``.
     """
-    if isinstance(model, (os.PathLike,)) or (isinstance(model, str) and "\n" not in model and os.path.exists(model)):
-        name = os.fspath(model)
-        with open(name, encoding="utf-8") as f:
-            text = f.read()
-    elif isinstance(model, str):
-        name, text = "model text", model
-    else:
-        raise SkyclockError("fit_pulsar_timing: model must be a timing-model file or its TOML text")
+    name, text = _model_text(model)
     if clocks is not None:
         clock = None
     data, columns, toml = _native.fit_pulsar_timing(
@@ -585,3 +593,219 @@ def fit_pulsar_timing(
         _texts(site_names, "site_names"),
     )
     return Result("TimingSolution", data, {"residuals": frame(columns)}, fitted_model_toml=toml)
+
+
+def time_events(
+    times,
+    values,
+    errors=None,
+    *,
+    epoch_bjd_tdb,
+    period_d: float,
+    event_kind: str = "primary",
+    half_width_phase: Optional[float] = None,
+    half_width_d: Optional[float] = None,
+    method: str = "kwee-van-woerden",
+    polynomial_degree: int = 2,
+    min_points: int = 12,
+    min_points_per_side: int = 3,
+    bootstrap: int = 200,
+    seed: int = 1,
+    brightness: str = "magnitude",
+    jd2=None,
+    clock: str = "bjd_tdb",
+    clocks=None,
+    site_names=None,
+    **place,
+) -> Result:
+    """Times of minimum (or maximum, ``event_kind``) of every event of a light curve
+    around the ephemeris ``epoch_bjd_tdb`` + E × ``period_d``, within ``half_width_phase``
+    (or ``half_width_d``) of each predicted event (library ``minima::time_light_curve``):
+    ``kwee-van-woerden`` (Kwee & van Woerden 1956), ``symmetric-polynomial`` (degree 2 or 4)
+    or ``symmetric-gaussian`` with ``bootstrap`` resamples. Events with too few points are
+    listed with the reason.
+
+    Returns a Result (``EventTimingReport``) with tables ``timed`` and ``skipped``.
+    """
+    if half_width_phase is None and half_width_d is None:
+        raise SkyclockError("give one of half_width_phase and half_width_d")
+    t, v, e, _ = _light_curve(times, values, errors, jd2, None)
+    options = json.dumps(
+        {
+            "epoch_bjd_tdb": _epoch_text(epoch_bjd_tdb, "epoch_bjd_tdb"),
+            "period_d": float(period_d),
+            "event_kind": event_kind,
+            "half_width_phase": None if half_width_phase is None else float(half_width_phase),
+            "half_width_d": None if half_width_d is None else float(half_width_d),
+            "method": method,
+            "polynomial_degree": int(polynomial_degree),
+            "min_points": int(min_points),
+            "min_points_per_side": int(min_points_per_side),
+            "bootstrap": int(bootstrap),
+            "seed": int(seed),
+            "brightness": brightness,
+        }
+    )
+    data = _native.time_events(t, v, options, _place(place), clock, e, _texts(clocks, "clocks"), _texts(site_names, "site_names"))
+    parsed = json.loads(data)
+    return Result("EventTimingReport", data, {"timed": pd.DataFrame(parsed["timed"]), "skipped": pd.DataFrame(parsed["skipped"])})
+
+
+def predict_events(
+    ephemeris=None,
+    *,
+    from_utc: str,
+    until_utc: str,
+    model: str = "linear",
+    epoch_bjd_tdb=None,
+    period_d: Optional[float] = None,
+    epoch_sigma_d: float = 0.0,
+    period_sigma_d: float = 0.0,
+    period_change_per_cycle_d: float = 0.0,
+    period_change_per_cycle_sigma_d: float = 0.0,
+    kinds: Sequence[str] = ("primary",),
+    min_target_altitude_deg: float = 30.0,
+    max_sun_altitude_deg: float = -12.0,
+    min_moon_separation_deg: float = 0.0,
+    event_duration_hours: Optional[float] = None,
+    sun_caution_deg: Optional[float] = None,
+    only_observable: bool = False,
+    **place,
+) -> Result:
+    """Upcoming events between ``from_utc`` and ``until_utc`` (ISO UTC) seen from ``site``
+    (library ``predict::forecast``): BJD_TDB with σ propagated from the fit's covariance,
+    UTC, target and Sun altitude, twilight, Moon separation and phase, observability, and a
+    caution for targets within ``sun_caution_deg`` (default 15°) of the Sun.
+
+    ``ephemeris`` is a Result of ``analyse_timings`` (its ``model``: ``linear``,
+    ``quadratic``, ``quadratic+light-time``, … with every fitted term and covariance); or
+    give ``epoch_bjd_tdb`` and ``period_d`` (with σ and an optional period change per cycle).
+
+    Returns a Result (``Forecast``) with table ``events``; read ``cautions`` before
+    planning an observation.
+    """
+    if isinstance(kinds, str):
+        kinds = [k.strip() for k in kinds.split(",")]
+    given = json.dumps(
+        {
+            "epoch_bjd_tdb": _epoch_text(epoch_bjd_tdb, "epoch_bjd_tdb"),
+            "period_d": None if period_d is None else float(period_d),
+            "epoch_sigma_d": float(epoch_sigma_d),
+            "period_sigma_d": float(period_sigma_d),
+            "period_change_per_cycle_d": float(period_change_per_cycle_d),
+            "period_change_per_cycle_sigma_d": float(period_change_per_cycle_sigma_d),
+            "model": model,
+        }
+    )
+    options = json.dumps(
+        {
+            "kinds": list(kinds),
+            "from_utc": from_utc,
+            "until_utc": until_utc,
+            "min_target_altitude_deg": float(min_target_altitude_deg),
+            "max_sun_altitude_deg": float(max_sun_altitude_deg),
+            "min_moon_separation_deg": float(min_moon_separation_deg),
+            "event_duration_hours": None if event_duration_hours is None else float(event_duration_hours),
+            "sun_caution_deg": float(_native.SUN_CAUTION_DEG if sun_caution_deg is None else sun_caution_deg),
+            "only_observable": bool(only_observable),
+        }
+    )
+    analysis = None
+    if ephemeris is not None:
+        if isinstance(ephemeris, Result):
+            analysis = json.dumps(ephemeris.to_dict())
+        elif isinstance(ephemeris, dict):
+            analysis = json.dumps(ephemeris)
+        else:
+            raise SkyclockError("predict_events: ephemeris must be the Result of analyse_timings (or its to_dict())")
+    data = _native.predict_events(given, options, _place(place), analysis)
+    events = pd.json_normalize(json.loads(data)["events"])
+    return Result("Forecast", data, {"events": events})
+
+
+def search_pulsations(
+    times,
+    *,
+    min_freq_hz: float,
+    max_freq_hz: float,
+    min_freq_deriv_hz_per_s: float = 0.0,
+    max_freq_deriv_hz_per_s: float = 0.0,
+    oversampling: float = 4.0,
+    harmonics: int = 2,
+    weights=None,
+    jd2=None,
+    clock: str = "bjd_tdb",
+    **place,
+) -> Result:
+    """Z²ₙ search (Buccheri et al. 1983) of photon events over frequency (Hz) and its
+    derivative (Hz/s), with the trials-corrected false alarm of the best trial (library
+    ``pulsar::search::search_pulsations``). ``weights`` in [0, 1] per photon.
+
+    Returns a Result (``PulsationSearch``) with table ``grid`` (``freq_hz``,
+    ``freq_deriv_hz_per_s``, ``z2``).
+    """
+    options = json.dumps(
+        {
+            "min_freq_hz": float(min_freq_hz),
+            "max_freq_hz": float(max_freq_hz),
+            "min_freq_deriv_hz_per_s": float(min_freq_deriv_hz_per_s),
+            "max_freq_deriv_hz_per_s": float(max_freq_deriv_hz_per_s),
+            "oversampling": float(oversampling),
+            "harmonics": int(harmonics),
+        }
+    )
+    data, grid = _native.search_pulsations_in_events(
+        _times(times, jd2), options, _place(place), clock, None if weights is None else _floats(weights, "weights")
+    )
+    return Result("PulsationSearch", data, {"grid": frame(grid)})
+
+
+def pulse_profile(
+    times,
+    model,
+    *,
+    bins: int = 32,
+    harmonics: int = 5,
+    gaussian_components: Optional[int] = None,
+    model_validity_days: float = 1100.0,
+    instrument: str = "default",
+    weights=None,
+    jd2=None,
+    clock: str = "bjd_tdb",
+    **place,
+) -> Result:
+    """Folds photon events with a timing model (file or TOML text) into a binned profile
+    with errors, a Fourier (``harmonics``) or Gaussian-component template and the H test
+    (de Jager et al. 1989) (library ``pulsar::profile::pulse_profile``). The model is
+    trusted within ``model_validity_days`` of its epoch.
+
+    Returns a Result (``PulseProfile``) with table ``profile`` (``phase_center_cycles``,
+    ``counts``, ``count_error``, ``relative_intensity``, ``relative_intensity_error``,
+    ``template_density``).
+    """
+    name, text = _model_text(model)
+    options = json.dumps(
+        {
+            "bins": int(bins),
+            "harmonics": int(harmonics),
+            "gaussian_components": None if gaussian_components is None else int(gaussian_components),
+            "model_validity_days": float(model_validity_days),
+            "instrument": instrument,
+        }
+    )
+    data = _native.fold_pulse_profile(
+        _times(times, jd2), text, name, options, _place(place), clock, None if weights is None else _floats(weights, "weights")
+    )
+    parsed = json.loads(data)
+    p = parsed["profile"]
+    table = pd.DataFrame(
+        {
+            "phase_center_cycles": p["phase_center_cycles"],
+            "counts": p["counts"],
+            "count_error": p["count_errors"],
+            "relative_intensity": p["relative_intensity"],
+            "relative_intensity_error": p["relative_intensity_errors"],
+            "template_density": parsed["template_density"],
+        }
+    )
+    return Result("PulseProfile", data, {"profile": table})

@@ -9,7 +9,9 @@
 
 mod arrival;
 mod convert;
+mod events;
 mod place;
+mod pulsar;
 mod search;
 mod survey;
 mod timing;
@@ -28,6 +30,7 @@ pyo3::create_exception!(
 fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("SkyclockError", m.py().get_type::<SkyclockError>())?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
+    m.add("SUN_CAUTION_DEG", skyclock::predict::SUN_CAUTION_DEG)?;
     m.add_function(wrap_pyfunction!(convert::times_as_text, m)?)?;
     m.add_function(wrap_pyfunction!(arrival::barycentre, m)?)?;
     m.add_function(wrap_pyfunction!(arrival::convert_times, m)?)?;
@@ -36,7 +39,11 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(search::fold_light_curve, m)?)?;
     m.add_function(wrap_pyfunction!(search::extract_frequencies, m)?)?;
     m.add_function(wrap_pyfunction!(survey::survey_batch, m)?)?;
+    m.add_function(wrap_pyfunction!(events::time_events, m)?)?;
+    m.add_function(wrap_pyfunction!(events::predict_events, m)?)?;
     m.add_function(wrap_pyfunction!(timing::analyse_timings, m)?)?;
     m.add_function(wrap_pyfunction!(timing::fit_pulsar_timing, m)?)?;
+    m.add_function(wrap_pyfunction!(pulsar::search_pulsations_in_events, m)?)?;
+    m.add_function(wrap_pyfunction!(pulsar::fold_pulse_profile, m)?)?;
     Ok(())
 }

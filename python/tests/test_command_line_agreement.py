@@ -155,3 +155,78 @@ def test_pulsar_timing_fit(cli, tmp_path):
     assert result.fitted_model_toml == (tmp_path / "fitted.toml").read_text()
     written = pd.read_csv(tmp_path / "res.csv")
     np.testing.assert_allclose(result.residuals["residual_us"], written["residual_us"], rtol=0, atol=5e-7)
+
+
+def test_times_of_minimum(cli, tmp_path):
+    summary = cli(
+        "time-events", "--input", PHOTOMETRY, "--time-column", "time", "--value-column", "mag",
+        "--error-column", "mag_err", "--clock", "jd_utc", "--sites-file", SITES, "--site", RIDGE,
+        "--source-file", SITES, "--epoch-bjd-tdb", "2459000.34567890", "--period-d", "0.83712345",
+        "--event-kind", "primary", "--half-width-phase", "0.09", "--output", tmp_path / "minima.csv",
+    )
+    lc = photometry()
+    result = skyclock.time_events(lc["time"], lc["mag"], lc["mag_err"], epoch_bjd_tdb="2459000.34567890",
+                                  period_d=0.83712345, half_width_phase=0.09, clock="jd_utc", **PLACE)
+    assert result.to_dict() == summary
+    assert len(result.timed) == len(summary["timed"]) > 0
+
+
+def test_predictions_from_the_fitted_analysis(cli, tmp_path):
+    oc_summary = tmp_path / "oc.json"
+    cli(
+        "timing-residuals", "--input", MINIMA, "--time-column", "time", "--clock-column", "clock",
+        "--error-column", "error_d", "--kind-column", "kind", "--sites-file", SITES, "--site-column", "site",
+        "--source-file", SITES, "--epoch-bjd-tdb", "2459000.34567890", "--period-d", "0.83712345",
+        "--models", "linear,quadratic+light-time", "--output", tmp_path / "oc.csv", "--summary", oc_summary,
+    )
+    # Fixed dates: the same verdict on any day of the year.
+    window = ["--from", "2027-01-10T00:00:00", "--until", "2027-01-24T00:00:00"]
+    summary = cli("predict-events", "--ephemeris-summary", oc_summary, "--summary-model", "quadratic+light-time",
+                  *window, "--sites-file", SITES, "--site", RIDGE, "--source-file", SITES, "--kinds", "primary,secondary")
+    t = pd.read_csv(MINIMA, dtype=str)
+    analysis = skyclock.analyse_timings(
+        t["time"], t["error_d"].astype(float), clocks=t["clock"], kinds=t["kind"], site_names=t["site"],
+        sites_file=SITES, source_file=SITES, epoch_bjd_tdb="2459000.34567890", period_d=0.83712345,
+        models=["linear", "quadratic+light-time"],
+    )
+    result = skyclock.predict_events(analysis, model="quadratic+light-time", from_utc="2027-01-10T00:00:00",
+                                     until_utc="2027-01-24T00:00:00", kinds=["primary", "secondary"], **PLACE)
+    got = result.to_dict()
+    # The command line names the summary file it read the ephemeris from; all else is equal.
+    assert got["ephemeris"].pop("origin") == "quadratic+light-time model of the analysis given"
+    summary["ephemeris"].pop("origin")
+    assert got == summary
+    assert len(result.events) > 10
+
+
+def fitted_pulsar_model(tmp_path):
+    t = pd.read_csv(TOAS, dtype={"time": str})
+    fit = skyclock.fit_pulsar_timing(
+        t["time"], t["error_us"], START_MODEL, freq_mhz=t["freq_mhz"], instrument=t["instrument"], clock="mjd_utc",
+        sites_file=PULSAR, site="Harrow Moss Radio Array", source_file=PULSAR,
+    )
+    path = tmp_path / "fitted.toml"
+    path.write_text(fit.fitted_model_toml)
+    return path
+
+
+def test_pulse_profile_and_pulsation_search(cli, tmp_path):
+    model = fitted_pulsar_model(tmp_path)
+    events = DATASETS / "veyra_x2_xray_events.csv"
+    summary = cli("pulse-profile", "--input", events, "--time-column", "time", "--clock", "bmjd_tdb",
+                  "--source-file", PULSAR, "--model", model, "--bins", "32", "--harmonics", "3",
+                  "--output", tmp_path / "profile.csv")
+    times = pd.read_csv(events, dtype=str)["time"]
+    result = skyclock.pulse_profile(times, model, bins=32, harmonics=3, clock="bmjd_tdb", source_file=PULSAR)
+    assert result.to_dict() == summary
+    assert len(result.profile) == 32
+
+    spin = [line for line in model.read_text().splitlines() if line.strip().startswith("freq_hz")]
+    freq = float(spin[0].split("=")[1])
+    args = ["--min-freq-hz", repr(freq - 2e-4), "--max-freq-hz", repr(freq + 2e-4)]
+    summary = cli("search-pulsations", "--input", events, "--time-column", "time", "--clock", "bmjd_tdb",
+                  "--source-file", PULSAR, *args, "--output", tmp_path / "z2.csv")
+    found = skyclock.search_pulsations(times, min_freq_hz=freq - 2e-4, max_freq_hz=freq + 2e-4, clock="bmjd_tdb",
+                                       source_file=PULSAR)
+    assert found.to_dict() == summary
+    assert abs(found.to_dict()["best"]["freq_hz"] - freq) < 1e-4
