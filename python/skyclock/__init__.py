@@ -51,6 +51,7 @@ __all__ = [
     "fit_pulsar_timing",
     "search_pulsations",
     "pulse_profile",
+    "event_arrival_times",
 ]
 
 _PLACE_KEYS = {
@@ -80,8 +81,8 @@ def _place(place: dict) -> str:
             continue
         if key in ("ra", "dec"):
             value = value if isinstance(value, str) else repr(float(value))
-        elif key == "site" and not isinstance(value, str):
-            value = [float(v) for v in value]
+        elif key == "site":
+            value = value if isinstance(value, str) else [float(v) for v in value]
         elif key in ("sites_file", "source_file", "ephemeris_kernel", "leap_seconds", "earth_orientation"):
             value = os.fspath(value)
         elif key != "position_epoch":
@@ -124,7 +125,7 @@ def _times(times: Any, jd2: Any = None, name: str = "times") -> list:
             raise SkyclockError(f"'{name}' given as text cannot take a second part jd2")
         return [None if v is None else (repr(v) if isinstance(v, float) else str(v)) for v in a.tolist()]
     a = _floats(a, name)
-    return _native.times_as_text(a, None if jd2 is None else _floats(jd2, "jd2"))
+    return _native.times_as_text(a, None if jd2 is None else _floats(jd2, "jd2"), name)
 
 
 def _epoch_text(value: Any, name: str) -> Optional[str]:
@@ -809,3 +810,54 @@ def pulse_profile(
         }
     )
     return Result("PulseProfile", data, {"profile": table})
+
+
+def event_arrival_times(
+    times,
+    model,
+    template,
+    *,
+    segment_duration_s: Optional[float] = None,
+    segment_photons: Optional[int] = None,
+    min_photons: int = 100,
+    model_validity_days: float = 1100.0,
+    instrument: str = "default",
+    weights=None,
+    jd2=None,
+    clock: str = "bjd_tdb",
+    **place,
+) -> Result:
+    """Arrival times from photon events: the events are cut into segments (by
+    ``segment_duration_s`` or ``segment_photons``), each is folded with the timing model
+    and cross-correlated with the pulse template (library
+    ``pulsar::event_toas::event_arrival_times``); segments with fewer than ``min_photons``
+    are skipped and listed. ``template`` is a ``pulse_profile`` Result, its ``to_dict()``,
+    or a template file written by ``skyclock pulse-profile --template-output``.
+
+    Returns a Result (``EventArrivalTimes``); ``to_dict()`` holds the arrival times.
+    """
+    name, text = _model_text(model)
+    if isinstance(template, Result):
+        template = template.to_dict()["template"]
+    elif isinstance(template, (str, os.PathLike)):
+        with open(template, encoding="utf-8") as f:
+            doc = json.load(f)
+        if "template" not in doc:
+            raise SkyclockError(f"{os.fspath(template)}: no 'template' key; write templates with pulse_profile")
+        template = doc["template"]
+    elif isinstance(template, dict) and "template" in template:
+        template = template["template"]
+    options = json.dumps(
+        {
+            "segment_duration_s": None if segment_duration_s is None else float(segment_duration_s),
+            "segment_photons": None if segment_photons is None else int(segment_photons),
+            "min_photons": int(min_photons),
+            "model_validity_days": float(model_validity_days),
+            "instrument": instrument,
+        }
+    )
+    data = _native.arrival_times_from_events(
+        _times(times, jd2), text, name, json.dumps(template), options, _place(place), clock,
+        None if weights is None else _floats(weights, "weights"),
+    )
+    return Result("EventArrivalTimes", data)

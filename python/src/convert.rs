@@ -43,32 +43,41 @@ pub fn to_json<T: serde::Serialize>(value: &T) -> PyResult<String> {
 
 /// Times as the text the library parses: each `jd1` written in Rust's shortest form that
 /// reads back to the same float64 (so a value read from a table round-trips to the table's
-/// digits), and with `jd2` the two-part form "jd1 jd2" that keeps every digit. NaN and
-/// infinities are written as they are, so that the library rejects them by row.
+/// digits), and with `jd2` the two-part form "jd1 jd2" that keeps every digit. A time that
+/// is NaN or infinite is refused, naming its row (from 1) and the argument `name`: a float
+/// array has no empty cell, so a NaN time is a mistake, not a missing value.
 #[pyfunction]
-#[pyo3(signature = (jd1, jd2=None))]
+#[pyo3(signature = (jd1, jd2=None, name="times"))]
 pub fn times_as_text(
     jd1: PyArrayLike1<'_, f64, AllowTypeChange>,
     jd2: Option<PyArrayLike1<'_, f64, AllowTypeChange>>,
+    name: &str,
 ) -> PyResult<Vec<String>> {
     let a = floats(&jd1);
-    match jd2 {
-        None => Ok(a.iter().map(|x| format!("{x}")).collect()),
-        Some(b) => {
-            let b = floats(&b);
-            check_length("jd2", b.len(), a.len())?;
-            Ok(a.iter().zip(&b).map(|(x, y)| format!("{x} {y}")).collect())
-        }
+    let b = jd2.as_ref().map(floats);
+    if let Some(b) = &b {
+        check_length("jd2", b.len(), a.len())?;
     }
+    let bad = |i: usize, what: &str, v: f64| {
+        error(format!("{ARRAYS}, row {}, column '{name}': {what} {v} is not a time", i + 1))
+    };
+    a.iter()
+        .enumerate()
+        .map(|(i, x)| {
+            if !x.is_finite() {
+                return Err(bad(i, "JD", *x));
+            }
+            match &b {
+                None => Ok(format!("{x}")),
+                Some(b) if !b[i].is_finite() => Err(bad(i, "jd2", b[i])),
+                Some(b) => Ok(format!("{x} {}", b[i])),
+            }
+        })
+        .collect()
 }
 
 /// A text column.
 pub fn text_column(name: &str, values: &[Option<String>]) -> Column {
-    Column::new(name.into(), values.to_vec())
-}
-
-/// A float column.
-pub fn float_column(name: &str, values: &[f64]) -> Column {
     Column::new(name.into(), values.to_vec())
 }
 

@@ -45,5 +45,6 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(timing::fit_pulsar_timing, m)?)?;
     m.add_function(wrap_pyfunction!(pulsar::search_pulsations_in_events, m)?)?;
     m.add_function(wrap_pyfunction!(pulsar::fold_pulse_profile, m)?)?;
+    m.add_function(wrap_pyfunction!(pulsar::arrival_times_from_events, m)?)?;
     Ok(())
 }

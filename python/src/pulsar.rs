@@ -186,3 +186,81 @@ pub fn fold_pulse_profile<'py>(
     })?;
     to_json(&result)
 }
+
+/// Options of the event arrival times.
+#[derive(Debug, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ArrivalKeywords {
+    segment_duration_s: Option<f64>,
+    segment_photons: Option<usize>,
+    min_photons: usize,
+    model_validity_days: f64,
+    instrument: String,
+}
+
+/// Arrival times from photon events: the events cut into segments, each cross-correlated
+/// with the template (the JSON of a pulse template, as `pulse_profile` returns it) (library:
+/// `pulsar::event_toas::event_arrival_times`). Returns the result JSON.
+#[pyfunction]
+#[pyo3(signature = (times, model_toml, model_name, template_json, options, place, clock, weights=None))]
+pub fn arrival_times_from_events<'py>(
+    py: Python<'py>,
+    times: Vec<Option<String>>,
+    model_toml: &str,
+    model_name: &str,
+    template_json: &str,
+    options: &str,
+    place: &str,
+    clock: &str,
+    weights: Option<PyArrayLike1<'py, f64, AllowTypeChange>>,
+) -> PyResult<String> {
+    use skyclock::pulsar::event_toas::{Segmentation, event_arrival_times};
+    use skyclock::pulsar::profile::PulseTemplate;
+    let o: ArrivalKeywords = crate::convert::options(options, "arrival-time options")?;
+    let place: Place = crate::convert::options(place, "place options")?;
+    let segmentation = match (o.segment_duration_s, o.segment_photons) {
+        (Some(seconds), None) => Segmentation::Duration { seconds },
+        (None, Some(count)) => Segmentation::Photons { count },
+        _ => {
+            return Err(error(
+                "say how to cut the events: give exactly one of segment_duration_s=SECONDS or segment_photons=COUNT",
+            ));
+        }
+    };
+    if !(o.model_validity_days > 0.0 && o.model_validity_days.is_finite()) {
+        return Err(error(format!("model_validity_days {}: must be > 0", o.model_validity_days)));
+    }
+    let model = TimingModel::from_toml(model_toml, model_name).map_err(error)?;
+    let template: PulseTemplate =
+        serde_json::from_str(template_json).map_err(|e| error(format!("template: not a pulse template: {e}")))?;
+    template.validate().map_err(|e| error(format!("template: {e}")))?;
+    let weights = weights.as_ref().map(floats);
+    let result = py.detach(|| -> PyResult<_> {
+        let (instants, weights) = barycentric_events(&times, weights, clock, &place, false)?;
+        if instants.is_empty() {
+            return Err(error(format!("{ARRAYS}: the event table has no rows")));
+        }
+        if let Some(w) = &weights
+            && let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(0.0..=1.0).contains(*v))
+        {
+            return Err(error(format!(
+                "{ARRAYS}, row {}, column 'weights': weight {v}; weights are probabilities in [0, 1]",
+                i + 1
+            )));
+        }
+        let epoch = model.epoch();
+        let times_s: Vec<f64> = instants.iter().map(|t| t.seconds_since(&epoch)).collect();
+        event_arrival_times(
+            &model,
+            &times_s,
+            weights.as_deref(),
+            &template,
+            segmentation,
+            o.min_photons,
+            o.model_validity_days * SECONDS_PER_DAY,
+            &o.instrument,
+        )
+        .map_err(|e| error(format!("{ARRAYS}, column 'times': {e}")))
+    })?;
+    to_json(&result)
+}

@@ -13,7 +13,7 @@ use skyclock::survey::batch::{
 use skyclock::table::TableError;
 use skyclock::time::LeapSecondTable;
 
-use crate::convert::{check_length, error, to_json};
+use crate::convert::{check_length, to_json};
 use crate::place::{Place, clock};
 use crate::search::SearchOptions;
 

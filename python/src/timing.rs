@@ -51,7 +51,7 @@ impl TimesIn {
             columns.push(text_column("site_names", s));
         }
         for c in extra {
-            check_length(c.name(), c.len(), n)?;
+            check_length(c.name().as_str(), c.len(), n)?;
             columns.push(c);
         }
         table(columns)

@@ -34,12 +34,13 @@ def command_line_binary() -> Path:
 
 @pytest.fixture(scope="session")
 def cli():
-    """Runs the command line with the given arguments and returns its --json summary,
+    """Runs the command line with the given arguments and returns its --json summary (on
+    stdout; notes go to stderr),
     without the envelope (schema version, provenance, inputs, outputs)."""
     binary = command_line_binary()
 
     def run(*args):
-        done = subprocess.run([str(binary), *map(str, args), "--json", "--quiet"], capture_output=True, text=True)
+        done = subprocess.run([str(binary), *map(str, args), "--json"], capture_output=True, text=True)
         if done.returncode != 0:
             raise AssertionError(f"skyclock {' '.join(map(str, args))} failed:\n{done.stderr}")
         doc = json.loads(done.stdout)
