@@ -4,8 +4,8 @@
 
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
-use skyclock::arrival::table::TableRequest;
 use skyclock::arrival::DelayOptions;
+use skyclock::arrival::table::TableRequest;
 use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 use crate::convert::{ARRAYS, check_length, error, table, table_to_python, text_column, to_json};
@@ -80,7 +80,8 @@ struct ConvertOptions {
 }
 
 fn time_format(text: &str) -> PyResult<TimeFormat> {
-    TimeFormat::parse(text).ok_or_else(|| error(format!("unknown time format '{text}'; use jd, mjd, reduced-jd or iso")))
+    TimeFormat::parse(text)
+        .ok_or_else(|| error(format!("unknown time format '{text}'; use jd, mjd, reduced-jd or iso")))
 }
 
 fn time_scale(text: &str) -> PyResult<TimeScale> {

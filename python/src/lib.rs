@@ -5,7 +5,11 @@
 //! and hands back the typed result as its JSON form plus columns (numpy arrays or lists of
 //! text) for the tables. No science is done here.
 
-#![allow(clippy::too_many_arguments)] // a binding takes the arrays and options its command takes
+// Style lints switched off for the whole crate, as in the library (src/lib.rs):
+// - `too_many_arguments`: a binding takes the arrays and options its command takes.
+// - `neg_cmp_op_on_partial_ord`, `nonminimal_bool`: a refusal is written as the negation
+//   of what is accepted, `!(x.is_finite() && x > 0.0)`, which also refuses NaN.
+#![allow(clippy::too_many_arguments, clippy::neg_cmp_op_on_partial_ord, clippy::nonminimal_bool)]
 
 mod arrival;
 mod convert;

@@ -65,8 +65,12 @@ impl Place {
 
     /// Ephemeris, leap seconds and Earth orientation: the files named, or the built-in ones.
     pub fn reference(&self) -> PyResult<ReferenceData> {
-        ReferenceData::load(self.ephemeris_kernel.as_deref(), self.leap_seconds.as_deref(), self.earth_orientation.as_deref())
-            .map_err(error)
+        ReferenceData::load(
+            self.ephemeris_kernel.as_deref(),
+            self.leap_seconds.as_deref(),
+            self.earth_orientation.as_deref(),
+        )
+        .map_err(error)
     }
 
     /// The single site, if one was given.
@@ -100,7 +104,11 @@ impl Place {
 
     /// Who observed each row: a site per row (`site_column` names the table's column of
     /// site names, looked up in `sites_file`), one site, or the geocentre.
-    pub fn observer_spec(&self, description: Option<&Description>, site_column: Option<&str>) -> PyResult<ObserverSpec> {
+    pub fn observer_spec(
+        &self,
+        description: Option<&Description>,
+        site_column: Option<&str>,
+    ) -> PyResult<ObserverSpec> {
         if let Some(column) = site_column {
             let Some(d) = description else {
                 return Err(error("site_names= needs sites_file= naming a file that describes the sites"));
@@ -145,7 +153,11 @@ impl Place {
 
     /// The source, unless the clock is already barycentric and no source was given (then
     /// a placeholder that no correction uses, named as the command line names it).
-    pub fn source_unless_barycentric(&self, clock: Option<&ClockSpec>, description: Option<&Description>) -> PyResult<Source> {
+    pub fn source_unless_barycentric(
+        &self,
+        clock: Option<&ClockSpec>,
+        description: Option<&Description>,
+    ) -> PyResult<Source> {
         let barycentric = clock.is_some_and(|c| c.reference == ReferencePoint::Barycentric);
         let given = self.source_file.is_some()
             || self.ra.is_some()

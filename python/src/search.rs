@@ -14,7 +14,9 @@ use skyclock::frequencies::prewhiten::{PrewhitenOptions, StopReason, prewhiten};
 use skyclock::frequencies::summary::{ExtractedFrequency, FrequencyExtractionResult, combination_text};
 use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest, plan_grid};
-use skyclock::survey::input::{LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times};
+use skyclock::survey::input::{
+    LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times,
+};
 use skyclock::survey::report::period_search_report;
 use skyclock::survey::search::{SearchMethod, SearchPlan, search_series};
 use skyclock::table::text_column as read_text;
@@ -73,7 +75,8 @@ impl LightCurveInput {
         } else {
             let description = self.place.description()?;
             let source = self.place.source(description.as_ref())?;
-            let observer = self.place.observer_spec(description.as_ref(), self.site_names.as_ref().map(|_| "site_names"))?;
+            let observer =
+                self.place.observer_spec(description.as_ref(), self.site_names.as_ref().map(|_| "site_names"))?;
             let corrector = BarycentricCorrector::new(
                 reference.ephemeris.clone(),
                 reference.converter.clone(),
@@ -94,7 +97,11 @@ impl LightCurveInput {
                 parse_barycentric_times(&texts, &bjd, ARRAYS, "bjd_tdb", &leap).map_err(error)?,
                 format!(
                     "times carried from {} to BJD_TDB for {} with {}",
-                    if self.clocks.is_some() { "the clocks in column 'clocks'".to_string() } else { self.clock.clone() },
+                    if self.clocks.is_some() {
+                        "the clocks in column 'clocks'".to_string()
+                    } else {
+                        self.clock.clone()
+                    },
                     source.name,
                     reference.ephemeris.name()
                 ),
@@ -300,8 +307,13 @@ pub fn fold_light_curve<'py>(
                 skyclock::survey::input::days_since(&t, &lc.epoch)
             }
         };
-        let request =
-            FoldRequest { period_d: o.period_d, epoch_d, refine_harmonics: o.refine_harmonics, bins: o.bins, statistic };
+        let request = FoldRequest {
+            period_d: o.period_d,
+            epoch_d,
+            refine_harmonics: o.refine_harmonics,
+            bins: o.bins,
+            statistic,
+        };
         let folded = skyclock::fold::fold_light_curve(&series, &request, &note).map_err(|e| error(lc.locate(e)))?;
         let rows: Vec<i64> = series.row().iter().map(|&i| lc.file_row[i] as i64).collect();
         let days: Vec<f64> = series.time_d().iter().map(|t| t - epoch_d).collect();

@@ -155,10 +155,12 @@ pub fn survey_batch<'py>(
     let s: SearchOptions = crate::convert::options(search, "search options")?;
     let place: Place = crate::convert::options(place, "place options")?;
     let n = rows.len();
-    for (name, c) in [("source", Some(&source)), ("time", Some(&time)), ("value", Some(&value))]
-        .into_iter()
-        .chain([("error", error.as_ref()), ("band", band.as_ref()), ("ra", ra_deg.as_ref()), ("dec", dec_deg.as_ref())])
-    {
+    for (name, c) in [("source", Some(&source)), ("time", Some(&time)), ("value", Some(&value))].into_iter().chain([
+        ("error", error.as_ref()),
+        ("band", band.as_ref()),
+        ("ra", ra_deg.as_ref()),
+        ("dec", dec_deg.as_ref()),
+    ]) {
         if let Some(c) = c {
             check_length(name, c.len(), n)?;
         }
@@ -208,29 +210,34 @@ pub fn survey_batch<'py>(
         done: Default::default(),
     };
     let options = BatchOptions { clock: clock_spec, batch_points: o.batch_points };
-    let (summary, out, first_problems) = py.detach(|| {
-        let mut out = Rows { alias: vec![Vec::new(); k], peaks: (0..k).map(|_| Default::default()).collect(), ..Default::default() };
-        let mut first_problems = Vec::new();
-        let mut sink = |reports: Vec<SourceReport>| -> Result<(), TableError> {
-            for r in reports {
-                out.add(r, k, &mut first_problems);
-            }
-            Ok(())
-        };
-        let summary = run_batch_with_arrival(
-            &mut stream,
-            &o.table_name,
-            &columns,
-            &options,
-            &plan,
-            &leap,
-            arrival.as_ref().map(|x| x as &dyn SourceArrival),
-            &mut sink,
-            &|_, _| {},
-        );
-        summary.map(|s| (s, out, first_problems))
-    })
-    .map_err(crate::convert::error)?;
+    let (summary, out, first_problems) = py
+        .detach(|| {
+            let mut out = Rows {
+                alias: vec![Vec::new(); k],
+                peaks: (0..k).map(|_| Default::default()).collect(),
+                ..Default::default()
+            };
+            let mut first_problems = Vec::new();
+            let mut sink = |reports: Vec<SourceReport>| -> Result<(), TableError> {
+                for r in reports {
+                    out.add(r, k, &mut first_problems);
+                }
+                Ok(())
+            };
+            let summary = run_batch_with_arrival(
+                &mut stream,
+                &o.table_name,
+                &columns,
+                &options,
+                &plan,
+                &leap,
+                arrival.as_ref().map(|x| x as &dyn SourceArrival),
+                &mut sink,
+                &|_, _| {},
+            );
+            summary.map(|s| (s, out, first_problems))
+        })
+        .map_err(crate::convert::error)?;
     let d = PyDict::new(py);
     d.set_item("source_id", out.id)?;
     d.set_item("status", out.status)?;

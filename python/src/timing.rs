@@ -57,7 +57,12 @@ impl TimesIn {
         table(columns)
     }
 
-    fn request(&self, clock: Option<ClockSpec>, place: &Place, description: Option<&skyclock::config::Description>) -> PyResult<TableRequest> {
+    fn request(
+        &self,
+        clock: Option<ClockSpec>,
+        place: &Place,
+        description: Option<&skyclock::config::Description>,
+    ) -> PyResult<TableRequest> {
         Ok(TableRequest {
             time_column: "times".into(),
             clock,
@@ -210,7 +215,8 @@ pub fn analyse_timings<'py>(
                 row: i + 1,
             })
             .collect();
-        let analysis = analyse(&timings, &eph, &options, &|_, _| {}, &|_| {}).map_err(|e| error(format!("{ARRAYS}: {e}")))?;
+        let analysis =
+            analyse(&timings, &eph, &options, &|_, _| {}, &|_| {}).map_err(|e| error(format!("{ARRAYS}: {e}")))?;
         let series = analysis.series.as_ref().ok_or_else(|| error("the analysis kept no O–C series"))?;
         let mut floats_out: Vec<(String, Vec<f64>)> = vec![
             ("cycle".into(), series.cycle.clone()),
@@ -306,10 +312,7 @@ pub fn fit_pulsar_timing<'py>(
     d.set_item("residual_us", fit.residual_s.iter().map(|r| r * 1e6).collect::<Vec<f64>>().into_pyarray(py))?;
     d.set_item("residual_cycles", fit.residual_cycles.clone().into_pyarray(py))?;
     d.set_item("error_us", toas.iter().map(|t| t.error_s * 1e6).collect::<Vec<f64>>().into_pyarray(py))?;
-    d.set_item(
-        "freq_mhz",
-        toas.iter().map(|t| t.freq_mhz.unwrap_or(f64::NAN)).collect::<Vec<f64>>().into_pyarray(py),
-    )?;
+    d.set_item("freq_mhz", toas.iter().map(|t| t.freq_mhz.unwrap_or(f64::NAN)).collect::<Vec<f64>>().into_pyarray(py))?;
     d.set_item("instrument", toas.iter().map(|t| t.instrument.clone()).collect::<Vec<String>>())?;
     if !solution.orbital_phase_cycles.is_empty() {
         d.set_item("orbital_phase", solution.orbital_phase_cycles.clone().into_pyarray(py))?;
