@@ -16,6 +16,11 @@ from astropy import units as u
 from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
 from astropy.timeseries import LombScargle
+from astropy.utils import iers
+
+# Offline and the same on any day: astropy's bundled Earth-orientation tables only (times
+# beyond them take its documented defaults, which move no compared value here).
+iers.conf.auto_download = False
 
 import skyclock
 from conftest import ROOT
