@@ -42,3 +42,24 @@ def test_single_process_matches_the_command_line(cli, tmp_path):
             assert list(a.astype(str)) == list(b.astype(str)), c
     assert result.to_dict()["sources"] == summary["summary"]["sources"]
     assert result.to_dict()["searched"] == summary["summary"]["searched"]
+
+
+def test_survey_in_an_observer_clock_matches_the_command_line(cli, tmp_path):
+    # The invented field's times read as JD UTC at an invented site, each source at its own
+    # (invented) position: the batch carries them to BJD_TDB per source before the search.
+    field = invented_field(sources=6, seed=8)
+    field["ra_deg"] = 10.0 + 7.0 * field["source"].astype("category").cat.codes
+    field["dec_deg"] = -20.0 + 5.0 * field["source"].astype("category").cat.codes
+    path = tmp_path / "field_utc.parquet"
+    field.to_parquet(path)
+    out = tmp_path / "periods.parquet"
+    cli("survey-batch", "--input", path, "--time-column", "time", "--value-column", "mag", "--error-column",
+        "mag_err", "--clock", "jd_utc", "--ra-column", "ra_deg", "--dec-column", "dec_deg",
+        "--site-coordinates=-105.123,39.456,2150", "--max-freq-per-day", "5", "--peaks", "2", "--output", out)
+    result = skyclock.survey_batch(pd.read_parquet(path), table_name=str(path), clock="jd_utc", ra_column="ra_deg",
+                                   dec_column="dec_deg", site=(-105.123, 39.456, 2150), **KEYWORDS)
+    written = pd.read_parquet(out)
+    for c in ["period_d_1", "power_1", "false_alarm_probability_1", "baseline_d", "time_reference_bjd_tdb"]:
+        pd.testing.assert_series_equal(result.sources[c].astype(float), written[c].astype(float), check_names=False,
+                                       check_exact=True)
+    assert list(result.sources["status"]) == list(written["status"])
