@@ -151,6 +151,7 @@ def barycentre(
     site_names=None,
     solar_shapiro: bool = True,
     planet_shapiro: bool = False,
+    exact_per_row: bool = False,
     **place,
 ) -> Result:
     """Arrival times to BJD_TDB with every delay term (library ``arrival::barycentre_table``).
@@ -158,7 +159,8 @@ def barycentre(
     ``times`` in the clock ``clock`` (``jd_utc``, ``mjd_tt``, ``hjd_utc``, ``iso_utc``,
     ``bjd_tdb``…; or one label per row in ``clocks``), observed at ``site`` (or per row at
     ``site_names`` described in ``sites_file``) from ``source``. Accuracy as the library's
-    correction (sub-µs with the built-in DE440 pack; see docs/arrival.md).
+    correction (sub-µs with the built-in DE440 pack); dense rows are interpolated between
+    exactly corrected nodes (≤ 1 ns from the exact correction) unless ``exact_per_row``.
 
     Returns a Result (``BarycentreRun``) whose ``table`` has ``bjd_tdb`` (JD text, 14
     decimals), ``bjd_tdb_jd1``/``bjd_tdb_jd2`` (two parts), ``observer_tdb`` and one column
@@ -166,7 +168,14 @@ def barycentre(
     ``total_correction_s``).
     """
     texts = _times(times, jd2)
-    options = json.dumps({"clock": clock, "solar_shapiro": bool(solar_shapiro), "planet_shapiro": bool(planet_shapiro)})
+    options = json.dumps(
+        {
+            "clock": clock,
+            "solar_shapiro": bool(solar_shapiro),
+            "planet_shapiro": bool(planet_shapiro),
+            "exact_per_row": bool(exact_per_row),
+        }
+    )
     data, columns = _native.barycentre(texts, options, _place(place), _texts(clocks, "clocks"), _texts(site_names, "site_names"))
     return Result("BarycentreRun", data, {"table": frame(columns)})
 
@@ -647,9 +656,8 @@ def time_events(
             "brightness": brightness,
         }
     )
-    data = _native.time_events(t, v, options, _place(place), clock, e, _texts(clocks, "clocks"), _texts(site_names, "site_names"))
-    parsed = json.loads(data)
-    return Result("EventTimingReport", data, {"timed": pd.DataFrame(parsed["timed"]), "skipped": pd.DataFrame(parsed["skipped"])})
+    data, timed, skipped = _native.time_events(t, v, options, _place(place), clock, e, _texts(clocks, "clocks"), _texts(site_names, "site_names"))
+    return Result("EventTimingReport", data, {"timed": frame(timed), "skipped": frame(skipped)})
 
 
 def predict_events(
@@ -719,9 +727,8 @@ def predict_events(
             analysis = json.dumps(ephemeris)
         else:
             raise SkyclockError("predict_events: ephemeris must be the Result of analyse_timings (or its to_dict())")
-    data = _native.predict_events(given, options, _place(place), analysis)
-    events = pd.json_normalize(json.loads(data)["events"])
-    return Result("Forecast", data, {"events": events})
+    data, events = _native.predict_events(given, options, _place(place), analysis)
+    return Result("Forecast", data, {"events": frame(events)})
 
 
 def search_pulsations(

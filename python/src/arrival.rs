@@ -4,8 +4,8 @@
 
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
-use skyclock::arrival::DelayOptions;
 use skyclock::arrival::table::TableRequest;
+use skyclock::arrival::{CorrectionPath, DelayOptions};
 use skyclock::time::{TimeFormat, TimeScale, parse_time};
 
 use crate::convert::{ARRAYS, check_length, error, table, table_to_python, text_column, to_json};
@@ -18,9 +18,11 @@ struct BarycentreOptions {
     clock: Option<String>,
     solar_shapiro: bool,
     planet_shapiro: bool,
+    exact_per_row: bool,
 }
 
-/// Corrects arrival times to BJD_TDB (library: `arrival::barycentre_table`). `times` are
+/// Corrects arrival times to BJD_TDB (library: `arrival::barycentre_table_along`; dense rows
+/// interpolated between exactly corrected nodes, ≤ 1 ns, unless `exact_per_row`). `times` are
 /// texts in the clock `clock` (or per row in `clocks`); `site_names` names the site of each
 /// row. Returns (result JSON, table columns: the inputs and every added column).
 #[pyfunction]
@@ -62,9 +64,10 @@ pub fn barycentre<'py>(
         clock_column: clocks.as_ref().map(|_| "clocks".to_string()),
         observer,
     };
+    let path = if o.exact_per_row { CorrectionPath::ExactEveryRow } else { CorrectionPath::Automatic };
     let df = table(columns)?;
     let (out, run) = py
-        .detach(|| skyclock::arrival::barycentre_table(&df, ARRAYS, &request, &reference, &source, delays))
+        .detach(|| skyclock::arrival::barycentre_table_along(&df, ARRAYS, &request, &reference, &source, delays, path))
         .map_err(error)?;
     Ok((to_json(&run)?, table_to_python(py, &out)?))
 }

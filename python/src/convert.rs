@@ -90,18 +90,22 @@ pub fn table(columns: Vec<Column>) -> PyResult<DataFrame> {
 pub enum OutColumn {
     Floats(Vec<f64>),
     Integers(Vec<i64>),
+    Booleans(Vec<bool>),
     Texts(Vec<Option<String>>),
 }
 
 /// The columns of a polars table in order: numbers as float64 (missing → NaN; integer
-/// columns without missing cells stay int64), text as text, anything else as text.
+/// and boolean columns without missing cells stay int64 and bool), text as text, anything
+/// else as text.
 pub fn columns_of(df: &DataFrame) -> PyResult<Vec<(String, OutColumn)>> {
     let mut out = Vec::with_capacity(df.width());
     for c in df.columns() {
         let s = c.as_materialized_series();
         let name = s.name().to_string();
         let dtype = s.dtype().clone();
-        let column = if dtype.is_integer() && s.null_count() == 0 {
+        let column = if dtype.is_bool() && s.null_count() == 0 {
+            OutColumn::Booleans(s.bool().map_err(error)?.iter().map(|x| x.unwrap_or(false)).collect())
+        } else if dtype.is_integer() && s.null_count() == 0 {
             let v = s.cast(&DataType::Int64).map_err(error)?;
             OutColumn::Integers(v.i64().map_err(error)?.into_no_null_iter().collect())
         } else if dtype.is_primitive_numeric() {
@@ -123,6 +127,7 @@ pub fn columns_to_python<'py>(py: Python<'py>, columns: Vec<(String, OutColumn)>
         match c {
             OutColumn::Floats(v) => d.set_item(name, v.into_pyarray(py))?,
             OutColumn::Integers(v) => d.set_item(name, v.into_pyarray(py))?,
+            OutColumn::Booleans(v) => d.set_item(name, v.into_pyarray(py))?,
             OutColumn::Texts(v) => d.set_item(name, v)?,
         }
     }

@@ -4,6 +4,7 @@
 
 use numpy::{AllowTypeChange, PyArrayLike1};
 use pyo3::prelude::*;
+use pyo3::types::PyDict;
 use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::minima::{
     Brightness, EventCurve, EventTimingRequest, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape,
@@ -13,7 +14,7 @@ use skyclock::oc::{EventKind, FittedEphemeris, ModelKind, OcAnalysis, ReferenceE
 use skyclock::predict::{ForecastRequest, PredictionOptions, SkyGeometry, forecast};
 use skyclock::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
 
-use crate::convert::{error, floats, to_json};
+use crate::convert::{error, floats, table_to_python, to_json};
 use crate::place::Place;
 use crate::search::LightCurveInput;
 
@@ -41,9 +42,11 @@ fn event_kind(text: &str) -> PyResult<EventKind> {
 }
 
 /// Times of minimum (or maximum) of every event of a light curve around the ephemeris
-/// (library: `minima::time_light_curve`). Returns the report JSON.
+/// (library: `minima::time_light_curve`). Returns (report JSON, the timed and the skipped
+/// events as the command line writes them).
 #[pyfunction]
 #[pyo3(signature = (times, values, options, place, clock, errors=None, clocks=None, site_names=None))]
+#[allow(clippy::type_complexity)] // (report JSON, timed columns, skipped columns)
 pub fn time_events<'py>(
     py: Python<'py>,
     times: Vec<Option<String>>,
@@ -54,7 +57,7 @@ pub fn time_events<'py>(
     errors: Option<PyArrayLike1<'py, f64, AllowTypeChange>>,
     clocks: Option<Vec<Option<String>>>,
     site_names: Option<Vec<Option<String>>>,
-) -> PyResult<String> {
+) -> PyResult<(String, Bound<'py, PyDict>, Bound<'py, PyDict>)> {
     let o: TimingOptions = crate::convert::options(options, "event timing options")?;
     if !(o.period_d.is_finite() && o.period_d > 0.0) {
         return Err(error(format!("period_d must be a positive number of days, got {}", o.period_d)));
@@ -126,7 +129,9 @@ pub fn time_events<'py>(
         };
         time_light_curve(&request).map_err(|e| error(format!("{}: column 'values': {e}", lc.file)))
     })?;
-    to_json(&report)
+    let timed = report.timed_table().map_err(error)?;
+    let skipped = report.skipped_table().map_err(error)?;
+    Ok((to_json(&report)?, table_to_python(py, &timed)?, table_to_python(py, &skipped)?))
 }
 
 /// The ephemeris of a prediction: a fitted O–C analysis (its JSON) and a model, or values.
@@ -160,16 +165,16 @@ struct ForecastOptions {
 /// Upcoming events of an ephemeris between two UTC dates at a site, with σ, altitudes,
 /// twilight, the Moon and the Sun caution (library: `predict::forecast`). `analysis` is the
 /// JSON of an O–C analysis (`analyse_timings(...).to_dict()`), or `None` with the ephemeris
-/// values in `ephemeris`. Returns the forecast JSON.
+/// values in `ephemeris`. Returns (forecast JSON, the events table the command line writes).
 #[pyfunction]
 #[pyo3(signature = (ephemeris, options, place, analysis=None))]
-pub fn predict_events(
-    py: Python<'_>,
+pub fn predict_events<'py>(
+    py: Python<'py>,
     ephemeris: &str,
     options: &str,
     place: &str,
     analysis: Option<&str>,
-) -> PyResult<String> {
+) -> PyResult<(String, Bound<'py, PyDict>)> {
     let e: EphemerisGiven = crate::convert::options(ephemeris, "ephemeris")?;
     let o: ForecastOptions = crate::convert::options(options, "prediction options")?;
     let place: Place = crate::convert::options(place, "place options")?;
@@ -246,5 +251,6 @@ pub fn predict_events(
         only_observable: o.only_observable,
     };
     let result = py.detach(|| forecast(&request, &corrector, &sky)).map_err(error)?;
-    to_json(&result)
+    let events = result.table().map_err(error)?;
+    Ok((to_json(&result)?, table_to_python(py, &events)?))
 }

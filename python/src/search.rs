@@ -7,25 +7,23 @@
 use numpy::{AllowTypeChange, IntoPyArray, PyArrayLike1};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
-use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::arrival::table::ObserverSpec;
 use skyclock::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
 use skyclock::frequencies::prewhiten::{PrewhitenOptions, StopReason, prewhiten};
 use skyclock::frequencies::summary::{ExtractedFrequency, FrequencyExtractionResult, combination_text};
 use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest, plan_grid};
-use skyclock::survey::input::{
-    LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times,
-};
+use skyclock::survey::input::{LightCurveColumns, TableLightCurve, is_barycentric_tdb};
+use skyclock::survey::load::{LightCurveSource, TimeOrigin, light_curve_from_frame};
 use skyclock::survey::report::period_search_report;
 use skyclock::survey::search::{SearchMethod, SearchPlan, search_series};
-use skyclock::table::text_column as read_text;
 use skyclock::time::{LeapSecondTable, TimeFormat, TimeScale, parse_time};
 
 use crate::convert::{ARRAYS, check_length, error, floats, table, text_column, to_json};
 use crate::place::{Place, clock};
 
-/// A light curve as handed over from Python: times as text, values and errors as floats.
+/// A light curve as handed over from Python: times as text, values and errors as floats
+/// (written as text in their shortest round-trip form, as a table file holds them).
 pub struct LightCurveInput {
     pub times: Vec<Option<String>>,
     pub values: Vec<f64>,
@@ -44,7 +42,8 @@ fn number_texts(v: &[f64]) -> Vec<Option<String>> {
 impl LightCurveInput {
     /// The light curve in days since its epoch (BJD_TDB) and a note on how the times were
     /// taken; times in an observer clock are carried to the barycentre first (library:
-    /// `arrival::table::correct_table`), as the command line does.
+    /// `survey::load::light_curve_from_frame`, the in-memory form of the command line's
+    /// `read_light_curve`).
     pub fn load(&self) -> PyResult<(TableLightCurve, String)> {
         let n = self.times.len();
         check_length("values", self.values.len(), n)?;
@@ -54,7 +53,13 @@ impl LightCurveInput {
         if let Some(b) = &self.bands {
             check_length("bands", b.len(), n)?;
         }
-        let mut columns = vec![text_column("times", &self.times)];
+        let mut columns = vec![text_column("times", &self.times), text_column("values", &number_texts(&self.values))];
+        if let Some(e) = &self.errors {
+            columns.push(text_column("errors", &number_texts(e)));
+        }
+        if let Some(b) = &self.bands {
+            columns.push(text_column("bands", b));
+        }
         if let Some(c) = &self.clocks {
             check_length("clocks", c.len(), n)?;
             columns.push(text_column("clocks", c));
@@ -66,58 +71,30 @@ impl LightCurveInput {
         let df = table(columns)?;
         let clock_spec = clock(&self.clock)?;
         let reference = self.place.reference()?;
-        let leap = reference.converter.leap_seconds().clone();
-        let (times, note) = if self.clocks.is_none() && is_barycentric_tdb(&clock_spec) {
-            (
-                parse_barycentric_times(&self.times, &clock_spec, ARRAYS, "times", &leap).map_err(error)?,
-                format!("times read as {} (already barycentric)", self.clock),
-            )
+        let (observer, source) = if self.clocks.is_none() && is_barycentric_tdb(&clock_spec) {
+            (ObserverSpec::Geocentre, None)
         } else {
             let description = self.place.description()?;
-            let source = self.place.source(description.as_ref())?;
             let observer =
                 self.place.observer_spec(description.as_ref(), self.site_names.as_ref().map(|_| "site_names"))?;
-            let corrector = BarycentricCorrector::new(
-                reference.ephemeris.clone(),
-                reference.converter.clone(),
-                reference.orientation.clone(),
-                source.clone(),
-                DelayOptions::default(),
-            );
-            let request = TableRequest {
-                time_column: "times".into(),
-                clock: if self.clocks.is_some() { None } else { Some(clock_spec) },
-                clock_column: self.clocks.as_ref().map(|_| "clocks".to_string()),
-                observer,
-            };
-            let (corrected, _) = correct_table(&df, ARRAYS, &request, &corrector).map_err(error)?;
-            let texts = read_text(&corrected, ARRAYS, "bjd_tdb").map_err(error)?;
-            let bjd = ClockSpec::parse_label("bjd_tdb").map_err(error)?;
-            (
-                parse_barycentric_times(&texts, &bjd, ARRAYS, "bjd_tdb", &leap).map_err(error)?,
-                format!(
-                    "times carried from {} to BJD_TDB for {} with {}",
-                    if self.clocks.is_some() {
-                        "the clocks in column 'clocks'".to_string()
-                    } else {
-                        self.clock.clone()
-                    },
-                    source.name,
-                    reference.ephemeris.name()
-                ),
-            )
+            (observer, Some(self.place.source(description.as_ref())?))
         };
-        let columns = LightCurveColumns {
-            time: "times".into(),
-            value: "values".into(),
-            error: self.errors.as_ref().map(|_| "errors".to_string()),
-            band: self.bands.as_ref().map(|_| "bands".to_string()),
+        let request = LightCurveSource {
+            path: std::path::Path::new(ARRAYS),
+            columns: LightCurveColumns {
+                time: "times".into(),
+                value: "values".into(),
+                error: self.errors.as_ref().map(|_| "errors".to_string()),
+                band: self.bands.as_ref().map(|_| "bands".to_string()),
+            },
+            times: match &self.clocks {
+                Some(_) => TimeOrigin::ClockColumn("clocks".into()),
+                None => TimeOrigin::Clock(self.clock.clone()),
+            },
+            observer,
+            source,
         };
-        let values = number_texts(&self.values);
-        let errors = self.errors.as_deref().map(number_texts);
-        let lc = assemble(ARRAYS, &columns, &times, &values, errors.as_deref(), self.bands.as_deref(), &|i| i + 1)
-            .map_err(error)?;
-        Ok((lc, note))
+        light_curve_from_frame(&df, ARRAYS, &request, &reference).map_err(error)
     }
 }
 

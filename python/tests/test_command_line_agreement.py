@@ -14,9 +14,9 @@ from conftest import DATASETS
 SITES = DATASETS / "kx_inventa_sites.toml"
 MINIMA = DATASETS / "kx_inventa_minima.csv"
 PHOTOMETRY = DATASETS / "kx_inventa_photometry.csv"
-PULSAR = DATASETS / "veyra_x2.toml"
-TOAS = DATASETS / "veyra_x2_radio_toas.csv"
-START_MODEL = DATASETS / "veyra_x2_start_model.toml"
+PULSAR = DATASETS / "veyra_beacon.toml"
+TOAS = DATASETS / "veyra_beacon_radio_toas.csv"
+START_MODEL = DATASETS / "veyra_beacon_start_model.toml"
 RIDGE = "Ridge Hollow Observatory"
 
 
@@ -45,6 +45,15 @@ def test_barycentre_mixed_clocks_and_sites(cli, tmp_path):
              "roemer_delay_s", "curvature_delay_s", "shapiro_sun_delay_s", "shapiro_planets_delay_s",
              "heliocentric_removed_s", "total_correction_s", "input_clock"]
     exact_frame(result.table, written, added)
+    out = tmp_path / "exact.parquet"
+    summary = cli(
+        "barycentre", "--input", MINIMA, "--time-column", "time", "--clock-column", "clock",
+        "--sites-file", SITES, "--site-column", "site", "--source-file", SITES, "--exact-per-row", "--output", out,
+    )
+    exact = skyclock.barycentre(table["time"], clocks=table["clock"], site_names=table["site"], sites_file=SITES,
+                                source_file=SITES, exact_per_row=True)
+    assert exact.to_dict() == summary
+    exact_frame(exact.table, pd.read_parquet(out), added)
 
 
 def test_convert_and_observer_times(cli):
@@ -162,13 +171,15 @@ def test_times_of_minimum(cli, tmp_path):
         "time-events", "--input", PHOTOMETRY, "--time-column", "time", "--value-column", "mag",
         "--error-column", "mag_err", "--clock", "jd_utc", "--sites-file", SITES, "--site", RIDGE,
         "--source-file", SITES, "--epoch-bjd-tdb", "2459000.34567890", "--period-d", "0.83712345",
-        "--event-kind", "primary", "--half-width-phase", "0.09", "--output", tmp_path / "minima.csv",
+        "--event-kind", "primary", "--half-width-phase", "0.09", "--output", tmp_path / "minima.parquet",
     )
     lc = photometry()
     result = skyclock.time_events(lc["time"], lc["mag"], lc["mag_err"], epoch_bjd_tdb="2459000.34567890",
                                   period_d=0.83712345, half_width_phase=0.09, clock="jd_utc", **PLACE)
     assert result.to_dict() == summary
-    assert len(result.timed) == len(summary["timed"]) > 0
+    written = pd.read_parquet(tmp_path / "minima.parquet")
+    assert len(written) > 0
+    exact_frame(result.timed, written, list(written.columns))
 
 
 def test_predictions_from_the_fitted_analysis(cli, tmp_path):
@@ -182,7 +193,8 @@ def test_predictions_from_the_fitted_analysis(cli, tmp_path):
     # Fixed dates: the same verdict on any day of the year.
     window = ["--from", "2027-01-10T00:00:00", "--until", "2027-01-24T00:00:00"]
     summary = cli("predict-events", "--ephemeris-summary", oc_summary, "--summary-model", "quadratic+light-time",
-                  *window, "--sites-file", SITES, "--site", RIDGE, "--source-file", SITES, "--kinds", "primary,secondary")
+                  *window, "--sites-file", SITES, "--site", RIDGE, "--source-file", SITES, "--kinds", "primary,secondary",
+                  "--output", tmp_path / "events.parquet")
     t = pd.read_csv(MINIMA, dtype=str)
     analysis = skyclock.analyse_timings(
         t["time"], t["error_d"].astype(float), clocks=t["clock"], kinds=t["kind"], site_names=t["site"],
@@ -196,7 +208,9 @@ def test_predictions_from_the_fitted_analysis(cli, tmp_path):
     assert got["ephemeris"].pop("origin") == "quadratic+light-time model of the analysis given"
     summary["ephemeris"].pop("origin")
     assert got == summary
-    assert len(result.events) > 10
+    written = pd.read_parquet(tmp_path / "events.parquet")
+    assert len(written) > 10
+    exact_frame(result.events, written, list(written.columns))
 
 
 def fitted_pulsar_model(tmp_path):
@@ -212,7 +226,7 @@ def fitted_pulsar_model(tmp_path):
 
 def test_pulse_profile_and_pulsation_search(cli, tmp_path):
     model = fitted_pulsar_model(tmp_path)
-    events = DATASETS / "veyra_x2_xray_events.csv"
+    events = DATASETS / "veyra_beacon_xray_events.csv"
     summary = cli("pulse-profile", "--input", events, "--time-column", "time", "--clock", "bmjd_tdb",
                   "--source-file", PULSAR, "--model", model, "--bins", "32", "--harmonics", "3",
                   "--output", tmp_path / "profile.csv")
@@ -237,7 +251,7 @@ def test_pulse_profile_and_pulsation_search(cli, tmp_path):
 
 def test_arrival_times_from_events(cli, tmp_path):
     model = fitted_pulsar_model(tmp_path)
-    events = DATASETS / "veyra_x2_xray_events.csv"
+    events = DATASETS / "veyra_beacon_xray_events.csv"
     template = tmp_path / "template.json"
     cli("pulse-profile", "--input", events, "--time-column", "time", "--clock", "bmjd_tdb", "--source-file", PULSAR,
         "--model", model, "--bins", "32", "--harmonics", "3", "--output", tmp_path / "profile.csv",
