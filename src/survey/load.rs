@@ -10,6 +10,7 @@ use super::input::{LightCurveColumns, TableLightCurve, assemble, is_barycentric_
 use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
 use crate::arrival::{BarycentricCorrector, DelayOptions, ReferenceData, Source};
 use crate::table::{TableError, read_table, text_column};
+use polars::prelude::DataFrame;
 use std::path::Path;
 
 /// How the times of the table are written and where they were taken.
@@ -55,6 +56,20 @@ pub fn read_light_curve(
         text_cols.push(column);
     }
     let df = read_table(request.path, &text_cols)?;
+    light_curve_from_frame(&df, &file, request, reference)
+}
+
+/// As [`read_light_curve`], for a table already in memory (`df`, named `file` in messages;
+/// `request.path` is not read): its time, clock and site columns must be text. The Python
+/// module hands its arrays over this way.
+pub fn light_curve_from_frame(
+    df: &DataFrame,
+    file: &str,
+    request: &LightCurveSource,
+    reference: &ReferenceData,
+) -> Result<(TableLightCurve, String), TableError> {
+    let file = file.to_string();
+    let columns = &request.columns;
     let leap = reference.converter.leap_seconds().clone();
     let clock_of = |label: &str| {
         ClockSpec::parse_label(label).map_err(|e| TableError::File { file: file.clone(), message: e.to_string() })
@@ -65,7 +80,7 @@ pub fn read_light_curve(
     };
     let (times, note) = match single {
         Some((label, clock)) if is_barycentric_tdb(&clock) => {
-            let texts = text_column(&df, &file, &columns.time)?;
+            let texts = text_column(df, &file, &columns.time)?;
             (
                 parse_barycentric_times(&texts, &clock, &file, &columns.time, &leap)?,
                 format!("times read as {label} (already barycentric)"),
@@ -99,7 +114,7 @@ pub fn read_light_curve(
                 clock_column,
                 observer: request.observer.clone(),
             };
-            let (corrected, _) = correct_table(&df, &file, &table_request, &corrector)?;
+            let (corrected, _) = correct_table(df, &file, &table_request, &corrector)?;
             let texts = text_column(&corrected, &file, "bjd_tdb")?;
             let bjd = clock_of("bjd_tdb")?;
             (
@@ -108,9 +123,9 @@ pub fn read_light_curve(
             )
         }
     };
-    let values = text_column(&df, &file, &columns.value)?;
-    let errors = columns.error.as_deref().map(|c| text_column(&df, &file, c)).transpose()?;
-    let bands = columns.band.as_deref().map(|c| text_column(&df, &file, c)).transpose()?;
+    let values = text_column(df, &file, &columns.value)?;
+    let errors = columns.error.as_deref().map(|c| text_column(df, &file, c)).transpose()?;
+    let bands = columns.band.as_deref().map(|c| text_column(df, &file, c)).transpose()?;
     let lc = assemble(&file, columns, &times, &values, errors.as_deref(), bands.as_deref(), &|i| i + 1)?;
     Ok((lc, note))
 }
