@@ -5,11 +5,11 @@
 
 use skyclock::fit::SeededRng;
 use skyclock::periodogram::bls::{BoxDurations, BoxOptions, box_search, box_search_direct, plan_box_grid_for};
-use skyclock::survey::cascade::{CASCADE_DUTY_CYCLES, CascadeOptions, classify_series};
-use std::fmt::Write as _;
 use skyclock::periodogram::fast::{FastOptions, fast_sums};
 use skyclock::periodogram::sums::{exact_sums, naive_sums};
 use skyclock::periodogram::*;
+use skyclock::survey::cascade::{CASCADE_DUTY_CYCLES, CascadeOptions, classify_series};
+use std::fmt::Write as _;
 use std::time::Instant;
 
 fn series(n: usize, span_d: f64, seed: u64) -> Series {
@@ -214,8 +214,7 @@ fn against_astropy() {
     std::fs::write(dir.join("field_box_freqs.csv"), f.join("\n")).unwrap();
     std::fs::write(dir.join("field_harmonics.txt"), options.harmonics.to_string()).unwrap();
     let (q0, q1, nq) = CASCADE_DUTY_CYCLES;
-    let duty: Vec<String> =
-        (0..nq).map(|j| (q0 * (q1 / q0).powf(j as f64 / (nq - 1) as f64)).to_string()).collect();
+    let duty: Vec<String> = (0..nq).map(|j| (q0 * (q1 / q0).powf(j as f64 / (nq - 1) as f64)).to_string()).collect();
     std::fs::write(dir.join("field_duty.csv"), duty.join("\n")).unwrap();
     let (t_cascade, _) = one.install(|| {
         time(|| {
@@ -237,10 +236,7 @@ fn against_astropy() {
         .output();
     let out = match out {
         Ok(o) if o.status.success() => String::from_utf8_lossy(&o.stdout).to_string(),
-        Ok(o) => panic!(
-            "the astropy reference failed (pip install astropy): {}",
-            String::from_utf8_lossy(&o.stderr)
-        ),
+        Ok(o) => panic!("the astropy reference failed (pip install astropy): {}", String::from_utf8_lossy(&o.stderr)),
         Err(e) => panic!("python3 not found for the astropy reference: {e}"),
     };
     let value = |key: &str| -> f64 {
@@ -251,7 +247,10 @@ fn against_astropy() {
     };
     let version = out.lines().find_map(|l| l.strip_prefix("astropy_version=")).unwrap_or("?").to_string();
     let (a_box, a_cascade) = (value("astropy_box_s"), value("astropy_cascade_s"));
-    println!("  astropy {version} BoxLeastSquares (fast, oversample 10), same grid: {a_box:.3} s -> ratio {:.1}x (target >= 5x)", a_box / t_box);
+    println!(
+        "  astropy {version} BoxLeastSquares (fast, oversample 10), same grid: {a_box:.3} s -> ratio {:.1}x (target >= 5x)",
+        a_box / t_box
+    );
     println!(
         "  astropy {version} cascade (Lomb-Scargle, K-term Lomb-Scargle at the peaks, BoxLeastSquares), same grids: {a_cascade:.3} s -> ratio {:.1}x (target >= 5x)",
         a_cascade / t_cascade

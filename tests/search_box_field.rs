@@ -28,7 +28,15 @@ fn frac(x: f64) -> f64 {
 }
 
 /// Box-shaped dips of `depth` and `duration_d` every `period_d` from `t0` (flux, level 1).
-fn transit_flux(t: &[f64], period_d: f64, t0: f64, duration_d: f64, depth: f64, noise: f64, rng: &mut SeededRng) -> Vec<f64> {
+fn transit_flux(
+    t: &[f64],
+    period_d: f64,
+    t0: f64,
+    duration_d: f64,
+    depth: f64,
+    noise: f64,
+    rng: &mut SeededRng,
+) -> Vec<f64> {
     t.iter()
         .map(|&x| {
             let ph = frac((x - t0) / period_d);
@@ -68,7 +76,10 @@ fn space_field_transits_are_found_at_their_period() {
             pulls.push(pull);
             pull_ok += usize::from(pull.abs() <= 3.0);
         } else {
-            eprintln!("missed: P {p_true:.4} d, duration {duration:.3} d, depth {depth:.4}: found {:.5} d", det.period_d);
+            eprintln!(
+                "missed: P {p_true:.4} d, duration {duration:.3} d, depth {depth:.4}: found {:.5} d",
+                det.period_d
+            );
         }
     }
     eprintln!(

@@ -88,7 +88,10 @@ fn refinement_uses_the_model_and_says_when_it_inflates() {
     let eight = search_series(&s, &plan(8)).unwrap();
     let (a, b) = (&two.peaks[0], &eight.peaks[0]);
     let (fa, fb) = (a.refinement.unwrap(), b.refinement.unwrap());
-    eprintln!("2 harmonics: {:.9} ± {:.2e} ({fa:?}); 8: {:.9} ± {:.2e} ({fb:?})", a.peak.period_d, a.peak.period_err_d, b.peak.period_d, b.peak.period_err_d);
+    eprintln!(
+        "2 harmonics: {:.9} ± {:.2e} ({fa:?}); 8: {:.9} ± {:.2e} ({fb:?})",
+        a.peak.period_d, a.peak.period_err_d, b.peak.period_d, b.peak.period_err_d
+    );
     assert_ne!(a.peak.period_d, b.peak.period_d);
     assert_eq!((fa.harmonics, fb.harmonics), (2, 8));
     assert!(fa.reduced_chi2 > 2.0 && fa.err_inflated, "{fa:?}");

@@ -70,13 +70,8 @@ fn star(class: VariabilityClass, rng: &mut SeededRng) -> Star {
                     let d = |u: f64| if u.abs() < half_width { 1.0 - (u / half_width).powi(2) } else { 0.0 };
                     amp * (d(ph - ph.round()) + secondary * d(ph - 0.5))
                 }
-                VariabilityClass::TransitLike => {
-                    if ph.min(1.0 - ph) < 0.5 * duty {
-                        amp
-                    } else {
-                        0.0
-                    }
-                }
+                VariabilityClass::TransitLike if ph.min(1.0 - ph) < 0.5 * duty => amp,
+                VariabilityClass::TransitLike => 0.0,
                 VariabilityClass::Constant => 0.0,
             };
             13.0 + signal + noise * rng.normal()

@@ -136,13 +136,11 @@ impl SearchOptionArgs {
         let Some(text) = &self.durations_d else { return Ok(BoxDurations::default_duty_cycles()) };
         let mut d = Vec::new();
         for part in text.split(',') {
-                    let v: f64 = part
-                        .trim()
-                        .parse()
-                        .map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
-                    if !(v.is_finite() && v > 0.0) {
-                        anyhow::bail!("--durations-d: every duration must be > 0 days, got {v}");
-                    }
+            let v: f64 =
+                part.trim().parse().map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
+            if !(v.is_finite() && v > 0.0) {
+                anyhow::bail!("--durations-d: every duration must be > 0 days, got {v}");
+            }
             d.push(v);
         }
         Ok(BoxDurations::Fixed(d))

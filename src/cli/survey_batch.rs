@@ -9,12 +9,12 @@ use polars::prelude::*;
 
 use super::find_periods::SearchOptionArgs;
 use skyclock::arrival::table::ClockSpec;
-use skyclock::survey::cascade::{CascadeModel, CascadeOptions};
-use skyclock::survey::search::SearchMethod;
 use skyclock::survey::batch::{
     BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows,
     run_batch_with_arrival,
 };
+use skyclock::survey::cascade::{CascadeModel, CascadeOptions};
+use skyclock::survey::search::SearchMethod;
 use skyclock::table::{Provenance, Summary, write_table};
 use skyclock::time::LeapSecondTable;
 

@@ -50,7 +50,8 @@ pub fn write_survey(folder: &Path, seed: u64) -> Result<()> {
                 "constant" => 0.0,
                 _ => 0.05 + 0.25 * rng.uniform(),
             };
-            let noise = if class == "transit-like" { 0.003 + 0.003 * rng.uniform() } else { 0.004 + 0.012 * rng.uniform() };
+            let noise =
+                if class == "transit-like" { 0.003 + 0.003 * rng.uniform() } else { 0.004 + 0.012 * rng.uniform() };
             let secondary = 0.2 + 0.6 * rng.uniform();
             let half_width = 0.03 + 0.04 * rng.uniform();
             let duty = 0.02 + 0.03 * rng.uniform();
@@ -74,13 +75,7 @@ pub fn write_survey(folder: &Path, seed: u64) -> Result<()> {
                             let d = |x: f64| if x.abs() < half_width { 1.0 - (x / half_width).powi(2) } else { 0.0 };
                             amplitude * (d(phase - phase.round()) + secondary * d(phase - 0.5))
                         }
-                        "transit-like" => {
-                            if phase.min(1.0 - phase) < 0.5 * duty {
-                                amplitude
-                            } else {
-                                0.0
-                            }
-                        }
+                        "transit-like" if phase.min(1.0 - phase) < 0.5 * duty => amplitude,
                         _ => 0.0,
                     };
                     writeln!(data, "{name},{t:.6},{:.4},{noise:.4}", base + signal + noise * rng.normal())?;

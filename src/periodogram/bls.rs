@@ -344,11 +344,8 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                 let p = 1.0 / f;
                 let nb = options.bins_at(p);
                 options.durations.at_period(p, durs);
-                let q_max = durs
-                    .iter()
-                    .map(|&d| ((d / p * nb as f64).round() as usize).clamp(1, nb - 1))
-                    .max()
-                    .unwrap_or(1);
+                let q_max =
+                    durs.iter().map(|&d| ((d / p * nb as f64).round() as usize).clamp(1, nb - 1)).max().unwrap_or(1);
                 // Two interleaved histograms (even and odd points, pairs of weight and
                 // weighted value) break the store-to-load chains of consecutive points that
                 // fall into the same bin; merged into the prefix sums.
@@ -575,7 +572,11 @@ pub fn measure_box(
     let red = chi2_box / (n as f64 - 5.0).max(1.0);
     let err_scale = if series.has_errors { red.max(1.0).sqrt() } else { red.sqrt() };
     let depth_of = |wa: f64, wya: f64| -> (f64, f64) {
-        if wa > 0.0 { (sign * (wya / wa - lout), (1.0 / wa + 1.0 / w_out).sqrt() * err_scale) } else { (f64::NAN, f64::NAN) }
+        if wa > 0.0 {
+            (sign * (wya / wa - lout), (1.0 / wa + 1.0 / w_out).sqrt() * err_scale)
+        } else {
+            (f64::NAN, f64::NAN)
+        }
     };
     let (depth, depth_err) = depth_of(sw[1], swy[1]);
     let (odd_depth, odd_depth_err) = depth_of(so, soy);
@@ -812,15 +813,7 @@ pub fn box_detection(
     let sd = (spectrum.power.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / m.max(2) as f64).sqrt();
     let sde = if sd > 0.0 { (spectrum.power[k] - mean) / sd } else { 0.0 };
     let f = spectrum.grid.freq_per_day(k);
-    box_detection_at(
-        series,
-        f,
-        spectrum.epoch_d[k],
-        spectrum.duration_d[k],
-        spectrum.grid.step_per_day,
-        sde,
-        options,
-    )
+    box_detection_at(series, f, spectrum.epoch_d[k], spectrum.duration_d[k], spectrum.grid.step_per_day, sde, options)
 }
 
 /// The best mid-event time and duration at one frequency: durations from half to twice
@@ -907,7 +900,14 @@ pub fn box_detection_at(
 /// sharp edges make the Δχ² profile of the whole light curve too narrow. Returns NaN with
 /// fewer than two timed events. Source: a linear ephemeris by weighted least squares
 /// (common practice, as for O–C analysis).
-fn period_sigma_from_event_times(series: &Series, period_d: f64, epoch_d: f64, duration_d: f64, m: &BoxMeasurement, sign: f64) -> f64 {
+fn period_sigma_from_event_times(
+    series: &Series,
+    period_d: f64,
+    epoch_d: f64,
+    duration_d: f64,
+    m: &BoxMeasurement,
+    sign: f64,
+) -> f64 {
     let y = series.band_centred_values();
     let w = &series.weight;
     let t = &series.time_d;
@@ -940,7 +940,8 @@ fn period_sigma_from_event_times(series: &Series, period_d: f64, epoch_d: f64, d
                     .sum()
             })
             .collect();
-        let (jbest, cmin) = chi.iter().cloned().enumerate().fold((0, f64::INFINITY), |a, (j, v)| if v < a.1 { (j, v) } else { a });
+        let (jbest, cmin) =
+            chi.iter().cloned().enumerate().fold((0, f64::INFINITY), |a, (j, v)| if v < a.1 { (j, v) } else { a });
         if jbest == 0 || jbest == STEPS {
             continue; // not bracketed: the event is not timed
         }

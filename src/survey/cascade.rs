@@ -14,7 +14,9 @@ use super::false_alarm::{chi2_tail_even, normal_upper_tail, over_trials};
 use crate::fit::weighted_linear_lsq;
 use crate::fold::refine::refine_period;
 use crate::frequencies::model::{Sinusoid, fit_sinusoids};
-use crate::periodogram::bls::{BoxDetection, BoxDurations, BoxOptions, box_detection, box_search, plan_box_grid_for, settle_eclipse_period};
+use crate::periodogram::bls::{
+    BoxDetection, BoxDurations, BoxOptions, box_detection, box_search, plan_box_grid_for, settle_eclipse_period,
+};
 use crate::periodogram::peaks::local_maxima;
 use crate::periodogram::significance::baluev_fap;
 use crate::periodogram::{
@@ -36,12 +38,13 @@ pub const SECONDARY_SNR_LIMIT: f64 = 5.0;
 /// pulsator with a sharp rise ≈ 0.5 or more (chosen here).
 pub const ECLIPSE_SHAPE_LIMIT: f64 = 0.35;
 
-/// Duty cycles of the cascade's box stage: 1 % to 15 % in 8 steps (ratio 1.47, S/N loss
+/// Duty cycles of the cascade's box stage: 1.5 % to 15 % in 7 steps (ratio 1.47, S/N loss
 /// ≤ 9 % inside the range) — coarser at the short end than the box method's default
-/// ([`crate::periodogram::bls::DEFAULT_DUTY_CYCLES`]) so that a survey of many sources
-/// costs a quarter as much; transits shorter than 1 % of their period lose up to
-/// 1 − √(q/0.01) of their S/N (pass durations to search them).
-pub const CASCADE_DUTY_CYCLES: (f64, f64, usize) = (0.01, 0.15, 8);
+/// ([`crate::periodogram::bls::DEFAULT_DUTY_CYCLES`], 0.5 %): the box grid's length and its
+/// phase bins both scale as 1/q_min, so a survey of many sources costs a ninth as much.
+/// Transits shorter than 1.5 % of their period lose up to 1 − √(q/0.015) of their S/N (give
+/// `--durations-d`, or search them with `--method box`).
+pub const CASCADE_DUTY_CYCLES: (f64, f64, usize) = (0.015, 0.15, 7);
 
 /// Options of the cascade.
 #[derive(Debug, Clone, PartialEq)]
@@ -340,7 +343,10 @@ pub fn classify_series(
     let sin_fap = baluev_fap(z, series, fmax).unwrap_or(f64::NAN);
     let mut sin_amplitude = amp0;
     let k_sin = series.n_bands() + 3;
-    let sin_stage = match fit_sinusoids(series, &[Sinusoid { freq_per_day: f_grid, amplitude: amp0.max(1e-12), phase_cycles: 0.0 }]) {
+    let sin_stage = match fit_sinusoids(
+        series,
+        &[Sinusoid { freq_per_day: f_grid, amplitude: amp0.max(1e-12), phase_cycles: 0.0 }],
+    ) {
         Ok(fit) if (fit.components[0].freq_per_day - f_grid).abs() <= 2.0 * grid.step_per_day => {
             let c = fit.components[0];
             sin_amplitude = c.amplitude;
@@ -506,7 +512,9 @@ pub fn classify_series(
     let mut freq = best.freq_per_day;
     let mut freq_err = best.freq_err_per_day;
     let (class, amplitude, why) = match best.model {
-        CascadeModel::Sinusoid => (VariabilityClass::Sinusoidal, sin_amplitude, "a sinusoid describes it best".to_string()),
+        CascadeModel::Sinusoid => {
+            (VariabilityClass::Sinusoidal, sin_amplitude, "a sinusoid describes it best".to_string())
+        }
         CascadeModel::Harmonics => {
             if minima_per_cycle >= 2 {
                 (
@@ -570,7 +578,9 @@ pub fn classify_series(
                 (
                     VariabilityClass::TransitLike,
                     d,
-                    format!("{box_note}; no secondary above S/N {SECONDARY_SNR_LIMIT} (an eclipsing binary with equal minima would have twice this period)"),
+                    format!(
+                        "{box_note}; no secondary above S/N {SECONDARY_SNR_LIMIT} (an eclipsing binary with equal minima would have twice this period)"
+                    ),
                 )
             }
         }

@@ -161,9 +161,13 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
     let mut box_run: Option<(crate::periodogram::bls::BoxSpectrum, BoxOptions)> = None;
     let mut classification = None;
     let spectrum = match &plan.method {
-        SearchMethod::Sinusoid if multiband => MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?,
+        SearchMethod::Sinusoid if multiband => {
+            MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
+        }
         SearchMethod::Sinusoid => GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?,
-        SearchMethod::ClassicalSinusoid => ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?,
+        SearchMethod::ClassicalSinusoid => {
+            ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
+        }
         SearchMethod::Harmonics(k) => {
             if *k == 0 || *k > 20 {
                 return Err(SearchError::InvalidParameter { name: "harmonics", value: *k as f64, expected: "1 to 20" });
@@ -263,7 +267,8 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
     }
     if let Some(c) = &classification {
         // the cascade's period is the first peak
-        let k = (((c.freq_per_day - grid.start_per_day) / grid.step_per_day).round().max(0.0) as usize).min(grid.len - 1);
+        let k =
+            (((c.freq_per_day - grid.start_per_day) / grid.step_per_day).round().max(0.0) as usize).min(grid.len - 1);
         let peak = Peak {
             grid_index: k,
             power: spectrum.power.get(k).copied().unwrap_or(f64::NAN),
