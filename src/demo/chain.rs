@@ -553,6 +553,9 @@ pub fn run_chain(data: &Path, out: &Path) -> Result<Vec<Comparison>> {
         "14",
         "--peaks",
         "1",
+        // batches of ~15 sources, so that progress is printed as the field goes
+        "--batch-points",
+        "8000",
         "--output",
         &ot("survey_periods.csv"),
     ]))?;

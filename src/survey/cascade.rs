@@ -390,8 +390,25 @@ pub fn classify_series(
     // then refined by nonlinear least squares.
     let mut best_c: Option<(f64, usize, bool, f64, f64)> = None; // (f, harmonics, halved, χ², BIC)
     for &k in &peaks {
-        let f = if k == top { sin_stage.freq_per_day } else { grid.freq_per_day(k) };
-        for (fc, kh, halved) in [(f, options.harmonics, false), (0.5 * f, (2 * options.harmonics).min(10), true)] {
+        // every candidate at a least-squares frequency: a grid frequency is up to half a step
+        // off, a phase drift the odd harmonics of the halved model would partly absorb
+        let f = if k == top {
+            sin_stage.freq_per_day
+        } else {
+            let g = grid.freq_per_day(k);
+            let a = spectrum.amplitude.as_ref().map_or(1e-3, |a| a[k].max(1e-12));
+            match fit_sinusoids(series, &[Sinusoid { freq_per_day: g, amplitude: a, phase_cycles: 0.0 }]) {
+                Ok(fit) if (fit.components[0].freq_per_day - g).abs() <= 2.0 * grid.step_per_day => {
+                    fit.components[0].freq_per_day
+                }
+                _ => g,
+            }
+        };
+        // f with K and with 2K terms, f/2 with 2K: the halved model must beat a model of f
+        // with as many terms, so that a misfit of f leaking into odd harmonics through the
+        // window cannot double the period
+        let k2 = (2 * options.harmonics).min(10);
+        for (fc, kh, halved) in [(f, options.harmonics, false), (f, k2, false), (0.5 * f, k2, true)] {
             if fc < fmin * (1.0 - 1e-9) {
                 continue;
             }
