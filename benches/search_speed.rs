@@ -4,10 +4,12 @@
 //! scaled linearly (its cost is exactly proportional to the number of frequencies).
 
 use skyclock::fit::SeededRng;
-use skyclock::periodogram::bls::{BoxOptions, box_search, box_search_direct};
+use skyclock::periodogram::bls::{BoxDurations, BoxOptions, box_search, box_search_direct, plan_box_grid_for};
 use skyclock::periodogram::fast::{FastOptions, fast_sums};
 use skyclock::periodogram::sums::{exact_sums, naive_sums};
 use skyclock::periodogram::*;
+use skyclock::survey::cascade::{CASCADE_DUTY_CYCLES, CascadeOptions, classify_series};
+use std::fmt::Write as _;
 use std::time::Instant;
 
 fn series(n: usize, span_d: f64, seed: u64) -> Series {
@@ -109,8 +111,9 @@ fn main() {
     // 3. box least squares, N = 1e4, 2e4 periods x 3 durations
     let s = series(10_000, 200.0, 3);
     let grid = FrequencyGrid::new(1.0 / 20.0, (1.0 / 0.5 - 1.0 / 20.0) / 20_000.0, 20_000).expect("grid");
-    // 10 phase bins per shortest duration: the same box-edge resolution as astropy's default
-    let opts = BoxOptions { durations_d: vec![0.05, 0.1, 0.2], bins_per_duration: 10, values_are_magnitudes: false };
+    // the library's one default edge resolution (DEFAULT_BINS_PER_DURATION = 10 bins per
+    // shortest duration), the same as astropy's default oversample = 10
+    let opts = BoxOptions::flux(vec![0.05, 0.1, 0.2]);
     let (t_bls, _) = time(|| box_search(&s, &grid, &opts).expect("box search"));
     let sub = FrequencyGrid::new(grid.start_per_day, grid.step_per_day * 1000.0, 20).expect("grid");
     let (t_direct_sub, _) = time(|| box_search_direct(&s, &sub, &opts).expect("direct box search"));
@@ -123,4 +126,134 @@ fn main() {
         "  reference direct sums per trial box (scaled from 20 periods): {t_direct:.0} s  -> ratio {:.0}x",
         t_direct / t_bls
     );
+    // 4. and 5. against astropy in this same run, one core each
+    against_astropy();
+}
+
+/// A transit-like light curve (flux) of `n` points over `span_d` days.
+fn flux_curve(n: usize, span_d: f64, seed: u64) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+    let mut rng = SeededRng::new(seed);
+    let t: Vec<f64> = (0..n).map(|k| span_d * k as f64 / n as f64).collect();
+    let y = t
+        .iter()
+        .map(|&x| {
+            let ph = (x / 3.3).fract();
+            1.0 - if ph < 0.02 { 0.005 } else { 0.0 } + 0.001 * rng.normal()
+        })
+        .collect();
+    (t, y, vec![0.001; n])
+}
+
+/// Box search on one core against astropy's BoxLeastSquares on the same grid and
+/// durations; the cascade on one core against the same cascade written with astropy calls.
+/// The astropy side runs as `python3 benches/astropy_box_cascade.py` in this same run; when
+/// python3 or astropy is missing the benchmark says so and fails (install: pip install astropy).
+fn against_astropy() {
+    let dir = std::env::temp_dir().join(format!("skyclock_bench_astropy_{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("one-thread pool");
+    // 4. one curve: 27 d at 2-minute cadence, durations 0.04-0.16 d, periods 0.5-13.5 d
+    let (t, y, e) = flux_curve(19_440, 27.0, 41);
+    let s = Series::from_arrays(&t, &y, Some(&e)).expect("curve");
+    let durations = vec![0.04, 0.08, 0.12, 0.16];
+    let plan = plan_box_grid_for(27.0, 1.0 / 13.5, 2.0, &BoxDurations::Fixed(durations.clone()), 2.0, 1 << 31)
+        .expect("box grid");
+    let opts = BoxOptions::flux(durations.clone());
+    let (t_box, _) = one.install(|| time(|| box_search(&s, &plan.grid, &opts).expect("box search")));
+    let mut text = String::new();
+    for i in 0..t.len() {
+        writeln!(text, "{},{},{}", t[i], y[i], e[i]).unwrap();
+    }
+    std::fs::write(dir.join("box_curve.csv"), &text).unwrap();
+    let freqs: Vec<String> = plan.grid.frequencies().iter().map(|f| format!("{f:.12}")).collect();
+    std::fs::write(dir.join("box_freqs.csv"), freqs.join("\n")).unwrap();
+    let ds: Vec<String> = durations.iter().map(|d| d.to_string()).collect();
+    std::fs::write(dir.join("box_durations.csv"), ds.join("\n")).unwrap();
+
+    // 5. a field of 20 curves: one season, 8 points a night, noise, some transits
+    let mut field = String::new();
+    let mut curves = Vec::new();
+    for k in 0..20u64 {
+        let mut rng = SeededRng::new(500 + k);
+        let mut tt = Vec::new();
+        for night in 0..100 {
+            if rng.uniform() < 0.25 {
+                continue;
+            }
+            for j in 0..8 {
+                tt.push(night as f64 + 0.0375 * j as f64 + 0.01 * rng.uniform());
+            }
+        }
+        let p = 1.0 + 4.0 * rng.uniform();
+        let yy: Vec<f64> = tt
+            .iter()
+            .map(|&x| 13.0 + if (x / p).fract() < 0.03 && k % 2 == 0 { 0.02 } else { 0.0 } + 0.005 * rng.normal())
+            .collect();
+        for i in 0..tt.len() {
+            writeln!(field, "{k},{},{},0.005", tt[i], yy[i]).unwrap();
+        }
+        curves.push(Series::from_arrays(&tt, &yy, Some(&vec![0.005; tt.len()])).expect("curve"));
+    }
+    std::fs::write(dir.join("field.csv"), &field).unwrap();
+    let options = CascadeOptions::new(true);
+    let t_base = curves[0].baseline_d();
+    let gls = plan_grid(t_base, &GridRequest::up_to(10.0)).expect("grid").grid;
+    let box_grid = plan_box_grid_for(
+        t_base,
+        1.0 / t_base,
+        options.box_max_freq_per_day,
+        &options.box_options.durations,
+        options.box_oversampling,
+        1 << 31,
+    )
+    .expect("box grid")
+    .grid;
+    let f: Vec<String> = gls.frequencies().iter().map(|f| format!("{f:.12}")).collect();
+    std::fs::write(dir.join("field_gls_freqs.csv"), f.join("\n")).unwrap();
+    let f: Vec<String> = box_grid.frequencies().iter().map(|f| format!("{f:.12}")).collect();
+    std::fs::write(dir.join("field_box_freqs.csv"), f.join("\n")).unwrap();
+    std::fs::write(dir.join("field_harmonics.txt"), options.harmonics.to_string()).unwrap();
+    let (q0, q1, nq) = CASCADE_DUTY_CYCLES;
+    let duty: Vec<String> = (0..nq).map(|j| (q0 * (q1 / q0).powf(j as f64 / (nq - 1) as f64)).to_string()).collect();
+    std::fs::write(dir.join("field_duty.csv"), duty.join("\n")).unwrap();
+    let (t_cascade, _) = one.install(|| {
+        time(|| {
+            curves
+                .iter()
+                .map(|c| {
+                    let g = plan_grid(c.baseline_d(), &GridRequest::up_to(10.0)).expect("grid").grid;
+                    classify_series(c, &g, Algorithm::Auto, 1 << 31, &options).expect("cascade")
+                })
+                .count()
+        })
+    });
+    println!("box search, one core, N = 19 440, {} frequencies x 4 durations: {t_box:.3} s", plan.grid.len);
+    println!("cascade, one core, 20 curves x ~600 points: {t_cascade:.3} s");
+    let out = std::process::Command::new("python3")
+        .arg("benches/astropy_box_cascade.py")
+        .arg(&dir)
+        .env("OMP_NUM_THREADS", "1")
+        .output();
+    let out = match out {
+        Ok(o) if o.status.success() => String::from_utf8_lossy(&o.stdout).to_string(),
+        Ok(o) => panic!("the astropy reference failed (pip install astropy): {}", String::from_utf8_lossy(&o.stderr)),
+        Err(e) => panic!("python3 not found for the astropy reference: {e}"),
+    };
+    let value = |key: &str| -> f64 {
+        out.lines()
+            .find_map(|l| l.strip_prefix(&format!("{key}=")))
+            .and_then(|v| v.trim().parse().ok())
+            .unwrap_or(f64::NAN)
+    };
+    let version = out.lines().find_map(|l| l.strip_prefix("astropy_version=")).unwrap_or("?").to_string();
+    let (a_box, a_cascade) = (value("astropy_box_s"), value("astropy_cascade_s"));
+    println!(
+        "  astropy {version} BoxLeastSquares (fast, oversample 10), same grid: {a_box:.3} s -> ratio {:.1}x (target >= 5x)",
+        a_box / t_box
+    );
+    println!(
+        "  astropy {version} cascade (Lomb-Scargle, K-term Lomb-Scargle at the peaks, BoxLeastSquares), same grids: {a_cascade:.3} s -> ratio {:.1}x (target >= 5x)",
+        a_cascade / t_cascade
+    );
+    let _ = std::fs::remove_dir_all(&dir);
 }

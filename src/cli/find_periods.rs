@@ -9,6 +9,7 @@ use polars::prelude::*;
 
 use super::common::{BrightnessArg, spinner, write_text};
 use super::light_curve_input::LightCurveArgs;
+use skyclock::periodogram::bls::BoxDurations;
 use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest};
 use skyclock::survey::report::{format_false_alarm, period_search_report};
@@ -66,18 +67,21 @@ impl KernelArg {
 /// Method and grid options shared with `survey-batch`.
 #[derive(Debug, Clone, ClapArgs)]
 pub struct SearchOptionArgs {
-    /// Statistic searched.
-    #[arg(long, value_enum, default_value_t = MethodArg::Sinusoid)]
-    pub method: MethodArg,
-    /// Harmonics for --method harmonics.
+    /// Statistic searched [default: sinusoid for find-periods; for survey-batch a cascade of
+    /// sinusoid, harmonic series and box search per source, best by BIC, with a class].
+    #[arg(long, value_enum)]
+    pub method: Option<MethodArg>,
+    /// Harmonics for --method harmonics (also its period refinement) and for the harmonic
+    /// stage of the survey cascade (1 to 5 there).
     #[arg(long, default_value_t = 3)]
     pub harmonics: usize,
     /// Phase bins for phase-dispersion and conditional-entropy.
     #[arg(long, default_value_t = 10)]
     pub phase_bins: usize,
-    /// Box durations in days for --method box, comma-separated.
-    #[arg(long, value_name = "D1,D2,..", default_value = "0.05,0.1,0.2")]
-    pub durations_d: String,
+    /// Box durations in days for --method box, comma-separated [default: 8 durations from
+    /// 1 % to 15 % of each trial period, so that the durations scale with the period].
+    #[arg(long, value_name = "D1,D2,..")]
+    pub durations_d: Option<String>,
     /// What the values are (for --method box: with magnitudes a dip is an increase).
     #[arg(long, value_enum, default_value_t = BrightnessArg::Magnitude)]
     pub brightness: BrightnessArg,
@@ -110,7 +114,7 @@ pub struct SearchOptionArgs {
 impl SearchOptionArgs {
     /// The search plan these options describe.
     pub fn plan(&self, window_sidelobes: usize) -> Result<SearchPlan> {
-        let method = match self.method {
+        let method = match self.method.unwrap_or(MethodArg::Sinusoid) {
             MethodArg::Sinusoid => SearchMethod::Sinusoid,
             MethodArg::ClassicalSinusoid => SearchMethod::ClassicalSinusoid,
             MethodArg::Harmonics => SearchMethod::Harmonics(self.harmonics),
@@ -118,21 +122,32 @@ impl SearchOptionArgs {
             MethodArg::ConditionalEntropy => {
                 SearchMethod::ConditionalEntropy { phase_bins: self.phase_bins, value_bins: 10 }
             }
-            MethodArg::Box => {
-                let mut d = Vec::new();
-                for part in self.durations_d.split(',') {
-                    let v: f64 = part
-                        .trim()
-                        .parse()
-                        .map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
-                    if !(v.is_finite() && v > 0.0) {
-                        anyhow::bail!("--durations-d: every duration must be > 0 days, got {v}");
-                    }
-                    d.push(v);
-                }
-                SearchMethod::Box { durations_d: d, values_are_magnitudes: self.brightness == BrightnessArg::Magnitude }
-            }
+            MethodArg::Box => SearchMethod::Box {
+                durations: self.box_durations()?,
+                values_are_magnitudes: self.brightness == BrightnessArg::Magnitude,
+            },
         };
+        self.plan_with(method, window_sidelobes)
+    }
+
+    /// The box durations these options describe: --durations-d, or durations that scale
+    /// with the trial period.
+    pub fn box_durations(&self) -> Result<BoxDurations> {
+        let Some(text) = &self.durations_d else { return Ok(BoxDurations::default_duty_cycles()) };
+        let mut d = Vec::new();
+        for part in text.split(',') {
+            let v: f64 =
+                part.trim().parse().map_err(|_| anyhow::anyhow!("--durations-d: '{part}' is not a number of days"))?;
+            if !(v.is_finite() && v > 0.0) {
+                anyhow::bail!("--durations-d: every duration must be > 0 days, got {v}");
+            }
+            d.push(v);
+        }
+        Ok(BoxDurations::Fixed(d))
+    }
+
+    /// A plan for `method` with the grid, kernel, peak and bootstrap options given.
+    pub fn plan_with(&self, method: SearchMethod, window_sidelobes: usize) -> Result<SearchPlan> {
         if !(self.memory_limit_gib.is_finite() && self.memory_limit_gib > 0.0) {
             anyhow::bail!("--memory-limit-gib must be > 0, got {}", self.memory_limit_gib);
         }
@@ -244,6 +259,32 @@ pub fn run(a: Args) -> Result<()> {
                 format_false_alarm(p.fap),
                 if notes.is_empty() { String::new() } else { format!("  [{notes}]") }
             );
+        }
+        if let Some(b) = &out.box_detection {
+            let m = &b.measurement;
+            println!(
+                "  best box: period {:.8} ± {:.2e} d, depth {:.5} ± {:.5} (S/N {:.1}, SDE {:.1}), duration {:.4} d, mid-event {:.5} d after the reference, {} events",
+                b.period_d, b.period_err_d, b.depth, b.depth_err, b.snr, b.sde, b.duration_d, b.epoch_d, m.n_events
+            );
+            println!(
+                "    odd/even depths {:.5} / {:.5} ({:.1} sigma apart); depth at phase 0.5 {:.5} ± {:.5}; deepest other dip at phase {:.3}: {:.5} ± {:.5}",
+                m.odd_depth,
+                m.even_depth,
+                m.odd_even_sigma,
+                m.secondary_depth,
+                m.secondary_depth_err,
+                m.secondary_search_phase,
+                m.secondary_search_depth,
+                m.secondary_search_depth_err
+            );
+        }
+        if let Some(note) = &out.period_note {
+            println!("  period: {note}");
+        }
+        for (k, p) in out.peaks.iter().enumerate().take(1) {
+            if let Some(r) = &p.refinement {
+                println!("  uncertainties of peak {}: {}", k + 1, r.describe());
+            }
         }
         println!("  caution: a false-alarm probability assumes white noise; check aliases before trusting a period.");
     }

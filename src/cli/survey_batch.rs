@@ -13,6 +13,8 @@ use skyclock::survey::batch::{
     BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows,
     run_batch_with_arrival,
 };
+use skyclock::survey::cascade::{CascadeModel, CascadeOptions};
+use skyclock::survey::search::SearchMethod;
 use skyclock::table::{Provenance, Summary, write_table};
 use skyclock::time::LeapSecondTable;
 
@@ -20,6 +22,13 @@ const EXAMPLE: &str = "Example (invented survey field):
   skyclock survey-batch --input field_invented.parquet --source-column star \\
       --time-column bjd --value-column mag --error-column mag_err \\
       --max-freq-per-day 20 --peaks 3 --output field_periods.csv
+  By default every source goes through a cascade: a sinusoid, a harmonic series (at the
+  sinusoid peaks and half their frequency) and a box search (durations scaling with the
+  period); the best by BIC gives the period and a class (constant, sinusoidal,
+  non-sinusoidal-pulsator, eclipsing-binary, transit-like), with the evidence in columns:
+  class, variable, field_false_alarm_probability, model, period_d, period_err_d, the BIC of
+  each model, the box depth, S/N, odd-even and secondary measurements, and a note on what
+  was decided. --method forces one method instead.
   One row per source: status (searched/skipped) and message, points, rows dropped, baseline,
   then for each peak k: period_d_k, period_err_d_k, power_k, false_alarm_probability_k,
   amplitude_k, alias_note_k. The rows of a source must be contiguous (sort by source id
@@ -71,9 +80,15 @@ pub struct Args {
     pub reference_data: super::common::ReferenceDataArgs,
     #[command(flatten)]
     pub search: SearchOptionArgs,
-    /// Refine each peak by a least-squares fit (period errors; ~70 ms per curve, slow for big surveys).
+    /// Refine each peak by a least-squares fit (period errors; ~70 ms per curve, slow for big
+    /// surveys). With --method only; the cascade always refines its period.
     #[arg(long)]
     pub refine_peaks: bool,
+    /// False-alarm level of the variability flag for the whole field: a source is variable
+    /// when the chance that any source of a field of pure noise this size shows as strong a
+    /// detection is below it (cascade only).
+    #[arg(long, value_name = "PROBABILITY", default_value_t = 0.01)]
+    pub false_alarm_level: f64,
     /// Points gathered before a batch of sources is searched (memory holds at most three
     /// batches: one searched, one queued, one filling).
     #[arg(long, default_value_t = 2_000_000)]
@@ -106,8 +121,25 @@ struct Rows {
 pub fn run(a: Args) -> Result<()> {
     use std::io::IsTerminal;
     let clock = ClockSpec::parse_label(&a.clock).map_err(anyhow::Error::msg)?;
-    let mut plan = a.search.plan(0)?;
+    let cascade = a.search.method.is_none();
+    let mut plan = if cascade {
+        if !(1..=5).contains(&a.search.harmonics) {
+            anyhow::bail!("--harmonics: the survey cascade takes 1 to 5 harmonics, got {}", a.search.harmonics);
+        }
+        let magnitudes = a.search.brightness == super::common::BrightnessArg::Magnitude;
+        let mut options = CascadeOptions::new(magnitudes);
+        options.harmonics = a.search.harmonics;
+        if a.search.durations_d.is_some() {
+            options.box_options.durations = a.search.box_durations()?;
+        }
+        a.search.plan_with(SearchMethod::Cascade(options), 0)?
+    } else {
+        a.search.plan(0)?
+    };
     plan.refine_peaks = a.refine_peaks;
+    if !(a.false_alarm_level.is_finite() && a.false_alarm_level > 0.0 && a.false_alarm_level < 1.0) {
+        anyhow::bail!("--false-alarm-level must lie between 0 and 1, got {}", a.false_alarm_level);
+    }
     let k = plan.peaks;
     let columns = BatchColumns {
         source: a.source_column.clone(),
@@ -135,6 +167,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let started = std::time::Instant::now();
     let mut rows = Rows { alias: vec![Vec::new(); k], ..Default::default() };
+    let mut cascade_rows = CascadeRows::default();
     let mut peak_cols: Vec<[Vec<Option<f64>>; 6]> = (0..k).map(|_| Default::default()).collect();
     let leap = LeapSecondTable::builtin();
     let mut first_problems: Vec<String> = Vec::new();
@@ -161,6 +194,7 @@ pub fn run(a: Args) -> Result<()> {
                         peak_cols[j][5].push(p.map(|p| p.peak.freq_per_day));
                         rows.alias[j].push(alias_text(o, j));
                     }
+                    cascade_rows.push(o.classification.as_ref());
                 }
                 Err(m) => {
                     if first_problems.len() < 5 {
@@ -177,17 +211,30 @@ pub fn run(a: Args) -> Result<()> {
                         }
                         rows.alias[j].push(String::new());
                     }
+                    cascade_rows.push(None);
                 }
             }
         }
         Ok(())
     };
+    // Without a terminal (a log, the demo) progress goes to stderr as a line per tenth of
+    // the input read.
+    let lines = !a.quiet && !std::io::stderr().is_terminal();
+    let next_tenth = std::cell::Cell::new(1u32);
     let progress = |done: usize, fraction: f64| {
         if fraction.is_finite() {
             pb.set_position((fraction * 1000.0) as u64);
         }
         let rate = done as f64 / started.elapsed().as_secs_f64().max(1e-9);
         pb.set_message(format!("{done} sources, {rate:.0}/s"));
+        if lines && fraction.is_finite() && fraction * 10.0 >= next_tenth.get() as f64 {
+            next_tenth.set((fraction * 10.0).floor() as u32 + 1);
+            eprintln!(
+                "survey-batch: {done} sources searched, {:.0} % of the input read, {:.1} s",
+                100.0 * fraction,
+                started.elapsed().as_secs_f64()
+            );
+        }
     };
     let options = BatchOptions { clock, batch_points: a.batch_points };
     let carry = !skyclock::survey::input::is_barycentric_tdb(&clock);
@@ -255,6 +302,12 @@ pub fn run(a: Args) -> Result<()> {
         cols.push(Column::new(format!("amplitude_{n}").into(), amp));
         cols.push(Column::new(format!("alias_note_{n}").into(), std::mem::take(&mut rows.alias[j])));
     }
+    let mut class_counts = std::collections::BTreeMap::new();
+    if cascade {
+        let (extra, counts) = cascade_rows.columns(summary.sources, a.false_alarm_level);
+        cols.extend(extra);
+        class_counts = counts;
+    }
     let mut df = DataFrame::new_infer_height(cols)?;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "survey-batch")
@@ -286,9 +339,135 @@ pub fn run(a: Args) -> Result<()> {
         for m in &first_problems {
             println!("  skipped: {m}");
         }
-        println!(
-            "  caution: false-alarm probabilities assume white noise and do not account for the number of sources searched."
-        );
+        if cascade {
+            let text: Vec<String> = class_counts.iter().map(|(c, n)| format!("{n} {c}")).collect();
+            println!(
+                "  classes (field false-alarm level {} over {} sources): {}",
+                a.false_alarm_level,
+                summary.sources,
+                text.join(", ")
+            );
+            println!(
+                "  caution: false-alarm probabilities assume white noise; red noise and systematics make them optimistic."
+            );
+        } else {
+            println!(
+                "  caution: false-alarm probabilities assume white noise and do not account for the number of sources searched."
+            );
+        }
     }
     Ok(())
+}
+
+/// The cascade's columns, gathered per source in file order.
+#[derive(Default)]
+struct CascadeRows {
+    found: Vec<Option<skyclock::survey::cascade::Classification>>,
+}
+
+impl CascadeRows {
+    fn push(&mut self, c: Option<&skyclock::survey::cascade::Classification>) {
+        // the spectrum was dropped by the batch; keep the description only
+        self.found.push(c.cloned());
+    }
+
+    /// The columns, with the class decided in a field of `n_sources` at `level`, and the
+    /// count per class.
+    fn columns(self, n_sources: usize, level: f64) -> (Vec<Column>, std::collections::BTreeMap<String, usize>) {
+        let fin = |v: f64| v.is_finite().then_some(v);
+        let mut counts = std::collections::BTreeMap::new();
+        let mut class = Vec::new();
+        let mut variable = Vec::new();
+        let mut field_fap = Vec::new();
+        let mut source_fap = Vec::new();
+        let mut model = Vec::new();
+        let mut period = Vec::new();
+        let mut period_err = Vec::new();
+        let mut inflation = Vec::new();
+        let mut amplitude = Vec::new();
+        let mut bic: [Vec<Option<f64>>; 4] = Default::default();
+        let mut boxes: [Vec<Option<f64>>; 9] = Default::default();
+        let mut minima = Vec::new();
+        let mut note = Vec::new();
+        for c in &self.found {
+            let Some(c) = c else {
+                class.push(None);
+                variable.push(None);
+                field_fap.push(None);
+                source_fap.push(None);
+                model.push(None);
+                period.push(None);
+                period_err.push(None);
+                inflation.push(None);
+                amplitude.push(None);
+                bic.iter_mut().for_each(|v| v.push(None));
+                boxes.iter_mut().for_each(|v| v.push(None));
+                minima.push(None);
+                note.push(None);
+                continue;
+            };
+            let k = c.class_in_field(n_sources, level);
+            *counts.entry(k.label().to_string()).or_insert(0) += 1;
+            class.push(Some(k.label().to_string()));
+            variable.push(Some(c.is_variable(n_sources, level)));
+            field_fap.push(fin(c.field_false_alarm(n_sources)));
+            source_fap.push(fin(c.false_alarm));
+            model.push(Some(c.model.label().to_string()));
+            period.push(fin(c.period_d));
+            period_err.push(fin(c.period_err_d));
+            inflation.push(fin(c.err_scale));
+            amplitude.push(fin(c.amplitude));
+            bic[0].push(fin(c.bic_constant));
+            for (j, m) in [CascadeModel::Sinusoid, CascadeModel::Harmonics, CascadeModel::Box].into_iter().enumerate() {
+                bic[j + 1].push(c.stage(m).and_then(|s| fin(s.bic)));
+            }
+            let b = c.box_detection;
+            let m = b.map(|b| b.measurement);
+            let vals = [
+                b.map(|b| b.depth),
+                b.map(|b| b.depth_err),
+                b.map(|b| b.duration_d),
+                b.map(|b| b.epoch_d),
+                b.map(|b| b.snr),
+                m.map(|m| m.odd_even_sigma),
+                m.map(|m| m.secondary_depth),
+                m.map(|m| m.secondary_search_phase),
+                m.map(|m| m.secondary_search_snr()),
+            ];
+            for (v, x) in boxes.iter_mut().zip(vals) {
+                v.push(x.and_then(fin));
+            }
+            minima.push((c.minima_per_cycle > 0).then_some(c.minima_per_cycle as u64));
+            note.push(Some(c.note.clone()));
+        }
+        let [bc, bs, bh, bb] = bic;
+        let [depth, depth_err, duration, mid, snr, odd_even, sec_half, sec_phase, sec_snr] = boxes;
+        let cols = vec![
+            Column::new("class".into(), class),
+            Column::new("variable".into(), variable),
+            Column::new("field_false_alarm_probability".into(), field_fap),
+            Column::new("source_false_alarm_probability".into(), source_fap),
+            Column::new("model".into(), model),
+            Column::new("period_d".into(), period),
+            Column::new("period_err_d".into(), period_err),
+            Column::new("period_err_inflation".into(), inflation),
+            Column::new("amplitude".into(), amplitude),
+            Column::new("bic_constant".into(), bc),
+            Column::new("bic_sinusoid".into(), bs),
+            Column::new("bic_harmonic_series".into(), bh),
+            Column::new("bic_box".into(), bb),
+            Column::new("box_depth".into(), depth),
+            Column::new("box_depth_err".into(), depth_err),
+            Column::new("box_duration_d".into(), duration),
+            Column::new("box_mid_event_d".into(), mid),
+            Column::new("box_signal_to_noise".into(), snr),
+            Column::new("box_odd_even_sigma".into(), odd_even),
+            Column::new("box_depth_phase_half".into(), sec_half),
+            Column::new("box_secondary_phase".into(), sec_phase),
+            Column::new("box_secondary_signal_to_noise".into(), sec_snr),
+            Column::new("harmonic_minima_per_cycle".into(), minima),
+            Column::new("decision_note".into(), note),
+        ];
+        (cols, counts)
+    }
 }

@@ -1,6 +1,6 @@
 //! The demonstration scenario, all invented: the eclipsing binary "KX Inventa" with an unseen
 //! third body, timed for thirty years from three observatories in mixed clocks, plus a
-//! season of its photometry; a survey field of 220 light curves; the binary pulsar
+//! season of its photometry; a survey field of 160 light curves; the binary pulsar
 //! "Veyra Beacon" with radio arrival times and X-ray events. The demo runs the whole chain
 //! ([`chain`]) and compares what it recovers with the truth. The data files in `datasets/`
 //! are made by [`scenario::write_datasets`] with a fixed seed (`cargo run --release

@@ -18,9 +18,16 @@ pub struct RefinedPeriod {
     pub period_err_d: f64,
     /// Harmonics in the model.
     pub harmonics: usize,
-    /// χ² and degrees of freedom of the fit.
+    /// χ² and degrees of freedom of the fit (weighted sum of squared residuals: value²
+    /// units when the data carry no uncertainties).
     pub chi2: f64,
     pub dof: usize,
+    /// Factor applied to the least-squares σ: √(χ²/dof) when the data carry uncertainties
+    /// and χ²/dof > 1 (the model or the errors do not describe the data), 1 when χ²/dof ≤ 1;
+    /// the residual rms (√(χ²/dof)) without uncertainties.
+    pub err_scale: f64,
+    /// Whether the σ was inflated: data with uncertainties and χ²/dof > 1.
+    pub err_inflated: bool,
 }
 
 struct Harmonic<'a> {
@@ -137,5 +144,7 @@ pub fn refine_period(series: &Series, freq_guess_per_day: f64, harmonics: usize)
         harmonics,
         chi2: fit.chi2,
         dof: fit.dof,
+        err_scale: scale,
+        err_inflated: series.has_errors && red > 1.0,
     })
 }

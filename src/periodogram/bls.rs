@@ -1,30 +1,198 @@
 //! Box least squares for eclipses and transits (Kovács, Zucker & Mazeh 2002, A&A 391,
-//! 369): at each trial frequency the folded light curve is binned in phase (bins of
-//! min(duration)/`bins_per_duration`) and a box of each trial duration slides over the
-//! bins; the statistic is the χ² improvement of a two-level (in/out of box) model,
+//! 369): at each trial frequency the folded light curve is binned in phase (bins of the
+//! shortest trial duration / `bins_per_duration`) and a box of each trial duration slides
+//! over the bins in steps of a `bins_per_duration`-th of that duration; the statistic is the χ² improvement of a two-level (in/out of box) model,
 //! Δχ² = W·s²/(r(1−r)) with r, s the weight fraction and weighted centred sum inside the
 //! box (KZM02 eqs. 4–5). Depth d = |s|/(r(1−r)). Signal detection efficiency
 //! SDE = (peak − mean)/std of the spectrum (KZM02 §2).
+//!
+//! Trial durations are either fixed in days or proportional to the trial period (duty
+//! cycles, [`BoxDurations`]); the frequency grid ([`plan_box_grid_for`]) keeps the drift of a
+//! box edge over the baseline under the shortest duration / oversampling at every trial
+//! period, so an event the data show cannot fall between two trial frequencies. A peak is
+//! then measured on the unbinned points ([`box_detection`]): the period refined on a fine
+//! local grid with its 1σ from the Δχ² profile, depth ± σ, S/N, odd and even event depths,
+//! the depth at phase 0.5 and the deepest secondary dip elsewhere in phase.
 
 use super::{FrequencyGrid, Periodogram, SearchError, Series, Spectrum};
-use crate::light_curve::phase_of;
 use rayon::prelude::*;
+
+/// Phase bins per shortest trial duration: the resolution of the box edges, one tenth of
+/// the shortest duration. The one default of the library, `find-periods`, `survey-batch`,
+/// the benchmarks and docs/search-stage.md (a resolution common in practice for box
+/// searches: ten phase steps per duration).
+pub const DEFAULT_BINS_PER_DURATION: usize = 10;
+
+/// Default duty cycles (duration / trial period) of a box search whose durations scale with
+/// the trial period: 0.5 % to 15 % in 10 geometric steps (ratio 1.46, so every event
+/// duration in the range lies within a factor 1.21 of a trial box: S/N loss ≤ 1 − 1/√1.21 ≈
+/// 9 %). Covers central transits of planets around Sun-like and denser stars out to periods
+/// of a few tens of days (duty ≈ 0.5–10 %; duration ≈ 13 h (P/1 yr)^{1/3} for the Sun, common
+/// practice) and detached eclipses (≈ 5–15 %); chosen here.
+pub const DEFAULT_DUTY_CYCLES: (f64, f64, usize) = (0.005, 0.15, 10);
+
+/// Odd–even depth difference (in σ) above which a box peak at P is taken as half the
+/// period of an eclipsing binary with unequal minima (common practice: 3σ).
+pub const ODD_EVEN_DOUBLING_SIGMA: f64 = 3.0;
+
+/// The trial box durations.
+#[derive(Debug, Clone, PartialEq)]
+pub enum BoxDurations {
+    /// The same durations at every trial period, days (each > 0 and under half the
+    /// shortest trial period).
+    Fixed(Vec<f64>),
+    /// Durations proportional to the trial period P: `count` duty cycles q = duration / P
+    /// spaced geometrically from `shortest` to `longest` (0 < shortest ≤ longest < 0.5).
+    DutyCycles { shortest: f64, longest: f64, count: usize },
+}
+
+impl BoxDurations {
+    /// [`DEFAULT_DUTY_CYCLES`].
+    pub fn default_duty_cycles() -> Self {
+        let (shortest, longest, count) = DEFAULT_DUTY_CYCLES;
+        BoxDurations::DutyCycles { shortest, longest, count }
+    }
+
+    /// Number of trial durations at each period.
+    pub fn count(&self) -> usize {
+        match self {
+            BoxDurations::Fixed(d) => d.len(),
+            BoxDurations::DutyCycles { count, .. } => *count,
+        }
+    }
+
+    /// The trial durations at trial period `period_d`, days, written into `out`.
+    pub fn at_period(&self, period_d: f64, out: &mut Vec<f64>) {
+        out.clear();
+        match self {
+            BoxDurations::Fixed(d) => out.extend_from_slice(d),
+            BoxDurations::DutyCycles { shortest, longest, count } => {
+                let n = (*count).max(1);
+                let ratio = if n > 1 { (longest / shortest).powf(1.0 / (n - 1) as f64) } else { 1.0 };
+                let mut q = *shortest;
+                for _ in 0..n {
+                    out.push(q * period_d);
+                    q *= ratio;
+                }
+            }
+        }
+    }
+
+    /// The shortest trial duration at trial period `period_d`, days.
+    pub fn shortest_d(&self, period_d: f64) -> f64 {
+        match self {
+            BoxDurations::Fixed(d) => d.iter().cloned().fold(f64::INFINITY, f64::min),
+            BoxDurations::DutyCycles { shortest, .. } => shortest * period_d,
+        }
+    }
+
+    /// Short description, e.g. "durations 1–15 % of the trial period (8)".
+    pub fn label(&self) -> String {
+        match self {
+            BoxDurations::Fixed(d) => format!("{} durations", d.len()),
+            BoxDurations::DutyCycles { shortest, longest, count } => {
+                format!("{count} durations from {:.3} to {:.3} of the trial period", shortest, longest)
+            }
+        }
+    }
+
+    /// Checks the durations against the shortest trial period (days).
+    pub fn check(&self, min_period_d: f64) -> Result<(), SearchError> {
+        match self {
+            BoxDurations::Fixed(durations) => {
+                if durations.is_empty() {
+                    return Err(SearchError::InvalidParameter {
+                        name: "box durations",
+                        value: 0.0,
+                        expected: "at least one duration in days",
+                    });
+                }
+                for &d in durations {
+                    if !(d.is_finite() && d > 0.0) {
+                        return Err(SearchError::InvalidParameter {
+                            name: "box duration (d)",
+                            value: d,
+                            expected: "a finite duration > 0",
+                        });
+                    }
+                    if d >= 0.5 * min_period_d {
+                        return Err(SearchError::InvalidParameter {
+                            name: "box duration (d)",
+                            value: d,
+                            expected: "a duration shorter than half the shortest trial period",
+                        });
+                    }
+                }
+            }
+            BoxDurations::DutyCycles { shortest, longest, count } => {
+                if !(shortest.is_finite() && *shortest > 0.0 && *shortest <= 0.25) {
+                    return Err(SearchError::InvalidParameter {
+                        name: "shortest duty cycle",
+                        value: *shortest,
+                        expected: "a fraction of the period > 0 and ≤ 0.25",
+                    });
+                }
+                if !(longest.is_finite() && *longest >= *shortest && *longest < 0.5) {
+                    return Err(SearchError::InvalidParameter {
+                        name: "longest duty cycle",
+                        value: *longest,
+                        expected: "a fraction of the period ≥ the shortest and < 0.5",
+                    });
+                }
+                if !(1..=64).contains(count) {
+                    return Err(SearchError::InvalidParameter {
+                        name: "number of box durations",
+                        value: *count as f64,
+                        expected: "1 to 64",
+                    });
+                }
+            }
+        }
+        Ok(())
+    }
+}
 
 /// Options of the box search.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BoxOptions {
-    /// Trial box durations, days (each > 0).
-    pub durations_d: Vec<f64>,
-    /// Phase bins per shortest duration (resolution of the box edges).
+    /// Trial box durations.
+    pub durations: BoxDurations,
+    /// Phase bins per shortest duration (resolution of the box edges); default
+    /// [`DEFAULT_BINS_PER_DURATION`].
     pub bins_per_duration: usize,
     /// Values are magnitudes (a dip is an increase) rather than fluxes (a dip is a decrease).
     pub values_are_magnitudes: bool,
 }
 
 impl BoxOptions {
-    /// Flux data, 5 bins per shortest duration.
+    /// Flux data, fixed durations (days), the default edge resolution.
     pub fn flux(durations_d: Vec<f64>) -> Self {
-        BoxOptions { durations_d, bins_per_duration: 5, values_are_magnitudes: false }
+        BoxOptions {
+            durations: BoxDurations::Fixed(durations_d),
+            bins_per_duration: DEFAULT_BINS_PER_DURATION,
+            values_are_magnitudes: false,
+        }
+    }
+
+    /// Durations scaling with the trial period ([`DEFAULT_DUTY_CYCLES`]), the default edge
+    /// resolution; `values_are_magnitudes` as in [`BoxOptions`].
+    pub fn scaled(values_are_magnitudes: bool) -> Self {
+        BoxOptions {
+            durations: BoxDurations::default_duty_cycles(),
+            bins_per_duration: DEFAULT_BINS_PER_DURATION,
+            values_are_magnitudes,
+        }
+    }
+
+    /// +1 when a dip raises the values (magnitudes), −1 when it lowers them (fluxes).
+    fn dip_sign(&self) -> f64 {
+        if self.values_are_magnitudes { 1.0 } else { -1.0 }
+    }
+
+    /// Phase bins at trial period `period_d`.
+    fn bins_at(&self, period_d: f64) -> usize {
+        ((period_d * self.bins_per_duration as f64 / self.durations.shortest_d(period_d)).ceil() as usize)
+            .clamp(2, 1 << 20)
     }
 }
 
@@ -42,57 +210,94 @@ pub struct BoxSpectrum {
     pub epoch_d: Vec<f64>,
 }
 
-/// Best box at one frequency, measured on the unbinned points.
+/// A box (transit or eclipse) measured on the unbinned points at a given period, mid-event
+/// time and duration ([`measure_box`]). Depths are positive for dips, in units of the
+/// values; their σ come from the weights (or the residual scatter without uncertainties),
+/// multiplied by [`BoxMeasurement::err_scale`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoxMeasurement {
+    /// Level outside the events: weighted mean outside the primary and the phase-0.5 windows.
+    pub level_out: f64,
+    pub depth: f64,
+    pub depth_err: f64,
+    /// Points inside the primary box.
+    pub n_in_box: usize,
+    /// Distinct events (cycles) with points inside the primary box.
+    pub n_events: usize,
+    /// Depth of the odd- and even-numbered events (counted from the mid-event time).
+    pub odd_depth: f64,
+    pub odd_depth_err: f64,
+    pub even_depth: f64,
+    pub even_depth_err: f64,
+    /// |odd − even| / σ of the difference (NaN when either has no points).
+    pub odd_even_sigma: f64,
+    /// Depth in a box of the same duration at phase 0.5 (secondary eclipse of a circular
+    /// orbit; NaN without points there).
+    pub secondary_depth: f64,
+    pub secondary_depth_err: f64,
+    /// The deepest dip (highest S/N) of the same duration elsewhere in phase, outside the
+    /// primary: its phase (cycles after the primary), depth and σ (NaN when none).
+    pub secondary_search_phase: f64,
+    pub secondary_search_depth: f64,
+    pub secondary_search_depth_err: f64,
+    /// Weighted sum of squared residuals of the two-level (in/out of the primary) model, and
+    /// of the three-level model with the searched secondary.
+    pub chi2_box: f64,
+    pub chi2_with_secondary: f64,
+    /// χ² / (N − 5) of the two-level model (value² without uncertainties).
+    pub reduced_chi2: f64,
+    /// Factor applied to the weight-based uncertainties: √χ²_red when the data carry
+    /// uncertainties and χ²_red > 1 (the model or the errors do not describe the data), 1
+    /// otherwise; the residual rms without uncertainties.
+    pub err_scale: f64,
+}
+
+impl BoxMeasurement {
+    /// Depth over its σ.
+    pub fn snr(&self) -> f64 {
+        if self.depth_err > 0.0 { self.depth / self.depth_err } else { f64::NAN }
+    }
+    /// S/N of the searched secondary.
+    pub fn secondary_search_snr(&self) -> f64 {
+        if self.secondary_search_depth_err > 0.0 {
+            self.secondary_search_depth / self.secondary_search_depth_err
+        } else {
+            f64::NAN
+        }
+    }
+}
+
+/// Best box at one peak, measured on the unbinned points, with a refined period.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoxDetection {
+    /// Refined frequency (c/d) and its 1σ: the larger of the Δχ² profile's
+    /// ([`refine_box_frequency`]) and the event-timing one ([`box_detection_at`]).
     pub freq_per_day: f64,
+    pub freq_err_per_day: f64,
     pub period_d: f64,
+    pub period_err_d: f64,
+    /// Δχ² of the best box at the refined frequency (units as [`BoxSpectrum::power`]).
     pub power: f64,
     pub depth: f64,
-    /// 1-σ depth error: √(1/W_in + 1/W_out), scaled by the residual scatter without σ.
+    /// 1σ of the depth (see [`BoxMeasurement`]).
     pub depth_err: f64,
     pub duration_d: f64,
-    /// Half a bin width: the duration and epoch resolution of the search, days.
+    /// Half the edge step of the duration tuning (a hundredth of the shortest tuned
+    /// duration): the duration and epoch resolution, days.
     pub duration_resolution_d: f64,
+    /// Mid-event time of the first event after the first point, days (caller's reference).
     pub epoch_d: f64,
+    /// Depth over its σ.
+    pub snr: f64,
     /// Signal detection efficiency of the peak in the spectrum.
     pub sde: f64,
     /// Points inside the box.
     pub n_in_box: usize,
+    /// Everything measured at the refined period (odd/even, secondary, χ²).
+    pub measurement: BoxMeasurement,
 }
 
-fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<f64, SearchError> {
-    if options.durations_d.is_empty() {
-        return Err(SearchError::InvalidParameter {
-            name: "box durations",
-            value: 0.0,
-            expected: "at least one duration in days",
-        });
-    }
-    for &d in &options.durations_d {
-        if !(d.is_finite() && d > 0.0) {
-            return Err(SearchError::InvalidParameter {
-                name: "box duration (d)",
-                value: d,
-                expected: "a finite duration > 0",
-            });
-        }
-        let pmin = 1.0 / grid.max_freq_per_day();
-        if d >= 0.5 * pmin {
-            return Err(SearchError::InvalidParameter {
-                name: "box duration (d)",
-                value: d,
-                expected: "a duration shorter than half the shortest trial period",
-            });
-        }
-    }
-    if !(1..=100).contains(&options.bins_per_duration) {
-        return Err(SearchError::InvalidParameter {
-            name: "bins per duration",
-            value: options.bins_per_duration as f64,
-            expected: "1 to 100",
-        });
-    }
+fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<(), SearchError> {
     if grid.start_per_day <= 0.0 {
         return Err(SearchError::InvalidParameter {
             name: "grid start (c/d)",
@@ -100,12 +305,20 @@ fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<f64, SearchError>
             expected: "a frequency > 0 for a box search",
         });
     }
-    Ok(options.durations_d.iter().cloned().fold(f64::INFINITY, f64::min))
+    options.durations.check(1.0 / grid.max_freq_per_day())?;
+    if !(1..=100).contains(&options.bins_per_duration) {
+        return Err(SearchError::InvalidParameter {
+            name: "bins per duration",
+            value: options.bins_per_duration as f64,
+            expected: "1 to 100",
+        });
+    }
+    Ok(())
 }
 
 /// Box search over a frequency grid (see module doc). Parallel over frequencies.
 pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -> Result<BoxSpectrum, SearchError> {
-    let dmin = check(options, grid)?;
+    check(options, grid)?;
     if series.len() < 5 {
         return Err(SearchError::TooFewPoints {
             needed: 5,
@@ -118,25 +331,24 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
     let w: Vec<f64> = series.weight.iter().map(|v| v / w_raw).collect();
     let y = series.band_centred_values();
     let wy: Vec<f64> = w.iter().zip(&y).map(|(a, b)| a * b).collect();
-    let sign = if options.values_are_magnitudes { 1.0 } else { -1.0 };
+    let sign = options.dip_sign();
     let t0 = series.time_d[0];
     let dt: Vec<f64> = series.time_d.iter().map(|t| t - t0).collect();
     let wpair: Vec<[f64; 2]> = w.iter().zip(&wy).map(|(&a, &b)| [a, b]).collect();
     let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
         .into_par_iter()
         .map_init(
-            || (Vec::<f64>::new(), Vec::<f64>::new(), Vec::<[f64; 2]>::new(), Vec::<u32>::new()),
-            |(bw, bwy, hist, idx), k| {
+            || (Vec::<[f64; 2]>::new(), Vec::<[f64; 2]>::new(), Vec::<u32>::new(), Vec::<f64>::new()),
+            |(cumbuf, hist, idx, durs), k| {
                 let f = grid.freq_per_day(k);
                 let p = 1.0 / f;
-                let nb = ((p * options.bins_per_duration as f64 / dmin).ceil() as usize).clamp(2, 1 << 20);
-                bw.clear();
-                bw.resize(2 * nb, 0.0);
-                bwy.clear();
-                bwy.resize(2 * nb, 0.0);
+                let nb = options.bins_at(p);
+                options.durations.at_period(p, durs);
+                let q_max =
+                    durs.iter().map(|&d| ((d / p * nb as f64).round() as usize).clamp(1, nb - 1)).max().unwrap_or(1);
                 // Two interleaved histograms (even and odd points, pairs of weight and
                 // weighted value) break the store-to-load chains of consecutive points that
-                // fall into the same bin; merged afterwards.
+                // fall into the same bin; merged into the prefix sums.
                 hist.clear();
                 hist.resize(2 * nb, [0.0; 2]);
                 let (ha, hb) = hist.split_at_mut(nb);
@@ -156,26 +368,27 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                     ha[b][0] += wpair[i][0];
                     ha[b][1] += wpair[i][1];
                 }
-                for b in 0..nb {
-                    bw[b] = ha[b][0] + hb[b][0];
-                    bwy[b] = ha[b][1] + hb[b][1];
-                }
-                // prefix sums over the doubled (wrapped) bins with a leading zero:
-                // cw[b] = Σ_{j<b} w_bin[j mod nb], so a window [s, s+q) sums to cw[s+q] − cw[s]
-                hist.clear();
-                hist.resize(2 * nb + 1, [0.0; 2]);
-                for b in 0..2 * nb {
+                // prefix sums over the wrapped bins with a leading zero, as far as the longest
+                // box reaches: cw[b] = Σ_{j<b} w_bin[j mod nb], so a window [s, s+q) sums to
+                // cw[s+q] − cw[s]
+                let len = nb + q_max;
+                cumbuf.clear();
+                cumbuf.resize(len + 1, [0.0; 2]);
+                for b in 0..len {
                     let j = if b < nb { b } else { b - nb };
-                    hist[b + 1] = [hist[b][0] + bw[j], hist[b][1] + bwy[j]];
+                    cumbuf[b + 1] = [cumbuf[b][0] + ha[j][0] + hb[j][0], cumbuf[b][1] + ha[j][1] + hb[j][1]];
                 }
-                let cum: &[[f64; 2]] = hist;
+                let cum: &[[f64; 2]] = cumbuf;
                 // Best box by cross-multiplication (no division in the loop): keep the
                 // numerator sy² and denominator r(1−r) of the best statistic.
                 let (mut best_num, mut best_den) = (0.0f64, 1.0f64);
                 let (mut best_s, mut best_q, mut best_sy, mut best_r) = (0usize, 0usize, 0.0, 0.0);
-                for &d in &options.durations_d {
+                for &d in durs.iter() {
                     let q = ((d / p * nb as f64).round() as usize).clamp(1, nb - 1);
-                    for (s, (lo, hi)) in cum[..nb].iter().zip(&cum[q..q + nb]).enumerate() {
+                    // each duration's edges at a tenth (1/bins_per_duration) of itself: longer
+                    // boxes slide in longer strides over the fine bins
+                    let stride = (q / options.bins_per_duration).max(1);
+                    for (s, (lo, hi)) in cum[..nb].iter().zip(&cum[q..q + nb]).enumerate().step_by(stride) {
                         let r = hi[0] - lo[0];
                         let sy = hi[1] - lo[1];
                         let den = r * (1.0 - r);
@@ -259,7 +472,328 @@ fn phase_bins(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
     phase_bins_body(dt, f, nb, out)
 }
 
-/// Measures the best box at grid index `k` on the unbinned points and its SDE.
+/// Measures a box at period `period_d`, mid-event time `epoch_d` (days, the series'
+/// reference) and duration `duration_d` on the unbinned points: depth, odd and even event
+/// depths, the depth at phase 0.5 and a search for the deepest secondary dip of the same
+/// duration elsewhere in phase (see [`BoxMeasurement`]). Errors: a period, epoch or
+/// duration that is not finite and positive (duration under half the period), no points
+/// inside or outside the box. Source: weighted means and their σ (common practice);
+/// the odd/even and secondary tests as in transit vetting (e.g. Batalha et al. 2010, ApJ
+/// 713, L103, from memory).
+pub fn measure_box(
+    series: &Series,
+    period_d: f64,
+    epoch_d: f64,
+    duration_d: f64,
+    options: &BoxOptions,
+) -> Result<BoxMeasurement, SearchError> {
+    if !(period_d.is_finite() && period_d > 0.0) {
+        return Err(SearchError::InvalidParameter {
+            name: "box period (d)",
+            value: period_d,
+            expected: "a finite period > 0",
+        });
+    }
+    if !(duration_d.is_finite() && duration_d > 0.0 && duration_d < 0.5 * period_d) {
+        return Err(SearchError::InvalidParameter {
+            name: "box duration (d)",
+            value: duration_d,
+            expected: "a finite duration > 0 and under half the period",
+        });
+    }
+    if !epoch_d.is_finite() {
+        return Err(SearchError::InvalidParameter {
+            name: "mid-event time (d)",
+            value: epoch_d,
+            expected: "a finite time",
+        });
+    }
+    let n = series.len();
+    let y = series.band_centred_values();
+    let w = &series.weight;
+    let sign = options.dip_sign();
+    let half = 0.5 * duration_d;
+    // 0: outside, 1: primary, 2: the phase-0.5 window; event number of primary points
+    let mut class = vec![0u8; n];
+    let mut event = vec![0i64; n];
+    let mut phase = vec![0.0; n];
+    for i in 0..n {
+        let x = (series.time_d[i] - epoch_d) / period_d;
+        let k = (x + 0.5).floor();
+        let dx = (x - k) * period_d;
+        phase[i] = x - x.floor();
+        if dx.abs() <= half {
+            class[i] = 1;
+            event[i] = k as i64;
+        } else if 0.5 * period_d - dx.abs() <= half {
+            class[i] = 2;
+        }
+    }
+    let (mut sw, mut swy) = ([0.0f64; 3], [0.0f64; 3]);
+    let (mut so, mut soy, mut se, mut sey) = (0.0, 0.0, 0.0, 0.0);
+    let mut events: Vec<i64> = Vec::new();
+    for i in 0..n {
+        let c = class[i] as usize;
+        sw[c] += w[i];
+        swy[c] += w[i] * y[i];
+        if c == 1 {
+            events.push(event[i]);
+            if event[i].rem_euclid(2) == 1 {
+                so += w[i];
+                soy += w[i] * y[i];
+            } else {
+                se += w[i];
+                sey += w[i] * y[i];
+            }
+        }
+    }
+    let n_in = class.iter().filter(|&&c| c == 1).count();
+    if n_in == 0 || sw[1] <= 0.0 || sw[0] + sw[2] <= 0.0 {
+        return Err(SearchError::TooFewPoints {
+            needed: 1,
+            got: 0,
+            dropped: series.n_dropped,
+            reason: "measuring a box (no points inside or outside it)",
+        });
+    }
+    events.sort_unstable();
+    events.dedup();
+    let lin = swy[1] / sw[1];
+    let rest_w = sw[0] + sw[2];
+    let lrest = (swy[0] + swy[2]) / rest_w;
+    // out-of-event level: outside both windows when there are points there
+    let (w_out, lout) = if sw[0] > 0.0 { (sw[0], swy[0] / sw[0]) } else { (rest_w, lrest) };
+    let chi2_box: f64 = (0..n)
+        .map(|i| {
+            let m = if class[i] == 1 { lin } else { lrest };
+            w[i] * (y[i] - m) * (y[i] - m)
+        })
+        .sum();
+    let red = chi2_box / (n as f64 - 5.0).max(1.0);
+    let err_scale = if series.has_errors { red.max(1.0).sqrt() } else { red.sqrt() };
+    let depth_of = |wa: f64, wya: f64| -> (f64, f64) {
+        if wa > 0.0 {
+            (sign * (wya / wa - lout), (1.0 / wa + 1.0 / w_out).sqrt() * err_scale)
+        } else {
+            (f64::NAN, f64::NAN)
+        }
+    };
+    let (depth, depth_err) = depth_of(sw[1], swy[1]);
+    let (odd_depth, odd_depth_err) = depth_of(so, soy);
+    let (even_depth, even_depth_err) = depth_of(se, sey);
+    // the out-of-event level is common to both: the difference's σ has no out term
+    let odd_even_sigma = if so > 0.0 && se > 0.0 {
+        (odd_depth - even_depth).abs() / ((1.0 / so + 1.0 / se).sqrt() * err_scale)
+    } else {
+        f64::NAN
+    };
+    let (secondary_depth, secondary_depth_err) = depth_of(sw[2], swy[2]);
+    // Secondary search: points outside the primary, binned in phase; windows of the box
+    // duration that lie wholly outside the primary.
+    let q_phase = duration_d / period_d;
+    let nb = ((10.0 / q_phase).ceil() as usize).clamp(20, 1 << 16);
+    let mut hw = vec![0.0; nb];
+    let mut hwy = vec![0.0; nb];
+    for i in 0..n {
+        if class[i] != 1 {
+            let b = ((phase[i] * nb as f64) as usize).min(nb - 1);
+            hw[b] += w[i];
+            hwy[b] += w[i] * y[i];
+        }
+    }
+    let qb = ((q_phase * nb as f64).round() as usize).max(1);
+    let first = ((0.5 * q_phase * nb as f64).ceil() as usize).max(1);
+    let mut best = (f64::NAN, f64::NAN, f64::NAN, f64::NEG_INFINITY);
+    let (mut cw, mut cwy) = (0.0, 0.0);
+    let mut start = first;
+    if first + qb < nb {
+        for b in first..first + qb {
+            cw += hw[b];
+            cwy += hwy[b];
+        }
+        loop {
+            let end = start + qb;
+            if (end as f64) > nb as f64 * (1.0 - 0.5 * q_phase) {
+                break;
+            }
+            let other = rest_w - cw;
+            if cw > 0.0 && other > 0.0 {
+                let d = sign * (cwy / cw - (swy[0] + swy[2] - cwy) / other);
+                let e = (1.0 / cw + 1.0 / other).sqrt() * err_scale;
+                if d / e > best.3 {
+                    best = ((start as f64 + 0.5 * qb as f64) / nb as f64, d, e, d / e);
+                }
+            }
+            if end >= nb {
+                break;
+            }
+            cw += hw[end] - hw[start];
+            cwy += hwy[end] - hwy[start];
+            start += 1;
+        }
+    }
+    let (secondary_search_phase, secondary_search_depth, secondary_search_depth_err) = (best.0, best.1, best.2);
+    let chi2_with_secondary = if secondary_search_phase.is_finite() {
+        let in_window = |ph: f64| {
+            let d = (ph - secondary_search_phase).abs();
+            d.min(1.0 - d) <= 0.5 * q_phase
+        };
+        let (mut a, mut ay, mut b, mut by) = (0.0, 0.0, 0.0, 0.0);
+        for i in 0..n {
+            if class[i] != 1 {
+                if in_window(phase[i]) {
+                    a += w[i];
+                    ay += w[i] * y[i];
+                } else {
+                    b += w[i];
+                    by += w[i] * y[i];
+                }
+            }
+        }
+        let (la, lb) = (if a > 0.0 { ay / a } else { 0.0 }, if b > 0.0 { by / b } else { 0.0 });
+        (0..n)
+            .map(|i| {
+                let m = if class[i] == 1 {
+                    lin
+                } else if in_window(phase[i]) {
+                    la
+                } else {
+                    lb
+                };
+                w[i] * (y[i] - m) * (y[i] - m)
+            })
+            .sum()
+    } else {
+        chi2_box
+    };
+    Ok(BoxMeasurement {
+        level_out: lout,
+        depth,
+        depth_err,
+        n_in_box: n_in,
+        n_events: events.len(),
+        odd_depth,
+        odd_depth_err,
+        even_depth,
+        even_depth_err,
+        odd_even_sigma,
+        secondary_depth,
+        secondary_depth_err,
+        secondary_search_phase,
+        secondary_search_depth,
+        secondary_search_depth_err,
+        chi2_box,
+        chi2_with_secondary,
+        reduced_chi2: red,
+        err_scale,
+    })
+}
+
+/// A box peak's frequency refined on a fine local grid.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoxFrequencyRefinement {
+    /// Frequency of the highest Δχ² on the fine grid, c/d, and its 1σ.
+    pub freq_per_day: f64,
+    pub freq_err_per_day: f64,
+    /// Best box there: mid-event time (days) and duration (days), Δχ², edge resolution (d).
+    pub epoch_d: f64,
+    pub duration_d: f64,
+    pub power: f64,
+    pub resolution_d: f64,
+}
+
+/// Refines the box peak near `freq_per_day` (found on a grid of step `grid_step_per_day`)
+/// on fine local grids (box edges at a hundredth of the shortest duration) and gives its 1σ from the profile of the best-box
+/// Δχ²: half the width of the frequency interval where Δχ² stays within `chi2_drop` of its
+/// maximum. `chi2_drop` is 1 for one parameter with correct uncertainties (Press et al.,
+/// Numerical Recipes 3rd ed., §15.6.5); pass χ²_red when it exceeds 1, or the residual
+/// variance for data without uncertainties. The interval is the envelope of all local-grid
+/// frequencies within `chi2_drop` of the maximum (the statistic jumps as single points
+/// cross a box edge). The local grid widens or narrows until the interval spans at least
+/// ten fine steps (at most six rounds). Pass the durations of `options` close to the
+/// event's (see [`box_detection_at`]): a box much shorter than the event slides inside it
+/// and flattens the profile.
+pub fn refine_box_frequency(
+    series: &Series,
+    freq_per_day: f64,
+    grid_step_per_day: f64,
+    options: &BoxOptions,
+    chi2_drop: f64,
+) -> Result<BoxFrequencyRefinement, SearchError> {
+    if !(freq_per_day.is_finite() && freq_per_day > 0.0 && grid_step_per_day.is_finite() && grid_step_per_day > 0.0) {
+        return Err(SearchError::InvalidParameter {
+            name: "box peak frequency (c/d)",
+            value: freq_per_day,
+            expected: "a finite frequency > 0 and a grid step > 0",
+        });
+    }
+    if !(chi2_drop.is_finite() && chi2_drop > 0.0) {
+        return Err(SearchError::InvalidParameter {
+            name: "Δχ² of one σ",
+            value: chi2_drop,
+            expected: "a finite value > 0",
+        });
+    }
+    // edges at a hundredth of the shortest duration: the profile must resolve shifts well
+    // below the search's edge resolution
+    let fine = BoxOptions { bins_per_duration: 100, ..options.clone() };
+    const N: usize = 121;
+    let mut centre = freq_per_day;
+    let mut half_span = 2.0 * grid_step_per_day;
+    let mut out = None;
+    for round in 0..6 {
+        let lo = (centre - half_span).max(0.5 * centre);
+        let step = (centre + half_span - lo) / (N - 1) as f64;
+        let grid = FrequencyGrid::new(lo, step, N)?;
+        let b = box_search(series, &grid, &fine)?;
+        let k = (0..N).max_by(|&i, &j| b.power[i].total_cmp(&b.power[j])).unwrap_or(0);
+        let top = b.power[k];
+        let thr = top - chi2_drop;
+        // the envelope of the frequencies within `chi2_drop` of the maximum: the statistic
+        // jumps as single points cross a box edge, so the interval is not cut at the first dip
+        let a = (0..N).find(|&i| b.power[i] >= thr).unwrap_or(k);
+        let z = (0..N).rev().find(|&i| b.power[i] >= thr).unwrap_or(k);
+        let at_edge = a == 0 || z == N - 1;
+        let last = round == 5;
+        if at_edge && !last {
+            half_span *= 3.0;
+            centre = grid.freq_per_day(k);
+            continue;
+        }
+        if !at_edge && z - a < 10 && !last {
+            half_span = 2.0 * (z - a + 2) as f64 * step;
+            centre = grid.freq_per_day(k);
+            continue;
+        }
+        // linear interpolation of the threshold crossings
+        let cross = |i: usize, j: usize| {
+            let (pi, pj) = (b.power[i], b.power[j]);
+            let (fi, fj) = (grid.freq_per_day(i), grid.freq_per_day(j));
+            if (pi - pj).abs() > 0.0 { fi + (thr - pi) / (pj - pi) * (fj - fi) } else { fi }
+        };
+        let f_lo = if a > 0 { cross(a, a - 1) } else { grid.freq_per_day(0) };
+        let f_hi = if z + 1 < N { cross(z, z + 1) } else { grid.freq_per_day(N - 1) };
+        let f = grid.freq_per_day(k);
+        out = Some(BoxFrequencyRefinement {
+            freq_per_day: f,
+            freq_err_per_day: (0.5 * (f_hi - f_lo)).max(0.5 * step),
+            epoch_d: b.epoch_d[k],
+            duration_d: b.duration_d[k],
+            power: top,
+            resolution_d: 0.5 / (f * fine.bins_at(1.0 / f) as f64),
+        });
+        break;
+    }
+    out.ok_or(SearchError::InvalidParameter {
+        name: "box peak frequency (c/d)",
+        value: freq_per_day,
+        expected: "a peak the refinement can bracket",
+    })
+}
+
+/// Measures the best box at grid index `k` of `spectrum` on the unbinned points: the
+/// period refined with its σ ([`refine_box_frequency`], Δχ² drop of max(1, χ²_red), or the
+/// residual variance without uncertainties), then [`measure_box`] there, and the SDE.
 pub fn box_detection(
     series: &Series,
     spectrum: &BoxSpectrum,
@@ -274,63 +808,267 @@ pub fn box_detection(
             expected: "an index inside the spectrum",
         });
     }
-    let dmin = check(options, &spectrum.grid)?;
-    let f = spectrum.grid.freq_per_day(k);
-    let p = 1.0 / f;
-    let (dur, epoch) = (spectrum.duration_d[k], spectrum.epoch_d[k]);
-    let y = series.band_centred_values();
-    let (mut win, mut wyin, mut wout, mut wyout, mut nin) = (0.0, 0.0, 0.0, 0.0, 0usize);
-    let inside: Vec<bool> = series
-        .time_d
-        .iter()
-        .map(|&t| {
-            let ph = phase_of(t, p, epoch);
-            ph.min(1.0 - ph) * p <= 0.5 * dur
-        })
-        .collect();
-    for i in 0..series.len() {
-        if inside[i] {
-            win += series.weight[i];
-            wyin += series.weight[i] * y[i];
-            nin += 1;
-        } else {
-            wout += series.weight[i];
-            wyout += series.weight[i] * y[i];
-        }
-    }
-    if nin == 0 || win <= 0.0 || wout <= 0.0 {
-        return Err(SearchError::TooFewPoints {
-            needed: 1,
-            got: 0,
-            dropped: series.n_dropped,
-            reason: "measuring a box (no points inside or outside it)",
-        });
-    }
-    let (lin, lout) = (wyin / win, wyout / wout);
-    let mut err = (1.0 / win + 1.0 / wout).sqrt();
-    if !series.has_errors {
-        let chi2: f64 = (0..series.len())
-            .map(|i| {
-                let m = if inside[i] { lin } else { lout };
-                (y[i] - m) * (y[i] - m)
-            })
-            .sum();
-        err *= (chi2 / (series.len() as f64 - 2.0).max(1.0)).sqrt();
-    }
+    check(options, &spectrum.grid)?;
     let mean = spectrum.power.iter().sum::<f64>() / m as f64;
     let sd = (spectrum.power.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / m.max(2) as f64).sqrt();
-    let nb = (p * options.bins_per_duration as f64 / dmin).ceil().max(2.0);
+    let sde = if sd > 0.0 { (spectrum.power[k] - mean) / sd } else { 0.0 };
+    let f = spectrum.grid.freq_per_day(k);
+    box_detection_at(series, f, spectrum.epoch_d[k], spectrum.duration_d[k], spectrum.grid.step_per_day, sde, options)
+}
+
+/// The best mid-event time and duration at one frequency: durations from half to twice
+/// `duration_d` in 41 geometric steps (3.5 % apart, below half the period), box edges at a
+/// hundredth of the shortest. Returns (mid-event time, duration, Δχ²).
+fn tune_duration(
+    series: &Series,
+    freq_per_day: f64,
+    duration_d: f64,
+    options: &BoxOptions,
+) -> Result<(f64, f64, f64), SearchError> {
+    let p = 1.0 / freq_per_day;
+    let top = 0.45 * p;
+    let lo = (0.5 * duration_d).min(0.5 * top);
+    let ratio = (((2.0 * duration_d).min(top)) / lo).max(1.0 + 1e-9).powf(1.0 / 40.0);
+    let durations: Vec<f64> = (0..41).map(|j| lo * ratio.powi(j)).filter(|&d| d < 0.5 * p).collect();
+    let tuned = BoxOptions { durations: BoxDurations::Fixed(durations), bins_per_duration: 100, ..options.clone() };
+    let grid = FrequencyGrid::new(freq_per_day, freq_per_day * 1e-9, 1)?;
+    let b = box_search(series, &grid, &tuned)?;
+    Ok((b.epoch_d[0], b.duration_d[0], b.power[0]))
+}
+
+/// [`box_detection`] from a given frequency (c/d), mid-event time and duration (days),
+/// searched on a grid of step `grid_step_per_day`; `sde` is passed through. Steps: the
+/// duration and mid-event time tuned at the peak (41 durations from half to twice the
+/// search's), the frequency refined with boxes within ±5 % of that duration
+/// ([`refine_box_frequency`], Δχ² drop max(1, χ²_red) or the residual variance without
+/// uncertainties), the duration tuned again there, then [`measure_box`]. The period σ is
+/// the larger of the profile's and the one from the event times (each event timed alone,
+/// a straight line through them; see `period_sigma_from_event_times`).
+pub fn box_detection_at(
+    series: &Series,
+    freq_per_day: f64,
+    epoch_d: f64,
+    duration_d: f64,
+    grid_step_per_day: f64,
+    sde: f64,
+    options: &BoxOptions,
+) -> Result<BoxDetection, SearchError> {
+    let coarse = measure_box(series, 1.0 / freq_per_day, epoch_d, duration_d, options)?;
+    let drop = if series.has_errors { coarse.reduced_chi2.max(1.0) } else { coarse.reduced_chi2 };
+    let (_, d1, _) = tune_duration(series, freq_per_day, duration_d, options)?;
+    let near = BoxOptions {
+        durations: BoxDurations::Fixed(
+            [0.95, 1.0, 1.05].iter().map(|r| r * d1).filter(|&d| d < 0.45 / freq_per_day).collect(),
+        ),
+        bins_per_duration: 10,
+        ..options.clone()
+    };
+    let r = refine_box_frequency(series, freq_per_day, grid_step_per_day, &near, drop.max(1e-300))?;
+    let (epoch0, duration, power) = tune_duration(series, r.freq_per_day, d1, options)?;
+    let p = 1.0 / r.freq_per_day;
+    // the first event after the first point
+    let t_first = series.time_d[0];
+    let epoch = epoch0 + ((t_first - epoch0) / p).ceil() * p;
+    let mm = measure_box(series, p, epoch, duration, options)?;
+    // the larger of the Δχ² profile's σ and the event-timing σ
+    let timing = period_sigma_from_event_times(series, p, epoch, duration, &mm, options.dip_sign());
+    let profile = r.freq_err_per_day * p * p;
+    let period_err_d = if timing.is_finite() { profile.max(timing) } else { profile };
     Ok(BoxDetection {
-        freq_per_day: f,
+        freq_per_day: r.freq_per_day,
+        freq_err_per_day: period_err_d / (p * p),
         period_d: p,
-        power: spectrum.power[k],
-        depth: (lin - lout).abs(),
-        depth_err: err,
-        duration_d: dur,
-        duration_resolution_d: 0.5 * p / nb,
+        period_err_d,
+        power,
+        depth: mm.depth,
+        depth_err: mm.depth_err,
+        duration_d: duration,
+        duration_resolution_d: 0.5 * 0.5 * d1 / 100.0,
         epoch_d: epoch,
-        sde: if sd > 0.0 { (spectrum.power[k] - mean) / sd } else { 0.0 },
-        n_in_box: nin,
+        snr: mm.snr(),
+        sde,
+        n_in_box: mm.n_in_box,
+        measurement: mm,
+    })
+}
+
+/// The period σ from the event times: each observed event's mid-time is fitted alone (the
+/// box of the measured depth and duration slid over ±half a duration in 200 steps; its σ
+/// the half-width where χ² stays within max(1, χ²_red) of its minimum, at least a step),
+/// then a weighted straight line t_k = T₀ + k·P gives σ_P, scaled by √(χ²/dof) of that line
+/// when it exceeds 1 (three or more events). This catches the scatter of a box whose
+/// sharp edges make the Δχ² profile of the whole light curve too narrow. Returns NaN with
+/// fewer than two timed events. Source: a linear ephemeris by weighted least squares
+/// (common practice, as for O–C analysis).
+fn period_sigma_from_event_times(
+    series: &Series,
+    period_d: f64,
+    epoch_d: f64,
+    duration_d: f64,
+    m: &BoxMeasurement,
+    sign: f64,
+) -> f64 {
+    let y = series.band_centred_values();
+    let w = &series.weight;
+    let t = &series.time_d;
+    let inside_level = m.level_out + sign * m.depth;
+    let drop = if series.has_errors { m.reduced_chi2.max(1.0) } else { m.reduced_chi2.max(1e-300) };
+    let (first, last) = (t[0], t[t.len() - 1]);
+    let k0 = ((first - epoch_d) / period_d).floor() as i64 - 1;
+    let k1 = ((last - epoch_d) / period_d).ceil() as i64 + 1;
+    const STEPS: usize = 200;
+    let step = duration_d / STEPS as f64;
+    let mut events: Vec<(f64, f64, f64)> = Vec::new(); // (k, time, σ)
+    for k in k0..=k1 {
+        let c = epoch_d + k as f64 * period_d;
+        let lo = t.partition_point(|&x| x < c - 1.5 * duration_d);
+        let hi = t.partition_point(|&x| x <= c + 1.5 * duration_d);
+        let pts: Vec<usize> = (lo..hi).collect();
+        // an event needs points inside and outside the box
+        let n_in = pts.iter().filter(|&&i| (t[i] - c).abs() <= 0.5 * duration_d).count();
+        if n_in < 2 || pts.len() < n_in + 2 {
+            continue;
+        }
+        let chi: Vec<f64> = (0..=STEPS)
+            .map(|j| {
+                let cc = c - 0.5 * duration_d + j as f64 * step;
+                pts.iter()
+                    .map(|&i| {
+                        let mdl = if (t[i] - cc).abs() <= 0.5 * duration_d { inside_level } else { m.level_out };
+                        w[i] * (y[i] - mdl) * (y[i] - mdl)
+                    })
+                    .sum()
+            })
+            .collect();
+        let (jbest, cmin) =
+            chi.iter().cloned().enumerate().fold((0, f64::INFINITY), |a, (j, v)| if v < a.1 { (j, v) } else { a });
+        if jbest == 0 || jbest == STEPS {
+            continue; // not bracketed: the event is not timed
+        }
+        let a = (0..=STEPS).find(|&j| chi[j] <= cmin + drop).unwrap_or(jbest);
+        let z = (0..=STEPS).rev().find(|&j| chi[j] <= cmin + drop).unwrap_or(jbest);
+        let sigma = (0.5 * (z - a) as f64 * step).max(step);
+        events.push((k as f64, c - 0.5 * duration_d + jbest as f64 * step, sigma));
+    }
+    if events.len() < 2 {
+        return f64::NAN;
+    }
+    // weighted line t = T0 + k P
+    let (mut s0, mut s1, mut s2, mut sy, mut sky) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for &(k, tt, sg) in &events {
+        let wk = 1.0 / (sg * sg);
+        s0 += wk;
+        s1 += wk * k;
+        s2 += wk * k * k;
+        sy += wk * tt;
+        sky += wk * k * tt;
+    }
+    let det = s0 * s2 - s1 * s1;
+    if det <= 0.0 {
+        return f64::NAN;
+    }
+    let slope = (s0 * sky - s1 * sy) / det;
+    let icpt = (s2 * sy - s1 * sky) / det;
+    let mut sig_p = (s0 / det).sqrt();
+    if events.len() >= 3 {
+        let chi2: f64 = events.iter().map(|&(k, tt, sg)| ((tt - icpt - slope * k) / sg).powi(2)).sum();
+        let red = chi2 / (events.len() - 2) as f64;
+        if red > 1.0 {
+            sig_p *= red.sqrt();
+        }
+    }
+    sig_p
+}
+
+/// How a box peak's period was settled between P and 2P.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EclipsePeriodDecision {
+    /// The detection at the period taken.
+    pub detection: BoxDetection,
+    /// Whether the period was doubled from the box peak's.
+    pub doubled: bool,
+    /// What was decided and why, in words.
+    pub note: String,
+}
+
+/// Settles whether a box peak at P is the period or half the period of an eclipsing binary
+/// with unequal minima: when the odd and even events differ in depth by more than
+/// [`ODD_EVEN_DOUBLING_SIGMA`], the period is doubled (the deeper events become the
+/// primary, the others the secondary at phase 0.5) and measured again; when only one parity
+/// of events has points (and the baseline spans at least four cycles), the period is also
+/// doubled, the data fitting 2P as well; otherwise P stays, with the secondary and odd/even
+/// evidence stated. Source: common practice in eclipse
+/// and transit vetting (odd/even depth test).
+pub fn settle_eclipse_period(
+    series: &Series,
+    detection: &BoxDetection,
+    grid_step_per_day: f64,
+    options: &BoxOptions,
+) -> Result<EclipsePeriodDecision, SearchError> {
+    let m = &detection.measurement;
+    let p = detection.period_d;
+    let one_parity = m.odd_depth.is_nan() != m.even_depth.is_nan();
+    if one_parity && detection.freq_per_day * series.baseline_d() >= 4.0 {
+        // every other event falls in the gaps: twice the period fits the data as well and
+        // predicts no unobserved events; the longer period is taken
+        let epoch = if m.even_depth.is_nan() { detection.epoch_d + p } else { detection.epoch_d };
+        let doubled = box_detection_at(
+            series,
+            0.5 * detection.freq_per_day,
+            epoch,
+            detection.duration_d,
+            0.5 * grid_step_per_day,
+            detection.sde,
+            options,
+        )?;
+        let note = format!(
+            "period doubled to {:.7} d: only alternate events at {:.7} d have points, so twice that period fits as well (half the period stays possible)",
+            doubled.period_d, p
+        );
+        return Ok(EclipsePeriodDecision { detection: doubled, doubled: true, note });
+    }
+    if m.odd_even_sigma.is_finite() && m.odd_even_sigma > ODD_EVEN_DOUBLING_SIGMA {
+        let epoch = if m.odd_depth > m.even_depth { detection.epoch_d + p } else { detection.epoch_d };
+        let doubled = box_detection_at(
+            series,
+            0.5 * detection.freq_per_day,
+            epoch,
+            detection.duration_d,
+            0.5 * grid_step_per_day,
+            detection.sde,
+            options,
+        )?;
+        let note = format!(
+            "period doubled to {:.7} d: alternate minima differ by {:.1} sigma (depths {:.4} ± {:.4} and {:.4} ± {:.4}), so the box peak at {:.7} d folds a primary and a secondary eclipse together",
+            doubled.period_d,
+            m.odd_even_sigma,
+            m.odd_depth.max(m.even_depth),
+            if m.odd_depth > m.even_depth { m.odd_depth_err } else { m.even_depth_err },
+            m.odd_depth.min(m.even_depth),
+            if m.odd_depth > m.even_depth { m.even_depth_err } else { m.odd_depth_err },
+            p
+        );
+        return Ok(EclipsePeriodDecision { detection: doubled, doubled: true, note });
+    }
+    let sec = if m.secondary_depth.is_finite() && m.secondary_depth_err > 0.0 {
+        format!(
+            "; depth at phase 0.5 {:.4} ± {:.4} ({:.1} sigma)",
+            m.secondary_depth,
+            m.secondary_depth_err,
+            m.secondary_depth / m.secondary_depth_err
+        )
+    } else {
+        "; no points at phase 0.5".to_string()
+    };
+    let oe = if m.odd_even_sigma.is_finite() {
+        format!("odd and even events agree within {:.1} sigma", m.odd_even_sigma)
+    } else {
+        "odd and even events not both observed".to_string()
+    };
+    Ok(EclipsePeriodDecision {
+        detection: *detection,
+        doubled: false,
+        note: format!("period kept at the box peak: {oe}{sec}"),
     })
 }
 
@@ -357,17 +1095,19 @@ impl Periodogram for BoxFitPeriodogram {
 /// on the same bin grid, sums over all points directly (O(N · bins) per frequency and
 /// duration), single-threaded. Returns the Δχ² per frequency.
 pub fn box_search_direct(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -> Result<Vec<f64>, SearchError> {
-    let dmin = check(options, grid)?;
+    check(options, grid)?;
     let w_raw: f64 = series.weight.iter().sum();
     let w: Vec<f64> = series.weight.iter().map(|v| v / w_raw).collect();
     let y = series.band_centred_values();
-    let sign = if options.values_are_magnitudes { 1.0 } else { -1.0 };
+    let sign = options.dip_sign();
     let t0 = series.time_d[0];
     let mut out = vec![0.0; grid.len];
+    let mut durs = Vec::new();
     for (k, o) in out.iter_mut().enumerate() {
         let f = grid.freq_per_day(k);
         let p = 1.0 / f;
-        let nb = ((p * options.bins_per_duration as f64 / dmin).ceil() as usize).clamp(2, 1 << 20);
+        let nb = options.bins_at(p);
+        options.durations.at_period(p, &mut durs);
         let bins: Vec<usize> = series
             .time_d
             .iter()
@@ -376,9 +1116,10 @@ pub fn box_search_direct(series: &Series, grid: &FrequencyGrid, options: &BoxOpt
                 (((x - x.floor()) * nb as f64) as usize).min(nb - 1)
             })
             .collect();
-        for &d in &options.durations_d {
+        for &d in &durs {
             let q = ((d / p * nb as f64).round() as usize).clamp(1, nb - 1);
-            for s in 0..nb {
+            let stride = (q / options.bins_per_duration).max(1);
+            for s in (0..nb).step_by(stride) {
                 let (mut r, mut sy) = (0.0, 0.0);
                 for i in 0..series.len() {
                     let rel = (bins[i] + nb - s) % nb;
@@ -397,10 +1138,10 @@ pub fn box_search_direct(series: &Series, grid: &FrequencyGrid, options: &BoxOpt
     Ok(out)
 }
 
-/// A frequency grid for a box search between `min_period_d` and `max_period_d`: the step
-/// keeps the drift of a box edge across the baseline T under min_duration/oversampling,
-/// Δf = min_duration / (oversampling · T · max_period) (common practice; cf. Ofir 2014,
-/// A&A 561, A138, for the underlying phase-drift argument).
+/// A frequency grid for a box search between `min_period_d` and `max_period_d` with fixed
+/// durations: the step keeps the drift of a box edge across the baseline T under
+/// min_duration/oversampling, Δf = min_duration / (oversampling · T · max_period) (common
+/// practice; cf. Ofir 2014, A&A 561, A138, for the underlying phase-drift argument).
 pub fn plan_box_grid(
     baseline_d: f64,
     min_period_d: f64,
@@ -431,11 +1172,69 @@ pub fn plan_box_grid(
             expected: "a duration > 0 and under half the shortest period",
         });
     }
-    if !(oversampling.is_finite() && (1.0..=100.0).contains(&oversampling)) {
-        return Err(SearchError::InvalidParameter { name: "oversampling", value: oversampling, expected: "1 to 100" });
+    plan_box_grid_for(
+        baseline_d,
+        1.0 / max_period_d,
+        1.0 / min_period_d,
+        &BoxDurations::Fixed(vec![min_duration_d]),
+        oversampling,
+        memory_limit_bytes,
+    )
+}
+
+/// A frequency grid for a box search from `min_freq_per_day` to `max_freq_per_day` with
+/// these durations, uniform in frequency with the step that keeps the drift of a box edge
+/// over the baseline T under the shortest duration / oversampling at every trial period P:
+/// the phase drift over T of a step Δf is Δf·T·P days, so Δf = min over P of
+/// d_min(P) / (oversampling · T · P) — d_min / (oversampling · T · P_max) for fixed
+/// durations, q_min / (oversampling · T) for duty cycles. Source: the phase-drift argument
+/// of Ofir (2014), A&A 561, A138, §2 (common practice). Errors: a baseline ≤ 0, a range
+/// not 1/T ≤ min < max, oversampling outside 1–1000, bad durations, a grid over the
+/// memory limit (with the estimate).
+pub fn plan_box_grid_for(
+    baseline_d: f64,
+    min_freq_per_day: f64,
+    max_freq_per_day: f64,
+    durations: &BoxDurations,
+    oversampling: f64,
+    memory_limit_bytes: u128,
+) -> Result<super::GridPlan, SearchError> {
+    if !(baseline_d.is_finite() && baseline_d > 0.0) {
+        return Err(SearchError::InvalidParameter {
+            name: "baseline (d)",
+            value: baseline_d,
+            expected: "times spanning more than zero days",
+        });
     }
-    let step = min_duration_d / (oversampling * baseline_d * max_period_d);
-    let (f0, f1) = (1.0 / max_period_d, 1.0 / min_period_d);
+    let (f0, f1) = (min_freq_per_day, max_freq_per_day);
+    if !(f0.is_finite() && f1.is_finite() && f0 > 0.0 && f1 > f0) {
+        return Err(SearchError::UnresolvableRange {
+            min_freq_per_day: f0,
+            max_freq_per_day: f1,
+            baseline_d,
+            reason: "a box search needs 0 < minimum frequency < maximum frequency",
+        });
+    }
+    if f0 < (1.0 - 1e-9) / baseline_d {
+        return Err(SearchError::UnresolvableRange {
+            min_freq_per_day: f0,
+            max_freq_per_day: f1,
+            baseline_d,
+            reason: "the longest period asked for exceeds the baseline (lowest frequency must be ≥ 1/baseline)",
+        });
+    }
+    if !(oversampling.is_finite() && (1.0..=1000.0).contains(&oversampling)) {
+        return Err(SearchError::InvalidParameter {
+            name: "oversampling",
+            value: oversampling,
+            expected: "a number from 1 to 1000",
+        });
+    }
+    durations.check(1.0 / f1)?;
+    let step = match durations {
+        BoxDurations::Fixed(_) => durations.shortest_d(1.0) * f0,
+        BoxDurations::DutyCycles { shortest, .. } => *shortest,
+    } / (oversampling * baseline_d);
     let n = ((f1 - f0) / step).floor() + 1.0;
     let bytes = (n * super::grid::BYTES_PER_FREQUENCY as f64) as u128;
     if n > 4.0e9 || bytes > memory_limit_bytes {

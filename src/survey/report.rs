@@ -21,9 +21,12 @@ pub struct GridReport {
 /// The best box (transit or eclipse) of a box search.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BoxReport {
-    /// Period, days.
+    /// Period, days (refined on a fine local grid; doubled when alternate minima differ).
     pub period_d: f64,
-    /// Depth, units of the values.
+    /// 1σ of the period from the Δχ² profile, days.
+    #[serde(with = "nan_as_null")]
+    pub period_err_d: f64,
+    /// Depth, units of the values (positive for a dip).
     pub depth: f64,
     /// 1σ of the depth.
     #[serde(with = "nan_as_null")]
@@ -39,6 +42,42 @@ pub struct BoxReport {
     pub signal_detection_efficiency: f64,
     /// Points inside the box.
     pub points_in_box: usize,
+    /// Depth over its σ.
+    #[serde(with = "nan_as_null")]
+    pub signal_to_noise: f64,
+    /// Events (cycles) with points inside the box.
+    pub events_observed: usize,
+    /// Depth of the odd- and even-numbered events and their σ.
+    #[serde(with = "nan_as_null")]
+    pub odd_depth: f64,
+    #[serde(with = "nan_as_null")]
+    pub odd_depth_err: f64,
+    #[serde(with = "nan_as_null")]
+    pub even_depth: f64,
+    #[serde(with = "nan_as_null")]
+    pub even_depth_err: f64,
+    /// |odd − even| in σ of the difference.
+    #[serde(with = "nan_as_null")]
+    pub odd_even_sigma: f64,
+    /// Depth of a box of the same duration at phase 0.5 and its σ.
+    #[serde(with = "nan_as_null")]
+    pub secondary_depth_phase_half: f64,
+    #[serde(with = "nan_as_null")]
+    pub secondary_depth_phase_half_err: f64,
+    /// The deepest dip elsewhere in phase: phase (cycles after the primary), depth, σ.
+    #[serde(with = "nan_as_null")]
+    pub secondary_search_phase: f64,
+    #[serde(with = "nan_as_null")]
+    pub secondary_search_depth: f64,
+    #[serde(with = "nan_as_null")]
+    pub secondary_search_depth_err: f64,
+    /// χ²/(N − 5) of the box model (value² without uncertainties).
+    #[serde(with = "nan_as_null")]
+    pub reduced_chi2: f64,
+    /// Factor applied to the weight-based σ (√χ²_red when > 1 with uncertainties; the
+    /// residual rms without them; 1 otherwise).
+    #[serde(with = "nan_as_null")]
+    pub uncertainty_scale: f64,
 }
 
 /// One ranked peak.
@@ -77,6 +116,9 @@ pub struct PeakReport {
     pub false_alarm_probability: f64,
     /// Why this peak may be an alias of a stronger one.
     pub alias_notes: Vec<String>,
+    /// How the uncertainties were obtained (model, reduced χ², any inflation); empty when
+    /// the peak was not refined by a fit.
+    pub uncertainty_basis: String,
 }
 
 /// Peaks, grid and detection of one search.
@@ -99,6 +141,9 @@ pub struct PeakTable {
     /// The best box of a box search.
     #[serde(rename = "box")]
     pub box_detection: Option<BoxReport>,
+    /// What was decided about the top peak's period and why (box search: odd/even minima),
+    /// when there was a decision.
+    pub period_note: Option<String>,
     /// The peaks, highest first.
     pub peaks: Vec<PeakReport>,
 }
@@ -138,8 +183,10 @@ pub fn period_search_report(
             },
             window_sidelobes_per_day: outcome.window_sidelobes_per_day.clone(),
             bootstrap_fap_top_peak: outcome.bootstrap_fap.filter(|v| v.is_finite()),
+            period_note: outcome.period_note.clone(),
             box_detection: outcome.box_detection.as_ref().map(|b| BoxReport {
                 period_d: b.period_d,
+                period_err_d: b.period_err_d,
                 depth: b.depth,
                 depth_err: b.depth_err,
                 duration_d: b.duration_d,
@@ -147,6 +194,20 @@ pub fn period_search_report(
                 mid_event_d_since_reference: b.epoch_d,
                 signal_detection_efficiency: b.sde,
                 points_in_box: b.n_in_box,
+                signal_to_noise: b.snr,
+                events_observed: b.measurement.n_events,
+                odd_depth: b.measurement.odd_depth,
+                odd_depth_err: b.measurement.odd_depth_err,
+                even_depth: b.measurement.even_depth,
+                even_depth_err: b.measurement.even_depth_err,
+                odd_even_sigma: b.measurement.odd_even_sigma,
+                secondary_depth_phase_half: b.measurement.secondary_depth,
+                secondary_depth_phase_half_err: b.measurement.secondary_depth_err,
+                secondary_search_phase: b.measurement.secondary_search_phase,
+                secondary_search_depth: b.measurement.secondary_search_depth,
+                secondary_search_depth_err: b.measurement.secondary_search_depth_err,
+                reduced_chi2: b.measurement.reduced_chi2,
+                uncertainty_scale: b.measurement.err_scale,
             }),
             peaks: outcome
                 .peaks
@@ -166,6 +227,16 @@ pub fn period_search_report(
                     refined: p.peak.refined,
                     false_alarm_probability: p.fap,
                     alias_notes: p.peak.aliases.iter().map(describe_alias).collect(),
+                    uncertainty_basis: p.refinement.map_or_else(
+                        || {
+                            if p.peak.refined && outcome.box_detection.is_some() && outcome.classification.is_none() {
+                                "box fit: half the interval where the best-box delta-chi2 stays within max(1, reduced chi2) of its peak".to_string()
+                            } else {
+                                String::new()
+                            }
+                        },
+                        |r| r.describe(),
+                    ),
                 })
                 .collect(),
         },

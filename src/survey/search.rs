@@ -2,8 +2,12 @@
 //! evaluate the chosen method, pick and refine the top peaks, annotate aliases (including
 //! spectral-window sidelobes), and attach false-alarm probabilities.
 
-use crate::frequencies::peaks::{PeakOptions, describe_peaks};
-use crate::periodogram::bls::{BoxDetection, BoxFitPeriodogram, BoxOptions, box_detection, box_search};
+use super::cascade::{CascadeOptions, Classification, classify_series};
+use crate::frequencies::peaks::{DEFAULT_REFINE_HARMONICS, PeakOptions, RefinementFit, describe_peaks_with_fits};
+use crate::periodogram::bls::{
+    BoxDetection, BoxDurations, BoxFitPeriodogram, BoxOptions, DEFAULT_BINS_PER_DURATION, box_detection, box_search,
+    plan_box_grid_for, settle_eclipse_period,
+};
 use crate::periodogram::dispersion::PhaseDispersion;
 use crate::periodogram::entropy::ConditionalEntropy;
 use crate::periodogram::multiharmonic::MultiHarmonic;
@@ -28,8 +32,12 @@ pub enum SearchMethod {
     PhaseDispersion(usize),
     /// Conditional entropy with phase × value bins (power = ln n_value − H_c).
     ConditionalEntropy { phase_bins: usize, value_bins: usize },
-    /// Box least squares over these durations, days.
-    Box { durations_d: Vec<f64>, values_are_magnitudes: bool },
+    /// Box least squares over these durations (fixed in days, or scaling with the trial
+    /// period), on the box grid of [`plan_box_grid_for`].
+    Box { durations: BoxDurations, values_are_magnitudes: bool },
+    /// The survey cascade (sinusoid, harmonic series, box search; best by BIC, with a
+    /// class): [`super::cascade`].
+    Cascade(CascadeOptions),
 }
 
 impl SearchMethod {
@@ -49,7 +57,12 @@ impl SearchMethod {
             SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
                 format!("conditional entropy, {phase_bins}x{value_bins} bins")
             }
-            SearchMethod::Box { durations_d, .. } => format!("box least squares, {} durations", durations_d.len()),
+            SearchMethod::Box { durations, .. } => format!("box least squares, {}", durations.label()),
+            SearchMethod::Cascade(c) => format!(
+                "cascade: sinusoid, {}-harmonic series, box least squares ({}); best by BIC",
+                c.harmonics,
+                c.box_options.durations.label()
+            ),
         }
     }
 }
@@ -91,8 +104,12 @@ impl SearchPlan {
 #[derive(Debug, Clone, PartialEq)]
 pub struct RatedPeak {
     pub peak: Peak,
-    /// Analytic (Baluev 2008) FAP of a peak this high, where the method has one (NaN otherwise).
+    /// Analytic (Baluev 2008) FAP of a peak this high, where the method has one (NaN
+    /// otherwise); for the cascade, the winning model's FAP over its trials.
     pub fap: f64,
+    /// How the peak's uncertainties were obtained (None when not refined by a fit; box
+    /// peaks carry their σ from the Δχ² profile, see [`SearchOutcome::box_detection`]).
+    pub refinement: Option<RefinementFit>,
 }
 
 /// Everything a search returns.
@@ -104,8 +121,14 @@ pub struct SearchOutcome {
     pub window_sidelobes_per_day: Vec<f64>,
     /// Bootstrap FAP of the top peak, when asked.
     pub bootstrap_fap: Option<f64>,
-    /// Box details at the top peak, for the box method.
+    /// Box details at the top peak, for the box method and the cascade (at the period
+    /// settled between P and 2P).
     pub box_detection: Option<BoxDetection>,
+    /// What was decided about the top peak's period and why (box: odd/even minima; cascade:
+    /// the model, class and period chosen), when there was a decision.
+    pub period_note: Option<String>,
+    /// The cascade's description and class.
+    pub classification: Option<Classification>,
     /// Points used and rows dropped (NaN).
     pub n_points: usize,
     pub n_dropped: usize,
@@ -119,21 +142,37 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
         return Err(SearchError::InvalidParameter { name: "number of peaks", value: 0.0, expected: "at least 1" });
     }
     let baseline_d = series.baseline_d();
-    let grid = plan_grid(baseline_d, &plan.grid)?.grid;
-    let multiband = series.n_bands() > 1;
-    let (spectrum, box_det) = match &plan.method {
-        SearchMethod::Sinusoid if multiband => {
-            (MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None)
+    let grid = match &plan.method {
+        SearchMethod::Box { durations, .. } => {
+            let fmin = plan.grid.min_freq_per_day.unwrap_or(1.0 / baseline_d);
+            plan_box_grid_for(
+                baseline_d,
+                fmin,
+                plan.grid.max_freq_per_day,
+                durations,
+                plan.grid.oversampling,
+                plan.grid.memory_limit_bytes,
+            )?
+            .grid
         }
-        SearchMethod::Sinusoid => (GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None),
+        _ => plan_grid(baseline_d, &plan.grid)?.grid,
+    };
+    let multiband = series.n_bands() > 1;
+    let mut box_run: Option<(crate::periodogram::bls::BoxSpectrum, BoxOptions)> = None;
+    let mut classification = None;
+    let spectrum = match &plan.method {
+        SearchMethod::Sinusoid if multiband => {
+            MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
+        }
+        SearchMethod::Sinusoid => GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?,
         SearchMethod::ClassicalSinusoid => {
-            (ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?, None)
+            ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
         }
         SearchMethod::Harmonics(k) => {
             if *k == 0 || *k > 20 {
                 return Err(SearchError::InvalidParameter { name: "harmonics", value: *k as f64, expected: "1 to 20" });
             }
-            (MultiHarmonic { harmonics: *k }.evaluate(series, &grid)?, None)
+            MultiHarmonic { harmonics: *k }.evaluate(series, &grid)?
         }
         SearchMethod::PhaseDispersion(b) => {
             if *b < 2 || *b > 1000 {
@@ -143,7 +182,7 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
                     expected: "2 to 1000",
                 });
             }
-            (PhaseDispersion { n_bins: *b }.evaluate(series, &grid)?, None)
+            PhaseDispersion { n_bins: *b }.evaluate(series, &grid)?
         }
         SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
             if *phase_bins < 2 || *value_bins < 2 || *phase_bins > 1000 || *value_bins > 1000 {
@@ -153,26 +192,28 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
                     expected: "2 to 1000 phase and value bins",
                 });
             }
-            (ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }.evaluate(series, &grid)?, None)
+            ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }.evaluate(series, &grid)?
         }
-        SearchMethod::Box { durations_d, values_are_magnitudes } => {
+        SearchMethod::Box { durations, values_are_magnitudes } => {
             let options = BoxOptions {
-                durations_d: durations_d.clone(),
-                bins_per_duration: 5,
+                durations: durations.clone(),
+                bins_per_duration: DEFAULT_BINS_PER_DURATION,
                 values_are_magnitudes: *values_are_magnitudes,
             };
             BoxFitPeriodogram { options: options.clone() }.check_series(series)?;
             let bs = box_search(series, &grid, &options)?;
-            let best = bs
-                .power
-                .iter()
-                .enumerate()
-                .filter(|(_, p)| p.is_finite())
-                .max_by(|a, b| a.1.total_cmp(b.1))
-                .map(|(k, _)| k)
-                .unwrap_or(0);
-            let det = box_detection(series, &bs, best, &options)?;
-            (Spectrum { grid: bs.grid, power: bs.power, amplitude: None, algorithm: None }, Some(det))
+            let spectrum = Spectrum { grid: bs.grid, power: bs.power.clone(), amplitude: None, algorithm: None };
+            box_run = Some((bs, options));
+            spectrum
+        }
+        SearchMethod::Cascade(options) => {
+            let mut c = classify_series(series, &grid, plan.algorithm, plan.grid.memory_limit_bytes, options)?;
+            let spectrum = std::mem::replace(
+                &mut c.spectrum,
+                Spectrum { grid, power: Vec::new(), amplitude: None, algorithm: None },
+            );
+            classification = Some(c);
+            spectrum
         }
     };
     let sidelobes = if plan.window_sidelobes > 0 {
@@ -181,25 +222,87 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
     } else {
         Vec::new()
     };
+    let refine_harmonics = match &plan.method {
+        SearchMethod::Harmonics(k) => (*k).clamp(1, 10),
+        _ => DEFAULT_REFINE_HARMONICS,
+    };
     let options = PeakOptions {
         count: plan.peaks,
         min_separation_per_day: None,
         alias_tolerance_per_day: None,
         window_sidelobes_per_day: sidelobes.clone(),
-        refine: plan.refine_peaks && !matches!(plan.method, SearchMethod::Box { .. }),
+        refine: plan.refine_peaks && !matches!(plan.method, SearchMethod::Box { .. } | SearchMethod::Cascade(_)),
+        refine_harmonics,
     };
-    let peaks = describe_peaks(series, &spectrum, &options)?;
+    let mut described = describe_peaks_with_fits(series, &spectrum, &options)?;
+    let mut top_box = None;
+    let mut period_note = None;
+    if let Some((bs, box_options)) = &box_run {
+        // every box peak gets its refined period and σ from the Δχ² profile; the top one is
+        // settled between P and 2P (odd and even minima)
+        for (j, (peak, _)) in described.iter_mut().enumerate() {
+            let Ok(det) = box_detection(series, bs, peak.grid_index, box_options) else { continue };
+            let det = if j == 0 {
+                match settle_eclipse_period(series, &det, grid.step_per_day, box_options) {
+                    Ok(decision) => {
+                        period_note = Some(decision.note);
+                        decision.detection
+                    }
+                    Err(_) => det,
+                }
+            } else {
+                det
+            };
+            peak.freq_per_day = det.freq_per_day;
+            peak.freq_err_per_day = det.freq_err_per_day;
+            peak.period_d = det.period_d;
+            peak.period_err_d = det.period_err_d;
+            peak.amplitude = det.depth;
+            peak.amplitude_err = det.depth_err;
+            peak.refined = true;
+            if j == 0 {
+                top_box = Some(det);
+            }
+        }
+    }
+    if let Some(c) = &classification {
+        // the cascade's period is the first peak
+        let k =
+            (((c.freq_per_day - grid.start_per_day) / grid.step_per_day).round().max(0.0) as usize).min(grid.len - 1);
+        let peak = Peak {
+            grid_index: k,
+            power: spectrum.power.get(k).copied().unwrap_or(f64::NAN),
+            freq_per_day: c.freq_per_day,
+            freq_err_per_day: c.freq_err_per_day,
+            period_d: c.period_d,
+            period_err_d: c.period_err_d,
+            amplitude: c.amplitude,
+            amplitude_err: f64::NAN,
+            phase_cycles: f64::NAN,
+            phase_err_cycles: f64::NAN,
+            refined: c.period_err_d.is_finite(),
+            aliases: Vec::new(),
+        };
+        described.insert(0, (peak, None));
+        described.truncate(plan.peaks.max(1));
+        top_box = c.box_detection;
+        period_note = Some(c.note.clone());
+    }
     let fmax = grid.max_freq_per_day();
     let analytic = plan.method.has_analytic_fap() && series.len() >= 5;
-    let peaks = peaks
+    let cascade_fap = classification.as_ref().map(|c| c.false_alarm);
+    let peaks = described
         .into_iter()
-        .map(|peak| {
-            let fap = if analytic && (0.0..=1.0).contains(&peak.power) {
+        .enumerate()
+        .map(|(j, (peak, refinement))| {
+            let fap = if j == 0 && cascade_fap.is_some() {
+                cascade_fap.unwrap_or(f64::NAN)
+            } else if analytic && (0.0..=1.0).contains(&peak.power) {
                 baluev_fap(peak.power, series, fmax).unwrap_or(f64::NAN)
             } else {
                 f64::NAN
             };
-            RatedPeak { peak, fap }
+            RatedPeak { peak, fap, refinement }
         })
         .collect::<Vec<_>>();
     let bootstrap = match (&plan.bootstrap, peaks.first()) {
@@ -213,13 +316,14 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
                 SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
                     Box::new(ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins })
                 }
-                SearchMethod::Box { durations_d, values_are_magnitudes } => Box::new(BoxFitPeriodogram {
+                SearchMethod::Box { durations, values_are_magnitudes } => Box::new(BoxFitPeriodogram {
                     options: BoxOptions {
-                        durations_d: durations_d.clone(),
-                        bins_per_duration: 5,
+                        durations: durations.clone(),
+                        bins_per_duration: DEFAULT_BINS_PER_DURATION,
                         values_are_magnitudes: *values_are_magnitudes,
                     },
                 }),
+                SearchMethod::Cascade(_) => Box::new(GeneralisedLombScargle { algorithm: plan.algorithm }),
             };
             Some(bootstrap_fap(series, &grid, method.as_ref(), top.peak.power, b)?.fap)
         }
@@ -230,7 +334,9 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
         peaks,
         window_sidelobes_per_day: sidelobes,
         bootstrap_fap: bootstrap,
-        box_detection: box_det,
+        box_detection: top_box,
+        period_note,
+        classification,
         n_points: series.len(),
         n_dropped: series.n_dropped(),
         baseline_d,
