@@ -249,11 +249,22 @@ impl BarycentricCorrector {
             Observer::Site(site) => {
                 // The topocentric term wants the UT fraction of day (UTC is used, as SOFA
                 // allows: the UT1 difference changes the term by < 2e-10 s).
-                let ut_fraction = match self.converter.convert(time, TimeScale::Utc) {
+                let ut_fraction = |tt: &Instant| match self.converter.convert(tt, TimeScale::Utc) {
                     Ok(utc) => utc.day_fraction().min(1.0),
                     Err(_) => (tt.seconds_of_day() - 69.0).rem_euclid(SECONDS_PER_DAY) / SECONDS_PER_DAY,
                 };
-                self.converter.at_site(Some(site.dtdb_site())).tt_to_tdb_with_ut(&tt, ut_fraction)
+                let at_site = self.converter.at_site(Some(site.dtdb_site()));
+                if matches!(time.scale(), TimeScale::Tdb | TimeScale::Tcb) {
+                    // A TDB (or TCB) clock read at the site already holds the site's
+                    // topocentric term: keep it as the observer's TDB, and find the TT of
+                    // that instant by removing the site's TDB − TT (one step from the
+                    // geocentric TT; the term changes by < 1e-13 s over its 2 µs).
+                    let tdb = self.converter.convert(time, TimeScale::Tdb)?;
+                    let guess = at_site.tt_to_tdb_with_ut(&tt, ut_fraction(&tt));
+                    let tt = tt.add_seconds(-guess.seconds_since(&tdb));
+                    return Ok((tdb, tt.seconds_since(time), tt));
+                }
+                at_site.tt_to_tdb_with_ut(&tt, ut_fraction(&tt))
             }
             Observer::Geocentre => self.converter.tt_to_tdb(&tt),
             Observer::Spacecraft(sc) => {
