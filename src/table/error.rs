@@ -16,4 +16,12 @@ pub enum TableError {
     Empty { file: String },
     #[error("refusing to write {output}: it is also an input file; choose another output path")]
     OutputIsInput { output: String },
+    #[error(
+        "refusing to write {output_option} {output}: it is also an input file ({input_option} {input}); choose another path"
+    )]
+    OutputOverInput { output_option: String, output: String, input_option: String, input: String },
+    #[error(
+        "refusing to write {output_option} {output}: {other_option} {other} names the same file; give each output its own path"
+    )]
+    OutputsClash { output_option: String, output: String, other_option: String, other: String },
 }
