@@ -15,6 +15,9 @@ pub enum TimeError {
     /// A time string could not be read in the stated format.
     #[error("'{text}' is not a valid {format} time: {expected}")]
     Unparseable { text: String, format: &'static str, expected: String },
+    /// A day number outside the span skyclock accepts (JD 0 to the end of AD 9999).
+    #[error("{text} is outside the times accepted: {format} {low} to {high} (JD 0 = 4713 BC to the end of AD 9999)")]
+    OutOfRange { text: String, format: &'static str, low: f64, high: f64 },
     /// A time value is NaN or infinite.
     #[error("time value {value} is not a finite number")]
     NotFinite { value: f64 },
