@@ -21,12 +21,47 @@
 mod cli;
 mod demo;
 
-use clap::Parser;
+use clap::{CommandFactory, FromArgMatches};
 
 fn main() {
-    let cli = cli::Cli::parse();
-    if let Err(e) = cli::run(cli) {
+    let matches = cli::Cli::command().get_matches();
+    let parsed = match cli::Cli::from_arg_matches(&matches) {
+        Ok(c) => c,
+        Err(e) => e.exit(),
+    };
+    if let Err(e) = cli::guard::check_command_line(&matches) {
         eprintln!("error: {e:#}");
         std::process::exit(1);
+    }
+    // All outputs of a command appear together, or none: finished files wait for the end of
+    // the run. The demo reads back what it writes, so its files are put in place one by one.
+    let deferred = !matches!(parsed.command, cli::Command::Demo(_));
+    if deferred {
+        skyclock::table::guard::begin_deferred_commit();
+    }
+    cli::guard::quiet_on_closed_stdout();
+    let outcome = std::panic::catch_unwind(|| cli::run(parsed));
+    match outcome {
+        Ok(Ok(())) => {
+            if let Err(e) = skyclock::table::guard::commit_deferred() {
+                eprintln!("error: {e:#}");
+                std::process::exit(1);
+            }
+        }
+        Ok(Err(e)) => {
+            let dropped = skyclock::table::guard::discard_deferred();
+            if cli::guard::is_closed_stdout(&e) {
+                cli::guard::end_on_closed_stdout(dropped);
+            }
+            eprintln!("error: {e:#}");
+            std::process::exit(1);
+        }
+        Err(_) => {
+            let dropped = skyclock::table::guard::discard_deferred();
+            if cli::guard::stdout_was_closed() {
+                cli::guard::end_on_closed_stdout(dropped);
+            }
+            std::process::exit(101);
+        }
     }
 }

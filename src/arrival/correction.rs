@@ -148,6 +148,11 @@ pub enum ArrivalError {
     /// iterations; holds the barycentric instant.
     #[error("the inverse correction did not converge for {0}")]
     NoConvergence(String),
+    #[error(
+        "event time {0} s from the reference is outside the ±{max:e} s (about ±3170 years) an event list may span",
+        max = super::interpolated::MAX_EVENT_OFFSET_S
+    )]
+    EventOutOfRange(f64),
 }
 
 /// Corrects arrival times of one source to the barycentre.

@@ -78,6 +78,15 @@ pub fn correct_event_file(
     let file = input.display().to_string();
     let fail = |message: String| EventStreamError::File { file: file.clone(), message };
     crate::table::refuse_overwriting_inputs(output, &[input]).map_err(|e| fail(e.to_string()))?;
+    let out_ext = output.extension().and_then(|e| e.to_str()).unwrap_or("").to_ascii_lowercase();
+    if !matches!(out_ext.as_str(), "csv" | "tsv" | "tab" | "txt") {
+        return Err(EventStreamError::File {
+            file: output.display().to_string(),
+            message: format!(
+                "an event list is streamed as text: give the output a .csv or .tsv name (got '.{out_ext}')"
+            ),
+        });
+    }
     let separator = if matches!(input.extension().and_then(|e| e.to_str()), Some("tsv" | "tab")) { '\t' } else { ',' };
     let reader =
         BufReader::with_capacity(1 << 20, std::fs::File::open(input).map_err(|e| fail(format!("cannot open: {e}")))?);
@@ -112,14 +121,35 @@ pub fn correct_event_file(
             max_correction_s: f64::NEG_INFINITY,
             ..Default::default()
         };
-        let mut block: Vec<String> = Vec::with_capacity(block_rows);
+        let mut block: Vec<String> = Vec::with_capacity(block_rows.min(1 << 20));
         let mut row = 0_usize;
+        // A blank line is an empty row; it is refused unless only blank lines follow it.
+        let mut blank_row: Option<usize> = None;
+        let columns = names.len();
         loop {
             block.clear();
             for line in lines.by_ref() {
                 let line = line.map_err(|e| fail(format!("cannot read: {e}")))?;
                 if line.trim().is_empty() {
+                    blank_row.get_or_insert(row + block.len() + 1);
                     continue;
+                }
+                if let Some(empty) = blank_row {
+                    return Err(EventStreamError::Cell {
+                        file: file.clone(),
+                        row: empty,
+                        column: time_column.to_string(),
+                        message: "the row is empty; remove it or give the event's time".into(),
+                    });
+                }
+                let fields = line.split(separator).count();
+                if fields != columns {
+                    return Err(EventStreamError::Cell {
+                        file: file.clone(),
+                        row: row + block.len() + 1,
+                        column: names.get(columns.min(fields)).map_or(time_column, |c| c).to_string(),
+                        message: format!("the row has {fields} fields but the header names {columns} columns"),
+                    });
                 }
                 block.push(line);
                 if block.len() == block_rows {
@@ -140,6 +170,17 @@ pub fn correct_event_file(
                         column: time_column.to_string(),
                         message: format!("'{cell}' is not a number of seconds"),
                     })?;
+                if !(value.abs() <= super::interpolated::MAX_EVENT_OFFSET_S) {
+                    return Err(EventStreamError::Cell {
+                        file: file.clone(),
+                        row: first_row + k,
+                        column: time_column.to_string(),
+                        message: format!(
+                            "{value:e} s is outside the valid range ±{:e} s (about ±3170 years) from the time zero",
+                            super::interpolated::MAX_EVENT_OFFSET_S
+                        ),
+                    });
+                }
                 // Seconds after the TT reference: uniform scales differ by a constant;
                 // UTC needs the leap seconds of each event.
                 let tt_seconds = if uniform {
@@ -177,7 +218,8 @@ pub fn correct_event_file(
         writer.flush().map_err(io)?;
         writer.get_ref().sync_all().map_err(io)?;
         drop(writer);
-        std::fs::rename(&tmp, output).map_err(|e| fail(format!("cannot move the finished file into place: {e}")))?;
+        crate::table::guard::put_in_place(&tmp, output)
+            .map_err(|e| fail(format!("cannot move the finished file into place: {e}")))?;
         if summary.events == 0 {
             summary.min_correction_s = 0.0;
             summary.max_correction_s = 0.0;

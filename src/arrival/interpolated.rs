@@ -77,13 +77,23 @@ impl<'a> InterpolatedCorrector<'a> {
     }
 
     /// Makes sure all nodes needed for events in `[first_s, last_s]` exist (computed in parallel).
+    /// Both ends must lie within ±[`MAX_EVENT_OFFSET_S`] of the reference.
     pub fn prepare(&self, first_s: f64, last_s: f64) -> Result<(), ArrivalError> {
+        for t in [first_s, last_s] {
+            check_offset(t)?;
+        }
         let h = self.node_spacing_s;
         let k0 = (first_s / h).floor() as i64 - 1;
         let k1 = (last_s / h).floor() as i64 + 2;
+        self.compute_nodes((k0..=k1).collect(), k0)
+    }
+
+    /// Computes the nodes `wanted` that are not yet known, then forgets those before `oldest - 4`.
+    fn compute_nodes(&self, wanted: Vec<i64>, oldest: i64) -> Result<(), ArrivalError> {
+        let h = self.node_spacing_s;
         let missing: Vec<i64> = {
             let nodes = self.nodes.lock().unwrap_or_else(|p| p.into_inner());
-            (k0..=k1).filter(|k| !nodes.contains_key(k)).collect()
+            wanted.into_iter().filter(|k| !nodes.contains_key(k)).collect()
         };
         let computed: Vec<(i64, f64)> = missing
             .par_iter()
@@ -92,23 +102,45 @@ impl<'a> InterpolatedCorrector<'a> {
         let mut nodes = self.nodes.lock().unwrap_or_else(|p| p.into_inner());
         nodes.extend(computed);
         // Forget nodes well before this block (events are processed in time order in blocks).
-        nodes.retain(|&k, _| k >= k0 - 4);
+        nodes.retain(|&k, _| k >= oldest - 4);
         Ok(())
     }
 
     /// Corrects events in place: each value, seconds after the reference on TT, becomes
     /// seconds after the same reference instant read on TDB at the barycentre
     /// (t_BJD_TDB − reference). Nodes are prepared automatically. Events need not be sorted.
+    /// Every event must be finite and within ±[`MAX_EVENT_OFFSET_S`] of the reference
+    /// (else [`ArrivalError::EventOutOfRange`], nothing changed). Memory is bounded by the
+    /// number of events, not by their span: when the events are sparse in their span (a
+    /// lone event far from the rest), only the nodes around each event are computed.
     pub fn correct_in_place(&self, seconds: &mut [f64]) -> Result<(), ArrivalError> {
         if seconds.is_empty() {
             return Ok(());
         }
+        for &t in seconds.iter() {
+            check_offset(t)?;
+        }
         let (lo, hi) = seconds.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| (a.min(x), b.max(x)));
-        self.prepare(lo, hi)?;
-        let nodes = self.nodes.lock().unwrap_or_else(|p| p.into_inner());
         let h = self.node_spacing_s;
         let k0 = (lo / h).floor() as i64 - 1;
         let k1 = (hi / h).floor() as i64 + 2;
+        let dense = ((k1 - k0) as u64) <= 4 * seconds.len() as u64 + 64;
+        if !dense {
+            let mut wanted: Vec<i64> =
+                seconds.iter().flat_map(|t| ((t / h).floor() as i64 - 1)..=((t / h).floor() as i64 + 2)).collect();
+            wanted.sort_unstable();
+            wanted.dedup();
+            self.compute_nodes(wanted, k0)?;
+            let nodes = self.nodes.lock().unwrap_or_else(|p| p.into_inner());
+            for t in seconds.iter_mut() {
+                let k = (*t / h).floor() as i64;
+                let p = [nodes[&(k - 1)], nodes[&k], nodes[&(k + 1)], nodes[&(k + 2)]];
+                *t += cubic_lagrange(p, *t / h - k as f64);
+            }
+            return Ok(());
+        }
+        self.prepare(lo, hi)?;
+        let nodes = self.nodes.lock().unwrap_or_else(|p| p.into_inner());
         let table: Vec<f64> = (k0..=k1).map(|k| nodes[&k]).collect();
         drop(nodes);
         seconds.par_chunks_mut(1 << 14).for_each(|chunk| {
@@ -117,18 +149,30 @@ impl<'a> InterpolatedCorrector<'a> {
                 let k = x.floor() as i64;
                 let i = (k - 1 - k0) as usize;
                 let u = x - k as f64; // in [0, 1): between nodes k and k+1
-                // Four-point Lagrange on nodes k-1, k, k+1, k+2 at offsets -1, 0, 1, 2.
-                let (p0, p1, p2, p3) = (table[i], table[i + 1], table[i + 2], table[i + 3]);
-                let um1 = u + 1.0;
-                let u1 = u - 1.0;
-                let u2 = u - 2.0;
-                let value = -p0 * u * u1 * u2 / 6.0 + p1 * um1 * u1 * u2 / 2.0 - p2 * um1 * u * u2 / 2.0
-                    + p3 * um1 * u * u1 / 6.0;
-                *t += value;
+                *t += cubic_lagrange([table[i], table[i + 1], table[i + 2], table[i + 3]], u);
             }
         });
         Ok(())
     }
+}
+
+/// Largest |event time − reference| an event list may have, s (1e11 s ≈ 3170 years, wider
+/// than any ephemeris; it keeps node numbers far inside the integers).
+pub const MAX_EVENT_OFFSET_S: f64 = 1e11;
+
+fn check_offset(t: f64) -> Result<(), ArrivalError> {
+    if !(t.abs() <= MAX_EVENT_OFFSET_S) {
+        return Err(ArrivalError::EventOutOfRange(t));
+    }
+    Ok(())
+}
+
+/// Four-point Lagrange interpolation on nodes at offsets −1, 0, 1, 2 (values `p`) at `u` in [0, 1).
+fn cubic_lagrange(p: [f64; 4], u: f64) -> f64 {
+    let um1 = u + 1.0;
+    let u1 = u - 1.0;
+    let u2 = u - 2.0;
+    -p[0] * u * u1 * u2 / 6.0 + p[1] * um1 * u1 * u2 / 2.0 - p[2] * um1 * u * u2 / 2.0 + p[3] * um1 * u * u1 / 6.0
 }
 
 /// Node spacing of the table corrector on the TT axis, s (48 nodes per TT day).

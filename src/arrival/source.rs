@@ -108,6 +108,18 @@ impl Source {
 /// A source position or coordinate text that cannot be used.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum CoordinateError {
+    /// A proper motion, parallax or radial velocity outside what a star can have.
+    #[error("source '{name}': {key} = {value} is outside {range}")]
+    SpaceMotionRange {
+        /// Source name.
+        name: String,
+        /// The option or key, e.g. `radial_velocity_km_per_s`.
+        key: &'static str,
+        /// The value given.
+        value: f64,
+        /// The accepted range, in words.
+        range: &'static str,
+    },
     /// Right ascension or declination is NaN or infinite.
     #[error("source '{name}': right ascension and declination must be finite numbers")]
     NotFinite {
@@ -162,6 +174,53 @@ pub enum CoordinateError {
         /// Its value, degrees.
         value_deg: f64,
     },
+}
+
+/// Largest proper motion accepted, mas/yr per component (100 times that of the fastest known
+/// star, about 10 arcsec/yr — from memory); larger values are typing mistakes.
+pub const MAX_PROPER_MOTION_MAS_PER_YR: f64 = 1.0e6;
+/// Largest parallax accepted, mas (1000 times that of the nearest star, about 0.77 arcsec —
+/// from memory).
+pub const MAX_PARALLAX_MAS: f64 = 1.0e6;
+
+/// Checks space motion before it is used: every value finite, |proper motion| ≤
+/// [`MAX_PROPER_MOTION_MAS_PER_YR`], 0 ≤ parallax ≤ [`MAX_PARALLAX_MAS`], |radial velocity|
+/// below the speed of light (km/s). Keys are named as in the source TOML.
+pub fn check_space_motion(
+    name: &str,
+    proper_motion_ra_mas_per_yr: f64,
+    proper_motion_dec_mas_per_yr: f64,
+    parallax_mas: f64,
+    radial_velocity_km_per_s: f64,
+) -> Result<(), CoordinateError> {
+    let c = crate::constants::SPEED_OF_LIGHT_KM_PER_S;
+    let checks: [(&'static str, f64, bool, &'static str); 4] = [
+        (
+            "proper_motion_ra_mas_per_yr",
+            proper_motion_ra_mas_per_yr,
+            proper_motion_ra_mas_per_yr.abs() <= MAX_PROPER_MOTION_MAS_PER_YR,
+            "-1e6..1e6 mas/yr",
+        ),
+        (
+            "proper_motion_dec_mas_per_yr",
+            proper_motion_dec_mas_per_yr,
+            proper_motion_dec_mas_per_yr.abs() <= MAX_PROPER_MOTION_MAS_PER_YR,
+            "-1e6..1e6 mas/yr",
+        ),
+        ("parallax_mas", parallax_mas, (0.0..=MAX_PARALLAX_MAS).contains(&parallax_mas), "0..1e6 mas"),
+        (
+            "radial_velocity_km_per_s",
+            radial_velocity_km_per_s,
+            radial_velocity_km_per_s.abs() < c,
+            "-299792.458..299792.458 km/s (below the speed of light)",
+        ),
+    ];
+    for (key, value, ok, range) in checks {
+        if !ok {
+            return Err(CoordinateError::SpaceMotionRange { name: name.to_string(), key, value, range });
+        }
+    }
+    Ok(())
 }
 
 fn validate_position(name: &str, ra_deg: f64, dec_deg: f64) -> Result<(), CoordinateError> {

@@ -83,6 +83,14 @@ impl SourceArgs {
             if self.parallax_mas < 0.0 || !self.parallax_mas.is_finite() {
                 bail!("--parallax-mas must be a non-negative number, got {}", self.parallax_mas);
             }
+            skyclock::arrival::source::check_space_motion(
+                "source",
+                self.proper_motion_ra_mas_per_yr,
+                self.proper_motion_dec_mas_per_yr,
+                self.parallax_mas,
+                self.radial_velocity_km_per_s,
+            )
+            .map_err(|e| anyhow::anyhow!("{e} (--{})", e_key(&e)))?;
             s.parallax_mas = self.parallax_mas;
             s.radial_velocity_km_per_s = self.radial_velocity_km_per_s;
             s.epoch = parse_epoch(&self.position_epoch).map_err(|m| anyhow::anyhow!("--position-epoch: {m}"))?;
@@ -92,6 +100,14 @@ impl SourceArgs {
             return Ok(s);
         }
         bail!("no source given: use --source-file FILE or --ra and --dec")
+    }
+}
+
+/// The command-line option of a space-motion key named in `e`.
+fn e_key(e: &skyclock::arrival::source::CoordinateError) -> String {
+    match e {
+        skyclock::arrival::source::CoordinateError::SpaceMotionRange { key, .. } => key.replace('_', "-"),
+        _ => String::new(),
     }
 }
 

@@ -21,6 +21,7 @@ pub mod extract_frequencies;
 pub mod find_periods;
 pub mod fit_timing;
 pub mod fold_curve;
+pub mod guard;
 pub mod light_curve_input;
 pub mod manual;
 pub mod manual_page;

@@ -115,8 +115,21 @@ pub fn run(a: Args) -> Result<()> {
     if instants.is_empty() {
         bail!("{file}: the event table has no rows");
     }
+    if let Some(k) = (1..instants.len()).find(|&k| instants[k].seconds_since(&instants[k - 1]) < 0.0) {
+        bail!(
+            "{file}, row {}, column '{}': the event is earlier than the one before it; sort the events by time (the frequency grid is set by the first and last rows)",
+            k + 1,
+            a.time_column
+        );
+    }
     let weights = match &a.weight_column {
-        Some(c) => Some(float_column(&corrected, &file, c)?),
+        Some(c) => {
+            let w = float_column(&corrected, &file, c)?;
+            if let Some((i, v)) = w.iter().enumerate().find(|(_, v)| !(v.is_finite() && (0.0..=1.0).contains(*v))) {
+                bail!("{file}, row {}, column '{c}': weight {v} is not a probability in [0, 1]", i + 1);
+            }
+            Some(w)
+        }
         None => None,
     };
     let search = PulsationSearchRequest {

@@ -221,6 +221,13 @@ fn source_from_entry(e: SourceEntry) -> Result<Source, SourceEntryError> {
     if e.parallax_mas < 0.0 {
         return Err(SourceEntryError::NegativeParallax { name: e.name, value: e.parallax_mas });
     }
+    crate::arrival::source::check_space_motion(
+        &e.name,
+        e.proper_motion_ra_mas_per_yr,
+        e.proper_motion_dec_mas_per_yr,
+        e.parallax_mas,
+        e.radial_velocity_km_per_s,
+    )?;
     source.proper_motion_ra_mas_per_yr = e.proper_motion_ra_mas_per_yr;
     source.proper_motion_dec_mas_per_yr = e.proper_motion_dec_mas_per_yr;
     source.parallax_mas = e.parallax_mas;

@@ -55,6 +55,14 @@ pub enum SiteError {
         /// The latitude given, degrees.
         latitude_deg: f64,
     },
+    /// East longitude outside −180° … 360°.
+    #[error("site '{name}': east longitude {east_longitude_deg}° is outside -180..360°")]
+    LongitudeRange {
+        /// Site name.
+        name: String,
+        /// The longitude given, degrees.
+        east_longitude_deg: f64,
+    },
     /// Height outside −12 km … +100 km.
     #[error("site '{name}': height {height_m} m is outside -12000..100000 m (use a spacecraft position for orbits)")]
     HeightNotGround {
@@ -80,6 +88,9 @@ impl Site {
         }
         if latitude_deg.abs() > 90.0 {
             return Err(SiteError::LatitudeBeyondPole { name, latitude_deg });
+        }
+        if !(-180.0..=360.0).contains(&east_longitude_deg) {
+            return Err(SiteError::LongitudeRange { name, east_longitude_deg });
         }
         if !(-12_000.0..=100_000.0).contains(&height_m) {
             return Err(SiteError::HeightNotGround { name, height_m });

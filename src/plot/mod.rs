@@ -402,7 +402,7 @@ pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
             .map_err(|e| e.to_string()),
         _ => return Err(PlotError::Format { file, ext }),
     };
-    let done = drawn.and_then(|_| std::fs::rename(&tmp, path).map_err(|e| e.to_string()));
+    let done = drawn.and_then(|_| crate::table::guard::put_in_place(&tmp, path).map_err(|e| e.to_string()));
     if let Err(message) = done {
         let _ = std::fs::remove_file(&tmp);
         return Err(PlotError::Draw { file, message });

@@ -606,18 +606,29 @@ pub struct PulseProfile {
     pub empirical_fourier: PulseTemplate,
 }
 
+/// Fewest photons [`pulse_profile`] accepts. Common practice: with a handful of photons the
+/// H-test's calibration and a Fourier template of even one harmonic are meaningless.
+pub const MIN_PROFILE_PHOTONS: usize = 10;
+
 /// Folds barycentric event times with a timing model and makes the binned profile, the
 /// template (Fourier, or Gaussian components fitted to it) and the H and Z²ₙ tests.
 ///
 /// Given: the model, event times in seconds after its epoch (TDB, barycentric, sorted),
 /// optional weights in [0, 1], the request. Errors: as [`fold_events`], [`binned_profile`],
-/// [`fourier_template`] and [`gaussian_template`], naming the event or photon (1-based).
+/// [`fourier_template`] and [`gaussian_template`], naming the event or photon (1-based);
+/// fewer than [`MIN_PROFILE_PHOTONS`] photons are refused.
 pub fn pulse_profile(
     model: &TimingModel,
     times_s: &[f64],
     weights: Option<&[f64]>,
     request: &ProfileRequest,
 ) -> Result<PulseProfile, PulsarError> {
+    if times_s.len() < MIN_PROFILE_PHOTONS {
+        return Err(PulsarError::Input(format!(
+            "{} photon(s): a pulse profile, template and H-test need at least {MIN_PROFILE_PHOTONS} photons",
+            times_s.len()
+        )));
+    }
     let phases = fold_events(model, times_s, request.valid_for_s, &request.instrument)?;
     let profile = binned_profile(&phases, weights, request.bins)?;
     let empirical = fourier_template(&phases, weights, request.harmonics)?;

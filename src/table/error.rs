@@ -48,4 +48,32 @@ pub enum TableError {
         /// The output path, as given.
         output: String,
     },
+    /// An output path names the same file as an input path (links and `..` resolved).
+    #[error(
+        "refusing to write {output_option} {output}: it is also an input file ({input_option} {input}); choose another path"
+    )]
+    OutputOverInput {
+        /// The output option, e.g. `--summary`.
+        output_option: String,
+        /// The output path, as given.
+        output: String,
+        /// The input option naming the same file.
+        input_option: String,
+        /// The input path, as given.
+        input: String,
+    },
+    /// Two outputs (or an output and another's sidecar) name the same file.
+    #[error(
+        "refusing to write {output_option} {output}: {other_option} {other} names the same file; give each output its own path"
+    )]
+    OutputsClash {
+        /// The output option.
+        output_option: String,
+        /// Its path, as given.
+        output: String,
+        /// The other output option.
+        other_option: String,
+        /// Its path, as given.
+        other: String,
+    },
 }

@@ -3,6 +3,7 @@
 
 pub mod columns;
 pub mod error;
+pub mod guard;
 pub mod provenance;
 pub mod read;
 pub mod summary;

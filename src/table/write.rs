@@ -42,7 +42,7 @@ pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> std::io::Re
         fill(&mut file).map_err(|e| format!("cannot write {}: {e}", tmp.display()))?;
         file.flush().map_err(|e| e.to_string())?;
         file.sync_all().map_err(|e| e.to_string())?;
-        std::fs::rename(&tmp, path).map_err(|e| format!("cannot move the finished file into place: {e}"))
+        super::guard::put_in_place(&tmp, path).map_err(|e| format!("cannot move the finished file into place: {e}"))
     })();
     if let Err(message) = result {
         let _ = std::fs::remove_file(&tmp);

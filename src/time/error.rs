@@ -32,6 +32,18 @@ pub enum TimeError {
         /// What that format accepts, with an example.
         expected: String,
     },
+    /// A day number outside the span skyclock accepts (JD 0 to the end of AD 9999).
+    #[error("{text} is outside the times accepted: {format} {low} to {high} (JD 0 = 4713 BC to the end of AD 9999)")]
+    OutOfRange {
+        /// The text as given.
+        text: String,
+        /// The format it was read in (JD, MJD, …).
+        format: &'static str,
+        /// Smallest day number accepted in that format.
+        low: f64,
+        /// Largest day number accepted in that format.
+        high: f64,
+    },
     /// A time value is NaN or infinite.
     #[error("time value {value} is not a finite number")]
     NotFinite {

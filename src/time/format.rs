@@ -58,6 +58,12 @@ impl TimeFormat {
     }
 }
 
+/// The day numbers accepted, as MJD: JD 0 (4713 BC January 1.5) to 10000-01-01 (MJD
+/// 2 973 484). Wider than any ephemeris or TDB−TT series; it keeps the integer day arithmetic
+/// exact and far from overflow. Common practice: the span of the Julian Day count and of a
+/// four-digit ISO 8601 year.
+pub const MJD_ACCEPTED: (f64, f64) = (-2_400_000.5, 2_973_484.0);
+
 /// A decimal number read exactly as integer part plus fraction in [0, 1).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SplitDecimal {
@@ -78,6 +84,10 @@ pub fn parse_split_decimal(text: &str) -> Option<SplitDecimal> {
     if s.contains(['e', 'E']) {
         let v: f64 = s.parse().ok()?;
         if !v.is_finite() {
+            return None;
+        }
+        // Beyond 2^53 an f64 holds no fraction, and an i64 would soon overflow.
+        if v.abs() >= 9.0e15 {
             return None;
         }
         let w = v.floor();
@@ -132,8 +142,16 @@ fn parse_day_number(text: &str, format: TimeFormat, scale: TimeScale) -> Result<
             .to_string(),
     };
     let trimmed = text.trim();
-    if trimmed.eq_ignore_ascii_case("nan") || trimmed.eq_ignore_ascii_case("inf") {
-        return Err(TimeError::NotFinite { value: f64::NAN });
+    let lowered = trimmed.trim_start_matches(['+', '-']).to_ascii_lowercase();
+    if lowered == "nan" || lowered == "inf" || lowered == "infinity" {
+        let value = if lowered == "nan" {
+            f64::NAN
+        } else if trimmed.starts_with('-') {
+            f64::NEG_INFINITY
+        } else {
+            f64::INFINITY
+        };
+        return Err(TimeError::NotFinite { value });
     }
     // Two-part: "a+b" (not a leading sign) or "a b".
     let parts: Vec<&str> = match trimmed[1.min(trimmed.len())..].find(['+', ' ', '\t']) {
@@ -143,6 +161,13 @@ fn parse_day_number(text: &str, format: TimeFormat, scale: TimeScale) -> Result<
         }
         _ => vec![trimmed],
     };
+    // The range, checked on the value as a float before any integer arithmetic.
+    let offset_d = format.to_mjd_offset_halfdays() as f64 / 2.0;
+    let approx: f64 = parts.iter().filter_map(|p| p.trim().parse::<f64>().ok()).sum();
+    let (low, high) = (MJD_ACCEPTED.0 - offset_d, MJD_ACCEPTED.1 - offset_d);
+    if approx.is_infinite() || (approx.is_finite() && !(low..=high).contains(&approx)) {
+        return Err(TimeError::OutOfRange { text: text.to_string(), format: format.name(), low, high });
+    }
     let mut whole = 0_i64;
     let mut fraction = 0.0_f64;
     for p in &parts {
