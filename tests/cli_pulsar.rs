@@ -79,14 +79,18 @@ fn search_pulsations_finds_an_invented_pulsar() {
     let dir = std::env::temp_dir().join(format!("skyclock_cli_search_{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let mut rng = skyclock::fit::SeededRng::new(4);
-    let mut s = String::from("time\n");
-    let mut n = 0;
-    while n < 1500 {
+    // Events in time order, as event lists are (unsorted lists are refused).
+    let mut times = Vec::new();
+    while times.len() < 1500 {
         let x = rng.uniform() * 20_000.0;
         if rng.uniform() * 1.6 < 1.0 + 0.6 * (std::f64::consts::TAU * 3.3 * x).cos() {
-            s.push_str(&format!("{:.13}\n", 60200.0 + x / 86_400.0));
-            n += 1;
+            times.push(x);
         }
+    }
+    times.sort_by(f64::total_cmp);
+    let mut s = String::from("time\n");
+    for x in &times {
+        s.push_str(&format!("{:.13}\n", 60200.0 + x / 86_400.0));
     }
     std::fs::write(dir.join("ev.csv"), s).unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_skyclock"))
