@@ -168,7 +168,10 @@ impl SearchOptions {
                 if let Some(v) = self.durations_d.iter().find(|v| !(v.is_finite() && **v > 0.0)) {
                     return Err(error(format!("durations_d: every duration must be > 0 days, got {v}")));
                 }
-                SearchMethod::Box { durations_d: self.durations_d.clone(), values_are_magnitudes: magnitudes }
+                SearchMethod::Box {
+                    durations: skyclock::periodogram::bls::BoxDurations::Fixed(self.durations_d.clone()),
+                    values_are_magnitudes: magnitudes,
+                }
             }
             other => {
                 return Err(error(format!(
