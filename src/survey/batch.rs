@@ -417,8 +417,9 @@ pub enum BarycentringError {
 }
 
 /// [`SourceArrival`] for one observer (a site or the geocentre) with the arrival stage's
-/// full correction (Rømer, Einstein, Shapiro; accuracy as [`crate::arrival::BarycentricCorrector`]), a
-/// fixed source direction (no proper motion or parallax: survey tables rarely carry them).
+/// full correction (Rømer, Einstein, Shapiro; accuracy as
+/// [`crate::arrival::BarycentricCorrector`]), a fixed source direction (no proper motion or
+/// parallax: survey tables rarely carry them).
 pub struct ObserverArrival {
     /// Solar System ephemeris for the positions of the Earth, Sun and planets.
     pub ephemeris: crate::ephemeris::SharedEphemeris,
