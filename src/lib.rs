@@ -57,6 +57,8 @@
     clippy::nonminimal_bool,
     clippy::result_large_err
 )]
+// Every public item and field is documented; clippy's `-D warnings` keeps it so.
+#![warn(missing_docs)]
 
 pub mod arrival;
 pub mod config;

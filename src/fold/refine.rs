@@ -12,15 +12,20 @@ use std::f64::consts::TAU;
 /// A refined period.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct RefinedPeriod {
+    /// Fitted frequency, cycles per day.
     pub freq_per_day: f64,
+    /// 1σ of the frequency, cycles per day (least-squares σ times `err_scale`).
     pub freq_err_per_day: f64,
+    /// Period 1/f, days.
     pub period_d: f64,
+    /// 1σ of the period, days (σ_f / f²).
     pub period_err_d: f64,
     /// Harmonics in the model.
     pub harmonics: usize,
-    /// χ² and degrees of freedom of the fit (weighted sum of squared residuals: value²
-    /// units when the data carry no uncertainties).
+    /// χ² of the fit (weighted sum of squared residuals: value² units when the data carry
+    /// no uncertainties).
     pub chi2: f64,
+    /// Degrees of freedom of the fit: points minus fitted parameters.
     pub dof: usize,
     /// Factor applied to the least-squares σ: √(χ²/dof) when the data carry uncertainties
     /// and χ²/dof > 1 (the model or the errors do not describe the data), 1 when χ²/dof ≤ 1;

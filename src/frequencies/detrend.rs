@@ -9,7 +9,9 @@ use crate::periodogram::{SearchError, Series};
 pub struct PolynomialTrend {
     /// Coefficients c_k of Σ c_k x^k with x = (t − t_mid)/half_span ∈ [−1, 1].
     pub coefficients: Vec<f64>,
+    /// Mid-time t_mid of the series, days from the caller's epoch.
     pub t_mid_d: f64,
+    /// Half the time span of the series, days.
     pub half_span_d: f64,
     /// Values minus the trend, plus the trend's mean level c_0.
     pub detrended: Vec<f64>,

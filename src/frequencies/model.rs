@@ -3,7 +3,7 @@
 //! caller's epoch, amplitudes in the units of the values, phases in cycles (φ is the phase
 //! at which component k peaks, referred to t = 0).
 //! Uncertainties: Montgomery & O'Donoghue (1999), DSSN 13, 28, eqs. (2)–(4):
-//! σ_A = √(2/N) σ_N, σ_f = √(6/N) σ_N / (π A T), σ_φ = √(2/N) σ_N / (2π A) [cycles],
+//! σ_A = √(2/N) σ_N, σ_f = √(6/N) σ_N / (π A T), σ_φ = √(2/N) σ_N / (2π A) (in cycles),
 //! with σ_N the (weighted) rms of the residuals and T the baseline.
 
 use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
@@ -13,8 +13,11 @@ use std::f64::consts::TAU;
 /// One sinusoid: A cos(2π(f t − φ)).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Sinusoid {
+    /// Frequency f, cycles per day.
     pub freq_per_day: f64,
+    /// Semi-amplitude A, in the units of the values.
     pub amplitude: f64,
+    /// Phase φ at which the sinusoid peaks, cycles, referred to t = 0.
     pub phase_cycles: f64,
 }
 
@@ -28,11 +31,17 @@ impl Sinusoid {
 /// A fitted sinusoid with Montgomery & O'Donoghue (1999) uncertainties.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FittedSinusoid {
+    /// Frequency f, cycles per day.
     pub freq_per_day: f64,
+    /// 1σ of the frequency, cycles per day: √(6/N) σ_N / (π A T).
     pub freq_err_per_day: f64,
+    /// Semi-amplitude A, in the units of the values.
     pub amplitude: f64,
+    /// 1σ of the semi-amplitude, in the units of the values: √(2/N) σ_N.
     pub amplitude_err: f64,
+    /// Phase φ at which the sinusoid peaks, cycles in [0, 1), referred to t = 0.
     pub phase_cycles: f64,
+    /// 1σ of the phase, cycles: √(2/N) σ_N / (2π A).
     pub phase_err_cycles: f64,
 }
 
@@ -56,12 +65,15 @@ impl FittedSinusoid {
 pub struct MultiSineFit {
     /// Zero point per band (band index order of the series).
     pub zero_points: Vec<f64>,
+    /// The fitted sinusoids, in the order of the starting values.
     pub components: Vec<FittedSinusoid>,
     /// Observed minus model, one per point of the series.
     pub residuals: Vec<f64>,
     /// Weighted rms of the residuals σ_N (units of the values).
     pub residual_rms: f64,
+    /// Weighted sum of squared residuals (χ² with uncertainties, value² without).
     pub chi2: f64,
+    /// Whether the Levenberg–Marquardt iteration met its convergence test.
     pub converged: bool,
 }
 

@@ -18,7 +18,8 @@ pub struct PeakOptions {
     /// Tolerance for alias matching, c/d; default 0.5/T. Alias kinds whose offset is under
     /// twice the tolerance are not tested (they cannot be resolved).
     pub alias_tolerance_per_day: Option<f64>,
-    /// Frequencies of spectral-window sidelobes to test (see [`window_sidelobes`]).
+    /// Frequencies of spectral-window sidelobes to test, cycles per day (see
+    /// [`crate::periodogram::peaks::window_sidelobes`]).
     pub window_sidelobes_per_day: Vec<f64>,
     /// Refine each peak by a least-squares sinusoid fit.
     pub refine: bool,

@@ -32,9 +32,25 @@ impl Default for PrewhitenOptions {
 /// A combination relation of an extracted frequency with earlier ones (indices).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Combination {
-    Sum { i: usize, j: usize },
-    Difference { i: usize, j: usize },
-    Double { i: usize },
+    /// f_k ≈ f_i + f_j.
+    Sum {
+        /// Index of the first earlier frequency.
+        i: usize,
+        /// Index of the second earlier frequency (j > i).
+        j: usize,
+    },
+    /// f_k ≈ |f_i − f_j|.
+    Difference {
+        /// Index of the first earlier frequency.
+        i: usize,
+        /// Index of the second earlier frequency (j > i).
+        j: usize,
+    },
+    /// f_k ≈ 2 f_i.
+    Double {
+        /// Index of the earlier frequency.
+        i: usize,
+    },
 }
 
 /// One extracted frequency.
@@ -46,6 +62,7 @@ pub struct ExtractedFrequency {
     pub snr: f64,
     /// Mean residual amplitude in the noise box when accepted (units of the values).
     pub noise: f64,
+    /// Relations to earlier extracted frequencies within the resolution 1/T (empty: none).
     pub combinations: Vec<Combination>,
 }
 
@@ -53,7 +70,12 @@ pub struct ExtractedFrequency {
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum StopReason {
     /// The next candidate fell below the S/N limit (its frequency and S/N).
-    BelowSnr { freq_per_day: f64, snr: f64 },
+    BelowSnr {
+        /// Frequency of the rejected candidate after the joint fit, cycles per day.
+        freq_per_day: f64,
+        /// Its amplitude signal-to-noise.
+        snr: f64,
+    },
     /// `max_frequencies` reached.
     MaxFrequencies,
     /// The model has as many parameters as the data allow.
@@ -63,10 +85,18 @@ pub enum StopReason {
 /// Result of the extraction.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Prewhitening {
+    /// The accepted frequencies, in the order of extraction.
     pub frequencies: Vec<ExtractedFrequency>,
+    /// Zero point per band from the final joint fit, in the units of the values (the
+    /// weighted mean when no frequency was accepted).
     pub zero_points: Vec<f64>,
+    /// Observed minus the final model, one per point of the series (the values themselves
+    /// when no frequency was accepted).
     pub residuals: Vec<f64>,
+    /// Weighted rms of the residuals, in the units of the values (about the weighted mean
+    /// when no frequency was accepted).
     pub residual_rms: f64,
+    /// Why the extraction stopped.
     pub stop: StopReason,
 }
 

@@ -43,7 +43,14 @@ pub enum BoxDurations {
     Fixed(Vec<f64>),
     /// Durations proportional to the trial period P: `count` duty cycles q = duration / P
     /// spaced geometrically from `shortest` to `longest` (0 < shortest ≤ longest < 0.5).
-    DutyCycles { shortest: f64, longest: f64, count: usize },
+    DutyCycles {
+        /// Shortest duty cycle, duration / trial period.
+        shortest: f64,
+        /// Longest duty cycle, duration / trial period.
+        longest: f64,
+        /// Number of duty cycles.
+        count: usize,
+    },
 }
 
 impl BoxDurations {
@@ -199,6 +206,7 @@ impl BoxOptions {
 /// The box-search spectrum: best box per trial frequency.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BoxSpectrum {
+    /// The trial frequencies, cycles per day; the vectors below hold one value each.
     pub grid: FrequencyGrid,
     /// Δχ² of the best box (χ² units with uncertainties; value² × N without).
     pub power: Vec<f64>,
@@ -218,31 +226,44 @@ pub struct BoxSpectrum {
 pub struct BoxMeasurement {
     /// Level outside the events: weighted mean outside the primary and the phase-0.5 windows.
     pub level_out: f64,
+    /// Depth of the primary box below the level outside, in the units of the values.
     pub depth: f64,
+    /// 1σ of the depth, in the units of the values.
     pub depth_err: f64,
     /// Points inside the primary box.
     pub n_in_box: usize,
     /// Distinct events (cycles) with points inside the primary box.
     pub n_events: usize,
-    /// Depth of the odd- and even-numbered events (counted from the mid-event time).
+    /// Depth of the odd-numbered events (event 0 at the mid-event time), in the units of
+    /// the values (NaN without points in them).
     pub odd_depth: f64,
+    /// 1σ of the odd-event depth, in the units of the values.
     pub odd_depth_err: f64,
+    /// Depth of the even-numbered events (event 0 at the mid-event time), in the units of
+    /// the values (NaN without points in them).
     pub even_depth: f64,
+    /// 1σ of the even-event depth, in the units of the values.
     pub even_depth_err: f64,
     /// |odd − even| / σ of the difference (NaN when either has no points).
     pub odd_even_sigma: f64,
     /// Depth in a box of the same duration at phase 0.5 (secondary eclipse of a circular
     /// orbit; NaN without points there).
     pub secondary_depth: f64,
+    /// 1σ of the depth at phase 0.5, in the units of the values.
     pub secondary_depth_err: f64,
-    /// The deepest dip (highest S/N) of the same duration elsewhere in phase, outside the
-    /// primary: its phase (cycles after the primary), depth and σ (NaN when none).
+    /// Phase of the deepest dip (highest S/N) of the same duration elsewhere in phase,
+    /// outside the primary, cycles after the primary (NaN when none).
     pub secondary_search_phase: f64,
+    /// Depth of that dip below the rest of the points outside the primary, in the units of
+    /// the values (NaN when none).
     pub secondary_search_depth: f64,
+    /// 1σ of that depth, in the units of the values (NaN when none).
     pub secondary_search_depth_err: f64,
-    /// Weighted sum of squared residuals of the two-level (in/out of the primary) model, and
-    /// of the three-level model with the searched secondary.
+    /// Weighted sum of squared residuals of the two-level (in/out of the primary) model (χ²
+    /// with uncertainties, value² without).
     pub chi2_box: f64,
+    /// The same sum for the three-level model with the searched secondary (equal to
+    /// `chi2_box` when no secondary was found).
     pub chi2_with_secondary: f64,
     /// χ² / (N − 5) of the two-level model (value² without uncertainties).
     pub reduced_chi2: f64,
@@ -270,17 +291,23 @@ impl BoxMeasurement {
 /// Best box at one peak, measured on the unbinned points, with a refined period.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoxDetection {
-    /// Refined frequency (c/d) and its 1σ: the larger of the Δχ² profile's
-    /// ([`refine_box_frequency`]) and the event-timing one ([`box_detection_at`]).
+    /// Refined frequency, cycles per day.
     pub freq_per_day: f64,
+    /// 1σ of the frequency, cycles per day: σ_P / P², from the period σ.
     pub freq_err_per_day: f64,
+    /// Refined period 1/f, days.
     pub period_d: f64,
+    /// 1σ of the period, days: the larger of the Δχ² profile's
+    /// ([`refine_box_frequency`]) and the event-timing one ([`box_detection_at`]).
     pub period_err_d: f64,
     /// Δχ² of the best box at the refined frequency (units as [`BoxSpectrum::power`]).
     pub power: f64,
+    /// Depth of the box on the unbinned points, in the units of the values (positive for
+    /// a dip).
     pub depth: f64,
     /// 1σ of the depth (see [`BoxMeasurement`]).
     pub depth_err: f64,
+    /// Tuned box duration, days.
     pub duration_d: f64,
     /// Half the edge step of the duration tuning (a hundredth of the shortest tuned
     /// duration): the duration and epoch resolution, days.
@@ -692,13 +719,17 @@ pub fn measure_box(
 /// A box peak's frequency refined on a fine local grid.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoxFrequencyRefinement {
-    /// Frequency of the highest Δχ² on the fine grid, c/d, and its 1σ.
+    /// Frequency of the highest Δχ² on the fine grid, cycles per day.
     pub freq_per_day: f64,
+    /// 1σ of the frequency from the Δχ² profile, cycles per day (at least half a fine step).
     pub freq_err_per_day: f64,
-    /// Best box there: mid-event time (days) and duration (days), Δχ², edge resolution (d).
+    /// Mid-event time of the best box there, days (caller's reference).
     pub epoch_d: f64,
+    /// Duration of the best box there, days.
     pub duration_d: f64,
+    /// Δχ² of the best box there (units as [`BoxSpectrum::power`]).
     pub power: f64,
+    /// Half the phase-bin width there, days: the edge resolution of epoch and duration.
     pub resolution_d: f64,
 }
 
@@ -1075,6 +1106,7 @@ pub fn settle_eclipse_period(
 /// Box least squares as a [`Periodogram`] (power = Δχ² of the best box).
 #[derive(Debug, Clone, PartialEq)]
 pub struct BoxFitPeriodogram {
+    /// Trial durations, edge resolution and whether the values are magnitudes.
     pub options: BoxOptions,
 }
 

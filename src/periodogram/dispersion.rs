@@ -10,6 +10,7 @@ use rayon::prelude::*;
 /// Phase dispersion minimisation with `n_bins` phase bins (2..=100; 10 is customary).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PhaseDispersion {
+    /// Number of equal phase bins (2 to 100).
     pub n_bins: usize,
 }
 

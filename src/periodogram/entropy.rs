@@ -9,7 +9,9 @@ use rayon::prelude::*;
 /// Conditional entropy with `n_phase` × `n_value` bins (Graham et al. use 10 × 5).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ConditionalEntropy {
+    /// Number of equal phase bins (2 to 1000).
     pub n_phase: usize,
+    /// Number of equal bins of the values scaled to [0, 1] (2 to 1000).
     pub n_value: usize,
 }
 

@@ -137,11 +137,12 @@ fn finish(
 }
 
 /// Generalised Lomb–Scargle periodogram (weights 1/σ², floating mean).
-/// Power p(f) = 1 − χ²(f)/χ²₀ ∈ [0,1] (ZK09 eq. 5); amplitude = fitted semi-amplitude in
+/// Power p(f) = 1 − χ²(f)/χ²₀ ∈ [0, 1] (ZK09 eq. 5); amplitude = fitted semi-amplitude in
 /// the units of the values. Accuracy: exact algorithm ~1e-12 in p; fast ≤1e-4.
 /// Source: Zechmeister & Kürster (2009), A&A 496, 577.
 #[derive(Debug, Clone, Copy, Default)]
 pub struct GeneralisedLombScargle {
+    /// Kernel for the trigonometric sums (`Auto` picks by problem size).
     pub algorithm: Algorithm,
 }
 
@@ -163,6 +164,7 @@ impl Periodogram for GeneralisedLombScargle {
 /// (the "shared-phase, per-band offset" model of VanderPlas & Ivezić 2015, ApJ 812, 18, §2).
 #[derive(Debug, Clone, Copy, Default)]
 pub struct MultiBandLombScargle {
+    /// Kernel for the trigonometric sums (`Auto` picks by problem size).
     pub algorithm: Algorithm,
 }
 
@@ -179,10 +181,11 @@ impl Periodogram for MultiBandLombScargle {
 }
 
 /// Classical Lomb–Scargle periodogram on data centred by their (weighted) mean, no
-/// floating mean in the fit. Power normalised to [0,1] by Σ w y² ("standard"
+/// floating mean in the fit. Power normalised to [0, 1] by Σ w y² ("standard"
 /// normalisation). Source: Lomb (1976); Scargle (1982); ZK09 §2 (the case without offset).
 #[derive(Debug, Clone, Copy, Default)]
 pub struct ClassicalLombScargle {
+    /// Kernel for the trigonometric sums (`Auto` picks by problem size).
     pub algorithm: Algorithm,
 }
 
@@ -203,6 +206,7 @@ impl Periodogram for ClassicalLombScargle {
 /// Source: Deeming (1975), Ap&SS 36, 137.
 #[derive(Debug, Clone, Copy, Default)]
 pub struct SpectralWindow {
+    /// Kernel for the trigonometric sums (`Auto` picks by problem size).
     pub algorithm: Algorithm,
 }
 

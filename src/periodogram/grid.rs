@@ -5,8 +5,11 @@ use super::error::SearchError;
 /// A uniform grid of frequencies f_k = start + k·step, k = 0..len, in cycles per day.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FrequencyGrid {
+    /// First frequency f_0, cycles per day.
     pub start_per_day: f64,
+    /// Spacing between neighbouring frequencies, cycles per day.
     pub step_per_day: f64,
+    /// Number of frequencies.
     pub len: usize,
 }
 
@@ -77,7 +80,9 @@ impl GridRequest {
 /// A planned grid with its estimated memory.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct GridPlan {
+    /// The grid to search.
     pub grid: FrequencyGrid,
+    /// Estimated memory of a search on it, bytes ([`BYTES_PER_FREQUENCY`] per frequency).
     pub bytes_estimate: u128,
 }
 

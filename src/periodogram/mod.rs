@@ -72,12 +72,13 @@ pub fn compute_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, algor
 /// A periodogram: one statistic per grid frequency.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Spectrum {
+    /// The trial frequencies, cycles per day; `power[k]` belongs to frequency k.
     pub grid: FrequencyGrid,
     /// Statistic per frequency; higher means more likely periodic (see each method).
     pub power: Vec<f64>,
     /// Fitted semi-amplitude per frequency (units of the values), where the method has one.
     pub amplitude: Option<Vec<f64>>,
-    /// Kernel used, for the Lomb–Scargle family.
+    /// Kernel used (`Exact` or `Fast`, never `Auto`), for the Lomb–Scargle family.
     pub algorithm: Option<Algorithm>,
 }
 

@@ -12,6 +12,7 @@ use std::f64::consts::TAU;
 /// Multi-harmonic periodogram with `harmonics` terms (1..=10).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MultiHarmonic {
+    /// Number K of harmonics in the fitted Fourier series (1 to 10).
     pub harmonics: usize,
 }
 

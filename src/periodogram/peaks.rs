@@ -14,15 +14,30 @@ pub const YEAR_FREQ_PER_DAY: f64 = 1.0 / 365.25;
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum AliasKind {
     /// f ≈ |f_strong + n × 1.0027379| (daily gaps).
-    SiderealDay { n: i32 },
+    SiderealDay {
+        /// Number n of cycles per sidereal day added (negative: subtracted).
+        n: i32,
+    },
     /// f ≈ |f_strong + n / 365.25| (seasonal gaps).
-    Year { n: i32 },
+    Year {
+        /// Number n of cycles per year added (negative: subtracted).
+        n: i32,
+    },
     /// f ≈ n f_strong.
-    Harmonic { n: u32 },
+    Harmonic {
+        /// Harmonic number n (2 or more).
+        n: u32,
+    },
     /// f ≈ f_strong / n.
-    Subharmonic { n: u32 },
+    Subharmonic {
+        /// Divisor n (2 or more).
+        n: u32,
+    },
     /// f ≈ |f_strong ± f_w| for a sidelobe f_w of the spectral window.
-    WindowSidelobe { window_freq_per_day: f64 },
+    WindowSidelobe {
+        /// Frequency f_w of the window sidelobe, cycles per day.
+        window_freq_per_day: f64,
+    },
 }
 
 /// An alias annotation: this peak relates to a stronger peak by `kind`.
@@ -30,6 +45,7 @@ pub enum AliasKind {
 pub struct AliasNote {
     /// Index (in the returned peak list) of the stronger peak.
     pub stronger_peak: usize,
+    /// How the two frequencies relate.
     pub kind: AliasKind,
     /// |f − predicted alias frequency|, c/d.
     pub mismatch_per_day: f64,
@@ -42,19 +58,27 @@ pub struct Peak {
     pub grid_index: usize,
     /// Statistic at the grid maximum.
     pub power: f64,
-    /// Refined frequency (c/d) and its uncertainty.
+    /// Refined frequency, cycles per day (the grid frequency when not refined).
     pub freq_per_day: f64,
+    /// 1σ of the frequency, cycles per day (NaN when not refined).
     pub freq_err_per_day: f64,
+    /// Period 1/f, days.
     pub period_d: f64,
+    /// 1σ of the period, days (NaN when not refined).
     pub period_err_d: f64,
-    /// Semi-amplitude (units of the values) and uncertainty.
+    /// Semi-amplitude, in the units of the values (from the spectrum when not refined, 0
+    /// for methods without one; NaN after a Fourier-series refinement).
     pub amplitude: f64,
+    /// 1σ of the semi-amplitude, in the units of the values (NaN when not sinusoid-refined).
     pub amplitude_err: f64,
-    /// Phase of maximum of A cos(2π(f t − φ)), cycles, referred to t = 0.
+    /// Phase φ of maximum of A cos(2π(f t − φ)), cycles, referred to t = 0 (NaN when not
+    /// sinusoid-refined).
     pub phase_cycles: f64,
+    /// 1σ of the phase, cycles (NaN when not sinusoid-refined).
     pub phase_err_cycles: f64,
     /// Whether the least-squares refinement succeeded (else grid values, NaN errors).
     pub refined: bool,
+    /// How this peak may be an alias of stronger peaks in the same list (empty: none found).
     pub aliases: Vec<AliasNote>,
 }
 
@@ -110,6 +134,7 @@ pub fn window_sidelobes(window: &Spectrum, baseline_d: f64, count: usize) -> Vec
 pub struct AliasFrequency {
     /// The alias frequency, c/d.
     pub freq_per_day: f64,
+    /// How it relates to f.
     pub kind: AliasKind,
 }
 

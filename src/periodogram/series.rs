@@ -9,6 +9,7 @@ use super::error::SearchError;
 pub struct LightCurve<'a> {
     pub(crate) time_d: &'a [f64],
     pub(crate) value: &'a [f64],
+    /// 1-σ uncertainty per point, in the units of the values (None: equal weights).
     pub error: Option<&'a [f64]>,
     pub(crate) band: Option<&'a [u32]>,
 }

@@ -13,11 +13,17 @@ use std::f64::consts::TAU;
 /// Trigonometric sums per frequency (see module doc).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct TrigSums {
+    /// C = Σ w cos ωt per frequency, in the units of w.
     pub c: Vec<f64>,
+    /// S = Σ w sin ωt per frequency, in the units of w.
     pub s: Vec<f64>,
+    /// YC = Σ h cos ωt per frequency, in the units of h.
     pub yc: Vec<f64>,
+    /// YS = Σ h sin ωt per frequency, in the units of h.
     pub ys: Vec<f64>,
+    /// C2 = Σ w cos 2ωt per frequency, in the units of w.
     pub c2: Vec<f64>,
+    /// S2 = Σ w sin 2ωt per frequency, in the units of w.
     pub s2: Vec<f64>,
 }
 

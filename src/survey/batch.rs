@@ -27,14 +27,20 @@ use crate::time::{Instant, LeapSecondTable, TimeScale, parse_time};
 /// Columns of a survey table.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct BatchColumns {
+    /// Name of the source id column (rows of one source must be contiguous).
     pub source: String,
+    /// Name of the time column, read in the batch's clock.
     pub time: String,
+    /// Name of the value column (magnitudes or fluxes).
     pub value: String,
+    /// Name of the 1-σ uncertainty column, in the units of the values (None: equal weights).
     pub error: Option<String>,
+    /// Name of the band label column (None: one band).
     pub band: Option<String>,
-    /// Right ascension and declination of the source (ICRS, degrees) — needed only when
+    /// Name of the right-ascension column of the source (ICRS, degrees) — needed only when
     /// the clock is not barycentric, to carry the times to the barycentre.
     pub ra_deg: Option<String>,
+    /// Name of the declination column of the source (ICRS, degrees), needed as `ra_deg`.
     pub dec_deg: Option<String>,
 }
 
@@ -43,12 +49,19 @@ pub struct BatchColumns {
 pub struct RowCells<'a> {
     /// 1-based data row in the file.
     pub row: usize,
+    /// Text of the source id cell.
     pub source: Option<&'a str>,
+    /// Text of the time cell.
     pub time: Option<&'a str>,
+    /// Text of the value cell.
     pub value: Option<&'a str>,
+    /// Text of the uncertainty cell.
     pub error: Option<&'a str>,
+    /// Text of the band label cell.
     pub band: Option<&'a str>,
+    /// Text of the right-ascension cell, degrees.
     pub ra_deg: Option<&'a str>,
+    /// Text of the declination cell, degrees.
     pub dec_deg: Option<&'a str>,
 }
 
@@ -67,7 +80,9 @@ pub trait RowStream {
 /// How much of an input has been read: `done` of `total` units (bytes or rows).
 #[derive(Debug, Clone)]
 pub struct ReadProgress {
+    /// Units read so far (bytes or rows, as `total`), shared with the reader that advances it.
     pub done: std::sync::Arc<std::sync::atomic::AtomicU64>,
+    /// Units in the whole input: bytes of a delimited text file, rows of a Parquet file.
     pub total: u64,
 }
 
@@ -352,15 +367,25 @@ pub fn open_rows(path: &Path, columns: &BatchColumns, slice_rows: usize) -> Resu
 /// The rows of one source, parsed.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SourceRows {
+    /// The source id.
     pub id: String,
-    /// 1-based data rows of the first and last row.
+    /// 1-based data row of the source's first row.
     pub first_row: usize,
+    /// 1-based data row of the source's last row.
     pub last_row: usize,
-    /// Days since `epoch` (NaN where missing).
+    /// Days since `epoch` (NaN where missing; all NaN for a non-barycentric clock, whose
+    /// times are in `clock_time`).
     pub time_d: Vec<f64>,
+    /// Reference epoch of `time_d`: the Julian date (TDB) of the first time read, rounded
+    /// down to a whole number (None before a time is read).
     pub epoch: Option<Instant>,
+    /// Values, one per row (NaN where empty or not finite).
     pub value: Vec<f64>,
+    /// 1-σ uncertainties, in the units of the values (None without an uncertainty column;
+    /// NaN where empty).
     pub error: Option<Vec<f64>>,
+    /// Band index per row, numbering the labels in order of first appearance (None without
+    /// a band column).
     pub band: Option<Vec<u32>>,
     band_labels: Vec<String>,
     file_row: Vec<usize>,
@@ -392,12 +417,17 @@ pub enum BarycentringError {
 }
 
 /// [`SourceArrival`] for one observer (a site or the geocentre) with the arrival stage's
-/// full correction (Rømer, Einstein, Shapiro; accuracy as [`BarycentricCorrector`]), a
-/// fixed source direction (no proper motion or parallax: survey tables rarely carry them).
+/// full correction (Rømer, Einstein, Shapiro; accuracy as
+/// [`crate::arrival::BarycentricCorrector`]), a fixed source direction (no proper motion or
+/// parallax: survey tables rarely carry them).
 pub struct ObserverArrival {
+    /// Solar System ephemeris for the positions of the Earth, Sun and planets.
     pub ephemeris: crate::ephemeris::SharedEphemeris,
+    /// Time-scale converter (leap seconds; TDB − TT at the site).
     pub converter: crate::time::ScaleConverter,
+    /// UT1 − UTC and polar motion, or none.
     pub orientation: crate::observer::EarthOrientation,
+    /// Where the times were recorded: a site or the geocentre.
     pub observer: crate::observer::Observer,
 }
 
@@ -427,7 +457,8 @@ impl SourceArrival for ObserverArrival {
 /// Options of a batch.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BatchOptions {
-    /// Clock of the times (must be barycentric TDB: bjd_tdb or bmjd_tdb).
+    /// Clock of the times: barycentric TDB (bjd_tdb, bmjd_tdb), or an observer clock whose
+    /// times are carried to BJD_TDB with a [`SourceArrival`].
     pub clock: ClockSpec,
     /// Points gathered before a batch of sources is searched (memory holds at most three
     /// such batches; default 2 000 000).
@@ -437,10 +468,13 @@ pub struct BatchOptions {
 /// What a batch reports for one source.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SourceReport {
+    /// The source id.
     pub id: String,
+    /// 1-based data row of the source's first row.
     pub first_row: usize,
+    /// 1-based data row of the source's last row.
     pub last_row: usize,
-    /// JD (TDB) of the epoch the source's times were referred to.
+    /// JD (TDB) of the epoch the source's times were referred to (NaN when none).
     pub epoch_jd: f64,
     /// The search result without the spectrum, or why the source was skipped.
     pub outcome: Result<SearchOutcome, String>,

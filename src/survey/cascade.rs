@@ -126,8 +126,11 @@ impl VariabilityClass {
 /// A model of the cascade.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum CascadeModel {
+    /// One sinusoid (generalised Lomb–Scargle peak, refined).
     Sinusoid,
+    /// A Fourier series of several harmonics sharing one frequency.
     Harmonics,
+    /// A box-shaped dip (transit or eclipse).
     Box,
 }
 
@@ -145,11 +148,15 @@ impl CascadeModel {
 /// One stage's best description.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct StageEvidence {
+    /// The model of this stage.
     pub model: CascadeModel,
-    /// Frequency (c/d), its 1σ, period (d) and its 1σ.
+    /// Frequency, cycles per day.
     pub freq_per_day: f64,
+    /// 1σ of the frequency, cycles per day (NaN when the fit did not refine it).
     pub freq_err_per_day: f64,
+    /// Period, days.
     pub period_d: f64,
+    /// 1σ of the period, days (NaN when the fit did not refine it).
     pub period_err_d: f64,
     /// Weighted sum of squared residuals of the model.
     pub chi2: f64,
@@ -159,7 +166,7 @@ pub struct StageEvidence {
     pub bic: f64,
     /// False-alarm probability of this stage for this source over the trials it searched.
     pub false_alarm: f64,
-    /// Harmonics of the series (harmonic stage), else 0.
+    /// Harmonics of the series: 1 for the sinusoid, K for the harmonic series, 0 for the box.
     pub harmonics: usize,
     /// χ²/dof of the fit (value² without uncertainties).
     pub reduced_chi2: f64,
@@ -175,10 +182,13 @@ pub struct Classification {
     pub variable_class: VariabilityClass,
     /// The winning model.
     pub model: CascadeModel,
-    /// Period taken (d) and its 1σ, frequency (c/d) and its 1σ.
+    /// Period taken, days.
     pub period_d: f64,
+    /// 1σ of the period, days.
     pub period_err_d: f64,
+    /// Frequency taken, cycles per day.
     pub freq_per_day: f64,
+    /// 1σ of the frequency, cycles per day.
     pub freq_err_per_day: f64,
     /// Factor by which the period σ was inflated by √χ²_red (1 when not).
     pub err_scale: f64,

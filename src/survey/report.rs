@@ -23,7 +23,7 @@ pub struct GridReport {
 pub struct BoxReport {
     /// Period, days (refined on a fine local grid; doubled when alternate minima differ).
     pub period_d: f64,
-    /// 1σ of the period from the Δχ² profile, days.
+    /// 1σ of the period, days: the larger of the Δχ² profile's and the event-timing one.
     #[serde(with = "nan_as_null")]
     pub period_err_d: f64,
     /// Depth, units of the values (positive for a dip).
@@ -47,28 +47,34 @@ pub struct BoxReport {
     pub signal_to_noise: f64,
     /// Events (cycles) with points inside the box.
     pub events_observed: usize,
-    /// Depth of the odd- and even-numbered events and their σ.
+    /// Depth of the odd-numbered events, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub odd_depth: f64,
+    /// 1σ of the odd-event depth, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub odd_depth_err: f64,
+    /// Depth of the even-numbered events, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub even_depth: f64,
+    /// 1σ of the even-event depth, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub even_depth_err: f64,
     /// |odd − even| in σ of the difference.
     #[serde(with = "nan_as_null")]
     pub odd_even_sigma: f64,
-    /// Depth of a box of the same duration at phase 0.5 and its σ.
+    /// Depth of a box of the same duration at phase 0.5, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub secondary_depth_phase_half: f64,
+    /// 1σ of the depth at phase 0.5, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub secondary_depth_phase_half_err: f64,
-    /// The deepest dip elsewhere in phase: phase (cycles after the primary), depth, σ.
+    /// Phase of the deepest dip elsewhere in phase, cycles after the primary.
     #[serde(with = "nan_as_null")]
     pub secondary_search_phase: f64,
+    /// Depth of that dip, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub secondary_search_depth: f64,
+    /// 1σ of that depth, in the units of the values.
     #[serde(with = "nan_as_null")]
     pub secondary_search_depth_err: f64,
     /// χ²/(N − 5) of the box model (value² without uncertainties).

@@ -31,10 +31,20 @@ pub enum SearchMethod {
     /// Phase dispersion minimisation with this many phase bins (power = 1 − θ).
     PhaseDispersion(usize),
     /// Conditional entropy with phase × value bins (power = ln n_value − H_c).
-    ConditionalEntropy { phase_bins: usize, value_bins: usize },
+    ConditionalEntropy {
+        /// Number of phase bins.
+        phase_bins: usize,
+        /// Number of bins of the scaled values.
+        value_bins: usize,
+    },
     /// Box least squares over these durations (fixed in days, or scaling with the trial
     /// period), on the box grid of [`plan_box_grid_for`].
-    Box { durations: BoxDurations, values_are_magnitudes: bool },
+    Box {
+        /// Trial box durations.
+        durations: BoxDurations,
+        /// Values are magnitudes (a dip is an increase) rather than fluxes.
+        values_are_magnitudes: bool,
+    },
     /// The survey cascade (sinusoid, harmonic series, box search; best by BIC, with a
     /// class): [`super::cascade`].
     Cascade(CascadeOptions),
@@ -70,6 +80,7 @@ impl SearchMethod {
 /// What to search and how much to report.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SearchPlan {
+    /// The periodogram method (or the cascade).
     pub method: SearchMethod,
     /// Kernel for the Lomb–Scargle family.
     pub algorithm: Algorithm,
@@ -103,6 +114,7 @@ impl SearchPlan {
 /// A described peak with its false-alarm probability.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RatedPeak {
+    /// The refined, alias-annotated peak.
     pub peak: Peak,
     /// Analytic (Baluev 2008) FAP of a peak this high, where the method has one (NaN
     /// otherwise); for the cascade, the winning model's FAP over its trials.
@@ -115,7 +127,10 @@ pub struct RatedPeak {
 /// Everything a search returns.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SearchOutcome {
+    /// The periodogram (power and amplitude emptied in survey batches).
     pub spectrum: Spectrum,
+    /// The highest peaks, strongest first (the cascade's chosen period first; the box
+    /// method's peaks carry the box depth and its σ as amplitude).
     pub peaks: Vec<RatedPeak>,
     /// Spectral-window sidelobes used for alias notes, c/d.
     pub window_sidelobes_per_day: Vec<f64>,
@@ -129,9 +144,11 @@ pub struct SearchOutcome {
     pub period_note: Option<String>,
     /// The cascade's description and class.
     pub classification: Option<Classification>,
-    /// Points used and rows dropped (NaN).
+    /// Points used in the search.
     pub n_points: usize,
+    /// Rows dropped because a time, value or uncertainty was NaN or infinite.
     pub n_dropped: usize,
+    /// Time span of the points used (last minus first time), days.
     pub baseline_d: f64,
 }
 
