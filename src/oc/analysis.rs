@@ -127,8 +127,8 @@ impl OcAnalysis {
 impl OcAnalysis {
     /// The O–C table, one row per timing: row (input, 1-based), bjd_tdb (text, 14 decimals),
     /// cycle, kind, source, error_d, observed_minus_computed_d, then per fitted model
-    /// (`+` and `-` in its name written `_`) model_<name>_d, model_sigma_<name>_d and
-    /// residual_<name>_d, all in days. Empty when the analysis kept no series.
+    /// (`+` and `-` in its name written `_`) `model_<name>_d`, `model_sigma_<name>_d` and
+    /// `residual_<name>_d`, all in days. Empty when the analysis kept no series.
     pub fn table(&self) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
         use crate::constants::SECONDS_PER_DAY;
         use crate::time::{TimeFormat, format_time};
