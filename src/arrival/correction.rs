@@ -148,6 +148,8 @@ pub enum ArrivalError {
     /// iterations; holds the barycentric instant.
     #[error("the inverse correction did not converge for {0}")]
     NoConvergence(String),
+    /// An event time (seconds from the event list's zero) beyond the span an event list may
+    /// cover (± `interpolated::MAX_EVENT_OFFSET_S`).
     #[error(
         "event time {0} s from the reference is outside the ±{max:e} s (about ±3170 years) an event list may span",
         max = super::interpolated::MAX_EVENT_OFFSET_S
