@@ -5,7 +5,7 @@
 use numpy::{AllowTypeChange, PyArrayLike1};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::arrival::DelayOptions;
 use skyclock::minima::{
     Brightness, EventCurve, EventTimingRequest, EventWindow, SegmentOptions, SymmetricOptions, SymmetricShape,
     TimingMethod, time_light_curve,
@@ -232,13 +232,7 @@ pub fn predict_events<'py>(
         sun_caution_deg: o.sun_caution_deg,
         min_moon_separation_deg: o.min_moon_separation_deg,
     };
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source,
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(source, DelayOptions::default());
     let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
     let request = ForecastRequest {
         ephemeris: &fitted,

@@ -7,8 +7,8 @@ use numpy::{AllowTypeChange, IntoPyArray, PyArrayLike1};
 use polars::prelude::Column;
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
+use skyclock::arrival::DelayOptions;
 use skyclock::arrival::table::{ObserverSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::constants::SECONDS_PER_DAY;
 use skyclock::pulsar::model::TimingModel;
 use skyclock::pulsar::profile::{ProfileRequest, check_weights, pulse_profile};
@@ -39,13 +39,7 @@ fn barycentric_events(
         place.observer_spec(description.as_ref(), None)?
     };
     let reference = place.reference()?;
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source,
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(source, DelayOptions::default());
     let mut columns = vec![text_column("times", times)];
     if let Some(w) = &weights {
         check_length("weights", w.len(), times.len())?;

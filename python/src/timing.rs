@@ -73,13 +73,7 @@ impl TimesIn {
 }
 
 fn corrector(reference: &ReferenceData, source: &Source) -> BarycentricCorrector {
-    BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source.clone(),
-        DelayOptions::default(),
-    )
+    reference.corrector(source.clone(), DelayOptions::default())
 }
 
 /// Options of the O–C analysis, spelled as the command line spells them.

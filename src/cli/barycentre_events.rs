@@ -8,7 +8,7 @@ use clap::Args as ClapArgs;
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
 use skyclock::arrival::events::correct_event_file;
 use skyclock::arrival::interpolated::{DEFAULT_NODE_SPACING_S, InterpolatedCorrector};
-use skyclock::arrival::{BarycentreEventsResult, BarycentricCorrector, DelayOptions};
+use skyclock::arrival::{BarycentreEventsResult, DelayOptions};
 use skyclock::observer::Observer;
 use skyclock::table::{Provenance, Summary};
 use skyclock::time::{TimeFormat, TimeScale, parse_time};
@@ -84,13 +84,7 @@ pub fn run(a: Args) -> Result<()> {
         Some(s) => Observer::Site(s),
         None => Observer::Geocentre,
     };
-    let exact = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source.clone(),
-        DelayOptions::default(),
-    );
+    let exact = reference.corrector(source.clone(), DelayOptions::default());
     let zero_tt = reference.converter.convert(&zero, TimeScale::Tt)?;
     let interpolator = InterpolatedCorrector::new(&exact, observer, zero_tt, a.node_spacing_s);
     let summary = correct_event_file(

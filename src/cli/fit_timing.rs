@@ -7,8 +7,8 @@ use anyhow::{Context, Result};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use skyclock::arrival::DelayOptions;
 use skyclock::arrival::table::{TableRequest, correct_table_with_geometry};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::pulsar::arrival_times::{arrival_times_from_table, attach_observer_geometry};
 use skyclock::pulsar::model::TimingModel;
 use skyclock::pulsar::timing_fit::fit_timing;
@@ -96,13 +96,7 @@ pub fn run(a: Args) -> Result<()> {
     let observer = a.observer.observer_spec(description.as_ref())?;
     super::pulse_profile::note_geocentre(&observer, clock.as_ref(), a.quiet);
     let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source.clone(),
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(source.clone(), DelayOptions::default());
     let request =
         TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
     let file = a.input.display().to_string();

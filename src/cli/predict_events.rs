@@ -7,7 +7,7 @@ use anyhow::{Context, Result, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
+use skyclock::arrival::DelayOptions;
 use skyclock::oc::{EventKind, FittedEphemeris, ModelKind, OcAnalysis};
 use skyclock::predict::{Forecast, ForecastRequest, PredictionOptions, SUN_CAUTION_DEG, SkyGeometry, forecast};
 use skyclock::table::{Provenance, Summary, write_table};
@@ -138,13 +138,7 @@ pub fn run(a: Args) -> Result<()> {
         sun_caution_deg: a.sun_caution_deg,
         min_moon_separation_deg: a.min_moon_separation_deg,
     };
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source.clone(),
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(source.clone(), DelayOptions::default());
     let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
     let request = ForecastRequest {
         ephemeris: &ephemeris,

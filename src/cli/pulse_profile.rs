@@ -9,8 +9,8 @@ use anyhow::{Context, Result, anyhow, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use skyclock::arrival::DelayOptions;
 use skyclock::arrival::table::{ClockSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::pulsar::model::TimingModel;
 use skyclock::pulsar::profile::{ProfileRequest, PulseTemplate, check_weights, pulse_profile};
 use skyclock::table::summary::Summary;
@@ -130,13 +130,7 @@ impl EventTableArgs {
         let observer = self.observer.observer_spec(description.as_ref())?;
         note_geocentre(&observer, Some(&clock), quiet);
         let reference = self.reference_data.load()?;
-        let corrector = BarycentricCorrector::new(
-            reference.ephemeris.clone(),
-            reference.converter.clone(),
-            reference.orientation.clone(),
-            source,
-            DelayOptions::default(),
-        );
+        let corrector = reference.corrector(source, DelayOptions::default());
         let file = self.input.display().to_string();
         let request =
             TableRequest { time_column: self.time_column.clone(), clock: Some(clock), clock_column: None, observer };

@@ -6,8 +6,8 @@ use anyhow::{Result, anyhow, bail};
 use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs};
+use skyclock::arrival::DelayOptions;
 use skyclock::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
-use skyclock::arrival::{BarycentricCorrector, DelayOptions};
 use skyclock::pulsar::search::{PulsationSearchRequest, search_pulsations};
 use skyclock::table::summary::Summary;
 use skyclock::table::write::{refuse_overwriting_inputs, write_atomically};
@@ -97,13 +97,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     super::pulse_profile::note_geocentre(&observer, Some(&clock), a.quiet);
     let reference = a.reference_data.load()?;
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source,
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(source, DelayOptions::default());
     let file = a.input.display().to_string();
     let df = read_table(&a.input, &[a.time_column.as_str()])?;
     let request = TableRequest { time_column: a.time_column.clone(), clock: Some(clock), clock_column: None, observer };

@@ -19,7 +19,7 @@ use super::scenario::{
 };
 use super::survey_scenario::{SURVEY_FILE, SURVEY_SOURCES, SURVEY_TRUTH_FILE, write_survey};
 use skyclock::arrival::table::ObserverSpec;
-use skyclock::arrival::{BarycentricCorrector, DelayOptions, ReferenceData};
+use skyclock::arrival::{DelayOptions, ReferenceData};
 use skyclock::config::read_description;
 use skyclock::ephemeris::Ephemeris;
 use skyclock::light_curve::Brightness;
@@ -540,13 +540,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
         .with_context(|| format!("the prediction start date '{start_text}'"))?;
     let ephemeris = oc.ephemeris(ModelKind::QuadraticLightTime)?;
     let source = description.source.clone().context("the description has a source")?;
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        source,
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(source, DelayOptions::default());
     let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
     let kinds = [EventKind::Primary, EventKind::Secondary];
     let request = ForecastRequest {

@@ -9,7 +9,7 @@ use polars::prelude::DataFrame;
 
 use super::{EventKind, Timing};
 use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions, ReferenceData, Source};
+use crate::arrival::{DelayOptions, ReferenceData, Source};
 use crate::table::{TableError, float_column, read_table, text_column};
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
 
@@ -77,13 +77,7 @@ pub fn read_timing_table(source: &TimingTableSource, reference: &ReferenceData) 
             });
         }
     };
-    let corrector = BarycentricCorrector::new(
-        reference.ephemeris.clone(),
-        reference.converter.clone(),
-        reference.orientation.clone(),
-        target,
-        DelayOptions::default(),
-    );
+    let corrector = reference.corrector(target, DelayOptions::default());
     let request = TableRequest {
         time_column: source.time_column.clone(),
         clock: source.clock,

@@ -8,7 +8,7 @@
 
 use super::input::{LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times};
 use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
-use crate::arrival::{BarycentricCorrector, DelayOptions, ReferenceData, Source};
+use crate::arrival::{DelayOptions, ReferenceData, Source};
 use crate::table::{TableError, read_table, text_column};
 use polars::prelude::DataFrame;
 use std::path::Path;
@@ -96,13 +96,7 @@ pub fn light_curve_from_frame(
                     ),
                 });
             };
-            let corrector = BarycentricCorrector::new(
-                reference.ephemeris.clone(),
-                reference.converter.clone(),
-                reference.orientation.clone(),
-                source.clone(),
-                DelayOptions::default(),
-            );
+            let corrector = reference.corrector(source.clone(), DelayOptions::default());
             let (clock, clock_column, said) = match (&request.times, single) {
                 (TimeOrigin::ClockColumn(c), _) => (None, Some(c.clone()), format!("the clocks in column '{c}'")),
                 (TimeOrigin::Clock(_), Some((label, clock))) => (Some(clock), None, label.to_string()),
