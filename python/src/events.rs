@@ -109,9 +109,8 @@ pub fn time_events<'py>(
     let report = py.detach(|| -> PyResult<_> {
         let (lc, _note) = input.load()?;
         let series = lc.series().map_err(error)?;
-        let errors: Option<Vec<f64>> =
-            series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
-        let input_rows: Vec<usize> = series.row().iter().map(|&r| lc.file_row[r]).collect();
+        let errors = series.errors();
+        let input_rows = lc.input_rows(&series);
         let request = EventTimingRequest {
             curve: EventCurve {
                 reference: lc.epoch,

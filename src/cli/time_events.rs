@@ -157,9 +157,8 @@ pub fn run(a: Args) -> Result<()> {
     let epoch =
         parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, &skyclock::time::LeapSecondTable::builtin())
             .map_err(|e| anyhow::anyhow!("--epoch-bjd-tdb '{}': {e}", a.epoch_bjd_tdb))?;
-    let errors: Option<Vec<f64>> =
-        series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
-    let input_rows: Vec<usize> = series.row().iter().map(|&r| lc.file_row[r]).collect();
+    let errors = series.errors();
+    let input_rows = lc.input_rows(&series);
     let request = EventTimingRequest {
         curve: EventCurve {
             reference: lc.epoch,

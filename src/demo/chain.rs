@@ -309,9 +309,8 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
         &reference,
     )?;
     let series = lc.series()?;
-    let errors: Option<Vec<f64>> =
-        series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
-    let input_rows: Vec<usize> = series.row().iter().map(|&r| lc.file_row[r]).collect();
+    let errors = series.errors();
+    let input_rows = lc.input_rows(&series);
     let curve = EventCurve {
         reference: lc.epoch,
         time_d: series.time_d(),

@@ -76,7 +76,7 @@ pub fn fold_light_curve(series: &Series, request: &FoldRequest, times: &str) -> 
         None => (request.period_d, None),
     };
     let phase = fold_times(series.time_d(), period_d, request.epoch_d)?;
-    let error: Option<Vec<f64>> = series.has_errors().then(|| series.weight().iter().map(|w| 1.0 / w.sqrt()).collect());
+    let error = series.errors();
     let bins = bin_folded(&phase, series.value(), error.as_deref(), request.bins, request.statistic)?;
     let report = FoldReport {
         points: series.len(),

@@ -181,6 +181,11 @@ impl Series {
     pub fn n_dropped(&self) -> usize {
         self.n_dropped
     }
+    /// 1σ uncertainties of the kept points, 1/√weight, in the units of the values; `None`
+    /// when the light curve has none (exact inverse of how the weights were made).
+    pub fn errors(&self) -> Option<Vec<f64>> {
+        self.has_errors().then(|| self.weight().iter().map(|w| 1.0 / w.sqrt()).collect())
+    }
     /// Whether the weights come from uncertainties.
     pub fn has_errors(&self) -> bool {
         self.has_errors

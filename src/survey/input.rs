@@ -173,6 +173,12 @@ pub fn assemble(
 }
 
 impl TableLightCurve {
+    /// The 1-based input-file row of every point kept in `series` (a series made from this
+    /// light curve by [`Self::series`]), for messages and tables.
+    pub fn input_rows(&self, series: &Series) -> Vec<usize> {
+        series.row().iter().map(|&r| self.file_row[r]).collect()
+    }
+
     /// Validates into a [`Series`]; errors name the file row and column.
     pub fn series(&self) -> Result<Series, TableError> {
         let mut lc = LightCurve::new(&self.time_d, &self.value);
