@@ -9,8 +9,8 @@ use pyo3::prelude::*;
 use pyo3::types::PyDict;
 use skyclock::arrival::table::ObserverSpec;
 use skyclock::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
-use skyclock::frequencies::prewhiten::{PrewhitenOptions, StopReason, prewhiten};
-use skyclock::frequencies::summary::{ExtractedFrequency, FrequencyExtractionResult, combination_text};
+use skyclock::frequencies::prewhiten::{PrewhitenOptions, prewhiten};
+use skyclock::frequencies::summary::FrequencyExtractionResult;
 use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest, plan_grid};
 use skyclock::survey::input::{LightCurveColumns, TableLightCurve, is_barycentric_tdb};
@@ -373,41 +373,7 @@ pub fn extract_frequencies<'py>(
             algorithm: kernel,
         };
         let result = prewhiten(&series, &grid, &options).map_err(|e| error(lc.locate(e)))?;
-        let stop = match result.stop {
-            StopReason::BelowSnr { freq_per_day, snr } => {
-                format!("next peak at {freq_per_day:.6} c/d has S/N {snr:.2} < {}", o.signal_to_noise_stop)
-            }
-            StopReason::MaxFrequencies => format!("reached {} frequencies", o.max_frequencies),
-            StopReason::OutOfDegreesOfFreedom => "the model has as many parameters as the data allow".into(),
-        };
-        Ok(FrequencyExtractionResult {
-            points: series.len(),
-            rows_dropped_nan: series.n_dropped(),
-            baseline_d: series.baseline_d(),
-            resolution_per_day: 1.0 / series.baseline_d(),
-            phase_reference_bjd_tdb: lc.epoch_jd_text(),
-            detrending,
-            residual_rms: result.residual_rms,
-            stopped_because: stop,
-            frequencies: result
-                .frequencies
-                .iter()
-                .enumerate()
-                .map(|(k, x)| ExtractedFrequency {
-                    label: format!("f{}", k + 1),
-                    freq_per_day: x.fit.freq_per_day,
-                    freq_err_per_day: x.fit.freq_err_per_day,
-                    amplitude: x.fit.amplitude,
-                    amplitude_err: x.fit.amplitude_err,
-                    phase_cycles: x.fit.phase_cycles,
-                    phase_err_cycles: x.fit.phase_err_cycles,
-                    signal_to_noise: x.snr,
-                    noise: x.noise,
-                    combination: combination_text(&x.combinations),
-                })
-                .collect(),
-            times: note,
-        })
+        Ok(FrequencyExtractionResult::from_run(&series, &result, &options, detrending, lc.epoch_jd_text(), note))
     })?;
     to_json(&result)
 }

@@ -11,8 +11,8 @@ use super::common::{spinner, write_text};
 use super::find_periods::KernelArg;
 use super::light_curve_input::LightCurveArgs;
 use skyclock::frequencies::detrend::{remove_polynomial, remove_segment_offsets};
-use skyclock::frequencies::prewhiten::{PrewhitenOptions, StopReason, prewhiten};
-use skyclock::frequencies::summary::{ExtractedFrequency, FrequencyExtractionResult, combination_text};
+use skyclock::frequencies::prewhiten::{PrewhitenOptions, prewhiten};
+use skyclock::frequencies::summary::{FrequencyExtractionResult, combination_text};
 use skyclock::periodogram::{GridRequest, plan_grid};
 use skyclock::table::{Provenance, Summary, write_table};
 
@@ -123,40 +123,7 @@ pub fn run(a: Args) -> Result<()> {
         ])?;
         write_table(&mut df, path, &provenance, &[input])?;
     }
-    let stop = match result.stop {
-        StopReason::BelowSnr { freq_per_day, snr } => {
-            format!("next peak at {freq_per_day:.6} c/d has S/N {snr:.2} < {}", a.signal_to_noise_stop)
-        }
-        StopReason::MaxFrequencies => format!("reached {} frequencies", a.max_frequencies),
-        StopReason::OutOfDegreesOfFreedom => "the model has as many parameters as the data allow".into(),
-    };
-    let result = FrequencyExtractionResult {
-        points: series.len(),
-        rows_dropped_nan: series.n_dropped(),
-        baseline_d: series.baseline_d(),
-        resolution_per_day: 1.0 / series.baseline_d(),
-        phase_reference_bjd_tdb: epoch.clone(),
-        detrending: detrending.clone(),
-        residual_rms: result.residual_rms,
-        stopped_because: stop.clone(),
-        frequencies: f
-            .iter()
-            .enumerate()
-            .map(|(k, x)| ExtractedFrequency {
-                label: format!("f{}", k + 1),
-                freq_per_day: x.fit.freq_per_day,
-                freq_err_per_day: x.fit.freq_err_per_day,
-                amplitude: x.fit.amplitude,
-                amplitude_err: x.fit.amplitude_err,
-                phase_cycles: x.fit.phase_cycles,
-                phase_err_cycles: x.fit.phase_err_cycles,
-                signal_to_noise: x.snr,
-                noise: x.noise,
-                combination: combination_text(&x.combinations),
-            })
-            .collect(),
-        times: note.clone(),
-    };
+    let result = FrequencyExtractionResult::from_run(&series, &result, &options, detrending, epoch, note);
     let outputs: Vec<String> = [&a.output, &a.summary].into_iter().flatten().map(|p| p.display().to_string()).collect();
     let summary = Summary::new(result, provenance.clone(), vec![input.display().to_string()], outputs);
     if let Some(path) = &a.summary {
@@ -165,7 +132,7 @@ pub fn run(a: Args) -> Result<()> {
     if a.json {
         println!("{}", summary.to_json()?);
     } else if !a.quiet {
-        println!("extracted {} frequencies from {} points; {stop}", f.len(), series.len());
+        println!("extracted {} frequencies from {} points; {}", f.len(), series.len(), summary.result.stopped_because);
         for (k, x) in f.iter().enumerate() {
             println!(
                 "  f{} = {:.7} ± {:.1e} c/d  A = {:.5} ± {:.1e}  S/N {:.1} {}",

@@ -2,7 +2,8 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::prewhiten::Combination;
+use super::prewhiten::{Combination, PrewhitenOptions, Prewhitening, StopReason};
+use crate::periodogram::Series;
 
 /// One extracted frequency.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -52,6 +53,58 @@ pub struct FrequencyExtractionResult {
     pub frequencies: Vec<ExtractedFrequency>,
     /// How the times were taken (clock, site, conversion), as text.
     pub times: String,
+}
+
+impl FrequencyExtractionResult {
+    /// The result of one prewhitening run ([`super::prewhiten::prewhiten`]) on `series`
+    /// (after the detrending steps named in `detrending`), with the stop reason in words,
+    /// frequencies labelled f1, f2, … and the resolution 1/baseline (c/d).
+    /// `phase_reference_bjd_tdb` is the instant phases count from (JD text); `times` says how
+    /// the times were read.
+    pub fn from_run(
+        series: &Series,
+        result: &Prewhitening,
+        options: &PrewhitenOptions,
+        detrending: Vec<String>,
+        phase_reference_bjd_tdb: String,
+        times: String,
+    ) -> FrequencyExtractionResult {
+        let stopped_because = match result.stop {
+            StopReason::BelowSnr { freq_per_day, snr } => {
+                format!("next peak at {freq_per_day:.6} c/d has S/N {snr:.2} < {}", options.snr_stop)
+            }
+            StopReason::MaxFrequencies => format!("reached {} frequencies", options.max_frequencies),
+            StopReason::OutOfDegreesOfFreedom => "the model has as many parameters as the data allow".into(),
+        };
+        FrequencyExtractionResult {
+            points: series.len(),
+            rows_dropped_nan: series.n_dropped(),
+            baseline_d: series.baseline_d(),
+            resolution_per_day: 1.0 / series.baseline_d(),
+            phase_reference_bjd_tdb,
+            detrending,
+            residual_rms: result.residual_rms,
+            stopped_because,
+            frequencies: result
+                .frequencies
+                .iter()
+                .enumerate()
+                .map(|(k, x)| ExtractedFrequency {
+                    label: format!("f{}", k + 1),
+                    freq_per_day: x.fit.freq_per_day,
+                    freq_err_per_day: x.fit.freq_err_per_day,
+                    amplitude: x.fit.amplitude,
+                    amplitude_err: x.fit.amplitude_err,
+                    phase_cycles: x.fit.phase_cycles,
+                    phase_err_cycles: x.fit.phase_err_cycles,
+                    signal_to_noise: x.snr,
+                    noise: x.noise,
+                    combination: combination_text(&x.combinations),
+                })
+                .collect(),
+            times,
+        }
+    }
 }
 
 /// "f1+f2 |f1-f3| 2f1": the combinations in words (indices are 0-based in the library).
