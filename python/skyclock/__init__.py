@@ -584,7 +584,7 @@ def fit_pulsar_timing(
 
     Returns a Result (``TimingSolution``) with table ``residuals``
     (``seconds_after_epoch_tdb``, ``residual_us``, ``residual_cycles``, ``error_us``,
-    ``freq_mhz``, ``instrument``[, ``orbital_phase``]) and ``fitted_model_toml``.
+    ``freq_mhz``, ``instrument``, ``orbital_phase`` — NaN without an orbit) and ``fitted_model_toml``.
     """
     name, text = _model_text(model)
     if clocks is not None:

@@ -276,7 +276,7 @@ pub fn fold_light_curve<'py>(
         "median" => BinStatistic::Median,
         other => return Err(error(format!("bin_statistic '{other}' is not one of mean, median"))),
     };
-    let (folded, rows, days, value) = py.detach(|| -> PyResult<_> {
+    let (report, points, bins) = py.detach(|| -> PyResult<_> {
         let (lc, note) = input.load()?;
         let series = lc.series().map_err(error)?;
         let epoch_d = match &o.epoch_bjd_tdb {
@@ -295,25 +295,13 @@ pub fn fold_light_curve<'py>(
             statistic,
         };
         let folded = skyclock::fold::fold_light_curve(&series, &request, &note).map_err(|e| error(lc.locate(e)))?;
-        let rows: Vec<i64> = series.row().iter().map(|&i| lc.file_row[i] as i64).collect();
-        let days: Vec<f64> = series.time_d().iter().map(|t| t - epoch_d).collect();
-        Ok((folded, rows, days, series.value().to_vec()))
+        let points = folded.points_table(&series, &lc.input_rows(&series)).map_err(error)?;
+        let bins = folded.bins_table().map_err(error)?;
+        Ok((folded.report, points, bins))
     })?;
-    let points = PyDict::new(py);
-    points.set_item("input_row", rows.into_pyarray(py))?;
-    points.set_item("phase", folded.phase.clone().into_pyarray(py))?;
-    points.set_item("days_since_epoch", days.into_pyarray(py))?;
-    points.set_item("value", value.into_pyarray(py))?;
-    if let Some(e) = &folded.error {
-        points.set_item("error", e.clone().into_pyarray(py))?;
-    }
-    let bins = PyDict::new(py);
-    let b = &folded.bins;
-    bins.set_item("phase_center", b.iter().map(|x| x.phase_center).collect::<Vec<f64>>().into_pyarray(py))?;
-    bins.set_item("value", b.iter().map(|x| x.value).collect::<Vec<f64>>().into_pyarray(py))?;
-    bins.set_item("error", b.iter().map(|x| x.error).collect::<Vec<f64>>().into_pyarray(py))?;
-    bins.set_item("count", b.iter().map(|x| x.count as i64).collect::<Vec<i64>>().into_pyarray(py))?;
-    Ok((to_json(&folded.report)?, points, bins))
+    let points = crate::convert::table_to_python(py, &points)?;
+    let bins = crate::convert::table_to_python(py, &bins)?;
+    Ok((to_json(&report)?, points, bins))
 }
 
 /// Options of `extract_frequencies`.

@@ -301,16 +301,7 @@ pub fn fit_pulsar_timing<'py>(
         Ok((solution, toas))
     })?;
     let fit = &solution.fit;
-    let d = PyDict::new(py);
-    d.set_item("seconds_after_epoch_tdb", toas.iter().map(|t| t.t_s).collect::<Vec<f64>>().into_pyarray(py))?;
-    d.set_item("residual_us", fit.residual_s.iter().map(|r| r * 1e6).collect::<Vec<f64>>().into_pyarray(py))?;
-    d.set_item("residual_cycles", fit.residual_cycles.clone().into_pyarray(py))?;
-    d.set_item("error_us", toas.iter().map(|t| t.error_s * 1e6).collect::<Vec<f64>>().into_pyarray(py))?;
-    d.set_item("freq_mhz", toas.iter().map(|t| t.freq_mhz.unwrap_or(f64::NAN)).collect::<Vec<f64>>().into_pyarray(py))?;
-    d.set_item("instrument", toas.iter().map(|t| t.instrument.clone()).collect::<Vec<String>>())?;
-    if !solution.orbital_phase_cycles.is_empty() {
-        d.set_item("orbital_phase", solution.orbital_phase_cycles.clone().into_pyarray(py))?;
-    }
+    let d = crate::convert::table_to_python(py, &solution.residuals_table(&toas).map_err(error)?)?;
     let toml = fit.model.to_toml().map_err(error)?;
     Ok((to_json(&solution)?, d, toml))
 }

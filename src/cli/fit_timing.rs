@@ -13,8 +13,8 @@ use skyclock::pulsar::arrival_times::{arrival_times_from_table, attach_observer_
 use skyclock::pulsar::model::TimingModel;
 use skyclock::pulsar::timing_fit::fit_timing;
 use skyclock::table::summary::Summary;
-use skyclock::table::write::{refuse_overwriting_inputs, sidecar_path, write_atomically};
-use skyclock::table::{Provenance, read_table};
+use skyclock::table::write::{refuse_overwriting_inputs, write_atomically};
+use skyclock::table::{Provenance, read_table, write_table};
 
 const EXAMPLE: &str = "Example:
   skyclock fit-timing --input pulses.csv --time-column time --clock mjd_utc \\
@@ -120,24 +120,8 @@ pub fn run(a: Args) -> Result<()> {
         .with("model", a.model.display().to_string())
         .with("ephemeris", reference.ephemeris.name())
         .with("leap_seconds", reference.converter.leap_seconds().source());
-    let mut csv = String::from(
-        "seconds_after_epoch_tdb,residual_us,residual_cycles,error_us,freq_mhz,instrument,orbital_phase\n",
-    );
-    for (i, t) in toas.iter().enumerate() {
-        let orbital = solution.orbital_phase_cycles.get(i);
-        csv.push_str(&format!(
-            "{:.9},{:.6},{:.9},{:.6},{},{},{}\n",
-            t.t_s,
-            fit.residual_s[i] * 1e6,
-            fit.residual_cycles[i],
-            t.error_s * 1e6,
-            t.freq_mhz.map_or(String::new(), |f| f.to_string()),
-            t.instrument,
-            orbital.map_or(String::new(), |p| format!("{p:.6}"))
-        ));
-    }
-    write_atomically(&a.output, |f| std::io::Write::write_all(f, csv.as_bytes()))?;
-    write_atomically(&sidecar_path(&a.output), |f| std::io::Write::write_all(f, provenance.to_json().as_bytes()))?;
+    let mut residuals = solution.residuals_table(&toas)?;
+    write_table(&mut residuals, &a.output, &provenance, &inputs)?;
     if let Some(path) = &a.figure {
         use skyclock::plot::{Figure, Layer, Panel, write_figure};
         let residual_us: Vec<f64> = fit.residual_s.iter().map(|r| r * 1e6).collect();

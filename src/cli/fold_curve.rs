@@ -5,7 +5,6 @@ use std::path::PathBuf;
 
 use anyhow::{Result, bail};
 use clap::Args as ClapArgs;
-use polars::prelude::*;
 
 use super::common::{BrightnessArg, write_text};
 use super::light_curve_input::LightCurveArgs;
@@ -120,26 +119,11 @@ pub fn run(a: Args) -> Result<()> {
         .with("period_d", format!("{period_d:.12}"))
         .with("times", note.clone());
     if let Some(path) = &a.output {
-        let rows: Vec<u64> = series.row().iter().map(|&i| lc.file_row[i] as u64).collect();
-        let mut cols = vec![
-            Column::new("input_row".into(), rows),
-            Column::new("phase".into(), phase.to_vec()),
-            Column::new("days_since_epoch".into(), series.time_d().iter().map(|t| t - epoch_d).collect::<Vec<f64>>()),
-            Column::new("value".into(), series.value().to_vec()),
-        ];
-        if let Some(e) = &errors {
-            cols.push(Column::new("error".into(), e.clone()));
-        }
-        let mut df = DataFrame::new_infer_height(cols)?;
+        let mut df = folded.points_table(&series, &lc.input_rows(&series))?;
         write_table(&mut df, path, &provenance, &[input])?;
     }
     if let Some(path) = &a.binned_output {
-        let mut df = DataFrame::new_infer_height(vec![
-            Column::new("phase_center".into(), bins.iter().map(|b| b.phase_center).collect::<Vec<f64>>()),
-            Column::new("value".into(), bins.iter().map(|b| b.value).collect::<Vec<f64>>()),
-            Column::new("error".into(), bins.iter().map(|b| b.error).collect::<Vec<f64>>()),
-            Column::new("count".into(), bins.iter().map(|b| b.count as u64).collect::<Vec<u64>>()),
-        ])?;
+        let mut df = folded.bins_table()?;
         write_table(&mut df, path, &provenance, &[input])?;
     }
     if let Some(path) = &a.figure {
@@ -149,7 +133,7 @@ pub fn run(a: Args) -> Result<()> {
         let magnitudes = brightness_of(a.brightness, &a.light_curve.value_column) == BrightnessArg::Magnitude;
         let column = &a.light_curve.value_column;
         let label = if magnitudes { format!("{column} (mag)") } else { format!("{column} (input units)") };
-        let rows: Vec<usize> = series.row().iter().map(|&i| lc.file_row[i]).collect();
+        let rows = lc.input_rows(&series);
         let curve = FoldedCurve {
             phase,
             value: series.value(),

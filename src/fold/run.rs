@@ -3,6 +3,7 @@
 //! ([`super::binning`]). [`FoldedLightCurve`] keeps the points for tables and figures;
 //! [`FoldReport`] is its serialisable summary (what `fold-curve --json` writes).
 
+use polars::prelude::{Column, DataFrame, PolarsError, PolarsResult};
 use serde::{Deserialize, Serialize};
 
 use super::{BinStatistic, PhaseBin, RefinedPeriod, bin_folded, fold_times, refine_period};
@@ -39,6 +40,46 @@ pub struct FoldedLightCurve {
     pub refined: Option<RefinedPeriod>,
     /// The serialisable summary.
     pub report: FoldReport,
+}
+
+impl FoldedLightCurve {
+    /// One row per folded point, in the order of `series` (the series this fold was made
+    /// from): `input_row` (the point's data row in the input file, 1-based as given in
+    /// `input_rows`, one per point of `series`), `phase` (cycles in [0, 1)),
+    /// `days_since_epoch` (days after the epoch of phase 0), `value` (input units) and
+    /// `error` (1σ, when the series had errors). What `fold-curve --output` writes and the
+    /// Python binding returns. Errors: `input_rows` not one per point.
+    pub fn points_table(&self, series: &Series, input_rows: &[usize]) -> PolarsResult<DataFrame> {
+        if input_rows.len() != series.len() || self.phase.len() != series.len() {
+            return Err(PolarsError::ShapeMismatch(
+                format!("{} input rows for {} folded points", input_rows.len(), series.len()).into(),
+            ));
+        }
+        let epoch_d = self.report.epoch_days_after_first_noon;
+        let mut columns = vec![
+            Column::new("input_row".into(), input_rows.iter().map(|&r| r as u64).collect::<Vec<u64>>()),
+            Column::new("phase".into(), self.phase.clone()),
+            Column::new("days_since_epoch".into(), series.time_d().iter().map(|t| t - epoch_d).collect::<Vec<f64>>()),
+            Column::new("value".into(), series.value().to_vec()),
+        ];
+        if let Some(e) = &self.error {
+            columns.push(Column::new("error".into(), e.clone()));
+        }
+        DataFrame::new_infer_height(columns)
+    }
+
+    /// One row per phase bin: `phase_center` (cycles), `value` (mean or median, input
+    /// units), `error` (1σ of that value; NaN for an empty bin) and `count` (points in the
+    /// bin). What `fold-curve --binned-output` writes and the Python binding returns.
+    pub fn bins_table(&self) -> PolarsResult<DataFrame> {
+        let b = &self.bins;
+        DataFrame::new_infer_height(vec![
+            Column::new("phase_center".into(), b.iter().map(|x| x.phase_center).collect::<Vec<f64>>()),
+            Column::new("value".into(), b.iter().map(|x| x.value).collect::<Vec<f64>>()),
+            Column::new("error".into(), b.iter().map(|x| x.error).collect::<Vec<f64>>()),
+            Column::new("count".into(), b.iter().map(|x| x.count as u64).collect::<Vec<u64>>()),
+        ])
+    }
 }
 
 /// Summary of a fold.

@@ -7,6 +7,8 @@
 //! (e.g. Lorimer & Kramer 2005, §8.2 — from memory). Phase residuals are resolved to
 //! ~1e-16·|φ| cycles (20 ns for 300 Hz over ±3 yr).
 
+use polars::prelude::{Column, DataFrame, PolarsError, PolarsResult};
+
 use super::PulsarError;
 use super::model::{ArrivalTime, FitParameter, POSITION_PARAMETERS, TimingModel, TimingParameter};
 use crate::arrival::Source;
@@ -310,6 +312,34 @@ pub struct TimingSolution {
     pub orbital_phase_cycles: Vec<f64>,
     /// The corrected position and proper motion, when the model refines them.
     pub position: Option<FittedPosition>,
+}
+
+impl TimingSolution {
+    /// One row per arrival time of `toas` (the arrival times this solution was fitted to,
+    /// in the same order): `seconds_after_epoch_tdb` (s after the model's epoch, TDB),
+    /// `residual_us` (observed − model, µs), `residual_cycles` (turns), `error_us` (1σ, µs),
+    /// `freq_mhz` (observing frequency, null when not given), `instrument` and
+    /// `orbital_phase` (cycles from periastron; null without an orbit). What
+    /// `fit-timing --output` writes and the Python binding returns. Errors: `toas` not the
+    /// arrival times of this fit (a different count).
+    pub fn residuals_table(&self, toas: &[ArrivalTime]) -> PolarsResult<DataFrame> {
+        let fit = &self.fit;
+        if toas.len() != fit.residual_s.len() || toas.len() != fit.residual_cycles.len() {
+            return Err(PolarsError::ShapeMismatch(
+                format!("{} arrival times for a fit of {}", toas.len(), fit.residual_s.len()).into(),
+            ));
+        }
+        let orbital: Vec<Option<f64>> = (0..toas.len()).map(|i| self.orbital_phase_cycles.get(i).copied()).collect();
+        DataFrame::new_infer_height(vec![
+            Column::new("seconds_after_epoch_tdb".into(), toas.iter().map(|t| t.t_s).collect::<Vec<f64>>()),
+            Column::new("residual_us".into(), fit.residual_s.iter().map(|r| r * 1e6).collect::<Vec<f64>>()),
+            Column::new("residual_cycles".into(), fit.residual_cycles.clone()),
+            Column::new("error_us".into(), toas.iter().map(|t| t.error_s * 1e6).collect::<Vec<f64>>()),
+            Column::new("freq_mhz".into(), toas.iter().map(|t| t.freq_mhz).collect::<Vec<Option<f64>>>()),
+            Column::new("instrument".into(), toas.iter().map(|t| t.instrument.clone()).collect::<Vec<String>>()),
+            Column::new("orbital_phase".into(), orbital),
+        ])
+    }
 }
 
 /// Phase-connected fit of `start` to `toas` ([`fit_timing_model`]) with its residual
