@@ -232,7 +232,7 @@ pub fn predict_events<'py>(
         min_moon_separation_deg: o.min_moon_separation_deg,
     };
     let corrector = reference.corrector(source, DelayOptions::default());
-    let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
+    let sky = SkyGeometry::from_reference(&reference);
     let request = ForecastRequest {
         ephemeris: &fitted,
         ephemeris_origin: origin,

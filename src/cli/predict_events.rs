@@ -139,7 +139,7 @@ pub fn run(a: Args) -> Result<()> {
         min_moon_separation_deg: a.min_moon_separation_deg,
     };
     let corrector = reference.corrector(source.clone(), DelayOptions::default());
-    let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
+    let sky = SkyGeometry::from_reference(&reference);
     let request = ForecastRequest {
         ephemeris: &ephemeris,
         ephemeris_origin,

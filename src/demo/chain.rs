@@ -540,7 +540,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
     let ephemeris = oc.ephemeris(ModelKind::QuadraticLightTime)?;
     let source = description.source.clone().context("the description has a source")?;
     let corrector = reference.corrector(source, DelayOptions::default());
-    let sky = SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone());
+    let sky = SkyGeometry::from_reference(&reference);
     let kinds = [EventKind::Primary, EventKind::Secondary];
     let request = ForecastRequest {
         ephemeris: &ephemeris,

@@ -136,6 +136,12 @@ impl<'a> SkyGeometry<'a> {
         SkyGeometry { ephemeris, converter, orientation }
     }
 
+    /// The sky computed with the ephemeris, leap seconds and Earth orientation of
+    /// `reference` (the same data the barycentric correction uses).
+    pub fn from_reference(reference: &'a crate::arrival::ReferenceData) -> SkyGeometry<'a> {
+        SkyGeometry::new(&*reference.ephemeris, reference.converter.clone(), reference.orientation.clone())
+    }
+
     /// The sky at `site` at `time` (any scale; a ground site needs UTC, so times before
     /// 1960 are refused) for `target`.
     pub fn snapshot(&self, site: &Site, time: &Instant, target: &Source) -> Result<SkySnapshot, PredictError> {
