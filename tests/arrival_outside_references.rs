@@ -71,7 +71,7 @@ fn solar_shapiro_equals_the_full_formula_less_its_source_distance_constant() {
     // the infinite form alone would share.
     let rows = shapiro_rows();
     let constant = 2.0 * skyclock::ephemeris::GM_SUN_KM3_PER_S2 / 299_792.458_f64.powi(3)
-        * (2.0 * 10_000.0 * 3.085_677_581_491_367_3e13 / 149_597_870.700_f64).ln();
+        * (2.0 * 10_000.0 * 3.085_677_581_491_367e13 / 149_597_870.700_f64).ln();
     let mut worst = 0.0_f64;
     for r in &rows {
         let c = shapiro_corrector(r, DelayOptions { shapiro_sun: true, shapiro_planets: false });

@@ -109,7 +109,7 @@ fn the_photometry_times_reduce_to_their_true_bjd_tdb() {
     // (≤ 2.2 µs, tests/reference/README.md) plus UT1 − UTC, which the demo leaves out
     // (≤ 1.4 µs, docs/arrival.md). Faults caught: the site's part of the Rømer delay
     // (up to 21 ms; measured 20.2 ms worst), the site's longitude sign (ms), the Sun's
-    // Shapiro delay (−7…0 µs in this season; measured 7.6 µs worst). Measured with the right
+    // Shapiro delay (0…7 µs in this season; measured 7.6 µs worst with the reference's own 2 µs). Measured with the right
     // reduction: 1.98 µs worst.
     let truth = truth("kx_inventa_photometry_truth.csv", "bjd_tdb", TimeFormat::Jd);
     let site = ObserverSpec::Site(sites("kx_inventa_sites.toml").remove("Ridge Hollow Observatory").unwrap());
