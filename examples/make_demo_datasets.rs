@@ -1,6 +1,7 @@
-//! Writes the invented demonstration scenario into `datasets/` (fixed seed; see
-//! `src/demo/scenario.rs` and `src/demo/pulsar_scenario.rs`, which belong to the binary and
-//! are compiled into this example from the same sources).
+//! Writes the invented demonstration scenario's truth into `datasets/generator/` and its
+//! descriptions into `datasets/` (fixed seed; see `src/demo/truth.rs`, compiled into this
+//! example from the binary's sources). The observed times are then computed from the truth
+//! by `datasets/generator/observe.py` (astropy + DE440; `datasets/generator/README.md`).
 //! Run: `cargo run --release --example make_demo_datasets`.
 
 #[allow(dead_code, unused_imports)]
@@ -12,7 +13,7 @@ mod demo;
 
 fn main() -> anyhow::Result<()> {
     let folder = std::path::Path::new("datasets");
-    demo::scenario::write_datasets(folder)?;
+    demo::truth::write_datasets(folder)?;
     let mut names: Vec<String> = std::fs::read_dir(folder)?
         .filter_map(|e| e.ok())
         .map(|e| e.file_name().to_string_lossy().into_owned())

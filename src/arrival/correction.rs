@@ -9,7 +9,9 @@
 use crate::constants::SECONDS_PER_DAY;
 use thiserror::Error;
 
-use super::delays::{curvature_delay_s, roemer_delay_s, shapiro_delay_s};
+use super::delays::{
+    JUPITER_RADIUS_KM, SATURN_RADIUS_KM, SUN_RADIUS_KM, curvature_delay_s, roemer_delay_s, shapiro_delay_s,
+};
 use super::source::Source;
 use crate::ephemeris::{
     Body, Ephemeris, EphemerisError, GM_JUPITER_SYSTEM_KM3_PER_S2, GM_SATURN_SYSTEM_KM3_PER_S2, GM_SUN_KM3_PER_S2,
@@ -359,15 +361,15 @@ impl BarycentricCorrector {
         let curvature_s = dir.distance_km.map(|d| curvature_delay_s(r_obs, &dir.unit, d)).unwrap_or(0.0);
         let shapiro_sun_s = if self.options.shapiro_sun {
             let sun = self.ephemeris.state(Body::Sun, tdb)?;
-            shapiro_delay_s(r_obs, &sun.position_km, &dir.unit, GM_SUN_KM3_PER_S2)
+            shapiro_delay_s(r_obs, &sun.position_km, &dir.unit, GM_SUN_KM3_PER_S2, SUN_RADIUS_KM)
         } else {
             0.0
         };
         let shapiro_planets_s = if self.options.shapiro_planets {
             let j = self.ephemeris.state(Body::Jupiter, tdb)?;
             let s = self.ephemeris.state(Body::Saturn, tdb)?;
-            shapiro_delay_s(r_obs, &j.position_km, &dir.unit, GM_JUPITER_SYSTEM_KM3_PER_S2)
-                + shapiro_delay_s(r_obs, &s.position_km, &dir.unit, GM_SATURN_SYSTEM_KM3_PER_S2)
+            shapiro_delay_s(r_obs, &j.position_km, &dir.unit, GM_JUPITER_SYSTEM_KM3_PER_S2, JUPITER_RADIUS_KM)
+                + shapiro_delay_s(r_obs, &s.position_km, &dir.unit, GM_SATURN_SYSTEM_KM3_PER_S2, SATURN_RADIUS_KM)
         } else {
             0.0
         };

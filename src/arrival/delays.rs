@@ -6,6 +6,7 @@
 //! Edwards, Hobbs & Manchester (2006, MNRAS 372, 1549, eqs. 4–5 and 28);
 //! Eastman, Siverd & Gaudi (2010, PASP 122, 935).
 
+use crate::constants::ASTRONOMICAL_UNIT_KM as AU_KM;
 use crate::ephemeris::SPEED_OF_LIGHT_KM_PER_S as C_KM_S;
 
 /// 2GM/c³ of a body with gravitational parameter `gm_km3_per_s2`, s (for the Sun: 9.85 µs).
@@ -30,19 +31,63 @@ pub fn curvature_delay_s(observer_km: &[f64; 3], unit: &[f64; 3], distance_km: f
     -(r2 - rn * rn) / (2.0 * C_KM_S * distance_km)
 }
 
-/// Shapiro delay of a body of gravitational parameter `gm` (km³/s²) at `body_km` for light
-/// from direction `unit` reaching `observer_km`: −(2GM/c³) ln(1 + cos θ), s, with θ the
-/// angle between the body→observer vector and the observer→source direction
-/// (source at infinity). Source: Lorimer & Kramer (2005) §8.2 (from memory); Backer &
-/// Hellings (1986, ARA&A 24, 537). Within 0.1° of the body's centre the value is capped.
-pub fn shapiro_delay_s(observer_km: &[f64; 3], body_km: &[f64; 3], unit: &[f64; 3], gm_km3_per_s2: f64) -> f64 {
+/// Nominal solar radius, km: IAU 2015 Resolution B3 (R☉ᴺ = 695 700 km).
+pub const SUN_RADIUS_KM: f64 = 695_700.0;
+/// Equatorial radius of Jupiter, km (1 bar level; IAU WGCCRE 2015 report, Archinal et al.
+/// 2018, Celest. Mech. Dyn. Astr. 130, 22; from memory).
+pub const JUPITER_RADIUS_KM: f64 = 71_492.0;
+/// Equatorial radius of Saturn, km (same source as [`JUPITER_RADIUS_KM`]; from memory).
+pub const SATURN_RADIUS_KM: f64 = 60_268.0;
+
+/// Shapiro delay of a body of gravitational parameter `gm` (km³/s²) and radius `radius_km`
+/// at `body_km`, for light from a source at infinity in direction `unit` reaching
+/// `observer_km` (all barycentric, km): −(2GM/c³) ln[(|ρ| + ρ·n̂) / 1 au], s, with
+/// ρ = observer − body. This is −(2GM/c³) [ln(1 + cos θ) + ln(|ρ| / 1 au)], θ the angle
+/// between the body→observer vector and the observer→source direction: the limit of the
+/// Shapiro (1964) light time (2GM/c³) ln[(r_o + r_s + R)/(r_o + r_s − R)] for r_s → ∞, less
+/// the constant (2GM/c³) ln(2 r_s / 1 au), which shifts every time alike. The distance term
+/// is kept (IERS Conventions 2010 ch. 11 write the one-way delay per station as
+/// ln(|x| + k̂·x), from memory; the pulsar-timing form −(2GM/c³) ln(1 + cos θ) of Backer &
+/// Hellings 1986, ARA&A 24, 537, leaves it out): ≤ 0.17 µs over the year for an observer at
+/// the Earth, but 6.8 µs for an observer at 0.5 au (`docs/arrival.md`).
+///
+/// Near the body's line of sight |ρ| + ρ·n̂ is computed as b² / (|ρ| − ρ·n̂), with the impact
+/// parameter b = |ρ × n̂|, free of cancellation. A ray whose impact parameter is below the
+/// body's radius passes through the body (the source is occulted): the value is capped at the
+/// limb's, b = `radius_km`. Accuracy: that of the positions and of GM (1 km in the impact
+/// parameter at the solar limb ↔ 28 ps).
+pub fn shapiro_delay_s(
+    observer_km: &[f64; 3],
+    body_km: &[f64; 3],
+    unit: &[f64; 3],
+    gm_km3_per_s2: f64,
+    radius_km: f64,
+) -> f64 {
     let rho = [observer_km[0] - body_km[0], observer_km[1] - body_km[1], observer_km[2] - body_km[2]];
     let norm = dot(&rho, &rho).sqrt();
-    if norm == 0.0 {
+    if !(norm > 0.0) {
         return 0.0;
     }
-    let cos_theta = (dot(&rho, unit) / norm).max(-1.0 + 1.5e-6);
-    -shapiro_scale_s(gm_km3_per_s2) * (1.0 + cos_theta).ln()
+    let along = dot(&rho, unit);
+    let path_km = if along >= 0.0 {
+        // The source lies on the far side from the body: no cancellation.
+        norm + along
+    } else {
+        let cross = [
+            rho[1] * unit[2] - rho[2] * unit[1],
+            rho[2] * unit[0] - rho[0] * unit[2],
+            rho[0] * unit[1] - rho[1] * unit[0],
+        ];
+        let impact_km = dot(&cross, &cross).sqrt();
+        let radius = radius_km.min(norm);
+        if impact_km < radius {
+            // Occulted: the grazing ray's |ρ| + ρ·n̂ = |ρ| − √(|ρ|² − R²).
+            radius * radius / (norm + ((norm - radius) * (norm + radius)).sqrt())
+        } else {
+            impact_km * impact_km / (norm - along)
+        }
+    };
+    -shapiro_scale_s(gm_km3_per_s2) * (path_km / AU_KM).ln()
 }
 
 /// Dot product of two 3-vectors.
@@ -82,14 +127,22 @@ mod tests {
         // −2GM/c³·ln 2 ≈ −6.83 µs; 2GM☉/c³ = 9.85 µs (common practice).
         let gm = crate::ephemeris::GM_SUN_KM3_PER_S2;
         assert!((shapiro_scale_s(gm) - 9.85e-6).abs() < 0.01e-6);
-        let obs = [1.496e8, 0.0, 0.0];
-        assert!(shapiro_delay_s(&obs, &[0.0; 3], &[0.0, 1.0, 0.0], gm).abs() < 1e-15);
-        assert!(
-            (shapiro_delay_s(&obs, &[0.0; 3], &[1.0, 0.0, 0.0], gm) + shapiro_scale_s(gm) * 2f64.ln()).abs() < 1e-15
-        );
-        // Grazing the limb (0.27°) the delay is ~+100 µs.
-        let a = 0.27_f64.to_radians();
-        let near = shapiro_delay_s(&obs, &[0.0; 3], &[-a.cos(), a.sin(), 0.0], gm);
-        assert!(near > 90e-6 && near < 130e-6, "{near}");
+        let obs = [AU_KM, 0.0, 0.0];
+        let shapiro = |unit: &[f64; 3]| shapiro_delay_s(&obs, &[0.0; 3], unit, gm, SUN_RADIUS_KM);
+        assert!(shapiro(&[0.0, 1.0, 0.0]).abs() < 1e-15);
+        assert!((shapiro(&[1.0, 0.0, 0.0]) + shapiro_scale_s(gm) * 2f64.ln()).abs() < 1e-15);
+        // The distance term: the same geometry seen from 2 au is −(2GM/c³) ln 2 lower.
+        let far = [2.0 * AU_KM, 0.0, 0.0];
+        let from_far = shapiro_delay_s(&far, &[0.0; 3], &[0.0, 1.0, 0.0], gm, SUN_RADIUS_KM);
+        assert!((from_far + shapiro_scale_s(gm) * 2f64.ln()).abs() < 1e-15, "{from_far}");
+        // Grazing the limb (0.266°) the delay is ~+112 µs; further in the ray is blocked and
+        // the value stays at the limb's.
+        let limb = (SUN_RADIUS_KM / AU_KM).asin();
+        let at = |elongation: f64| shapiro(&[-elongation.cos(), elongation.sin(), 0.0]);
+        let near = at(limb);
+        assert!(near > 105e-6 && near < 120e-6, "{near}");
+        assert_eq!(at(0.5 * limb), near);
+        assert_eq!(at(0.0), near);
+        assert!(at(1.01 * limb) < near && at(1.01 * limb) > near - 0.3e-6);
     }
 }

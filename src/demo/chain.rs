@@ -241,7 +241,7 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
     ] {
         if !data.join(needed).exists() {
             bail!(
-                "{}: missing; regenerate the scenario with `cargo run --release --example make_demo_datasets`",
+                "{}: missing; the demo data are committed in datasets/ (how they were made: datasets/generator/README.md)",
                 data.join(needed).display()
             );
         }

@@ -71,25 +71,34 @@ pub fn fit_line(cycles: &[f64], seconds: &[f64], errors_s: &[f64]) -> Option<Lin
     })
 }
 
+/// The committed demo data, compiled in so that the demo runs outside the repository too. The
+/// observed times in them were made by `datasets/generator/observe.py` (astropy + DE440),
+/// not by skyclock, so the demo can show a barycentring fault; they are never regenerated
+/// by the binary.
+const EMBEDDED_DATASETS: [(&str, &str); 7] = [
+    (MINIMA_FILE, include_str!("../../datasets/kx_inventa_minima.csv")),
+    (DESCRIPTION_FILE, include_str!("../../datasets/kx_inventa_sites.toml")),
+    (scenario::PHOTOMETRY_FILE, include_str!("../../datasets/kx_inventa_photometry.csv")),
+    (super::pulsar_scenario::PULSAR_DESCRIPTION_FILE, include_str!("../../datasets/veyra_beacon.toml")),
+    (super::pulsar_scenario::PULSAR_TOAS_FILE, include_str!("../../datasets/veyra_beacon_radio_toas.csv")),
+    (super::pulsar_scenario::PULSAR_EVENTS_FILE, include_str!("../../datasets/veyra_beacon_xray_events.csv")),
+    (super::pulsar_scenario::PULSAR_START_MODEL_FILE, include_str!("../../datasets/veyra_beacon_start_model.toml")),
+];
+
 fn locate_datasets(output: &Path) -> Result<PathBuf> {
     for candidate in ["datasets", "../datasets"] {
         let p = PathBuf::from(candidate);
-        let complete = [
-            MINIMA_FILE,
-            DESCRIPTION_FILE,
-            scenario::PHOTOMETRY_FILE,
-            super::pulsar_scenario::PULSAR_TOAS_FILE,
-            super::pulsar_scenario::PULSAR_EVENTS_FILE,
-        ]
-        .iter()
-        .all(|f| p.join(f).exists());
-        if complete {
+        if EMBEDDED_DATASETS.iter().all(|(f, _)| p.join(f).exists()) {
             return Ok(p);
         }
     }
-    // Not run from the repository: make the scenario afresh (same seed, same files).
+    // Not run from the repository: write the compiled-in copy of the committed files.
     let folder = output.join("datasets");
-    scenario::write_datasets(&folder)?;
+    std::fs::create_dir_all(&folder).with_context(|| format!("creating {}", folder.display()))?;
+    for (name, text) in EMBEDDED_DATASETS {
+        let path = folder.join(name);
+        skyclock::table::write::write_atomically(&path, |f| std::io::Write::write_all(f, text.as_bytes()))?;
+    }
     Ok(folder)
 }
 
