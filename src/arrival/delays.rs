@@ -3,7 +3,7 @@
 //!
 //! Sign convention: t_barycentre = t_observer(TDB) + Rømer + curvature − Shapiro.
 //! References: Lorimer & Kramer (2005, *Handbook of Pulsar Astronomy*, §8.2);
-//! Edwards, Hobbs & Manchester (2006, MNRAS 372, 1549, eqs. 4–5 and 28);
+//! Backer & Hellings (1986, ARA&A 24, 537); IERS Conventions (2010), ch. 11;
 //! Eastman, Siverd & Gaudi (2010, PASP 122, 935).
 
 use crate::constants::ASTRONOMICAL_UNIT_KM as AU_KM;
