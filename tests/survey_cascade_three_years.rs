@@ -9,6 +9,7 @@
 
 use std::collections::BTreeMap;
 
+use rayon::prelude::*;
 use skyclock::fit::SeededRng;
 use skyclock::periodogram::{Algorithm, GridRequest, Series, plan_grid};
 use skyclock::survey::cascade::{CascadeOptions, VariabilityClass, classify_series};
@@ -107,8 +108,9 @@ fn three_ground_seasons_every_class_at_its_period_and_constants_quiet() {
     let n_sources = stars.len();
     let options = CascadeOptions::new(true);
     let started = std::time::Instant::now();
+    // sources in parallel, as survey-batch searches them
     let found: Vec<_> = stars
-        .iter()
+        .par_iter()
         .map(|s| {
             let series = Series::from_arrays(&s.time_d, &s.mag, Some(&s.err)).unwrap();
             let grid = plan_grid(series.baseline_d(), &GridRequest::up_to(12.0)).unwrap().grid;

@@ -59,8 +59,9 @@ pub struct CascadeOptions {
     /// Highest frequency of the box stage, c/d (default 5: periods ≥ 0.2 d; shorter
     /// periods are left to the sinusoid and harmonic stages).
     pub box_max_freq_per_day: f64,
-    /// Oversampling of the box grid (edge drift over the baseline ≤ shortest duration /
-    /// this; default 2).
+    /// Oversampling of the box stage's screening grid (edge drift over the baseline between
+    /// neighbouring trial frequencies ≤ shortest duration / this; default 1: the candidates
+    /// are then refined on fine local grids, [`crate::periodogram::bls::box_detection`]).
     pub box_oversampling: f64,
     /// Phase bins per shortest duration of the box stage's screening pass over the whole
     /// grid (default [`CASCADE_SCREEN_BINS_PER_DURATION`]); the strongest
@@ -82,7 +83,7 @@ pub const CASCADE_SCREEN_BINS_PER_DURATION: usize = 3;
 
 impl CascadeOptions {
     /// 3 harmonics, 3 candidates, [`CASCADE_DUTY_CYCLES`], box up to 5 c/d, box
-    /// oversampling 2, screening at [`CASCADE_SCREEN_BINS_PER_DURATION`] bins per shortest
+    /// oversampling 1, screening at [`CASCADE_SCREEN_BINS_PER_DURATION`] bins per shortest
     /// duration, 5 box candidates.
     pub fn new(values_are_magnitudes: bool) -> Self {
         let (shortest, longest, count) = CASCADE_DUTY_CYCLES;
@@ -94,7 +95,7 @@ impl CascadeOptions {
                 ..BoxOptions::scaled(values_are_magnitudes)
             },
             box_max_freq_per_day: 5.0,
-            box_oversampling: 2.0,
+            box_oversampling: 1.0,
             box_screen_bins_per_duration: CASCADE_SCREEN_BINS_PER_DURATION,
             box_candidates: 5,
         }
