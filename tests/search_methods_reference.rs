@@ -142,5 +142,6 @@ fn box_search_agrees_with_astropy_box_least_squares() {
         num("astropy_best_depth_err"),
         d.power
     );
-    assert!((d.power / astropy_chi2 - 1.0).abs() < 0.15, "Δχ² {} vs astropy {astropy_chi2}", d.power);
+    // measured +0.2 % (295.3 against 294.6): our box tuned at a hundredth of its duration
+    assert!((d.power / astropy_chi2 - 1.0).abs() < 0.02, "Δχ² {} vs astropy {astropy_chi2}", d.power);
 }

@@ -236,3 +236,36 @@ impl CascadeTable {
         DataFrame::new(self.rows.len(), self.columns())
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fit::SeededRng;
+    use crate::periodogram::{Algorithm, GridRequest, Series, plan_grid};
+    use crate::survey::cascade::{CascadeOptions, classify_series};
+
+    #[test]
+    fn a_field_of_one_sinusoid_and_one_skipped_source_gives_named_columns_and_counts() {
+        // Invented: 300 points over 60 nights, a 0.7 d sinusoid of 0.1 mag, noise 0.01.
+        let mut rng = SeededRng::new(21);
+        let t: Vec<f64> = (0..300).map(|k| (k / 5) as f64 + 0.05 * (k % 5) as f64 + 0.01 * rng.uniform()).collect();
+        let y: Vec<f64> =
+            t.iter().map(|&x| 14.0 + 0.1 * (std::f64::consts::TAU * x / 0.7).sin() + 0.01 * rng.normal()).collect();
+        let s = Series::from_arrays(&t, &y, Some(&vec![0.01; t.len()])).unwrap();
+        let grid = plan_grid(s.baseline_d(), &GridRequest::up_to(5.0)).unwrap().grid;
+        let c = classify_series(&s, &grid, Algorithm::Auto, 1 << 30, &CascadeOptions::new(true)).unwrap();
+        let table = CascadeTable::new(&[Some(c.clone()), None], 2, 0.01);
+        let df = table.table().unwrap();
+        let names: Vec<String> = df.get_column_names().iter().map(|n| n.to_string()).collect();
+        assert_eq!(names, CASCADE_COLUMNS.map(str::to_string).to_vec());
+        assert_eq!(df.height(), 2);
+        let row = table.rows[0].as_ref().unwrap();
+        assert_eq!(row.class, "sinusoidal");
+        assert!(row.variable);
+        assert!((row.period_d.unwrap() / 0.7 - 1.0).abs() < 1e-3);
+        assert_eq!(row.field_false_alarm, Some(c.field_false_alarm(2)));
+        assert!(table.rows[1].is_none());
+        assert_eq!(table.class_counts().get("sinusoidal"), Some(&1));
+        assert_eq!(table.class_counts().values().sum::<usize>(), 1);
+    }
+}
