@@ -1087,9 +1087,6 @@ pub struct EclipsePeriodDecision {
     pub detection: BoxDetection,
     /// Whether the period was doubled from the box peak's.
     pub doubled: bool,
-    /// Whether it was doubled because only alternate events at the box peak's period have
-    /// points (the data then fit both periods alike).
-    pub alternate_events_unobserved: bool,
     /// What was decided and why, in words.
     pub note: String,
 }
@@ -1128,12 +1125,7 @@ pub fn settle_eclipse_period(
             "period doubled to {:.7} d: only alternate events at {:.7} d have points, so twice that period fits as well (half the period stays possible)",
             doubled.period_d, p
         );
-        return Ok(EclipsePeriodDecision {
-            detection: doubled,
-            doubled: true,
-            alternate_events_unobserved: true,
-            note,
-        });
+        return Ok(EclipsePeriodDecision { detection: doubled, doubled: true, note });
     }
     if m.odd_even_sigma.is_finite() && m.odd_even_sigma > ODD_EVEN_DOUBLING_SIGMA {
         let epoch = if m.odd_depth > m.even_depth { detection.epoch_d + p } else { detection.epoch_d };
@@ -1156,12 +1148,7 @@ pub fn settle_eclipse_period(
             if m.odd_depth > m.even_depth { m.even_depth_err } else { m.odd_depth_err },
             p
         );
-        return Ok(EclipsePeriodDecision {
-            detection: doubled,
-            doubled: true,
-            alternate_events_unobserved: false,
-            note,
-        });
+        return Ok(EclipsePeriodDecision { detection: doubled, doubled: true, note });
     }
     let sec = if m.secondary_depth.is_finite() && m.secondary_depth_err > 0.0 {
         format!(
@@ -1181,7 +1168,6 @@ pub fn settle_eclipse_period(
     Ok(EclipsePeriodDecision {
         detection: *detection,
         doubled: false,
-        alternate_events_unobserved: false,
         note: format!("period kept at the box peak: {oe}{sec}"),
     })
 }

@@ -316,12 +316,6 @@ fn harmonic_shape(series: &Series, freq: f64, harmonics: usize, dip_sign: f64) -
     Some((starts.max(1), dim_fraction, 0.5 * range))
 }
 
-/// A box depth as a fraction of the light: the depth itself for magnitudes (small depths),
-/// depth / weighted mean for fluxes.
-fn relative_depth(series: &Series, depth: f64, options: &BoxOptions) -> f64 {
-    if options.values_are_magnitudes { depth } else { depth / series.weighted_mean().abs().max(1e-300) }
-}
-
 /// Indices of the `count` highest positive values of a box spectrum, each more than
 /// `separation` grid steps from a higher one taken, highest first.
 fn box_peaks(power: &[f64], count: usize, separation: usize) -> Vec<usize> {
@@ -570,18 +564,8 @@ pub fn classify_series(
                 .filter_map(|k| box_detection(series, &bs, k, b).ok())
                 .max_by(|x, y| x.power.total_cmp(&y.power));
                 if let Some(det) = best
-                    && let Ok(mut dec) = settle_eclipse_period(series, &det, plan.grid.step_per_day, b)
+                    && let Ok(dec) = settle_eclipse_period(series, &det, plan.grid.step_per_day, b)
                 {
-                    if dec.alternate_events_unobserved && relative_depth(series, det.depth, b) <= PLANET_DEPTH_LIMIT {
-                        // the data fit P and 2P alike; a planet-depth event keeps the box
-                        // peak's shorter period, the likelier one for a transit
-                        dec.detection = det;
-                        dec.doubled = false;
-                        dec.note = format!(
-                            "period kept at the box peak {:.7} d: only alternate events have points, so twice that period fits as well; the shorter period is taken for an event of planetary depth (a transit's geometric chance falls with period as P^(-2/3))",
-                            det.period_d
-                        );
-                    }
                     let d = dec.detection;
                     let m = d.measurement;
                     if m.n_events >= 2 && d.depth > 0.0 {
@@ -675,7 +659,11 @@ pub fn classify_series(
             let d = box_det.as_ref().map_or(f64::NAN, |d| d.depth);
             let m = box_det.map(|d| d.measurement);
             let sec = m.map_or(f64::NAN, |m| m.secondary_search_snr());
-            let rel = relative_depth(series, d, &options.box_options);
+            let rel = if options.box_options.values_are_magnitudes {
+                d
+            } else {
+                d / series.weighted_mean().abs().max(1e-300)
+            };
             let doubled = box_note.contains("alternate minima differ");
             if doubled {
                 (VariabilityClass::EclipsingBinary, d, box_note.clone())
