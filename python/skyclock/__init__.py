@@ -411,6 +411,7 @@ def survey_batch(
     batch_points: int = 2_000_000,
     row_numbers=None,
     table_name: str = "input table",
+    false_alarm_level: float = 0.01,
     **keywords,
 ) -> Result:
     """Period search of every source of a survey table (pandas DataFrame or pyarrow
@@ -425,6 +426,15 @@ def survey_batch(
     ``rows_dropped_nan``, ``baseline_d``, ``time_reference_bjd_tdb`` and per peak k
     ``period_d_k``, ``period_err_d_k``, ``freq_per_day_k``, ``power_k``,
     ``false_alarm_probability_k``, ``amplitude_k``, ``alias_note_k``.
+
+    ``method="cascade"`` (the command line's default) describes every source by a
+    sinusoid, a harmonic series and a box search, takes the best by BIC and gives a class
+    at the field false-alarm level ``false_alarm_level`` (library
+    ``survey::cascade_table::CascadeTable``): the table then also holds ``class``,
+    ``variable``, ``field_false_alarm_probability``, ``model``, ``period_d``, the BIC of
+    each model, the box measurements and ``decision_note``, as ``survey-batch`` writes
+    them, and the result ``class_counts``. The cascade uses its own box durations (duty
+    cycles of the trial period); ``durations_d`` applies to ``method="box"``.
     """
     search, place = _split_search(dict(keywords))
     if not isinstance(table, pd.DataFrame):
@@ -455,6 +465,7 @@ def survey_batch(
             "band_column": band_column,
             "ra_column": ra_column,
             "dec_column": dec_column,
+            "false_alarm_level": float(false_alarm_level),
         }
     )
     data, columns = _native.survey_batch(
@@ -471,7 +482,14 @@ def survey_batch(
         column(dec_column, "declination"),
     )
     parsed = json.loads(data)
-    flat = json.dumps({**parsed["summary"], "times": parsed["times"], "first_skipped": parsed["first_skipped"]})
+    flat = json.dumps(
+        {
+            **parsed["summary"],
+            "times": parsed["times"],
+            "first_skipped": parsed["first_skipped"],
+            "class_counts": parsed["class_counts"],
+        }
+    )
     return Result("BatchSummary", flat, {"sources": frame(columns)})
 
 

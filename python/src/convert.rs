@@ -91,6 +91,8 @@ pub enum OutColumn {
     Floats(Vec<f64>),
     Integers(Vec<i64>),
     Booleans(Vec<bool>),
+    /// A boolean column with missing cells: True, False or None.
+    NullableBooleans(Vec<Option<bool>>),
     Texts(Vec<Option<String>>),
 }
 
@@ -105,6 +107,8 @@ pub fn columns_of(df: &DataFrame) -> PyResult<Vec<(String, OutColumn)>> {
         let dtype = s.dtype().clone();
         let column = if dtype.is_bool() && s.null_count() == 0 {
             OutColumn::Booleans(s.bool().map_err(error)?.iter().map(|x| x.unwrap_or(false)).collect())
+        } else if dtype.is_bool() {
+            OutColumn::NullableBooleans(s.bool().map_err(error)?.iter().collect())
         } else if dtype.is_integer() && s.null_count() == 0 {
             let v = s.cast(&DataType::Int64).map_err(error)?;
             OutColumn::Integers(v.i64().map_err(error)?.into_no_null_iter().collect())
@@ -128,6 +132,7 @@ pub fn columns_to_python<'py>(py: Python<'py>, columns: Vec<(String, OutColumn)>
             OutColumn::Floats(v) => d.set_item(name, v.into_pyarray(py))?,
             OutColumn::Integers(v) => d.set_item(name, v.into_pyarray(py))?,
             OutColumn::Booleans(v) => d.set_item(name, v.into_pyarray(py))?,
+            OutColumn::NullableBooleans(v) => d.set_item(name, v)?,
             OutColumn::Texts(v) => d.set_item(name, v)?,
         }
     }

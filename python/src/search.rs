@@ -173,9 +173,20 @@ impl SearchOptions {
                     values_are_magnitudes: magnitudes,
                 }
             }
+            "cascade" => {
+                if !(1..=5).contains(&self.harmonics) {
+                    return Err(error(format!(
+                        "harmonics: the survey cascade takes 1 to 5 harmonics, got {}",
+                        self.harmonics
+                    )));
+                }
+                let mut c = skyclock::survey::cascade::CascadeOptions::new(magnitudes);
+                c.harmonics = self.harmonics;
+                SearchMethod::Cascade(c)
+            }
             other => {
                 return Err(error(format!(
-                    "method '{other}' is not one of sinusoid, classical-sinusoid, harmonics, phase-dispersion, conditional-entropy, box"
+                    "method '{other}' is not one of sinusoid, classical-sinusoid, harmonics, phase-dispersion, conditional-entropy, box, cascade"
                 )));
             }
         };

@@ -1,7 +1,8 @@
 //! Binding of the survey batch (`survey::batch::run_batch_with_arrival`): a table of many
 //! light curves, handed over from pandas as text columns, searched source by source with
 //! the same plan as one light curve; one row per source back, with the columns the command
-//! line writes.
+//! line writes (with method `cascade`, the cascade's class and evidence columns from
+//! `survey::cascade_table`).
 
 use numpy::IntoPyArray;
 use pyo3::prelude::*;
@@ -10,6 +11,7 @@ use skyclock::survey::batch::{
     BatchColumns, BatchOptions, ObserverArrival, ReadProgress, RowCells, RowStream, SourceArrival, SourceReport,
     alias_text, run_batch_with_arrival,
 };
+use skyclock::survey::cascade_table::CascadeTable;
 use skyclock::table::TableError;
 use skyclock::time::LeapSecondTable;
 
@@ -70,6 +72,7 @@ struct BatchKeywords {
     band_column: Option<String>,
     ra_column: Option<String>,
     dec_column: Option<String>,
+    false_alarm_level: f64,
 }
 
 /// Per-source columns, as the command line writes them.
@@ -85,6 +88,8 @@ struct Rows {
     epoch: Vec<f64>,
     peaks: Vec<[Vec<f64>; 6]>,
     alias: Vec<Vec<String>>,
+    /// The cascade's description per source (method `cascade`).
+    found: Vec<Option<skyclock::survey::cascade::Classification>>,
 }
 
 impl Rows {
@@ -111,6 +116,7 @@ impl Rows {
                     c[5].push(p.map_or(f64::NAN, |p| p.peak.freq_per_day));
                     self.alias[j].push(alias_text(o, j));
                 }
+                self.found.push(o.classification.clone());
             }
             Err(m) => {
                 if first_problems.len() < 5 {
@@ -127,6 +133,7 @@ impl Rows {
                     }
                     self.alias[j].push(String::new());
                 }
+                self.found.push(None);
             }
         }
     }
@@ -169,7 +176,14 @@ pub fn survey_batch<'py>(
         return Err(crate::convert::error(format!("row numbers count from 1; got {bad}")));
     }
     let clock_spec = clock(&o.clock)?;
+    if !(o.false_alarm_level.is_finite() && o.false_alarm_level > 0.0 && o.false_alarm_level < 1.0) {
+        return Err(crate::convert::error(format!(
+            "false_alarm_level must lie between 0 and 1, got {}",
+            o.false_alarm_level
+        )));
+    }
     let mut plan = s.plan(0)?;
+    let cascade = matches!(plan.method, skyclock::survey::search::SearchMethod::Cascade(_));
     plan.refine_peaks = o.refine_peaks;
     let k = plan.peaks;
     let columns = BatchColumns {
@@ -258,6 +272,20 @@ pub fn survey_batch<'py>(
         d.set_item(format!("amplitude_{n}"), amp.into_pyarray(py))?;
         d.set_item(format!("alias_note_{n}"), alias)?;
     }
-    let doc = serde_json::json!({ "summary": summary, "times": times_note, "first_skipped": first_problems });
+    let mut class_counts = std::collections::BTreeMap::new();
+    if cascade {
+        let table = CascadeTable::new(&out.found, summary.sources, o.false_alarm_level);
+        class_counts = table.class_counts();
+        let df = table.table().map_err(crate::convert::error)?;
+        for (name, value) in crate::convert::table_to_python(py, &df)?.iter() {
+            d.set_item(name, value)?;
+        }
+    }
+    let doc = serde_json::json!({
+        "summary": summary,
+        "times": times_note,
+        "first_skipped": first_problems,
+        "class_counts": class_counts,
+    });
     Ok((to_json(&doc)?, d))
 }

@@ -13,7 +13,8 @@ use skyclock::survey::batch::{
     BatchColumns, BatchOptions, ObserverArrival, SourceArrival, SourceReport, alias_text, open_rows,
     run_batch_with_arrival,
 };
-use skyclock::survey::cascade::{CascadeModel, CascadeOptions};
+use skyclock::survey::cascade::CascadeOptions;
+use skyclock::survey::cascade_table::CascadeTable;
 use skyclock::survey::search::SearchMethod;
 use skyclock::table::{Provenance, Summary, write_table};
 use skyclock::time::LeapSecondTable;
@@ -167,7 +168,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let started = std::time::Instant::now();
     let mut rows = Rows { alias: vec![Vec::new(); k], ..Default::default() };
-    let mut cascade_rows = CascadeRows::default();
+    let mut found: Vec<Option<skyclock::survey::cascade::Classification>> = Vec::new();
     let mut peak_cols: Vec<[Vec<Option<f64>>; 6]> = (0..k).map(|_| Default::default()).collect();
     let leap = LeapSecondTable::builtin();
     let mut first_problems: Vec<String> = Vec::new();
@@ -194,7 +195,7 @@ pub fn run(a: Args) -> Result<()> {
                         peak_cols[j][5].push(p.map(|p| p.peak.freq_per_day));
                         rows.alias[j].push(alias_text(o, j));
                     }
-                    cascade_rows.push(o.classification.as_ref());
+                    found.push(o.classification.clone());
                 }
                 Err(m) => {
                     if first_problems.len() < 5 {
@@ -211,7 +212,7 @@ pub fn run(a: Args) -> Result<()> {
                         }
                         rows.alias[j].push(String::new());
                     }
-                    cascade_rows.push(None);
+                    found.push(None);
                 }
             }
         }
@@ -304,9 +305,9 @@ pub fn run(a: Args) -> Result<()> {
     }
     let mut class_counts = std::collections::BTreeMap::new();
     if cascade {
-        let (extra, counts) = cascade_rows.columns(summary.sources, a.false_alarm_level);
-        cols.extend(extra);
-        class_counts = counts;
+        let table = CascadeTable::new(&found, summary.sources, a.false_alarm_level);
+        cols.extend(table.columns());
+        class_counts = table.class_counts();
     }
     let mut df = DataFrame::new_infer_height(cols)?;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
@@ -357,117 +358,4 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     Ok(())
-}
-
-/// The cascade's columns, gathered per source in file order.
-#[derive(Default)]
-struct CascadeRows {
-    found: Vec<Option<skyclock::survey::cascade::Classification>>,
-}
-
-impl CascadeRows {
-    fn push(&mut self, c: Option<&skyclock::survey::cascade::Classification>) {
-        // the spectrum was dropped by the batch; keep the description only
-        self.found.push(c.cloned());
-    }
-
-    /// The columns, with the class decided in a field of `n_sources` at `level`, and the
-    /// count per class.
-    fn columns(self, n_sources: usize, level: f64) -> (Vec<Column>, std::collections::BTreeMap<String, usize>) {
-        let fin = |v: f64| v.is_finite().then_some(v);
-        let mut counts = std::collections::BTreeMap::new();
-        let mut class = Vec::new();
-        let mut variable = Vec::new();
-        let mut field_fap = Vec::new();
-        let mut source_fap = Vec::new();
-        let mut model = Vec::new();
-        let mut period = Vec::new();
-        let mut period_err = Vec::new();
-        let mut inflation = Vec::new();
-        let mut amplitude = Vec::new();
-        let mut bic: [Vec<Option<f64>>; 4] = Default::default();
-        let mut boxes: [Vec<Option<f64>>; 9] = Default::default();
-        let mut minima = Vec::new();
-        let mut note = Vec::new();
-        for c in &self.found {
-            let Some(c) = c else {
-                class.push(None);
-                variable.push(None);
-                field_fap.push(None);
-                source_fap.push(None);
-                model.push(None);
-                period.push(None);
-                period_err.push(None);
-                inflation.push(None);
-                amplitude.push(None);
-                bic.iter_mut().for_each(|v| v.push(None));
-                boxes.iter_mut().for_each(|v| v.push(None));
-                minima.push(None);
-                note.push(None);
-                continue;
-            };
-            let k = c.class_in_field(n_sources, level);
-            *counts.entry(k.label().to_string()).or_insert(0) += 1;
-            class.push(Some(k.label().to_string()));
-            variable.push(Some(c.is_variable(n_sources, level)));
-            field_fap.push(fin(c.field_false_alarm(n_sources)));
-            source_fap.push(fin(c.false_alarm));
-            model.push(Some(c.model.label().to_string()));
-            period.push(fin(c.period_d));
-            period_err.push(fin(c.period_err_d));
-            inflation.push(fin(c.err_scale));
-            amplitude.push(fin(c.amplitude));
-            bic[0].push(fin(c.bic_constant));
-            for (j, m) in [CascadeModel::Sinusoid, CascadeModel::Harmonics, CascadeModel::Box].into_iter().enumerate() {
-                bic[j + 1].push(c.stage(m).and_then(|s| fin(s.bic)));
-            }
-            let b = c.box_detection;
-            let m = b.map(|b| b.measurement);
-            let vals = [
-                b.map(|b| b.depth),
-                b.map(|b| b.depth_err),
-                b.map(|b| b.duration_d),
-                b.map(|b| b.epoch_d),
-                b.map(|b| b.snr),
-                m.map(|m| m.odd_even_sigma),
-                m.map(|m| m.secondary_depth),
-                m.map(|m| m.secondary_search_phase),
-                m.map(|m| m.secondary_search_snr()),
-            ];
-            for (v, x) in boxes.iter_mut().zip(vals) {
-                v.push(x.and_then(fin));
-            }
-            minima.push((c.minima_per_cycle > 0).then_some(c.minima_per_cycle as u64));
-            note.push(Some(c.note.clone()));
-        }
-        let [bc, bs, bh, bb] = bic;
-        let [depth, depth_err, duration, mid, snr, odd_even, sec_half, sec_phase, sec_snr] = boxes;
-        let cols = vec![
-            Column::new("class".into(), class),
-            Column::new("variable".into(), variable),
-            Column::new("field_false_alarm_probability".into(), field_fap),
-            Column::new("source_false_alarm_probability".into(), source_fap),
-            Column::new("model".into(), model),
-            Column::new("period_d".into(), period),
-            Column::new("period_err_d".into(), period_err),
-            Column::new("period_err_inflation".into(), inflation),
-            Column::new("amplitude".into(), amplitude),
-            Column::new("bic_constant".into(), bc),
-            Column::new("bic_sinusoid".into(), bs),
-            Column::new("bic_harmonic_series".into(), bh),
-            Column::new("bic_box".into(), bb),
-            Column::new("box_depth".into(), depth),
-            Column::new("box_depth_err".into(), depth_err),
-            Column::new("box_duration_d".into(), duration),
-            Column::new("box_mid_event_d".into(), mid),
-            Column::new("box_signal_to_noise".into(), snr),
-            Column::new("box_odd_even_sigma".into(), odd_even),
-            Column::new("box_depth_phase_half".into(), sec_half),
-            Column::new("box_secondary_phase".into(), sec_phase),
-            Column::new("box_secondary_signal_to_noise".into(), sec_snr),
-            Column::new("harmonic_minima_per_cycle".into(), minima),
-            Column::new("decision_note".into(), note),
-        ];
-        (cols, counts)
-    }
 }

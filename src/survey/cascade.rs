@@ -59,14 +59,32 @@ pub struct CascadeOptions {
     /// Highest frequency of the box stage, c/d (default 5: periods ≥ 0.2 d; shorter
     /// periods are left to the sinusoid and harmonic stages).
     pub box_max_freq_per_day: f64,
-    /// Oversampling of the box grid (edge drift over the baseline ≤ shortest duration /
-    /// this; default 2).
+    /// Oversampling of the box stage's screening grid (edge drift over the baseline between
+    /// neighbouring trial frequencies ≤ shortest duration / this; default 1: the candidates
+    /// are then refined on fine local grids, [`crate::periodogram::bls::box_detection`]).
     pub box_oversampling: f64,
+    /// Phase bins per shortest duration of the box stage's screening pass over the whole
+    /// grid (default [`CASCADE_SCREEN_BINS_PER_DURATION`]); the strongest
+    /// [`CascadeOptions::box_candidates`] peaks are then measured at the full edge
+    /// resolution ([`crate::periodogram::bls::box_detection`]). Pass
+    /// `box_options.bins_per_duration` for a single full-resolution pass.
+    pub box_screen_bins_per_duration: usize,
+    /// Distinct box peaks of the screening pass measured at full resolution (1..=20,
+    /// default 5); the one with the highest Δχ² there is taken.
+    pub box_candidates: usize,
 }
+
+/// Box-edge resolution of the cascade's screening pass: bins of a third of the shortest
+/// duration (edges within a sixth of a duration of an event's, S/N loss ≤ 1 − √(5/6) ≈
+/// 9 % before the candidates are measured at a tenth). The scan over the grid costs about a
+/// third of a full-resolution pass on sparse light curves; chosen here, measured in
+/// docs/search-stage.md.
+pub const CASCADE_SCREEN_BINS_PER_DURATION: usize = 3;
 
 impl CascadeOptions {
     /// 3 harmonics, 3 candidates, [`CASCADE_DUTY_CYCLES`], box up to 5 c/d, box
-    /// oversampling 2.
+    /// oversampling 1, screening at [`CASCADE_SCREEN_BINS_PER_DURATION`] bins per shortest
+    /// duration, 5 box candidates.
     pub fn new(values_are_magnitudes: bool) -> Self {
         let (shortest, longest, count) = CASCADE_DUTY_CYCLES;
         CascadeOptions {
@@ -77,7 +95,9 @@ impl CascadeOptions {
                 ..BoxOptions::scaled(values_are_magnitudes)
             },
             box_max_freq_per_day: 5.0,
-            box_oversampling: 2.0,
+            box_oversampling: 1.0,
+            box_screen_bins_per_duration: CASCADE_SCREEN_BINS_PER_DURATION,
+            box_candidates: 5,
         }
     }
 }
@@ -296,6 +316,44 @@ fn harmonic_shape(series: &Series, freq: f64, harmonics: usize, dip_sign: f64) -
     Some((starts.max(1), dim_fraction, 0.5 * range))
 }
 
+/// Indices of the `count` highest positive values of a box spectrum, each more than
+/// `separation` grid steps from a higher one taken, highest first.
+fn box_peaks(power: &[f64], count: usize, separation: usize) -> Vec<usize> {
+    let mut order: Vec<usize> = (0..power.len()).filter(|&i| power[i] > 0.0).collect();
+    // the separation test below needs only the strongest few hundred
+    let keep = (count * separation.max(1) * 4).min(order.len());
+    if keep > 0 && keep < order.len() {
+        order.select_nth_unstable_by(keep - 1, |&a, &b| power[b].total_cmp(&power[a]));
+        order.truncate(keep);
+    }
+    order.sort_unstable_by(|&a, &b| power[b].total_cmp(&power[a]).then(a.cmp(&b)));
+    let mut out: Vec<usize> = Vec::with_capacity(count);
+    for k in order {
+        if out.len() == count {
+            break;
+        }
+        if out.iter().all(|&j| j.abs_diff(k) > separation) {
+            out.push(k);
+        }
+    }
+    out
+}
+
+/// Grid steps between distinct box peaks: a box peak stays high while the edge drift over
+/// the baseline stays under the event's duration, about (duration / shortest duration) ×
+/// oversampling steps either side; the longest trial duration sets the separation, so one
+/// lobe does not take two candidate places.
+fn box_peak_separation(durations: &BoxDurations, oversampling: f64) -> usize {
+    let ratio = match durations {
+        BoxDurations::DutyCycles { shortest, longest, .. } => longest / shortest,
+        BoxDurations::Fixed(d) => {
+            let (lo, hi) = d.iter().fold((f64::INFINITY, 0.0f64), |(a, b), &v| (a.min(v), b.max(v)));
+            hi / lo
+        }
+    };
+    ((ratio * oversampling).ceil() as usize).clamp(1, 10_000)
+}
+
 /// Runs the cascade on `series` over `grid` (the sinusoid grid; the box stage plans its own
 /// from the baseline) with the Lomb–Scargle kernel `algorithm` and grid memory limit
 /// `memory_limit_bytes`. Errors: too few points or bad options; a stage that cannot run on
@@ -313,6 +371,20 @@ pub fn classify_series(
             name: "cascade harmonics",
             value: options.harmonics as f64,
             expected: "1 to 5 (the half-frequency model uses twice as many, at most 10)",
+        });
+    }
+    if !(1..=20).contains(&options.box_candidates) {
+        return Err(SearchError::InvalidParameter {
+            name: "cascade box candidates",
+            value: options.box_candidates as f64,
+            expected: "1 to 20",
+        });
+    }
+    if !(1..=100).contains(&options.box_screen_bins_per_duration) {
+        return Err(SearchError::InvalidParameter {
+            name: "cascade box screening bins per duration",
+            value: options.box_screen_bins_per_duration as f64,
+            expected: "1 to 100",
         });
     }
     if !(1..=10).contains(&options.candidates) {
@@ -479,10 +551,19 @@ pub fn classify_series(
         let b = &options.box_options;
         match plan_box_grid_for(t_base, fmin, fmax_box, &b.durations, options.box_oversampling, memory_limit_bytes) {
             Ok(plan) => {
-                let bs = box_search(series, &plan.grid, b)?;
-                let k = (0..bs.power.len()).max_by(|&i, &j| bs.power[i].total_cmp(&bs.power[j])).unwrap_or(0);
-                if bs.power[k] > 0.0
-                    && let Ok(det) = box_detection(series, &bs, k, b)
+                let screen = BoxOptions { bins_per_duration: options.box_screen_bins_per_duration, ..b.clone() };
+                let bs = box_search(series, &plan.grid, &screen)?;
+                // the strongest distinct peaks of the screening pass, each measured at the
+                // full edge resolution; the highest Δχ² there wins
+                let best = box_peaks(
+                    &bs.power,
+                    options.box_candidates,
+                    box_peak_separation(&b.durations, options.box_oversampling),
+                )
+                .into_iter()
+                .filter_map(|k| box_detection(series, &bs, k, b).ok())
+                .max_by(|x, y| x.power.total_cmp(&y.power));
+                if let Some(det) = best
                     && let Ok(dec) = settle_eclipse_period(series, &det, plan.grid.step_per_day, b)
                 {
                     let d = dec.detection;
