@@ -19,6 +19,7 @@ const RANKS: &[(&str, u32)] = &[
     ("periodogram", 5),
     ("predict", 5),
     ("pulsar", 5),
+    ("transit", 5),
     ("fold", 6),
     ("minima", 6),
     ("frequencies", 7),
