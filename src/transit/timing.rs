@@ -537,16 +537,20 @@ struct SingleOutcome {
     converged: bool,
 }
 
-fn fit_single(
-    window: &Window,
-    curve: &TransitCurve,
-    sigma: &[f64],
-    shape: &TransitShape,
+/// What every transit's fit shares: the data, the fixed shape, the exposure, the step of the
+/// numerical time derivative.
+struct SingleContext<'a> {
+    curve: &'a TransitCurve<'a>,
+    sigma: &'a [f64],
+    shape: &'a TransitShape,
     period_d: f64,
-    offsets_d: &[f64],
-    start_shift_d: f64,
+    offsets_d: &'a [f64],
     step_d: f64,
-) -> Option<SingleOutcome> {
+}
+
+fn fit_single(window: &Window, cx: &SingleContext, start_shift_d: f64) -> Option<SingleOutcome> {
+    let (curve, sigma, shape, period_d, offsets_d, step_d) =
+        (cx.curve, cx.sigma, cx.shape, cx.period_d, cx.offsets_d, cx.step_d);
     let tau: Vec<f64> = window.indices.iter().map(|&i| curve.time_d[i] - window.predicted_d).collect();
     let flux: Vec<f64> = window.indices.iter().map(|&i| curve.flux[i]).collect();
     let weight: Vec<f64> = window.indices.iter().map(|&i| 1.0 / (sigma[i] * sigma[i])).collect();
@@ -795,7 +799,9 @@ pub fn time_transits(request: &TransitTimingRequest) -> Result<TransitTimingRepo
             .enumerate()
             .map(|(k, w)| {
                 let start = if pass == 0 { common_shift } else { shifts[k] };
-                fit_single(w, curve, &sigma, &shape, period_d, &offsets, start, step)
+                let cx =
+                    SingleContext { curve, sigma: &sigma, shape: &shape, period_d, offsets_d: &offsets, step_d: step };
+                fit_single(w, &cx, start)
             })
             .collect();
         for (k, o) in outcomes.iter().enumerate() {
