@@ -71,7 +71,8 @@ impl LsqModel for Plain<'_> {
     fn jacobian(&self, q: &[f64], jac: &mut [f64]) {
         let p = self.n_params;
         for j in 0..p {
-            let h = 1e-6 * q[j].abs().max(1e-2);
+            // Steps of 1e-4 (days for the time shift): the ring sum is not smooth on finer scales.
+            let h = 1e-4 * q[j].abs().max(1.0);
             let (mut up, mut down) = (q.to_vec(), q.to_vec());
             up[j] += h;
             down[j] -= h;
