@@ -6,7 +6,9 @@
 //! ([`timing`]) fits the shape shared by all transits of a light curve and then each
 //! transit's mid-time, with uncertainties from the residual noise inflated for correlated
 //! noise ([`red_noise`]: the β of Winn et al. 2008). Its table is the input of the O–C stage
-//! ([`crate::oc`]). The module is described in docs/transits.md.
+//! ([`crate::oc`]); [`ttv`] fits a sinusoidal timing variation to that O–C, with the
+//! periodogram of the O–C and its false-alarm probability. The module is described in
+//! docs/transits.md.
 
 pub mod elliptic;
 pub mod exposure;
@@ -14,6 +16,7 @@ pub mod model;
 pub mod orbit;
 pub mod red_noise;
 pub mod timing;
+pub mod ttv;
 
 pub use exposure::Exposure;
 pub use model::{OccultedIntegrals, QuadraticLimbDarkening, occulted_integrals, small_planet_flux, transit_flux};
@@ -22,6 +25,7 @@ pub use timing::{
     FittedTransitShape, FittedValue, SkippedTransitRow, TransitCurve, TransitShape, TransitTimeRow,
     TransitTimingOptions, TransitTimingReport, TransitTimingRequest, time_transits,
 };
+pub use ttv::{OcPeriodogram, SinusoidalTtvFit, TtvSearchOptions, fit_sinusoidal_ttv, oc_periodogram};
 
 /// Why transits could not be timed.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]

@@ -352,6 +352,28 @@ impl TransitTimingReport {
         )
     }
 
+    /// The timed transits as O–C input ([`crate::oc::Timing`], primary events, `row` the
+    /// 1-based row of the timing table), the same values the O–C stage reads from
+    /// [`TransitTimingReport::timed_table`].
+    pub fn timings(&self) -> Result<Vec<crate::oc::Timing>, TransitError> {
+        let leap = crate::time::LeapSecondTable::builtin();
+        self.transits
+            .iter()
+            .enumerate()
+            .map(|(k, r)| {
+                let bjd_tdb = crate::time::parse_time(&r.time, TimeFormat::Jd, crate::time::TimeScale::Tdb, &leap)
+                    .map_err(|e| TransitError::BadOption(format!("mid-time '{}' of cycle {}: {e}", r.time, r.cycle)))?;
+                Ok(crate::oc::Timing {
+                    bjd_tdb,
+                    error_d: r.error_d,
+                    kind: crate::oc::EventKind::Primary,
+                    source: None,
+                    row: k + 1,
+                })
+            })
+            .collect()
+    }
+
     /// The skipped transits: cycle, predicted_bjd_tdb, points, points_in_transit, first_row,
     /// last_row, reason_code, reason.
     pub fn skipped_table(&self) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
