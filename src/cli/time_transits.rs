@@ -18,10 +18,10 @@ use skyclock::transit::{
 };
 
 const EXAMPLE: &str = "Example (invented star):
-  skyclock time-transits --input veyra_flux.csv --time-column bjd --value-column flux \\
+  skyclock time-transits --input maren_vale_flux.csv --time-column bjd --value-column flux \\
       --error-column flux_err --epoch-bjd-tdb 2460301.41870 --period-d 3.2171854 \\
       --radius-ratio 0.11 --semi-major-axis-stellar-radii 9.5 --impact-parameter 0.35 \\
-      --limb-darkening 0.42,0.22 --output veyra_transits.csv --summary veyra_transits.json
+      --limb-darkening 0.42,0.22 --output maren_vale_transits.csv --summary maren_vale_transits.json
 
   The shape (radius ratio, a/R*, impact parameter, limb darkening) is fitted once to all
   transits folded at the ephemeris, then each transit's mid-time with its own linear

@@ -80,6 +80,7 @@ fn locate_datasets(output: &Path) -> Result<PathBuf> {
             scenario::PHOTOMETRY_FILE,
             super::pulsar_scenario::PULSAR_TOAS_FILE,
             super::pulsar_scenario::PULSAR_EVENTS_FILE,
+            super::planet_scenario::PLANET_PHOTOMETRY_FILE,
         ]
         .iter()
         .all(|f| p.join(f).exists());

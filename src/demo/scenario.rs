@@ -176,6 +176,7 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
     std::fs::write(folder.join(DESCRIPTION_FILE), DESCRIPTION_TOML)?;
     write_photometry(folder, &corrector, &sites[0], &mut rng)?;
     super::pulsar_scenario::write_pulsar_datasets(folder, SEED)?;
+    super::planet_scenario::write_planet_datasets(folder, SEED)?;
     Ok(())
 }
 
