@@ -1,5 +1,5 @@
 //! The invented transiting planet of the demo, Maren Vale b: a transit campaign from the
-//! invented Kestrel Fell Observatory (times already reduced to BJD_TDB by the observers),
+//! invented Larkspur Knoll Observatory (times already reduced to BJD_TDB by the observers),
 //! 28 transits over ~230 days with a sinusoidal transit timing variation, made from one
 //! true shape ([`true_shape`]) with `transit::TransitShape::flux`. The demo times every
 //! transit (`time-transits`), draws the O–C (`timing-residuals`) and fits the TTV
