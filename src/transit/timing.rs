@@ -674,6 +674,12 @@ pub fn time_transits(request: &TransitTimingRequest) -> Result<TransitTimingRepo
             exposure.duration_d, exposure.samples
         )));
     }
+    if exposure.samples > 1000 {
+        return Err(TransitError::BadOption(format!(
+            "{} samples per exposure: at most 1000 (a few tens reach 1e-6 in flux)",
+            exposure.samples
+        )));
+    }
     let offsets = exposure.offsets_d();
     let start_orbit = request.start.orbit(period_d);
     let t14 = start_orbit.total_duration_d(request.start.radius_ratio);
@@ -691,6 +697,12 @@ pub fn time_transits(request: &TransitTimingRequest) -> Result<TransitTimingRepo
     let epoch_d = request.ephemeris.epoch.seconds_since(&curve.reference) / SECONDS_PER_DAY;
     let first = ((curve.time_d[0] - epoch_d - half_width) / period_d).ceil() as i64;
     let last = ((curve.time_d[n - 1] - epoch_d + half_width) / period_d).floor() as i64;
+    if !(last.saturating_sub(first) < 1_000_000) {
+        return Err(TransitError::BadOption(format!(
+            "a period of {period_d} d puts {} transits in the light curve's span: check --period-d",
+            last.saturating_sub(first).saturating_add(1)
+        )));
+    }
     let mut windows = Vec::new();
     let mut skipped = Vec::new();
     let predicted_instant = |cycle: i64| request.ephemeris.epoch.add_seconds(cycle as f64 * period_d * SECONDS_PER_DAY);
