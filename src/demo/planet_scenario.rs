@@ -61,7 +61,7 @@ pub fn true_mid_d(e: i64) -> f64 {
 /// at random), Gaussian noise of 1.2e-3, a nightly baseline level and drift; cycle 41 lost
 /// its second half to cloud.
 pub fn write_planet_datasets(folder: &Path, seed: u64) -> Result<()> {
-    let mut rng = SeededRandom::new(seed ^ 0x7472_616e_7369_74);
+    let mut rng = SeededRandom::new(seed ^ 0x0074_7261_6e73_6974);
     let shape = true_shape();
     let mut csv = String::from("bjd_tdb,flux,flux_err\n");
     let mut chosen = 0;
