@@ -80,3 +80,4 @@ pub mod predict;
 pub mod pulsar;
 pub mod report;
 pub mod survey;
+pub mod transit;

@@ -40,6 +40,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "pulsar spin frequency",
         "next minimum",
         "first minimum of the season",
+        "planet TTV semi-amplitude",
     ] {
         assert!(summary.contains(needed), "summary lacks {needed}");
     }
@@ -69,7 +70,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "summary.json holds the printed comparisons"
     );
     let html = std::fs::read_to_string(out.join("report.html")).expect("the report");
-    assert!(html.contains("data-figures-expected=\"6\""), "six figures expected in the report");
+    assert!(html.contains("data-figures-expected=\"7\""), "seven figures expected in the report");
     assert!(!html.contains("http://") && !html.contains("https://"));
     // The demo's own report in headless Chromium, where installed (.ci/run installs it):
     // every figure renders and the page logs nothing to the console.
@@ -97,7 +98,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
             let dom = String::from_utf8_lossy(&dump.stdout);
             let log = String::from_utf8_lossy(&dump.stderr);
             assert!(
-                dom.contains("data-figures-rendered=\"6\""),
+                dom.contains("data-figures-rendered=\"7\""),
                 "not every figure rendered: {}",
                 dom.lines().find(|l| l.contains("data-figures")).unwrap_or("")
             );

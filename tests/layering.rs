@@ -21,6 +21,7 @@ const RANKS: &[(&str, u32)] = &[
     ("pulsar", 5),
     ("fold", 6),
     ("minima", 6),
+    ("transit", 6),
     ("frequencies", 7),
     ("survey", 8),
     ("plot", 9),

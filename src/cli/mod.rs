@@ -33,6 +33,7 @@ pub mod search_pulsations;
 pub mod shell_completions;
 pub mod survey_batch;
 pub mod time_events;
+pub mod time_transits;
 pub mod timing_residuals;
 pub mod timing_table;
 
@@ -81,6 +82,8 @@ pub enum Command {
     PredictEvents(predict_events::Args),
     /// Times of minimum (or maximum) of every event in a light curve around a linear ephemeris.
     TimeEvents(time_events::Args),
+    /// Mid-transit times from a transit model shared by all transits (input of timing-residuals).
+    TimeTransits(time_transits::Args),
     /// Run the whole chain on the invented demonstration scenario in datasets/.
     Demo(demo::Args),
     /// Print a completion script for bash, zsh or fish, generated from these commands.
@@ -99,6 +102,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::TimingResiduals(a) => timing_residuals::run(a),
         Command::PredictEvents(a) => predict_events::run(a),
         Command::TimeEvents(a) => time_events::run(a),
+        Command::TimeTransits(a) => time_transits::run(a),
         Command::Demo(a) => demo::run(a),
         Command::ShellCompletions(a) => shell_completions::run(a),
         Command::ManualPage(a) => manual_page::run(a),

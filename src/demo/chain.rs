@@ -812,6 +812,9 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
             .with_paragraph(&format!("Clocks of the historical timings as reported — {}. Each was carried to BJD_TDB with the embedded DE440 ephemeris; legacy heliocentric times had the heliocentric light time removed first.", per_clock.join(", ")))
             .with_table(terms);
     }
+    let (planet_comparisons, planet_section) = super::planet_scenario::run_planet_stage(data, out)?;
+    comparisons.extend(planet_comparisons);
+    report_sections.push(planet_section);
     report_sections.insert(0, corrections_section);
 
     // Summary and report.

@@ -17,6 +17,7 @@
 )]
 
 pub mod chain;
+pub mod planet_scenario;
 pub mod pulsar_scenario;
 pub mod random;
 pub mod run;

@@ -75,7 +75,7 @@ pub fn fit_line(cycles: &[f64], seconds: &[f64], errors_s: &[f64]) -> Option<Lin
 /// observed times in them were made by `datasets/generator/observe.py` (astropy + DE440),
 /// not by skyclock, so the demo can show a barycentring fault; they are never regenerated
 /// by the binary.
-const EMBEDDED_DATASETS: [(&str, &str); 7] = [
+const EMBEDDED_DATASETS: [(&str, &str); 8] = [
     (MINIMA_FILE, include_str!("../../datasets/kx_inventa_minima.csv")),
     (DESCRIPTION_FILE, include_str!("../../datasets/kx_inventa_sites.toml")),
     (scenario::PHOTOMETRY_FILE, include_str!("../../datasets/kx_inventa_photometry.csv")),
@@ -83,6 +83,10 @@ const EMBEDDED_DATASETS: [(&str, &str); 7] = [
     (super::pulsar_scenario::PULSAR_TOAS_FILE, include_str!("../../datasets/veyra_beacon_radio_toas.csv")),
     (super::pulsar_scenario::PULSAR_EVENTS_FILE, include_str!("../../datasets/veyra_beacon_xray_events.csv")),
     (super::pulsar_scenario::PULSAR_START_MODEL_FILE, include_str!("../../datasets/veyra_beacon_start_model.toml")),
+    (
+        super::planet_scenario::PLANET_PHOTOMETRY_FILE,
+        include_str!("../../datasets/maren_vale_transits_photometry.csv"),
+    ),
 ];
 
 fn locate_datasets(output: &Path) -> Result<PathBuf> {

@@ -173,6 +173,7 @@ pub fn write_datasets(folder: &Path) -> Result<()> {
     std::fs::write(folder.join(DESCRIPTION_FILE), DESCRIPTION_TOML)?;
     write_photometry_truth(&generator, &corrector, &sites[0], &mut rng)?;
     write_pulsar_datasets(folder, SEED)?;
+    super::planet_scenario::write_planet_datasets(folder, SEED)?;
     Ok(())
 }
 

@@ -56,12 +56,26 @@ pub fn baluev_log10_fap(power: f64, series: &Series, max_freq_per_day: f64) -> R
     let sw: f64 = series.weight.iter().sum();
     let tm: f64 = series.time_d.iter().zip(&series.weight).map(|(t, w)| t * w).sum::<f64>() / sw;
     let var_t: f64 = series.time_d.iter().zip(&series.weight).map(|(t, w)| w * (t - tm) * (t - tm)).sum::<f64>() / sw;
+    Ok(baluev_log10_fap_nested(power, n, 1, var_t, max_freq_per_day))
+}
+
+/// [`baluev_log10_fap`] for a sinusoid added to any linear base model of `base_parameters`
+/// parameters (1: the floating mean of the GLS; 2: a line, as for the O–C of a linear
+/// ephemeris), with power z = 1 − χ²(base + sinusoid)/χ²(base), `n` points of weighted time
+/// variance `var_t` (time units²; frequencies in the inverse unit). Baluev's N_H = n − d_H and
+/// N_K = N_H − 2. Source: Baluev (2008), MNRAS 385, 1279, §§3–4. Needs n ≥ d_H + 4 and
+/// 0 ≤ z ≤ 1 (NaN otherwise).
+pub fn baluev_log10_fap_nested(power: f64, n: usize, base_parameters: usize, var_t: f64, max_freq: f64) -> f64 {
+    if n < base_parameters + 4 || !(power.is_finite() && (0.0..=1.0).contains(&power)) || !(var_t > 0.0) {
+        return f64::NAN;
+    }
+    let max_freq_per_day = max_freq;
     let w_eff = max_freq_per_day * (4.0 * std::f64::consts::PI * var_t).sqrt();
-    let nh = (n - 1) as f64;
-    let nk = (n - 3) as f64;
+    let nh = (n - base_parameters) as f64;
+    let nk = nh - 2.0;
     let z = power;
     if z == 0.0 {
-        return Ok(0.0);
+        return 0.0;
     }
     // ln(1 − z); −∞ at z = 1 (a perfect fit: probability 0, log10 −∞).
     let ln_one_minus_z = (-z).ln_1p();
@@ -76,7 +90,7 @@ pub fn baluev_log10_fap(power: f64, series: &Series, max_freq_per_day: f64) -> R
         let (hi, lo) = if ln_single >= ln_tau { (ln_single, ln_tau) } else { (ln_tau, ln_single) };
         if hi == f64::NEG_INFINITY { f64::NEG_INFINITY } else { hi + (lo - hi).exp().ln_1p() }
     };
-    Ok((ln_fap / std::f64::consts::LN_10).min(0.0))
+    (ln_fap / std::f64::consts::LN_10).min(0.0)
 }
 
 /// A probability given as its log₁₀ (e.g. from [`baluev_log10_fap`]) as text: "0.123",
