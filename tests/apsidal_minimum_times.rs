@@ -52,11 +52,7 @@ fn brute_force_offset(kind: EventKind, e: f64, w: f64, i: f64) -> f64 {
     for _ in 0..200 {
         let c = b - g * (b - a);
         let d = a + g * (b - a);
-        if separation2(c, e, w, i) < separation2(d, e, w, i) {
-            b = d
-        } else {
-            a = c
-        }
+        if separation2(c, e, w, i) < separation2(d, e, w, i) { b = d } else { a = c }
     }
     let m = 0.5 * (a + b);
     (m - m0 + PI).rem_euclid(TAU) - PI

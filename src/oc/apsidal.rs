@@ -249,6 +249,11 @@ impl ApsidalFit {
         let g = gradient(&self.params, |p| evaluate(self.layout, p, cycle, kind, t_d));
         quadratic_form(&g, &self.covariance)
     }
+    /// The linear part ΔT₀ + ΔP_s·E of the model O − C at cycle `cycle`, days (what an O–C
+    /// diagram of apsidal motion removes to show the two curves about each other).
+    pub fn linear_part_d(&self, cycle: f64) -> f64 {
+        self.params[0] + self.params[1] * cycle
+    }
     /// The light-time part of the model at `t_d`, days (0 without a companion).
     pub fn light_time_d(&self, t_d: f64) -> f64 {
         if !self.layout.light_time {
@@ -297,7 +302,7 @@ fn quadratic_form(g: &[f64], cov: &[f64]) -> f64 {
 /// Derived quantities: (name, value, wrap period or 0). sidereal_period_d = P_ref + ΔP_s;
 /// anomalistic_period_d = P_s/(1 − ω̇/2π); apsidal_rate_deg_per_cycle = ω̇;
 /// apsidal_rate_deg_per_yr = ω̇·365.25/P_s; apsidal_period_d = 2π·P_s/ω̇ (and _yr);
-/// eccentricity; periastron_argument_at_epoch_deg; inclination_deg; and with a companion
+/// eccentricity; periastron_argument_at_epoch_deg; inclination_deg (when fitted); and with a companion
 /// the light-time quantities of the O–C stage (semi-amplitude s, a₁₂ sin i au, P₃, e₃, ω₃,
 /// periastron time, mass function).
 fn derived_of(layout: Layout, p: &[f64]) -> Vec<(&'static str, f64, f64)> {
@@ -313,8 +318,10 @@ fn derived_of(layout: Layout, p: &[f64]) -> Vec<(&'static str, f64, f64)> {
         ("apsidal_period_yr", TAU * ps / rate / DAYS_PER_JULIAN_YEAR, 0.0),
         ("eccentricity", e, 0.0),
         ("periastron_argument_at_epoch_deg", w.to_degrees().rem_euclid(360.0), 360.0),
-        ("inclination_deg", layout.inclination(p).to_degrees(), 0.0),
     ];
+    if layout.fit_inclination {
+        v.push(("inclination_deg", layout.inclination(p).to_degrees(), 0.0));
+    }
     if layout.light_time {
         let c = layout.companion_index();
         let mut q = vec![p[0], p[1]];
@@ -406,13 +413,18 @@ fn first_order_start(series: &OcSeries, weights: &[f64], rate: f64, amplitude_pe
     Some((chi2, [x[0], x[1], e.min(0.9), omega, rate]))
 }
 
-fn apsidal_grid(series: &OcSeries, weights: &[f64], layout: Layout, range_d: (f64, f64), peaks: usize) -> Vec<[f64; 5]> {
+fn apsidal_grid(
+    series: &OcSeries,
+    weights: &[f64],
+    layout: Layout,
+    range_d: (f64, f64),
+    peaks: usize,
+) -> Vec<[f64; 5]> {
     let ps = layout.reference_period_d;
     let s2 = layout.fixed_inclination_rad.sin().powi(2).max(1e-6);
     let amplitude_per_e = ps / TAU * (1.0 + 1.0 / s2);
-    let baseline_cycles = (series.cycle.last().copied().unwrap_or(0.0) - series.cycle.first().copied().unwrap_or(0.0))
-        .abs()
-        .max(1.0);
+    let baseline_cycles =
+        (series.cycle.last().copied().unwrap_or(0.0) - series.cycle.first().copied().unwrap_or(0.0)).abs().max(1.0);
     // Rates in rad/cycle from the longest to the shortest apsidal period.
     let f_lo = ps / range_d.1;
     let f_hi = ps / range_d.0;
@@ -438,7 +450,8 @@ fn apsidal_grid(series: &OcSeries, weights: &[f64], layout: Layout, range_d: (f6
 /// Least-squares sinusoid periodogram of residuals r(t) = a + b t + A sin(2πt/P + φ); the
 /// deepest `peaks` minima as (P, A, φ).
 fn residual_sinusoid_peaks(t: &[f64], r: &[f64], w: &[f64], range_d: (f64, f64), peaks: usize) -> Vec<(f64, f64, f64)> {
-    let baseline = t.iter().copied().fold(f64::NEG_INFINITY, f64::max) - t.iter().copied().fold(f64::INFINITY, f64::min);
+    let baseline =
+        t.iter().copied().fold(f64::NEG_INFINITY, f64::max) - t.iter().copied().fold(f64::INFINITY, f64::min);
     let (f_lo, f_hi) = (1.0 / range_d.1, 1.0 / range_d.0);
     let df = 1.0 / (5.0 * baseline.max(1.0));
     let nf = (((f_hi - f_lo) / df).ceil() as usize).clamp(2, 200_000);
@@ -858,10 +871,7 @@ impl ApsidalAnalysis {
                 "model_sigma_apsidal_d".into(),
                 (0..n).map(|i| f.model_sigma_d(s.cycle[i], s.kind[i], s.time_d[i])).collect::<Vec<_>>(),
             ),
-            Column::new(
-                "residual_apsidal_d".into(),
-                s.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect::<Vec<_>>(),
-            ),
+            Column::new("residual_apsidal_d".into(), s.oc_d.iter().zip(&model).map(|(o, m)| o - m).collect::<Vec<_>>()),
             Column::new(
                 "periastron_argument_deg".into(),
                 s.cycle.iter().map(|&c| f.periastron_argument_deg(c)).collect::<Vec<_>>(),
@@ -872,8 +882,9 @@ impl ApsidalAnalysis {
     }
 
     /// The model curves of primary and secondary minimum on `points` cycles evenly spread
-    /// over the span of the timings: (cycle, primary O − C d, secondary O − C d), each curve
-    /// with ΔT₀ + ΔP_s·E removed is what the figure shows diverging and converging.
+    /// over the span of the timings, with the linear part ΔT₀ + ΔP_s·E removed:
+    /// (cycle, primary d, secondary d) — the two curves that diverge and converge as the
+    /// apsides turn. Empty when the analysis kept no fit.
     pub fn model_curves(&self, points: usize) -> Vec<(f64, f64, f64)> {
         let (Some(s), Some(f)) = (self.series.as_ref(), self.fit.as_ref()) else { return Vec::new() };
         let (Some(&c0), Some(&c1)) = (s.cycle.first(), s.cycle.last()) else { return Vec::new() };
@@ -881,9 +892,9 @@ impl ApsidalAnalysis {
         let points = points.max(2);
         (0..points)
             .map(|k| {
-                let c = (c0 + (c1 - c0) * k as f64 / (points - 1) as f64).round();
-                let prim = f.model_oc_d(c, EventKind::Primary, c * p);
-                let sec = f.model_oc_d(c + 0.5, EventKind::Secondary, (c + 0.5) * p);
+                let c = c0 + (c1 - c0) * k as f64 / (points - 1) as f64;
+                let prim = f.model_oc_d(c, EventKind::Primary, c * p) - f.linear_part_d(c);
+                let sec = f.model_oc_d(c + 0.5, EventKind::Secondary, (c + 0.5) * p) - f.linear_part_d(c + 0.5);
                 (c, prim, sec)
             })
             .collect()

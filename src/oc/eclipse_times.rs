@@ -128,13 +128,16 @@ pub fn true_anomaly_of_minimum(theta_c: f64, e: f64, omega_rad: f64, inclination
         if h == 0.0 {
             return Some(x);
         }
-        if h < 0.0 { lo = x } else { hi = x }
+        if h < 0.0 {
+            lo = x
+        } else {
+            hi = x
+        }
         let mut next = x - h / dh;
         if !(next > lo && next < hi) || dh <= 0.0 {
             next = 0.5 * (lo + hi);
         }
-        if (next - x).abs() <= 4.0 * f64::EPSILON * (1.0 + x.abs()) || hi - lo <= 4.0 * f64::EPSILON * (1.0 + x.abs())
-        {
+        if (next - x).abs() <= 4.0 * f64::EPSILON * (1.0 + x.abs()) || hi - lo <= 4.0 * f64::EPSILON * (1.0 + x.abs()) {
             return Some(next);
         }
         x = next;
