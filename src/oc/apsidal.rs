@@ -622,6 +622,9 @@ pub struct ApsidalBootstrap {
     pub derived_sigma: Vec<f64>,
 }
 
+/// One bootstrap resample's parameters and derived quantities.
+type Draw = (Vec<f64>, Vec<f64>);
+
 /// Pairs bootstrap of an apsidal fit: timings drawn with replacement (resample k from stream
 /// k of the seed, so the result does not depend on the thread count), each refitted by
 /// Levenberg–Marquardt from the best fit. `progress(1)` is called after each resample.
@@ -637,7 +640,7 @@ pub fn bootstrap_apsidal(
     }
     let n = series.len();
     let base = derived_of(fit.layout, &fit.params);
-    let draws: Vec<Option<(Vec<f64>, Vec<f64>)>> = (0..options.resamples)
+    let draws: Vec<Option<Draw>> = (0..options.resamples)
         .into_par_iter()
         .map(|k| {
             let mut rng = SeededRng::for_stream(options.seed, k as u64);
@@ -664,14 +667,14 @@ pub fn bootstrap_apsidal(
             out
         })
         .collect();
-    let ok: Vec<&(Vec<f64>, Vec<f64>)> = draws.iter().flatten().collect();
+    let ok: Vec<&Draw> = draws.iter().flatten().collect();
     if ok.len() < 2 {
         return Err(OcError::NotConverged {
             model: "apsidal",
             detail: format!("only {} of {} bootstrap resamples could be fitted", ok.len(), options.resamples),
         });
     }
-    let sd = |get: &dyn Fn(&(Vec<f64>, Vec<f64>)) -> f64| {
+    let sd = |get: &dyn Fn(&Draw) -> f64| {
         let m = ok.iter().map(|d| get(d)).sum::<f64>() / ok.len() as f64;
         (ok.iter().map(|d| (get(d) - m).powi(2)).sum::<f64>() / (ok.len() - 1) as f64).sqrt()
     };
