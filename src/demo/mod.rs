@@ -15,6 +15,7 @@
     clippy::result_large_err
 )]
 
+pub mod apsidal_scenario;
 pub mod chain;
 pub mod pulsar_scenario;
 pub mod random;
