@@ -40,6 +40,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "pulsar spin frequency",
         "next minimum",
         "first minimum of the season",
+        "Calder Wyn apsidal period",
     ] {
         assert!(summary.contains(needed), "summary lacks {needed}");
     }
@@ -69,7 +70,8 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "summary.json holds the printed comparisons"
     );
     let html = std::fs::read_to_string(out.join("report.html")).expect("the report");
-    assert!(html.contains("data-figures-expected=\"6\""), "six figures expected in the report");
+    // Six figures of the chain plus the apsidal-motion figure of Calder Wyn.
+    assert!(html.contains("data-figures-expected=\"7\""), "seven figures expected in the report");
     assert!(!html.contains("http://") && !html.contains("https://"));
     // The demo's own report in headless Chromium, where installed (.ci/run installs it):
     // every figure renders and the page logs nothing to the console.

@@ -130,7 +130,7 @@ pub fn run(a: Args) -> Result<()> {
     let models: Vec<ModelKind> = a
         .models
         .split(',')
-        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time")))
+        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time, or apsidal / apsidal+light-time alone")))
         .collect::<Result<_>>()?;
     let range = parse_range_d("--companion-period-range-d", a.companion_period_range_d.as_deref())?;
     let table = a.table.read("hjd_utc", a.origin_column.as_deref())?;
