@@ -99,7 +99,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
             let dom = String::from_utf8_lossy(&dump.stdout);
             let log = String::from_utf8_lossy(&dump.stderr);
             assert!(
-                dom.contains("data-figures-rendered=\"6\""),
+                dom.contains("data-figures-rendered=\"7\""),
                 "not every figure rendered: {}",
                 dom.lines().find(|l| l.contains("data-figures")).unwrap_or("")
             );
@@ -113,6 +113,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "kx_periodogram.svg",
         "veyra_residuals.svg",
         "veyra_profile.svg",
+        "calder_wyn_apsidal.svg",
         "kx_upcoming.csv",
     ] {
         assert!(out.join(f).exists(), "{f} missing");
