@@ -41,6 +41,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "next minimum",
         "first minimum of the season",
         "planet TTV semi-amplitude",
+        "Calder Wyn apsidal period",
     ] {
         assert!(summary.contains(needed), "summary lacks {needed}");
     }
@@ -70,7 +71,9 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "summary.json holds the printed comparisons"
     );
     let html = std::fs::read_to_string(out.join("report.html")).expect("the report");
-    assert!(html.contains("data-figures-expected=\"7\""), "seven figures expected in the report");
+    // Six figures of the chain, the O–C of the planet's transit times and the
+    // apsidal-motion figure of Calder Wyn.
+    assert!(html.contains("data-figures-expected=\"8\""), "eight figures expected in the report");
     assert!(!html.contains("http://") && !html.contains("https://"));
     // The demo's own report in headless Chromium, where installed (.ci/run installs it):
     // every figure renders and the page logs nothing to the console.
@@ -112,6 +115,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
         "kx_periodogram.svg",
         "veyra_residuals.svg",
         "veyra_profile.svg",
+        "calder_wyn_apsidal.svg",
         "kx_upcoming.csv",
     ] {
         assert!(out.join(f).exists(), "{f} missing");

@@ -11,6 +11,7 @@
     clippy::result_large_err
 )]
 
+pub mod apsidal_residuals;
 pub mod barycentre;
 pub mod barycentre_events;
 pub mod common;

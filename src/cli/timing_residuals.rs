@@ -52,9 +52,13 @@ pub struct Args {
     #[arg(long)]
     pub allow_ambiguous_cycles: bool,
     /// Models to fit, comma-separated: linear, quadratic, light-time, quadratic+light-time,
-    /// two-light-time, quadratic+two-light-time (two companions).
+    /// two-light-time, quadratic+two-light-time (two companions); or alone `apsidal` or
+    /// `apsidal+light-time` (apsidal motion of an eccentric orbit from primary and secondary
+    /// minima fitted together, optionally with a light-time companion).
     #[arg(long, value_name = "LIST", default_value = "linear,quadratic")]
     pub models: String,
+    #[command(flatten)]
+    pub apsidal: super::apsidal_residuals::ApsidalArgs,
     /// Companion periods to search, days: LOW,HIGH (default from the data span).
     #[arg(long, value_name = "LOW,HIGH")]
     pub companion_period_range_d: Option<String>,
@@ -104,27 +108,31 @@ pub struct Args {
     pub quiet: bool,
 }
 
+/// Parses an option LOW,HIGH in days (`None` when not given).
+pub(super) fn parse_range_d(option: &str, text: Option<&str>) -> Result<Option<(f64, f64)>> {
+    let Some(t) = text else { return Ok(None) };
+    let v: Vec<f64> = t
+        .split(',')
+        .map(|x| x.trim().parse::<f64>())
+        .collect::<Result<_, _>>()
+        .with_context(|| format!("{option} '{t}': expected LOW,HIGH in days"))?;
+    if v.len() != 2 {
+        bail!("{option} '{t}': expected two numbers LOW,HIGH");
+    }
+    Ok(Some((v[0], v[1])))
+}
+
 /// Runs the command.
 pub fn run(a: Args) -> Result<()> {
+    if let Some(light_time) = super::apsidal_residuals::apsidal_model(&a.models)? {
+        return super::apsidal_residuals::run(a, light_time);
+    }
     let models: Vec<ModelKind> = a
         .models
         .split(',')
-        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time")))
+        .map(|m| ModelKind::parse(m).with_context(|| format!("--models: unknown model '{m}'; use linear, quadratic, light-time, quadratic+light-time, two-light-time or quadratic+two-light-time, or apsidal / apsidal+light-time alone")))
         .collect::<Result<_>>()?;
-    let range = match &a.companion_period_range_d {
-        None => None,
-        Some(t) => {
-            let v: Vec<f64> = t
-                .split(',')
-                .map(|x| x.trim().parse::<f64>())
-                .collect::<Result<_, _>>()
-                .with_context(|| format!("--companion-period-range-d '{t}': expected LOW,HIGH in days"))?;
-            if v.len() != 2 {
-                bail!("--companion-period-range-d '{t}': expected two numbers LOW,HIGH");
-            }
-            Some((v[0], v[1]))
-        }
-    };
+    let range = parse_range_d("--companion-period-range-d", a.companion_period_range_d.as_deref())?;
     let table = a.table.read("hjd_utc", a.origin_column.as_deref())?;
     let (file, source, reference) = (&table.file, &table.source, &table.reference);
     let timings = table.read.timings.clone();

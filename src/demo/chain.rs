@@ -67,7 +67,7 @@ fn compare(quantity: &str, value: f64, sigma: f64, truth: f64, digits: usize) ->
 }
 
 /// Runs one skyclock command exactly as typed (`args` without the program name).
-fn command(args: &[String]) -> Result<()> {
+pub(super) fn command(args: &[String]) -> Result<()> {
     let cli = crate::cli::Cli::try_parse_from(std::iter::once("skyclock".to_string()).chain(args.iter().cloned()))
         .map_err(|e| anyhow::anyhow!("demo stage arguments: {e}"))?;
     crate::cli::run(cli)
@@ -757,6 +757,10 @@ pub fn run_chain(data: &Path, out: &Path, prediction_start: Option<&str>) -> Res
             .with_figure(figure(&o("veyra_residuals.svg"), "Timing residuals against time and orbital phase.")?)
             .with_figure(figure(&o("veyra_profile.svg"), "X-ray pulse profile (two cycles) with the Fourier template.")?),
     );
+
+    let (section, found) = super::apsidal_scenario::apsidal_stage(out, scenario::SEED)?;
+    report_sections.push(section);
+    comparisons.extend(found);
 
     // Inputs and the corrections applied to the historical timings (written by the demo's
     // first step, `barycentre`, as kx_inventa_minima_bjd.csv).

@@ -16,6 +16,7 @@
     clippy::result_large_err
 )]
 
+pub mod apsidal_scenario;
 pub mod chain;
 pub mod planet_scenario;
 pub mod pulsar_scenario;

@@ -282,7 +282,7 @@ fn companion_search(
     minima
 }
 
-fn default_range(series: &OcSeries) -> (f64, f64) {
+pub(super) fn default_range(series: &OcSeries) -> (f64, f64) {
     let baseline = series.time_d.last().copied().unwrap_or(0.0) - series.time_d.first().copied().unwrap_or(0.0);
     let lo = (10.0 * series.reference.period_d).max(2.0 * baseline / series.len().max(1) as f64);
     (lo, 1.5 * baseline.max(lo))
@@ -328,7 +328,7 @@ fn scaled_levenberg<M: LsqModel>(model: &M, start: &[f64]) -> Result<NonlinearFi
 }
 
 /// [`scaled_levenberg`] with explicit options.
-fn scaled_levenberg_with<M: LsqModel>(
+pub(super) fn scaled_levenberg_with<M: LsqModel>(
     model: &M,
     start: &[f64],
     options: &LevenbergOptions,
@@ -358,7 +358,7 @@ fn scaled_levenberg_with<M: LsqModel>(
 
 /// Resamples start at the best fit and need its neighbourhood only: a χ² change below 1e-3
 /// moves a parameter by ~3 % of its 1σ, far below the bootstrap's own scatter.
-fn bootstrap_lm_options() -> LevenbergOptions {
+pub(super) fn bootstrap_lm_options() -> LevenbergOptions {
     LevenbergOptions {
         max_iterations: 60,
         relative_tolerance: 1e-10,
@@ -368,7 +368,7 @@ fn bootstrap_lm_options() -> LevenbergOptions {
     }
 }
 
-fn lm_options() -> LevenbergOptions {
+pub(super) fn lm_options() -> LevenbergOptions {
     LevenbergOptions {
         max_iterations: 300,
         relative_tolerance: 1e-10,

@@ -11,9 +11,11 @@
 //! the reference epoch (decades of offsets keep ~1e-11 d resolution). Nothing here prints.
 
 pub mod analysis;
+pub mod apsidal;
 pub mod companion;
 pub mod compare;
 pub mod cycles;
+pub mod eclipse_times;
 pub mod ephemeris;
 pub mod fitting;
 pub mod input;

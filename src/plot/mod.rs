@@ -12,6 +12,7 @@
 //! version of the figure. Folded figures are drawn over a [`PhaseRange`] (default −0.25
 //! to 1.25) so that events at phase 0 are seen whole; magnitude axes increase downwards.
 
+pub mod apsidal;
 pub mod data;
 pub mod phase;
 pub mod search;
