@@ -83,10 +83,7 @@ const EMBEDDED_DATASETS: [(&str, &str); 8] = [
     (super::pulsar_scenario::PULSAR_TOAS_FILE, include_str!("../../datasets/veyra_beacon_radio_toas.csv")),
     (super::pulsar_scenario::PULSAR_EVENTS_FILE, include_str!("../../datasets/veyra_beacon_xray_events.csv")),
     (super::pulsar_scenario::PULSAR_START_MODEL_FILE, include_str!("../../datasets/veyra_beacon_start_model.toml")),
-    (
-        super::planet_scenario::PLANET_PHOTOMETRY_FILE,
-        include_str!("../../datasets/maren_vale_transits_photometry.csv"),
-    ),
+    (super::planet_scenario::PLANET_PHOTOMETRY_FILE, include_str!("../../datasets/maren_vale_transits_photometry.csv")),
 ];
 
 fn locate_datasets(output: &Path) -> Result<PathBuf> {
