@@ -101,7 +101,7 @@ fn the_demo_recovers_the_invented_truth_and_writes_the_report() {
             let dom = String::from_utf8_lossy(&dump.stdout);
             let log = String::from_utf8_lossy(&dump.stderr);
             assert!(
-                dom.contains("data-figures-rendered=\"7\""),
+                dom.contains("data-figures-rendered=\"8\""),
                 "not every figure rendered: {}",
                 dom.lines().find(|l| l.contains("data-figures")).unwrap_or("")
             );
