@@ -240,7 +240,7 @@ fn sparse_rows_are_corrected_exactly() {
     let (fast, summary, _) = correct_table_along(&df, "sparse.csv", &request, &c, CorrectionPath::Automatic).unwrap();
     let (exact, _, _) = correct_table_along(&df, "sparse.csv", &request, &c, CorrectionPath::ExactEveryRow).unwrap();
     assert_eq!(summary.rows_interpolated, 0);
-    // Nor do the slow-term nodes pay (two a day for one row a day).
+    // Nor do the slow-term nodes pay (207 daily nodes for 200 rows).
     assert_eq!(summary.rows_with_interpolated_slow_terms, 0);
     let (worst, worst_term) = compare(&fast, &exact);
     assert!(worst == 0.0 && worst_term == 0.0, "{worst} {worst_term}");
@@ -249,7 +249,7 @@ fn sparse_rows_are_corrected_exactly() {
 #[test]
 fn sparse_mixed_rows_take_the_two_speed_exact_path_within_1_ns() {
     // 8000 rows at random instants over 2015-07 … 2021-03 (≈ 3.8 a day: too sparse for the
-    // table nodes, dense enough for the slow-term nodes every 12 h), every clock of the
+    // table nodes, dense enough for the slow-term daily nodes), every clock of the
     // mixed table, two sites and the geocentre; the span holds the 2016-12-31 leap second
     // and the end of the Earth-orientation excerpt.
     let mut rng = SeededRng::new(4242);

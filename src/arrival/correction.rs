@@ -212,7 +212,7 @@ impl BarycentricCorrector {
     /// As [`BarycentricCorrector::correct`], taking the slowly varying parts (precession–
     /// nutation X, Y, s and the geocentric TDB − TT) from `slow`: with [`SlowParts::Exact`]
     /// this is `correct`; with nodes it is the two-speed exact path of
-    /// [`super::slow_terms`] (≤ 1e-12 s from `correct`, bound derived there). Readings on
+    /// [`super::slow_terms`] (≤ 3e-12 s from `correct`, bound derived there). Readings on
     /// TDB or TCB at an observer always take the series themselves.
     pub fn correct_with_slow_parts(
         &self,

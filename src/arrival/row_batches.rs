@@ -10,10 +10,10 @@
 //!
 //! The exact rows themselves run at two speeds where that pays: rows of every observer
 //! (ground sites, the geocentre, spacecraft, rows already barycentric) whose instants
-//! share the coarse nodes of [`super::slow_terms`] (every 12 h of TT) — clusters needing
+//! share the coarse nodes of [`super::slow_terms`] (every day of TT) — clusters needing
 //! fewer nodes than they have rows — take precession–nutation and the geocentric
 //! TDB − TT from those nodes and everything else (Earth rotation, the ephemeris, the
-//! delays) per row ([`BarycentricCorrector::correct_with_slow_parts`]; ≤ 1e-12 s from the
+//! delays) per row ([`BarycentricCorrector::correct_with_slow_parts`]; ≤ 3e-12 s from the
 //! exact correction). Readings on TDB or TCB at an observer keep the series themselves.
 
 use rayon::prelude::*;

@@ -7,7 +7,7 @@
 //! intermediate matrix is rebuilt from them per row by `iauC2ixys`, as `iauC2i06a` does),
 //! and the geocentric TDB − TT of Fairhead & Bretagnon (SOFA `iauDtdb` without its
 //! topocentric part, ~790 terms). They are evaluated exactly at nodes every
-//! [`SLOW_NODE_SPACING_S`] = 12 h of TT (fixed to TT midnight) and interpolated by the
+//! [`SLOW_NODE_SPACING_S`] = 1 d of TT (at TT midnight) and interpolated by the
 //! 8-point Lagrange polynomial on the nodes −3 … +4 around the instant's interval
 //! ([`super::interpolated::lagrange_weights`]). Everything fast stays per row and exact:
 //! the Earth rotation angle (UT1), polar motion and UT1 − UTC from the table, s′, the
@@ -15,18 +15,18 @@
 //! the ephemeris, the source direction and every delay formula.
 //!
 //! Error bound. For a term A·sin(ωt + φ) the 8-point remainder is ≤ 1.07e-3·A·(ωh)⁸
-//! (module doc of [`super::interpolated`]), here h = 0.5 d. Summed over every term of the
+//! (module doc of [`super::interpolated`]), here h = 1 d. Summed over every term of the
 //! series as sofars 0.6.3 tabulates them (`tests/reference/slow_terms_bound.py` reads its
 //! tables; |t| ≤ 150 years from J2000 for the Fairhead & Bretagnon terms in t, t², …):
 //! - nutation, all 1365 IAU 2000A terms (luni-solar and planetary, |Δψ| and |Δε|
-//!   amplitudes, the shortest period 3.5 d): ≤ 4.5e-13 rad in X, Y (s follows from X, Y and
+//!   amplitudes, the shortest period 3.5 d): ≤ 1.15e-10 rad in X, Y (s follows from X, Y and
 //!   slow terms); the largest contributions are the 5.64-d, 6.86-d and 9.13-d terms.
 //!   Precession is a polynomial of low degree (no error). An angular error δ moves a
-//!   ground site by R⊕·δ, 21.3 ms·δ of Rømer delay: ≤ 1.0e-14 s;
-//! - TDB − TT, all 787 terms: ≤ 1.4e-15 s (largest from the 7.25-d and 9.84-d terms).
+//!   ground site by R⊕·δ, 21.3 ms·δ of Rømer delay: ≤ 2.5e-12 s;
+//! - TDB − TT, all 787 terms: ≤ 3.6e-13 s (largest from the 7.25-d and 9.84-d terms).
 //!
-//! The bound is therefore ≤ 2e-14 s against the exact path, far below the 1 ns promised;
-//! the tests below find 8.3e-14 rad and 1.1e-15 s at random instants over 1960–2100, and
+//! The bound is therefore ≤ 3e-12 s against the exact path, far below the 1 ns promised;
+//! the tests below find 2.1e-11 rad and 2.4e-13 s at random instants over 1960–2100, and
 //! `tests/arrival_table_nodes.rs` checks whole rows against the exact path (≤ 1 ns on every
 //! row; the largest difference seen is the ~1e-11 s rounding of the delay columns). Neither
 //! series has steps (they are functions of TT; no leap second enters), so unlike the table
@@ -38,9 +38,9 @@ use rayon::prelude::*;
 use super::interpolated::{TABLE_NODE_POINTS, lagrange_weights};
 use crate::time::{Instant, TimeScale};
 
-/// Spacing of the slow-term nodes on the TT axis, s (two a day).
-pub const SLOW_NODE_SPACING_S: f64 = 43_200.0;
-const NODES_PER_DAY: i64 = 2;
+/// Spacing of the slow-term nodes on the TT axis, s (one a day).
+pub const SLOW_NODE_SPACING_S: f64 = 86_400.0;
+const NODES_PER_DAY: i64 = 1;
 const FIRST_NODE_OFFSET: i64 = -3;
 
 /// The slow-term grid slot of a TT instant: the node at or before it (counted from MJD 0
@@ -56,7 +56,7 @@ pub fn slow_slots_used(slot: i64) -> std::ops::RangeInclusive<i64> {
     slot + FIRST_NODE_OFFSET..=slot + FIRST_NODE_OFFSET + TABLE_NODE_POINTS as i64 - 1
 }
 
-/// The TT instant of node `slot` (exact: an integral day and a multiple of 12 h).
+/// The TT instant of node `slot` (exact: TT midnight of a day).
 fn slow_slot_instant(slot: i64) -> Instant {
     Instant::from_mjd_parts(
         TimeScale::Tt,
@@ -197,9 +197,10 @@ mod tests {
             worst_time = worst_time.max((fast.geocentric_tdb_minus_tt_s - exact.geocentric_tdb_minus_tt_s).abs());
         }
         eprintln!("largest interpolation error: {worst_angle:.2e} rad, {worst_time:.2e} s");
-        // 5e-13 rad is 1e-14 s of Rømer delay for a ground site (module doc).
-        assert!(worst_angle < 5e-13, "{worst_angle}");
-        assert!(worst_time < 1e-13, "{worst_time}");
+        // The bounds of the module doc: 1.15e-10 rad (2.5e-12 s of Rømer delay for a ground
+        // site) and 3.6e-13 s.
+        assert!(worst_angle < 1.15e-10, "{worst_angle}");
+        assert!(worst_time < 3.6e-13, "{worst_time}");
     }
 
     #[test]

@@ -135,7 +135,7 @@ pub struct TableSummary {
     #[serde(default)]
     pub rows_interpolated: usize,
     /// Rows corrected exactly but with precession–nutation and the geocentric TDB − TT
-    /// interpolated from nodes every 12 h (the two-speed exact path, ≤ 1e-12 s from the
+    /// interpolated from daily nodes (the two-speed exact path, ≤ 3e-12 s from the
     /// exact correction; `arrival::slow_terms`).
     #[serde(default)]
     pub rows_with_interpolated_slow_terms: usize,

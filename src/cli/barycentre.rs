@@ -106,7 +106,7 @@ pub fn run(a: Args) -> Result<()> {
         println!(
             "corrected {} rows to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}\n  \
              {} rows interpolated between exactly corrected nodes (≤ 1 ns from the exact correction), {} corrected one by one \
-             ({} of them with precession–nutation and TDB − TT from nodes every 12 h)",
+             ({} of them with precession–nutation and TDB − TT from daily nodes)",
             r.correction.rows,
             source.name,
             a.output.display(),

@@ -13,7 +13,7 @@ import sys
 
 root = sys.argv[1]
 LAGRANGE = 43.07 / 40320.0  # max |prod_{j=-3..4}(u - j)| / 8! on u in [0, 1]
-H_DAYS = 0.5
+H_DAYS = 1.0
 
 
 def remainder(amplitude, omega_h):
