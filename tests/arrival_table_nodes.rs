@@ -240,8 +240,60 @@ fn sparse_rows_are_corrected_exactly() {
     let (fast, summary, _) = correct_table_along(&df, "sparse.csv", &request, &c, CorrectionPath::Automatic).unwrap();
     let (exact, _, _) = correct_table_along(&df, "sparse.csv", &request, &c, CorrectionPath::ExactEveryRow).unwrap();
     assert_eq!(summary.rows_interpolated, 0);
+    // Nor do the slow-term nodes pay (207 daily nodes for 200 rows).
+    assert_eq!(summary.rows_with_interpolated_slow_terms, 0);
     let (worst, worst_term) = compare(&fast, &exact);
     assert!(worst == 0.0 && worst_term == 0.0, "{worst} {worst_term}");
+}
+
+#[test]
+fn sparse_mixed_rows_take_the_two_speed_exact_path_within_1_ns() {
+    // 8000 rows at random instants over 2015-07 … 2021-03 (≈ 3.8 a day: too sparse for the
+    // table nodes, dense enough for the slow-term daily nodes), every clock of the
+    // mixed table, two sites and the geocentre; the span holds the 2016-12-31 leap second
+    // and the end of the Earth-orientation excerpt.
+    let mut rng = SeededRng::new(4242);
+    let mut text = Vec::new();
+    let mut clocks = Vec::new();
+    let mut observers = Vec::new();
+    for i in 0..8000 {
+        let t = Instant::from_mjd_parts(
+            TimeScale::Tai,
+            57_200 + (rng.uniform() * 2_100.0) as i64,
+            rng.uniform() * 86_400.0,
+        );
+        let clock = CLOCKS[i % CLOCKS.len()];
+        text.push(reading(&t, clock));
+        clocks.push(clock.to_string());
+        observers.push(SITES[(i / CLOCKS.len()) % SITES.len()].to_string());
+    }
+    let df = DataFrame::new_infer_height(vec![
+        Column::new("time".into(), text),
+        Column::new("clock".into(), clocks),
+        Column::new("observatory".into(), observers),
+    ])
+    .unwrap();
+    let request = TableRequest {
+        time_column: "time".into(),
+        clock: None,
+        clock_column: Some("clock".into()),
+        observer: ObserverSpec::SiteColumn { column: "observatory".into(), sites: sites() },
+    };
+    let c = corrector();
+    let (fast, fast_summary, _) =
+        correct_table_along(&df, "sparse.csv", &request, &c, CorrectionPath::Automatic).unwrap();
+    let (exact, exact_summary, _) =
+        correct_table_along(&df, "sparse.csv", &request, &c, CorrectionPath::ExactEveryRow).unwrap();
+    same_counts(&fast_summary, &exact_summary);
+    assert_eq!(exact_summary.rows_with_interpolated_slow_terms, 0);
+    // Every row but the TDB/TCB readings at a site or the geocentre (jd_tdb, bmjd_tcb is
+    // barycentric and takes the nodes) goes through the slow-term nodes.
+    let two_speed = fast_summary.rows_with_interpolated_slow_terms;
+    eprintln!("{two_speed} of 8000 rows on the two-speed path, {} interpolated", fast_summary.rows_interpolated);
+    assert!(two_speed > 8000 * 8 / 11, "{two_speed}");
+    let (worst, worst_term) = compare(&fast, &exact);
+    eprintln!("largest |two-speed − exact|: times {worst:.2e} s, terms {worst_term:.2e} s");
+    assert!(worst <= 1e-9 && worst_term <= 1e-9, "{worst} {worst_term}");
 }
 
 #[test]
@@ -271,6 +323,8 @@ fn spacecraft_rows_agree_with_the_exact_path() {
     let (fast, summary, _) = correct_table_along(&df, "orbit.csv", &request, &c, CorrectionPath::Automatic).unwrap();
     let (exact, _, _) = correct_table_along(&df, "orbit.csv", &request, &c, CorrectionPath::ExactEveryRow).unwrap();
     assert_eq!(summary.rows_interpolated, 0);
+    // Precession–nutation and TDB − TT come from the slow-term nodes (8 nodes, 300 rows).
+    assert_eq!(summary.rows_with_interpolated_slow_terms, n);
     let (worst, worst_term) = compare(&fast, &exact);
     assert!(worst <= 1e-9 && worst_term <= 1e-9, "{worst} {worst_term}");
 }

@@ -12,12 +12,14 @@ use thiserror::Error;
 use super::delays::{
     JUPITER_RADIUS_KM, SATURN_RADIUS_KM, SUN_RADIUS_KM, curvature_delay_s, roemer_delay_s, shapiro_delay_s,
 };
+use super::slow_terms::SlowParts;
 use super::source::Source;
 use crate::ephemeris::{
     Body, Ephemeris, EphemerisError, GM_JUPITER_SYSTEM_KM3_PER_S2, GM_SATURN_SYSTEM_KM3_PER_S2, GM_SUN_KM3_PER_S2,
     SPEED_OF_LIGHT_KM_PER_S, SharedEphemeris,
 };
 use crate::observer::{EarthOrientation, Observer, PositionOrigin};
+use crate::time::scales::{tdb_minus_tt_s, topocentric_tdb_minus_tt_s};
 use crate::time::{Instant, ScaleConverter, TimeError, TimeScale};
 
 /// Where the given times were referred to.
@@ -206,11 +208,30 @@ impl BarycentricCorrector {
         observer: &Observer,
         reference: ReferencePoint,
     ) -> Result<Corrected, ArrivalError> {
+        self.correct_with_slow_parts(time, observer, reference, SlowParts::Exact)
+    }
+
+    /// As [`BarycentricCorrector::correct`], taking the slowly varying parts (precession–
+    /// nutation X, Y, s and the geocentric TDB − TT) from `slow`: with [`SlowParts::Exact`]
+    /// this is `correct`; with nodes it is the two-speed exact path of
+    /// [`super::slow_terms`] (≤ 3e-12 s from `correct`, bound derived there). Readings on
+    /// TDB or TCB at an observer always take the series themselves.
+    pub fn correct_with_slow_parts(
+        &self,
+        time: &Instant,
+        observer: &Observer,
+        reference: ReferencePoint,
+        slow: SlowParts<'_>,
+    ) -> Result<Corrected, ArrivalError> {
         match reference {
             ReferencePoint::Barycentric => {
                 // Only the clock changes; evaluated as at the geocentre.
-                let tt = self.converter.convert(time, TimeScale::Tt)?;
-                let tdb = self.converter.convert(time, TimeScale::Tdb)?;
+                let (tt, tdb) = match slow {
+                    SlowParts::Exact => {
+                        (self.converter.convert(time, TimeScale::Tt)?, self.converter.convert(time, TimeScale::Tdb)?)
+                    }
+                    SlowParts::Interpolated(_) => self.geocentric_tt_and_tdb(time, slow)?,
+                };
                 let delays = DelayBreakdown {
                     clock_to_tt_s: tt.seconds_since(time),
                     einstein_s: tdb.seconds_since(&tt),
@@ -224,34 +245,68 @@ impl BarycentricCorrector {
                     observer_barycentric_km: None,
                 })
             }
-            ReferencePoint::Observer => self.correct_observer_time(time, observer, 0.0),
+            ReferencePoint::Observer => self.correct_observer_time(time, observer, 0.0, slow),
             ReferencePoint::Heliocentric => {
                 // Undo t_H = t_obs + (r_obs − r_sun)·n̂/c by fixed-point iteration on the
                 // same clock (the HJD clock is kept), then correct normally.
                 let mut obs_time = *time;
                 let mut helio = 0.0;
                 for _ in 0..4 {
-                    helio = self.heliocentric_delay_s(&obs_time, observer)?;
+                    helio = self.heliocentric_delay_with(&obs_time, observer, slow)?;
                     obs_time = time.add_seconds(-helio);
                 }
-                self.correct_observer_time(&obs_time, observer, helio)
+                self.correct_observer_time(&obs_time, observer, helio, slow)
             }
         }
+    }
+
+    /// TT and geocentric TDB of a reading on any clock, with TDB − TT from `slow` (TDB and
+    /// TCB readings: the fixed-point iteration of [`ScaleConverter::tdb_to_tt`]).
+    fn geocentric_tt_and_tdb(&self, time: &Instant, slow: SlowParts<'_>) -> Result<(Instant, Instant), ArrivalError> {
+        let dtdb = |tt: &Instant| slow.at(tt).geocentric_tdb_minus_tt_s;
+        Ok(match time.scale() {
+            TimeScale::Tdb | TimeScale::Tcb => {
+                let tdb = self.converter.convert(time, TimeScale::Tdb)?;
+                let mut tt = tdb.relabel(TimeScale::Tt);
+                for _ in 0..3 {
+                    tt = tdb.add_seconds(-dtdb(&tt)).relabel(TimeScale::Tt);
+                }
+                (tt, tdb)
+            }
+            _ => {
+                let tt = self.converter.convert(time, TimeScale::Tt)?;
+                (tt, tt.add_seconds(dtdb(&tt)).relabel(TimeScale::Tdb))
+            }
+        })
     }
 
     /// Heliocentric light time (r_obs − r_Sun)·n̂/c, s, of a clock reading at the observer:
     /// what a legacy HJD added to the observed time (Eastman, Siverd & Gaudi 2010 eq. 2,
     /// without Shapiro or Einstein terms).
     pub fn heliocentric_delay_s(&self, clock: &Instant, observer: &Observer) -> Result<f64, ArrivalError> {
-        let (tdb, _, tt) = self.observer_tdb(clock, observer)?;
-        let r_obs = self.observer_barycentric_km(&tdb, &tt, clock, observer)?.0;
+        self.heliocentric_delay_with(clock, observer, SlowParts::Exact)
+    }
+
+    fn heliocentric_delay_with(
+        &self,
+        clock: &Instant,
+        observer: &Observer,
+        slow: SlowParts<'_>,
+    ) -> Result<f64, ArrivalError> {
+        let (tdb, _, tt) = self.observer_tdb(clock, observer, slow)?;
+        let r_obs = self.observer_barycentric_km(&tdb, &tt, clock, observer, slow)?.0;
         let sun = self.ephemeris.state(Body::Sun, &tdb)?;
         let rel = [r_obs[0] - sun.position_km[0], r_obs[1] - sun.position_km[1], r_obs[2] - sun.position_km[2]];
         Ok(roemer_delay_s(&rel, &self.source.direction_at(&tdb).unit))
     }
 
     /// TDB at the observer for a clock reading, with the clock-to-TT offset, s.
-    fn observer_tdb(&self, time: &Instant, observer: &Observer) -> Result<(Instant, f64, Instant), ArrivalError> {
+    fn observer_tdb(
+        &self,
+        time: &Instant,
+        observer: &Observer,
+        slow: SlowParts<'_>,
+    ) -> Result<(Instant, f64, Instant), ArrivalError> {
         let tt = self.converter.convert(time, TimeScale::Tt)?;
         let clock_to_tt = tt.seconds_since(time);
         let tdb = match observer {
@@ -262,22 +317,33 @@ impl BarycentricCorrector {
                     Ok(utc) => utc.day_fraction().min(1.0),
                     Err(_) => (tt.seconds_of_day() - 69.0).rem_euclid(SECONDS_PER_DAY) / SECONDS_PER_DAY,
                 };
-                let at_site = self.converter.at_site(Some(site.dtdb_site()));
+                let dtdb_site = site.dtdb_site();
+                // TDB at the site, as `ScaleConverter::at_site(..).tt_to_tdb_with_ut` (without
+                // copying the converter for every row).
+                let site_tdb = |tt: &Instant| {
+                    tt.add_seconds(tdb_minus_tt_s(tt, Some(&dtdb_site), ut_fraction(tt))).relabel(TimeScale::Tdb)
+                };
                 if matches!(time.scale(), TimeScale::Tdb | TimeScale::Tcb) {
                     // A TDB (or TCB) clock read at the site already holds the site's
                     // topocentric term: keep it as the observer's TDB, and find the TT of
                     // that instant by removing the site's TDB − TT (one step from the
                     // geocentric TT; the term changes by < 1e-13 s over its 2 µs).
                     let tdb = self.converter.convert(time, TimeScale::Tdb)?;
-                    let guess = at_site.tt_to_tdb_with_ut(&tt, ut_fraction(&tt));
+                    let guess = site_tdb(&tt);
                     let tt = tt.add_seconds(-guess.seconds_since(&tdb));
                     return Ok((tdb, tt.seconds_since(time), tt));
                 }
-                at_site.tt_to_tdb_with_ut(&tt, ut_fraction(&tt))
+                match slow {
+                    SlowParts::Exact => site_tdb(&tt),
+                    SlowParts::Interpolated(_) => {
+                        let topocentric = topocentric_tdb_minus_tt_s(&tt, &dtdb_site, ut_fraction(&tt));
+                        tt.add_seconds(slow.at(&tt).geocentric_tdb_minus_tt_s + topocentric).relabel(TimeScale::Tdb)
+                    }
+                }
             }
-            Observer::Geocentre => self.converter.tt_to_tdb(&tt),
+            Observer::Geocentre => self.geocentric_tdb(&tt, slow),
             Observer::Spacecraft(sc) => {
-                let geo = self.converter.tt_to_tdb(&tt);
+                let geo = self.geocentric_tdb(&tt, slow);
                 // Topocentric term v_E·(r − r_E)/c² for an observer off the geocentre.
                 let earth = self.ephemeris.state(Body::Earth, &geo)?;
                 let offset = match sc.origin {
@@ -296,6 +362,14 @@ impl BarycentricCorrector {
         Ok((tdb, clock_to_tt, tt))
     }
 
+    /// Geocentric TDB of TT instant `tt`, with TDB − TT from `slow`.
+    fn geocentric_tdb(&self, tt: &Instant, slow: SlowParts<'_>) -> Instant {
+        match slow {
+            SlowParts::Exact => self.converter.tt_to_tdb(tt),
+            SlowParts::Interpolated(_) => tt.add_seconds(slow.at(tt).geocentric_tdb_minus_tt_s).relabel(TimeScale::Tdb),
+        }
+    }
+
     /// Barycentric position of the observer, km, at observer TDB `tdb` (`tt` and `clock` are
     /// the same instant on TT and on the input scale, used for the Earth's rotation at a site).
     fn observer_barycentric_km(
@@ -304,6 +378,7 @@ impl BarycentricCorrector {
         tt: &Instant,
         clock: &Instant,
         observer: &Observer,
+        slow: SlowParts<'_>,
     ) -> Result<([f64; 3], bool), ArrivalError> {
         let earth = || self.ephemeris.state(Body::Earth, tdb);
         Ok(match observer {
@@ -323,7 +398,15 @@ impl BarycentricCorrector {
                     other => ArrivalError::Time(other),
                 })?;
                 let (eop, from_table) = self.orientation.at_utc_mjd(utc.mjd_f64());
-                let g = site.gcrs_state(tt, &utc, &eop);
+                let g = match slow {
+                    SlowParts::Exact => site.gcrs_state(tt, &utc, &eop),
+                    SlowParts::Interpolated(_) => site.gcrs_state_with_precession_nutation(
+                        tt,
+                        &utc,
+                        &eop,
+                        &slow.at(tt).celestial_to_intermediate(),
+                    ),
+                };
                 let e = earth()?.position_km;
                 ([e[0] + g.position_km[0], e[1] + g.position_km[1], e[2] + g.position_km[2]], from_table)
             }
@@ -335,9 +418,10 @@ impl BarycentricCorrector {
         time: &Instant,
         observer: &Observer,
         helio_removed: f64,
+        slow: SlowParts<'_>,
     ) -> Result<Corrected, ArrivalError> {
-        let (tdb, clock_to_tt, tt) = self.observer_tdb(time, observer)?;
-        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, time, observer)?;
+        let (tdb, clock_to_tt, tt) = self.observer_tdb(time, observer, slow)?;
+        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, time, observer, slow)?;
         let delays = self.delays_at(&tdb, &r_obs, clock_to_tt, tdb.seconds_since(&tt), helio_removed)?;
         Ok(Corrected {
             bjd_tdb: tdb.add_seconds(delays.barycentric_s()),
@@ -390,8 +474,8 @@ impl BarycentricCorrector {
     /// [`BarycentricCorrector::correct`] computes it for an arrival at `tt`.
     pub fn node_terms(&self, tt: &Instant, observer: &Observer) -> Result<NodeTerms, ArrivalError> {
         let clock = tt.relabel(TimeScale::Tt);
-        let (tdb, _, tt) = self.observer_tdb(&clock, observer)?;
-        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, &clock, observer)?;
+        let (tdb, _, tt) = self.observer_tdb(&clock, observer, SlowParts::Exact)?;
+        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, &clock, observer, SlowParts::Exact)?;
         let d = self.delays_at(&tdb, &r_obs, 0.0, tdb.seconds_since(&tt), 0.0)?;
         let sun = self.ephemeris.state(Body::Sun, &tdb)?;
         let sun_projection_s = roemer_delay_s(&sun.position_km, &self.source.direction_at(&tdb).unit);

@@ -10,6 +10,7 @@ pub mod interpolated;
 pub mod reference;
 pub mod row_batches;
 pub mod run;
+pub mod slow_terms;
 pub mod source;
 pub mod table;
 

@@ -7,11 +7,20 @@
 //! the edge of the Earth-orientation table among the nodes, a node that failed), the row is
 //! corrected exactly. Interpolated and exact rows agree to ≤ 1e-11 s (bound derived in
 //! [`super::interpolated`]; `tests/arrival_table_nodes.rs` checks ≤ 1 ns on every row).
+//!
+//! The exact rows themselves run at two speeds where that pays: rows of every observer
+//! (ground sites, the geocentre, spacecraft, rows already barycentric) whose instants
+//! share the coarse nodes of [`super::slow_terms`] (every day of TT) — clusters needing
+//! fewer nodes than they have rows — take precession–nutation and the geocentric
+//! TDB − TT from those nodes and everything else (Earth rotation, the ephemeris, the
+//! delays) per row ([`BarycentricCorrector::correct_with_slow_parts`]; ≤ 3e-12 s from the
+//! exact correction). Readings on TDB or TCB at an observer keep the series themselves.
 
 use rayon::prelude::*;
 
 use super::correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, NodeTerms, ReferencePoint};
 use super::interpolated::{NodeGrid, slots_used, table_slot};
+use super::slow_terms::{SlowParts, SlowTermGrid, slow_slot, slow_slots_used};
 use crate::observer::{Observer, SpacecraftPosition};
 use crate::time::scales::tcb_to_tdb;
 use crate::time::{Instant, TimeScale};
@@ -47,15 +56,30 @@ pub struct RowTime {
     pub observer: RowObserver,
 }
 
+/// How one row was corrected.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum RowPath {
+    /// Interpolated between the table nodes (every smooth term).
+    TableNodes,
+    /// Exactly, with precession–nutation and geocentric TDB − TT from the slow-term nodes.
+    SlowTermNodes,
+    /// Exactly, every series evaluated for the row.
+    Exact,
+}
+
 /// The corrected rows, in input order, and how many went through the nodes.
 #[derive(Debug)]
 pub struct BatchOutcome {
     /// One result per row.
     pub rows: Vec<Result<Corrected, ArrivalError>>,
-    /// Rows corrected by interpolation (the rest exactly).
+    /// Rows corrected by interpolation between table nodes.
     pub interpolated: usize,
-    /// Nodes computed.
+    /// Rows corrected exactly with the slow parts from the slow-term nodes.
+    pub slow_term_rows: usize,
+    /// Table nodes computed.
     pub nodes: usize,
+    /// Slow-term nodes computed.
+    pub slow_term_nodes: usize,
 }
 
 /// Corrects `rows`; `observers[0]` must be the geocentre and every `Fixed` index must lie in
@@ -68,8 +92,15 @@ pub fn correct_rows(
 ) -> BatchOutcome {
     let prepared = PreparedRows::new(corrector, observers, rows, path);
     let results = prepared.correct_range(0..rows.len());
-    let interpolated = results.iter().filter(|(_, fast)| *fast).count();
-    BatchOutcome { rows: results.into_iter().map(|(r, _)| r).collect(), interpolated, nodes: prepared.nodes() }
+    let count = |path: RowPath| results.iter().filter(|(_, p)| *p == path).count();
+    let (interpolated, slow_term_rows) = (count(RowPath::TableNodes), count(RowPath::SlowTermNodes));
+    BatchOutcome {
+        rows: results.into_iter().map(|(r, _)| r).collect(),
+        interpolated,
+        slow_term_rows,
+        nodes: prepared.nodes(),
+        slow_term_nodes: prepared.slow_term_nodes(),
+    }
 }
 
 /// Rows with their correction planned and the nodes computed, ready to be corrected range by
@@ -81,6 +112,8 @@ pub struct PreparedRows<'a> {
     plan: Vec<Option<Plan>>,
     chosen: Vec<bool>,
     grids: Vec<NodeGrid>,
+    slow_chosen: Vec<bool>,
+    slow: SlowTermGrid,
 }
 
 impl<'a> PreparedRows<'a> {
@@ -92,8 +125,16 @@ impl<'a> PreparedRows<'a> {
         rows: &'a [RowTime],
         path: CorrectionPath,
     ) -> PreparedRows<'a> {
-        let mut prepared =
-            PreparedRows { corrector, observers, rows, plan: Vec::new(), chosen: Vec::new(), grids: Vec::new() };
+        let mut prepared = PreparedRows {
+            corrector,
+            observers,
+            rows,
+            plan: Vec::new(),
+            chosen: Vec::new(),
+            grids: Vec::new(),
+            slow_chosen: Vec::new(),
+            slow: SlowTermGrid::default(),
+        };
         if path == CorrectionPath::ExactEveryRow || !matches!(observers.first(), Some(Observer::Geocentre)) {
             return prepared;
         }
@@ -109,22 +150,45 @@ impl<'a> PreparedRows<'a> {
                 }
             })
             .collect();
+        // The rest: exact, with the slow parts from coarse nodes where clusters pay.
+        let members: Vec<(i64, i64, usize)> = rows
+            .par_iter()
+            .enumerate()
+            .filter(|(i, _)| !prepared.chosen[*i])
+            .filter_map(|(i, r)| {
+                let (slot, margin) = slow_key(corrector, observers, r)?;
+                let range = slow_slots_used(slot);
+                Some((range.start() - margin, range.end() + margin, i))
+            })
+            .collect();
+        prepared.slow_chosen = vec![false; rows.len()];
+        let slots = clusters_that_pay(members, &mut prepared.slow_chosen);
+        prepared.slow = SlowTermGrid::build(&slots);
         prepared
     }
 
-    /// Nodes computed.
+    /// Table nodes computed.
     pub fn nodes(&self) -> usize {
         self.grids.iter().map(NodeGrid::len).sum()
     }
 
-    /// The corrections of rows `range` (in order), each with `true` when it was interpolated.
-    pub fn correct_range(&self, range: std::ops::Range<usize>) -> Vec<(Result<Corrected, ArrivalError>, bool)> {
-        let exact = |r: &RowTime| {
+    /// Slow-term nodes computed.
+    pub fn slow_term_nodes(&self) -> usize {
+        self.slow.len()
+    }
+
+    /// The corrections of rows `range` (in order), each with the way it was corrected.
+    pub fn correct_range(&self, range: std::ops::Range<usize>) -> Vec<(Result<Corrected, ArrivalError>, RowPath)> {
+        let exact = |r: &RowTime, slow: SlowParts<'_>| {
+            let spacecraft;
             let observer = match r.observer {
-                RowObserver::Fixed(i) => self.observers.get(i).cloned().unwrap_or(Observer::Geocentre),
-                RowObserver::Spacecraft(s) => Observer::Spacecraft(s),
+                RowObserver::Fixed(i) => self.observers.get(i).unwrap_or(&Observer::Geocentre),
+                RowObserver::Spacecraft(s) => {
+                    spacecraft = Observer::Spacecraft(s);
+                    &spacecraft
+                }
             };
-            self.corrector.correct(&r.time, &observer, r.reference)
+            self.corrector.correct_with_slow_parts(&r.time, observer, r.reference, slow)
         };
         range
             .into_par_iter()
@@ -134,9 +198,12 @@ impl<'a> PreparedRows<'a> {
                     && let Some(Some(p)) = self.plan.get(i)
                     && let Some(c) = interpolate_row(self.corrector, &self.grids[0], &self.grids[p.group], r)
                 {
-                    return (Ok(c), true);
+                    return (Ok(c), RowPath::TableNodes);
                 }
-                (exact(r), false)
+                if self.slow_chosen.get(i).copied().unwrap_or(false) {
+                    return (exact(r, SlowParts::Interpolated(&self.slow)), RowPath::SlowTermNodes);
+                }
+                (exact(r, SlowParts::Exact), RowPath::Exact)
             })
             .collect()
     }
@@ -172,11 +239,31 @@ fn plan_row(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTim
     Some(Plan { group, slot: table_slot(&key).0, margin })
 }
 
+/// The slow-term slot of a row that may take the two-speed exact path, with one slot of
+/// margin where its TT is only approximately known (heliocentric readings, TDB and TCB);
+/// `None` for readings on TDB or TCB at an observer.
+fn slow_key(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> Option<(i64, i64)> {
+    let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
+    if on_tdb && r.reference != ReferencePoint::Barycentric {
+        return None;
+    }
+    if let RowObserver::Fixed(index) = r.observer {
+        observers.get(index)?;
+    }
+    let key = match r.time.scale() {
+        TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
+        TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
+        _ => corrector.converter().convert(&r.time, TimeScale::Tt).ok()?,
+    };
+    let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
+    Some((slow_slot(&key).0, margin))
+}
+
 /// Marks the rows of `group` that go through the nodes and returns the node slots they
 /// need: clusters of rows whose node ranges touch, kept when they need fewer nodes than
 /// they have rows.
 fn choose_clusters(plan: &[Option<Plan>], group: usize, chosen: &mut [bool]) -> Vec<i64> {
-    let mut members: Vec<(i64, i64, usize)> = plan
+    let members: Vec<(i64, i64, usize)> = plan
         .iter()
         .enumerate()
         .filter_map(|(i, p)| {
@@ -186,6 +273,13 @@ fn choose_clusters(plan: &[Option<Plan>], group: usize, chosen: &mut [bool]) -> 
             })
         })
         .collect();
+    clusters_that_pay(members, chosen)
+}
+
+/// Given each candidate row's inclusive range of node slots and its index, marks in
+/// `chosen` the rows of clusters (rows whose ranges touch) that need fewer nodes than they
+/// have rows, and returns the slots those clusters need.
+fn clusters_that_pay(mut members: Vec<(i64, i64, usize)>, chosen: &mut [bool]) -> Vec<i64> {
     members.sort_unstable();
     let mut slots = Vec::new();
     let mut start = 0;

@@ -105,7 +105,8 @@ pub fn run(a: Args) -> Result<()> {
         let r = &summary.result;
         println!(
             "corrected {} rows to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}\n  \
-             {} rows interpolated between exactly corrected nodes (≤ 1 ns from the exact correction), {} corrected one by one",
+             {} rows interpolated between exactly corrected nodes (≤ 1 ns from the exact correction), {} corrected one by one \
+             ({} of them with precession–nutation and TDB − TT from daily nodes)",
             r.correction.rows,
             source.name,
             a.output.display(),
@@ -114,6 +115,7 @@ pub fn run(a: Args) -> Result<()> {
             r.reference.ephemeris,
             r.correction.rows_interpolated,
             r.correction.rows - r.correction.rows_interpolated,
+            r.correction.rows_with_interpolated_slow_terms,
         );
     }
     Ok(())

@@ -125,9 +125,23 @@ impl Site {
     /// Accuracy: see module doc.
     pub fn gcrs_state(&self, tt: &Instant, utc: &Instant, orientation: &OrientationValues) -> GcrsState {
         let (tt1, tt2) = tt.jd_two_part();
+        self.gcrs_state_with_precession_nutation(tt, utc, orientation, &sofars::pnp::c2i06a(tt1, tt2))
+    }
+
+    /// As [`Site::gcrs_state`] with the celestial-to-intermediate matrix `c2i` (SOFA
+    /// `iauC2i06a` at `tt`) given by the caller, e.g. rebuilt from interpolated CIP X, Y and
+    /// s (`arrival::slow_terms`); everything else (Earth rotation angle, polar motion, s′) is
+    /// evaluated here. With the exact matrix the result is bit-identical to `gcrs_state`.
+    pub fn gcrs_state_with_precession_nutation(
+        &self,
+        tt: &Instant,
+        utc: &Instant,
+        orientation: &OrientationValues,
+        c2i: &[[f64; 3]; 3],
+    ) -> GcrsState {
+        let (tt1, tt2) = tt.jd_two_part();
         let ut1 = utc.add_seconds(orientation.ut1_minus_utc_s);
         let (u1, u2) = ut1.jd_two_part();
-        let c2i = sofars::pnp::c2i06a(tt1, tt2);
         let era = sofars::erst::era00(u1, u2);
         let sp = sofars::pnp::sp00(tt1, tt2);
         let w = sofars::pnp::pom00(orientation.polar_motion_x_rad, orientation.polar_motion_y_rad, sp);
@@ -138,8 +152,8 @@ impl Site {
         // CIRS = R3(−ERA) · TIRS
         let r_cirs = [c * r_tirs[0] - s * r_tirs[1], s * r_tirs[0] + c * r_tirs[1], r_tirs[2]];
         let v_cirs = [-EARTH_ROTATION_RAD_PER_S * r_cirs[1], EARTH_ROTATION_RAD_PER_S * r_cirs[0], 0.0];
-        let p = mat_t_vec(&c2i, &r_cirs);
-        let v = mat_t_vec(&c2i, &v_cirs);
+        let p = mat_t_vec(c2i, &r_cirs);
+        let v = mat_t_vec(c2i, &v_cirs);
         GcrsState {
             position_km: [p[0] / 1000.0, p[1] / 1000.0, p[2] / 1000.0],
             velocity_km_per_s: [v[0] / 1000.0, v[1] / 1000.0, v[2] / 1000.0],

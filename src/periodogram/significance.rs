@@ -173,3 +173,33 @@ pub fn bootstrap_fap(
     let exceedances = trial_max_power.iter().filter(|&&p| p >= observed_power).count();
     Ok(BootstrapFap { fap: exceedances as f64 / options.trials as f64, exceedances, trial_max_power })
 }
+
+/// A probability as text, in the style of [`format_log10_probability`] ("0.123",
+/// "3.10e-5", "1.50e-27"), with no floor: the analytic and cascade probabilities keep their
+/// relative accuracy down to ~1e-300 (see [`baluev_log10_fap`]). "< 1e-307" for 0 (the value
+/// underflowed: print its log₁₀ with [`format_log10_probability`] where it is at hand), "n/a"
+/// for NaN.
+pub fn format_probability(p: f64) -> String {
+    if p.is_nan() {
+        "n/a".to_string()
+    } else if p <= 0.0 {
+        "< 1e-307".to_string()
+    } else {
+        format_log10_probability(p.min(1.0).log10())
+    }
+}
+
+#[cfg(test)]
+mod format_tests {
+    use super::*;
+
+    #[test]
+    fn probabilities_print_without_a_floor() {
+        assert_eq!(format_probability(1.5e-27), "1.50e-27");
+        assert_eq!(format_probability(3.1e-5), "3.10e-5");
+        assert_eq!(format_probability(0.123), "0.123");
+        assert_eq!(format_probability(0.0), "< 1e-307");
+        assert_eq!(format_probability(f64::NAN), "n/a");
+        assert_eq!(format_log10_probability(-412.34), "10^-412.3");
+    }
+}
