@@ -17,7 +17,7 @@ use std::path::Path;
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::input::{days_since, numeric_cell};
+use super::input::{days_since, numeric_cell, uncertainty_cell};
 use super::search::{SearchOutcome, SearchPlan, describe_alias, search_series};
 use crate::arrival::table::ClockSpec;
 use crate::periodogram::{LightCurve, Series};
@@ -638,7 +638,7 @@ impl Grouper<'_> {
             }
         };
         if let (Some(errs), Some(name)) = (s.error.as_mut(), columns.error.as_deref()) {
-            match numeric_cell(c.error, &file, c.row, name) {
+            match uncertainty_cell(c.error, &file, c.row, name) {
                 Ok(e) => errs.push(e),
                 Err(e) => {
                     s.problem = Some(e.to_string());
