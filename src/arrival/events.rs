@@ -96,6 +96,12 @@ pub fn correct_event_file(
         Some(Err(e)) => return Err(fail(format!("cannot read: {e}"))),
         None => return Err(fail("the file is empty".into())),
     };
+    if let Err(crate::table::TableError::File { message, .. }) =
+        crate::table::layout::check_header(&header, separator, &file)
+    {
+        return Err(fail(message));
+    }
+    let header = crate::table::layout::clean_line(&header).to_string();
     let names: Vec<&str> = header.split(separator).map(str::trim).collect();
     let index = names
         .iter()

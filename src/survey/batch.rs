@@ -101,6 +101,7 @@ impl ReadProgress {
 /// quoted field is a quote); a field may not span lines. Lines starting with `#` are skipped.
 pub struct DelimitedRows {
     file: String,
+    names: Vec<String>,
     reader: BufReader<File>,
     separator: char,
     total_bytes: u64,
@@ -156,8 +157,9 @@ impl DelimitedRows {
                 break;
             }
         }
+        crate::table::layout::check_header(&header, separator, &file)?;
         let mut names = Vec::new();
-        split_fields(header.trim_end_matches(['\n', '\r']), separator, &mut names);
+        split_fields(crate::table::layout::clean_line(&header), separator, &mut names);
         let names: Vec<String> = names.iter().map(|s| s.trim().to_string()).collect();
         let find = |c: &str| -> Result<usize, TableError> {
             names.iter().position(|n| n == c).ok_or_else(|| TableError::MissingColumn {
@@ -177,6 +179,7 @@ impl DelimitedRows {
         ];
         Ok(DelimitedRows {
             file,
+            names,
             reader,
             separator,
             total_bytes,
@@ -213,18 +216,8 @@ impl RowStream for DelimitedRows {
             let cell = |k: usize| -> Option<&str> {
                 self.index[k].and_then(|i| fields.get(i)).map(|c| c.as_ref().trim()).filter(|s| !s.is_empty())
             };
-            let needed = self.index.iter().flatten().max().copied().unwrap_or(0);
-            if fields.len() <= needed {
-                return Err(TableError::Cell {
-                    file: self.file.clone(),
-                    row,
-                    column: String::new(),
-                    message: format!(
-                        "the row has {} fields but the header asks for at least {}; check the separator and quoting",
-                        fields.len(),
-                        needed + 1
-                    ),
-                });
+            if fields.len() != self.names.len() {
+                return Err(crate::table::layout::field_count_error(&self.file, row, fields.len(), &self.names));
             }
             visit(RowCells {
                 row,

@@ -4,6 +4,7 @@
 pub mod columns;
 pub mod error;
 pub mod guard;
+pub mod layout;
 pub mod provenance;
 pub mod read;
 pub mod summary;
