@@ -17,9 +17,7 @@ fuzz_target!(|data: &[u8]| {
         }
     }
     if let Ok(table) = EarthOrientationTable::parse(text, "fuzz.all") {
-        let _ = table.describe();
         for mjd in [f64::NAN, -1e300, 0.0, 41_684.0, 60_000.5, 1e300] {
-            let _ = table.at_utc_mjd(mjd);
             let _ = table.interpolate(mjd);
         }
     }

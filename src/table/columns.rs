@@ -118,7 +118,9 @@ pub fn optional_float_column(df: &DataFrame, file: &str, name: &str) -> Result<V
                     column: name.to_string(),
                     message: format!("'{s}' is not a finite number; a number is required here"),
                 }),
-                Err(message) => Err(TableError::Cell { file: file.to_string(), row: i + 1, column: name.to_string(), message }),
+                Err(message) => {
+                    Err(TableError::Cell { file: file.to_string(), row: i + 1, column: name.to_string(), message })
+                }
             },
         })
         .collect()

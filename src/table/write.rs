@@ -34,8 +34,8 @@ pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> std::io::Re
     let fail = |message: String| TableError::File { file: path.display().to_string(), message };
     let tmp = super::guard::temporary_path(path, "");
     let result = (|| {
-        let (_, mut file) = super::guard::create_temporary(path, "")
-            .map_err(|e| format!("cannot create {}: {e}", tmp.display()))?;
+        let (_, mut file) =
+            super::guard::create_temporary(path, "").map_err(|e| format!("cannot create {}: {e}", tmp.display()))?;
         fill(&mut file).map_err(|e| format!("cannot write {}: {e}", tmp.display()))?;
         file.flush().map_err(|e| e.to_string())?;
         file.sync_all().map_err(|e| e.to_string())?;
