@@ -40,6 +40,7 @@ fn main() {
         skyclock::table::guard::begin_deferred_commit();
     }
     cli::guard::quiet_on_closed_stdout();
+    cli::guard::remove_temporaries_on_interrupt();
     let outcome = std::panic::catch_unwind(|| cli::run(parsed));
     match outcome {
         Ok(Ok(())) => {

@@ -96,20 +96,24 @@ pub fn correct_event_file(
         Some(Err(e)) => return Err(fail(format!("cannot read: {e}"))),
         None => return Err(fail("the file is empty".into())),
     };
+    if let Err(crate::table::TableError::File { message, .. }) =
+        crate::table::layout::check_header(&header, separator, &file)
+    {
+        return Err(fail(message));
+    }
+    let header = crate::table::layout::clean_line(&header).to_string();
     let names: Vec<&str> = header.split(separator).map(str::trim).collect();
     let index = names
         .iter()
         .position(|n| *n == time_column)
         .ok_or_else(|| fail(format!("column '{time_column}' is missing; the table has: {}", names.join(", "))))?;
-    let tmp = output.with_file_name(format!(
-        ".{}.{}.partial",
-        output.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(),
-        std::process::id()
-    ));
+    let tmp = crate::table::guard::temporary_path(output, "");
     let result = (|| {
         let mut writer = BufWriter::with_capacity(
             1 << 20,
-            std::fs::File::create(&tmp).map_err(|e| fail(format!("cannot create {}: {e}", tmp.display())))?,
+            crate::table::guard::create_temporary(output, "")
+                .map_err(|e| fail(format!("cannot create {}: {e}", tmp.display())))?
+                .1,
         );
         let io = |e: std::io::Error| fail(format!("cannot write {}: {e}", tmp.display()));
         writeln!(writer, "{header}{separator}barycentric_s").map_err(io)?;
@@ -228,6 +232,7 @@ pub fn correct_event_file(
     })();
     if result.is_err() {
         let _ = std::fs::remove_file(&tmp);
+        crate::table::guard::release_temporary(&tmp);
     }
     result
 }

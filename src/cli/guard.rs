@@ -5,7 +5,8 @@
 //! starts. A new command's path options are covered without further work.
 //!
 //! Also here: a closed standard output (`skyclock … | head`) ends the program quietly with
-//! exit status 0 instead of a panic message.
+//! exit status 0 instead of a panic message; an interrupt (SIGINT, SIGTERM, SIGHUP) removes
+//! the unfinished output files of the run and ends it with status 128 + the signal number.
 
 use std::path::PathBuf;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -102,6 +103,36 @@ pub fn end_on_closed_stdout(dropped: usize) -> ! {
         );
     }
     std::process::exit(0)
+}
+
+/// Starts a thread that waits for SIGINT, SIGTERM or SIGHUP; on the first one it removes
+/// every temporary file the run owns ([`skyclock::table::guard::abandon_run`]: unfinished
+/// outputs and finished ones still waiting for the all-or-nothing commit), says so on
+/// stderr and exits with status 128 + the signal number (130 for Ctrl-C, 143 for SIGTERM).
+/// Earlier outputs of the same names are left as they were. SIGKILL cannot be caught; the
+/// next run writing the same output removes what a killed run left
+/// ([`skyclock::table::guard::remove_stale_temporaries`]).
+pub fn remove_temporaries_on_interrupt() {
+    use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
+    // Registration fails only if the signals cannot be handled at all; the run then goes on
+    // with the default behaviour (stale temporaries are still removed by the next run).
+    let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGINT, SIGTERM, SIGHUP]) else {
+        return;
+    };
+    std::thread::spawn(move || {
+        if let Some(signal) = signals.forever().next() {
+            let removed = skyclock::table::guard::abandon_run();
+            let name = match signal {
+                SIGINT => "SIGINT (interrupt)",
+                SIGTERM => "SIGTERM",
+                _ => "SIGHUP",
+            };
+            eprintln!(
+                "error: stopped by {name}; {removed} unfinished output file(s) of this run removed, earlier outputs left as they were"
+            );
+            std::process::exit(128 + signal);
+        }
+    });
 }
 
 #[cfg(test)]

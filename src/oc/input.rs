@@ -119,6 +119,7 @@ pub fn read_timing_table(source: &TimingTableSource, reference: &ReferenceData) 
                 format!("error {} d must be finite and > 0", errors[i]),
             ));
         }
+        crate::table::check_uncertainty(errors[i], "d", &file, row, &source.error_column)?;
         timings.push(Timing {
             bjd_tdb: Instant::from_jd_two_part(TimeScale::Tdb, jd1[i], jd2[i]),
             error_d: errors[i],

@@ -393,19 +393,24 @@ pub fn write_figure(fig: &Figure, path: &Path) -> Result<(), PlotError> {
     register_font();
     let file = path.display().to_string();
     let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("").to_ascii_lowercase();
-    let name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
-    let tmp = path.with_file_name(format!(".{name}.{}.partial.{ext}", std::process::id()));
+    if !matches!(ext.as_str(), "svg" | "png") {
+        return Err(PlotError::Format { file, ext });
+    }
+    let tmp = crate::table::guard::temporary_path(path, &ext);
     let drawn = match ext.as_str() {
-        "svg" => render_svg(fig)
-            .map_err(|e| e.to_string())
-            .and_then(|text| std::fs::write(&tmp, text).map_err(|e| e.to_string())),
-        "png" => draw_all(BitMapBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig)
-            .map_err(|e| e.to_string()),
-        _ => return Err(PlotError::Format { file, ext }),
+        "svg" => render_svg(fig).map_err(|e| e.to_string()).and_then(|text| {
+            let (_, mut f) = crate::table::guard::create_temporary(path, &ext).map_err(|e| e.to_string())?;
+            std::io::Write::write_all(&mut f, text.as_bytes()).map_err(|e| e.to_string())
+        }),
+        _ => crate::table::guard::claim_temporary(&tmp, path).map_err(|e| e.to_string()).and_then(|_| {
+            draw_all(BitMapBackend::new(&tmp, (fig.width, fig.height)).into_drawing_area(), fig)
+                .map_err(|e| e.to_string())
+        }),
     };
     let done = drawn.and_then(|_| crate::table::guard::put_in_place(&tmp, path).map_err(|e| e.to_string()));
     if let Err(message) = done {
         let _ = std::fs::remove_file(&tmp);
+        crate::table::guard::release_temporary(&tmp);
         return Err(PlotError::Draw { file, message });
     }
     Ok(())

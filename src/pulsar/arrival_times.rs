@@ -33,6 +33,7 @@ pub fn arrival_times_from_table(df: &DataFrame, file: &str, epoch: &Instant) -> 
         if err[i].is_nan() || err[i] <= 0.0 {
             return Err(cell(i, "error_us", format!("{} µs: every arrival time needs an uncertainty > 0", err[i])));
         }
+        crate::table::check_uncertainty(err[i], "µs", file, i + 1, "error_us")?;
         if let Some(f) = freq[i]
             && (f.is_nan() || f <= 0.0)
         {

@@ -17,7 +17,7 @@ use std::path::Path;
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::input::{days_since, numeric_cell};
+use super::input::{days_since, numeric_cell, uncertainty_cell};
 use super::search::{SearchOutcome, SearchPlan, describe_alias, search_series};
 use crate::arrival::table::ClockSpec;
 use crate::periodogram::{LightCurve, Series};
@@ -101,6 +101,7 @@ impl ReadProgress {
 /// quoted field is a quote); a field may not span lines. Lines starting with `#` are skipped.
 pub struct DelimitedRows {
     file: String,
+    names: Vec<String>,
     reader: BufReader<File>,
     separator: char,
     total_bytes: u64,
@@ -156,8 +157,9 @@ impl DelimitedRows {
                 break;
             }
         }
+        crate::table::layout::check_header(&header, separator, &file)?;
         let mut names = Vec::new();
-        split_fields(header.trim_end_matches(['\n', '\r']), separator, &mut names);
+        split_fields(crate::table::layout::clean_line(&header), separator, &mut names);
         let names: Vec<String> = names.iter().map(|s| s.trim().to_string()).collect();
         let find = |c: &str| -> Result<usize, TableError> {
             names.iter().position(|n| n == c).ok_or_else(|| TableError::MissingColumn {
@@ -177,6 +179,7 @@ impl DelimitedRows {
         ];
         Ok(DelimitedRows {
             file,
+            names,
             reader,
             separator,
             total_bytes,
@@ -213,18 +216,8 @@ impl RowStream for DelimitedRows {
             let cell = |k: usize| -> Option<&str> {
                 self.index[k].and_then(|i| fields.get(i)).map(|c| c.as_ref().trim()).filter(|s| !s.is_empty())
             };
-            let needed = self.index.iter().flatten().max().copied().unwrap_or(0);
-            if fields.len() <= needed {
-                return Err(TableError::Cell {
-                    file: self.file.clone(),
-                    row,
-                    column: String::new(),
-                    message: format!(
-                        "the row has {} fields but the header asks for at least {}; check the separator and quoting",
-                        fields.len(),
-                        needed + 1
-                    ),
-                });
+            if fields.len() != self.names.len() {
+                return Err(crate::table::layout::field_count_error(&self.file, row, fields.len(), &self.names));
             }
             visit(RowCells {
                 row,
@@ -638,7 +631,7 @@ impl Grouper<'_> {
             }
         };
         if let (Some(errs), Some(name)) = (s.error.as_mut(), columns.error.as_deref()) {
-            match numeric_cell(c.error, &file, c.row, name) {
+            match uncertainty_cell(c.error, &file, c.row, name) {
                 Ok(e) => errs.push(e),
                 Err(e) => {
                     s.problem = Some(e.to_string());

@@ -5,7 +5,7 @@ use crate::arrival::ReferencePoint;
 use crate::arrival::table::ClockSpec;
 use crate::constants::SECONDS_PER_DAY;
 use crate::periodogram::{LightCurve, SearchError, Series};
-use crate::table::TableError;
+use crate::table::{TableError, check_uncertainty, parse_cell_number};
 use crate::time::{Instant, LeapSecondTable, TimeScale, parse_time};
 
 /// Names of the columns that make a light curve.
@@ -44,22 +44,32 @@ pub struct TableLightCurve {
     pub file_row: Vec<usize>,
 }
 
-/// Reads a numeric cell: empty, `nan`, `NaN`, `inf` → NaN (dropped and counted later);
-/// text that is not a number is an error naming file, row and column.
+/// Reads a numeric cell: empty or `nan` → NaN (the row is dropped and counted later); text
+/// that is not a number, an infinity or a number beyond ±[`MAX_ABS_CELL`](crate::table::MAX_ABS_CELL) (e.g. a
+/// magnitude of 1e300, which would turn every power of a periodogram into NaN) is an error
+/// naming file, row and column and the accepted range (see [`parse_cell_number`]).
 pub fn numeric_cell(text: Option<&str>, file: &str, row: usize, column: &str) -> Result<f64, TableError> {
     let Some(s) = text.map(str::trim).filter(|s| !s.is_empty()) else {
         return Ok(f64::NAN);
     };
-    match s.parse::<f64>() {
-        Ok(v) if v.is_finite() => Ok(v),
-        Ok(_) => Ok(f64::NAN),
-        Err(_) => Err(TableError::Cell {
-            file: file.to_string(),
-            row,
-            column: column.to_string(),
-            message: format!("'{s}' is not a number"),
-        }),
+    parse_cell_number(s).map_err(|message| TableError::Cell {
+        file: file.to_string(),
+        row,
+        column: column.to_string(),
+        message,
+    })
+}
+
+/// Reads an uncertainty cell: as [`numeric_cell`] (empty or NaN → NaN, dropped and
+/// counted), and a number must lie in [`MIN_UNCERTAINTY`](crate::table::MIN_UNCERTAINTY) … [`MAX_ABS_CELL`](crate::table::MAX_ABS_CELL)
+/// ([`check_uncertainty`]); zero and negative values are left to the stage that uses the
+/// curve, which names them.
+pub fn uncertainty_cell(text: Option<&str>, file: &str, row: usize, column: &str) -> Result<f64, TableError> {
+    let v = numeric_cell(text, file, row, column)?;
+    if v.is_finite() && v > 0.0 {
+        check_uncertainty(v, "", file, row, column)?;
     }
+    Ok(v)
 }
 
 /// Whether a clock label already means BJD_TDB (or barycentric MJD in TDB): such times need
@@ -138,7 +148,7 @@ pub fn assemble(
         (Some(e), Some(name)) => {
             let mut out = Vec::with_capacity(n);
             for (i, v) in e.iter().enumerate() {
-                out.push(numeric_cell(v.as_deref(), file, file_row_of(i), name)?);
+                out.push(uncertainty_cell(v.as_deref(), file, file_row_of(i), name)?);
             }
             Some(out)
         }

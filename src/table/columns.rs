@@ -32,6 +32,58 @@ pub fn text_column(df: &DataFrame, file: &str, name: &str) -> Result<Vec<Option<
     Ok(ca.iter().map(|v| v.map(|s| s.trim().to_string()).filter(|s| !s.is_empty())).collect())
 }
 
+/// The largest magnitude accepted for a number read from a table cell: 1e50. Every fit and
+/// periodogram sums squares of values over weights 1/σ²; with |x| ≤ 1e50 and σ ≥ 1e-50
+/// (see [`MIN_UNCERTAINTY`]) a sum over 1e9 rows stays below 1e210, far inside `f64`
+/// (≈1.8e308), so no kernel overflows into inf or NaN. Values beyond it are sentinels or
+/// unit mistakes (a magnitude of 1e300). Common practice (a guard on `f64` range).
+pub const MAX_ABS_CELL: f64 = 1e50;
+
+/// The smallest positive uncertainty accepted (units of its column): 1e-50, so that the
+/// weight 1/σ² stays below 1e100 (see [`MAX_ABS_CELL`]). Common practice.
+pub const MIN_UNCERTAINTY: f64 = 1e-50;
+
+/// Reads the text of one numeric cell. `NaN` (any case) gives `Ok(NaN)`: the caller decides
+/// whether a missing value is dropped or refused. Text that is not a number, an infinity
+/// (reported as such, never as NaN) and a number beyond ±[`MAX_ABS_CELL`] are refused with a
+/// message saying what is accepted (the caller adds file, row and column).
+pub fn parse_cell_number(text: &str) -> Result<f64, String> {
+    let s = text.trim();
+    let v: f64 = s.parse().map_err(|_| format!("'{s}' is not a number"))?;
+    if v.is_nan() {
+        Ok(v)
+    } else if v.is_infinite() {
+        Err(format!(
+            "'{s}' is {}infinite; a finite number within ±{MAX_ABS_CELL:e} is required (an empty or NaN cell marks a missing value)",
+            if v < 0.0 { "minus " } else { "" }
+        ))
+    } else if v.abs() > MAX_ABS_CELL {
+        Err(format!(
+            "{v:e} is outside the accepted range ±{MAX_ABS_CELL:e} (beyond it the sums of squares of fits and periodograms overflow); is it a missing-data marker or a unit mistake? Leave the cell empty for a missing value"
+        ))
+    } else {
+        Ok(v)
+    }
+}
+
+/// Checks a 1-σ uncertainty already read from a cell: finite, > 0 and at least
+/// [`MIN_UNCERTAINTY`]; `unit` (e.g. `d`, `µs`, or empty) is written after the value. The
+/// error names file, row (1-based data row) and column, and the accepted range.
+pub fn check_uncertainty(value: f64, unit: &str, file: &str, row: usize, column: &str) -> Result<(), TableError> {
+    if value.is_finite() && value >= MIN_UNCERTAINTY && value <= MAX_ABS_CELL {
+        return Ok(());
+    }
+    let unit = if unit.is_empty() { String::new() } else { format!(" {unit}") };
+    Err(TableError::Cell {
+        file: file.to_string(),
+        row,
+        column: column.to_string(),
+        message: format!(
+            "uncertainty {value}{unit} is outside the accepted range {MIN_UNCERTAINTY:e} … {MAX_ABS_CELL:e}{unit}; every row needs a positive, finite uncertainty"
+        ),
+    })
+}
+
 /// A numeric column as `f64`; an empty, non-numeric or non-finite cell is an error naming
 /// its row (1-based data row) and column.
 pub fn float_column(df: &DataFrame, file: &str, name: &str) -> Result<Vec<f64>, TableError> {
@@ -50,22 +102,25 @@ pub fn float_column(df: &DataFrame, file: &str, name: &str) -> Result<Vec<f64>, 
         .collect()
 }
 
-/// A numeric column as `f64` with empty cells as `None`; text that is not a number, NaN or
-/// infinity is an error naming row and column.
+/// A numeric column as `f64` with empty cells as `None`; text that is not a number, NaN,
+/// infinity or a number beyond ±[`MAX_ABS_CELL`] is an error naming row and column.
 pub fn optional_float_column(df: &DataFrame, file: &str, name: &str) -> Result<Vec<Option<f64>>, TableError> {
     let text = text_column(df, file, name)?;
     text.into_iter()
         .enumerate()
         .map(|(i, cell)| match cell {
             None => Ok(None),
-            Some(s) => match s.parse::<f64>() {
+            Some(s) => match parse_cell_number(&s) {
                 Ok(v) if v.is_finite() => Ok(Some(v)),
-                _ => Err(TableError::Cell {
+                Ok(_) => Err(TableError::Cell {
                     file: file.to_string(),
                     row: i + 1,
                     column: name.to_string(),
-                    message: format!("'{s}' is not a finite number"),
+                    message: format!("'{s}' is not a finite number; a number is required here"),
                 }),
+                Err(message) => {
+                    Err(TableError::Cell { file: file.to_string(), row: i + 1, column: name.to_string(), message })
+                }
             },
         })
         .collect()

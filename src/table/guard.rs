@@ -8,7 +8,16 @@
 //! finished temporary file over its target but records it; [`commit_deferred`] renames them
 //! all once the command has succeeded, [`discard_deferred`] removes them after a failure, so
 //! a command that fails half-way leaves no output of this run behind.
+//!
+//! And the temporaries themselves: every temporary file a run writes is named
+//! `.<name>.<pid>.partial[.<ext>]` beside its target ([`temporary_path`]) and recorded while
+//! it exists ([`create_temporary`], [`claim_temporary`], [`release_temporary`]). An
+//! interrupted run (the program's SIGINT/SIGTERM/SIGHUP handler) removes them all with
+//! [`abandon_run`]; a run killed outright (SIGKILL cannot be caught) leaves them, and the next
+//! run that writes the same output removes those whose process is gone
+//! ([`remove_stale_temporaries`]).
 
+use std::fs::File;
 use std::path::{Component, Path, PathBuf};
 use std::sync::Mutex;
 
@@ -141,7 +150,12 @@ pub fn put_in_place(tmp: &Path, target: &Path) -> std::io::Result<()> {
             list.push((tmp.to_path_buf(), target.to_path_buf()));
             Ok(())
         }
-        None => std::fs::rename(tmp, target),
+        None => {
+            drop(guard);
+            let moved = std::fs::rename(tmp, target);
+            release_temporary(tmp);
+            moved
+        }
     }
 }
 
@@ -154,9 +168,12 @@ pub fn commit_deferred() -> Result<(), TableError> {
     for (tmp, target) in list {
         if failure.is_some() {
             let _ = std::fs::remove_file(&tmp);
+            release_temporary(&tmp);
             continue;
         }
-        if let Err(e) = std::fs::rename(&tmp, &target) {
+        let moved = std::fs::rename(&tmp, &target);
+        release_temporary(&tmp);
+        if let Err(e) = moved {
             let _ = std::fs::remove_file(&tmp);
             failure = Some(TableError::File {
                 file: target.display().to_string(),
@@ -173,8 +190,140 @@ pub fn discard_deferred() -> usize {
     let list = deferred().take().unwrap_or_default();
     for (tmp, _) in &list {
         let _ = std::fs::remove_file(tmp);
+        release_temporary(tmp);
     }
     list.len()
+}
+
+/// Temporary files of this run that exist (or are about to), and whether the run has been
+/// abandoned (no new temporary may be created then).
+struct Owned {
+    paths: Vec<PathBuf>,
+    abandoned: bool,
+}
+
+static OWNED: Mutex<Owned> = Mutex::new(Owned { paths: Vec::new(), abandoned: false });
+
+fn owned() -> std::sync::MutexGuard<'static, Owned> {
+    OWNED.lock().unwrap_or_else(|poisoned| poisoned.into_inner())
+}
+
+/// The temporary file used while writing `target`: `.<name>.<pid>.partial` in the same
+/// folder, with `.<suffix>` appended when `suffix` is not empty (a figure keeps its
+/// extension, which selects the image format).
+pub fn temporary_path(target: &Path, suffix: &str) -> PathBuf {
+    let name = target.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
+    let tail = if suffix.is_empty() { String::new() } else { format!(".{suffix}") };
+    target.with_file_name(format!(".{name}.{}.partial{tail}", std::process::id()))
+}
+
+/// Whether process `pid` is running. Linux: `/proc/<pid>` exists. Elsewhere the answer is
+/// always yes, so that no file of a live run is ever removed.
+fn process_is_running(pid: u32) -> bool {
+    let proc_root = Path::new("/proc/self");
+    if !proc_root.exists() {
+        return true;
+    }
+    Path::new("/proc").join(pid.to_string()).exists()
+}
+
+/// The process id in the name of a temporary file of `target` (`.<name>.<pid>.partial` or
+/// `.<name>.<pid>.partial.<ext>`), if `file_name` is one.
+fn temporary_owner(file_name: &str, target_name: &str) -> Option<u32> {
+    let rest = file_name.strip_prefix('.')?.strip_prefix(target_name)?.strip_prefix('.')?;
+    let (pid, tail) = rest.split_once('.')?;
+    if !(tail == "partial" || tail.strip_prefix("partial.").is_some_and(|ext| !ext.contains('.'))) {
+        return None;
+    }
+    if pid.is_empty() || !pid.bytes().all(|b| b.is_ascii_digit()) {
+        return None;
+    }
+    pid.parse().ok()
+}
+
+/// Removes the temporary files of `target` left by runs that are no longer running (a run
+/// killed with SIGKILL cannot remove its own); returns how many were removed. Files of this
+/// process and of live processes are kept.
+pub fn remove_stale_temporaries(target: &Path) -> usize {
+    let Some(name) = target.file_name().map(|n| n.to_string_lossy().to_string()) else {
+        return 0;
+    };
+    let folder = match target.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let Ok(entries) = std::fs::read_dir(&folder) else {
+        return 0;
+    };
+    let own = std::process::id();
+    let mut removed = 0;
+    for entry in entries.flatten() {
+        let file_name = entry.file_name().to_string_lossy().to_string();
+        let Some(pid) = temporary_owner(&file_name, &name) else {
+            continue;
+        };
+        if pid != own && !process_is_running(pid) && std::fs::remove_file(entry.path()).is_ok() {
+            removed += 1;
+        }
+    }
+    removed
+}
+
+/// Creates (truncating) the temporary file for `target` and records it as owned by this
+/// run, after removing stale temporaries of `target` left by runs that are gone. Refused
+/// once the run has been abandoned (an interrupt is being handled).
+pub fn create_temporary(target: &Path, suffix: &str) -> std::io::Result<(PathBuf, File)> {
+    let tmp = temporary_path(target, suffix);
+    remove_stale_temporaries(target);
+    let mut owned = owned();
+    if owned.abandoned {
+        return Err(std::io::Error::other("the run was interrupted"));
+    }
+    let file = File::create(&tmp)?;
+    owned.paths.push(tmp.clone());
+    Ok((tmp, file))
+}
+
+/// Records `tmp` as a temporary of this run that another writer (e.g. an image encoder)
+/// will create, after removing stale temporaries of `target`.
+pub fn claim_temporary(tmp: &Path, target: &Path) -> std::io::Result<()> {
+    remove_stale_temporaries(target);
+    let mut owned = owned();
+    if owned.abandoned {
+        return Err(std::io::Error::other("the run was interrupted"));
+    }
+    owned.paths.push(tmp.to_path_buf());
+    Ok(())
+}
+
+/// Forgets `tmp` (it was renamed into place or removed).
+pub fn release_temporary(tmp: &Path) {
+    owned().paths.retain(|p| p != tmp);
+}
+
+/// The temporary files this run owns now (unfinished or waiting for the commit).
+pub fn owned_temporaries() -> Vec<PathBuf> {
+    owned().paths.clone()
+}
+
+/// Ends the run's writing for good (an interrupt): removes every temporary file it owns,
+/// finished or not, and refuses any new one; returns how many files were removed. Meant to
+/// be followed at once by the end of the process: writers that were in the middle of a file
+/// keep writing into a removed file and cannot put it in place.
+pub fn abandon_run() -> usize {
+    let mut owned = owned();
+    owned.abandoned = true;
+    let mut removed = 0;
+    for p in owned.paths.drain(..) {
+        if std::fs::remove_file(&p).is_ok() {
+            removed += 1;
+        }
+    }
+    drop(owned);
+    if let Some(list) = deferred().as_mut() {
+        list.clear();
+    }
+    removed
 }
 
 #[cfg(test)]
@@ -206,6 +355,32 @@ mod tests {
         std::fs::hard_link(&input, &hard).unwrap();
         assert!(check_outputs(&inputs, &[NamedPath::new("--output", &hard)]).is_err());
         assert!(check_outputs(&inputs, &[NamedPath::new("--output", d.join("new.csv"))]).is_ok());
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn temporary_names_are_told_from_other_files() {
+        assert_eq!(temporary_owner(".out.csv.123.partial", "out.csv"), Some(123));
+        assert_eq!(temporary_owner(".fig.png.77.partial.png", "fig.png"), Some(77));
+        for other in [".out.csv.partial", ".out.csv.12a.partial", "out.csv.12.partial", ".out.csv.12.partial.a.b"] {
+            assert_eq!(temporary_owner(other, "out.csv"), None, "{other}");
+        }
+        assert_eq!(temporary_owner(".other.csv.12.partial", "out.csv"), None);
+    }
+
+    #[test]
+    fn stale_temporaries_of_dead_runs_are_removed_and_live_ones_kept() {
+        let d = folder("stale");
+        let target = d.join("out.csv");
+        // A pid above the kernel's pid_max (4194304 at most on Linux) is never running.
+        let dead = d.join(".out.csv.4294967295.partial");
+        let mine = temporary_path(&target, "");
+        let unrelated = d.join(".notes.txt.4294967295.partial");
+        for p in [&dead, &mine, &unrelated] {
+            std::fs::write(p, "x").unwrap();
+        }
+        assert_eq!(remove_stale_temporaries(&target), 1);
+        assert!(!dead.exists() && mine.exists() && unrelated.exists());
         let _ = std::fs::remove_dir_all(&d);
     }
 

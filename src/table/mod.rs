@@ -4,12 +4,16 @@
 pub mod columns;
 pub mod error;
 pub mod guard;
+pub mod layout;
 pub mod provenance;
 pub mod read;
 pub mod summary;
 pub mod write;
 
-pub use columns::{float_column, optional_float_column, text_column};
+pub use columns::{
+    MAX_ABS_CELL, MIN_UNCERTAINTY, check_uncertainty, float_column, optional_float_column, parse_cell_number,
+    text_column,
+};
 pub use error::TableError;
 pub use provenance::Provenance;
 pub use read::{TableFormat, read_table};

@@ -48,6 +48,9 @@ pub fn read_table(path: &Path, text_columns: &[&str]) -> Result<DataFrame, Table
     let df = match format {
         TableFormat::Csv | TableFormat::Tsv => {
             let separator = if format == TableFormat::Tsv { b'\t' } else { b',' };
+            // Separator, field counts and encoding are checked first, so that a ragged or
+            // semicolon-separated file gets our message with its row, not the parser's.
+            super::layout::check_delimited_file(path, separator as char)?;
             let mut schema = Schema::default();
             for c in text_columns {
                 schema.with_column((*c).into(), DataType::String);

@@ -27,18 +27,15 @@ pub fn refuse_overwriting_inputs(output: &Path, inputs: &[&Path]) -> Result<(), 
     Ok(())
 }
 
-/// Path of the temporary file used while writing `path`.
-fn temporary_path(path: &Path) -> PathBuf {
-    let name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
-    path.with_file_name(format!(".{name}.{}.partial", std::process::id()))
-}
-
-/// Writes bytes produced by `fill` to `path` atomically.
+/// Writes bytes produced by `fill` to `path` atomically: into a temporary file of this run
+/// beside it (stale ones of killed runs are removed first), then renamed
+/// ([`super::guard::put_in_place`]).
 pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> std::io::Result<()>) -> Result<(), TableError> {
     let fail = |message: String| TableError::File { file: path.display().to_string(), message };
-    let tmp = temporary_path(path);
+    let tmp = super::guard::temporary_path(path, "");
     let result = (|| {
-        let mut file = File::create(&tmp).map_err(|e| format!("cannot create {}: {e}", tmp.display()))?;
+        let (_, mut file) =
+            super::guard::create_temporary(path, "").map_err(|e| format!("cannot create {}: {e}", tmp.display()))?;
         fill(&mut file).map_err(|e| format!("cannot write {}: {e}", tmp.display()))?;
         file.flush().map_err(|e| e.to_string())?;
         file.sync_all().map_err(|e| e.to_string())?;
@@ -46,6 +43,7 @@ pub fn write_atomically(path: &Path, fill: impl FnOnce(&mut File) -> std::io::Re
     })();
     if let Err(message) = result {
         let _ = std::fs::remove_file(&tmp);
+        super::guard::release_temporary(&tmp);
         return Err(fail(message));
     }
     Ok(())
