@@ -52,7 +52,7 @@ pub fn numeric_cell(text: Option<&str>, file: &str, row: usize, column: &str) ->
     let Some(s) = text.map(str::trim).filter(|s| !s.is_empty()) else {
         return Ok(f64::NAN);
     };
-    parse_cell_number(s).map_err(|message| TableError::Cell {
+    parse_cell_number(s).map_err(|crate::table::CellNumberError(message)| TableError::Cell {
         file: file.to_string(),
         row,
         column: column.to_string(),

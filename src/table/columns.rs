@@ -43,24 +43,30 @@ pub const MAX_ABS_CELL: f64 = 1e50;
 /// weight 1/σ² stays below 1e100 (see [`MAX_ABS_CELL`]). Common practice.
 pub const MIN_UNCERTAINTY: f64 = 1e-50;
 
+/// Why a cell's text was refused as a number (the message says what is accepted; the caller
+/// adds file, row and column).
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{0}")]
+pub struct CellNumberError(pub String);
+
 /// Reads the text of one numeric cell. `NaN` (any case) gives `Ok(NaN)`: the caller decides
 /// whether a missing value is dropped or refused. Text that is not a number, an infinity
 /// (reported as such, never as NaN) and a number beyond ±[`MAX_ABS_CELL`] are refused with a
 /// message saying what is accepted (the caller adds file, row and column).
-pub fn parse_cell_number(text: &str) -> Result<f64, String> {
+pub fn parse_cell_number(text: &str) -> Result<f64, CellNumberError> {
     let s = text.trim();
-    let v: f64 = s.parse().map_err(|_| format!("'{s}' is not a number"))?;
+    let v: f64 = s.parse().map_err(|_| CellNumberError(format!("'{s}' is not a number")))?;
     if v.is_nan() {
         Ok(v)
     } else if v.is_infinite() {
-        Err(format!(
+        Err(CellNumberError(format!(
             "'{s}' is {}infinite; a finite number within ±{MAX_ABS_CELL:e} is required (an empty or NaN cell marks a missing value)",
             if v < 0.0 { "minus " } else { "" }
-        ))
+        )))
     } else if v.abs() > MAX_ABS_CELL {
-        Err(format!(
+        Err(CellNumberError(format!(
             "{v:e} is outside the accepted range ±{MAX_ABS_CELL:e} (beyond it the sums of squares of fits and periodograms overflow); is it a missing-data marker or a unit mistake? Leave the cell empty for a missing value"
-        ))
+        )))
     } else {
         Ok(v)
     }
@@ -70,7 +76,7 @@ pub fn parse_cell_number(text: &str) -> Result<f64, String> {
 /// [`MIN_UNCERTAINTY`]; `unit` (e.g. `d`, `µs`, or empty) is written after the value. The
 /// error names file, row (1-based data row) and column, and the accepted range.
 pub fn check_uncertainty(value: f64, unit: &str, file: &str, row: usize, column: &str) -> Result<(), TableError> {
-    if value.is_finite() && value >= MIN_UNCERTAINTY && value <= MAX_ABS_CELL {
+    if (MIN_UNCERTAINTY..=MAX_ABS_CELL).contains(&value) {
         return Ok(());
     }
     let unit = if unit.is_empty() { String::new() } else { format!(" {unit}") };
@@ -118,7 +124,7 @@ pub fn optional_float_column(df: &DataFrame, file: &str, name: &str) -> Result<V
                     column: name.to_string(),
                     message: format!("'{s}' is not a finite number; a number is required here"),
                 }),
-                Err(message) => {
+                Err(CellNumberError(message)) => {
                     Err(TableError::Cell { file: file.to_string(), row: i + 1, column: name.to_string(), message })
                 }
             },
