@@ -25,7 +25,9 @@ use serde::{Deserialize, Serialize};
 use super::analysis::{BootstrapRun, EstimateSummary, ReferenceEphemerisSummary};
 use super::cycles::{CycleOptions, OcSeries, ReferenceEphemeris, assign_cycles};
 use super::eclipse_times::{MinimumTimeMethod, minimum_offset_rad};
-use super::fitting::{BootstrapOptions, bootstrap_lm_options, default_range, derived_values, lm_options};
+use super::fitting::{
+    BootstrapOptions, bootstrap_lm_options, default_range, derived_values, gradient, lm_options, quadratic_form,
+};
 use super::models::{MAX_ECCENTRICITY, ModelKind, light_time_d, light_time_with_gradient_d};
 use super::{EventKind, OcError, Timing};
 use crate::constants::DAYS_PER_JULIAN_YEAR;
@@ -271,32 +273,6 @@ impl ApsidalFit {
     pub fn derived_value(&self, name: &str) -> Option<(f64, f64)> {
         self.derived.iter().find(|d| d.0 == name).map(|d| (d.1, d.2))
     }
-}
-
-fn gradient(params: &[f64], f: impl Fn(&[f64]) -> f64) -> Vec<f64> {
-    let mut g = vec![0.0; params.len()];
-    let mut p = params.to_vec();
-    for j in 0..params.len() {
-        let h = 1e-6 * params[j].abs().max(1e-6);
-        p[j] = params[j] + h;
-        let up = f(&p);
-        p[j] = params[j] - h;
-        let dn = f(&p);
-        p[j] = params[j];
-        g[j] = (up - dn) / (2.0 * h);
-    }
-    g
-}
-
-fn quadratic_form(g: &[f64], cov: &[f64]) -> f64 {
-    let p = g.len();
-    let mut s = 0.0;
-    for a in 0..p {
-        for b in 0..p {
-            s += g[a] * cov[a * p + b] * g[b];
-        }
-    }
-    s.max(0.0).sqrt()
 }
 
 /// Derived quantities: (name, value, wrap period or 0). sidereal_period_d = P_ref + ΔP_s;

@@ -90,7 +90,8 @@ impl ModelFit {
     }
 }
 
-fn gradient(params: &[f64], f: impl Fn(&[f64]) -> f64) -> Vec<f64> {
+/// Central-difference gradient of `f` at `params` (relative step 1e-6, common practice).
+pub(super) fn gradient(params: &[f64], f: impl Fn(&[f64]) -> f64) -> Vec<f64> {
     let mut g = vec![0.0; params.len()];
     let mut p = params.to_vec();
     for j in 0..params.len() {
@@ -105,7 +106,8 @@ fn gradient(params: &[f64], f: impl Fn(&[f64]) -> f64) -> Vec<f64> {
     g
 }
 
-fn quadratic_form(g: &[f64], cov: &[f64]) -> f64 {
+/// √(gᵀ C g): the 1σ of a derived value by linear propagation of the covariance `cov`.
+pub(super) fn quadratic_form(g: &[f64], cov: &[f64]) -> f64 {
     let p = g.len();
     let mut s = 0.0;
     for a in 0..p {
