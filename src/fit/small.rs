@@ -49,6 +49,36 @@ pub fn cholesky_solve_in_place(a: &mut [f64], b: &mut [f64], p: usize) -> bool {
     true
 }
 
+/// Add one weighted row of a linear least-squares design to the normal equations:
+/// `a += w·rowᵀrow`, `b += w·row·y` (`a` is `p×p` row-major with `p = row.len()`).
+pub fn add_weighted_row(a: &mut [f64], b: &mut [f64], row: &[f64], weight: f64, y: f64) {
+    let p = row.len();
+    for j in 0..p {
+        b[j] += weight * row[j] * y;
+        for k in 0..p {
+            a[j * p + k] += weight * row[j] * row[k];
+        }
+    }
+}
+
+/// Solve the normal equations `a x = b` (`p×p`, row-major) after scaling them to a unit
+/// diagonal (Jacobi scaling, which makes the pivot test of [`cholesky_solve_in_place`]
+/// independent of the parameters' units). Both `a` and `b` are overwritten; returns `x`, or
+/// `None` when the scaled matrix is not numerically positive definite.
+pub fn solve_scaled_normal_equations(a: &mut [f64], b: &mut [f64], p: usize) -> Option<Vec<f64>> {
+    let d: Vec<f64> = (0..p).map(|j| a[j * p + j].sqrt().max(1e-300)).collect();
+    for j in 0..p {
+        b[j] /= d[j];
+        for k in 0..p {
+            a[j * p + k] /= d[j] * d[k];
+        }
+    }
+    if !cholesky_solve_in_place(a, b, p) {
+        return None;
+    }
+    Some((0..p).map(|j| b[j] / d[j]).collect())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -65,5 +95,18 @@ mod tests {
         let mut a = vec![1.0, 1.0, 1.0, 1.0];
         let mut b = vec![1.0, 1.0];
         assert!(!cholesky_solve_in_place(&mut a, &mut b, 2));
+    }
+
+    #[test]
+    fn scaled_normal_equations_solve_a_badly_scaled_line() {
+        // y = 3 + 2e-6·t at t = 0, 1e6, 2e6 (exact, hand computation): columns differ by 1e6.
+        let (mut a, mut b) = (vec![0.0; 4], vec![0.0; 2]);
+        for t in [0.0, 1e6, 2e6] {
+            add_weighted_row(&mut a, &mut b, &[1.0, t], 2.0, 3.0 + 2e-6 * t);
+        }
+        let x = solve_scaled_normal_equations(&mut a, &mut b, 2).unwrap();
+        assert!((x[0] - 3.0).abs() < 1e-12 && (x[1] - 2e-6).abs() < 1e-18, "{x:?}");
+        let (mut a, mut b) = (vec![1.0, 1.0, 1.0, 1.0], vec![1.0, 1.0]);
+        assert!(solve_scaled_normal_equations(&mut a, &mut b, 2).is_none());
     }
 }

@@ -31,7 +31,11 @@ use super::fitting::{
 use super::models::{MAX_ECCENTRICITY, ModelKind, light_time_d, light_time_with_gradient_d};
 use super::{EventKind, OcError, Timing};
 use crate::constants::DAYS_PER_JULIAN_YEAR;
-use crate::fit::{LsqModel, SeededRng, small::cholesky_solve_in_place, weighted_linear_lsq};
+use crate::fit::{
+    LsqModel, SeededRng,
+    small::{add_weighted_row, solve_scaled_normal_equations},
+    weighted_linear_lsq,
+};
 
 /// Options of an apsidal-motion fit.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -359,25 +363,9 @@ fn first_order_start(series: &OcSeries, weights: &[f64], rate: f64, amplitude_pe
         })
         .collect();
     for (i, r) in rows.iter().enumerate() {
-        let w = weights[i];
-        for j in 0..p {
-            b[j] += w * r[j] * series.oc_d[i];
-            for k in 0..p {
-                a[j * p + k] += w * r[j] * r[k];
-            }
-        }
+        add_weighted_row(&mut a, &mut b, r, weights[i], series.oc_d[i]);
     }
-    let d: Vec<f64> = (0..p).map(|j| a[j * p + j].sqrt().max(1e-300)).collect();
-    for j in 0..p {
-        b[j] /= d[j];
-        for k in 0..p {
-            a[j * p + k] /= d[j] * d[k];
-        }
-    }
-    if !cholesky_solve_in_place(&mut a, &mut b, p) {
-        return None;
-    }
-    let x: Vec<f64> = (0..p).map(|j| b[j] / d[j]).collect();
+    let x = solve_scaled_normal_equations(&mut a, &mut b, p)?;
     let chi2: f64 = rows
         .iter()
         .enumerate()

@@ -15,7 +15,8 @@ use super::cycles::OcSeries;
 use super::models::{ModelKind, OcModel, eccentricity_omega, evaluate};
 use super::orbit::irwin_semi_amplitude;
 use crate::fit::{
-    LevenbergOptions, LsqModel, NonlinearFit, SeededRng, levenberg_marquardt, small::cholesky_solve_in_place,
+    LevenbergOptions, LsqModel, NonlinearFit, SeededRng, levenberg_marquardt,
+    small::{add_weighted_row, solve_scaled_normal_equations},
     weighted_linear_lsq,
 };
 
@@ -237,26 +238,11 @@ fn companion_search(
                 }
                 row[np] = ph.sin();
                 row[np + 1] = ph.cos();
-                let w = weights[i];
-                for r in 0..p {
-                    b[r] += w * row[r] * series.oc_d[i];
-                    for c in 0..p {
-                        a[r * p + c] += w * row[r] * row[c];
-                    }
-                }
+                add_weighted_row(&mut a, &mut b, &row[..p], weights[i], series.oc_d[i]);
             }
-            // Scale columns to unit diagonal for conditioning.
-            let d: Vec<f64> = (0..p).map(|r| a[r * p + r].sqrt().max(1e-300)).collect();
-            for r in 0..p {
-                b[r] /= d[r];
-                for c in 0..p {
-                    a[r * p + c] /= d[r] * d[c];
-                }
-            }
-            if !cholesky_solve_in_place(&mut a, &mut b, p) {
+            let Some(x) = solve_scaled_normal_equations(&mut a, &mut b, p) else {
                 return (1.0 / f, f64::INFINITY, 0.0, 0.0);
-            }
-            let x: Vec<f64> = (0..p).map(|r| b[r] / d[r]).collect();
+            };
             let mut chi2 = 0.0;
             for i in 0..series.len() {
                 let e = series.cycle[i];

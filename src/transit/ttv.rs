@@ -15,7 +15,7 @@ use super::TransitError;
 use super::timing::FittedValue;
 use crate::fit::levenberg::{LevenbergOptions, LsqModel, levenberg_marquardt};
 use crate::fit::linear::weighted_linear_lsq;
-use crate::fit::small::cholesky_solve_in_place;
+use crate::fit::small::{add_weighted_row, cholesky_solve_in_place};
 use crate::oc::OcSeries;
 use crate::periodogram::significance::baluev_log10_fap_nested;
 
@@ -117,13 +117,7 @@ fn nested_power(cycle: &[f64], oc: &[f64], weight: &[f64], chi2_line: f64, f: f6
     let mut b = [0.0; 4];
     for ((e, y), w) in cycle.iter().zip(oc).zip(weight) {
         let (s, c) = (TAU * f * e).sin_cos();
-        let x = [1.0, *e, s, c];
-        for i in 0..4 {
-            b[i] += w * x[i] * y;
-            for j in 0..4 {
-                a[4 * i + j] += w * x[i] * x[j];
-            }
-        }
+        add_weighted_row(&mut a, &mut b, &[1.0, *e, s, c], *w, *y);
     }
     if !cholesky_solve_in_place(&mut a, &mut b, 4) {
         return 0.0;
