@@ -106,7 +106,8 @@ pub fn run(a: Args) -> Result<()> {
         TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
     let file = a.input.display().to_string();
     let df = read_table(&a.input, &request.text_columns())?;
-    let (corrected, _, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
+    let (corrected, correction, geometry) = correct_table_with_geometry(&df, &file, &request, &corrector)?;
+    super::common::print_time_warnings(&correction.warnings);
     let mut toas = arrival_times_from_table(&corrected, &file, &start.epoch())?;
     attach_observer_geometry(&mut toas, &geometry);
     let epoch_mjd = start.epoch_mjd_day_tdb as f64 + start.epoch_seconds_of_day_tdb / SECONDS_PER_DAY;

@@ -744,6 +744,7 @@ pub fn search_source(
         band: rows.band.clone(),
         band_labels: rows.band_labels.clone(),
         file_row: rows.file_row.clone(),
+        warnings: Vec::new(),
     };
     let series = match Series::from_light_curve(&lc) {
         Ok(s) => s,

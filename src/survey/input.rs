@@ -42,6 +42,8 @@ pub struct TableLightCurve {
     pub band_labels: Vec<String>,
     /// 1-based data row in the file of each entry.
     pub file_row: Vec<usize>,
+    /// Warnings about the times read ([`crate::table::plausibility`]).
+    pub warnings: Vec<crate::table::plausibility::TimeWarning>,
 }
 
 /// Reads a numeric cell: empty or `nan` → NaN (the row is dropped and counted later); text
@@ -179,6 +181,7 @@ pub fn assemble(
         band,
         band_labels,
         file_row: (0..n).map(file_row_of).collect(),
+        warnings: Vec::new(),
     })
 }
 
