@@ -76,7 +76,6 @@ pub enum TimeWarning {
 #[derive(Debug, Clone)]
 struct LabelSpan {
     label: String,
-    format: TimeFormat,
     /// (value as written, MJD of the instant, 1-based row) of the earliest and latest.
     low: (f64, f64, usize),
     high: (f64, f64, usize),
@@ -88,6 +87,8 @@ pub struct TimeSpanCheck {
     file: String,
     column: String,
     spans: Vec<LabelSpan>,
+    /// The first row whose value is clearly in the other day-number convention.
+    other_convention: Option<(usize, String)>,
 }
 
 fn year_of_mjd(mjd: f64) -> i64 {
@@ -124,7 +125,7 @@ fn relabel(label: &str, to_jd: bool) -> String {
 impl TimeSpanCheck {
     /// A check of column `column` of `file`.
     pub fn new(file: &str, column: &str) -> TimeSpanCheck {
-        TimeSpanCheck { file: file.to_string(), column: column.to_string(), spans: Vec::new() }
+        TimeSpanCheck { file: file.to_string(), column: column.to_string(), spans: Vec::new(), other_convention: None }
     }
 
     /// Records the time `t` of 1-based data row `row`, read with clock `label` in `format`.
@@ -133,7 +134,27 @@ impl TimeSpanCheck {
             return;
         }
         let value = day_number_f64(t, format);
-        let here = (value, t.mjd_f64(), row);
+        let mjd = t.mjd_f64();
+        let year = year_of_mjd(mjd);
+        if !tolerated(year) && self.other_convention.is_none() {
+            // The other reading: a JD under an MJD/RJD label, an MJD under a JD label.
+            let (other_mjd, other_kind, to_jd) = match format {
+                TimeFormat::Mjd | TimeFormat::ReducedJd => (value - MJD_ZERO_JD, "JD", true),
+                _ => (value, "MJD", false),
+            };
+            let other_year = year_of_mjd(other_mjd);
+            if plausible(other_year) {
+                self.other_convention = Some((
+                    row,
+                    format!(
+                        "{value} read as {label} is in the year {year}, but read as a{} {other_kind} it is in {other_year}: the column holds {other_kind}s; use the clock label '{}'",
+                        if other_kind == "MJD" { "n" } else { "" },
+                        relabel(label, to_jd)
+                    ),
+                ));
+            }
+        }
+        let here = (value, mjd, row);
         match self.spans.iter_mut().find(|s| s.label == label) {
             Some(s) => {
                 if here.1 < s.low.1 {
@@ -143,51 +164,36 @@ impl TimeSpanCheck {
                     s.high = here;
                 }
             }
-            None => self.spans.push(LabelSpan { label: label.to_string(), format, low: here, high: here }),
+            None => self.spans.push(LabelSpan { label: label.to_string(), low: here, high: here }),
         }
     }
 
-    /// The verdict: a refusal where the values are clearly in the other day-number
-    /// convention, else a warning per label whose times lie far from the modern era.
+    /// The verdict: a refusal naming the first row whose value is clearly in the other
+    /// day-number convention, else a warning per label whose times lie far from the modern
+    /// era.
     pub fn finish(&self) -> Result<Vec<TimeWarning>, TableError> {
-        let mut warnings = Vec::new();
-        for s in &self.spans {
-            let (y_low, y_high) = (year_of_mjd(s.low.1), year_of_mjd(s.high.1));
-            if tolerated(y_low) && tolerated(y_high) {
-                continue;
-            }
-            // The other reading: JD values under an MJD/RJD label, MJD values under a JD label.
-            let (shift, other_kind, to_jd) = match s.format {
-                TimeFormat::Mjd | TimeFormat::ReducedJd => (MJD_ZERO_JD, "JD", true),
-                _ => (0.0, "MJD", false),
-            };
-            let other_mjd = |v: f64| v - shift;
-            let (o_low, o_high) = (year_of_mjd(other_mjd(s.low.0)), year_of_mjd(other_mjd(s.high.0)));
-            if plausible(o_low) && plausible(o_high) {
-                let (value, _, row) = if tolerated(y_low) { s.high } else { s.low };
-                let year = if tolerated(y_low) { y_high } else { y_low };
-                let other_year = if tolerated(y_low) { o_high } else { o_low };
-                return Err(TableError::Cell {
-                    file: self.file.clone(),
-                    row,
-                    column: self.column.clone(),
-                    message: format!(
-                        "{value} read as {} is in the year {year}, but read as a{} {other_kind} it is in {other_year}: the column holds {other_kind}s; use the clock label '{}'",
-                        s.label,
-                        if other_kind == "MJD" { "n" } else { "" },
-                        relabel(&s.label, to_jd)
-                    ),
-                });
-            }
-            warnings.push(TimeWarning::FarFromModernEra {
+        if let Some((row, message)) = &self.other_convention {
+            return Err(TableError::Cell {
                 file: self.file.clone(),
+                row: *row,
                 column: self.column.clone(),
-                label: s.label.clone(),
-                first_year: y_low,
-                last_year: y_high,
+                message: message.clone(),
             });
         }
-        Ok(warnings)
+        Ok(self
+            .spans
+            .iter()
+            .filter_map(|s| {
+                let (first_year, last_year) = (year_of_mjd(s.low.1), year_of_mjd(s.high.1));
+                (!(tolerated(first_year) && tolerated(last_year))).then(|| TimeWarning::FarFromModernEra {
+                    file: self.file.clone(),
+                    column: self.column.clone(),
+                    label: s.label.clone(),
+                    first_year,
+                    last_year,
+                })
+            })
+            .collect())
     }
 }
 
