@@ -103,7 +103,10 @@ fn time_events_catalogue() {
         "time-events",
         &["--period-d", "0.83712345", "--epoch-bjd-tdb", "2459000.3456789", "--half-width-phase", "0.06"],
     );
-    run_catalogue(&c, &photometry_cases(&["timing events (--min-points", "needs at least", "usable points, the file has"]));
+    run_catalogue(
+        &c,
+        &photometry_cases(&["timing events (--min-points", "needs at least", "usable points, the file has"]),
+    );
 }
 
 #[test]

@@ -169,7 +169,12 @@ fn far_times_without_a_better_reading_are_read_with_a_warning() {
         let (ok, out, err) = run(&d, &fold_args("lc.csv", "bmjd_tdb", extra));
         assert!(ok, "{err}");
         assert_eq!(quiet, out.is_empty(), "{out}");
-        for f in ["warning: lc.csv, column 'time'", "read as bmjd_tdb lie in the years 4322 … 4323", "1900 … 2200", "clock label"] {
+        for f in [
+            "warning: lc.csv, column 'time'",
+            "read as bmjd_tdb lie in the years 4322 … 4323",
+            "1900 … 2200",
+            "clock label",
+        ] {
             assert!(err.contains(f), "stderr lacks '{f}':\n{err}");
         }
         assert_eq!(err.matches("warning:").count(), 1, "{err}");
@@ -193,7 +198,9 @@ fn a_float64_jd_column_is_read_with_one_resolution_warning() {
     write_parquet(&d.join("mjd.parquet"), (0..60).map(|i| 60_100.0 + i as f64 * 0.0731).collect());
     let (ok, _, err) = run(&d, &fold_args("jd.parquet", "bjd_tdb", &[]));
     assert!(ok, "{err}");
-    for f in ["warning: jd.parquet, column 'time'", "64-bit floating point", "resolves only 40.2 µs", "two columns", "MJD"] {
+    for f in
+        ["warning: jd.parquet, column 'time'", "64-bit floating point", "resolves only 40.2 µs", "two columns", "MJD"]
+    {
         assert!(err.contains(f), "stderr lacks '{f}':\n{err}");
     }
     assert_eq!(err.matches("warning:").count(), 1, "{err}");

@@ -82,11 +82,18 @@ fn fit_timing_catalogue() {
 /// The photon-event catalogue of `command` (events already BMJD_TDB).
 fn events_catalogue(name: &'static str, command: &[&str], extra_files: Vec<(&'static str, String)>) -> Catalogue {
     let mut args = owned(command);
-    args.extend(owned(&["--input", "xev.csv", "--clock", "bmjd_tdb", "--source-file", "pulsar.toml", "--output", "o.csv"]));
-    let mut other_files = vec![
-        ("pulsar.toml", dataset("veyra_beacon.toml")),
-        ("model.toml", dataset("veyra_beacon_start_model.toml")),
-    ];
+    args.extend(owned(&[
+        "--input",
+        "xev.csv",
+        "--clock",
+        "bmjd_tdb",
+        "--source-file",
+        "pulsar.toml",
+        "--output",
+        "o.csv",
+    ]));
+    let mut other_files =
+        vec![("pulsar.toml", dataset("veyra_beacon.toml")), ("model.toml", dataset("veyra_beacon_start_model.toml"))];
     other_files.extend(extra_files);
     Catalogue {
         name,
@@ -282,7 +289,11 @@ fn edited_model(edits: &[(&str, &str)]) -> String {
 fn fit_timing_names_the_model_file_key_and_line_of_each_mistake() {
     let c = toas_catalogue();
     let cases: Vec<(&str, String, Vec<&str>)> = vec![
-        ("unknown_key", format!("spin_rate = 3\n{}", edited_model(&[])), vec!["line 1", "key 'spin_rate'", "unknown key", "freq_hz"]),
+        (
+            "unknown_key",
+            format!("spin_rate = 3\n{}", edited_model(&[])),
+            vec!["line 1", "key 'spin_rate'", "unknown key", "freq_hz"],
+        ),
         (
             "wrong_type",
             edited_model(&[("freq_hz = 46.382917304", "freq_hz = \"fast\"")]),
@@ -299,7 +310,11 @@ fn fit_timing_names_the_model_file_key_and_line_of_each_mistake() {
             edited_model(&[("periastron_time_s = 35020.0\n", "")]),
             vec!["line 23", "key 'orbit.periastron_time_s'", "required"],
         ),
-        ("zero_frequency", edited_model(&[("freq_hz = 46.382917304", "freq_hz = 0")]), vec!["line 5", "key 'freq_hz'", "> 0 Hz"]),
+        (
+            "zero_frequency",
+            edited_model(&[("freq_hz = 46.382917304", "freq_hz = 0")]),
+            vec!["line 5", "key 'freq_hz'", "> 0 Hz"],
+        ),
         (
             "negative_frequency",
             edited_model(&[("freq_hz = 46.382917304", "freq_hz = -46.38")]),

@@ -514,7 +514,12 @@ impl TimingModel {
         let sod = self.epoch_seconds_of_day_tdb;
         range("epoch_seconds_of_day_tdb", sod, (0.0..86_400.0).contains(&sod), "in [0, 86400) s")?;
         let mjd = self.epoch_mjd_day_tdb as f64;
-        range("epoch_mjd_day_tdb", mjd, (-2_400_001.0..=2_973_484.0).contains(&mjd), "an MJD in −2400001 … 2973484 (JD 0 to AD 9999)")?;
+        range(
+            "epoch_mjd_day_tdb",
+            mjd,
+            (-2_400_001.0..=2_973_484.0).contains(&mjd),
+            "an MJD in −2400001 … 2973484 (JD 0 to AD 9999)",
+        )?;
         for (key, value) in [
             ("phase_offset_cycles", self.phase_offset_cycles),
             ("freq_deriv_hz_per_s", self.freq_deriv_hz_per_s),

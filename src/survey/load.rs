@@ -83,7 +83,8 @@ pub fn light_curve_from_frame(
         Some((label, clock)) if is_barycentric_tdb(&clock) => {
             let texts = text_column(df, &file, &columns.time)?;
             let times = parse_barycentric_times(&texts, &clock, &file, &columns.time, &leap)?;
-            warnings = crate::table::plausibility::check_times(&file, &columns.time, &clock.label(), clock.format, &times)?;
+            warnings =
+                crate::table::plausibility::check_times(&file, &columns.time, &clock.label(), clock.format, &times)?;
             warnings.extend(crate::table::plausibility::float_time_resolution(df, &file, &columns.time));
             (times, format!("times read as {label} (already barycentric)"))
         }

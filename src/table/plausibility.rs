@@ -282,9 +282,9 @@ mod tests {
         // memory: MJD 0 = 1858-11-17 plus 2460000 d of 365.2425 d ≈ 6735 years).
         let e = check("bmjd_tdb", TimeFormat::Mjd, &["60000.5", "2460000.5"]).unwrap_err().to_string();
         assert!(e.contains("row 2") && e.contains("8594") && e.contains("2023") && e.contains("'bjd_tdb'"), "{e}");
-        // MJD 60000 given as a JD: the year −4549.
+        // MJD 60000 given as a JD: the year −4548 (astronomical year numbering).
         let e = check("jd_tt", TimeFormat::Jd, &["60000.25"]).unwrap_err().to_string();
-        assert!(e.contains("row 1") && e.contains("-4549") && e.contains("'mjd_tt'"), "{e}");
+        assert!(e.contains("row 1") && e.contains("-4548") && e.contains("'mjd_tt'"), "{e}");
         let e = check("hjd_utc", TimeFormat::Jd, &["60000.25"]).unwrap_err().to_string();
         assert!(e.contains("'hmjd_utc'"), "{e}");
     }
@@ -299,11 +299,14 @@ mod tests {
     #[test]
     fn float_columns_are_judged_by_their_resolution() {
         use polars::prelude::*;
-        let df = df!("jd" => [2460000.5_f64, 2460001.25], "mjd" => [60000.5_f64, 60001.25], "text" => ["2460000.5", "1"])
-            .unwrap();
+        let df =
+            df!("jd" => [2460000.5_f64, 2460001.25], "mjd" => [60000.5_f64, 60001.25], "text" => ["2460000.5", "1"])
+                .unwrap();
         let w = float_time_resolution(&df, "t.parquet", "jd").unwrap();
         // f64 spacing at 2^21 d is 2^-31 d = 40.2 µs (IEEE 754 binary64).
-        assert!(matches!(w, TimeWarning::CoarseFloatColumn { resolution_us, .. } if (resolution_us - 40.23).abs() < 0.01));
+        assert!(
+            matches!(w, TimeWarning::CoarseFloatColumn { resolution_us, .. } if (resolution_us - 40.23).abs() < 0.01)
+        );
         assert!(w.to_string().contains("two columns"), "{w}");
         assert_eq!(float_time_resolution(&df, "t.parquet", "mjd"), None);
         assert_eq!(float_time_resolution(&df, "t.parquet", "text"), None);

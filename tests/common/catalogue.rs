@@ -142,7 +142,11 @@ pub fn mutated(c: &Catalogue, case: &str) -> Option<String> {
 
 fn run_in(dir: &Path, args: &[String]) -> (bool, String, String) {
     let out = cli::skyclock().current_dir(dir).args(args).output().expect("run skyclock");
-    (out.status.success(), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+    (
+        out.status.success(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
 }
 
 /// Runs every case of `cases` for the command of `c`, checking what each must give.
@@ -200,20 +204,23 @@ pub fn run_catalogue(c: &Catalogue, cases: &[(&str, Expect)]) {
                     fail("expected exit 0".into());
                     continue;
                 }
-                if let Some(stray) = added.iter().find(|a| !a.starts_with(c.output.trim_end_matches(".csv")) || a.contains(".partial")) {
+                if let Some(stray) =
+                    added.iter().find(|a| !a.starts_with(c.output.trim_end_matches(".csv")) || a.contains(".partial"))
+                {
                     fail(format!("unexpected file {stray}"));
                 }
                 let output = std::fs::read(d.join(c.output)).unwrap_or_default();
-                if let Expect::SameAsClean = expect {
-                    if output != clean_output {
-                        fail("the output differs from the clean table's".into());
-                    }
+                if matches!(expect, Expect::SameAsClean) && output != clean_output {
+                    fail("the output differs from the clean table's".into());
                 }
                 if let Expect::Accepted(fragments) = expect {
                     let all = format!("{stdout}\n{stderr}\n{}", String::from_utf8_lossy(&output));
                     for f in *fragments {
                         if !all.contains(f) {
-                            fail(format!("neither the messages nor the output hold '{f}':\n    stdout: {}", stdout.trim()));
+                            fail(format!(
+                                "neither the messages nor the output hold '{f}':\n    stdout: {}",
+                                stdout.trim()
+                            ));
                         }
                     }
                 }
