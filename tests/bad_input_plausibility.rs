@@ -208,3 +208,40 @@ fn a_float64_jd_column_is_read_with_one_resolution_warning() {
     let (ok, _, err) = run(&d, &fold_args("mjd.parquet", "bmjd_tdb", &[]));
     assert!(ok && !err.contains("warning"), "{err}");
 }
+
+#[test]
+fn survey_batch_skips_a_source_whose_times_are_in_the_other_convention() {
+    // Two invented sources in BJD_TDB; the second was written as MJDs.
+    let mut s = String::from("source,bjd_tdb,mag\n");
+    for (name, offset) in [("Alder-1", 0.0), ("Birch-2", -2_400_000.5)] {
+        for i in 0..80 {
+            let t = 2_460_100.0 + i as f64 * 0.173;
+            s.push_str(&format!(
+                "{name},{:.6},{:.5}\n",
+                t + offset,
+                12.0 + 0.2 * (std::f64::consts::TAU * t / 0.61).sin()
+            ));
+        }
+    }
+    let d = folder("plaus_survey", &[("survey.csv", s)]);
+    let args = owned(&[
+        "survey-batch",
+        "--input",
+        "survey.csv",
+        "--time-column",
+        "bjd_tdb",
+        "--value-column",
+        "mag",
+        "--max-freq-per-day",
+        "5",
+        "--output",
+        "o.csv",
+    ]);
+    let (ok, out, err) = run(&d, &args);
+    assert!(ok, "{err}");
+    let table = std::fs::read_to_string(d.join("o.csv")).unwrap();
+    assert!(out.contains("2 sources (1 searched, 1 skipped)"), "{out}");
+    for f in ["survey.csv, row 81, column 'bjd_tdb'", "read as bjd_tdb is in the year -4548", "'bmjd_tdb'"] {
+        assert!(table.contains(f) || out.contains(f), "neither output nor stdout holds '{f}':\n{out}\n{table}");
+    }
+}

@@ -122,6 +122,36 @@ fn relabel(label: &str, to_jd: bool) -> String {
     format!("{new}_{scale}")
 }
 
+/// The refusal message when the day number of `t`, written in `format`, lies outside the
+/// tolerated years but read in the other convention (a JD under an MJD/RJD label, an MJD
+/// under a JD label) falls inside [`PLAUSIBLE_YEARS`]; `None` otherwise (and for ISO
+/// times). `label` gives the clock label for the message (called only then). For readers
+/// that check row by row (the streaming survey reader); [`TimeSpanCheck`] uses it too.
+pub fn other_convention(t: &Instant, format: TimeFormat, label: impl FnOnce() -> String) -> Option<String> {
+    if format == TimeFormat::Iso {
+        return None;
+    }
+    let year = year_of_mjd(t.mjd_f64());
+    if tolerated(year) {
+        return None;
+    }
+    let value = day_number_f64(t, format);
+    let (other_mjd, other_kind, to_jd) = match format {
+        TimeFormat::Mjd | TimeFormat::ReducedJd => (value - MJD_ZERO_JD, "JD", true),
+        _ => (value, "MJD", false),
+    };
+    let other_year = year_of_mjd(other_mjd);
+    if !plausible(other_year) {
+        return None;
+    }
+    let label = label();
+    Some(format!(
+        "{value} read as {label} is in the year {year}, but read as a{} {other_kind} it is in {other_year}: the column holds {other_kind}s; use the clock label '{}'",
+        if other_kind == "MJD" { "n" } else { "" },
+        relabel(&label, to_jd)
+    ))
+}
+
 impl TimeSpanCheck {
     /// A check of column `column` of `file`.
     pub fn new(file: &str, column: &str) -> TimeSpanCheck {
@@ -135,24 +165,10 @@ impl TimeSpanCheck {
         }
         let value = day_number_f64(t, format);
         let mjd = t.mjd_f64();
-        let year = year_of_mjd(mjd);
-        if !tolerated(year) && self.other_convention.is_none() {
-            // The other reading: a JD under an MJD/RJD label, an MJD under a JD label.
-            let (other_mjd, other_kind, to_jd) = match format {
-                TimeFormat::Mjd | TimeFormat::ReducedJd => (value - MJD_ZERO_JD, "JD", true),
-                _ => (value, "MJD", false),
-            };
-            let other_year = year_of_mjd(other_mjd);
-            if plausible(other_year) {
-                self.other_convention = Some((
-                    row,
-                    format!(
-                        "{value} read as {label} is in the year {year}, but read as a{} {other_kind} it is in {other_year}: the column holds {other_kind}s; use the clock label '{}'",
-                        if other_kind == "MJD" { "n" } else { "" },
-                        relabel(label, to_jd)
-                    ),
-                ));
-            }
+        if self.other_convention.is_none()
+            && let Some(message) = other_convention(t, format, || label.to_string())
+        {
+            self.other_convention = Some((row, message));
         }
         let here = (value, mjd, row);
         match self.spans.iter_mut().find(|s| s.label == label) {
