@@ -18,6 +18,16 @@ pub fn error(e: impl std::fmt::Display) -> PyErr {
     SkyclockError::new_err(e.to_string())
 }
 
+/// Raises each warning about the times read (`table::plausibility`) as a Python
+/// `UserWarning` (an error only if the warning filter turns warnings into errors).
+pub fn warn_times(py: Python<'_>, warnings: &[skyclock::table::plausibility::TimeWarning]) -> PyResult<()> {
+    for w in warnings {
+        let text = std::ffi::CString::new(w.to_string()).unwrap_or_default();
+        PyErr::warn(py, py.get_type::<pyo3::exceptions::PyUserWarning>().as_any(), &text, 1)?;
+    }
+    Ok(())
+}
+
 /// A float64 copy of a 1-D array-like (int, float32, non-contiguous views are converted).
 pub fn floats(a: &PyArrayLike1<'_, f64, AllowTypeChange>) -> Vec<f64> {
     a.as_array().iter().copied().collect()

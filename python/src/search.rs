@@ -229,14 +229,17 @@ pub fn search_periods<'py>(
     let input = light_curve_input(times, values, errors, bands, clock, clocks, site_names, place)?;
     let o: SearchOptions = crate::convert::options(options, "search options")?;
     let plan = o.plan(3)?;
+    let mut warnings = Vec::new();
     let (report, spectrum) = py.detach(|| -> PyResult<_> {
         let (lc, note) = input.load()?;
+        warnings.clone_from(&lc.warnings);
         let series = lc.series().map_err(error)?;
         let out = search_series(&series, &plan).map_err(|e| error(lc.locate(e)))?;
         let report = period_search_report(&out, &plan.method.label(), &note, &lc.epoch_jd_text());
         let f = out.spectrum.grid.frequencies();
         Ok((report, (f, out.spectrum.power.clone(), out.spectrum.amplitude.clone())))
     })?;
+    crate::convert::warn_times(py, &warnings)?;
     let (f, power, amplitude) = spectrum;
     let d = PyDict::new(py);
     let period: Vec<f64> = f.iter().map(|x| 1.0 / x).collect();
@@ -287,8 +290,10 @@ pub fn fold_light_curve<'py>(
         "median" => BinStatistic::Median,
         other => return Err(error(format!("bin_statistic '{other}' is not one of mean, median"))),
     };
+    let mut warnings = Vec::new();
     let (report, points, bins) = py.detach(|| -> PyResult<_> {
         let (lc, note) = input.load()?;
+        warnings.clone_from(&lc.warnings);
         let series = lc.series().map_err(error)?;
         let epoch_d = match &o.epoch_bjd_tdb {
             None => series.time_d()[0],
@@ -310,6 +315,7 @@ pub fn fold_light_curve<'py>(
         let bins = folded.bins_table().map_err(error)?;
         Ok((folded.report, points, bins))
     })?;
+    crate::convert::warn_times(py, &warnings)?;
     let points = crate::convert::table_to_python(py, &points)?;
     let bins = crate::convert::table_to_python(py, &bins)?;
     Ok((to_json(&report)?, points, bins))
@@ -348,8 +354,10 @@ pub fn extract_frequencies<'py>(
     let input = light_curve_input(times, values, errors, bands, clock, clocks, site_names, place)?;
     let o: ExtractionOptions = crate::convert::options(options, "extraction options")?;
     let kernel = algorithm(&o.kernel)?;
+    let mut warnings = Vec::new();
     let result = py.detach(|| -> PyResult<FrequencyExtractionResult> {
         let (lc, note) = input.load()?;
+        warnings.clone_from(&lc.warnings);
         let mut series = lc.series().map_err(error)?;
         let mut detrending = Vec::new();
         if let Some(deg) = o.detrend_polynomial_degree {
@@ -374,5 +382,6 @@ pub fn extract_frequencies<'py>(
         let result = prewhiten(&series, &grid, &options).map_err(|e| error(lc.locate(e)))?;
         Ok(FrequencyExtractionResult::from_run(&series, &result, &options, detrending, lc.epoch_jd_text(), note))
     })?;
+    crate::convert::warn_times(py, &warnings)?;
     to_json(&result)
 }

@@ -77,3 +77,19 @@ def test_two_part_times_keep_every_digit():
     r = skyclock.barycentre(whole, "bjd_tdb", jd2=frac, ra=10.0, dec=20.0)
     np.testing.assert_array_equal(r.table["bjd_tdb_jd1"] + r.table["bjd_tdb_jd2"], whole + frac)
     assert r.table["bjd_tdb"][0].startswith("2460000.6234567890123")
+
+
+def test_times_far_from_the_modern_era_raise_a_warning():
+    # BMJD 900000 is the year 4322 (proleptic Gregorian calendar, common practice): read,
+    # with a UserWarning naming the label and the years; modern times give none.
+    t, y, e = light_curve()
+    with pytest.warns(UserWarning, match=r"read as bmjd_tdb lie in the years 4322"):
+        skyclock.search_periods(t - 2460200.0 + 900000.0, y, e, clock="bmjd_tdb", max_freq_per_day=5.0)
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        skyclock.search_periods(t, y, e, max_freq_per_day=5.0)
+    # JDs under an MJD label are refused with the label to use.
+    with pytest.raises(SkyclockError, match=r"use the clock label 'bjd_tdb'"):
+        skyclock.search_periods(t, y, e, clock="bmjd_tdb", max_freq_per_day=5.0)

@@ -219,15 +219,15 @@ pub fn correct_event_file(
             row += block.len();
             summary.events += block.len();
         }
+        if summary.events == 0 {
+            // A header with no events is refused like every other table without data rows.
+            return Err(fail("the table has no data rows (only a header)".into()));
+        }
         writer.flush().map_err(io)?;
         writer.get_ref().sync_all().map_err(io)?;
         drop(writer);
         crate::table::guard::put_in_place(&tmp, output)
             .map_err(|e| fail(format!("cannot move the finished file into place: {e}")))?;
-        if summary.events == 0 {
-            summary.min_correction_s = 0.0;
-            summary.max_correction_s = 0.0;
-        }
         Ok(summary)
     })();
     if result.is_err() {

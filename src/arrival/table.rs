@@ -143,6 +143,10 @@ pub struct TableSummary {
     pub min_total_correction_s: f64,
     /// Largest total correction, s.
     pub max_total_correction_s: f64,
+    /// Warnings about the times read ([`crate::table::plausibility`]): day numbers far
+    /// from the modern era, a floating-point time column coarser than 1 µs.
+    #[serde(default)]
+    pub warnings: Vec<crate::table::plausibility::TimeWarning>,
 }
 
 /// Names of the columns added to the table, in order.
@@ -263,8 +267,10 @@ fn correct_rows_of_table(
     drop(times);
     drop(clock_labels);
     let (inputs, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
+    let mut warnings = plausibility_of(df, file, &request.time_column, &inputs, &clocks)?;
     let prepared = PreparedRows::new(corrector, &observers, &inputs, path);
     let mut summary = TableSummary {
+        warnings: std::mem::take(&mut warnings),
         rows: n,
         min_total_correction_s: f64::INFINITY,
         max_total_correction_s: f64::NEG_INFINITY,
@@ -365,6 +371,40 @@ fn correct_rows_of_table(
         summary.max_total_correction_s = 0.0;
     }
     Ok((out, summary, geometry))
+}
+
+/// The plausibility of the times of the readable rows (the checks of
+/// [`crate::table::plausibility`]): a refusal where day numbers are clearly in the other
+/// convention than their clock label, else warnings.
+fn plausibility_of(
+    df: &DataFrame,
+    file: &str,
+    column: &str,
+    inputs: &[RowTime],
+    clocks: &[ClockSpec],
+) -> Result<Vec<crate::table::plausibility::TimeWarning>, TableError> {
+    let mut check = crate::table::plausibility::TimeSpanCheck::new(file, column);
+    let mut labels: Vec<(ClockSpec, String)> = Vec::new();
+    for (i, (input, clock)) in inputs.iter().zip(clocks).enumerate() {
+        let label = match labels.iter().position(|(k, _)| k == clock) {
+            Some(j) => &labels[j].1,
+            None => {
+                labels.push((*clock, clock_label(clock)));
+                &labels[labels.len() - 1].1
+            }
+        };
+        check.record(i + 1, label, clock.format, &input.time);
+    }
+    let mut warnings = check.finish()?;
+    warnings.extend(crate::table::plausibility::float_time_resolution(df, file, column));
+    Ok(warnings)
+}
+
+impl ClockSpec {
+    /// The clock label (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).
+    pub fn label(&self) -> String {
+        clock_label(self)
+    }
 }
 
 /// The clock label of a row (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).

@@ -82,6 +82,7 @@ pub fn run(a: Args) -> Result<()> {
     let df = read_table(&a.input, &request.text_columns())?;
     let path = if a.exact_per_row { CorrectionPath::ExactEveryRow } else { CorrectionPath::Automatic };
     let (mut out, result) = barycentre_table_along(&df, &file, &request, &reference, &source, delays, path)?;
+    super::common::print_time_warnings(&result.correction.warnings);
     let names = &result.reference;
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "barycentre")

@@ -56,6 +56,9 @@ pub struct Args {
     /// Print a JSON summary on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Print nothing but warnings and errors (no result line).
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// Runs the command.
@@ -120,7 +123,7 @@ pub fn run(a: Args) -> Result<()> {
         let inputs = vec![a.input.display().to_string()];
         let outputs = vec![a.output.display().to_string()];
         println!("{}", Summary::new(result, provenance, inputs, outputs).to_json()?);
-    } else {
+    } else if !a.quiet {
         println!(
             "corrected {} events → {} (correction {:.6} … {:.6} s)",
             result.events.events,

@@ -267,6 +267,13 @@ impl ObserverArgs {
 pub const GEOCENTRE_NOTE: &str = "note: no site given (--site, --site-coordinates, --site-column or --spacecraft-columns); times are taken as observed at the geocentre";
 
 /// Prints [`GEOCENTRE_NOTE`] on stderr unless `quiet`.
+/// Prints the library's warnings about the times read (always: `--quiet` keeps warnings).
+pub fn print_time_warnings(warnings: &[skyclock::table::plausibility::TimeWarning]) {
+    for w in warnings {
+        eprintln!("warning: {w}");
+    }
+}
+
 pub fn note_geocentre(quiet: bool) {
     if !quiet {
         eprintln!("{GEOCENTRE_NOTE}");

@@ -95,7 +95,7 @@ pub fn run(a: Args) -> Result<()> {
         bail!("--period-d must be a positive number of days, got {}", a.period_d);
     }
     let (lc, note) = a.light_curve.load()?;
-    let series = lc.series()?;
+    let series = lc.series_for("folding the light curve", 3)?;
     let epoch_d = match &a.epoch_bjd_tdb {
         None => series.time_d()[0],
         Some(text) => {

@@ -78,6 +78,8 @@ impl LightCurveArgs {
             observer,
             source,
         };
-        Ok(read_light_curve(&request, &reference)?)
+        let (lc, note) = read_light_curve(&request, &reference)?;
+        super::common::print_time_warnings(&lc.warnings);
+        Ok((lc, note))
     }
 }

@@ -135,7 +135,8 @@ impl EventTableArgs {
         let request =
             TableRequest { time_column: self.time_column.clone(), clock: Some(clock), clock_column: None, observer };
         let df = read_table(&self.input, &request.text_columns())?;
-        let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
+        let (corrected, correction) = correct_table(&df, &file, &request, &corrector)?;
+        super::common::print_time_warnings(&correction.warnings);
         let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
         let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
         let epoch = model.epoch();

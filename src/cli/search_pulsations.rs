@@ -101,7 +101,8 @@ pub fn run(a: Args) -> Result<()> {
     let file = a.input.display().to_string();
     let df = read_table(&a.input, &[a.time_column.as_str()])?;
     let request = TableRequest { time_column: a.time_column.clone(), clock: Some(clock), clock_column: None, observer };
-    let (corrected, _) = correct_table(&df, &file, &request, &corrector)?;
+    let (corrected, correction) = correct_table(&df, &file, &request, &corrector)?;
+    super::common::print_time_warnings(&correction.warnings);
     let jd1 = float_column(&corrected, &file, "bjd_tdb_jd1")?;
     let jd2 = float_column(&corrected, &file, "bjd_tdb_jd2")?;
     let instants: Vec<Instant> =

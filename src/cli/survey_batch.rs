@@ -172,6 +172,8 @@ pub fn run(a: Args) -> Result<()> {
     let mut peak_cols: Vec<[Vec<Option<f64>>; 6]> = (0..k).map(|_| Default::default()).collect();
     let leap = LeapSecondTable::builtin();
     let mut first_problems: Vec<String> = Vec::new();
+    // Sources skipped so far (the progress lines count searched and skipped apart).
+    let skipped_so_far = std::cell::Cell::new(0usize);
     let mut sink = |reports: Vec<SourceReport>| -> Result<(), skyclock::table::TableError> {
         for r in reports {
             rows.id.push(r.id.clone());
@@ -198,6 +200,7 @@ pub fn run(a: Args) -> Result<()> {
                     found.push(o.classification.clone());
                 }
                 Err(m) => {
+                    skipped_so_far.set(skipped_so_far.get() + 1);
                     if first_problems.len() < 5 {
                         first_problems.push(m.clone());
                     }
@@ -230,8 +233,12 @@ pub fn run(a: Args) -> Result<()> {
         pb.set_message(format!("{done} sources, {rate:.0}/s"));
         if lines && fraction.is_finite() && fraction * 10.0 >= next_tenth.get() as f64 {
             next_tenth.set((fraction * 10.0).floor() as u32 + 1);
+            let skipped = skipped_so_far.get().min(done);
             eprintln!(
-                "survey-batch: {done} sources searched, {:.0} % of the input read, {:.1} s",
+                "survey-batch: {} ({} searched, {} skipped), {:.0} % of the input read, {:.1} s",
+                count_of(done, "source", "sources"),
+                done - skipped,
+                skipped,
                 100.0 * fraction,
                 started.elapsed().as_secs_f64()
             );
@@ -329,11 +336,11 @@ pub fn run(a: Args) -> Result<()> {
         println!("{}", doc.to_json()?);
     } else if !a.quiet {
         println!(
-            "{} sources ({} searched, {} skipped) from {} rows in {:.1} s → {}",
-            summary.sources,
+            "{} ({} searched, {} skipped) from {} in {:.1} s → {}",
+            count_of(summary.sources, "source", "sources"),
             summary.searched,
             summary.skipped,
-            summary.rows,
+            count_of(summary.rows, "row", "rows"),
             seconds,
             a.output.display()
         );
@@ -358,4 +365,9 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// `n` with the singular or plural noun ("1 source", "3 sources").
+fn count_of(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
 }

@@ -163,7 +163,7 @@ pub fn run(a: Args) -> Result<()> {
         Exposure::INSTANT
     };
     let (lc, note) = a.light_curve.load()?;
-    let series = lc.series()?;
+    let series = lc.series_for(&format!("timing transits (--min-points {})", a.min_points), a.min_points.max(3))?;
     let file = lc.file.clone();
     let epoch =
         parse_time(&a.epoch_bjd_tdb, TimeFormat::Jd, TimeScale::Tdb, &skyclock::time::LeapSecondTable::builtin())

@@ -95,6 +95,7 @@ impl TimingTableArgs {
             source: source.clone(),
         };
         let read = read_timing_table(&request, &reference)?;
+        super::common::print_time_warnings(&read.warnings);
         let source = match source {
             Some(s) => s,
             None => Source::fixed_degrees("target", 0.0, 0.0).map_err(anyhow::Error::msg)?,

@@ -50,6 +50,8 @@ pub struct TimingTable {
     pub timings: Vec<Timing>,
     /// The instant each signal reached the observer, TDB (for the UTC shown beside a time).
     pub observer_tdb: Vec<Option<Instant>>,
+    /// Warnings about the times read ([`crate::table::plausibility`]).
+    pub warnings: Vec<crate::table::plausibility::TimeWarning>,
 }
 
 fn bad_row(file: &str, row: usize, column: &str, message: String) -> TableError {
@@ -88,7 +90,7 @@ pub fn read_timing_table(source: &TimingTableSource, reference: &ReferenceData) 
     text_columns.extend(source.kind_column.as_deref());
     text_columns.extend(source.origin_column.as_deref());
     let table = read_table(source.path, &text_columns)?;
-    let (corrected, _) = correct_table(&table, &file, &request, &corrector)?;
+    let (corrected, correction) = correct_table(&table, &file, &request, &corrector)?;
     let errors = float_column(&table, &file, &source.error_column)?;
     let kinds = source.kind_column.as_deref().map(|c| text_column(&table, &file, c)).transpose()?;
     let origins = source.origin_column.as_deref().map(|c| text_column(&table, &file, c)).transpose()?;
@@ -136,5 +138,5 @@ pub fn read_timing_table(source: &TimingTableSource, reference: &ReferenceData) 
             .collect(),
         Err(_) => vec![None; table.height()],
     };
-    Ok(TimingTable { file, table, corrected, timings, observer_tdb })
+    Ok(TimingTable { file, table, corrected, timings, observer_tdb, warnings: correction.warnings })
 }

@@ -8,6 +8,7 @@
 //! * [`spin`]: rotational phase from ν, ν̇, ν̈ at an epoch.
 //! * [`model`]: the timing model (spin, dispersion, instrument offsets, Keplerian binary with
 //!   Einstein and Shapiro terms) and its TOML file.
+//! * [`model_file`]: mistakes in a model file reported by line and key.
 //! * [`timing_fit`]: phase-connected weighted least squares by iterated linearisation.
 //! * [`arrival_times`]: the arrival-time (TOA) table: reading and barycentring.
 //! * [`profile`]: folding events with a timing model, binned profiles, Fourier and
@@ -21,6 +22,7 @@
 pub mod arrival_times;
 pub mod event_toas;
 pub mod model;
+pub mod model_file;
 pub mod profile;
 pub mod search;
 pub mod spin;

@@ -425,6 +425,22 @@ pub enum ModelError {
     /// A parameter name that the model does not know.
     #[error(transparent)]
     Unknown(#[from] UnknownParameter),
+    /// A spin derivative that makes the frequency zero or negative at an arrival time.
+    #[error(
+        "key '{key}' = {value:e} makes the spin frequency {freq_hz:.6e} Hz (not positive) at arrival time {arrival} ({days:.1} d from the model epoch); the frequency must stay > 0 over the data: check the sign and the units (Hz/s, Hz/s²) of the derivative"
+    )]
+    FrequencyNotPositive {
+        /// The derivative's model-file key.
+        key: &'static str,
+        /// Its value.
+        value: f64,
+        /// 1-based arrival time (row of the arrival-time table).
+        arrival: usize,
+        /// Days from the model epoch.
+        days: f64,
+        /// The frequency there, Hz.
+        freq_hz: f64,
+    },
 }
 
 /// Emission time and the pieces needed for derivatives.
@@ -439,9 +455,29 @@ struct Emission {
 
 impl TimingModel {
     /// Reads a model from TOML text; `origin` names the file in errors.
+    ///
+    /// Every mistake is reported by key ([`super::model_file`]): an unknown key, a value of
+    /// the wrong type, a missing required key and a syntax error with the file's line and the
+    /// dotted key as the parser finds them; a value out of range ([`Self::validate`]) with
+    /// the line where the key is set.
     pub fn from_toml(text: &str, origin: &str) -> Result<TimingModel, PulsarError> {
-        let m: TimingModel = toml::from_str(text).map_err(|e| PulsarError::Model(format!("{origin}: {e}")))?;
-        m.validate().map_err(|e| PulsarError::Model(format!("{origin}: {e}")))?;
+        use super::model_file::{ModelFileMistake, line_of_key, mistake_from_toml};
+        let m: TimingModel =
+            toml::from_str(text).map_err(|e| PulsarError::Model(mistake_from_toml(text, &e).describe(origin)))?;
+        m.validate().map_err(|e| {
+            let mistake = match &e {
+                ModelError::OutOfRange { key, value, expected } => ModelFileMistake {
+                    line: line_of_key(text, key),
+                    key: Some(key.to_string()),
+                    message: format!("{value} is out of range: must be {expected}"),
+                },
+                ModelError::NeedsOrbit(_) | ModelError::Unknown(_) => {
+                    ModelFileMistake { line: line_of_key(text, "fit"), key: Some("fit".into()), message: e.to_string() }
+                }
+                other => ModelFileMistake { line: None, key: None, message: other.to_string() },
+            };
+            PulsarError::Model(mistake.describe(origin))
+        })?;
         Ok(m)
     }
 
@@ -470,10 +506,35 @@ impl TimingModel {
 
     /// Checks physical ranges and that every fitted orbit parameter has an orbit.
     pub fn validate(&self) -> Result<(), ModelError> {
-        self.spin().validate().map_err(|e| ModelError::Spin(e.to_string()))?;
         let range = |key, value: f64, ok: bool, expected| {
             if ok { Ok(()) } else { Err(ModelError::OutOfRange { key, value, expected }) }
         };
+        let f = self.freq_hz;
+        range("freq_hz", f, f > 0.0 && f.is_finite(), "> 0 Hz and finite (a rotation frequency, not a period)")?;
+        let sod = self.epoch_seconds_of_day_tdb;
+        range("epoch_seconds_of_day_tdb", sod, (0.0..86_400.0).contains(&sod), "in [0, 86400) s")?;
+        let mjd = self.epoch_mjd_day_tdb as f64;
+        range(
+            "epoch_mjd_day_tdb",
+            mjd,
+            (-2_400_001.0..=2_973_484.0).contains(&mjd),
+            "an MJD in −2400001 … 2973484 (JD 0 to AD 9999)",
+        )?;
+        for (key, value) in [
+            ("phase_offset_cycles", self.phase_offset_cycles),
+            ("freq_deriv_hz_per_s", self.freq_deriv_hz_per_s),
+            ("freq_second_deriv_hz_per_s2", self.freq_second_deriv_hz_per_s2),
+            ("position_offset_ra_mas", self.position_offset_ra_mas),
+            ("position_offset_dec_mas", self.position_offset_dec_mas),
+            ("proper_motion_ra_mas_per_yr", self.proper_motion_ra_mas_per_yr),
+            ("proper_motion_dec_mas_per_yr", self.proper_motion_dec_mas_per_yr),
+        ] {
+            range(key, value, value.is_finite(), "a finite number")?;
+        }
+        if let Some((_, d)) = self.instrument_delays_s.iter().find(|(_, d)| !d.is_finite()) {
+            range("instrument_delays_s", *d, false, "finite delays, s")?;
+        }
+        self.spin().validate().map_err(|e| ModelError::Spin(e.to_string()))?;
         let dm = self.dispersion_measure_pc_per_cm3;
         range("dispersion_measure_pc_per_cm3", dm, dm.is_finite() && dm >= 0.0, "≥ 0")?;
         if let Some(o) = &self.orbit {
@@ -485,6 +546,13 @@ impl TimingModel {
             let r = o.shapiro_range_s;
             range("orbit.shapiro_range_s", r, r >= 0.0 && r.is_finite(), "≥ 0")?;
             range("orbit.shapiro_shape", o.shapiro_shape, (-1.0..=1.0).contains(&o.shapiro_shape), "in [−1, 1]")?;
+            for (key, value) in [
+                ("orbit.periastron_longitude_deg", o.periastron_longitude_deg),
+                ("orbit.periastron_time_s", o.periastron_time_s),
+                ("orbit.einstein_amplitude_s", o.einstein_amplitude_s),
+            ] {
+                range(key, value, value.is_finite(), "a finite number")?;
+            }
         }
         for p in &self.fit {
             if let FitParameter::Model(q) = p
@@ -492,6 +560,35 @@ impl TimingModel {
                 && self.orbit.is_none()
             {
                 return Err(ModelError::NeedsOrbit(*q));
+            }
+        }
+        Ok(())
+    }
+
+    /// Checks that the spin frequency ν(t) = ν + ν̇t + ν̈t²/2 stays > 0 at every arrival time
+    /// of `toas` (a derivative of the wrong sign or in the wrong units makes it negative
+    /// within the data, and a fit would then report a lost phase connection instead). The
+    /// error names the derivative's key, the first arrival time concerned and the frequency
+    /// there.
+    pub fn check_spin_over(&self, toas: &[ArrivalTime]) -> Result<(), ModelError> {
+        let spin = self.spin();
+        for (i, a) in toas.iter().enumerate() {
+            let nu = spin.freq_at_hz(a.t_s);
+            if !(nu > 0.0) {
+                let (key, value) = if self.freq_second_deriv_hz_per_s2 != 0.0
+                    && (self.freq_hz + a.t_s * self.freq_deriv_hz_per_s) > 0.0
+                {
+                    ("freq_second_deriv_hz_per_s2", self.freq_second_deriv_hz_per_s2)
+                } else {
+                    ("freq_deriv_hz_per_s", self.freq_deriv_hz_per_s)
+                };
+                return Err(ModelError::FrequencyNotPositive {
+                    key,
+                    value,
+                    arrival: i + 1,
+                    days: a.t_s / DAY_S,
+                    freq_hz: nu,
+                });
             }
         }
         Ok(())

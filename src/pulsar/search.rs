@@ -337,7 +337,7 @@ pub struct PulsationSearch {
 /// Given: event instants (TDB at the barycentre, any order), optional weights in [0, 1]
 /// (one per event), the request. The trial phases are counted from the middle of the span,
 /// which decorrelates ν and ν̇. Returned: the summary (best trial with trials-corrected
-/// false alarm) and the whole grid of Z²ₙ values. Errors: no events, a zero span, a bad
+/// false alarm) and the whole grid of Z²ₙ values. Errors: no events, fewer than 10 events (`MIN_PROFILE_PHOTONS`), a zero span, a bad
 /// grid or bad weights (naming the event, 1-based).
 pub fn search_pulsations(
     instants: &[crate::time::Instant],
@@ -347,6 +347,13 @@ pub fn search_pulsations(
     let Some(first) = instants.first() else {
         return Err(PulsarError::Input("no events: a pulsation search needs photons".into()));
     };
+    if instants.len() < crate::pulsar::profile::MIN_PROFILE_PHOTONS {
+        return Err(PulsarError::Input(format!(
+            "{} photon(s): a pulsation search needs at least {} photons (with fewer the Z² statistic has no meaningful false-alarm probability)",
+            instants.len(),
+            crate::pulsar::profile::MIN_PROFILE_PHOTONS
+        )));
+    }
     let (mut lo, mut hi) = (0.0_f64, 0.0_f64);
     for t in instants {
         let s = t.seconds_since(first);

@@ -116,6 +116,35 @@ pub fn check_arrival_times(toas: &[ArrivalTime]) -> Result<(), PulsarError> {
     Ok(())
 }
 
+/// Default half-width, days, of the interval around a starting model's epoch where
+/// `fit-timing` accepts arrival times: 20 Julian years (7305 d). Beyond it the `f64` seconds
+/// after the epoch resolve worse than 0.12 µs (2⁻⁵² × 6.3e8 s), and a Taylor spin model
+/// is rarely phase-connected over such spans. Common practice.
+pub const DEFAULT_FIT_VALIDITY_DAYS: f64 = 7305.0;
+
+/// Refuses arrival times more than `valid_for_days` from the model epoch (`epoch_mjd`,
+/// MJD TDB, for the message), naming the first one (1-based: its table row), its distance
+/// and the accepted range as MJD (TDB).
+pub fn check_model_validity(toas: &[ArrivalTime], epoch_mjd: f64, valid_for_days: f64) -> Result<(), PulsarError> {
+    if !(valid_for_days > 0.0 && valid_for_days.is_finite()) {
+        return Err(PulsarError::Input(format!("model validity {valid_for_days} d: must be > 0 days")));
+    }
+    let limit_s = valid_for_days * SECONDS_PER_DAY;
+    if let Some((i, a)) = toas.iter().enumerate().find(|(_, a)| !(a.t_s.abs() <= limit_s)) {
+        return Err(PulsarError::Input(format!(
+            "arrival time {} (row {}) lies {:.1} days from the model epoch (MJD {:.1} TDB), outside the model's validity of ±{:.1} days (MJD {:.1} … {:.1} TDB); use a starting model with an epoch nearer the data, or widen the validity (--model-validity-days)",
+            i + 1,
+            i + 1,
+            a.t_s / SECONDS_PER_DAY,
+            epoch_mjd,
+            valid_for_days,
+            epoch_mjd - valid_for_days,
+            epoch_mjd + valid_for_days
+        )));
+    }
+    Ok(())
+}
+
 fn residuals(model: &TimingModel, toas: &[ArrivalTime], pulses: &[f64]) -> Vec<f64> {
     toas.iter().zip(pulses).map(|(a, n)| model.phase_cycles(a) - n).collect()
 }
@@ -131,6 +160,7 @@ pub fn fit_timing_model(
 ) -> Result<TimingFit, PulsarError> {
     check_arrival_times(toas)?;
     start.validate()?;
+    start.check_spin_over(toas).map_err(|e| PulsarError::Model(e.to_string()))?;
     if start.refines_position()
         && let Some(i) = toas.iter().position(|a| a.observer.is_none())
     {

@@ -598,7 +598,15 @@ impl Grouper<'_> {
             let raw = match c.time.filter(|t| !t.eq_ignore_ascii_case("nan")) {
                 None => None,
                 Some(text) => match parse_time(text, clock.format, clock.scale, leap) {
-                    Ok(inst) => Some(inst),
+                    Ok(inst) => {
+                        if let Some(m) =
+                            crate::table::plausibility::other_convention(&inst, clock.format, || clock.label())
+                        {
+                            s.problem = Some(format!("{file}, row {}, column '{}': {m}", c.row, columns.time));
+                            return finished;
+                        }
+                        Some(inst)
+                    }
                     Err(e) => {
                         s.problem = Some(format!("{file}, row {}, column '{}': {e}", c.row, columns.time));
                         return finished;
@@ -611,6 +619,11 @@ impl Grouper<'_> {
             None => f64::NAN,
             Some(text) => match parse_time(text, clock.format, clock.scale, leap) {
                 Ok(inst) => {
+                    if let Some(m) = crate::table::plausibility::other_convention(&inst, clock.format, || clock.label())
+                    {
+                        s.problem = Some(format!("{file}, row {}, column '{}': {m}", c.row, columns.time));
+                        return finished;
+                    }
                     let epoch = *s.epoch.get_or_insert_with(|| {
                         let (a, b) = inst.jd_two_part();
                         Instant::from_jd_two_part(TimeScale::Tdb, (a + b).floor(), 0.0)
@@ -744,6 +757,7 @@ pub fn search_source(
         band: rows.band.clone(),
         band_labels: rows.band_labels.clone(),
         file_row: rows.file_row.clone(),
+        warnings: Vec::new(),
     };
     let series = match Series::from_light_curve(&lc) {
         Ok(s) => s,

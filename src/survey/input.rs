@@ -42,6 +42,8 @@ pub struct TableLightCurve {
     pub band_labels: Vec<String>,
     /// 1-based data row in the file of each entry.
     pub file_row: Vec<usize>,
+    /// Warnings about the times read ([`crate::table::plausibility`]).
+    pub warnings: Vec<crate::table::plausibility::TimeWarning>,
 }
 
 /// Reads a numeric cell: empty or `nan` → NaN (the row is dropped and counted later); text
@@ -179,6 +181,7 @@ pub fn assemble(
         band,
         band_labels,
         file_row: (0..n).map(file_row_of).collect(),
+        warnings: Vec::new(),
     })
 }
 
@@ -199,6 +202,39 @@ impl TableLightCurve {
             lc = lc.with_band(b);
         }
         Series::from_light_curve(&lc).map_err(|e| self.locate(e))
+    }
+
+    /// As [`Self::series`], for a command that is not a period search: `purpose` says what
+    /// the points are for (e.g. "folding the light curve", "timing events") and `needed` is
+    /// the fewest usable points it accepts (at least 3). Too few points and a constant value
+    /// column are refused naming the file, what the command needs and what the file has.
+    pub fn series_for(&self, purpose: &str, needed: usize) -> Result<Series, TableError> {
+        let too_few = |got: usize, dropped: usize| TableError::File {
+            file: self.file.clone(),
+            message: format!(
+                "{purpose} needs at least {needed} usable points, the file has {got} (after dropping {dropped} rows with an empty, NaN or infinite value)"
+            ),
+        };
+        let mut lc = LightCurve::new(&self.time_d, &self.value);
+        if let Some(e) = &self.error {
+            lc = lc.with_error(e);
+        }
+        if let Some(b) = &self.band {
+            lc = lc.with_band(b);
+        }
+        match Series::from_light_curve(&lc) {
+            Ok(s) if s.len() < needed => Err(too_few(s.len(), s.n_dropped())),
+            Ok(s) => Ok(s),
+            Err(SearchError::TooFewPoints { got, dropped, .. }) => Err(too_few(got, dropped)),
+            Err(SearchError::ConstantSeries) => Err(TableError::File {
+                file: self.file.clone(),
+                message: format!(
+                    "column '{}' is constant (in every band): {purpose} needs a value that varies",
+                    self.columns.value
+                ),
+            }),
+            Err(e) => Err(self.locate(e)),
+        }
     }
 
     /// Ties a search error to the file: row-bearing errors name the data row and column.

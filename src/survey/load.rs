@@ -78,13 +78,15 @@ pub fn light_curve_from_frame(
         TimeOrigin::Clock(label) => Some((label.as_str(), clock_of(label)?)),
         TimeOrigin::ClockColumn(_) => None,
     };
+    let mut warnings: Vec<crate::table::plausibility::TimeWarning>;
     let (times, note) = match single {
         Some((label, clock)) if is_barycentric_tdb(&clock) => {
             let texts = text_column(df, &file, &columns.time)?;
-            (
-                parse_barycentric_times(&texts, &clock, &file, &columns.time, &leap)?,
-                format!("times read as {label} (already barycentric)"),
-            )
+            let times = parse_barycentric_times(&texts, &clock, &file, &columns.time, &leap)?;
+            warnings =
+                crate::table::plausibility::check_times(&file, &columns.time, &clock.label(), clock.format, &times)?;
+            warnings.extend(crate::table::plausibility::float_time_resolution(df, &file, &columns.time));
+            (times, format!("times read as {label} (already barycentric)"))
         }
         _ => {
             let Some(source) = request.source.clone() else {
@@ -108,7 +110,8 @@ pub fn light_curve_from_frame(
                 clock_column,
                 observer: request.observer.clone(),
             };
-            let (corrected, _) = correct_table(df, &file, &table_request, &corrector)?;
+            let (corrected, correction) = correct_table(df, &file, &table_request, &corrector)?;
+            warnings = correction.warnings;
             let texts = text_column(&corrected, &file, "bjd_tdb")?;
             let bjd = clock_of("bjd_tdb")?;
             (
@@ -120,6 +123,7 @@ pub fn light_curve_from_frame(
     let values = text_column(df, &file, &columns.value)?;
     let errors = columns.error.as_deref().map(|c| text_column(df, &file, c)).transpose()?;
     let bands = columns.band.as_deref().map(|c| text_column(df, &file, c)).transpose()?;
-    let lc = assemble(&file, columns, &times, &values, errors.as_deref(), bands.as_deref(), &|i| i + 1)?;
+    let mut lc = assemble(&file, columns, &times, &values, errors.as_deref(), bands.as_deref(), &|i| i + 1)?;
+    lc.warnings = warnings;
     Ok((lc, note))
 }

@@ -5,6 +5,7 @@ pub mod columns;
 pub mod error;
 pub mod guard;
 pub mod layout;
+pub mod plausibility;
 pub mod provenance;
 pub mod read;
 pub mod summary;
