@@ -794,7 +794,9 @@ mod tests {
         let k = SpkKernel::open(&p).unwrap();
         let first = k.segments()[0].start_address;
         assert_eq!(k.read_words(first, 2).unwrap(), vec![day / 2.0, day / 2.0]);
-        for (address, count) in [(u64::MAX / 2, 16), (u64::MAX, 1), (1, usize::MAX / 2), (1, usize::MAX), (first, 1 << 40)] {
+        for (address, count) in
+            [(u64::MAX / 2, 16), (u64::MAX, 1), (1, usize::MAX / 2), (1, usize::MAX), (first, 1 << 40)]
+        {
             let e = k.read_words(address, count).unwrap_err();
             assert!(matches!(e, EphemerisError::BadFile { .. }), "{address} {count}: {e}");
             assert!(e.to_string().contains("past the end of the file"), "{e}");
