@@ -48,6 +48,12 @@ impl ClockSpec {
         Ok(ClockSpec { format, scale, reference })
     }
 
+    /// The label `<kind>_<scale>` (lower case, `rjd` for reduced JD) that
+    /// [`ClockSpec::parse_label`] reads back as this clock, e.g. `bjd_tdb`, `hmjd_utc`.
+    pub fn label(&self) -> String {
+        clock_label(self)
+    }
+
     fn help(label: &str) -> ClockLabelError {
         ClockLabelError { label: label.to_string() }
     }

@@ -84,6 +84,8 @@ struct Segment {
 pub struct SpkKernel {
     path: PathBuf,
     file: File,
+    /// Length of the file in bytes when it was opened (bounds every read).
+    file_len: u64,
     big_endian: bool,
     kernel_id: u64,
     internal_name: String,
@@ -279,6 +281,7 @@ impl SpkKernel {
         let mut kernel = SpkKernel {
             path,
             file,
+            file_len,
             big_endian,
             kernel_id: NEXT_KERNEL_ID.fetch_add(1, Ordering::Relaxed),
             internal_name,
@@ -319,14 +322,36 @@ impl SpkKernel {
     }
 
     /// Reads `count` double-precision words starting at 1-based DAF word `address`.
+    /// A range that reaches past the end of the file (or past `u64`) is refused before
+    /// anything is allocated, so the allocation is bounded by the file, not by the numbers.
     pub fn read_words(&self, address: u64, count: usize) -> Result<Vec<f64>, EphemerisError> {
-        let mut bytes = vec![0u8; count * 8];
-        read_exact_at(&self.file, &mut bytes, (address.max(1) - 1) * 8).map_err(|e| EphemerisError::Io {
+        let offset = (address.max(1) - 1).checked_mul(8);
+        let length = (count as u64).checked_mul(8);
+        let end = offset.zip(length).and_then(|(o, l)| o.checked_add(l));
+        let (Some(offset), Some(end)) = (offset, end) else {
+            return Err(self.past_the_end(address, count));
+        };
+        if end > self.file_len {
+            return Err(self.past_the_end(address, count));
+        }
+        let mut bytes = vec![0u8; (end - offset) as usize];
+        read_exact_at(&self.file, &mut bytes, offset).map_err(|e| EphemerisError::Io {
             path: self.path.clone(),
             message: format!("cannot read {count} words at address {address} (truncated file?)"),
             reason: e.to_string(),
         })?;
         Ok(bytes.chunks_exact(8).map(|b| f64_from(b, self.big_endian)).collect())
+    }
+
+    fn past_the_end(&self, address: u64, count: usize) -> EphemerisError {
+        EphemerisError::BadFile {
+            path: self.path.clone(),
+            message: format!(
+                "{count} words at word address {address} reach past the end of the file ({} bytes, {} words)",
+                self.file_len,
+                self.file_len / 8
+            ),
+        }
     }
 
     /// Covered span `[first, last]` TDB seconds past J2000 for `target` relative to the SSB
@@ -745,6 +770,37 @@ mod tests {
         assert!(e.to_string().contains("unsupported.bsp") && e.to_string().contains("type 13"));
         let e = k.state(Body::Jupiter, &t).unwrap_err();
         assert!(matches!(e, EphemerisError::UnsupportedFrame { frame: 17, .. }), "{e}");
+    }
+
+    /// Fuzz finding (spk_kernel): `read_words` at a huge address overflowed `(address − 1) · 8`;
+    /// a huge count allocated `count · 8` bytes before the read failed. Both are refused.
+    #[test]
+    fn read_words_past_the_end_is_refused_before_allocating() {
+        let day = crate::constants::SECONDS_PER_DAY;
+        let mut words = vec![day / 2.0, day / 2.0, 1.0, 2.0, 3.0];
+        words.extend_from_slice(&[0.0, day, 5.0, 1.0]);
+        let seg = SegmentData {
+            name: "short".into(),
+            start_seconds_tdb: 0.0,
+            end_seconds_tdb: day,
+            target: 10,
+            center: 0,
+            frame: 1,
+            data_type: 2,
+            words,
+        };
+        let p = tmp("read_words.bsp");
+        write_spk(&p, false, "TEST", &[seg]).unwrap();
+        let k = SpkKernel::open(&p).unwrap();
+        let first = k.segments()[0].start_address;
+        assert_eq!(k.read_words(first, 2).unwrap(), vec![day / 2.0, day / 2.0]);
+        for (address, count) in
+            [(u64::MAX / 2, 16), (u64::MAX, 1), (1, usize::MAX / 2), (1, usize::MAX), (first, 1 << 40)]
+        {
+            let e = k.read_words(address, count).unwrap_err();
+            assert!(matches!(e, EphemerisError::BadFile { .. }), "{address} {count}: {e}");
+            assert!(e.to_string().contains("past the end of the file"), "{e}");
+        }
     }
 
     /// A kernel written by `write_spk` with a known polynomial reads back in both byte orders.

@@ -41,6 +41,73 @@ pub fn count_fields(line: &str, sep: char) -> usize {
     n
 }
 
+/// A quoting mistake in one record, found by [`split_record`].
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct QuoteMistake {
+    /// 0-based index of the field where it happens.
+    pub field: usize,
+    /// What is wrong, and how to write it instead.
+    pub message: &'static str,
+}
+
+/// The fields of one record (quotes removed, `""` inside a quoted field read as `"`), with
+/// RFC 4180 quoting: a `"` opens a quoted field only as the field's first character, and a
+/// closing `"` must be followed by the separator or the end of the record. Anything else is
+/// a [`QuoteMistake`] (the CSV parser would read such a field differently from this check,
+/// so it is refused here, with its row and column, before the parser sees it).
+pub fn split_record(record: &str, sep: char) -> Result<Vec<String>, QuoteMistake> {
+    #[derive(PartialEq)]
+    enum State {
+        FieldStart,
+        Unquoted,
+        Quoted,
+        AfterQuote,
+    }
+    let mut fields = Vec::new();
+    let mut field = String::new();
+    let mut state = State::FieldStart;
+    let mistake = |field: usize, message: &'static str| QuoteMistake { field, message };
+    for c in record.chars() {
+        state = match (state, c) {
+            (State::Quoted, '"') => State::AfterQuote,
+            (State::Quoted, c) => {
+                field.push(c);
+                State::Quoted
+            }
+            (State::AfterQuote, '"') => {
+                field.push('"');
+                State::Quoted
+            }
+            (State::FieldStart, '"') => State::Quoted,
+            (_, c) if c == sep => {
+                fields.push(std::mem::take(&mut field));
+                State::FieldStart
+            }
+            (State::AfterQuote, _) => {
+                return Err(mistake(
+                    fields.len(),
+                    "text after the closing quote of a quoted field; a quoted field ends at the separator",
+                ));
+            }
+            (_, '"') => {
+                return Err(mistake(
+                    fields.len(),
+                    "a '\"' inside an unquoted field; quote the whole field (\"...\", with \"\" for a quote inside it) or remove the quote",
+                ));
+            }
+            (_, c) => {
+                field.push(c);
+                State::Unquoted
+            }
+        };
+    }
+    if state == State::Quoted {
+        return Err(mistake(fields.len(), "a quoted field is never closed (a '\"' is missing)"));
+    }
+    fields.push(field);
+    Ok(fields)
+}
+
 fn separator_name(sep: char) -> &'static str {
     match sep {
         ',' => "',' (comma)",
@@ -133,17 +200,43 @@ pub fn check_delimited_file(path: &Path, sep: char) -> Result<(), TableError> {
             continue; // a quoted field goes on on the next line
         }
         let record = std::mem::take(&mut pending);
-        match &names {
-            None => {
-                check_header(&record, sep, &file)?;
-                names = Some(split_names(&record, sep));
-            }
-            Some(names) => {
-                row += 1;
-                let got = count_fields(&record, sep);
-                if got != names.len() {
-                    return Err(field_count_error(&file, row, got, names));
-                }
+        check_record(&record, sep, &file, &mut names, &mut row)?;
+    }
+    if !pending.is_empty() {
+        // The file ends inside a quoted field: checked as a record, it is refused.
+        check_record(&pending, sep, &file, &mut names, &mut row)?;
+    }
+    Ok(())
+}
+
+/// Checks one record: the header (its separator and quoting) when `names` is still unset,
+/// else one data row (its quoting and its number of fields), counted in `row`.
+fn check_record(
+    record: &str,
+    sep: char,
+    file: &str,
+    names: &mut Option<Vec<String>>,
+    row: &mut usize,
+) -> Result<(), TableError> {
+    match names {
+        None => {
+            check_header(record, sep, file)?;
+            let fields = split_record(record, sep).map_err(|m| TableError::File {
+                file: file.to_string(),
+                message: format!("the header, column {}: {}", m.field + 1, m.message),
+            })?;
+            *names = Some(fields.iter().map(|f| f.trim().to_string()).collect());
+        }
+        Some(names) => {
+            *row += 1;
+            let fields = split_record(record, sep).map_err(|m| TableError::Cell {
+                file: file.to_string(),
+                row: *row,
+                column: names.get(m.field).cloned().unwrap_or_else(|| format!("field {}", m.field + 1)),
+                message: m.message.to_string(),
+            })?;
+            if fields.len() != names.len() {
+                return Err(field_count_error(file, *row, fields.len(), names));
             }
         }
     }
@@ -163,6 +256,40 @@ mod tests {
     fn byte_order_mark_and_crlf_are_removed() {
         assert_eq!(clean_line("\u{feff}time,mag\r\n"), "time,mag");
         assert_eq!(count_fields("a,\"b,c\",d", ','), 3);
+    }
+
+    #[test]
+    fn quoting_follows_rfc_4180() {
+        // Reference: RFC 4180, section 2 (rules 5-7).
+        assert_eq!(split_record("a,\"b,c\",d", ',').unwrap(), ["a", "b,c", "d"]);
+        assert_eq!(split_record("\"say \"\"hi\"\"\",,\"\"", ',').unwrap(), ["say \"hi\"", "", ""]);
+        assert_eq!(split_record("\"two\nlines\"\tx", '\t').unwrap(), ["two\nlines", "x"]);
+        assert_eq!(split_record("-3\",1", ',').unwrap_err().field, 0);
+        assert_eq!(split_record("a,\"b\"c", ',').unwrap_err().field, 1);
+        assert_eq!(split_record("a,\"b", ',').unwrap_err().field, 1);
+    }
+
+    /// Fuzz finding (table_text, base64 `77u/LWknLTMiLCIxDQoyLDg2Igoi`): a BOM, a header
+    /// with a quote inside an unquoted field, CRLF, and a row whose quote was counted as
+    /// opening a field that ran on to a lone `"` at the end of the file. The layout check
+    /// passed it, and the CSV parser then panicked on the lone quote. Now refused, naming
+    /// the file, the header and the column.
+    #[test]
+    fn a_stray_quote_is_refused_before_the_parser_sees_it() {
+        let dir = std::env::temp_dir().join(format!("skyclock-layout-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let case = |name: &str, bytes: &[u8]| {
+            let p = dir.join(name);
+            std::fs::write(&p, bytes).unwrap();
+            check_delimited_file(&p, ',').map_err(|e| e.to_string())
+        };
+        let e = case("fuzz.csv", b"\xef\xbb\xbf-i'-3\",\"1\r\n2,86\"\n\"").unwrap_err();
+        assert!(e.contains("fuzz.csv") && e.contains("the header, column 1") && e.contains("unquoted field"), "{e}");
+        let e = case("row.csv", b"time,mag\r\n1,2\r\n2,86\"\n\"").unwrap_err();
+        assert!(e.contains("row.csv") && e.contains("row 2") && e.contains("mag"), "{e}");
+        let e = case("open.csv", b"time,mag\n1,\"2\n3,4\n").unwrap_err();
+        assert!(e.contains("open.csv") && e.contains("row 1") && e.contains("never closed"), "{e}");
+        assert!(case("good.csv", b"\xef\xbb\xbf\"time\",\"mag, V\"\r\n1,\"2\r\n\"\r\n").is_ok());
     }
 
     #[test]

@@ -6,9 +6,11 @@
 //! and SOFA `cal2jd` (via sofars).
 
 /// MJD day number of the civil date `year-month-day` (proleptic Gregorian).
-/// Returns `None` for a month outside 1–12 or a day outside the month.
+/// Returns `None` for a month outside 1–12, a day outside the month, or a year beyond
+/// ±1e9 (far past any use; it keeps the day arithmetic far from `i64` overflow).
 pub fn mjd_from_civil(year: i64, month: u32, day: u32) -> Option<i64> {
-    if !(1..=12).contains(&month) || day < 1 || day > days_in_month(year, month) {
+    if year.unsigned_abs() > 1_000_000_000 || !(1..=12).contains(&month) || day < 1 || day > days_in_month(year, month)
+    {
         return None;
     }
     Some(days_from_civil(year, month, day) - 678_941)

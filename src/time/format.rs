@@ -153,10 +153,13 @@ fn parse_day_number(text: &str, format: TimeFormat, scale: TimeScale) -> Result<
         };
         return Err(TimeError::NotFinite { value });
     }
-    // Two-part: "a+b" (not a leading sign) or "a b".
-    let parts: Vec<&str> = match trimmed[1.min(trimmed.len())..].find(['+', ' ', '\t']) {
-        Some(pos) if !trimmed[..pos + 1].contains(['e', 'E']) => {
-            let (a, b) = trimmed.split_at(pos + 1);
+    // Two-part: "a+b" (not a leading sign) or "a b". The search starts after the first
+    // character (its full UTF-8 length, so that a multi-byte first character is no slice
+    // inside a character).
+    let first_len = trimmed.chars().next().map_or(0, char::len_utf8);
+    let parts: Vec<&str> = match trimmed[first_len..].find(['+', ' ', '\t']) {
+        Some(pos) if !trimmed[..pos + first_len].contains(['e', 'E']) => {
+            let (a, b) = trimmed.split_at(pos + first_len);
             vec![a, b.trim_start_matches(['+', ' ', '\t'])]
         }
         _ => vec![trimmed],
@@ -249,7 +252,9 @@ pub fn format_time(t: &Instant, format: TimeFormat) -> String {
     }
 }
 
-/// Writes a two-part day number as `whole.fffff…` with `decimals` digits, carrying rounding.
+/// Writes a two-part day number `whole + fraction` (`fraction` in [0, 1)) as `whole.fffff…`
+/// with `decimals` digits, carrying rounding. A negative number is written with its sign in
+/// front of its magnitude: whole −1 and fraction 0.7 is `-0.3000…`, not `-1.7000…`.
 pub fn format_whole_and_fraction(whole: i64, fraction: f64, decimals: usize) -> String {
     let scale = 10f64.powi(decimals as i32);
     let mut digits = (fraction * scale).round();
@@ -257,6 +262,10 @@ pub fn format_whole_and_fraction(whole: i64, fraction: f64, decimals: usize) -> 
     if digits >= scale {
         digits -= scale;
         whole += 1;
+    }
+    if whole < 0 && digits > 0.0 {
+        // whole + digits/scale = −((−whole − 1) + (scale − digits)/scale)
+        return format!("-{}.{:0width$}", -(whole + 1), (scale - digits) as u64, width = decimals);
     }
     format!("{whole}.{:0width$}", digits as u64, width = decimals)
 }
@@ -300,6 +309,37 @@ mod tests {
 
     fn table() -> LeapSecondTable {
         LeapSecondTable::builtin()
+    }
+
+    #[test]
+    fn negative_day_numbers_format_as_they_parse() {
+        // Fuzz finding (time_text, base64 `LS4z`, "-.3"): read as −0.3, written as "-1.7…".
+        assert_eq!(format_whole_and_fraction(-1, 0.7, 3), "-0.300");
+        assert_eq!(format_whole_and_fraction(-2, 0.25, 2), "-1.75");
+        assert_eq!(format_whole_and_fraction(-3, 0.0, 2), "-3.00");
+        assert_eq!(format_whole_and_fraction(-1, 0.9999999, 3), "0.000");
+        for text in ["-.3", "-0.3", "-1.7", "-12345.000000000001", "-0.5"] {
+            let t = parse_time(text, TimeFormat::Mjd, TimeScale::Tt, &table()).unwrap();
+            let written = format_time(&t, TimeFormat::Mjd);
+            let back = parse_time(&written, TimeFormat::Mjd, TimeScale::Tt, &table()).unwrap();
+            assert!(back.seconds_since(&t).abs() <= 1e-9, "{text} -> {written}");
+            assert!(written.starts_with('-'), "{text} -> {written}");
+        }
+    }
+
+    #[test]
+    fn a_multi_byte_first_character_is_refused_not_a_panic() {
+        // Fuzz findings (time_text, base64 `zo0A`; description_toml, base64 `2Yh+f393fg==`):
+        // the two-part split sliced the text one byte in, inside the first character.
+        for text in ["\u{38D}\0", "\u{648}~\u{7f}\u{7f}w~", "é+0.5", "\u{1F600} 1"] {
+            for format in [TimeFormat::Jd, TimeFormat::Mjd, TimeFormat::ReducedJd] {
+                let r = parse_time(text, format, TimeScale::Tt, &table());
+                assert!(matches!(r, Err(TimeError::Unparseable { .. })), "{text:?} as {format:?}: {r:?}");
+            }
+        }
+        // The split itself still works after a one-byte first character.
+        let t = parse_time("2460000.5+0.25", TimeFormat::Jd, TimeScale::Tt, &table()).unwrap();
+        assert_eq!((t.mjd_day(), t.seconds_of_day()), (60_000, 0.25 * SECONDS_PER_DAY));
     }
 
     #[test]

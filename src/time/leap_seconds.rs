@@ -104,12 +104,17 @@ impl LeapSecondTable {
                 let ntp: i64 = rest.trim().parse().map_err(|_| {
                     err(line_no, format!("expiry line '#@' needs NTP seconds, found '{}'", rest.trim()))
                 })?;
-                expiry_mjd = Some(NTP_EPOCH_MJD + ntp.div_euclid(86_400));
+                let mjd = NTP_EPOCH_MJD + ntp.div_euclid(86_400);
+                check_entry_mjd(mjd as f64).map_err(|m| err(line_no, format!("expiry line '#@': {m}")))?;
+                expiry_mjd = Some(mjd);
                 continue;
             }
             if line.starts_with('#') {
                 if let Some(pos) = line.find("File expires on") {
                     expiry_mjd = parse_expiry_date(&line[pos + "File expires on".len()..]);
+                    if let Some(mjd) = expiry_mjd {
+                        check_entry_mjd(mjd as f64).map_err(|m| err(line_no, format!("expiry date: {m}")))?;
+                    }
                 }
                 continue;
             }
@@ -131,6 +136,7 @@ impl LeapSecondTable {
                     let dat: f64 = fields[4]
                         .parse()
                         .map_err(|_| err(line_no, format!("'{}' is not TAI-UTC seconds", fields[4])))?;
+                    check_entry_mjd(mjd).map_err(|m| err(line_no, m))?;
                     (mjd.round() as i64, dat)
                 }
                 _ => {
@@ -140,6 +146,13 @@ impl LeapSecondTable {
                     ));
                 }
             };
+            check_entry_mjd(parsed.0 as f64).map_err(|m| err(line_no, m))?;
+            if !(parsed.1.is_finite() && parsed.1.abs() <= MAX_ABS_TAI_MINUS_UTC_S) {
+                return Err(err(
+                    line_no,
+                    format!("TAI-UTC of {} s is outside -1000…1000 s; is this a leap-second table?", parsed.1),
+                ));
+            }
             if parsed.0 >= INTEGER_STEPS_START_MJD {
                 steps.push(parsed);
             }
@@ -193,7 +206,7 @@ impl LeapSecondTable {
     /// rate era count as well.
     pub fn utc_day_length_s(&self, mjd_day: i64) -> Result<f64, TimeError> {
         let today = self.tai_minus_utc(mjd_day, 0.0)?;
-        let tomorrow = self.tai_minus_utc(mjd_day + 1, 0.0)?;
+        let tomorrow = self.tai_minus_utc(mjd_day.saturating_add(1), 0.0)?;
         let drift = self.rate_drift_per_day_s(mjd_day)?;
         Ok(SECONDS_PER_DAY + (tomorrow - today - drift))
     }
@@ -206,6 +219,21 @@ impl LeapSecondTable {
         let start = self.tai_minus_utc(mjd_day, 0.0)?;
         let noon = self.tai_minus_utc(mjd_day, 43_200.0)?;
         Ok(2.0 * (noon - start))
+    }
+}
+
+/// Largest |TAI − UTC| a table entry may hold, s (37 s in 2017; common practice: any
+/// plausible future of leap seconds stays far below this).
+const MAX_ABS_TAI_MINUS_UTC_S: f64 = 1000.0;
+
+/// An entry's (or expiry's) MJD must be a day number from JD 0 to the end of AD 9999, the
+/// span of every time this program reads (`time::format::MJD_ACCEPTED`).
+fn check_entry_mjd(mjd: f64) -> Result<(), String> {
+    let (low, high) = super::format::MJD_ACCEPTED;
+    if mjd.is_finite() && (low..=high).contains(&mjd) {
+        Ok(())
+    } else {
+        Err(format!("MJD {mjd} is outside {low}…{high} (JD 0 to the end of AD 9999)"))
     }
 }
 
@@ -230,6 +258,34 @@ fn month_from_name(name: &str) -> Option<u32> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Fuzz finding (reference_tables): an entry with the MJD 1.4e26 was read as `i64::MAX`
+    /// (saturating cast), made the validity horizon `i64::MAX`, and the day length there
+    /// overflowed `mjd + 1`. Entries, expiry lines and TAI − UTC values are now range-checked
+    /// with their line, and the day length saturates at the end of the `i64` days.
+    #[test]
+    fn absurd_entries_are_refused_with_their_line() {
+        let cases = [
+            ("41317 1 1 1972 10\n0142100000000000000000000000 @87 0.00002710  2.6057 0.1916\n", 2, "MJD"),
+            ("41317 1 1 1972 10\n41499 1 7 1972 1e300\n", 2, "TAI-UTC"),
+            ("41317 1 1 1972 nan\n", 1, "TAI-UTC"),
+            ("#@ 9000000000000000000\n2272060800 10\n", 1, "expiry"),
+            ("# File expires on 28 June 99999999999999999\n2272060800 10\n", 0, ""),
+        ];
+        for (text, line, word) in cases {
+            match LeapSecondTable::parse(text, "odd.list") {
+                Err(e) => {
+                    let message = e.to_string();
+                    assert!(message.contains("odd.list") && message.contains(word), "{message}");
+                    assert!(matches!(e, TimeError::LeapFile { line: l, .. } if l == line), "{message}");
+                }
+                // An expiry date that is no calendar date is ignored, as before.
+                Ok(t) => assert_eq!((line, t.valid_until_mjd()), (0, 41_317), "{text}"),
+            }
+        }
+        let t = LeapSecondTable::builtin();
+        assert_eq!(t.utc_day_length_s(i64::MAX).unwrap(), 86_400.0);
+    }
 
     #[test]
     fn bulletin_c_values_at_dated_instants() {
