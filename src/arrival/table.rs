@@ -406,13 +406,6 @@ fn plausibility_of(
     Ok(warnings)
 }
 
-impl ClockSpec {
-    /// The clock label (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).
-    pub fn label(&self) -> String {
-        clock_label(self)
-    }
-}
-
 /// The clock label of a row (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).
 fn clock_label(clock: &ClockSpec) -> String {
     let kind = match (clock.reference, clock.format) {
