@@ -14,7 +14,7 @@
 //! local grid with its 1σ from the Δχ² profile, depth ± σ, S/N, odd and even event depths,
 //! the depth at phase 0.5 and the deepest secondary dip elsewhere in phase.
 
-use super::box_fold::{FoldKernel, PhaseFolder, Scratch};
+use super::box_fold::{FoldKernel, PhaseFolder, Scratch, bin_in_time};
 use super::{FrequencyGrid, Periodogram, SearchError, Series, Spectrum};
 use rayon::prelude::*;
 
@@ -351,15 +351,25 @@ fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<(), SearchError> 
 /// its phase bin, or running sums read at the bin edges, which costs bins × cycles rather
 /// than points on dense light curves).
 pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -> Result<BoxSpectrum, SearchError> {
-    box_search_with(series, grid, options, FoldKernel::Cheaper)
+    box_search_with(series, grid, options, FoldKernel::Cheaper, true)
 }
 
-/// [`box_search`] with the folding kernel given (tests compare the kernels).
+/// Time bins per narrowest phase bin of a grid in the box search's time binning of dense
+/// light curves ([`box_search`]).
+pub const TIME_BINS_PER_PHASE_BIN: f64 = 1.0;
+
+/// The box search bins a light curve in time only when that leaves fewer than this share
+/// of its points.
+const TIME_BINNING_GAIN: f64 = 0.7;
+
+/// [`box_search`] with the folding kernel given and time binning on or off (tests compare
+/// them).
 pub(crate) fn box_search_with(
     series: &Series,
     grid: &FrequencyGrid,
     options: &BoxOptions,
     kernel: FoldKernel,
+    time_binning: bool,
 ) -> Result<BoxSpectrum, SearchError> {
     check(options, grid)?;
     if series.len() < 5 {
@@ -378,7 +388,22 @@ pub(crate) fn box_search_with(
     let t0 = series.time_d[0];
     let dt: Vec<f64> = series.time_d.iter().map(|t| t - t0).collect();
     let wpair: Vec<[f64; 2]> = w.iter().zip(&wy).map(|(&a, &b)| [a, b]).collect();
-    let folder = PhaseFolder::new(&dt, &wpair);
+    // A dense light curve is first summed in time bins of a fraction of the narrowest phase
+    // bin of the grid, when that leaves markedly fewer points to fold.
+    let narrowest_phase_bin_d = [grid.start_per_day, grid.max_freq_per_day()]
+        .iter()
+        .map(|&f| 1.0 / (f * options.bins_at(1.0 / f) as f64))
+        .fold(f64::INFINITY, f64::min);
+    let binned = if time_binning {
+        Some(bin_in_time(&dt, &wpair, narrowest_phase_bin_d / TIME_BINS_PER_PHASE_BIN))
+            .filter(|b| (b.0.len() as f64) < TIME_BINNING_GAIN * dt.len() as f64)
+    } else {
+        None
+    };
+    let folder = match &binned {
+        Some((times, sums)) => PhaseFolder::new(times, sums),
+        None => PhaseFolder::new(&dt, &wpair),
+    };
     let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
         .into_par_iter()
         .map_init(

@@ -248,6 +248,35 @@ unsafe fn scatter_lanes_avx(dt: &[f64], pairs: &[[f64; 2]], f: f64, nb: usize, l
     scatter_lanes_body(&dt[..n], &pairs[..n], f, nb, lanes, n4)
 }
 
+/// Sums of consecutive points within time bins of `width_d` days (bin k holds the offsets
+/// in [k·width, (k+1)·width)), each bin one point at its weighted mean offset with the sums
+/// of its points' (weight, weighted value); empty bins are left out. `dt` non-decreasing
+/// and ≥ 0, weights (`pairs[i][0]`) > 0. Returns (offsets, sums), in time order. A point
+/// moves by less than `width_d` (to its bin's weighted mean), so folded into phase bins of
+/// width w it lands at most one bin from its own, and only when within `width_d` of an edge.
+/// Source: binning a light curve in time (common practice).
+pub(crate) fn bin_in_time(dt: &[f64], pairs: &[[f64; 2]], width_d: f64) -> (Vec<f64>, Vec<[f64; 2]>) {
+    let (mut times, mut sums) = (Vec::new(), Vec::new());
+    let mut i = 0;
+    let n = dt.len().min(pairs.len());
+    while i < n {
+        let k = (dt[i] / width_d).floor();
+        let end = (k + 1.0) * width_d;
+        let first = dt[i];
+        let (mut w, mut wy, mut wt) = (pairs[i][0], pairs[i][1], pairs[i][0] * first);
+        i += 1;
+        while i < n && dt[i] < end {
+            w += pairs[i][0];
+            wy += pairs[i][1];
+            wt += pairs[i][0] * dt[i];
+            i += 1;
+        }
+        times.push(if w > 0.0 { (wt / w).max(first) } else { first });
+        sums.push([w, wy]);
+    }
+    (times, sums)
+}
+
 /// Bucket of a time offset `x` (days ≥ 0): ⌊x · buckets_per_day⌋, at most `last`. The
 /// same rounded operation for the points and the edges keeps the order: a point in a lower
 /// bucket than x lies before x, one in a higher bucket after it.
@@ -327,5 +356,45 @@ mod tests {
         let (dt, pairs) = curve(&mut rng, 600, 1000.0, true);
         let folder = PhaseFolder::new(&dt, &pairs);
         assert_eq!(folder.cheaper_kernel(0.5, 200), FoldKernel::Scatter);
+    }
+
+    /// The box search on a dense light curve (27 d at 2-minute cadence, the benchmark's
+    /// shape; an invented transit of 0.5 % at 3.3 d in 0.1 % noise) with and without time
+    /// binning at the narrowest phase bin: the same peak (±1 grid step), its Δχ² within
+    /// 2 % of the unbinned, and every frequency's within 5 % of the peak's.
+    #[test]
+    fn time_binned_box_search_keeps_the_unbinned_power() {
+        use crate::periodogram::Series;
+        use crate::periodogram::bls::{BoxDurations, BoxOptions, box_search_with, plan_box_grid_for};
+        let mut rng = SeededRng::new(79);
+        let n = 19_440;
+        let t: Vec<f64> = (0..n).map(|k| 27.0 * k as f64 / n as f64).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .map(|&x| 1.0 - if (x / 3.3).fract() < 0.02 { 0.005 } else { 0.0 } + 0.001 * rng.normal())
+            .collect();
+        let s = Series::from_arrays(&t, &y, Some(&vec![0.001; n])).unwrap();
+        let durations = BoxDurations::Fixed(vec![0.04, 0.08, 0.12, 0.16]);
+        let grid = plan_box_grid_for(27.0, 0.2, 0.5, &durations, 2.0, 1 << 30).unwrap().grid;
+        let options = BoxOptions::flux(vec![0.04, 0.08, 0.12, 0.16]);
+        let exact = box_search_with(&s, &grid, &options, FoldKernel::Cheaper, false).unwrap();
+        let binned = box_search_with(&s, &grid, &options, FoldKernel::Cheaper, true).unwrap();
+        let argmax = |p: &[f64]| (0..p.len()).max_by(|&a, &b| p[a].total_cmp(&p[b])).unwrap();
+        let (ke, kb) = (argmax(&exact.power), argmax(&binned.power));
+        let peak = exact.power[ke];
+        let worst = exact.power.iter().zip(&binned.power).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+        eprintln!(
+            "peak {ke} vs {kb}, power {peak} vs {}, ({:.3e} relative), worst difference {:.3e} of the peak",
+            binned.power[kb],
+            binned.power[kb] / peak - 1.0,
+            worst / peak
+        );
+        assert!(ke.abs_diff(kb) <= 1, "peaks at {ke} and {kb}");
+        assert!((binned.power[kb] / peak - 1.0).abs() < 0.02);
+        assert!(worst < 0.05 * peak);
+        // the binning did engage: about three points per 5.76-minute bin
+        let dt: Vec<f64> = t.iter().map(|x| x - t[0]).collect();
+        let pairs: Vec<[f64; 2]> = vec![[1.0, 0.0]; n];
+        assert!(bin_in_time(&dt, &pairs, 0.004).0.len() < n / 2);
     }
 }
