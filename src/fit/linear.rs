@@ -5,9 +5,9 @@
 //! which stays accurate when the normal equations would lose half the digits.
 
 use super::FitError;
+use faer::diag::Diag;
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::svd::{ComputeSvdVectors, svd, svd_scratch};
-use faer::diag::Diag;
 use faer::{Mat, Par};
 
 /// Result of a weighted linear least-squares fit.

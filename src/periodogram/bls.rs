@@ -13,6 +13,14 @@
 //! then measured on the unbinned points ([`box_detection`]): the period refined on a fine
 //! local grid with its 1σ from the Δχ² profile, depth ± σ, S/N, odd and even event depths,
 //! the depth at phase 0.5 and the deepest secondary dip elsewhere in phase.
+//!
+//! Folding (`box_fold`): each trial frequency by the cheaper of two exact kernels. A dense
+//! light curve (binning leaves < 70 % of its points) is first summed in time bins of the
+//! narrowest phase bin of the grid ([`TIME_BINS_PER_PHASE_BIN`]), each bin folded at its
+//! weighted mean time: a point then lands at most one phase bin from its own. Measured on a
+//! 27-day, 2-minute-cadence transit curve: the peak's Δχ² within 1e-4 of the unbinned,
+//! every trial frequency's within 1.2 % of the peak's (the test allows 2 % and 5 %); the
+//! peaks are measured on the unbinned points ([`box_detection`]) in any case.
 
 use super::box_fold::{FoldKernel, PhaseFolder, Scratch, bin_in_time};
 use super::{FrequencyGrid, Periodogram, SearchError, Series, Spectrum};
