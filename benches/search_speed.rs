@@ -263,7 +263,7 @@ fn against_astropy(box_only: bool) {
 fn astropy_reference(dir: &std::path::Path) -> (f64, f64, String) {
     let out = std::process::Command::new("python3")
         .arg("benches/astropy_box_cascade.py")
-        .arg(&dir)
+        .arg(dir)
         .env("OMP_NUM_THREADS", "1")
         .output();
     let out = match out {

@@ -290,6 +290,9 @@ pub fn survey_batch<'py>(
     Ok((to_json(&doc)?, d))
 }
 
+/// Class, variability flag and field false-alarm probability columns.
+type FieldFlags = (Vec<Option<String>>, Vec<Option<bool>>, Vec<Option<f64>>);
+
 /// The cascade's class, variability flag and field false-alarm probability of rows made in
 /// parts of a field (one Dask partition each), carried to the whole field of `n_sources`
 /// (library `survey::cascade_table::flags_in_larger_field`; exact when `n_sources` is at
@@ -297,13 +300,12 @@ pub fn survey_batch<'py>(
 /// `source_false_alarm_probability` cells (`None` for a skipped source, which stays `None`).
 /// Returns (class, variable, field false-alarm probability) columns.
 #[pyfunction]
-#[allow(clippy::type_complexity)]
 pub fn cascade_flags_in_field(
     classes: Vec<Option<String>>,
     source_false_alarm: Vec<Option<f64>>,
     n_sources: usize,
     false_alarm_level: f64,
-) -> PyResult<(Vec<Option<String>>, Vec<Option<bool>>, Vec<Option<f64>>)> {
+) -> PyResult<FieldFlags> {
     if source_false_alarm.len() != classes.len() {
         return Err(crate::convert::error(format!(
             "cascade_flags_in_field: {} classes but {} false-alarm probabilities; give one of each per source",

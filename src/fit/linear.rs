@@ -126,10 +126,13 @@ pub fn weighted_linear_lsq(design: &[f64], p: usize, y: &[f64], weight: &[f64]) 
     Ok(LinearFit { params, covariance, chi2, dof: n - p, condition })
 }
 
+/// The factors (U, V, S) of a thin singular value decomposition.
+type ThinSvd = (Mat<f64>, Mat<f64>, Diag<f64>);
+
 /// Thin SVD A = U S Vᵀ of `a` on the calling thread: faer's default spreads a large
 /// decomposition over the rayon pool, whose size would then change the last digits of a
 /// fit (and a survey batch on one thread would differ from one on two). Returns (U, V, S).
-fn thin_svd_sequential(a: &Mat<f64>) -> Result<(Mat<f64>, Mat<f64>, Diag<f64>), FitError> {
+fn thin_svd_sequential(a: &Mat<f64>) -> Result<ThinSvd, FitError> {
     let (m, n) = (a.nrows(), a.ncols());
     let size = m.min(n);
     let (mut u, mut v, mut s) = (Mat::zeros(m, size), Mat::zeros(n, size), Diag::zeros(size));
