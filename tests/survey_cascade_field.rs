@@ -12,17 +12,9 @@ use skyclock::fit::SeededRng;
 use skyclock::periodogram::{Algorithm, GridRequest, Series, plan_grid};
 use skyclock::survey::cascade::{CascadeOptions, VariabilityClass, classify_series};
 
-fn frac(x: f64) -> f64 {
-    x - x.floor()
-}
-
-struct Star {
-    class: VariabilityClass,
-    period_d: f64,
-    time_d: Vec<f64>,
-    mag: Vec<f64>,
-    err: Vec<f64>,
-}
+#[path = "common/survey_field.rs"]
+mod survey_field;
+use survey_field::invented_star;
 
 fn season(rng: &mut SeededRng) -> Vec<f64> {
     let mut t = Vec::new();
@@ -37,51 +29,6 @@ fn season(rng: &mut SeededRng) -> Vec<f64> {
     t
 }
 
-fn star(class: VariabilityClass, rng: &mut SeededRng) -> Star {
-    let t = season(rng);
-    let log_uniform = |rng: &mut SeededRng, a: f64, b: f64| (a.ln() + (b / a).ln() * rng.uniform()).exp();
-    let (period_d, noise) = match class {
-        VariabilityClass::Sinusoidal => (log_uniform(rng, 0.1, 3.0), 0.005 + 0.015 * rng.uniform()),
-        VariabilityClass::NonSinusoidalPulsator => (0.3 + 0.7 * rng.uniform(), 0.005 + 0.015 * rng.uniform()),
-        VariabilityClass::EclipsingBinary => (log_uniform(rng, 0.5, 5.0), 0.005 + 0.015 * rng.uniform()),
-        VariabilityClass::TransitLike => (log_uniform(rng, 1.0, 5.0), 0.003 + 0.003 * rng.uniform()),
-        VariabilityClass::Constant => (0.0, 0.005 + 0.015 * rng.uniform()),
-    };
-    let amp = match class {
-        VariabilityClass::Sinusoidal => 0.03 + 0.17 * rng.uniform(),
-        VariabilityClass::NonSinusoidalPulsator => 0.1 + 0.4 * rng.uniform(),
-        VariabilityClass::EclipsingBinary => 0.1 + 0.5 * rng.uniform(),
-        VariabilityClass::TransitLike => 0.01 + 0.02 * rng.uniform(),
-        VariabilityClass::Constant => 0.0,
-    };
-    let secondary = 0.2 + 0.6 * rng.uniform();
-    let half_width = 0.03 + 0.04 * rng.uniform();
-    let duty = 0.02 + 0.03 * rng.uniform();
-    let ph0 = rng.uniform();
-    let mag = t
-        .iter()
-        .map(|&x| {
-            let ph = if period_d > 0.0 { frac(x / period_d + ph0) } else { 0.0 };
-            let signal = match class {
-                VariabilityClass::Sinusoidal => amp * (std::f64::consts::TAU * ph).sin(),
-                VariabilityClass::NonSinusoidalPulsator => {
-                    amp * if ph < 0.15 { 0.5 - ph / 0.15 } else { -0.5 + (ph - 0.15) / 0.85 }
-                }
-                VariabilityClass::EclipsingBinary => {
-                    let d = |u: f64| if u.abs() < half_width { 1.0 - (u / half_width).powi(2) } else { 0.0 };
-                    amp * (d(ph - ph.round()) + secondary * d(ph - 0.5))
-                }
-                VariabilityClass::TransitLike if ph.min(1.0 - ph) < 0.5 * duty => amp,
-                VariabilityClass::TransitLike => 0.0,
-                VariabilityClass::Constant => 0.0,
-            };
-            13.0 + signal + noise * rng.normal()
-        })
-        .collect();
-    let err = vec![noise; t.len()];
-    Star { class, period_d, time_d: t, mag, err }
-}
-
 #[test]
 fn every_class_is_recovered_at_its_period_and_constants_stay_quiet() {
     let mut stars = Vec::new();
@@ -94,7 +41,8 @@ fn every_class_is_recovered_at_its_period_and_constants_stay_quiet() {
         (VariabilityClass::Constant, 40),
     ] {
         for _ in 0..count {
-            stars.push(star(class, &mut rng));
+            let t = season(&mut rng);
+            stars.push(invented_star(class, t, 13.0, &mut rng));
         }
     }
     let n_sources = stars.len();

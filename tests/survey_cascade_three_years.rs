@@ -17,6 +17,10 @@ use skyclock::fit::SeededRng;
 use skyclock::periodogram::{Algorithm, GridRequest, Series, plan_grid};
 use skyclock::survey::cascade::{CascadeOptions, VariabilityClass, classify_series};
 
+#[path = "common/survey_field.rs"]
+mod survey_field;
+use survey_field::invented_star;
+
 const COUNTS: [(VariabilityClass, usize); 5] = [
     (VariabilityClass::Sinusoidal, 10),
     (VariabilityClass::NonSinusoidalPulsator, 10),
@@ -24,18 +28,6 @@ const COUNTS: [(VariabilityClass, usize); 5] = [
     (VariabilityClass::TransitLike, 10),
     (VariabilityClass::Constant, 20),
 ];
-
-fn frac(x: f64) -> f64 {
-    x - x.floor()
-}
-
-struct Star {
-    class: VariabilityClass,
-    period_d: f64,
-    time_d: Vec<f64>,
-    mag: Vec<f64>,
-    err: Vec<f64>,
-}
 
 /// Three seasons of 200 nights (one a year), each night observed with probability 1/2,
 /// two epochs 0.05–0.25 d apart starting 0–0.1 d into the night.
@@ -54,58 +46,14 @@ fn three_seasons(rng: &mut SeededRng) -> Vec<f64> {
     t
 }
 
-fn star(class: VariabilityClass, rng: &mut SeededRng) -> Star {
-    let t = three_seasons(rng);
-    let log_uniform = |rng: &mut SeededRng, a: f64, b: f64| (a.ln() + (b / a).ln() * rng.uniform()).exp();
-    let (period_d, noise) = match class {
-        VariabilityClass::Sinusoidal => (log_uniform(rng, 0.1, 3.0), 0.005 + 0.015 * rng.uniform()),
-        VariabilityClass::NonSinusoidalPulsator => (0.3 + 0.7 * rng.uniform(), 0.005 + 0.015 * rng.uniform()),
-        VariabilityClass::EclipsingBinary => (log_uniform(rng, 0.5, 5.0), 0.005 + 0.015 * rng.uniform()),
-        VariabilityClass::TransitLike => (log_uniform(rng, 1.0, 5.0), 0.003 + 0.003 * rng.uniform()),
-        VariabilityClass::Constant => (0.0, 0.005 + 0.015 * rng.uniform()),
-    };
-    let amp = match class {
-        VariabilityClass::Sinusoidal => 0.03 + 0.17 * rng.uniform(),
-        VariabilityClass::NonSinusoidalPulsator => 0.1 + 0.4 * rng.uniform(),
-        VariabilityClass::EclipsingBinary => 0.1 + 0.5 * rng.uniform(),
-        VariabilityClass::TransitLike => 0.01 + 0.02 * rng.uniform(),
-        VariabilityClass::Constant => 0.0,
-    };
-    let secondary = 0.2 + 0.6 * rng.uniform();
-    let half_width = 0.03 + 0.04 * rng.uniform();
-    let duty = 0.02 + 0.03 * rng.uniform();
-    let ph0 = rng.uniform();
-    let mag = t
-        .iter()
-        .map(|&x| {
-            let ph = if period_d > 0.0 { frac(x / period_d + ph0) } else { 0.0 };
-            let signal = match class {
-                VariabilityClass::Sinusoidal => amp * (std::f64::consts::TAU * ph).sin(),
-                VariabilityClass::NonSinusoidalPulsator => {
-                    amp * if ph < 0.15 { 0.5 - ph / 0.15 } else { -0.5 + (ph - 0.15) / 0.85 }
-                }
-                VariabilityClass::EclipsingBinary => {
-                    let d = |u: f64| if u.abs() < half_width { 1.0 - (u / half_width).powi(2) } else { 0.0 };
-                    amp * (d(ph - ph.round()) + secondary * d(ph - 0.5))
-                }
-                VariabilityClass::TransitLike if ph.min(1.0 - ph) < 0.5 * duty => amp,
-                VariabilityClass::TransitLike => 0.0,
-                VariabilityClass::Constant => 0.0,
-            };
-            14.0 + signal + noise * rng.normal()
-        })
-        .collect();
-    let err = vec![noise; t.len()];
-    Star { class, period_d, time_d: t, mag, err }
-}
-
 #[test]
 fn three_ground_seasons_every_class_at_its_period_and_constants_quiet() {
     let mut stars = Vec::new();
     let mut rng = SeededRng::new(1407);
     for (class, count) in COUNTS {
         for _ in 0..count {
-            stars.push(star(class, &mut rng));
+            let t = three_seasons(&mut rng);
+            stars.push(invented_star(class, t, 14.0, &mut rng));
         }
     }
     let n_sources = stars.len();

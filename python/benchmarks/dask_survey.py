@@ -21,7 +21,8 @@ from invented_field import invented_field  # noqa: E402
 import skyclock  # noqa: E402
 from skyclock.distributed import local_cluster, survey_batch_on_dask  # noqa: E402
 
-KEYWORDS = dict(time_column="time", value_column="mag", error_column="mag_err", max_freq_per_day=10.0, peaks=3)
+KEYWORDS = dict(time_column="time", value_column="mag", error_column="mag_err", method="sinusoid", max_freq_per_day=10.0,
+                peaks=3)
 
 
 def main():

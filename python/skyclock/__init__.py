@@ -427,7 +427,8 @@ def survey_batch(
     ``period_d_k``, ``period_err_d_k``, ``freq_per_day_k``, ``power_k``,
     ``false_alarm_probability_k``, ``amplitude_k``, ``alias_note_k``.
 
-    ``method="cascade"`` (the command line's default) describes every source by a
+    ``method="cascade"`` (the default, as on the command line; name another ``method`` to
+    run that one search instead) describes every source by a
     sinusoid, a harmonic series and a box search, takes the best by BIC and gives a class
     at the field false-alarm level ``false_alarm_level`` (library
     ``survey::cascade_table::CascadeTable``): the table then also holds ``class``,
@@ -436,6 +437,7 @@ def survey_batch(
     them, and the result ``class_counts``. The cascade uses its own box durations (duty
     cycles of the trial period); ``durations_d`` applies to ``method="box"``.
     """
+    keywords.setdefault("method", "cascade")
     search, place = _split_search(dict(keywords))
     if not isinstance(table, pd.DataFrame):
         if hasattr(table, "to_pandas"):

@@ -5,7 +5,10 @@ as the file does (1, 2, … across all row groups), brings every source's rows i
 partition (a shuffle on the source column), runs the Rust batch
 (``skyclock.survey_batch``) on each partition on the cluster's workers, and returns one
 row per source in the order of the sources' first rows — the same table a single process
-gives. A LocalCluster is started by default; give ``scheduler_address`` for a running
+gives. With the cascade (the default method), each partition flags its sources against
+its own count of sources; once the partitions are gathered, the flags are carried to the
+whole field's count (library ``survey::cascade_table::flags_in_larger_field``), so the
+variability flag's false-alarm level counts every source searched, as in one process. A LocalCluster is started by default; give ``scheduler_address`` for a running
 cluster (``dask scheduler`` / ``dask worker``, docs/dask.md).
 """
 
@@ -17,7 +20,7 @@ from typing import Optional
 
 import pandas as pd
 
-from . import survey_batch
+from . import _native, survey_batch
 
 __all__ = ["survey_batch_on_dask", "local_cluster"]
 
@@ -57,6 +60,24 @@ def _batch_partition(partition: pd.DataFrame, source_column: str, keywords: dict
     return result.sources, result.to_dict()
 
 
+def _carry_flags_to_field(sources: pd.DataFrame, n_sources: int, level: float) -> pd.DataFrame:
+    """The cascade's ``class``, ``variable`` and ``field_false_alarm_probability`` of rows
+    made per partition, carried to the whole field of ``n_sources`` (the library decides)."""
+    def cell(v):
+        return None if v is None or (isinstance(v, float) and v != v) or v is pd.NA else v
+
+    classes = [cell(v) for v in sources["class"].tolist()]
+    source_fap = [None if cell(v) is None else float(v) for v in sources["source_false_alarm_probability"].tolist()]
+    classes, variable, field = _native.cascade_flags_in_field(classes, source_fap, int(n_sources), float(level))
+    out = sources.copy()
+    out["class"] = pd.Series(classes, index=out.index, dtype=sources["class"].dtype)
+    out["variable"] = pd.Series(variable, index=out.index, dtype=sources["variable"].dtype)
+    out["field_false_alarm_probability"] = pd.Series(
+        [float("nan") if v is None else v for v in field], index=out.index, dtype=sources["field_false_alarm_probability"].dtype
+    )
+    return out
+
+
 def survey_batch_on_dask(
     path,
     *,
@@ -74,8 +95,10 @@ def survey_batch_on_dask(
     rows, as the command line and ``survey_batch`` on the whole table do.
 
     Returns ``(sources, summary)``: the per-source DataFrame sorted by ``first_row`` and the
-    summed counts (``sources``, ``searched``, ``skipped``, ``rows``) with ``times`` and the
-    first skipped sources' messages.
+    summed counts (``sources``, ``searched``, ``skipped``, ``rows``) with ``times``, the
+    first skipped sources' messages and, with the cascade, ``class_counts`` in the whole
+    field. The cascade's ``class``, ``variable`` and ``field_false_alarm_probability`` count
+    every source of the table, not those of one partition.
     """
     import dask
     import dask.dataframe as dd
@@ -107,6 +130,10 @@ def survey_batch_on_dask(
     sources = sources.sort_values("first_row", kind="stable").reset_index(drop=True)
     summaries = [s for _, s in parts]
     summary = {k: sum(s[k] for s in summaries) for k in ("sources", "searched", "skipped", "rows")}
+    if "source_false_alarm_probability" in sources.columns:
+        sources = _carry_flags_to_field(sources, summary["sources"], keywords.get("false_alarm_level", 0.01))
+        searched = sources[sources["status"] == "searched"]
+        summary["class_counts"] = {str(k): int(v) for k, v in sorted(searched["class"].value_counts().items())}
     summary["times"] = summaries[0]["times"] if summaries else ""
     skipped = sources[sources["status"] == "skipped"]["message"].tolist()
     summary["first_skipped"] = skipped[:5]

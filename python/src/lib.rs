@@ -43,6 +43,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(search::fold_light_curve, m)?)?;
     m.add_function(wrap_pyfunction!(search::extract_frequencies, m)?)?;
     m.add_function(wrap_pyfunction!(survey::survey_batch, m)?)?;
+    m.add_function(wrap_pyfunction!(survey::cascade_flags_in_field, m)?)?;
     m.add_function(wrap_pyfunction!(events::time_events, m)?)?;
     m.add_function(wrap_pyfunction!(events::predict_events, m)?)?;
     m.add_function(wrap_pyfunction!(timing::analyse_timings, m)?)?;

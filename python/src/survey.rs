@@ -289,3 +289,52 @@ pub fn survey_batch<'py>(
     });
     Ok((to_json(&doc)?, d))
 }
+
+/// Class, variability flag and field false-alarm probability columns.
+type FieldFlags = (Vec<Option<String>>, Vec<Option<bool>>, Vec<Option<f64>>);
+
+/// The cascade's class, variability flag and field false-alarm probability of rows made in
+/// parts of a field (one Dask partition each), carried to the whole field of `n_sources`
+/// (library `survey::cascade_table::flags_in_larger_field`; exact when `n_sources` is at
+/// least each part's count). `classes` and `source_false_alarm` are the rows' `class` and
+/// `source_false_alarm_probability` cells (`None` for a skipped source, which stays `None`).
+/// Returns (class, variable, field false-alarm probability) columns.
+#[pyfunction]
+pub fn cascade_flags_in_field(
+    classes: Vec<Option<String>>,
+    source_false_alarm: Vec<Option<f64>>,
+    n_sources: usize,
+    false_alarm_level: f64,
+) -> PyResult<FieldFlags> {
+    if source_false_alarm.len() != classes.len() {
+        return Err(crate::convert::error(format!(
+            "cascade_flags_in_field: {} classes but {} false-alarm probabilities; give one of each per source",
+            classes.len(),
+            source_false_alarm.len()
+        )));
+    }
+    if !(false_alarm_level.is_finite() && false_alarm_level > 0.0 && false_alarm_level < 1.0) {
+        return Err(crate::convert::error(format!(
+            "false_alarm_level must lie between 0 and 1, got {false_alarm_level}"
+        )));
+    }
+    let (mut class, mut variable, mut field) = (Vec::new(), Vec::new(), Vec::new());
+    for (c, p) in classes.iter().zip(&source_false_alarm) {
+        match c {
+            None => {
+                class.push(None);
+                variable.push(None);
+                field.push(None);
+            }
+            Some(c) => {
+                let p = p.filter(|v| v.is_finite());
+                let (c, v, f) =
+                    skyclock::survey::cascade_table::flags_in_larger_field(c, p, n_sources, false_alarm_level);
+                class.push(Some(c));
+                variable.push(Some(v));
+                field.push(f);
+            }
+        }
+    }
+    Ok((class, variable, field))
+}

@@ -5,7 +5,10 @@
 //! which stays accurate when the normal equations would lose half the digits.
 
 use super::FitError;
-use faer::Mat;
+use faer::diag::Diag;
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::linalg::svd::{ComputeSvdVectors, svd, svd_scratch};
+use faer::{Mat, Par};
 
 /// Result of a weighted linear least-squares fit.
 #[derive(Debug, Clone, PartialEq)]
@@ -77,10 +80,9 @@ pub fn weighted_linear_lsq(design: &[f64], p: usize, y: &[f64], weight: &[f64]) 
         *s = if *s > 0.0 { 1.0 / s.sqrt() } else { 1.0 };
     }
     let a = Mat::<f64>::from_fn(n, p, |i, j| design[i * p + j] * sw[i] * col_scale[j]);
-    let svd = a.thin_svd().map_err(|e| FitError::Decomposition(format!("{e:?}")))?;
-    let u = svd.U();
-    let v = svd.V();
-    let s = svd.S().column_vector();
+    let (u, v, s) = thin_svd_sequential(&a)?;
+    let (u, v) = (u.as_ref(), v.as_ref());
+    let s = s.as_ref().column_vector();
     let smax = (0..p).map(|k| s[k]).fold(0.0, f64::max);
     let smin = (0..p).map(|k| s[k]).fold(f64::INFINITY, f64::min);
     let condition = if smin > 0.0 { smax / smin } else { f64::INFINITY };
@@ -122,6 +124,31 @@ pub fn weighted_linear_lsq(design: &[f64], p: usize, y: &[f64], weight: &[f64]) 
         chi2 += weight[i] * r * r;
     }
     Ok(LinearFit { params, covariance, chi2, dof: n - p, condition })
+}
+
+/// The factors (U, V, S) of a thin singular value decomposition.
+type ThinSvd = (Mat<f64>, Mat<f64>, Diag<f64>);
+
+/// Thin SVD A = U S Vᵀ of `a` on the calling thread: faer's default spreads a large
+/// decomposition over the rayon pool, whose size would then change the last digits of a
+/// fit (and a survey batch on one thread would differ from one on two). Returns (U, V, S).
+fn thin_svd_sequential(a: &Mat<f64>) -> Result<ThinSvd, FitError> {
+    let (m, n) = (a.nrows(), a.ncols());
+    let size = m.min(n);
+    let (mut u, mut v, mut s) = (Mat::zeros(m, size), Mat::zeros(n, size), Diag::zeros(size));
+    let thin = ComputeSvdVectors::Thin;
+    let mut buffer = MemBuffer::new(svd_scratch::<f64>(m, n, thin, thin, Par::Seq, Default::default()));
+    svd(
+        a.as_ref(),
+        s.as_mut(),
+        Some(u.as_mut()),
+        Some(v.as_mut()),
+        Par::Seq,
+        MemStack::new(&mut buffer),
+        Default::default(),
+    )
+    .map_err(|e| FitError::Decomposition(format!("{e:?}")))?;
+    Ok((u, v, s))
 }
 
 #[cfg(test)]

@@ -13,7 +13,16 @@
 //! then measured on the unbinned points ([`box_detection`]): the period refined on a fine
 //! local grid with its 1σ from the Δχ² profile, depth ± σ, S/N, odd and even event depths,
 //! the depth at phase 0.5 and the deepest secondary dip elsewhere in phase.
+//!
+//! Folding (`box_fold`): each trial frequency by the cheaper of two exact kernels. A dense
+//! light curve (binning leaves < 70 % of its points) is first summed in time bins of the
+//! narrowest phase bin of the grid ([`TIME_BINS_PER_PHASE_BIN`]), each bin folded at its
+//! weighted mean time: a point then lands at most one phase bin from its own. Measured on a
+//! 27-day, 2-minute-cadence transit curve: the peak's Δχ² within 1e-4 of the unbinned,
+//! every trial frequency's within 1.2 % of the peak's (the test allows 2 % and 5 %); the
+//! peaks are measured on the unbinned points ([`box_detection`]) in any case.
 
+use super::box_fold::{FoldKernel, PhaseFolder, Scratch, bin_in_time};
 use super::{FrequencyGrid, Periodogram, SearchError, Series, Spectrum};
 use rayon::prelude::*;
 
@@ -345,8 +354,31 @@ fn check(options: &BoxOptions, grid: &FrequencyGrid) -> Result<(), SearchError> 
     Ok(())
 }
 
-/// Box search over a frequency grid (see module doc). Parallel over frequencies.
+/// Box search over a frequency grid (see module doc). Parallel over frequencies; each
+/// trial frequency folded by the cheaper of two exact kernels (`box_fold`: each point into
+/// its phase bin, or running sums read at the bin edges, which costs bins × cycles rather
+/// than points on dense light curves).
 pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -> Result<BoxSpectrum, SearchError> {
+    box_search_with(series, grid, options, FoldKernel::Cheaper, true)
+}
+
+/// Time bins per narrowest phase bin of a grid in the box search's time binning of dense
+/// light curves ([`box_search`]).
+pub const TIME_BINS_PER_PHASE_BIN: f64 = 1.0;
+
+/// The box search bins a light curve in time only when that leaves fewer than this share
+/// of its points.
+const TIME_BINNING_GAIN: f64 = 0.7;
+
+/// [`box_search`] with the folding kernel given and time binning on or off (tests compare
+/// them).
+pub(crate) fn box_search_with(
+    series: &Series,
+    grid: &FrequencyGrid,
+    options: &BoxOptions,
+    kernel: FoldKernel,
+    time_binning: bool,
+) -> Result<BoxSpectrum, SearchError> {
     check(options, grid)?;
     if series.len() < 5 {
         return Err(SearchError::TooFewPoints {
@@ -364,39 +396,34 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
     let t0 = series.time_d[0];
     let dt: Vec<f64> = series.time_d.iter().map(|t| t - t0).collect();
     let wpair: Vec<[f64; 2]> = w.iter().zip(&wy).map(|(&a, &b)| [a, b]).collect();
+    // A dense light curve is first summed in time bins of a fraction of the narrowest phase
+    // bin of the grid, when that leaves markedly fewer points to fold.
+    let narrowest_phase_bin_d = [grid.start_per_day, grid.max_freq_per_day()]
+        .iter()
+        .map(|&f| 1.0 / (f * options.bins_at(1.0 / f) as f64))
+        .fold(f64::INFINITY, f64::min);
+    let binned = if time_binning {
+        Some(bin_in_time(&dt, &wpair, narrowest_phase_bin_d / TIME_BINS_PER_PHASE_BIN))
+            .filter(|b| (b.0.len() as f64) < TIME_BINNING_GAIN * dt.len() as f64)
+    } else {
+        None
+    };
+    let folder = match &binned {
+        Some((times, sums)) => PhaseFolder::new(times, sums),
+        None => PhaseFolder::new(&dt, &wpair),
+    };
     let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
         .into_par_iter()
         .map_init(
-            || (Vec::<[f64; 2]>::new(), Vec::<[f64; 2]>::new(), Vec::<u32>::new(), Vec::<f64>::new()),
-            |(cumbuf, hist, idx, durs), k| {
+            || (Vec::<[f64; 2]>::new(), Vec::<[f64; 2]>::new(), Scratch::default(), Vec::<f64>::new()),
+            |(cumbuf, bins, scratch, durs), k| {
                 let f = grid.freq_per_day(k);
                 let p = 1.0 / f;
                 let nb = options.bins_at(p);
                 options.durations.at_period(p, durs);
                 let q_max =
                     durs.iter().map(|&d| ((d / p * nb as f64).round() as usize).clamp(1, nb - 1)).max().unwrap_or(1);
-                // Two interleaved histograms (even and odd points, pairs of weight and
-                // weighted value) break the store-to-load chains of consecutive points that
-                // fall into the same bin; merged into the prefix sums.
-                hist.clear();
-                hist.resize(2 * nb, [0.0; 2]);
-                let (ha, hb) = hist.split_at_mut(nb);
-                idx.resize(dt.len(), 0);
-                phase_bins(&dt, f, nb, idx);
-                let mut it = idx.chunks_exact(2).zip(wpair.chunks_exact(2));
-                for (b2, p2) in &mut it {
-                    let (b0, b1) = (b2[0] as usize, b2[1] as usize);
-                    ha[b0][0] += p2[0][0];
-                    ha[b0][1] += p2[0][1];
-                    hb[b1][0] += p2[1][0];
-                    hb[b1][1] += p2[1][1];
-                }
-                if dt.len() % 2 == 1 {
-                    let i = dt.len() - 1;
-                    let b = idx[i] as usize;
-                    ha[b][0] += wpair[i][0];
-                    ha[b][1] += wpair[i][1];
-                }
+                folder.fold(f, nb, kernel, bins, scratch);
                 // prefix sums over the wrapped bins with a leading zero, as far as the longest
                 // box reaches: cw[b] = Σ_{j<b} w_bin[j mod nb], so a window [s, s+q) sums to
                 // cw[s+q] − cw[s]
@@ -405,7 +432,7 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
                 cumbuf.resize(len + 1, [0.0; 2]);
                 for b in 0..len {
                     let j = if b < nb { b } else { b - nb };
-                    cumbuf[b + 1] = [cumbuf[b][0] + ha[j][0] + hb[j][0], cumbuf[b][1] + ha[j][1] + hb[j][1]];
+                    cumbuf[b + 1] = [cumbuf[b][0] + bins[j][0], cumbuf[b][1] + bins[j][1]];
                 }
                 let cum: &[[f64; 2]] = cumbuf;
                 // Best box by cross-multiplication (no division in the loop): keep the
@@ -450,55 +477,6 @@ pub fn box_search(series: &Series, grid: &FrequencyGrid, options: &BoxOptions) -
         duration_d: rows.iter().map(|r| r.2).collect(),
         epoch_d: rows.iter().map(|r| r.3).collect(),
     })
-}
-
-/// Phase bin of each time offset `dt` (days ≥ 0) at frequency `f` with `nb` bins.
-#[inline(always)]
-fn phase_bins_body(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
-    let nbf = nb as f64;
-    let last = (nb - 1) as f64;
-    for (o, &d) in out.iter_mut().zip(dt) {
-        // d ≥ 0 and f > 0: truncation is the floor (and needs no libm call)
-        let x = d * f;
-        let ph = x - x.trunc();
-        *o = (ph * nbf).min(last) as u32;
-    }
-}
-
-/// AVX twin of [`phase_bins_body`]: four offsets at a time with packed truncation and a
-/// packed f64 → i32 conversion (exact here: 0 ≤ bin < nb ≤ 2²⁰).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx")]
-unsafe fn phase_bins_avx(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
-    use std::arch::x86_64::*;
-    let n = dt.len().min(out.len());
-    let n4 = n / 4 * 4;
-    let vf = _mm256_set1_pd(f);
-    let vnb = _mm256_set1_pd(nb as f64);
-    let vlast = _mm256_set1_pd((nb - 1) as f64);
-    let mut i = 0;
-    while i < n4 {
-        // SAFETY: i + 4 ≤ n4 ≤ the lengths of `dt` and `out`.
-        unsafe {
-            let x = _mm256_mul_pd(_mm256_loadu_pd(dt.as_ptr().add(i)), vf);
-            let ph = _mm256_sub_pd(x, _mm256_round_pd::<{ _MM_FROUND_TO_ZERO | _MM_FROUND_NO_EXC }>(x));
-            let b = _mm256_min_pd(_mm256_mul_pd(ph, vnb), vlast);
-            _mm_storeu_si128(out.as_mut_ptr().add(i) as *mut __m128i, _mm256_cvttpd_epi32(b));
-        }
-        i += 4;
-    }
-    phase_bins_body(&dt[n4..n], f, nb, &mut out[n4..n]);
-}
-
-fn phase_bins(dt: &[f64], f: f64, nb: usize, out: &mut [u32]) {
-    #[cfg(target_arch = "x86_64")]
-    {
-        if std::arch::is_x86_feature_detected!("avx") {
-            // SAFETY: the CPU supports AVX (checked just above).
-            return unsafe { phase_bins_avx(dt, f, nb, out) };
-        }
-    }
-    phase_bins_body(dt, f, nb, out)
 }
 
 /// Measures a box at period `period_d`, mid-event time `epoch_d` (days, the series'

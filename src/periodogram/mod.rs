@@ -10,6 +10,7 @@
 //! and conditional entropy ([`entropy`]) complete the search.
 
 pub mod bls;
+mod box_fold;
 pub mod dispersion;
 pub mod entropy;
 pub mod error;

@@ -366,33 +366,20 @@ pub fn classify_series(
     memory_limit_bytes: u128,
     options: &CascadeOptions,
 ) -> Result<Classification, SearchError> {
-    if !(1..=5).contains(&options.harmonics) {
-        return Err(SearchError::InvalidParameter {
-            name: "cascade harmonics",
-            value: options.harmonics as f64,
-            expected: "1 to 5 (the half-frequency model uses twice as many, at most 10)",
-        });
-    }
-    if !(1..=20).contains(&options.box_candidates) {
-        return Err(SearchError::InvalidParameter {
-            name: "cascade box candidates",
-            value: options.box_candidates as f64,
-            expected: "1 to 20",
-        });
-    }
-    if !(1..=100).contains(&options.box_screen_bins_per_duration) {
-        return Err(SearchError::InvalidParameter {
-            name: "cascade box screening bins per duration",
-            value: options.box_screen_bins_per_duration as f64,
-            expected: "1 to 100",
-        });
-    }
-    if !(1..=10).contains(&options.candidates) {
-        return Err(SearchError::InvalidParameter {
-            name: "cascade candidates",
-            value: options.candidates as f64,
-            expected: "1 to 10",
-        });
+    for (name, value, range, expected) in [
+        (
+            "cascade harmonics",
+            options.harmonics,
+            1..=5,
+            "1 to 5 (the half-frequency model uses twice as many, at most 10)",
+        ),
+        ("cascade box candidates", options.box_candidates, 1..=20, "1 to 20"),
+        ("cascade box screening bins per duration", options.box_screen_bins_per_duration, 1..=100, "1 to 100"),
+        ("cascade candidates", options.candidates, 1..=10, "1 to 10"),
+    ] {
+        if !range.contains(&value) {
+            return Err(SearchError::InvalidParameter { name, value: value as f64, expected });
+        }
     }
     let n = series.len();
     let t_base = series.baseline_d();

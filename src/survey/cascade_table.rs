@@ -7,7 +7,7 @@ use std::collections::BTreeMap;
 
 use polars::prelude::{Column, DataFrame, PolarsResult};
 
-use super::cascade::{CascadeModel, Classification};
+use super::cascade::{CascadeModel, Classification, VariabilityClass};
 
 /// One source's cascade description in a field: the class at the field's false-alarm
 /// level and the evidence behind it. Units: periods and durations in days, amplitudes and
@@ -237,6 +237,27 @@ impl CascadeTable {
     }
 }
 
+/// A row's flags carried from the field it was made in to a larger field of `n_sources`
+/// (a field searched in parts, e.g. one Dask partition each, then gathered): returns (class
+/// label, variable, field false-alarm probability) as [`CascadeRow::new`] would have given
+/// them with `n_sources`. The field probability grows with the number of sources, so a row
+/// that was constant in its part stays constant, and a variable one keeps its class while
+/// its probability in the whole field, computed again from `source_false_alarm` (the
+/// source's own, [`CascadeRow::source_false_alarm`]), stays under `level`. Exact when
+/// `n_sources` is at least the count the row was made with (the caller's duty: the whole
+/// field holds every part). Source: [`super::false_alarm::field_false_alarm`].
+pub fn flags_in_larger_field(
+    class_in_part: &str,
+    source_false_alarm: Option<f64>,
+    n_sources: usize,
+    level: f64,
+) -> (String, bool, Option<f64>) {
+    let field = source_false_alarm.map(|p| super::false_alarm::field_false_alarm(p, n_sources)).and_then(finite);
+    let variable = field.is_some_and(|p| p < level);
+    let class = if variable { class_in_part.to_string() } else { VariabilityClass::Constant.label().to_string() };
+    (class, variable, field)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -267,5 +288,41 @@ mod tests {
         assert!(table.rows[1].is_none());
         assert_eq!(table.class_counts().get("sinusoidal"), Some(&1));
         assert_eq!(table.class_counts().values().sum::<usize>(), 1);
+    }
+
+    /// Rows made in two halves of a field and carried to the whole field equal the rows
+    /// made in the whole field: class, flag and field false-alarm probability.
+    #[test]
+    fn rows_of_parts_carried_to_the_whole_field_equal_the_whole_fields() {
+        // Invented: sinusoids of falling amplitude in noise, so that some sources are
+        // variable in a field of 3 and not in one of 3000.
+        let mut found = Vec::new();
+        for (k, amp) in [0.1, 0.004, 0.0025, 0.002, 0.0015, 0.0].into_iter().enumerate() {
+            let mut rng = SeededRng::new(40 + k as u64);
+            let t: Vec<f64> = (0..200).map(|j| (j / 4) as f64 + 0.06 * (j % 4) as f64 + 0.01 * rng.uniform()).collect();
+            let y: Vec<f64> = t
+                .iter()
+                .map(|&x| 14.0 + amp * (std::f64::consts::TAU * x / 0.61).sin() + 0.01 * rng.normal())
+                .collect();
+            let s = Series::from_arrays(&t, &y, Some(&vec![0.01; t.len()])).unwrap();
+            let grid = plan_grid(s.baseline_d(), &GridRequest::up_to(5.0)).unwrap().grid;
+            found.push(Some(classify_series(&s, &grid, Algorithm::Auto, 1 << 30, &CascadeOptions::new(true)).unwrap()));
+        }
+        for whole_field in [6, 3000] {
+            let whole = CascadeTable::new(&found, whole_field, 0.01);
+            let mut changed = 0;
+            for offset in [0, 3] {
+                let part = CascadeTable::new(&found[offset..offset + 3], 3, 0.01);
+                for (p, w) in part.rows.iter().zip(&whole.rows[offset..offset + 3]) {
+                    let (p, w) = (p.as_ref().unwrap(), w.as_ref().unwrap());
+                    let carried = flags_in_larger_field(&p.class, p.source_false_alarm, whole_field, 0.01);
+                    assert_eq!(carried, (w.class.clone(), w.variable, w.field_false_alarm));
+                    changed += usize::from(p.variable != w.variable);
+                }
+            }
+            if whole_field == 3000 {
+                assert!(changed > 0, "some source must change flag between a field of 3 and one of 3000");
+            }
+        }
     }
 }
