@@ -8,10 +8,13 @@ use std::collections::BTreeMap;
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::correction::{BarycentricCorrector, ReferencePoint};
-use super::row_batches::{CorrectionPath, PreparedRows, RowObserver, RowPath, RowTime};
+use std::path::Path;
+
+use super::correction::{ArrivalError, BarycentricCorrector, Corrected, ReferencePoint};
+use super::row_batches::{CorrectionPath, CorrectionPlan, KeyCounts, RowObserver, RowPath, RowTime};
 use crate::observer::{Observer, PositionOrigin, Site, SpacecraftPosition};
-use crate::table::{TableError, float_column, text_column};
+use crate::table::blocks::{CsvBlockReader, CsvBlockWriter};
+use crate::table::{Provenance, TableError, float_column, text_column};
 use crate::time::format::format_whole_and_fraction;
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
 
@@ -221,15 +224,86 @@ fn correct_rows_of_table(
     want_geometry: bool,
 ) -> Result<(DataFrame, TableSummary, Vec<RowGeometry>), TableError> {
     let n = df.height();
-    let times = text_column(df, file, &request.time_column)?;
+    refuse_added_column_names(df, file)?;
+    let block = parse_rows(df, file, request, corrector, 0)?;
+    let counts = if path == CorrectionPath::Automatic {
+        KeyCounts::of_rows(corrector, &block.observers, &block.rows)
+    } else {
+        KeyCounts::default()
+    };
+    let plan = CorrectionPlan::new(corrector, &block.observers, &counts, path);
+    let mut summary = RunningSummary::new(n);
+    let mut geometry = Vec::with_capacity(if want_geometry { n } else { 0 });
+    let mut columns = AddedColumns::with_capacity(n);
+    // Results are held one block at a time; the output columns grow block by block.
+    for start in (0..block.rows.len()).step_by(RESULT_BLOCK_ROWS) {
+        let range = start..(start + RESULT_BLOCK_ROWS).min(block.rows.len());
+        let results = plan.correct(&block.rows[range.clone()]);
+        let rows = &block.rows[range.clone()];
+        let clocks = &block.clocks[range];
+        if want_geometry {
+            for (result, _) in &results {
+                if let Ok(c) = result {
+                    geometry.push(RowGeometry {
+                        observer_barycentric_km: c.observer_barycentric_km,
+                        source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
+                    });
+                }
+            }
+        }
+        summary.add_block(file, request, corrector, start, rows, clocks, results, &mut columns)?;
+    }
+    if let Some(e) = block.unreadable {
+        return Err(e);
+    }
+    drop(plan);
+    let out = columns.append_to(df.clone(), file)?;
+    Ok((out, summary.finish(), geometry))
+}
+
+/// Rows whose results are held at once by the whole-table path.
+const RESULT_BLOCK_ROWS: usize = 1 << 16;
+
+/// Refuses a table that already has a column the correction adds.
+fn refuse_added_column_names(df: &DataFrame, file: &str) -> Result<(), TableError> {
+    match ADDED_COLUMNS.iter().find(|name| df.get_column_names().iter().any(|c| c.as_str() == **name)) {
+        Some(name) => Err(TableError::File {
+            file: file.to_string(),
+            message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
+        }),
+        None => Ok(()),
+    }
+}
+
+/// The rows of one block of a table, read: the fixed observers (the geocentre first), the
+/// rows before the first unreadable one with their clocks, and that row's error.
+struct ParsedRows {
+    observers: Vec<Observer>,
+    rows: Vec<RowTime>,
+    clocks: Vec<ClockSpec>,
+    unreadable: Option<TableError>,
+}
+
+/// Reads the times, clocks and observers of `df`, whose first row is data row
+/// `first_row + 1` of `file`. An unknown site or a missing column is an error at once; an
+/// unreadable time or clock ends the rows read and is handed back.
+fn parse_rows(
+    df: &DataFrame,
+    file: &str,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+    first_row: usize,
+) -> Result<ParsedRows, TableError> {
+    let n = df.height();
+    let times = text_column(df, file, &request.time_column).map_err(|e| shift_row(e, first_row))?;
     let clock_labels = match &request.clock_column {
-        Some(c) => Some(text_column(df, file, c)?),
+        Some(c) => Some(text_column(df, file, c).map_err(|e| shift_row(e, first_row))?),
         None => None,
     };
-    let (observers, row_observers) = observers_per_row(df, file, &request.observer)?;
+    let (observers, row_observers) = observers_per_row(df, file, &request.observer, first_row)?;
     let cell = |row: usize, column: &str, message: String| TableError::Cell {
         file: file.to_string(),
-        row: row + 1,
+        row: first_row + row + 1,
         column: column.to_string(),
         message,
     };
@@ -260,39 +334,56 @@ fn correct_rows_of_table(
     // either kind is the one reported.
     let readable = parsed.iter().position(Option::is_none).unwrap_or(n);
     let unreadable = (readable < n).then(|| parse(readable).err()).flatten();
-    drop(times);
-    drop(clock_labels);
-    let (inputs, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
-    let prepared = PreparedRows::new(corrector, &observers, &inputs, path);
-    let mut summary = TableSummary {
-        rows: n,
-        min_total_correction_s: f64::INFINITY,
-        max_total_correction_s: f64::NEG_INFINITY,
-        ..Default::default()
-    };
-    let mut geometry = Vec::with_capacity(if want_geometry { n } else { 0 });
-    let mut cols: Vec<Vec<f64>> = (0..10).map(|_| Vec::with_capacity(n)).collect();
-    let mut bjd_text = StringChunkedBuilder::new("bjd_tdb".into(), n);
-    let mut obs_text = StringChunkedBuilder::new("observer_tdb".into(), n);
-    let mut clock_text = StringChunkedBuilder::new("input_clock".into(), n);
-    let mut labels: Vec<(ClockSpec, String)> = Vec::new();
-    let mut buffer = String::with_capacity(32);
-    // Results are held one block at a time; the output columns grow block by block.
-    const BLOCK_ROWS: usize = 1 << 16;
-    for block in (0..readable).step_by(BLOCK_ROWS) {
-        let results = prepared.correct_range(block..(block + BLOCK_ROWS).min(readable));
+    let (rows, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
+    Ok(ParsedRows { observers, rows, clocks, unreadable })
+}
+
+/// The summary of a correction, gathered block by block, with the clock labels seen.
+struct RunningSummary {
+    summary: TableSummary,
+    labels: Vec<(ClockSpec, String)>,
+}
+
+impl RunningSummary {
+    fn new(rows: usize) -> RunningSummary {
+        RunningSummary {
+            summary: TableSummary {
+                rows,
+                min_total_correction_s: f64::INFINITY,
+                max_total_correction_s: f64::NEG_INFINITY,
+                ..Default::default()
+            },
+            labels: Vec::new(),
+        }
+    }
+
+    /// Takes in the results of `rows` (whose first is row `first + 1` of the block's
+    /// numbering in `file`), appending their output values to `columns`; the first failed
+    /// correction is the error.
+    #[allow(clippy::too_many_arguments)]
+    fn add_block(
+        &mut self,
+        file: &str,
+        request: &TableRequest,
+        corrector: &BarycentricCorrector,
+        first: usize,
+        rows: &[RowTime],
+        clocks: &[ClockSpec],
+        results: Vec<(Result<Corrected, ArrivalError>, RowPath)>,
+        columns: &mut AddedColumns,
+    ) -> Result<(), TableError> {
+        let leap = corrector.converter().leap_seconds();
+        let summary = &mut self.summary;
         for (k, (result, path)) in results.into_iter().enumerate() {
-            let i = block + k;
-            let c = result.map_err(|e| cell(i, &request.time_column, e.to_string()))?;
-            let (clock, input) = (&clocks[i], &inputs[i].time);
+            let c = result.map_err(|e| TableError::Cell {
+                file: file.to_string(),
+                row: first + k + 1,
+                column: request.time_column.clone(),
+                message: e.to_string(),
+            })?;
+            let (clock, input) = (&clocks[k], &rows[k].time);
             summary.rows_interpolated += usize::from(path == RowPath::TableNodes);
             summary.rows_with_interpolated_slow_terms += usize::from(path == RowPath::SlowTermNodes);
-            if want_geometry {
-                geometry.push(RowGeometry {
-                    observer_barycentric_km: c.observer_barycentric_km,
-                    source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
-                });
-            }
             if input.scale() == TimeScale::Utc
                 && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
             {
@@ -306,65 +397,165 @@ fn correct_rows_of_table(
             let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
             summary.min_total_correction_s = summary.min_total_correction_s.min(total);
             summary.max_total_correction_s = summary.max_total_correction_s.max(total);
-            let (jd1, jd2) = c.bjd_tdb.jd_two_part();
-            write_jd_text(&mut buffer, &c.bjd_tdb);
-            bjd_text.append_value(&buffer);
-            write_jd_text(&mut buffer, &c.observer_tdb);
-            obs_text.append_value(&buffer);
-            let label = match labels.iter().position(|(k, _)| k == clock) {
-                Some(j) => &labels[j].1,
+            let label = match self.labels.iter().position(|(k, _)| k == clock) {
+                Some(j) => &self.labels[j].1,
                 None => {
-                    labels.push((*clock, clock_label(clock)));
-                    &labels[labels.len() - 1].1
+                    self.labels.push((*clock, clock_label(clock)));
+                    &self.labels[self.labels.len() - 1].1
                 }
             };
-            clock_text.append_value(label);
-            for (col, v) in cols.iter_mut().zip([
-                jd1,
-                jd2,
-                d.clock_to_tt_s,
-                d.einstein_s,
-                d.roemer_s,
-                d.curvature_s,
-                d.shapiro_sun_s,
-                d.shapiro_planets_s,
-                d.heliocentric_removed_s,
-                total,
-            ]) {
-                col.push(v);
+            columns.push(&c, total, label);
+        }
+        Ok(())
+    }
+
+    /// The clock labels seen, sorted.
+    fn clocks_seen(&self) -> Vec<String> {
+        let mut labels: Vec<String> = self.labels.iter().map(|(_, l)| l.clone()).collect();
+        labels.sort();
+        labels.dedup();
+        labels
+    }
+
+    fn finish(mut self) -> TableSummary {
+        if self.summary.rows == 0 || self.summary.min_total_correction_s > self.summary.max_total_correction_s {
+            self.summary.min_total_correction_s = 0.0;
+            self.summary.max_total_correction_s = 0.0;
+        }
+        self.summary
+    }
+}
+
+/// The columns of [`ADDED_COLUMNS`] for a run of rows, filled row by row.
+struct AddedColumns {
+    values: Vec<Vec<f64>>,
+    bjd_text: StringChunkedBuilder,
+    observer_text: StringChunkedBuilder,
+    clock_text: StringChunkedBuilder,
+    buffer: String,
+}
+
+impl AddedColumns {
+    fn with_capacity(n: usize) -> AddedColumns {
+        AddedColumns {
+            values: (0..10).map(|_| Vec::with_capacity(n)).collect(),
+            bjd_text: StringChunkedBuilder::new("bjd_tdb".into(), n),
+            observer_text: StringChunkedBuilder::new("observer_tdb".into(), n),
+            clock_text: StringChunkedBuilder::new("input_clock".into(), n),
+            buffer: String::with_capacity(32),
+        }
+    }
+
+    fn push(&mut self, c: &Corrected, total: f64, label: &str) {
+        let d = &c.delays;
+        let (jd1, jd2) = c.bjd_tdb.jd_two_part();
+        write_jd_text(&mut self.buffer, &c.bjd_tdb);
+        self.bjd_text.append_value(&self.buffer);
+        write_jd_text(&mut self.buffer, &c.observer_tdb);
+        self.observer_text.append_value(&self.buffer);
+        self.clock_text.append_value(label);
+        for (col, v) in self.values.iter_mut().zip([
+            jd1,
+            jd2,
+            d.clock_to_tt_s,
+            d.einstein_s,
+            d.roemer_s,
+            d.curvature_s,
+            d.shapiro_sun_s,
+            d.shapiro_planets_s,
+            d.heliocentric_removed_s,
+            total,
+        ]) {
+            col.push(v);
+        }
+    }
+
+    /// `df` with the columns appended, in the order of [`ADDED_COLUMNS`].
+    fn append_to(mut self, mut out: DataFrame, file: &str) -> Result<DataFrame, TableError> {
+        let mut add = |column: Column| -> Result<(), TableError> {
+            out.with_column(column)
+                .map(|_| ())
+                .map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
+        };
+        add(self.bjd_text.finish().into_column())?;
+        for (k, name) in ADDED_COLUMNS[1..3].iter().enumerate() {
+            add(Column::new((*name).into(), std::mem::take(&mut self.values[k])))?;
+        }
+        add(self.observer_text.finish().into_column())?;
+        for (k, name) in ADDED_COLUMNS[4..12].iter().enumerate() {
+            add(Column::new((*name).into(), std::mem::take(&mut self.values[k + 2])))?;
+        }
+        add(self.clock_text.finish().into_column())?;
+        Ok(out)
+    }
+}
+
+/// Corrects the CSV/TSV table `input` to BJD_TDB and writes `output` (CSV/TSV) block by
+/// block: memory is bounded by `block_rows`, not by the file. The file is read twice: once
+/// for the times (the plan of [`CorrectionPlan`], made from the same [`KeyCounts`] as for
+/// the whole table), then for correcting and writing each block. The output is byte for
+/// byte what [`correct_table_along`] and [`crate::table::write_table`] write for the same
+/// input, the errors are the same (first bad row, with file, row and column), and nothing
+/// is left behind on an error (the output is written atomically, with `provenance` in its
+/// sidecar). Returns the summary and the clock labels seen (sorted).
+#[allow(clippy::too_many_arguments)]
+pub fn correct_text_table_in_blocks(
+    input: &Path,
+    output: &Path,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+    path: CorrectionPath,
+    block_rows: usize,
+    provenance: &Provenance,
+) -> Result<(TableSummary, Vec<String>), TableError> {
+    let file = input.display().to_string();
+    let mut reader = CsvBlockReader::open(input, &request.text_columns(), block_rows)?;
+    if let Some(name) = ADDED_COLUMNS.iter().find(|name| reader.schema().contains(name)) {
+        return Err(TableError::File {
+            file,
+            message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
+        });
+    }
+    // First pass: the plan, from the key counts of the rows before the first unreadable one.
+    let mut counts = KeyCounts::default();
+    let mut observers = Vec::new();
+    let mut rows = 0;
+    let mut readable: Option<usize> = None;
+    while let Some((first, df)) = reader.next_block()? {
+        let block = parse_rows(&df, &file, request, corrector, first)?;
+        if readable.is_none() {
+            if path == CorrectionPath::Automatic {
+                counts.merge(KeyCounts::of_rows(corrector, &block.observers, &block.rows));
+            }
+            if block.unreadable.is_some() {
+                readable = Some(first + block.rows.len());
             }
         }
+        rows += df.height();
+        observers = block.observers;
     }
-    if let Some(e) = unreadable {
-        return Err(e);
-    }
-    drop(prepared);
-    let mut out = df.clone();
-    let mut add = |name: &str, column: Column| -> Result<(), TableError> {
-        if out.get_column_names().iter().any(|c| c.as_str() == name) {
-            return Err(TableError::File {
-                file: file.to_string(),
-                message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
-            });
+    let plan = CorrectionPlan::new(corrector, &observers, &counts, path);
+    // Second pass: correct and write block by block.
+    reader.rewind()?;
+    let mut writer = CsvBlockWriter::create(output, &[input])?;
+    let mut summary = RunningSummary::new(rows);
+    while let Some((first, df)) = reader.next_block()? {
+        let block = parse_rows(&df, &file, request, corrector, first)?;
+        let results = plan.correct(&block.rows);
+        let mut columns = AddedColumns::with_capacity(block.rows.len());
+        summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut columns)?;
+        if let Some(e) = block.unreadable {
+            return Err(e);
         }
-        out.with_column(column)
-            .map(|_| ())
-            .map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
-    };
-    add("bjd_tdb", bjd_text.finish().into_column())?;
-    for (k, name) in ADDED_COLUMNS[1..3].iter().enumerate() {
-        add(name, Column::new((*name).into(), std::mem::take(&mut cols[k])))?;
+        let mut out = columns.append_to(df, &file)?;
+        writer.write_block(&mut out)?;
+        if readable.is_some_and(|r| first + out.height() >= r) {
+            break;
+        }
     }
-    add("observer_tdb", obs_text.finish().into_column())?;
-    for (k, name) in ADDED_COLUMNS[4..12].iter().enumerate() {
-        add(name, Column::new((*name).into(), std::mem::take(&mut cols[k + 2])))?;
-    }
-    add("input_clock", clock_text.finish().into_column())?;
-    if n == 0 {
-        summary.min_total_correction_s = 0.0;
-        summary.max_total_correction_s = 0.0;
-    }
-    Ok((out, summary, geometry))
+    writer.finish(provenance)?;
+    let clocks = summary.clocks_seen();
+    Ok((summary.finish(), clocks))
 }
 
 /// The clock label of a row (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).
@@ -398,18 +589,30 @@ fn write_jd_text(buffer: &mut String, t: &Instant) {
     buffer.push_str(&format_whole_and_fraction(whole, frac, 14));
 }
 
+/// `e` with its row counted from the start of the file, for a block whose first row is data
+/// row `first_row + 1`.
+fn shift_row(e: TableError, first_row: usize) -> TableError {
+    match e {
+        TableError::Cell { file, row, column, message } => {
+            TableError::Cell { file, row: if row == 0 { 0 } else { first_row + row }, column, message }
+        }
+        other => other,
+    }
+}
+
 /// The distinct fixed observers (the geocentre first) and each row's observer.
 fn observers_per_row(
     df: &DataFrame,
     file: &str,
     spec: &ObserverSpec,
+    first_row: usize,
 ) -> Result<(Vec<Observer>, Vec<RowObserver>), TableError> {
     let n = df.height();
     Ok(match spec {
         ObserverSpec::Geocentre => (vec![Observer::Geocentre], vec![RowObserver::Fixed(0); n]),
         ObserverSpec::Site(s) => (vec![Observer::Geocentre, Observer::Site(s.clone())], vec![RowObserver::Fixed(1); n]),
         ObserverSpec::SiteColumn { column, sites } => {
-            let names = text_column(df, file, column)?;
+            let names = text_column(df, file, column).map_err(|e| shift_row(e, first_row))?;
             let known = sites.keys().cloned().collect::<Vec<_>>().join(", ");
             let mut observers = vec![Observer::Geocentre];
             observers.extend(sites.values().cloned().map(Observer::Site));
@@ -424,7 +627,7 @@ fn observers_per_row(
                     sites.keys().position(|k| *k == name).map(|k| RowObserver::Fixed(k + 1)).ok_or_else(|| {
                         TableError::Cell {
                             file: file.to_string(),
-                            row: i + 1,
+                            row: first_row + i + 1,
                             column: column.clone(),
                             message: format!("unknown site '{name}'; described sites: {known} (or 'geocentre')"),
                         }
@@ -434,9 +637,9 @@ fn observers_per_row(
             (observers, rows)
         }
         ObserverSpec::Spacecraft { columns, origin } => {
-            let x = float_column(df, file, &columns[0])?;
-            let y = float_column(df, file, &columns[1])?;
-            let z = float_column(df, file, &columns[2])?;
+            let x = float_column(df, file, &columns[0]).map_err(|e| shift_row(e, first_row))?;
+            let y = float_column(df, file, &columns[1]).map_err(|e| shift_row(e, first_row))?;
+            let z = float_column(df, file, &columns[2]).map_err(|e| shift_row(e, first_row))?;
             let rows = (0..n)
                 .map(|i| {
                     RowObserver::Spacecraft(SpacecraftPosition { position_km: [x[i], y[i], z[i]], origin: *origin })
