@@ -114,7 +114,13 @@ fn write_mixed_table(path: &Path, spoil: Option<(usize, &str)>) {
         }
         let clock = CLOCKS[i % CLOCKS.len()];
         let site = SITES[(i / CLOCKS.len()) % SITES.len()];
-        let note = if i % 7 == 0 { "\"cloudy, then clear\"" } else { "clear" };
+        // Quoted text with a comma; one cell spanning two lines (that block is written by
+        // polars' writer alone, the others with the added columns formatted here).
+        let note = match i {
+            1234 => "\"high cloud\non the horizon\"",
+            _ if i % 7 == 0 => "\"cloudy, then clear\"",
+            _ => "clear",
+        };
         writeln!(out, "{},{clock},{site},{:.5},{},{note}", reading(t, clock), 1.0 + 0.01 * rng.uniform(), i % 13)
             .unwrap();
     }

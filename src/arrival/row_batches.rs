@@ -119,11 +119,12 @@ pub struct RowKey {
 impl RowKey {
     /// The key of row `r`; `observers[0]` must be the geocentre.
     pub fn of(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> RowKey {
-        let table = plan_row(corrector, observers, r).map(|p| {
-            let range = slots_used(p.slot);
-            (p.group, range.start() - p.margin, range.end() + p.margin)
+        let (table, slow) = row_slots(corrector, observers, r);
+        let table = table.map(|(group, slot, margin)| {
+            let range = slots_used(slot);
+            (group, range.start() - margin, range.end() + margin)
         });
-        let slow = slow_key(corrector, observers, r).map(|(slot, margin)| {
+        let slow = slow.map(|(slot, margin)| {
             let range = slow_slots_used(slot);
             (range.start() - margin, range.end() + margin)
         });
@@ -143,8 +144,12 @@ impl KeyCounts {
     pub fn of_rows(corrector: &BarycentricCorrector, observers: &[Observer], rows: &[RowTime]) -> KeyCounts {
         let keys: Vec<RowKey> = rows.par_iter().map(|r| RowKey::of(corrector, observers, r)).collect();
         let mut counts = KeyCounts::default();
-        for k in keys {
-            counts.add(k, 1);
+        // Runs of equal keys (rows in time order) are counted at once.
+        let mut start = 0;
+        while start < keys.len() {
+            let end = start + keys[start..].iter().take_while(|k| **k == keys[start]).count();
+            counts.add(keys[start], end - start);
+            start = end;
         }
         counts
     }
@@ -390,54 +395,44 @@ impl<'a> PreparedRows<'a> {
     }
 }
 
-/// Where a row would be interpolated: its group (observer index; 0 for rows already at the
-/// barycentre), its grid slot, and whether it needs one node of margin either side (its TT
-/// is only approximately known from the key: times on TDB/TCB, heliocentric times).
-#[derive(Debug, Clone, Copy)]
-struct Plan {
-    group: usize,
-    slot: i64,
-    margin: i64,
-}
-
-fn plan_row(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> Option<Plan> {
-    let RowObserver::Fixed(index) = r.observer else { return None };
+/// The node slots of a row: its table-node group, slot and margin (`None` where the table
+/// nodes cannot serve it) and its slow-term slot and margin (`None` for readings on TDB or
+/// TCB at an observer). The group is the observer index (0 for rows already at the
+/// barycentre); one node of margin either side is needed where the row's TT is only
+/// approximately known from the key (times on TDB/TCB, heliocentric times).
+#[allow(clippy::type_complexity)]
+fn row_slots(
+    corrector: &BarycentricCorrector,
+    observers: &[Observer],
+    r: &RowTime,
+) -> (Option<(usize, i64, i64)>, Option<(i64, i64)>) {
     let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
-    let group = match r.reference {
-        ReferencePoint::Barycentric => 0,
-        _ if on_tdb => return None,
-        _ => index,
+    let at_observer_on_tdb = on_tdb && r.reference != ReferencePoint::Barycentric;
+    let group = match (r.observer, r.reference) {
+        (RowObserver::Spacecraft(_), _) => None,
+        (_, _) if at_observer_on_tdb => None,
+        (RowObserver::Fixed(_), ReferencePoint::Barycentric) => Some(0),
+        (RowObserver::Fixed(index), _) => Some(index),
     };
-    if !matches!(observers.get(group)?, Observer::Geocentre | Observer::Site(_)) {
-        return None;
+    let group = group.filter(|&g| matches!(observers.get(g), Some(Observer::Geocentre | Observer::Site(_))));
+    let slow_possible = !at_observer_on_tdb
+        && match r.observer {
+            RowObserver::Fixed(index) => index < observers.len(),
+            RowObserver::Spacecraft(_) => true,
+        };
+    if group.is_none() && !slow_possible {
+        return (None, None);
     }
     let key = match r.time.scale() {
         TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
         TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
-        _ => corrector.converter().convert(&r.time, TimeScale::Tt).ok()?,
+        _ => match corrector.converter().convert(&r.time, TimeScale::Tt) {
+            Ok(tt) => tt,
+            Err(_) => return (None, None),
+        },
     };
     let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
-    Some(Plan { group, slot: table_slot(&key).0, margin })
-}
-
-/// The slow-term slot of a row that may take the two-speed exact path, with one slot of
-/// margin where its TT is only approximately known (heliocentric readings, TDB and TCB);
-/// `None` for readings on TDB or TCB at an observer.
-fn slow_key(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> Option<(i64, i64)> {
-    let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
-    if on_tdb && r.reference != ReferencePoint::Barycentric {
-        return None;
-    }
-    if let RowObserver::Fixed(index) = r.observer {
-        observers.get(index)?;
-    }
-    let key = match r.time.scale() {
-        TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
-        TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
-        _ => corrector.converter().convert(&r.time, TimeScale::Tt).ok()?,
-    };
-    let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
-    Some((slow_slot(&key).0, margin))
+    (group.map(|g| (g, table_slot(&key).0, margin)), slow_possible.then(|| (slow_slot(&key).0, margin)))
 }
 
 /// TT for a reading on TDB, by the fixed-point iteration of the exact converter with the

@@ -13,9 +13,8 @@ use std::path::Path;
 use super::correction::{ArrivalError, BarycentricCorrector, Corrected, ReferencePoint};
 use super::row_batches::{CorrectionPath, CorrectionPlan, KeyCounts, RowObserver, RowPath, RowTime};
 use crate::observer::{Observer, PositionOrigin, Site, SpacecraftPosition};
-use crate::table::blocks::{CsvBlockReader, CsvBlockWriter};
+use crate::table::blocks::{CsvBlockReader, CsvBlockWriter, one_line_per_row};
 use crate::table::{Provenance, TableError, float_column, text_column};
-use crate::time::format::format_whole_and_fraction;
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
 
 /// How the times of a column are written: format, scale and reference point.
@@ -295,11 +294,13 @@ fn parse_rows(
     first_row: usize,
 ) -> Result<ParsedRows, TableError> {
     let n = df.height();
-    let times = text_column(df, file, &request.time_column).map_err(|e| shift_row(e, first_row))?;
-    let clock_labels = match &request.clock_column {
-        Some(c) => Some(text_column(df, file, c).map_err(|e| shift_row(e, first_row))?),
+    let time_text = text_cells(df, file, &request.time_column)?;
+    let times = cells(&time_text);
+    let clock_text = match &request.clock_column {
+        Some(c) => Some(text_cells(df, file, c)?),
         None => None,
     };
+    let clock_labels = clock_text.as_ref().map(cells);
     let (observers, row_observers) = observers_per_row(df, file, &request.observer, first_row)?;
     let cell = |row: usize, column: &str, message: String| TableError::Cell {
         file: file.to_string(),
@@ -312,7 +313,7 @@ fn parse_rows(
         let clock = match (&clock_labels, request.clock) {
             (Some(labels), _) => {
                 let col = request.clock_column.as_deref().unwrap_or("");
-                let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
+                let label = labels[i].ok_or_else(|| cell(i, col, "empty clock label".into()))?;
                 ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
             }
             (None, Some(c)) => c,
@@ -323,7 +324,7 @@ fn parse_rows(
                 });
             }
         };
-        let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
+        let text = times[i].ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
         let time = parse_time(text, clock.format, clock.scale, leap)
             .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
         let observer = row_observers.get(i).copied().unwrap_or(RowObserver::Fixed(0));
@@ -370,7 +371,7 @@ impl RunningSummary {
         rows: &[RowTime],
         clocks: &[ClockSpec],
         results: Vec<(Result<Corrected, ArrivalError>, RowPath)>,
-        columns: &mut AddedColumns,
+        columns: &mut impl RowSink,
     ) -> Result<(), TableError> {
         let leap = corrector.converter().leap_seconds();
         let summary = &mut self.summary;
@@ -398,13 +399,13 @@ impl RunningSummary {
             summary.min_total_correction_s = summary.min_total_correction_s.min(total);
             summary.max_total_correction_s = summary.max_total_correction_s.max(total);
             let label = match self.labels.iter().position(|(k, _)| k == clock) {
-                Some(j) => &self.labels[j].1,
+                Some(j) => j,
                 None => {
                     self.labels.push((*clock, clock_label(clock)));
-                    &self.labels[self.labels.len() - 1].1
+                    self.labels.len() - 1
                 }
             };
-            columns.push(&c, total, label);
+            columns.push(&c, total, label, &self.labels[label].1);
         }
         Ok(())
     }
@@ -423,6 +424,87 @@ impl RunningSummary {
             self.summary.max_total_correction_s = 0.0;
         }
         self.summary
+    }
+}
+
+/// Where the output values of corrected rows go, row by row.
+trait RowSink {
+    /// One row: its correction, total correction (s) and clock label (index and text).
+    fn push(&mut self, c: &Corrected, total: f64, label: usize, text: &str);
+}
+
+/// The output values of one row, for writing as text.
+struct RowText {
+    bjd_tdb: (i64, u64),
+    observer_tdb: (i64, u64),
+    values: [f64; 10],
+    label: usize,
+}
+
+/// The output values of a block of rows, written as text after the other columns.
+#[derive(Default)]
+struct AddedText {
+    rows: Vec<RowText>,
+}
+
+impl RowSink for AddedText {
+    fn push(&mut self, c: &Corrected, total: f64, label: usize, _text: &str) {
+        self.rows.push(RowText {
+            bjd_tdb: jd_text_parts(&c.bjd_tdb),
+            observer_tdb: jd_text_parts(&c.observer_tdb),
+            values: output_values(c, total),
+            label,
+        });
+    }
+}
+
+impl AddedText {
+    /// Appends the fields of rows `first..first + count` to `out`, each after `separator`,
+    /// as polars' CSV writer writes them (JD texts and labels unquoted, numbers in the
+    /// shortest form that reads back to the same `f64`).
+    fn write_fields(&self, first: usize, count: usize, separator: u8, labels: &[String], out: &mut Vec<u8>) {
+        let mut number = zmij::Buffer::new();
+        for r in &self.rows[first..first + count] {
+            out.push(separator);
+            push_jd_text(out, r.bjd_tdb);
+            for v in &r.values[..2] {
+                out.push(separator);
+                out.extend_from_slice(number.format(*v).as_bytes());
+            }
+            out.push(separator);
+            push_jd_text(out, r.observer_tdb);
+            for v in &r.values[2..] {
+                out.push(separator);
+                out.extend_from_slice(number.format(*v).as_bytes());
+            }
+            out.push(separator);
+            out.extend_from_slice(labels[r.label].as_bytes());
+        }
+    }
+}
+
+/// The ten numeric output columns of a row, in the order of [`ADDED_COLUMNS`] (without the
+/// texts).
+fn output_values(c: &Corrected, total: f64) -> [f64; 10] {
+    let d = &c.delays;
+    let (jd1, jd2) = c.bjd_tdb.jd_two_part();
+    [
+        jd1,
+        jd2,
+        d.clock_to_tt_s,
+        d.einstein_s,
+        d.roemer_s,
+        d.curvature_s,
+        d.shapiro_sun_s,
+        d.shapiro_planets_s,
+        d.heliocentric_removed_s,
+        total,
+    ]
+}
+
+impl RowSink for AddedColumns {
+    fn push(&mut self, c: &Corrected, total: f64, _label: usize, text: &str) {
+        self.push_row(c, total, text);
     }
 }
 
@@ -446,26 +528,13 @@ impl AddedColumns {
         }
     }
 
-    fn push(&mut self, c: &Corrected, total: f64, label: &str) {
-        let d = &c.delays;
-        let (jd1, jd2) = c.bjd_tdb.jd_two_part();
+    fn push_row(&mut self, c: &Corrected, total: f64, label: &str) {
         write_jd_text(&mut self.buffer, &c.bjd_tdb);
         self.bjd_text.append_value(&self.buffer);
         write_jd_text(&mut self.buffer, &c.observer_tdb);
         self.observer_text.append_value(&self.buffer);
         self.clock_text.append_value(label);
-        for (col, v) in self.values.iter_mut().zip([
-            jd1,
-            jd2,
-            d.clock_to_tt_s,
-            d.einstein_s,
-            d.roemer_s,
-            d.curvature_s,
-            d.shapiro_sun_s,
-            d.shapiro_planets_s,
-            d.heliocentric_removed_s,
-            total,
-        ]) {
+        for (col, v) in self.values.iter_mut().zip(output_values(c, total)) {
             col.push(v);
         }
     }
@@ -542,14 +611,29 @@ pub fn correct_text_table_in_blocks(
     while let Some((first, df)) = reader.next_block()? {
         let block = parse_rows(&df, &file, request, corrector, first)?;
         let results = plan.correct(&block.rows);
-        let mut columns = AddedColumns::with_capacity(block.rows.len());
-        summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut columns)?;
-        if let Some(e) = block.unreadable {
-            return Err(e);
+        let height = df.height();
+        if one_line_per_row(&df) {
+            let mut text = AddedText { rows: Vec::with_capacity(block.rows.len()) };
+            summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut text)?;
+            if let Some(e) = block.unreadable {
+                return Err(e);
+            }
+            let labels: Vec<String> = summary.labels.iter().map(|(_, l)| l.clone()).collect();
+            let separator = writer.separator();
+            let mut df = df;
+            writer.write_block_appending(&mut df, &ADDED_COLUMNS, |row, count, out| {
+                text.write_fields(row, count, separator, &labels, out)
+            })?;
+        } else {
+            let mut columns = AddedColumns::with_capacity(block.rows.len());
+            summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut columns)?;
+            if let Some(e) = block.unreadable {
+                return Err(e);
+            }
+            let mut out = columns.append_to(df, &file)?;
+            writer.write_block(&mut out)?;
         }
-        let mut out = columns.append_to(df, &file)?;
-        writer.write_block(&mut out)?;
-        if readable.is_some_and(|r| first + out.height() >= r) {
+        if readable.is_some_and(|r| first + height >= r) {
             break;
         }
     }
@@ -575,8 +659,9 @@ fn clock_label(clock: &ClockSpec) -> String {
     format!("{kind}_{}", clock.scale.name())
 }
 
-/// JD text with 14 decimals (~1 ns), written into `buffer` (cleared first).
-fn write_jd_text(buffer: &mut String, t: &Instant) {
+/// The whole JD and its 14 decimals (~1 ns) as written in the JD text columns: the
+/// integral JD (from noon) and the digits of the fraction, rounded, carried into the day.
+fn jd_text_parts(t: &Instant) -> (i64, u64) {
     let (a, b) = t.jd_two_part();
     // a is half-integral: write from integer JD at noon plus fraction.
     let mut whole = (a + 0.5) as i64 - 1;
@@ -585,8 +670,77 @@ fn write_jd_text(buffer: &mut String, t: &Instant) {
         frac -= 1.0;
         whole += 1;
     }
+    // As `format_whole_and_fraction(whole, frac, 14)`.
+    let scale = 10f64.powi(14);
+    let mut digits = (frac * scale).round();
+    if digits >= scale {
+        digits -= scale;
+        whole += 1;
+    }
+    (whole, digits as u64)
+}
+
+/// JD text with 14 decimals (~1 ns), written into `buffer` (cleared first).
+fn write_jd_text(buffer: &mut String, t: &Instant) {
+    let (whole, digits) = jd_text_parts(t);
     buffer.clear();
-    buffer.push_str(&format_whole_and_fraction(whole, frac, 14));
+    buffer.push_str(&format!("{whole}.{digits:014}"));
+}
+
+/// Appends the JD text of `parts` ([`jd_text_parts`]) to `out`: the same characters as
+/// [`write_jd_text`].
+fn push_jd_text(out: &mut Vec<u8>, (whole, digits): (i64, u64)) {
+    if whole < 0 {
+        out.push(b'-');
+    }
+    let mut w = whole.unsigned_abs();
+    let mut text = [0u8; 20];
+    let mut k = text.len();
+    loop {
+        k -= 1;
+        text[k] = b'0' + (w % 10) as u8;
+        w /= 10;
+        if w == 0 {
+            break;
+        }
+    }
+    out.extend_from_slice(&text[k..]);
+    out.push(b'.');
+    let mut d = digits;
+    let mut fraction = [b'0'; 14];
+    for slot in fraction.iter_mut().rev() {
+        *slot = b'0' + (d % 10) as u8;
+        d /= 10;
+    }
+    if d > 0 {
+        // More than 14 digits (not reached: the fraction is below one): as `{:014}` would.
+        out.extend_from_slice(format!("{digits:014}").as_bytes());
+        return;
+    }
+    out.extend_from_slice(&fraction);
+}
+
+/// A column cast to text, for [`cells`]; errors as [`text_column`]'s.
+fn text_cells(df: &DataFrame, file: &str, name: &str) -> Result<StringChunked, TableError> {
+    text_column(&df.head(Some(0)), file, name)?;
+    let column = df.column(name).and_then(|c| c.cast(&DataType::String)).map_err(|e| TableError::Cell {
+        file: file.to_string(),
+        row: 0,
+        column: name.to_string(),
+        message: format!("cannot be read as text: {e}"),
+    })?;
+    column.str().cloned().map_err(|e| TableError::Cell {
+        file: file.to_string(),
+        row: 0,
+        column: name.to_string(),
+        message: e.to_string(),
+    })
+}
+
+/// The cells of a text column, trimmed, `None` where empty (as [`text_column`] gives them,
+/// without copying).
+fn cells(text: &StringChunked) -> Vec<Option<&str>> {
+    text.iter().map(|v| v.map(str::trim).filter(|s| !s.is_empty())).collect()
 }
 
 /// `e` with its row counted from the start of the file, for a block whose first row is data

@@ -208,6 +208,31 @@ impl CsvBlockReader {
     }
 }
 
+/// Whether polars writes `df` as one text line per row: no text cell and no column name
+/// holds a line break (a quoted cell with one spans lines).
+pub fn one_line_per_row(df: &DataFrame) -> bool {
+    df.columns().iter().all(|c| {
+        let breaks = |t: &str| t.contains(['\n', '\r']);
+        !breaks(c.name().as_str())
+            && match c.dtype() {
+                DataType::String => c.str().map(|s| !s.iter().flatten().any(breaks)).unwrap_or(false),
+                DataType::Boolean
+                | DataType::Int8
+                | DataType::Int16
+                | DataType::Int32
+                | DataType::Int64
+                | DataType::UInt8
+                | DataType::UInt16
+                | DataType::UInt32
+                | DataType::UInt64
+                | DataType::Float32
+                | DataType::Float64
+                | DataType::Null => true,
+                _ => false,
+            }
+    })
+}
+
 fn is_blank_or_comment(line: &[u8]) -> bool {
     let text = line.strip_prefix("\u{feff}".as_bytes()).unwrap_or(line);
     text.iter().all(u8::is_ascii_whitespace) || text.first() == Some(&b'#')
@@ -270,6 +295,80 @@ impl CsvBlockWriter {
             .map_err(|e| e.to_string());
         self.header_written = true;
         result.map_err(|m| self.fail(m))
+    }
+
+    /// The separator of the output (`,` or a tab).
+    pub fn separator(&self) -> u8 {
+        self.separator
+    }
+
+    /// Appends the rows of `df` as [`CsvBlockWriter::write_block`] does, each line followed
+    /// by the further columns `names` (header) and the fields `append(first, rows, out)`
+    /// writes for rows `first..first + rows` of `df` (each field preceded by the separator,
+    /// no line ends; called on runs of rows in parallel, results joined in order). Needs
+    /// [`one_line_per_row`] for `df`. The names and fields must be ones polars writes
+    /// unquoted (no separator, quote or line break, not empty).
+    pub fn write_block_appending(
+        &mut self,
+        df: &mut DataFrame,
+        names: &[&str],
+        append: impl Fn(usize, usize, &mut Vec<u8>) + Sync,
+    ) -> Result<(), TableError> {
+        use rayon::prelude::*;
+        let mut text = Vec::with_capacity(df.height() * 32);
+        CsvWriter::new(&mut text)
+            .include_header(!self.header_written)
+            .with_separator(self.separator)
+            .finish(df)
+            .map_err(|e| self.fail(e.to_string()))?;
+        let mut lines: Vec<&[u8]> = text.split(|&b| b == b'\n').collect();
+        if lines.last().is_some_and(|l| l.is_empty()) {
+            lines.pop();
+        }
+        let mut body = &lines[..];
+        if !self.header_written {
+            let Some((header, rest)) = lines.split_first() else {
+                return Err(self.fail("no header was written".into()));
+            };
+            self.out.write_all(header).map_err(|e| self.fail(e.to_string()))?;
+            for name in names {
+                self.out
+                    .write_all(&[self.separator])
+                    .and_then(|_| self.out.write_all(name.as_bytes()))
+                    .map_err(|e| self.fail(e.to_string()))?;
+            }
+            self.out.write_all(b"\n").map_err(|e| self.fail(e.to_string()))?;
+            self.header_written = true;
+            body = rest;
+        }
+        if body.len() != df.height() {
+            return Err(self.fail(format!("{} lines written for {} rows", body.len(), df.height())));
+        }
+        const RUN: usize = 4096;
+        let runs: Vec<Vec<u8>> = body
+            .par_chunks(RUN)
+            .enumerate()
+            .map(|(k, chunk)| {
+                let mut fields = Vec::with_capacity(chunk.len() * 16);
+                let mut out = Vec::with_capacity(chunk.len() * 256);
+                let mut ends = Vec::with_capacity(chunk.len() + 1);
+                ends.push(0);
+                for r in 0..chunk.len() {
+                    append(k * RUN + r, 1, &mut fields);
+                    ends.push(fields.len());
+                }
+                for (r, line) in chunk.iter().enumerate() {
+                    out.extend_from_slice(line);
+                    out.extend_from_slice(&fields[ends[r]..ends[r + 1]]);
+                    out.push(b'\n');
+                }
+                out
+            })
+            .collect();
+        for run in runs {
+            self.out.write_all(&run).map_err(|e| self.fail(e.to_string()))?;
+        }
+        Ok(())
     }
 
     /// Flushes the table to disk, moves it into place and writes its provenance sidecar.
