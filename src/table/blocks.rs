@@ -12,9 +12,11 @@
 //! whole-table writer gives for the concatenated frame (`tests/barycentre_blocks.rs`).
 
 use std::fs::File;
-use std::io::{BufRead, BufReader, BufWriter, Cursor, Seek, Write};
+use std::io::{BufRead, BufReader, Cursor, Seek, Write};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
+use std::sync::mpsc::{SyncSender, sync_channel};
+use std::thread::JoinHandle;
 
 use polars::prelude::*;
 
@@ -208,6 +210,50 @@ impl CsvBlockReader {
     }
 }
 
+/// A file written by a thread of its own, so that the kernel's copying of one block into
+/// the file overlaps the work on the next; at most [`BackgroundFile::IN_FLIGHT`] buffers
+/// wait at a time. [`BackgroundFile::finish`] waits for the thread, which flushes the file
+/// to disk, and hands back the first write error.
+struct BackgroundFile {
+    sender: Option<SyncSender<Vec<u8>>>,
+    thread: Option<JoinHandle<std::io::Result<()>>>,
+}
+
+impl BackgroundFile {
+    const IN_FLIGHT: usize = 16;
+
+    fn new(file: File) -> BackgroundFile {
+        let (sender, receiver) = sync_channel::<Vec<u8>>(Self::IN_FLIGHT);
+        let thread = std::thread::spawn(move || {
+            let mut file = file;
+            let mut result = Ok(());
+            for buffer in receiver {
+                if result.is_ok() {
+                    result = file.write_all(&buffer);
+                }
+            }
+            result?;
+            file.sync_all()
+        });
+        BackgroundFile { sender: Some(sender), thread: Some(thread) }
+    }
+
+    /// Queues `buffer` to be written after the ones before it.
+    fn write(&mut self, buffer: Vec<u8>) -> std::io::Result<()> {
+        let stopped = || std::io::Error::other("the thread writing the file stopped");
+        self.sender.as_ref().ok_or_else(stopped)?.send(buffer).map_err(|_| stopped())
+    }
+
+    /// Waits until everything is written and flushed to disk.
+    fn finish(&mut self) -> std::io::Result<()> {
+        drop(self.sender.take());
+        match self.thread.take() {
+            Some(thread) => thread.join().map_err(|_| std::io::Error::other("the thread writing the file stopped"))?,
+            None => Ok(()),
+        }
+    }
+}
+
 /// Whether polars writes `df` as one text line per row: no text cell and no column name
 /// holds a line break (a quoted cell with one spans lines).
 pub fn one_line_per_row(df: &DataFrame) -> bool {
@@ -244,7 +290,7 @@ fn is_blank_or_comment(line: &[u8]) -> bool {
 pub struct CsvBlockWriter {
     path: PathBuf,
     tmp: PathBuf,
-    out: BufWriter<File>,
+    out: BackgroundFile,
     separator: u8,
     header_written: bool,
     finished: bool,
@@ -272,7 +318,7 @@ impl CsvBlockWriter {
         Ok(CsvBlockWriter {
             path: path.to_path_buf(),
             tmp,
-            out: BufWriter::with_capacity(1 << 20, file),
+            out: BackgroundFile::new(file),
             separator,
             header_written: false,
             finished: false,
@@ -288,11 +334,13 @@ impl CsvBlockWriter {
 
     /// Appends the rows of `df` (the header comes with the first block).
     pub fn write_block(&mut self, df: &mut DataFrame) -> Result<(), TableError> {
-        let result = CsvWriter::new(&mut self.out)
+        let mut text = Vec::with_capacity(df.height() * 64);
+        let result = CsvWriter::new(&mut text)
             .include_header(!self.header_written)
             .with_separator(self.separator)
             .finish(df)
-            .map_err(|e| e.to_string());
+            .map_err(|e| e.to_string())
+            .and_then(|_| self.out.write(text).map_err(|e| e.to_string()));
         self.header_written = true;
         result.map_err(|m| self.fail(m))
     }
@@ -330,14 +378,13 @@ impl CsvBlockWriter {
             let Some((header, rest)) = lines.split_first() else {
                 return Err(self.fail("no header was written".into()));
             };
-            self.out.write_all(header).map_err(|e| self.fail(e.to_string()))?;
+            let mut line = header.to_vec();
             for name in names {
-                self.out
-                    .write_all(&[self.separator])
-                    .and_then(|_| self.out.write_all(name.as_bytes()))
-                    .map_err(|e| self.fail(e.to_string()))?;
+                line.push(self.separator);
+                line.extend_from_slice(name.as_bytes());
             }
-            self.out.write_all(b"\n").map_err(|e| self.fail(e.to_string()))?;
+            line.push(b'\n');
+            self.out.write(line).map_err(|e| self.fail(e.to_string()))?;
             self.header_written = true;
             body = rest;
         }
@@ -366,15 +413,14 @@ impl CsvBlockWriter {
             })
             .collect();
         for run in runs {
-            self.out.write_all(&run).map_err(|e| self.fail(e.to_string()))?;
+            self.out.write(run).map_err(|e| self.fail(e.to_string()))?;
         }
         Ok(())
     }
 
     /// Flushes the table to disk, moves it into place and writes its provenance sidecar.
     pub fn finish(mut self, provenance: &Provenance) -> Result<(), TableError> {
-        self.out.flush().map_err(|e| self.fail(e.to_string()))?;
-        self.out.get_ref().sync_all().map_err(|e| self.fail(e.to_string()))?;
+        self.out.finish().map_err(|e| self.fail(e.to_string()))?;
         super::guard::put_in_place(&self.tmp, &self.path)
             .map_err(|e| self.fail(format!("cannot move the finished file into place: {e}")))?;
         self.finished = true;
@@ -386,6 +432,7 @@ impl CsvBlockWriter {
 impl Drop for CsvBlockWriter {
     fn drop(&mut self) {
         if !self.finished {
+            let _ = self.out.finish();
             let _ = std::fs::remove_file(&self.tmp);
             super::guard::release_temporary(&self.tmp);
         }
