@@ -174,7 +174,7 @@ impl CsvBlockReader {
             header.extend_from_slice(&self.line);
             let blank = quotes == 0 && is_blank_or_comment(&self.line);
             quotes += self.line.iter().filter(|&&b| b == b'"').count();
-            if !blank && quotes % 2 == 0 {
+            if !blank && quotes.is_multiple_of(2) {
                 break;
             }
         }
@@ -193,12 +193,12 @@ impl CsvBlockReader {
         let mut quotes = 0usize;
         while records < limit && self.read_line()? {
             out.extend_from_slice(&self.line);
-            let continuing = quotes % 2 == 1;
+            let continuing = !quotes.is_multiple_of(2);
             if !continuing && is_blank_or_comment(&self.line) {
                 continue;
             }
             quotes += self.line.iter().filter(|&&b| b == b'"').count();
-            if quotes % 2 == 0 {
+            if quotes.is_multiple_of(2) {
                 records += 1;
                 quotes = 0;
             }
