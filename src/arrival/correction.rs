@@ -473,9 +473,21 @@ impl BarycentricCorrector {
     /// ([`super::interpolated::NodeGrid`]). Every value is computed exactly as
     /// [`BarycentricCorrector::correct`] computes it for an arrival at `tt`.
     pub fn node_terms(&self, tt: &Instant, observer: &Observer) -> Result<NodeTerms, ArrivalError> {
+        self.node_terms_with_slow_parts(tt, observer, SlowParts::Exact)
+    }
+
+    /// As [`BarycentricCorrector::node_terms`], with precession–nutation and the geocentric
+    /// TDB − TT from `slow` (the two-speed exact path of [`super::slow_terms`]: ≤ 3e-12 s
+    /// from `node_terms` in every delay term).
+    pub fn node_terms_with_slow_parts(
+        &self,
+        tt: &Instant,
+        observer: &Observer,
+        slow: SlowParts<'_>,
+    ) -> Result<NodeTerms, ArrivalError> {
         let clock = tt.relabel(TimeScale::Tt);
-        let (tdb, _, tt) = self.observer_tdb(&clock, observer, SlowParts::Exact)?;
-        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, &clock, observer, SlowParts::Exact)?;
+        let (tdb, _, tt) = self.observer_tdb(&clock, observer, slow)?;
+        let (r_obs, from_table) = self.observer_barycentric_km(&tdb, &tt, &clock, observer, slow)?;
         let d = self.delays_at(&tdb, &r_obs, 0.0, tdb.seconds_since(&tt), 0.0)?;
         let sun = self.ephemeris.state(Body::Sun, &tdb)?;
         let sun_projection_s = roemer_delay_s(&sun.position_km, &self.source.direction_at(&tdb).unit);

@@ -35,6 +35,7 @@ use std::sync::Mutex;
 use rayon::prelude::*;
 
 use super::correction::{ArrivalError, BarycentricCorrector, NodeTerms, ReferencePoint};
+use super::slow_terms::SlowParts;
 use crate::observer::Observer;
 use crate::time::{Instant, TimeScale};
 
@@ -268,16 +269,28 @@ impl NodeGrid {
     /// Computes the nodes at `slots` (any order, duplicates allowed) for `observer`, in
     /// parallel.
     pub fn build(exact: &BarycentricCorrector, observer: &Observer, slots: &[i64]) -> NodeGrid {
+        Self::build_with_slow_parts(exact, observer, slots, SlowParts::Exact)
+    }
+
+    /// As [`NodeGrid::build`], each node with precession–nutation and the geocentric
+    /// TDB − TT taken from `slow` ([`BarycentricCorrector::node_terms_with_slow_parts`]; the
+    /// nodes then differ from exact ones by ≤ 3e-12 s, bound in [`super::slow_terms`]).
+    pub fn build_with_slow_parts(
+        exact: &BarycentricCorrector,
+        observer: &Observer,
+        slots: &[i64],
+        slow: SlowParts<'_>,
+    ) -> NodeGrid {
         let mut slots = slots.to_vec();
         slots.sort_unstable();
         slots.dedup();
-        let nodes = slots.par_iter().map(|&slot| (slot, Self::node(exact, observer, slot))).collect::<Vec<_>>();
+        let nodes = slots.par_iter().map(|&slot| (slot, Self::node(exact, observer, slot, slow))).collect::<Vec<_>>();
         NodeGrid { nodes }
     }
 
-    fn node(exact: &BarycentricCorrector, observer: &Observer, slot: i64) -> Option<TableNode> {
+    fn node(exact: &BarycentricCorrector, observer: &Observer, slot: i64, slow: SlowParts<'_>) -> Option<TableNode> {
         let tt = slot_instant(slot);
-        let terms = exact.node_terms(&tt, observer).ok()?;
+        let terms = exact.node_terms_with_slow_parts(&tt, observer, slow).ok()?;
         let regime = match observer {
             Observer::Site(_) => {
                 let converter = exact.converter();

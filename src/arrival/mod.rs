@@ -21,6 +21,7 @@ pub use correction::{
 pub use reference::{ReferenceData, ReferenceDataError, ReferenceNames};
 pub use row_batches::CorrectionPath;
 pub use run::{
-    BarycentreRun, ObserverReading, ObserverTimes, barycentre_table, barycentre_table_along, observer_times,
+    BarycentreRun, DEFAULT_BLOCK_ROWS, ObserverReading, ObserverTimes, barycentre_table, barycentre_table_along,
+    barycentre_text_table_in_blocks, observer_times,
 };
 pub use source::{CoordinateError, Source, SourceDirection, parse_declination_deg, parse_right_ascension_deg};

@@ -15,11 +15,19 @@
 //! TDB − TT from those nodes and everything else (Earth rotation, the ephemeris, the
 //! delays) per row ([`BarycentricCorrector::correct_with_slow_parts`]; ≤ 3e-12 s from the
 //! exact correction). Readings on TDB or TCB at an observer keep the series themselves.
+//! The table nodes take their slow parts from the same daily nodes where those are fewer
+//! (≤ 3e-12 s more per node).
+//!
+//! The plan depends only on how many rows need each range of node slots ([`KeyCounts`]):
+//! [`CorrectionPlan`] is made once from the counts of all rows, then corrects rows in any
+//! number of blocks with the results the whole table would get.
+
+use std::collections::HashMap;
 
 use rayon::prelude::*;
 
 use super::correction::{ArrivalError, BarycentricCorrector, Corrected, DelayBreakdown, NodeTerms, ReferencePoint};
-use super::interpolated::{NodeGrid, slots_used, table_slot};
+use super::interpolated::{NodeGrid, slot_instant, slots_used, table_slot};
 use super::slow_terms::{SlowParts, SlowTermGrid, slow_slot, slow_slots_used};
 use crate::observer::{Observer, SpacecraftPosition};
 use crate::time::scales::tcb_to_tdb;
@@ -103,68 +111,203 @@ pub fn correct_rows(
     }
 }
 
-/// Rows with their correction planned and the nodes computed, ready to be corrected range by
-/// range (so that a caller can keep only one range of results in memory at a time).
-pub struct PreparedRows<'a> {
+/// What the planning needs of one row: the group and inclusive range of table-node slots
+/// it would be interpolated from (margin included), and the slow-term slots of the
+/// two-speed exact path. Rows with equal keys are corrected the same way, so the plan of a
+/// table depends only on how many rows carry each key ([`KeyCounts`]) — a table read in
+/// blocks is planned exactly as the same table read whole.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct RowKey {
+    table: Option<(usize, i64, i64)>,
+    slow: Option<(i64, i64)>,
+}
+
+impl RowKey {
+    /// The key of row `r`; `observers[0]` must be the geocentre.
+    pub fn of(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> RowKey {
+        let (table, slow) = row_slots(corrector, observers, r);
+        let table = table.map(|(group, slot, margin)| {
+            let range = slots_used(slot);
+            (group, range.start() - margin, range.end() + margin)
+        });
+        let slow = slow.map(|(slot, margin)| {
+            let range = slow_slots_used(slot);
+            (range.start() - margin, range.end() + margin)
+        });
+        RowKey { table, slow }
+    }
+}
+
+/// How many rows carry each [`RowKey`]: all the planning of a table needs. Its size grows
+/// with the number of distinct node slots touched (the time span), not with the rows.
+#[derive(Debug, Clone, Default)]
+pub struct KeyCounts {
+    counts: HashMap<RowKey, usize>,
+}
+
+impl KeyCounts {
+    /// The counts of the keys of `rows` (computed in parallel).
+    pub fn of_rows(corrector: &BarycentricCorrector, observers: &[Observer], rows: &[RowTime]) -> KeyCounts {
+        let keys: Vec<RowKey> = rows.par_iter().map(|r| RowKey::of(corrector, observers, r)).collect();
+        let mut counts = KeyCounts::default();
+        // Runs of equal keys (rows in time order) are counted at once.
+        let mut start = 0;
+        while start < keys.len() {
+            let end = start + keys[start..].iter().take_while(|k| **k == keys[start]).count();
+            counts.add(keys[start], end - start);
+            start = end;
+        }
+        counts
+    }
+
+    /// Counts `rows` more rows with key `key`.
+    pub fn add(&mut self, key: RowKey, rows: usize) {
+        *self.counts.entry(key).or_default() += rows;
+    }
+
+    /// Adds every count of `other`.
+    pub fn merge(&mut self, other: KeyCounts) {
+        for (k, n) in other.counts {
+            self.add(k, n);
+        }
+    }
+
+    /// Rows counted.
+    pub fn rows(&self) -> usize {
+        self.counts.values().sum()
+    }
+}
+
+/// Disjoint clusters of touching slot ranges, sorted, each with whether it pays (needs
+/// fewer nodes than it has rows).
+#[derive(Debug, Clone, Default)]
+struct Clusters {
+    spans: Vec<(i64, i64, bool)>,
+}
+
+impl Clusters {
+    /// Merges the ranges `members` (inclusive slot range and the rows having it) into
+    /// clusters of ranges that touch; returns them and the slots of the clusters that pay.
+    fn merge(mut members: Vec<(i64, i64, usize)>) -> (Clusters, Vec<i64>) {
+        members.sort_unstable();
+        let mut spans = Vec::new();
+        let mut slots = Vec::new();
+        let mut start = 0;
+        while start < members.len() {
+            let (lo, mut hi, mut rows) = members[start];
+            let mut end = start + 1;
+            while end < members.len() && members[end].0 <= hi + 1 {
+                hi = hi.max(members[end].1);
+                rows += members[end].2;
+                end += 1;
+            }
+            let pays = ((hi - lo + 1) as usize) < rows;
+            if pays {
+                slots.extend(lo..=hi);
+            }
+            spans.push((lo, hi, pays));
+            start = end;
+        }
+        (Clusters { spans }, slots)
+    }
+
+    /// Whether the range `lo..=hi` lies in a cluster that pays.
+    fn pays(&self, lo: i64, hi: i64) -> bool {
+        let k = self.spans.partition_point(|s| s.0 <= lo);
+        k > 0 && self.spans[k - 1].2 && hi <= self.spans[k - 1].1
+    }
+}
+
+/// The plan of a table's correction: which rows go through table nodes, which take the
+/// two-speed exact path, and the nodes both need, computed once from the [`KeyCounts`] of
+/// all rows. Rows are then corrected in any number of blocks, with results identical to
+/// correcting them all at once.
+pub struct CorrectionPlan<'a> {
     corrector: &'a BarycentricCorrector,
     observers: &'a [Observer],
-    rows: &'a [RowTime],
-    plan: Vec<Option<Plan>>,
-    chosen: Vec<bool>,
+    active: bool,
+    table: Vec<Clusters>,
+    slow_clusters: Clusters,
     grids: Vec<NodeGrid>,
-    slow_chosen: Vec<bool>,
     slow: SlowTermGrid,
 }
 
-impl<'a> PreparedRows<'a> {
-    /// Groups and clusters `rows` and computes the nodes the chosen clusters need (see the
-    /// module doc); `observers[0]` must be the geocentre, else every row is exact.
+impl<'a> CorrectionPlan<'a> {
+    /// Plans the correction of the rows counted in `counts` (see the module doc);
+    /// `observers[0]` must be the geocentre, else every row is exact. The table nodes take
+    /// precession–nutation and TDB − TT from daily slow-term nodes where those are fewer
+    /// (≤ 3e-12 s from exact nodes; bound in [`super::slow_terms`]).
     pub fn new(
         corrector: &'a BarycentricCorrector,
         observers: &'a [Observer],
-        rows: &'a [RowTime],
+        counts: &KeyCounts,
         path: CorrectionPath,
-    ) -> PreparedRows<'a> {
-        let mut prepared = PreparedRows {
+    ) -> CorrectionPlan<'a> {
+        let mut plan = CorrectionPlan {
             corrector,
             observers,
-            rows,
-            plan: Vec::new(),
-            chosen: Vec::new(),
+            active: false,
+            table: Vec::new(),
+            slow_clusters: Clusters::default(),
             grids: Vec::new(),
-            slow_chosen: Vec::new(),
             slow: SlowTermGrid::default(),
         };
         if path == CorrectionPath::ExactEveryRow || !matches!(observers.first(), Some(Observer::Geocentre)) {
-            return prepared;
+            return plan;
         }
-        prepared.plan = rows.par_iter().map(|r| plan_row(corrector, observers, r)).collect();
-        prepared.chosen = vec![false; rows.len()];
-        prepared.grids = (0..observers.len())
-            .map(|group| {
-                let slots = choose_clusters(&prepared.plan, group, &mut prepared.chosen);
+        plan.active = true;
+        let mut table_slots = Vec::with_capacity(observers.len());
+        for group in 0..observers.len() {
+            let members = counts
+                .counts
+                .iter()
+                .filter_map(|(k, &n)| k.table.filter(|t| t.0 == group).map(|t| (t.1, t.2, n)))
+                .collect();
+            let (clusters, slots) = Clusters::merge(members);
+            plan.table.push(clusters);
+            table_slots.push(slots);
+        }
+        // The rest: exact, with the slow parts from coarse nodes where clusters pay.
+        let members = counts
+            .counts
+            .iter()
+            .filter(|(k, _)| !k.table.is_some_and(|t| plan.table[t.0].pays(t.1, t.2)))
+            .filter_map(|(k, &n)| k.slow.map(|s| (s.0, s.1, n)))
+            .collect();
+        let (slow_clusters, mut slow_slots) = Clusters::merge(members);
+        plan.slow_clusters = slow_clusters;
+        // Table nodes of a group take the slow parts from slow-term nodes where fewer.
+        let node_slow_slots: Vec<Vec<i64>> = table_slots
+            .iter()
+            .map(|slots| {
+                let mut s: Vec<i64> =
+                    slots.iter().flat_map(|&slot| slow_slots_used(slow_slot(&slot_instant(slot)).0)).collect();
+                s.sort_unstable();
+                s.dedup();
+                s
+            })
+            .collect();
+        let with_slow: Vec<bool> =
+            table_slots.iter().zip(&node_slow_slots).map(|(t, s)| !t.is_empty() && s.len() < t.len()).collect();
+        for (s, &w) in node_slow_slots.iter().zip(&with_slow) {
+            if w {
+                slow_slots.extend(s);
+            }
+        }
+        plan.slow = SlowTermGrid::build(&slow_slots);
+        plan.grids = table_slots
+            .iter()
+            .enumerate()
+            .map(|(group, slots)| {
+                let slow = if with_slow[group] { SlowParts::Interpolated(&plan.slow) } else { SlowParts::Exact };
                 if slots.is_empty() {
                     NodeGrid::default()
                 } else {
-                    NodeGrid::build(corrector, &observers[group], &slots)
+                    NodeGrid::build_with_slow_parts(corrector, &observers[group], slots, slow)
                 }
             })
             .collect();
-        // The rest: exact, with the slow parts from coarse nodes where clusters pay.
-        let members: Vec<(i64, i64, usize)> = rows
-            .par_iter()
-            .enumerate()
-            .filter(|(i, _)| !prepared.chosen[*i])
-            .filter_map(|(i, r)| {
-                let (slot, margin) = slow_key(corrector, observers, r)?;
-                let range = slow_slots_used(slot);
-                Some((range.start() - margin, range.end() + margin, i))
-            })
-            .collect();
-        prepared.slow_chosen = vec![false; rows.len()];
-        let slots = clusters_that_pay(members, &mut prepared.slow_chosen);
-        prepared.slow = SlowTermGrid::build(&slots);
-        prepared
+        plan
     }
 
     /// Table nodes computed.
@@ -177,9 +320,15 @@ impl<'a> PreparedRows<'a> {
         self.slow.len()
     }
 
-    /// The corrections of rows `range` (in order), each with the way it was corrected.
-    pub fn correct_range(&self, range: std::ops::Range<usize>) -> Vec<(Result<Corrected, ArrivalError>, RowPath)> {
-        let exact = |r: &RowTime, slow: SlowParts<'_>| {
+    /// The corrections of `rows` (in order, in parallel), each with the way it was
+    /// corrected; every row must have been counted in the plan's [`KeyCounts`].
+    pub fn correct(&self, rows: &[RowTime]) -> Vec<(Result<Corrected, ArrivalError>, RowPath)> {
+        rows.par_iter().map(|r| self.correct_row(r)).collect()
+    }
+
+    /// One row, as [`CorrectionPlan::correct`].
+    pub fn correct_row(&self, r: &RowTime) -> (Result<Corrected, ArrivalError>, RowPath) {
+        let exact = |slow: SlowParts<'_>| {
             let spacecraft;
             let observer = match r.observer {
                 RowObserver::Fixed(i) => self.observers.get(i).unwrap_or(&Observer::Geocentre),
@@ -190,116 +339,106 @@ impl<'a> PreparedRows<'a> {
             };
             self.corrector.correct_with_slow_parts(&r.time, observer, r.reference, slow)
         };
-        range
-            .into_par_iter()
-            .map(|i| {
-                let r = &self.rows[i];
-                if self.chosen.get(i).copied().unwrap_or(false)
-                    && let Some(Some(p)) = self.plan.get(i)
-                    && let Some(c) = interpolate_row(self.corrector, &self.grids[0], &self.grids[p.group], r)
-                {
-                    return (Ok(c), RowPath::TableNodes);
-                }
-                if self.slow_chosen.get(i).copied().unwrap_or(false) {
-                    return (exact(r, SlowParts::Interpolated(&self.slow)), RowPath::SlowTermNodes);
-                }
-                (exact(r, SlowParts::Exact), RowPath::Exact)
-            })
-            .collect()
-    }
-}
-
-/// Where a row would be interpolated: its group (observer index; 0 for rows already at the
-/// barycentre), its grid slot, and whether it needs one node of margin either side (its TT
-/// is only approximately known from the key: times on TDB/TCB, heliocentric times).
-#[derive(Debug, Clone, Copy)]
-struct Plan {
-    group: usize,
-    slot: i64,
-    margin: i64,
-}
-
-fn plan_row(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> Option<Plan> {
-    let RowObserver::Fixed(index) = r.observer else { return None };
-    let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
-    let group = match r.reference {
-        ReferencePoint::Barycentric => 0,
-        _ if on_tdb => return None,
-        _ => index,
-    };
-    if !matches!(observers.get(group)?, Observer::Geocentre | Observer::Site(_)) {
-        return None;
-    }
-    let key = match r.time.scale() {
-        TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
-        TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
-        _ => corrector.converter().convert(&r.time, TimeScale::Tt).ok()?,
-    };
-    let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
-    Some(Plan { group, slot: table_slot(&key).0, margin })
-}
-
-/// The slow-term slot of a row that may take the two-speed exact path, with one slot of
-/// margin where its TT is only approximately known (heliocentric readings, TDB and TCB);
-/// `None` for readings on TDB or TCB at an observer.
-fn slow_key(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> Option<(i64, i64)> {
-    let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
-    if on_tdb && r.reference != ReferencePoint::Barycentric {
-        return None;
-    }
-    if let RowObserver::Fixed(index) = r.observer {
-        observers.get(index)?;
-    }
-    let key = match r.time.scale() {
-        TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
-        TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
-        _ => corrector.converter().convert(&r.time, TimeScale::Tt).ok()?,
-    };
-    let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
-    Some((slow_slot(&key).0, margin))
-}
-
-/// Marks the rows of `group` that go through the nodes and returns the node slots they
-/// need: clusters of rows whose node ranges touch, kept when they need fewer nodes than
-/// they have rows.
-fn choose_clusters(plan: &[Option<Plan>], group: usize, chosen: &mut [bool]) -> Vec<i64> {
-    let members: Vec<(i64, i64, usize)> = plan
-        .iter()
-        .enumerate()
-        .filter_map(|(i, p)| {
-            p.filter(|p| p.group == group).map(|p| {
-                let range = slots_used(p.slot);
-                (range.start() - p.margin, range.end() + p.margin, i)
-            })
-        })
-        .collect();
-    clusters_that_pay(members, chosen)
-}
-
-/// Given each candidate row's inclusive range of node slots and its index, marks in
-/// `chosen` the rows of clusters (rows whose ranges touch) that need fewer nodes than they
-/// have rows, and returns the slots those clusters need.
-fn clusters_that_pay(mut members: Vec<(i64, i64, usize)>, chosen: &mut [bool]) -> Vec<i64> {
-    members.sort_unstable();
-    let mut slots = Vec::new();
-    let mut start = 0;
-    while start < members.len() {
-        let (lo, mut hi, _) = members[start];
-        let mut end = start + 1;
-        while end < members.len() && members[end].0 <= hi + 1 {
-            hi = hi.max(members[end].1);
-            end += 1;
+        if !self.active {
+            return (exact(SlowParts::Exact), RowPath::Exact);
         }
-        let nodes = (hi - lo + 1) as usize;
-        if nodes < end - start {
-            slots.extend(lo..=hi);
-            for m in &members[start..end] {
-                chosen[m.2] = true;
+        let key = RowKey::of(self.corrector, self.observers, r);
+        if let Some((group, lo, hi)) = key.table
+            && self.table.get(group).is_some_and(|c| c.pays(lo, hi))
+        {
+            if let Some(c) = interpolate_row(self.corrector, &self.grids[0], &self.grids[group], r) {
+                return (Ok(c), RowPath::TableNodes);
             }
+            return (exact(SlowParts::Exact), RowPath::Exact);
         }
-        start = end;
+        if let Some((lo, hi)) = key.slow
+            && self.slow_clusters.pays(lo, hi)
+        {
+            return (exact(SlowParts::Interpolated(&self.slow)), RowPath::SlowTermNodes);
+        }
+        (exact(SlowParts::Exact), RowPath::Exact)
     }
-    slots
+}
+
+/// Rows with their correction planned and the nodes computed, ready to be corrected range by
+/// range (so that a caller can keep only one range of results in memory at a time).
+pub struct PreparedRows<'a> {
+    plan: CorrectionPlan<'a>,
+    rows: &'a [RowTime],
+}
+
+impl<'a> PreparedRows<'a> {
+    /// Plans `rows` ([`CorrectionPlan::new`] on their [`KeyCounts`]); `observers[0]` must be
+    /// the geocentre, else every row is exact.
+    pub fn new(
+        corrector: &'a BarycentricCorrector,
+        observers: &'a [Observer],
+        rows: &'a [RowTime],
+        path: CorrectionPath,
+    ) -> PreparedRows<'a> {
+        let counts = if path == CorrectionPath::ExactEveryRow || !matches!(observers.first(), Some(Observer::Geocentre))
+        {
+            KeyCounts::default()
+        } else {
+            KeyCounts::of_rows(corrector, observers, rows)
+        };
+        PreparedRows { plan: CorrectionPlan::new(corrector, observers, &counts, path), rows }
+    }
+
+    /// Table nodes computed.
+    pub fn nodes(&self) -> usize {
+        self.plan.nodes()
+    }
+
+    /// Slow-term nodes computed.
+    pub fn slow_term_nodes(&self) -> usize {
+        self.plan.slow_term_nodes()
+    }
+
+    /// The corrections of rows `range` (in order), each with the way it was corrected.
+    pub fn correct_range(&self, range: std::ops::Range<usize>) -> Vec<(Result<Corrected, ArrivalError>, RowPath)> {
+        self.plan.correct(&self.rows[range])
+    }
+}
+
+/// The node slots of a row: its table-node group, slot and margin (`None` where the table
+/// nodes cannot serve it) and its slow-term slot and margin (`None` for readings on TDB or
+/// TCB at an observer). The group is the observer index (0 for rows already at the
+/// barycentre); one node of margin either side is needed where the row's TT is only
+/// approximately known from the key (times on TDB/TCB, heliocentric times).
+#[allow(clippy::type_complexity)]
+fn row_slots(
+    corrector: &BarycentricCorrector,
+    observers: &[Observer],
+    r: &RowTime,
+) -> (Option<(usize, i64, i64)>, Option<(i64, i64)>) {
+    let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
+    let at_observer_on_tdb = on_tdb && r.reference != ReferencePoint::Barycentric;
+    let group = match (r.observer, r.reference) {
+        (RowObserver::Spacecraft(_), _) => None,
+        (_, _) if at_observer_on_tdb => None,
+        (RowObserver::Fixed(_), ReferencePoint::Barycentric) => Some(0),
+        (RowObserver::Fixed(index), _) => Some(index),
+    };
+    let group = group.filter(|&g| matches!(observers.get(g), Some(Observer::Geocentre | Observer::Site(_))));
+    let slow_possible = !at_observer_on_tdb
+        && match r.observer {
+            RowObserver::Fixed(index) => index < observers.len(),
+            RowObserver::Spacecraft(_) => true,
+        };
+    if group.is_none() && !slow_possible {
+        return (None, None);
+    }
+    let key = match r.time.scale() {
+        TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
+        TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
+        _ => match corrector.converter().convert(&r.time, TimeScale::Tt) {
+            Ok(tt) => tt,
+            Err(_) => return (None, None),
+        },
+    };
+    let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
+    (group.map(|g| (g, table_slot(&key).0, margin)), slow_possible.then(|| (slow_slot(&key).0, margin)))
 }
 
 /// TT for a reading on TDB, by the fixed-point iteration of the exact converter with the

@@ -2,15 +2,16 @@
 //! back to the clock at an observer. Their results are what the commands print and write.
 
 use std::collections::BTreeSet;
+use std::path::Path;
 
 use polars::prelude::DataFrame;
 
 use super::correction::ArrivalError;
 use super::row_batches::CorrectionPath;
-use super::table::{TableRequest, TableSummary, correct_table_along};
+use super::table::{TableRequest, TableSummary, correct_table_along, correct_text_table_in_blocks};
 use super::{DelayOptions, ReferenceData, ReferenceNames, Source};
 use crate::observer::Observer;
-use crate::table::{TableError, text_column};
+use crate::table::{Provenance, TableError, text_column};
 use crate::time::{Instant, TimeFormat, TimeScale, format_time};
 
 /// The outcome of correcting a whole table to BJD_TDB.
@@ -94,6 +95,34 @@ pub fn barycentre_table_along(
         notes,
     };
     Ok((out, run))
+}
+
+/// Rows per block of [`barycentre_text_table_in_blocks`] unless told otherwise.
+pub const DEFAULT_BLOCK_ROWS: usize = 1 << 16;
+
+/// As [`barycentre_table_along`] for a CSV/TSV `input` written to a CSV/TSV `output`,
+/// block by block (`block_rows` rows at a time; memory bounded by the block, not by the
+/// file): the output holds the same bytes as [`barycentre_table_along`] followed by
+/// [`crate::table::write_table`] would write, atomically, with `provenance` in its sidecar;
+/// errors are the same (file, row, column of the first bad row). See
+/// [`super::table::correct_text_table_in_blocks`].
+#[allow(clippy::too_many_arguments)]
+pub fn barycentre_text_table_in_blocks(
+    input: &Path,
+    output: &Path,
+    request: &TableRequest,
+    reference: &ReferenceData,
+    source: &Source,
+    delays: DelayOptions,
+    path: CorrectionPath,
+    block_rows: usize,
+    provenance: &Provenance,
+) -> Result<BarycentreRun, TableError> {
+    let corrector = reference.corrector(source.clone(), delays);
+    let (correction, clocks_seen) =
+        correct_text_table_in_blocks(input, output, request, &corrector, path, block_rows, provenance)?;
+    let notes = leap_second_note(&correction, reference).into_iter().collect();
+    Ok(BarycentreRun { correction, clocks_seen, delays, source: source.clone(), reference: reference.names(), notes })
 }
 
 /// One BJD_TDB instant carried back to the clock at an observer.

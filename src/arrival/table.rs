@@ -8,11 +8,14 @@ use std::collections::BTreeMap;
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::correction::{BarycentricCorrector, ReferencePoint};
-use super::row_batches::{CorrectionPath, PreparedRows, RowObserver, RowPath, RowTime};
+use std::path::Path;
+
+use super::correction::{ArrivalError, BarycentricCorrector, Corrected, ReferencePoint};
+use super::row_batches::{CorrectionPath, CorrectionPlan, KeyCounts, RowObserver, RowPath, RowTime};
 use crate::observer::{Observer, PositionOrigin, Site, SpacecraftPosition};
-use crate::table::{TableError, float_column, text_column};
-use crate::time::format::format_whole_and_fraction;
+use crate::table::blocks::{CsvBlockReader, CsvBlockWriter, one_line_per_row};
+use crate::table::plausibility::TimeSpanCheck;
+use crate::table::{Provenance, TableError, float_column, text_column};
 use crate::time::{Instant, TimeFormat, TimeScale, parse_time};
 
 /// How the times of a column are written: format, scale and reference point.
@@ -231,15 +234,93 @@ fn correct_rows_of_table(
     want_geometry: bool,
 ) -> Result<(DataFrame, TableSummary, Vec<RowGeometry>), TableError> {
     let n = df.height();
-    let times = text_column(df, file, &request.time_column)?;
-    let clock_labels = match &request.clock_column {
-        Some(c) => Some(text_column(df, file, c)?),
+    refuse_added_column_names(df, file)?;
+    let block = parse_rows(df, file, request, corrector, 0)?;
+    let counts = if path == CorrectionPath::Automatic {
+        KeyCounts::of_rows(corrector, &block.observers, &block.rows)
+    } else {
+        KeyCounts::default()
+    };
+    let mut check = TimeSpanCheck::new(file, &request.time_column);
+    record_times(&mut check, 0, &block.rows, &block.clocks);
+    let mut warnings = check.finish()?;
+    warnings.extend(crate::table::plausibility::float_time_resolution(df, file, &request.time_column));
+    let plan = CorrectionPlan::new(corrector, &block.observers, &counts, path);
+    let mut summary = RunningSummary::new(n);
+    summary.summary.warnings = warnings;
+    let mut geometry = Vec::with_capacity(if want_geometry { n } else { 0 });
+    let mut columns = AddedColumns::with_capacity(n);
+    // Results are held one block at a time; the output columns grow block by block.
+    for start in (0..block.rows.len()).step_by(RESULT_BLOCK_ROWS) {
+        let range = start..(start + RESULT_BLOCK_ROWS).min(block.rows.len());
+        let results = plan.correct(&block.rows[range.clone()]);
+        let rows = &block.rows[range.clone()];
+        let clocks = &block.clocks[range];
+        if want_geometry {
+            for (result, _) in &results {
+                if let Ok(c) = result {
+                    geometry.push(RowGeometry {
+                        observer_barycentric_km: c.observer_barycentric_km,
+                        source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
+                    });
+                }
+            }
+        }
+        summary.add_block(file, request, corrector, start, rows, clocks, results, &mut columns)?;
+    }
+    if let Some(e) = block.unreadable {
+        return Err(e);
+    }
+    drop(plan);
+    let out = columns.append_to(df.clone(), file)?;
+    Ok((out, summary.finish(), geometry))
+}
+
+/// Rows whose results are held at once by the whole-table path.
+const RESULT_BLOCK_ROWS: usize = 1 << 16;
+
+/// Refuses a table that already has a column the correction adds.
+fn refuse_added_column_names(df: &DataFrame, file: &str) -> Result<(), TableError> {
+    match ADDED_COLUMNS.iter().find(|name| df.get_column_names().iter().any(|c| c.as_str() == **name)) {
+        Some(name) => Err(TableError::File {
+            file: file.to_string(),
+            message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
+        }),
+        None => Ok(()),
+    }
+}
+
+/// The rows of one block of a table, read: the fixed observers (the geocentre first), the
+/// rows before the first unreadable one with their clocks, and that row's error.
+struct ParsedRows {
+    observers: Vec<Observer>,
+    rows: Vec<RowTime>,
+    clocks: Vec<ClockSpec>,
+    unreadable: Option<TableError>,
+}
+
+/// Reads the times, clocks and observers of `df`, whose first row is data row
+/// `first_row + 1` of `file`. An unknown site or a missing column is an error at once; an
+/// unreadable time or clock ends the rows read and is handed back.
+fn parse_rows(
+    df: &DataFrame,
+    file: &str,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+    first_row: usize,
+) -> Result<ParsedRows, TableError> {
+    let n = df.height();
+    let time_text = text_cells(df, file, &request.time_column)?;
+    let times = cells(&time_text);
+    let clock_text = match &request.clock_column {
+        Some(c) => Some(text_cells(df, file, c)?),
         None => None,
     };
-    let (observers, row_observers) = observers_per_row(df, file, &request.observer)?;
+    let clock_labels = clock_text.as_ref().map(cells);
+    let (observers, row_observers) = observers_per_row(df, file, &request.observer, first_row)?;
     let cell = |row: usize, column: &str, message: String| TableError::Cell {
         file: file.to_string(),
-        row: row + 1,
+        row: first_row + row + 1,
         column: column.to_string(),
         message,
     };
@@ -248,7 +329,7 @@ fn correct_rows_of_table(
         let clock = match (&clock_labels, request.clock) {
             (Some(labels), _) => {
                 let col = request.clock_column.as_deref().unwrap_or("");
-                let label = labels[i].as_deref().ok_or_else(|| cell(i, col, "empty clock label".into()))?;
+                let label = labels[i].ok_or_else(|| cell(i, col, "empty clock label".into()))?;
                 ClockSpec::parse_label(label).map_err(|m| cell(i, col, m.to_string()))?
             }
             (None, Some(c)) => c,
@@ -259,7 +340,7 @@ fn correct_rows_of_table(
                 });
             }
         };
-        let text = times[i].as_deref().ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
+        let text = times[i].ok_or_else(|| cell(i, &request.time_column, "empty time cell".into()))?;
         let time = parse_time(text, clock.format, clock.scale, leap)
             .map_err(|e| cell(i, &request.time_column, e.to_string()))?;
         let observer = row_observers.get(i).copied().unwrap_or(RowObserver::Fixed(0));
@@ -270,41 +351,56 @@ fn correct_rows_of_table(
     // either kind is the one reported.
     let readable = parsed.iter().position(Option::is_none).unwrap_or(n);
     let unreadable = (readable < n).then(|| parse(readable).err()).flatten();
-    drop(times);
-    drop(clock_labels);
-    let (inputs, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
-    let mut warnings = plausibility_of(df, file, &request.time_column, &inputs, &clocks)?;
-    let prepared = PreparedRows::new(corrector, &observers, &inputs, path);
-    let mut summary = TableSummary {
-        warnings: std::mem::take(&mut warnings),
-        rows: n,
-        min_total_correction_s: f64::INFINITY,
-        max_total_correction_s: f64::NEG_INFINITY,
-        ..Default::default()
-    };
-    let mut geometry = Vec::with_capacity(if want_geometry { n } else { 0 });
-    let mut cols: Vec<Vec<f64>> = (0..10).map(|_| Vec::with_capacity(n)).collect();
-    let mut bjd_text = StringChunkedBuilder::new("bjd_tdb".into(), n);
-    let mut obs_text = StringChunkedBuilder::new("observer_tdb".into(), n);
-    let mut clock_text = StringChunkedBuilder::new("input_clock".into(), n);
-    let mut labels: Vec<(ClockSpec, String)> = Vec::new();
-    let mut buffer = String::with_capacity(32);
-    // Results are held one block at a time; the output columns grow block by block.
-    const BLOCK_ROWS: usize = 1 << 16;
-    for block in (0..readable).step_by(BLOCK_ROWS) {
-        let results = prepared.correct_range(block..(block + BLOCK_ROWS).min(readable));
+    let (rows, clocks): (Vec<RowTime>, Vec<ClockSpec>) = parsed.into_iter().take(readable).flatten().unzip();
+    Ok(ParsedRows { observers, rows, clocks, unreadable })
+}
+
+/// The summary of a correction, gathered block by block, with the clock labels seen.
+struct RunningSummary {
+    summary: TableSummary,
+    labels: Vec<(ClockSpec, String)>,
+}
+
+impl RunningSummary {
+    fn new(rows: usize) -> RunningSummary {
+        RunningSummary {
+            summary: TableSummary {
+                rows,
+                min_total_correction_s: f64::INFINITY,
+                max_total_correction_s: f64::NEG_INFINITY,
+                ..Default::default()
+            },
+            labels: Vec::new(),
+        }
+    }
+
+    /// Takes in the results of `rows` (whose first is row `first + 1` of the block's
+    /// numbering in `file`), appending their output values to `columns`; the first failed
+    /// correction is the error.
+    #[allow(clippy::too_many_arguments)]
+    fn add_block(
+        &mut self,
+        file: &str,
+        request: &TableRequest,
+        corrector: &BarycentricCorrector,
+        first: usize,
+        rows: &[RowTime],
+        clocks: &[ClockSpec],
+        results: Vec<(Result<Corrected, ArrivalError>, RowPath)>,
+        columns: &mut impl RowSink,
+    ) -> Result<(), TableError> {
+        let leap = corrector.converter().leap_seconds();
+        let summary = &mut self.summary;
         for (k, (result, path)) in results.into_iter().enumerate() {
-            let i = block + k;
-            let c = result.map_err(|e| cell(i, &request.time_column, e.to_string()))?;
-            let (clock, input) = (&clocks[i], &inputs[i].time);
+            let c = result.map_err(|e| TableError::Cell {
+                file: file.to_string(),
+                row: first + k + 1,
+                column: request.time_column.clone(),
+                message: e.to_string(),
+            })?;
+            let (clock, input) = (&clocks[k], &rows[k].time);
             summary.rows_interpolated += usize::from(path == RowPath::TableNodes);
             summary.rows_with_interpolated_slow_terms += usize::from(path == RowPath::SlowTermNodes);
-            if want_geometry {
-                geometry.push(RowGeometry {
-                    observer_barycentric_km: c.observer_barycentric_km,
-                    source_unit: corrector.source().direction_at(&c.observer_tdb).unit,
-                });
-            }
             if input.scale() == TimeScale::Utc
                 && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
             {
@@ -318,80 +414,260 @@ fn correct_rows_of_table(
             let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
             summary.min_total_correction_s = summary.min_total_correction_s.min(total);
             summary.max_total_correction_s = summary.max_total_correction_s.max(total);
-            let (jd1, jd2) = c.bjd_tdb.jd_two_part();
-            write_jd_text(&mut buffer, &c.bjd_tdb);
-            bjd_text.append_value(&buffer);
-            write_jd_text(&mut buffer, &c.observer_tdb);
-            obs_text.append_value(&buffer);
-            let label = match labels.iter().position(|(k, _)| k == clock) {
-                Some(j) => &labels[j].1,
+            let label = match self.labels.iter().position(|(k, _)| k == clock) {
+                Some(j) => j,
                 None => {
-                    labels.push((*clock, clock_label(clock)));
-                    &labels[labels.len() - 1].1
+                    self.labels.push((*clock, clock_label(clock)));
+                    self.labels.len() - 1
                 }
             };
-            clock_text.append_value(label);
-            for (col, v) in cols.iter_mut().zip([
-                jd1,
-                jd2,
-                d.clock_to_tt_s,
-                d.einstein_s,
-                d.roemer_s,
-                d.curvature_s,
-                d.shapiro_sun_s,
-                d.shapiro_planets_s,
-                d.heliocentric_removed_s,
-                total,
-            ]) {
-                col.push(v);
-            }
+            columns.push(&c, total, label, &self.labels[label].1);
         }
+        Ok(())
     }
-    if let Some(e) = unreadable {
-        return Err(e);
+
+    /// The clock labels seen, sorted.
+    fn clocks_seen(&self) -> Vec<String> {
+        let mut labels: Vec<String> = self.labels.iter().map(|(_, l)| l.clone()).collect();
+        labels.sort();
+        labels.dedup();
+        labels
     }
-    drop(prepared);
-    let mut out = df.clone();
-    let mut add = |name: &str, column: Column| -> Result<(), TableError> {
-        if out.get_column_names().iter().any(|c| c.as_str() == name) {
-            return Err(TableError::File {
-                file: file.to_string(),
-                message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
-            });
+
+    fn finish(mut self) -> TableSummary {
+        if self.summary.rows == 0 || self.summary.min_total_correction_s > self.summary.max_total_correction_s {
+            self.summary.min_total_correction_s = 0.0;
+            self.summary.max_total_correction_s = 0.0;
         }
-        out.with_column(column)
-            .map(|_| ())
-            .map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
-    };
-    add("bjd_tdb", bjd_text.finish().into_column())?;
-    for (k, name) in ADDED_COLUMNS[1..3].iter().enumerate() {
-        add(name, Column::new((*name).into(), std::mem::take(&mut cols[k])))?;
+        self.summary
     }
-    add("observer_tdb", obs_text.finish().into_column())?;
-    for (k, name) in ADDED_COLUMNS[4..12].iter().enumerate() {
-        add(name, Column::new((*name).into(), std::mem::take(&mut cols[k + 2])))?;
-    }
-    add("input_clock", clock_text.finish().into_column())?;
-    if n == 0 {
-        summary.min_total_correction_s = 0.0;
-        summary.max_total_correction_s = 0.0;
-    }
-    Ok((out, summary, geometry))
 }
 
-/// The plausibility of the times of the readable rows (the checks of
-/// [`crate::table::plausibility`]): a refusal where day numbers are clearly in the other
-/// convention than their clock label, else warnings.
-fn plausibility_of(
-    df: &DataFrame,
-    file: &str,
-    column: &str,
-    inputs: &[RowTime],
-    clocks: &[ClockSpec],
-) -> Result<Vec<crate::table::plausibility::TimeWarning>, TableError> {
-    let mut check = crate::table::plausibility::TimeSpanCheck::new(file, column);
+/// Where the output values of corrected rows go, row by row.
+trait RowSink {
+    /// One row: its correction, total correction (s) and clock label (index and text).
+    fn push(&mut self, c: &Corrected, total: f64, label: usize, text: &str);
+}
+
+/// The output values of one row, for writing as text.
+struct RowText {
+    bjd_tdb: (i64, u64),
+    observer_tdb: (i64, u64),
+    values: [f64; 10],
+    label: usize,
+}
+
+/// The output values of a block of rows, written as text after the other columns.
+#[derive(Default)]
+struct AddedText {
+    rows: Vec<RowText>,
+}
+
+impl RowSink for AddedText {
+    fn push(&mut self, c: &Corrected, total: f64, label: usize, _text: &str) {
+        self.rows.push(RowText {
+            bjd_tdb: jd_text_parts(&c.bjd_tdb),
+            observer_tdb: jd_text_parts(&c.observer_tdb),
+            values: output_values(c, total),
+            label,
+        });
+    }
+}
+
+impl AddedText {
+    /// Appends the fields of rows `first..first + count` to `out`, each after `separator`,
+    /// as polars' CSV writer writes them (JD texts and labels unquoted, numbers in the
+    /// shortest form that reads back to the same `f64`).
+    fn write_fields(&self, first: usize, count: usize, separator: u8, labels: &[String], out: &mut Vec<u8>) {
+        let mut number = zmij::Buffer::new();
+        for r in &self.rows[first..first + count] {
+            out.push(separator);
+            push_jd_text(out, r.bjd_tdb);
+            for v in &r.values[..2] {
+                out.push(separator);
+                out.extend_from_slice(number.format(*v).as_bytes());
+            }
+            out.push(separator);
+            push_jd_text(out, r.observer_tdb);
+            for v in &r.values[2..] {
+                out.push(separator);
+                out.extend_from_slice(number.format(*v).as_bytes());
+            }
+            out.push(separator);
+            out.extend_from_slice(labels[r.label].as_bytes());
+        }
+    }
+}
+
+/// The ten numeric output columns of a row, in the order of [`ADDED_COLUMNS`] (without the
+/// texts).
+fn output_values(c: &Corrected, total: f64) -> [f64; 10] {
+    let d = &c.delays;
+    let (jd1, jd2) = c.bjd_tdb.jd_two_part();
+    [
+        jd1,
+        jd2,
+        d.clock_to_tt_s,
+        d.einstein_s,
+        d.roemer_s,
+        d.curvature_s,
+        d.shapiro_sun_s,
+        d.shapiro_planets_s,
+        d.heliocentric_removed_s,
+        total,
+    ]
+}
+
+impl RowSink for AddedColumns {
+    fn push(&mut self, c: &Corrected, total: f64, _label: usize, text: &str) {
+        self.push_row(c, total, text);
+    }
+}
+
+/// The columns of [`ADDED_COLUMNS`] for a run of rows, filled row by row.
+struct AddedColumns {
+    values: Vec<Vec<f64>>,
+    bjd_text: StringChunkedBuilder,
+    observer_text: StringChunkedBuilder,
+    clock_text: StringChunkedBuilder,
+    buffer: String,
+}
+
+impl AddedColumns {
+    fn with_capacity(n: usize) -> AddedColumns {
+        AddedColumns {
+            values: (0..10).map(|_| Vec::with_capacity(n)).collect(),
+            bjd_text: StringChunkedBuilder::new("bjd_tdb".into(), n),
+            observer_text: StringChunkedBuilder::new("observer_tdb".into(), n),
+            clock_text: StringChunkedBuilder::new("input_clock".into(), n),
+            buffer: String::with_capacity(32),
+        }
+    }
+
+    fn push_row(&mut self, c: &Corrected, total: f64, label: &str) {
+        write_jd_text(&mut self.buffer, &c.bjd_tdb);
+        self.bjd_text.append_value(&self.buffer);
+        write_jd_text(&mut self.buffer, &c.observer_tdb);
+        self.observer_text.append_value(&self.buffer);
+        self.clock_text.append_value(label);
+        for (col, v) in self.values.iter_mut().zip(output_values(c, total)) {
+            col.push(v);
+        }
+    }
+
+    /// `df` with the columns appended, in the order of [`ADDED_COLUMNS`].
+    fn append_to(mut self, mut out: DataFrame, file: &str) -> Result<DataFrame, TableError> {
+        let mut add = |column: Column| -> Result<(), TableError> {
+            out.with_column(column)
+                .map(|_| ())
+                .map_err(|e| TableError::File { file: file.to_string(), message: e.to_string() })
+        };
+        add(self.bjd_text.finish().into_column())?;
+        for (k, name) in ADDED_COLUMNS[1..3].iter().enumerate() {
+            add(Column::new((*name).into(), std::mem::take(&mut self.values[k])))?;
+        }
+        add(self.observer_text.finish().into_column())?;
+        for (k, name) in ADDED_COLUMNS[4..12].iter().enumerate() {
+            add(Column::new((*name).into(), std::mem::take(&mut self.values[k + 2])))?;
+        }
+        add(self.clock_text.finish().into_column())?;
+        Ok(out)
+    }
+}
+
+/// Corrects the CSV/TSV table `input` to BJD_TDB and writes `output` (CSV/TSV) block by
+/// block: memory is bounded by `block_rows`, not by the file. The file is read twice: once
+/// for the times (the plan of [`CorrectionPlan`], made from the same [`KeyCounts`] as for
+/// the whole table), then for correcting and writing each block. The output is byte for
+/// byte what [`correct_table_along`] and [`crate::table::write_table`] write for the same
+/// input, the errors are the same (first bad row, with file, row and column), and nothing
+/// is left behind on an error (the output is written atomically, with `provenance` in its
+/// sidecar). Returns the summary and the clock labels seen (sorted).
+#[allow(clippy::too_many_arguments)]
+pub fn correct_text_table_in_blocks(
+    input: &Path,
+    output: &Path,
+    request: &TableRequest,
+    corrector: &BarycentricCorrector,
+    path: CorrectionPath,
+    block_rows: usize,
+    provenance: &Provenance,
+) -> Result<(TableSummary, Vec<String>), TableError> {
+    let file = input.display().to_string();
+    let mut reader = CsvBlockReader::open(input, &request.text_columns(), block_rows)?;
+    if let Some(name) = ADDED_COLUMNS.iter().find(|name| reader.schema().contains(name)) {
+        return Err(TableError::File {
+            file,
+            message: format!("the input already has a column '{name}', which the correction adds; rename it first"),
+        });
+    }
+    // First pass: the plan, from the key counts of the rows before the first unreadable one.
+    let mut counts = KeyCounts::default();
+    let mut observers = Vec::new();
+    let mut rows = 0;
+    let mut readable: Option<usize> = None;
+    let mut check = TimeSpanCheck::new(&file, &request.time_column);
+    while let Some((first, df)) = reader.next_block()? {
+        let block = parse_rows(&df, &file, request, corrector, first)?;
+        if readable.is_none() {
+            record_times(&mut check, first, &block.rows, &block.clocks);
+            if path == CorrectionPath::Automatic {
+                counts.merge(KeyCounts::of_rows(corrector, &block.observers, &block.rows));
+            }
+            if block.unreadable.is_some() {
+                readable = Some(first + block.rows.len());
+            }
+        }
+        rows += df.height();
+        observers = block.observers;
+    }
+    let warnings = check.finish()?;
+    let plan = CorrectionPlan::new(corrector, &observers, &counts, path);
+    // Second pass: correct and write block by block.
+    reader.rewind()?;
+    let mut writer = CsvBlockWriter::create(output, &[input])?;
+    let mut summary = RunningSummary::new(rows);
+    summary.summary.warnings = warnings;
+    while let Some((first, df)) = reader.next_block()? {
+        let block = parse_rows(&df, &file, request, corrector, first)?;
+        let results = plan.correct(&block.rows);
+        let height = df.height();
+        if one_line_per_row(&df) {
+            let mut text = AddedText { rows: Vec::with_capacity(block.rows.len()) };
+            summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut text)?;
+            if let Some(e) = block.unreadable {
+                return Err(e);
+            }
+            let labels: Vec<String> = summary.labels.iter().map(|(_, l)| l.clone()).collect();
+            let separator = writer.separator();
+            let mut df = df;
+            writer.write_block_appending(&mut df, &ADDED_COLUMNS, |row, count, out| {
+                text.write_fields(row, count, separator, &labels, out)
+            })?;
+        } else {
+            let mut columns = AddedColumns::with_capacity(block.rows.len());
+            summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut columns)?;
+            if let Some(e) = block.unreadable {
+                return Err(e);
+            }
+            let mut out = columns.append_to(df, &file)?;
+            writer.write_block(&mut out)?;
+        }
+        if readable.is_some_and(|r| first + height >= r) {
+            break;
+        }
+    }
+    writer.finish(provenance)?;
+    let clocks = summary.clocks_seen();
+    Ok((summary.finish(), clocks))
+}
+
+/// Records the times of `rows` (the first being data row `first + 1`) for the
+/// plausibility check of [`crate::table::plausibility`]: a refusal where day numbers are
+/// clearly in the other convention than their clock label, else warnings.
+fn record_times(check: &mut TimeSpanCheck, first: usize, rows: &[RowTime], clocks: &[ClockSpec]) {
     let mut labels: Vec<(ClockSpec, String)> = Vec::new();
-    for (i, (input, clock)) in inputs.iter().zip(clocks).enumerate() {
+    for (i, (input, clock)) in rows.iter().zip(clocks).enumerate() {
         let label = match labels.iter().position(|(k, _)| k == clock) {
             Some(j) => &labels[j].1,
             None => {
@@ -399,11 +675,8 @@ fn plausibility_of(
                 &labels[labels.len() - 1].1
             }
         };
-        check.record(i + 1, label, clock.format, &input.time);
+        check.record(first + i + 1, label, clock.format, &input.time);
     }
-    let mut warnings = check.finish()?;
-    warnings.extend(crate::table::plausibility::float_time_resolution(df, file, column));
-    Ok(warnings)
 }
 
 /// The clock label of a row (`<kind>_<scale>`, as [`ClockSpec::parse_label`] reads it).
@@ -423,8 +696,9 @@ fn clock_label(clock: &ClockSpec) -> String {
     format!("{kind}_{}", clock.scale.name())
 }
 
-/// JD text with 14 decimals (~1 ns), written into `buffer` (cleared first).
-fn write_jd_text(buffer: &mut String, t: &Instant) {
+/// The whole JD and its 14 decimals (~1 ns) as written in the JD text columns: the
+/// integral JD (from noon) and the digits of the fraction, rounded, carried into the day.
+fn jd_text_parts(t: &Instant) -> (i64, u64) {
     let (a, b) = t.jd_two_part();
     // a is half-integral: write from integer JD at noon plus fraction.
     let mut whole = (a + 0.5) as i64 - 1;
@@ -433,8 +707,88 @@ fn write_jd_text(buffer: &mut String, t: &Instant) {
         frac -= 1.0;
         whole += 1;
     }
+    // As `format_whole_and_fraction(whole, frac, 14)`.
+    let scale = 10f64.powi(14);
+    let mut digits = (frac * scale).round();
+    if digits >= scale {
+        digits -= scale;
+        whole += 1;
+    }
+    (whole, digits as u64)
+}
+
+/// JD text with 14 decimals (~1 ns), written into `buffer` (cleared first).
+fn write_jd_text(buffer: &mut String, t: &Instant) {
+    let (whole, digits) = jd_text_parts(t);
     buffer.clear();
-    buffer.push_str(&format_whole_and_fraction(whole, frac, 14));
+    buffer.push_str(&format!("{whole}.{digits:014}"));
+}
+
+/// Appends the JD text of `parts` ([`jd_text_parts`]) to `out`: the same characters as
+/// [`write_jd_text`].
+fn push_jd_text(out: &mut Vec<u8>, (whole, digits): (i64, u64)) {
+    if whole < 0 {
+        out.push(b'-');
+    }
+    let mut w = whole.unsigned_abs();
+    let mut text = [0u8; 20];
+    let mut k = text.len();
+    loop {
+        k -= 1;
+        text[k] = b'0' + (w % 10) as u8;
+        w /= 10;
+        if w == 0 {
+            break;
+        }
+    }
+    out.extend_from_slice(&text[k..]);
+    out.push(b'.');
+    let mut d = digits;
+    let mut fraction = [b'0'; 14];
+    for slot in fraction.iter_mut().rev() {
+        *slot = b'0' + (d % 10) as u8;
+        d /= 10;
+    }
+    if d > 0 {
+        // More than 14 digits (not reached: the fraction is below one): as `{:014}` would.
+        out.extend_from_slice(format!("{digits:014}").as_bytes());
+        return;
+    }
+    out.extend_from_slice(&fraction);
+}
+
+/// A column cast to text, for [`cells`]; errors as [`text_column`]'s.
+fn text_cells(df: &DataFrame, file: &str, name: &str) -> Result<StringChunked, TableError> {
+    text_column(&df.head(Some(0)), file, name)?;
+    let column = df.column(name).and_then(|c| c.cast(&DataType::String)).map_err(|e| TableError::Cell {
+        file: file.to_string(),
+        row: 0,
+        column: name.to_string(),
+        message: format!("cannot be read as text: {e}"),
+    })?;
+    column.str().cloned().map_err(|e| TableError::Cell {
+        file: file.to_string(),
+        row: 0,
+        column: name.to_string(),
+        message: e.to_string(),
+    })
+}
+
+/// The cells of a text column, trimmed, `None` where empty (as [`text_column`] gives them,
+/// without copying).
+fn cells(text: &StringChunked) -> Vec<Option<&str>> {
+    text.iter().map(|v| v.map(str::trim).filter(|s| !s.is_empty())).collect()
+}
+
+/// `e` with its row counted from the start of the file, for a block whose first row is data
+/// row `first_row + 1`.
+fn shift_row(e: TableError, first_row: usize) -> TableError {
+    match e {
+        TableError::Cell { file, row, column, message } => {
+            TableError::Cell { file, row: if row == 0 { 0 } else { first_row + row }, column, message }
+        }
+        other => other,
+    }
 }
 
 /// The distinct fixed observers (the geocentre first) and each row's observer.
@@ -442,13 +796,14 @@ fn observers_per_row(
     df: &DataFrame,
     file: &str,
     spec: &ObserverSpec,
+    first_row: usize,
 ) -> Result<(Vec<Observer>, Vec<RowObserver>), TableError> {
     let n = df.height();
     Ok(match spec {
         ObserverSpec::Geocentre => (vec![Observer::Geocentre], vec![RowObserver::Fixed(0); n]),
         ObserverSpec::Site(s) => (vec![Observer::Geocentre, Observer::Site(s.clone())], vec![RowObserver::Fixed(1); n]),
         ObserverSpec::SiteColumn { column, sites } => {
-            let names = text_column(df, file, column)?;
+            let names = text_column(df, file, column).map_err(|e| shift_row(e, first_row))?;
             let known = sites.keys().cloned().collect::<Vec<_>>().join(", ");
             let mut observers = vec![Observer::Geocentre];
             observers.extend(sites.values().cloned().map(Observer::Site));
@@ -463,7 +818,7 @@ fn observers_per_row(
                     sites.keys().position(|k| *k == name).map(|k| RowObserver::Fixed(k + 1)).ok_or_else(|| {
                         TableError::Cell {
                             file: file.to_string(),
-                            row: i + 1,
+                            row: first_row + i + 1,
                             column: column.clone(),
                             message: format!("unknown site '{name}'; described sites: {known} (or 'geocentre')"),
                         }
@@ -473,9 +828,9 @@ fn observers_per_row(
             (observers, rows)
         }
         ObserverSpec::Spacecraft { columns, origin } => {
-            let x = float_column(df, file, &columns[0])?;
-            let y = float_column(df, file, &columns[1])?;
-            let z = float_column(df, file, &columns[2])?;
+            let x = float_column(df, file, &columns[0]).map_err(|e| shift_row(e, first_row))?;
+            let y = float_column(df, file, &columns[1]).map_err(|e| shift_row(e, first_row))?;
+            let z = float_column(df, file, &columns[2]).map_err(|e| shift_row(e, first_row))?;
             let rows = (0..n)
                 .map(|i| {
                     RowObserver::Spacecraft(SpacecraftPosition { position_km: [x[i], y[i], z[i]], origin: *origin })

@@ -7,8 +7,10 @@ use clap::Args as ClapArgs;
 
 use super::common::{ObserverArgs, ReferenceDataArgs, SourceArgs, write_text};
 use skyclock::arrival::table::TableRequest;
-use skyclock::arrival::{CorrectionPath, DelayOptions, barycentre_table_along};
-use skyclock::table::{Provenance, Summary, read_table, write_table};
+use skyclock::arrival::{
+    CorrectionPath, DEFAULT_BLOCK_ROWS, DelayOptions, barycentre_table_along, barycentre_text_table_in_blocks,
+};
+use skyclock::table::{Provenance, Summary, TableFormat, read_table, write_table};
 
 const EXAMPLE: &str = "Example:
   skyclock barycentre --input minima.csv --time-column time --clock jd_utc \\
@@ -53,6 +55,10 @@ pub struct Args {
     /// corrected nodes (the two agree to ≤ 1 ns; this is slower, for audits).
     #[arg(long)]
     pub exact_per_row: bool,
+    /// Rows read, corrected and written at a time when both tables are CSV/TSV (memory
+    /// grows with it; the output does not depend on it).
+    #[arg(long, value_name = "ROWS", default_value_t = DEFAULT_BLOCK_ROWS)]
+    pub block_rows: usize,
     /// Output table (.csv, .tsv or .parquet); a CSV gets a .provenance.json beside it.
     #[arg(long, value_name = "FILE")]
     pub output: PathBuf,
@@ -78,12 +84,12 @@ pub fn run(a: Args) -> Result<()> {
     let delays = DelayOptions { shapiro_sun: !a.without_solar_shapiro, shapiro_planets: a.with_planet_shapiro };
     let request =
         TableRequest { time_column: a.time_column.clone(), clock, clock_column: a.clock_column.clone(), observer };
+    if a.block_rows == 0 {
+        anyhow::bail!("--block-rows must be at least 1");
+    }
     let file = a.input.display().to_string();
-    let df = read_table(&a.input, &request.text_columns())?;
     let path = if a.exact_per_row { CorrectionPath::ExactEveryRow } else { CorrectionPath::Automatic };
-    let (mut out, result) = barycentre_table_along(&df, &file, &request, &reference, &source, delays, path)?;
-    super::common::print_time_warnings(&result.correction.warnings);
-    let names = &result.reference;
+    let names = reference.names();
     let provenance = Provenance::new(&std::env::args().collect::<Vec<_>>().join(" "))
         .with("stage", "barycentre")
         .with("input", file.clone())
@@ -92,10 +98,31 @@ pub fn run(a: Args) -> Result<()> {
         .with("earth_orientation", names.earth_orientation.clone())
         .with("source", serde_json::to_string(&source).unwrap_or_default())
         .with("delays", delays.describe());
-    write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+    let text = |p: &std::path::Path| matches!(TableFormat::from_path(p), Ok(TableFormat::Csv | TableFormat::Tsv));
+    let result = if text(&a.input) && text(&a.output) {
+        // Text in, text out: streamed block by block (the same bytes as the whole table).
+        barycentre_text_table_in_blocks(
+            &a.input,
+            &a.output,
+            &request,
+            &reference,
+            &source,
+            delays,
+            path,
+            a.block_rows,
+            &provenance,
+        )?
+    } else {
+        let df = read_table(&a.input, &request.text_columns())?;
+        let (mut out, result) = barycentre_table_along(&df, &file, &request, &reference, &source, delays, path)?;
+        drop(df);
+        write_table(&mut out, &a.output, &provenance, &[a.input.as_path()])?;
+        result
+    };
     for note in &result.notes {
         eprintln!("{note}");
     }
+    super::common::print_time_warnings(&result.correction.warnings);
     let summary = Summary::new(result, provenance, vec![file], vec![a.output.display().to_string()]);
     if let Some(path) = &a.summary {
         write_text(path, &summary.to_json()?, &[a.input.as_path(), a.output.as_path()])?;

@@ -1,6 +1,7 @@
 //! Tables: reading CSV, TSV and Parquet (polars), pulling typed columns out with errors that
 //! name file, row and column, and writing CSV/Parquet atomically with provenance.
 
+pub mod blocks;
 pub mod columns;
 pub mod error;
 pub mod guard;
