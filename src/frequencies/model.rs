@@ -7,6 +7,7 @@
 //! with σ_N the (weighted) rms of the residuals and T the baseline.
 
 use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
+use crate::periodogram::sums::cis_cycles;
 use crate::periodogram::{SearchError, Series};
 use std::f64::consts::TAU;
 
@@ -96,7 +97,7 @@ fn linear_start(model: &Model, p: &mut [f64]) -> Option<f64> {
         row.iter_mut().for_each(|v| *v = 0.0);
         row[model.band[i]] = 1.0;
         for k in 0..nc {
-            let (s, c) = (TAU * p[nb + 3 * k] * model.t[i]).sin_cos();
+            let (c, s) = cis_cycles(p[nb + 3 * k] * model.t[i]);
             row[nb + 2 * k] = c;
             row[nb + 2 * k + 1] = s;
         }
@@ -171,6 +172,9 @@ fn refine_single_frequency(model: &Model, p: &mut [f64], chi2: f64, baseline_d: 
             best = c;
             p.copy_from_slice(&q);
         }
+        if step.abs() < 1e-3 * h {
+            break; // already at the vertex to a thousandth of the spacing
+        }
         h *= 0.1;
     }
     best
@@ -199,7 +203,7 @@ impl LsqModel for Model<'_> {
             let mut v = p[self.band[i]];
             for k in 0..self.n_comp {
                 let q = &p[self.n_bands + 3 * k..self.n_bands + 3 * k + 3];
-                let (s, c) = (TAU * q[0] * self.t[i]).sin_cos();
+                let (c, s) = cis_cycles(q[0] * self.t[i]);
                 v += q[1] * c + q[2] * s;
             }
             *o = v;
@@ -213,7 +217,7 @@ impl LsqModel for Model<'_> {
             row[self.band[i]] = 1.0;
             for k in 0..self.n_comp {
                 let q = &p[self.n_bands + 3 * k..self.n_bands + 3 * k + 3];
-                let (s, c) = (TAU * q[0] * self.t[i]).sin_cos();
+                let (c, s) = cis_cycles(q[0] * self.t[i]);
                 let j = self.n_bands + 3 * k;
                 row[j] = TAU * self.t[i] * (-q[1] * s + q[2] * c);
                 row[j + 1] = c;

@@ -11,11 +11,12 @@ use crate::periodogram::bls::{
 use crate::periodogram::dispersion::PhaseDispersion;
 use crate::periodogram::entropy::ConditionalEntropy;
 use crate::periodogram::multiharmonic::MultiHarmonic;
-use crate::periodogram::peaks::{Peak, window_sidelobes};
+use crate::periodogram::peaks::Peak;
 use crate::periodogram::significance::{BootstrapOptions, baluev_fap, bootstrap_fap};
+use crate::periodogram::window::strongest_window_sidelobes;
 use crate::periodogram::{
     Algorithm, ClassicalLombScargle, GeneralisedLombScargle, GridRequest, MultiBandLombScargle, Periodogram,
-    SearchError, Series, SpectralWindow, Spectrum, plan_grid,
+    SearchError, Series, Spectrum, plan_grid,
 };
 
 /// The statistic searched.
@@ -234,8 +235,9 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
         }
     };
     let sidelobes = if plan.window_sidelobes > 0 {
-        let window = SpectralWindow { algorithm: plan.algorithm }.evaluate(series, &grid)?;
-        window_sidelobes(&window, baseline_d, plan.window_sidelobes)
+        // on a grid of two points per resolution element, not the search grid
+        // (periodogram::window): the alias notes need a few sidelobe frequencies to 0.5/T
+        strongest_window_sidelobes(series, &grid, plan.window_sidelobes, plan.algorithm)?
     } else {
         Vec::new()
     };
