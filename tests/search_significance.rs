@@ -117,3 +117,65 @@ fn log_probabilities_print_without_a_floor() {
     assert_eq!(baluev_log10_fap(1.0, &s, 5.0).unwrap(), f64::NEG_INFINITY);
     assert_eq!(baluev_log10_fap(0.0, &s, 5.0).unwrap(), 0.0);
 }
+
+/// A whole search (`survey::search::search_series`, exact GLS, the grid planned for the
+/// baseline) on an invented light curve whose top peak has a false-alarm probability near
+/// 1e-27, against astropy 8.0.2 on the same numbers and grid
+/// (tests/reference/search_fap_reference.csv, `LombScargle(...).false_alarm_probability(
+/// method="baluev")`; generator and README beside it): the same grid and peak, the power to
+/// 1e-9, and the report's log₁₀ false-alarm probability to 1e-5 in log₁₀ (the probability
+/// to 2.3e-5 relative; a power 1e-9 off moves it by ~3e-7). The report's plain probability
+/// is the same number, not floored, and its text keeps the digits.
+#[test]
+fn search_report_false_alarm_near_1e_minus_27_matches_astropy_in_log_space() {
+    use skyclock::survey::report::{format_false_alarm, period_search_report};
+    use skyclock::survey::search::{SearchPlan, search_series};
+    let rows = reference_tables::read("search_fap_series.csv");
+    let col = |name: &str| rows.iter().map(|r| reference_tables::f(r, name)).collect::<Vec<f64>>();
+    let s = Series::from_arrays(&col("time_d"), &col("value"), Some(&col("error"))).unwrap();
+    let reference = &reference_tables::read("search_fap_reference.csv")[0];
+    let mut plan = SearchPlan::sinusoid_up_to(10.0);
+    plan.algorithm = Algorithm::Exact;
+    let out = search_series(&s, &plan).unwrap();
+    let grid = out.spectrum.grid;
+    assert!((grid.start_per_day / reference_tables::f(reference, "grid_start_per_day") - 1.0).abs() < 1e-14);
+    assert!((grid.step_per_day / reference_tables::f(reference, "grid_step_per_day") - 1.0).abs() < 1e-14);
+    assert_eq!(grid.len, reference_tables::f(reference, "grid_count") as usize);
+    let top = &out.peaks[0];
+    assert_eq!(top.peak.grid_index, reference_tables::f(reference, "peak_index") as usize);
+    assert!((top.peak.power - reference_tables::f(reference, "power_astropy")).abs() < 1e-9);
+    let want_log10 = reference_tables::f(reference, "log10_fap_astropy");
+    assert!(want_log10 < -26.0 && want_log10 > -28.0, "the reference is the ~1e-27 case");
+    let report = period_search_report(&out, "sinusoid", "times as given", "2460000.0");
+    let peak = &report.result.peaks[0];
+    assert!(
+        (peak.log10_false_alarm_probability - want_log10).abs() < 1e-5,
+        "log10 FAP {} vs astropy {want_log10}",
+        peak.log10_false_alarm_probability
+    );
+    let astropy = reference_tables::f(reference, "fap_astropy");
+    assert!(
+        (peak.false_alarm_probability / astropy - 1.0).abs() < 3e-5,
+        "{} vs {astropy}",
+        peak.false_alarm_probability
+    );
+    let text = format_false_alarm(top.fap, top.log10_fap);
+    assert!(text.starts_with("1.5") && text.ends_with("e-27"), "{text}");
+    // in the JSON the field survives a round trip
+    let json = serde_json::to_string(&report).unwrap();
+    assert!(json.contains("\"log10_false_alarm_probability\":-26.79"), "{json}");
+}
+
+/// Below the smallest f64 the report's plain probability is 0 and its log₁₀ carries the
+/// value (same 50-digit mpmath reference as above, N = 2000, power 0.9: log₁₀ = −993.2).
+#[test]
+fn search_report_keeps_the_log_where_the_probability_underflows() {
+    use skyclock::survey::report::format_false_alarm;
+    let rows = reference_tables::read("baluev_fap.csv");
+    let r = rows.iter().find(|r| reference_tables::f(r, "log10_fap_mpmath") < -900.0).unwrap();
+    let s = reference_series(reference_tables::f(r, "n") as usize);
+    let log10 =
+        baluev_log10_fap(reference_tables::f(r, "power"), &s, reference_tables::f(r, "max_freq_per_day")).unwrap();
+    assert_eq!(10f64.powf(log10), 0.0);
+    assert_eq!(format_false_alarm(0.0, log10), "10^-993.2");
+}

@@ -425,7 +425,9 @@ def survey_batch(
     table ``sources``: ``source_id``, ``status``, ``message``, ``first_row``, ``points``,
     ``rows_dropped_nan``, ``baseline_d``, ``time_reference_bjd_tdb`` and per peak k
     ``period_d_k``, ``period_err_d_k``, ``freq_per_day_k``, ``power_k``,
-    ``false_alarm_probability_k``, ``amplitude_k``, ``alias_note_k``.
+    ``false_alarm_probability_k``, ``log10_false_alarm_probability_k`` (computed in log
+    space: its digits survive where the probability underflows), ``amplitude_k``,
+    ``alias_note_k``.
 
     ``method="cascade"`` (the default, as on the command line; name another ``method`` to
     run that one search instead) describes every source by a

@@ -86,7 +86,7 @@ struct Rows {
     dropped: Vec<Option<i64>>,
     baseline: Vec<f64>,
     epoch: Vec<f64>,
-    peaks: Vec<[Vec<f64>; 6]>,
+    peaks: Vec<[Vec<f64>; 7]>,
     alias: Vec<Vec<String>>,
     /// The cascade's description per source (method `cascade`).
     found: Vec<Option<skyclock::survey::cascade::Classification>>,
@@ -114,6 +114,7 @@ impl Rows {
                     c[3].push(p.map_or(f64::NAN, |p| fin(p.fap)));
                     c[4].push(p.map_or(f64::NAN, |p| fin(p.peak.amplitude)));
                     c[5].push(p.map_or(f64::NAN, |p| p.peak.freq_per_day));
+                    c[6].push(p.map_or(f64::NAN, |p| fin(p.log10_fap)));
                     self.alias[j].push(alias_text(o, j));
                 }
                 self.found.push(o.classification.clone());
@@ -263,12 +264,13 @@ pub fn survey_batch<'py>(
     d.set_item("time_reference_bjd_tdb", out.epoch.into_pyarray(py))?;
     for (j, (pc, alias)) in out.peaks.into_iter().zip(out.alias).enumerate() {
         let n = j + 1;
-        let [period, period_err, power, fap, amp, freq] = pc;
+        let [period, period_err, power, fap, amp, freq, log10_fap] = pc;
         d.set_item(format!("period_d_{n}"), period.into_pyarray(py))?;
         d.set_item(format!("period_err_d_{n}"), period_err.into_pyarray(py))?;
         d.set_item(format!("freq_per_day_{n}"), freq.into_pyarray(py))?;
         d.set_item(format!("power_{n}"), power.into_pyarray(py))?;
         d.set_item(format!("false_alarm_probability_{n}"), fap.into_pyarray(py))?;
+        d.set_item(format!("log10_false_alarm_probability_{n}"), log10_fap.into_pyarray(py))?;
         d.set_item(format!("amplitude_{n}"), amp.into_pyarray(py))?;
         d.set_item(format!("alias_note_{n}"), alias)?;
     }

@@ -121,3 +121,24 @@ def test_false_alarm_probability_against_astropy_baluev():
     # Both are the Baluev (2008) bound; they agree within 10 % where it is meaningful (< 0.5).
     assert 0.0 < reference < 0.5
     assert top["false_alarm_probability"] == pytest.approx(reference, rel=0.10)
+
+
+def test_false_alarm_probability_near_1e_minus_27_in_log_space():
+    # Invented curve whose top peak has a Baluev false-alarm probability near 1e-27 (far
+    # below the 1e-16 at which 1 - CDF loses its digits); reference astropy's
+    # false_alarm_probability(method="baluev") on the same power, compared in log10.
+    i = np.arange(400)
+    t = 2460000.0 + 0.05 * i + 0.02 * np.sin(1.7 * i)
+    err = np.ones(i.size)
+    y = 0.93 * np.sin(2 * np.pi * 1.37 * t) + np.random.default_rng(27).standard_normal(i.size)
+    result = skyclock.search_periods(t, y, err, max_freq_per_day=10.0, kernel="exact", peaks=1)
+    report = result.to_dict()["result"]
+    top = report["peaks"][0]
+    ls = LombScargle(t, y, err, fit_mean=True, center_data=True, normalization="standard")
+    fmin = report["grid"]["start_per_day"]
+    fmax = fmin + report["grid"]["step_per_day"] * (report["grid"]["frequencies"] - 1)
+    reference = ls.false_alarm_probability(top["power"], method="baluev", minimum_frequency=fmin,
+                                           maximum_frequency=fmax)
+    assert 1e-32 < reference < 1e-22
+    assert top["log10_false_alarm_probability"] == pytest.approx(np.log10(reference), abs=1e-6)
+    assert top["false_alarm_probability"] == pytest.approx(reference, rel=1e-5)

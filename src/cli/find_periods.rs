@@ -10,9 +10,9 @@ use polars::prelude::*;
 use super::common::{BrightnessArg, spinner, write_text};
 use super::light_curve_input::LightCurveArgs;
 use skyclock::periodogram::bls::BoxDurations;
-use skyclock::periodogram::significance::{BootstrapOptions, format_probability};
+use skyclock::periodogram::significance::BootstrapOptions;
 use skyclock::periodogram::{Algorithm, GridRequest};
-use skyclock::survey::report::period_search_report;
+use skyclock::survey::report::{format_false_alarm, period_search_report};
 use skyclock::survey::search::{SearchMethod, SearchPlan, describe_alias, search_series};
 use skyclock::table::{Provenance, Summary, write_table};
 
@@ -256,7 +256,7 @@ pub fn run(a: Args) -> Result<()> {
                 p.peak.period_d,
                 p.peak.period_err_d,
                 p.peak.power,
-                format_probability(p.fap),
+                format_false_alarm(p.fap, p.log10_fap),
                 if notes.is_empty() { String::new() } else { format!("  [{notes}]") }
             );
         }

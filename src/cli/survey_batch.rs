@@ -32,6 +32,7 @@ const EXAMPLE: &str = "Example (invented survey field):
   was decided. --method forces one method instead.
   One row per source: status (searched/skipped) and message, points, rows dropped, baseline,
   then for each peak k: period_d_k, period_err_d_k, power_k, false_alarm_probability_k,
+  log10_false_alarm_probability_k (computed in log space: digits kept below 1e-308),
   amplitude_k, alias_note_k. The rows of a source must be contiguous (sort by source id
   first); the table is streamed, so it may be larger than memory.
   Times in BJD_TDB (--clock bjd_tdb or bmjd_tdb) are used as is. Times in an observer clock
@@ -169,7 +170,7 @@ pub fn run(a: Args) -> Result<()> {
     let started = std::time::Instant::now();
     let mut rows = Rows { alias: vec![Vec::new(); k], ..Default::default() };
     let mut found: Vec<Option<skyclock::survey::cascade::Classification>> = Vec::new();
-    let mut peak_cols: Vec<[Vec<Option<f64>>; 6]> = (0..k).map(|_| Default::default()).collect();
+    let mut peak_cols: Vec<[Vec<Option<f64>>; 7]> = (0..k).map(|_| Default::default()).collect();
     let leap = LeapSecondTable::builtin();
     let mut first_problems: Vec<String> = Vec::new();
     // Sources skipped so far (the progress lines count searched and skipped apart).
@@ -195,6 +196,7 @@ pub fn run(a: Args) -> Result<()> {
                         peak_cols[j][3].push(p.and_then(|p| fin(p.fap)));
                         peak_cols[j][4].push(p.and_then(|p| fin(p.peak.amplitude)));
                         peak_cols[j][5].push(p.map(|p| p.peak.freq_per_day));
+                        peak_cols[j][6].push(p.and_then(|p| fin(p.log10_fap)));
                         rows.alias[j].push(alias_text(o, j));
                     }
                     found.push(o.classification.clone());
@@ -301,12 +303,13 @@ pub fn run(a: Args) -> Result<()> {
     ];
     for (j, pc) in peak_cols.into_iter().enumerate() {
         let n = j + 1;
-        let [period, period_err, power, fap, amp, freq] = pc;
+        let [period, period_err, power, fap, amp, freq, log10_fap] = pc;
         cols.push(Column::new(format!("period_d_{n}").into(), period));
         cols.push(Column::new(format!("period_err_d_{n}").into(), period_err));
         cols.push(Column::new(format!("freq_per_day_{n}").into(), freq));
         cols.push(Column::new(format!("power_{n}").into(), power));
         cols.push(Column::new(format!("false_alarm_probability_{n}").into(), fap));
+        cols.push(Column::new(format!("log10_false_alarm_probability_{n}").into(), log10_fap));
         cols.push(Column::new(format!("amplitude_{n}").into(), amp));
         cols.push(Column::new(format!("alias_note_{n}").into(), std::mem::take(&mut rows.alias[j])));
     }

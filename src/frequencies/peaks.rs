@@ -7,6 +7,7 @@
 use super::model::{Sinusoid, fit_sinusoids};
 use crate::periodogram::peaks::{Peak, annotate_aliases, local_maxima};
 use crate::periodogram::{SearchError, Series, Spectrum};
+use rayon::prelude::*;
 
 /// Options for [`describe_peaks`].
 #[derive(Debug, Clone, PartialEq)]
@@ -104,9 +105,23 @@ pub fn describe_peaks_with_fits(
     let t_base = series.baseline_d();
     let sep = options.min_separation_per_day.unwrap_or(1.0 / t_base);
     let idx = local_maxima(spectrum, options.count, sep);
-    let mut peaks = Vec::with_capacity(idx.len());
-    let mut fits = Vec::with_capacity(idx.len());
-    for k in idx {
+    // Each peak is refined on its own (in parallel: independent fits of the same series).
+    let described: Vec<(Peak, Option<RefinementFit>)> =
+        idx.par_iter().map(|&k| describe_one(series, spectrum, options, k)).collect();
+    let (mut peaks, fits): (Vec<Peak>, Vec<Option<RefinementFit>>) = described.into_iter().unzip();
+    let tol = options.alias_tolerance_per_day.unwrap_or(0.5 / t_base);
+    annotate_aliases(&mut peaks, tol, &options.window_sidelobes_per_day);
+    Ok(peaks.into_iter().zip(fits).collect())
+}
+
+/// The peak at grid index `k` of `spectrum`, refined per `options` (see [`describe_peaks`]).
+fn describe_one(
+    series: &Series,
+    spectrum: &Spectrum,
+    options: &PeakOptions,
+    k: usize,
+) -> (Peak, Option<RefinementFit>) {
+    {
         let f = spectrum.grid.freq_per_day(k);
         let amp0 = spectrum.amplitude.as_ref().map_or(0.0, |a| a[k]);
         let mut peak = Peak {
@@ -172,10 +187,6 @@ pub fn describe_peaks_with_fits(
                 }
             }
         }
-        peaks.push(peak);
-        fits.push(fit_note);
+        (peak, fit_note)
     }
-    let tol = options.alias_tolerance_per_day.unwrap_or(0.5 / t_base);
-    annotate_aliases(&mut peaks, tol, &options.window_sidelobes_per_day);
-    Ok(peaks.into_iter().zip(fits).collect())
 }

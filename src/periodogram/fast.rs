@@ -36,10 +36,9 @@ impl Default for FastOptions {
 /// A cached deconvolution table: (FFT length, τ bits, largest |k'|) and its values.
 type DeconvolutionTable = ((usize, u64, usize), std::sync::Arc<Vec<f64>>);
 
-/// Per-thread work arrays and FFT plans: reused across calls, so a batch of light curves
-/// on one grid allocates and plans once per worker thread.
+/// Per-thread work arrays: reused across calls, so a batch of light curves on one grid
+/// allocates once per worker thread.
 struct Workspace {
-    planner: FftPlanner<f64>,
     grid: Vec<Complex64>,
     fft_scratch: Vec<Complex64>,
     u: Vec<f64>,
@@ -50,13 +49,26 @@ struct Workspace {
 
 thread_local! {
     static WORK: std::cell::RefCell<Workspace> = std::cell::RefCell::new(Workspace {
-        planner: FftPlanner::new(),
         grid: Vec::new(),
         fft_scratch: Vec::new(),
         u: Vec::new(),
         h: Vec::new(),
         deconv: Vec::new(),
     });
+}
+
+/// FFT plans shared by every thread: planning a transform of 2²² points (twiddle factors,
+/// AVX kernels) costs several times the transform itself, so the two threads that transform
+/// the weight and data sums of one periodogram at the same time, and every worker of a batch,
+/// use one plan per length (the planner keeps them). The lock is held while a plan is made,
+/// so a second thread asking for the same length waits for it instead of planning it again.
+static PLANNER: std::sync::LazyLock<std::sync::Mutex<FftPlanner<f64>>> =
+    std::sync::LazyLock::new(|| std::sync::Mutex::new(FftPlanner::new()));
+
+/// The inverse FFT of length `nfft`, from the shared planner.
+fn inverse_plan(nfft: usize) -> std::sync::Arc<dyn rustfft::Fft<f64>> {
+    let mut planner = PLANNER.lock().unwrap_or_else(|poisoned| poisoned.into_inner());
+    planner.plan_fft_inverse(nfft)
 }
 
 /// Gridding parameters for `modes` output modes with options `opt`:
@@ -106,7 +118,7 @@ fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) 
     let modes = (kmax - kmin + 1) as usize;
     let kc = kmin + (modes as i64) / 2;
     let (nfft, msp, tau) = gridding_plan(modes, opt);
-    let Workspace { planner, grid, fft_scratch, u, h, .. } = &mut *ws;
+    let Workspace { grid, fft_scratch, u, h, .. } = &mut *ws;
     grid.clear();
     grid.resize(nfft, Complex64::new(0.0, 0.0));
     // exp(−q²/(4τ)) for q = −M_sp+1 ..= M_sp (index q + M_sp − 1).
@@ -140,7 +152,7 @@ fn nonuniform_sums(ws: &mut Workspace, kmin: i64, kmax: i64, opt: &FastOptions) 
             }
         }
     }
-    let fft = planner.plan_fft_inverse(nfft);
+    let fft = inverse_plan(nfft);
     let need = fft.get_inplace_scratch_len();
     if fft_scratch.len() < need {
         fft_scratch.resize(need, Complex64::new(0.0, 0.0));

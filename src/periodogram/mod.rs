@@ -23,6 +23,7 @@ pub mod series;
 pub mod significance;
 pub mod special;
 pub mod sums;
+pub mod window;
 
 pub use error::SearchError;
 pub use gls::{ClassicalLombScargle, GeneralisedLombScargle, MultiBandLombScargle, SpectralWindow};

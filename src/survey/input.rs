@@ -5,8 +5,9 @@ use crate::arrival::ReferencePoint;
 use crate::arrival::table::ClockSpec;
 use crate::constants::SECONDS_PER_DAY;
 use crate::periodogram::{LightCurve, SearchError, Series};
-use crate::table::{TableError, check_uncertainty, parse_cell_number};
+use crate::table::{TableError, check_uncertainty, map_text_cells, parse_cell_number};
 use crate::time::{Instant, LeapSecondTable, TimeScale, parse_time};
+use polars::prelude::DataFrame;
 
 /// Names of the columns that make a light curve.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -112,6 +113,29 @@ pub fn parse_barycentric_times(
         .collect()
 }
 
+/// [`parse_barycentric_times`] for column `column` of a table in memory, read in place
+/// (no text copy of the column; see [`map_text_cells`]).
+pub fn parse_barycentric_time_column(
+    df: &DataFrame,
+    clock: &ClockSpec,
+    file: &str,
+    column: &str,
+    leap: &LeapSecondTable,
+) -> Result<Vec<Option<Instant>>, TableError> {
+    if !is_barycentric_tdb(clock) {
+        return parse_barycentric_times(&[], clock, file, column, leap);
+    }
+    map_text_cells(df, file, column, |i, text| match text.filter(|s| !s.eq_ignore_ascii_case("nan")) {
+        None => Ok(None),
+        Some(s) => parse_time(s, clock.format, clock.scale, leap).map(Some).map_err(|e| TableError::Cell {
+            file: file.to_string(),
+            row: i + 1,
+            column: column.to_string(),
+            message: e.to_string(),
+        }),
+    })
+}
+
 /// The epoch used for a set of times: JD at noon (integral JD) of the first present time.
 pub fn epoch_for(times: &[Option<Instant>]) -> Option<Instant> {
     let first = times.iter().flatten().next()?;
@@ -137,11 +161,6 @@ pub fn assemble(
     file_row_of: &dyn Fn(usize) -> usize,
 ) -> Result<TableLightCurve, TableError> {
     let n = times.len();
-    let epoch = epoch_for(times).ok_or_else(|| TableError::File {
-        file: file.to_string(),
-        message: format!("column '{}' has no usable time: every cell is empty", columns.time),
-    })?;
-    let time_d: Vec<f64> = times.iter().map(|t| t.as_ref().map_or(f64::NAN, |t| days_since(t, &epoch))).collect();
     let mut value = Vec::with_capacity(n);
     for (i, v) in value_text.iter().enumerate() {
         value.push(numeric_cell(v.as_deref(), file, file_row_of(i), &columns.value)?);
@@ -153,6 +172,39 @@ pub fn assemble(
                 out.push(uncertainty_cell(v.as_deref(), file, file_row_of(i), name)?);
             }
             Some(out)
+        }
+        _ => None,
+    };
+    assemble_measured(file, columns, times, value, error, band_text, file_row_of)
+}
+
+/// [`assemble`] from values and uncertainties already read as numbers (NaN for a missing
+/// cell, e.g. by [`crate::table::measured_number_column`]): the vectors become the light
+/// curve's own, without another copy. A positive uncertainty outside the accepted range is
+/// an error naming file, row and column ([`check_uncertainty`]).
+pub fn assemble_measured(
+    file: &str,
+    columns: &LightCurveColumns,
+    times: &[Option<Instant>],
+    value: Vec<f64>,
+    error: Option<Vec<f64>>,
+    band_text: Option<&[Option<String>]>,
+    file_row_of: &dyn Fn(usize) -> usize,
+) -> Result<TableLightCurve, TableError> {
+    let n = times.len();
+    let epoch = epoch_for(times).ok_or_else(|| TableError::File {
+        file: file.to_string(),
+        message: format!("column '{}' has no usable time: every cell is empty", columns.time),
+    })?;
+    let time_d: Vec<f64> = times.iter().map(|t| t.as_ref().map_or(f64::NAN, |t| days_since(t, &epoch))).collect();
+    let error = match (error, &columns.error) {
+        (Some(e), Some(name)) => {
+            for (i, &v) in e.iter().enumerate() {
+                if v.is_finite() && v > 0.0 {
+                    check_uncertainty(v, "", file, file_row_of(i), name)?;
+                }
+            }
+            Some(e)
         }
         _ => None,
     };

@@ -6,10 +6,12 @@
 //! is corrected row by row with the arrival stage ([`correct_table`]: Rømer, Einstein and
 //! Shapiro delays at the observer given), then read. Every error names file, row and column.
 
-use super::input::{LightCurveColumns, TableLightCurve, assemble, is_barycentric_tdb, parse_barycentric_times};
+use super::input::{
+    LightCurveColumns, TableLightCurve, assemble_measured, is_barycentric_tdb, parse_barycentric_time_column,
+};
 use crate::arrival::table::{ClockSpec, ObserverSpec, TableRequest, correct_table};
 use crate::arrival::{DelayOptions, ReferenceData, Source};
-use crate::table::{TableError, read_table, text_column};
+use crate::table::{TableError, measured_number_column, read_table, text_column};
 use polars::prelude::DataFrame;
 use std::path::Path;
 
@@ -81,8 +83,7 @@ pub fn light_curve_from_frame(
     let mut warnings: Vec<crate::table::plausibility::TimeWarning>;
     let (times, note) = match single {
         Some((label, clock)) if is_barycentric_tdb(&clock) => {
-            let texts = text_column(df, &file, &columns.time)?;
-            let times = parse_barycentric_times(&texts, &clock, &file, &columns.time, &leap)?;
+            let times = parse_barycentric_time_column(df, &clock, &file, &columns.time, &leap)?;
             warnings =
                 crate::table::plausibility::check_times(&file, &columns.time, &clock.label(), clock.format, &times)?;
             warnings.extend(crate::table::plausibility::float_time_resolution(df, &file, &columns.time));
@@ -112,18 +113,18 @@ pub fn light_curve_from_frame(
             };
             let (corrected, correction) = correct_table(df, &file, &table_request, &corrector)?;
             warnings = correction.warnings;
-            let texts = text_column(&corrected, &file, "bjd_tdb")?;
             let bjd = clock_of("bjd_tdb")?;
             (
-                parse_barycentric_times(&texts, &bjd, &file, "bjd_tdb", &leap)?,
+                parse_barycentric_time_column(&corrected, &bjd, &file, "bjd_tdb", &leap)?,
                 format!("times carried from {said} to BJD_TDB for {} with {}", source.name, reference.ephemeris.name()),
             )
         }
     };
-    let values = text_column(df, &file, &columns.value)?;
-    let errors = columns.error.as_deref().map(|c| text_column(df, &file, c)).transpose()?;
+    // values and uncertainties straight from the table's numbers (no text round trip)
+    let values = measured_number_column(df, &file, &columns.value)?;
+    let errors = columns.error.as_deref().map(|c| measured_number_column(df, &file, c)).transpose()?;
     let bands = columns.band.as_deref().map(|c| text_column(df, &file, c)).transpose()?;
-    let mut lc = assemble(&file, columns, &times, &values, errors.as_deref(), bands.as_deref(), &|i| i + 1)?;
+    let mut lc = assemble_measured(&file, columns, &times, values, errors, bands.as_deref(), &|i| i + 1)?;
     lc.warnings = warnings;
     Ok((lc, note))
 }

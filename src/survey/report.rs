@@ -5,6 +5,7 @@
 use serde::{Deserialize, Serialize};
 
 use super::search::{SearchOutcome, describe_alias};
+use crate::periodogram::significance::{format_log10_probability, format_probability};
 use crate::table::summary::nan_as_null;
 
 /// The frequency grid searched.
@@ -117,9 +118,15 @@ pub struct PeakReport {
     pub phase_err_cycles: f64,
     /// Whether the least-squares refinement succeeded.
     pub refined: bool,
-    /// Analytic false-alarm probability (null where the method has none).
+    /// Analytic false-alarm probability (null where the method has none; 0 below the
+    /// smallest `f64`, ~1e-308: read `log10_false_alarm_probability` there).
     #[serde(with = "nan_as_null")]
     pub false_alarm_probability: f64,
+    /// log₁₀ of the false-alarm probability, computed in log space: keeps its digits where
+    /// the probability itself underflows (null where the method has none or for a perfect
+    /// fit, whose probability is exactly 0).
+    #[serde(with = "nan_as_null", default = "not_a_number")]
+    pub log10_false_alarm_probability: f64,
     /// Why this peak may be an alias of a stronger one.
     pub alias_notes: Vec<String>,
     /// How the uncertainties were obtained (model, reduced χ², any inflation); empty when
@@ -232,6 +239,7 @@ pub fn period_search_report(
                     phase_err_cycles: p.peak.phase_err_cycles,
                     refined: p.peak.refined,
                     false_alarm_probability: p.fap,
+                    log10_false_alarm_probability: if p.log10_fap.is_finite() { p.log10_fap } else { f64::NAN },
                     alias_notes: p.peak.aliases.iter().map(describe_alias).collect(),
                     uncertainty_basis: p.refinement.map_or_else(
                         || {
@@ -249,16 +257,15 @@ pub fn period_search_report(
     }
 }
 
-/// A false-alarm probability as text: "3.1e-5", "< 1e-16" below what a double-precision
-/// tail probability resolves, "n/a" where the method has none.
-pub fn format_false_alarm(p: f64) -> String {
-    if !p.is_finite() {
-        "n/a".to_string()
-    } else if p < crate::constants::PROBABILITY_FLOOR {
-        "< 1e-16".to_string()
-    } else {
-        format!("{p:.2e}")
-    }
+fn not_a_number() -> f64 {
+    f64::NAN
+}
+
+/// A peak's false-alarm probability as text, from its log₁₀ where that is known (no floor:
+/// "1.50e-27", and "10^-412.3" below the `f64` range) and from the probability otherwise
+/// ([`format_probability`]); "n/a" where the method has none.
+pub fn format_false_alarm(p: f64, log10_p: f64) -> String {
+    if log10_p.is_nan() { format_probability(p) } else { format_log10_probability(log10_p) }
 }
 
 #[cfg(test)]
@@ -266,10 +273,11 @@ mod tests {
     use super::format_false_alarm;
 
     #[test]
-    fn tiny_probabilities_are_bounds() {
-        assert_eq!(format_false_alarm(0.0), "< 1e-16");
-        assert_eq!(format_false_alarm(2e-30), "< 1e-16");
-        assert_eq!(format_false_alarm(0.0123), "1.23e-2");
-        assert_eq!(format_false_alarm(f64::NAN), "n/a");
+    fn tiny_probabilities_keep_their_digits() {
+        assert_eq!(format_false_alarm(1.5e-27, (1.5e-27f64).log10()), "1.50e-27");
+        assert_eq!(format_false_alarm(2e-30, f64::NAN), "2.00e-30");
+        assert_eq!(format_false_alarm(0.0, -412.34), "10^-412.3");
+        assert_eq!(format_false_alarm(0.0123, f64::NAN), "1.23e-2");
+        assert_eq!(format_false_alarm(f64::NAN, f64::NAN), "n/a");
     }
 }

@@ -11,11 +11,12 @@ use crate::periodogram::bls::{
 use crate::periodogram::dispersion::PhaseDispersion;
 use crate::periodogram::entropy::ConditionalEntropy;
 use crate::periodogram::multiharmonic::MultiHarmonic;
-use crate::periodogram::peaks::{Peak, window_sidelobes};
-use crate::periodogram::significance::{BootstrapOptions, baluev_fap, bootstrap_fap};
+use crate::periodogram::peaks::Peak;
+use crate::periodogram::significance::{BootstrapOptions, baluev_log10_fap, bootstrap_fap};
+use crate::periodogram::window::strongest_window_sidelobes;
 use crate::periodogram::{
     Algorithm, ClassicalLombScargle, GeneralisedLombScargle, GridRequest, MultiBandLombScargle, Periodogram,
-    SearchError, Series, SpectralWindow, Spectrum, plan_grid,
+    SearchError, Series, Spectrum, plan_grid,
 };
 
 /// The statistic searched.
@@ -117,8 +118,13 @@ pub struct RatedPeak {
     /// The refined, alias-annotated peak.
     pub peak: Peak,
     /// Analytic (Baluev 2008) FAP of a peak this high, where the method has one (NaN
-    /// otherwise); for the cascade, the winning model's FAP over its trials.
+    /// otherwise); for the cascade, the winning model's FAP over its trials. 0 where the
+    /// probability is below the smallest `f64` (~1e-308): see `log10_fap`.
     pub fap: f64,
+    /// log₁₀ of `fap`, computed in log space for the analytic probability
+    /// ([`baluev_log10_fap`]), so that it keeps its digits where `fap` underflows (NaN where
+    /// the method has none, −∞ for a perfect fit).
+    pub log10_fap: f64,
     /// How the peak's uncertainties were obtained (None when not refined by a fit; box
     /// peaks carry their σ from the Δχ² profile, see [`SearchOutcome::box_detection`]).
     pub refinement: Option<RefinementFit>,
@@ -234,8 +240,9 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
         }
     };
     let sidelobes = if plan.window_sidelobes > 0 {
-        let window = SpectralWindow { algorithm: plan.algorithm }.evaluate(series, &grid)?;
-        window_sidelobes(&window, baseline_d, plan.window_sidelobes)
+        // on a grid of two points per resolution element, not the search grid
+        // (periodogram::window): the alias notes need a few sidelobe frequencies to 0.5/T
+        strongest_window_sidelobes(series, &grid, plan.window_sidelobes, plan.algorithm)?
     } else {
         Vec::new()
     };
@@ -312,14 +319,19 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
         .into_iter()
         .enumerate()
         .map(|(j, (peak, refinement))| {
-            let fap = if j == 0 && cascade_fap.is_some() {
-                cascade_fap.unwrap_or(f64::NAN)
+            let log10_fap = if j == 0 && cascade_fap.is_some() {
+                cascade_fap.unwrap_or(f64::NAN).log10()
             } else if analytic && (0.0..=1.0).contains(&peak.power) {
-                baluev_fap(peak.power, series, fmax).unwrap_or(f64::NAN)
+                baluev_log10_fap(peak.power, series, fmax).unwrap_or(f64::NAN)
             } else {
                 f64::NAN
             };
-            RatedPeak { peak, fap, refinement }
+            let fap = if j == 0 && cascade_fap.is_some() {
+                cascade_fap.unwrap_or(f64::NAN)
+            } else {
+                10f64.powf(log10_fap).clamp(0.0, 1.0)
+            };
+            RatedPeak { peak, fap, log10_fap, refinement }
         })
         .collect::<Vec<_>>();
     let bootstrap = match (&plan.bootstrap, peaks.first()) {

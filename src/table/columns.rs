@@ -32,6 +32,84 @@ pub fn text_column(df: &DataFrame, file: &str, name: &str) -> Result<Vec<Option<
     Ok(ca.iter().map(|v| v.map(|s| s.trim().to_string()).filter(|s| !s.is_empty())).collect())
 }
 
+/// The cells of a column as text, handed to `cell` one by one without copying them (`None`
+/// for a null or empty cell; text trimmed), in row order: `cell(i, text)` gets the 0-based
+/// row index. A text column is read in place; a column of another type is first written as
+/// text as by [`text_column`]. The results are collected; the first error stops the visit.
+pub fn map_text_cells<T>(
+    df: &DataFrame,
+    file: &str,
+    name: &str,
+    mut cell: impl FnMut(usize, Option<&str>) -> Result<T, TableError>,
+) -> Result<Vec<T>, TableError> {
+    let col = get(df, file, name)?;
+    let text_error =
+        |message: String| TableError::Cell { file: file.to_string(), row: 0, column: name.to_string(), message };
+    let cast;
+    let col = if col.dtype() == &DataType::String {
+        col
+    } else {
+        cast = col.cast(&DataType::String).map_err(|e| text_error(format!("cannot be read as text: {e}")))?;
+        &cast
+    };
+    let ca = col.str().map_err(|e| text_error(e.to_string()))?;
+    let mut out = Vec::with_capacity(ca.len());
+    for (i, v) in ca.iter().enumerate() {
+        out.push(cell(i, v.map(str::trim).filter(|s| !s.is_empty()))?);
+    }
+    Ok(out)
+}
+
+/// A column of measured numbers (values, uncertainties) as `f64`, NaN for a null, empty or
+/// NaN cell (a missing value, for the caller to drop and count). A float or integer column
+/// is read from its numbers directly (no text round trip: the same values, since a float
+/// written as text by [`text_column`] reads back to the same `f64`); a text column is parsed
+/// cell by cell. An infinity or a number beyond ±[`MAX_ABS_CELL`] is an error naming file,
+/// row (1-based data row) and column (as [`parse_cell_number`]).
+pub fn measured_number_column(df: &DataFrame, file: &str, name: &str) -> Result<Vec<f64>, TableError> {
+    let col = get(df, file, name)?;
+    let cell_error = |i: usize, message: String| TableError::Cell {
+        file: file.to_string(),
+        row: i + 1,
+        column: name.to_string(),
+        message,
+    };
+    let check = |i: usize, v: f64| -> Result<f64, TableError> {
+        if v.is_nan() || (v.is_finite() && v.abs() <= MAX_ABS_CELL) {
+            Ok(v)
+        } else {
+            parse_cell_number(&v.to_string()).map_err(|CellNumberError(m)| cell_error(i, m))
+        }
+    };
+    if col.dtype().is_primitive_numeric() {
+        let cast;
+        let col = if col.dtype() == &DataType::Float64 {
+            col
+        } else {
+            cast =
+                col.cast(&DataType::Float64).map_err(|e| cell_error(0, format!("cannot be read as numbers: {e}")))?;
+            &cast
+        };
+        let ca = col.f64().map_err(|e| cell_error(0, e.to_string()))?;
+        let mut out = Vec::with_capacity(ca.len());
+        if let Ok(values) = ca.cont_slice() {
+            // one contiguous chunk without nulls: read in place
+            for (i, &v) in values.iter().enumerate() {
+                out.push(check(i, v)?);
+            }
+        } else {
+            for (i, v) in ca.iter().enumerate() {
+                out.push(check(i, v.unwrap_or(f64::NAN))?);
+            }
+        }
+        return Ok(out);
+    }
+    map_text_cells(df, file, name, |i, text| match text {
+        None => Ok(f64::NAN),
+        Some(s) => parse_cell_number(s).map_err(|CellNumberError(m)| cell_error(i, m)),
+    })
+}
+
 /// The largest magnitude accepted for a number read from a table cell: 1e50. Every fit and
 /// periodogram sums squares of values over weights 1/σ²; with |x| ≤ 1e50 and σ ≥ 1e-50
 /// (see [`MIN_UNCERTAINTY`]) a sum over 1e9 rows stays below 1e210, far inside `f64`

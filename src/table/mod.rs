@@ -13,8 +13,8 @@ pub mod summary;
 pub mod write;
 
 pub use columns::{
-    CellNumberError, MAX_ABS_CELL, MIN_UNCERTAINTY, check_uncertainty, float_column, optional_float_column,
-    parse_cell_number, text_column,
+    CellNumberError, MAX_ABS_CELL, MIN_UNCERTAINTY, check_uncertainty, float_column, map_text_cells,
+    measured_number_column, optional_float_column, parse_cell_number, text_column,
 };
 pub use error::TableError;
 pub use provenance::Provenance;
