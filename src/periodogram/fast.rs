@@ -48,13 +48,15 @@ struct Workspace {
 }
 
 thread_local! {
-    static WORK: std::cell::RefCell<Workspace> = std::cell::RefCell::new(Workspace {
-        grid: Vec::new(),
-        fft_scratch: Vec::new(),
-        u: Vec::new(),
-        h: Vec::new(),
-        deconv: Vec::new(),
-    });
+    static WORK: std::cell::RefCell<Workspace> = const {
+        std::cell::RefCell::new(Workspace {
+            grid: Vec::new(),
+            fft_scratch: Vec::new(),
+            u: Vec::new(),
+            h: Vec::new(),
+            deconv: Vec::new(),
+        })
+    };
 }
 
 /// FFT plans shared by every thread: planning a transform of 2²² points (twiddle factors,
