@@ -105,7 +105,7 @@ impl LeapSecondTable {
                     err(line_no, format!("expiry line '#@' needs NTP seconds, found '{}'", rest.trim()))
                 })?;
                 let mjd = NTP_EPOCH_MJD + ntp.div_euclid(86_400);
-                check_entry_mjd(mjd as f64).map_err(|m| err(line_no, format!("expiry line '#@': {m}")))?;
+                check_entry_mjd(mjd as f64, |m| err(line_no, format!("expiry line '#@': {m}")))?;
                 expiry_mjd = Some(mjd);
                 continue;
             }
@@ -113,7 +113,7 @@ impl LeapSecondTable {
                 if let Some(pos) = line.find("File expires on") {
                     expiry_mjd = parse_expiry_date(&line[pos + "File expires on".len()..]);
                     if let Some(mjd) = expiry_mjd {
-                        check_entry_mjd(mjd as f64).map_err(|m| err(line_no, format!("expiry date: {m}")))?;
+                        check_entry_mjd(mjd as f64, |m| err(line_no, format!("expiry date: {m}")))?;
                     }
                 }
                 continue;
@@ -136,7 +136,7 @@ impl LeapSecondTable {
                     let dat: f64 = fields[4]
                         .parse()
                         .map_err(|_| err(line_no, format!("'{}' is not TAI-UTC seconds", fields[4])))?;
-                    check_entry_mjd(mjd).map_err(|m| err(line_no, m))?;
+                    check_entry_mjd(mjd, |m| err(line_no, m))?;
                     (mjd.round() as i64, dat)
                 }
                 _ => {
@@ -146,7 +146,7 @@ impl LeapSecondTable {
                     ));
                 }
             };
-            check_entry_mjd(parsed.0 as f64).map_err(|m| err(line_no, m))?;
+            check_entry_mjd(parsed.0 as f64, |m| err(line_no, m))?;
             if !(parsed.1.is_finite() && parsed.1.abs() <= MAX_ABS_TAI_MINUS_UTC_S) {
                 return Err(err(
                     line_no,
@@ -227,13 +227,14 @@ impl LeapSecondTable {
 const MAX_ABS_TAI_MINUS_UTC_S: f64 = 1000.0;
 
 /// An entry's (or expiry's) MJD must be a day number from JD 0 to the end of AD 9999, the
-/// span of every time this program reads (`time::format::MJD_ACCEPTED`).
-fn check_entry_mjd(mjd: f64) -> Result<(), String> {
+/// span of every time this program reads (`time::format::MJD_ACCEPTED`). `refuse` turns the
+/// description of the problem into the error of the line being read.
+fn check_entry_mjd(mjd: f64, refuse: impl FnOnce(String) -> TimeError) -> Result<(), TimeError> {
     let (low, high) = super::format::MJD_ACCEPTED;
     if mjd.is_finite() && (low..=high).contains(&mjd) {
         Ok(())
     } else {
-        Err(format!("MJD {mjd} is outside {low}…{high} (JD 0 to the end of AD 9999)"))
+        Err(refuse(format!("MJD {mjd} is outside {low}…{high} (JD 0 to the end of AD 9999)")))
     }
 }
 
