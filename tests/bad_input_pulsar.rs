@@ -263,7 +263,7 @@ fn barycentre_events_catalogue() {
             ("inf_time", Refused(&["row 8", "column 'time'", "'-inf'"])),
             ("unsorted", Accepted(&["corrected 400 events"])),
             ("duplicate", Accepted(&["corrected 400 events"])),
-            ("one_row", Accepted(&["corrected 1 events"])),
+            ("one_row", Accepted(&["corrected 1 event"])),
             ("two_rows", Accepted(&["corrected 2 events"])),
             ("far_future", Accepted(&["corrected 400 events"])),
             ("out_of_span", Refused(&["row 9", "column 'time'", "outside the valid range ±1e11 s"])),

@@ -81,7 +81,7 @@ fn barycentre_catalogue() {
             ("inf_value", Accepted(&["corrected 40 rows"])),
             ("unsorted", Accepted(&["corrected 40 rows"])),
             ("duplicate", Accepted(&["corrected 40 rows"])),
-            ("one_row", Accepted(&["corrected 1 rows"])),
+            ("one_row", Accepted(&["corrected 1 row"])),
             ("two_rows", Accepted(&["corrected 2 rows"])),
         ]),
     );

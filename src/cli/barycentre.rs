@@ -132,16 +132,16 @@ pub fn run(a: Args) -> Result<()> {
     } else if !a.quiet {
         let r = &summary.result;
         println!(
-            "corrected {} rows to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}\n  \
-             {} rows interpolated between exactly corrected nodes (≤ 1 ns from the exact correction), {} corrected one by one \
+            "corrected {} to BJD_TDB for {} → {}\n  total correction {:.6} … {:.6} s; ephemeris: {}\n  \
+             {} interpolated between exactly corrected nodes (≤ 1 ns from the exact correction), {} corrected one by one \
              ({} of them with precession–nutation and TDB − TT from daily nodes)",
-            r.correction.rows,
+            super::common::counted(r.correction.rows, "row", "rows"),
             source.name,
             a.output.display(),
             r.correction.min_total_correction_s,
             r.correction.max_total_correction_s,
             r.reference.ephemeris,
-            r.correction.rows_interpolated,
+            super::common::counted(r.correction.rows_interpolated, "row", "rows"),
             r.correction.rows - r.correction.rows_interpolated,
             r.correction.rows_with_interpolated_slow_terms,
         );

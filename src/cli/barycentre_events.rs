@@ -125,8 +125,8 @@ pub fn run(a: Args) -> Result<()> {
         println!("{}", Summary::new(result, provenance, inputs, outputs).to_json()?);
     } else if !a.quiet {
         println!(
-            "corrected {} events → {} (correction {:.6} … {:.6} s)",
-            result.events.events,
+            "corrected {} → {} (correction {:.6} … {:.6} s)",
+            super::common::counted(result.events.events, "event", "events"),
             a.output.display(),
             result.events.min_correction_s,
             result.events.max_correction_s

@@ -266,7 +266,6 @@ impl ObserverArgs {
 /// The note printed when no site was given.
 pub const GEOCENTRE_NOTE: &str = "note: no site given (--site, --site-coordinates, --site-column or --spacecraft-columns); times are taken as observed at the geocentre";
 
-/// Prints [`GEOCENTRE_NOTE`] on stderr unless `quiet`.
 /// Prints the library's warnings about the times read (always: `--quiet` keeps warnings).
 pub fn print_time_warnings(warnings: &[skyclock::table::plausibility::TimeWarning]) {
     for w in warnings {
@@ -274,6 +273,12 @@ pub fn print_time_warnings(warnings: &[skyclock::table::plausibility::TimeWarnin
     }
 }
 
+/// A count with its noun in the right number: `counted(1, "row", "rows")` is "1 row".
+pub fn counted(n: usize, singular: &str, plural: &str) -> String {
+    format!("{n} {}", if n == 1 { singular } else { plural })
+}
+
+/// Prints [`GEOCENTRE_NOTE`] on stderr unless `quiet`.
 pub fn note_geocentre(quiet: bool) {
     if !quiet {
         eprintln!("{GEOCENTRE_NOTE}");
