@@ -245,3 +245,68 @@ fn survey_batch_skips_a_source_whose_times_are_in_the_other_convention() {
         assert!(table.contains(f) || out.contains(f), "neither output nor stdout holds '{f}':\n{out}\n{table}");
     }
 }
+
+#[test]
+fn survey_batch_warns_once_for_the_field_about_far_times_and_a_coarse_float_column() {
+    // Two invented sources. As BMJD 900000 on (the year 4322): read, one warning for the
+    // whole field naming the years. As float64 JDs in Parquet (40.2 µs at JD 2.46e6): one
+    // warning with the fix. As modern text BJDs: no warning.
+    let field = |offset: f64| {
+        let mut source = Vec::new();
+        let mut time = Vec::new();
+        let mut mag = Vec::new();
+        for name in ["Alder-1", "Birch-2"] {
+            for i in 0..80 {
+                let t = i as f64 * 0.173;
+                source.push(name.to_string());
+                time.push(offset + t);
+                mag.push(12.0 + 0.2 * (std::f64::consts::TAU * t / 0.61).sin());
+            }
+        }
+        (source, time, mag)
+    };
+    let csv = |offset: f64| {
+        let (source, time, mag) = field(offset);
+        let mut s = String::from("source,time,mag\n");
+        for ((n, t), m) in source.iter().zip(&time).zip(&mag) {
+            s.push_str(&format!("{n},{t:.6},{m:.5}\n"));
+        }
+        s
+    };
+    let d = folder("plaus_survey_field", &[("far.csv", csv(900_000.0)), ("modern.csv", csv(60_100.0))]);
+    let (source, time, mag) = field(2_460_100.0);
+    let mut df = df!("source" => source, "time" => time, "mag" => mag).unwrap();
+    ParquetWriter::new(std::fs::File::create(d.join("jd.parquet")).unwrap()).finish(&mut df).unwrap();
+    let args = |input: &str, clock: &str| {
+        owned(&[
+            "survey-batch",
+            "--input",
+            input,
+            "--time-column",
+            "time",
+            "--clock",
+            clock,
+            "--value-column",
+            "mag",
+            "--max-freq-per-day",
+            "5",
+            "--output",
+            "o.csv",
+        ])
+    };
+    let (ok, out, err) = run(&d, &args("far.csv", "bmjd_tdb"));
+    assert!(ok, "{err}");
+    assert!(out.contains("2 sources (2 searched, 0 skipped)"), "{out}");
+    for f in ["warning: far.csv, column 'time'", "read as bmjd_tdb lie in the years 4322 … 4323", "clock label"] {
+        assert!(err.contains(f), "stderr lacks '{f}':\n{err}");
+    }
+    assert_eq!(err.matches("warning:").count(), 1, "{err}");
+    let (ok, _, err) = run(&d, &args("jd.parquet", "bjd_tdb"));
+    assert!(ok, "{err}");
+    for f in ["warning: jd.parquet, column 'time'", "resolves only 40.2 µs", "two columns"] {
+        assert!(err.contains(f), "stderr lacks '{f}':\n{err}");
+    }
+    assert_eq!(err.matches("warning:").count(), 1, "{err}");
+    let (ok, _, err) = run(&d, &args("modern.csv", "bmjd_tdb"));
+    assert!(ok && !err.contains("warning"), "{err}");
+}

@@ -253,6 +253,7 @@ pub fn survey_batch<'py>(
             summary.map(|s| (s, out, first_problems))
         })
         .map_err(crate::convert::error)?;
+    crate::convert::warn_times(py, &summary.warnings)?;
     let d = PyDict::new(py);
     d.set_item("source_id", out.id)?;
     d.set_item("status", out.status)?;

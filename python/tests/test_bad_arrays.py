@@ -93,3 +93,29 @@ def test_times_far_from_the_modern_era_raise_a_warning():
     # JDs under an MJD label are refused with the label to use.
     with pytest.raises(SkyclockError, match=r"use the clock label 'bjd_tdb'"):
         skyclock.search_periods(t, y, e, clock="bmjd_tdb", max_freq_per_day=5.0)
+
+
+def test_survey_batch_warns_once_for_a_field_far_from_the_modern_era():
+    # Two invented sources at BMJD 900000 on (the year 4322): searched, one UserWarning for
+    # the field naming the label and the years; the same field at BMJD 60100 gives none.
+    import warnings
+
+    import pandas as pd
+
+    i = np.arange(80)
+    t = np.tile(i * 0.173, 2)
+    field = pd.DataFrame(
+        {
+            "source": ["Alder-1"] * 80 + ["Birch-2"] * 80,
+            "time": t,
+            "mag": 12.0 + 0.2 * np.sin(2 * np.pi * t / 0.61),
+        }
+    )
+    far = field.assign(time=field["time"] + 900000.0)
+    with pytest.warns(UserWarning, match=r"read as bmjd_tdb lie in the years 4322") as caught:
+        skyclock.survey_batch(far, value_column="mag", clock="bmjd_tdb", max_freq_per_day=5.0)
+    assert sum("lie in the years" in str(w.message) for w in caught) == 1
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        skyclock.survey_batch(field.assign(time=field["time"] + 60100.0), value_column="mag", clock="bmjd_tdb",
+                              max_freq_per_day=5.0)

@@ -238,7 +238,7 @@ pub fn run(a: Args) -> Result<()> {
             let skipped = skipped_so_far.get().min(done);
             eprintln!(
                 "survey-batch: {} ({} searched, {} skipped), {:.0} % of the input read, {:.1} s",
-                count_of(done, "source", "sources"),
+                super::common::counted(done, "source", "sources"),
                 done - skipped,
                 skipped,
                 100.0 * fraction,
@@ -291,6 +291,7 @@ pub fn run(a: Args) -> Result<()> {
         &progress,
     )?;
     pb.finish_and_clear();
+    super::common::print_time_warnings(&summary.warnings);
     let mut cols = vec![
         Column::new("source_id".into(), std::mem::take(&mut rows.id)),
         Column::new("status".into(), std::mem::take(&mut rows.status)),
@@ -340,10 +341,10 @@ pub fn run(a: Args) -> Result<()> {
     } else if !a.quiet {
         println!(
             "{} ({} searched, {} skipped) from {} in {:.1} s → {}",
-            count_of(summary.sources, "source", "sources"),
+            super::common::counted(summary.sources, "source", "sources"),
             summary.searched,
             summary.skipped,
-            count_of(summary.rows, "row", "rows"),
+            super::common::counted(summary.rows, "row", "rows"),
             seconds,
             a.output.display()
         );
@@ -368,9 +369,4 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     Ok(())
-}
-
-/// `n` with the singular or plural noun ("1 source", "3 sources").
-fn count_of(n: usize, one: &str, many: &str) -> String {
-    format!("{n} {}", if n == 1 { one } else { many })
 }

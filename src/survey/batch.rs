@@ -75,6 +75,11 @@ pub trait RowStream {
     /// The most data rows this reader has held in memory at once so far (1 for a reader
     /// that goes line by line; the largest slice for a Parquet reader).
     fn peak_rows_buffered(&self) -> usize;
+    /// Warnings about how the time column is stored, found while reading
+    /// ([`crate::table::plausibility::float_time_resolution`]; none for text tables).
+    fn storage_warnings(&self) -> Vec<crate::table::plausibility::TimeWarning> {
+        Vec::new()
+    }
 }
 
 /// How much of an input has been read: `done` of `total` units (bytes or rows).
@@ -251,6 +256,8 @@ pub struct ParquetRows {
     done_counter: std::sync::Arc<std::sync::atomic::AtomicU64>,
     slice_rows: usize,
     peak_rows: usize,
+    /// The coarsest float resolution of the time column met in the slices read so far.
+    coarse_time: Option<crate::table::plausibility::TimeWarning>,
 }
 
 impl ParquetRows {
@@ -293,6 +300,7 @@ impl ParquetRows {
             done_counter: Default::default(),
             slice_rows: slice_rows.max(1),
             peak_rows: 0,
+            coarse_time: None,
         })
     }
 }
@@ -315,6 +323,15 @@ impl RowStream for ParquetRows {
                 break;
             }
             self.peak_rows = self.peak_rows.max(n);
+            use crate::table::plausibility::{TimeWarning, float_time_resolution};
+            let resolution = |w: &Option<TimeWarning>| match w {
+                Some(TimeWarning::CoarseFloatColumn { resolution_us, .. }) => *resolution_us,
+                _ => 0.0,
+            };
+            let here = float_time_resolution(&df, &self.file, &self.columns[1]);
+            if resolution(&here) > resolution(&self.coarse_time) {
+                self.coarse_time = here;
+            }
             let mut text = Vec::new();
             for c in &self.columns {
                 let col = df.column(c).map_err(|e| fail(e.to_string()))?;
@@ -346,6 +363,9 @@ impl RowStream for ParquetRows {
     }
     fn peak_rows_buffered(&self) -> usize {
         self.peak_rows
+    }
+    fn storage_warnings(&self) -> Vec<crate::table::plausibility::TimeWarning> {
+        self.coarse_time.iter().cloned().collect()
     }
 }
 
@@ -492,6 +512,10 @@ pub struct BatchSummary {
     /// search, the sources gathering into the next batch and the source being read.
     /// Bounded by 3 × (`batch_points` + the longest source).
     pub peak_points_held: usize,
+    /// Warnings about the times of the whole field ([`crate::table::plausibility`]: times
+    /// far from the modern era for their clock label, a coarse floating-point time column).
+    #[serde(default)]
+    pub warnings: Vec<crate::table::plausibility::TimeWarning>,
 }
 
 /// Result of `survey-batch`: the counts of a batch, the first problems met and the
@@ -523,6 +547,10 @@ struct Grouper<'a> {
     peak_points: usize,
     /// Times are in a non-barycentric clock and are carried per source.
     carry: bool,
+    /// The span of the times read (for the field's plausibility warnings).
+    span: crate::table::plausibility::TimeSpanCheck,
+    /// The clock label of the times (`options.clock`), written once.
+    clock_label: String,
 }
 
 impl Grouper<'_> {
@@ -605,6 +633,7 @@ impl Grouper<'_> {
                             s.problem = Some(format!("{file}, row {}, column '{}': {m}", c.row, columns.time));
                             return finished;
                         }
+                        self.span.record(c.row, &self.clock_label, clock.format, &inst);
                         Some(inst)
                     }
                     Err(e) => {
@@ -624,6 +653,7 @@ impl Grouper<'_> {
                         s.problem = Some(format!("{file}, row {}, column '{}': {m}", c.row, columns.time));
                         return finished;
                     }
+                    self.span.record(c.row, &self.clock_label, clock.format, &inst);
                     let epoch = *s.epoch.get_or_insert_with(|| {
                         let (a, b) = inst.jd_two_part();
                         Instant::from_jd_two_part(TimeScale::Tdb, (a + b).floor(), 0.0)
@@ -841,6 +871,8 @@ pub fn run_batch_with_arrival(
         rows: 0,
         peak_points: 0,
         carry: !barycentric,
+        span: crate::table::plausibility::TimeSpanCheck::new(file, &columns.time),
+        clock_label: options.clock.label(),
     };
     let batch_points = options.batch_points.max(1);
     let read = rows.progress();
@@ -914,6 +946,10 @@ pub fn run_batch_with_arrival(
     if summary.rows == 0 {
         return Err(TableError::Empty { file: file.to_string() });
     }
+    // Rows in the other day-number convention were refused source by source above, so the
+    // check only has warnings left to give.
+    summary.warnings = g.span.finish()?;
+    summary.warnings.extend(rows.storage_warnings());
     Ok(summary)
 }
 
