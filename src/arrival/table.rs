@@ -575,10 +575,20 @@ impl AddedColumns {
     }
 }
 
+/// Blocks up to which [`correct_text_table_in_blocks`] keeps the blocks of its first pass in
+/// memory for the second instead of reading the file again (two blocks of the default
+/// 2¹⁶ rows hold the 10⁵ rows of a night-by-night table, ~10 MB with a few columns).
+const RETAINED_BLOCKS: usize = 2;
+
+/// Rows corrected at a time within a block by [`correct_text_table_in_blocks`].
+const CORRECTED_RUN_ROWS: usize = 4096;
+
 /// Corrects the CSV/TSV table `input` to BJD_TDB and writes `output` (CSV/TSV) block by
-/// block: memory is bounded by `block_rows`, not by the file. The file is read twice: once
-/// for the times (the plan of [`CorrectionPlan`], made from the same [`KeyCounts`] as for
-/// the whole table), then for correcting and writing each block. The output is byte for
+/// block: memory is bounded by a few blocks of `block_rows`, not by the file. The rows
+/// pass twice: once for the times (the plan of [`CorrectionPlan`], made from the same
+/// [`KeyCounts`] as for the whole table), then for correcting and writing each block; a
+/// file of more than [`RETAINED_BLOCKS`] blocks is read twice, a smaller one is kept in
+/// memory between the passes. The output is byte for
 /// byte what [`correct_table_along`] and [`crate::table::write_table`] write for the same
 /// input, the errors are the same (first bad row, with file, row and column), and nothing
 /// is left behind on an error (the output is written atomically, with `provenance` in its
@@ -607,6 +617,9 @@ pub fn correct_text_table_in_blocks(
     let mut rows = 0;
     let mut readable: Option<usize> = None;
     let mut check = TimeSpanCheck::new(&file, &request.time_column);
+    // The blocks of a small table are kept from the first pass for the second (no second
+    // reading and parsing); a larger one is read again, so that memory stays bounded.
+    let mut retained: Option<Vec<(usize, DataFrame, ParsedRows)>> = Some(Vec::new());
     while let Some((first, df)) = reader.next_block()? {
         let block = parse_rows(&df, &file, request, corrector, first)?;
         if readable.is_none() {
@@ -619,22 +632,50 @@ pub fn correct_text_table_in_blocks(
             }
         }
         rows += df.height();
-        observers = block.observers;
+        observers.clone_from(&block.observers);
+        if let Some(blocks) = retained.as_mut() {
+            blocks.push((first, df, block));
+            if blocks.len() > RETAINED_BLOCKS {
+                retained = None;
+            }
+        }
     }
     let warnings = check.finish()?;
     let plan = CorrectionPlan::new(corrector, &observers, &counts, path);
     // Second pass: correct and write block by block.
-    reader.rewind()?;
+    let mut retained = retained.map(Vec::into_iter);
+    if retained.is_none() {
+        reader.rewind()?;
+    }
+    let mut next_block = || -> Result<Option<(usize, DataFrame, ParsedRows)>, TableError> {
+        if let Some(blocks) = retained.as_mut() {
+            return Ok(blocks.next());
+        }
+        match reader.next_block()? {
+            Some((first, df)) => {
+                let block = parse_rows(&df, &file, request, corrector, first)?;
+                Ok(Some((first, df, block)))
+            }
+            None => Ok(None),
+        }
+    };
     let mut writer = CsvBlockWriter::create(output, &[input])?;
     let mut summary = RunningSummary::new(rows);
     summary.summary.warnings = warnings;
-    while let Some((first, df)) = reader.next_block()? {
-        let block = parse_rows(&df, &file, request, corrector, first)?;
-        let results = plan.correct(&block.rows);
+    let mut text = AddedText::default();
+    while let Some((first, df, block)) = next_block()? {
         let height = df.height();
         if one_line_per_row(&df) {
-            let mut text = AddedText { rows: Vec::with_capacity(block.rows.len()) };
-            summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut text)?;
+            // Corrected a run of rows at a time, so that the corrections in flight stay
+            // small (and in cache); the text values of the block are gathered in one
+            // buffer kept from block to block.
+            text.rows.clear();
+            for start in (0..block.rows.len()).step_by(CORRECTED_RUN_ROWS) {
+                let run = start..(start + CORRECTED_RUN_ROWS).min(block.rows.len());
+                let results = plan.correct(&block.rows[run.clone()]);
+                let (rows, clocks) = (&block.rows[run.clone()], &block.clocks[run]);
+                summary.add_block(&file, request, corrector, first + start, rows, clocks, results, &mut text)?;
+            }
             if let Some(e) = block.unreadable {
                 return Err(e);
             }
@@ -645,6 +686,7 @@ pub fn correct_text_table_in_blocks(
                 text.write_fields(row, count, separator, &labels, out)
             })?;
         } else {
+            let results = plan.correct(&block.rows);
             let mut columns = AddedColumns::with_capacity(block.rows.len());
             summary.add_block(&file, request, corrector, first, &block.rows, &block.clocks, results, &mut columns)?;
             if let Some(e) = block.unreadable {

@@ -74,7 +74,7 @@ impl CsvBlockReader {
         };
         reader.read_header()?;
         // Column types from the first records, with the text columns forced to strings.
-        let mut sample = Vec::new();
+        let mut sample = reader.header.clone();
         let inferred = reader.next_records(&mut sample, SCHEMA_INFERENCE_ROWS)?;
         let mut overwrite = Schema::default();
         for c in text_columns {
@@ -114,7 +114,7 @@ impl CsvBlockReader {
         if self.done {
             return Ok(None);
         }
-        let mut bytes = Vec::new();
+        let mut bytes = self.header.clone();
         let records = self.next_records(&mut bytes, self.block_rows)?;
         if records < self.block_rows {
             self.done = true;
@@ -143,11 +143,8 @@ impl CsvBlockReader {
             .map_parse_options(|p| p.with_separator(separator).with_comment_prefix(Some("#")))
     }
 
-    fn parse(&self, options: CsvReadOptions, body: Vec<u8>) -> Result<DataFrame, TableError> {
-        let mut bytes = Vec::with_capacity(self.header.len() + body.len());
-        bytes.extend_from_slice(&self.header);
-        bytes.extend_from_slice(&body);
-        drop(body);
+    /// Parses `bytes`: the header record followed by data records.
+    fn parse(&self, options: CsvReadOptions, bytes: Vec<u8>) -> Result<DataFrame, TableError> {
         options.into_reader_with_file_handle(Cursor::new(bytes)).finish().map_err(|e| TableError::File {
             file: self.file_name(),
             message: format!("cannot read as {}: {e}", if self.separator == b'\t' { "TSV" } else { "CSV" }),
@@ -191,13 +188,22 @@ impl CsvBlockReader {
     fn next_records(&mut self, out: &mut Vec<u8>, limit: usize) -> Result<usize, TableError> {
         let mut records = 0;
         let mut quotes = 0usize;
-        while records < limit && self.read_line()? {
-            out.extend_from_slice(&self.line);
+        while records < limit {
+            // Read straight into `out` (no copy through a line buffer).
+            let start = out.len();
+            let n = self
+                .reader
+                .read_until(b'\n', out)
+                .map_err(|e| TableError::File { file: self.file_name(), message: format!("cannot read: {e}") })?;
+            if n == 0 {
+                break;
+            }
+            let line = &out[start..];
             let continuing = !quotes.is_multiple_of(2);
-            if !continuing && is_blank_or_comment(&self.line) {
+            if !continuing && is_blank_or_comment(line) {
                 continue;
             }
-            quotes += self.line.iter().filter(|&&b| b == b'"').count();
+            quotes += line.iter().filter(|&&b| b == b'"').count();
             if quotes.is_multiple_of(2) {
                 records += 1;
                 quotes = 0;
@@ -212,11 +218,13 @@ impl CsvBlockReader {
 
 /// A file written by a thread of its own, so that the kernel's copying of one block into
 /// the file overlaps the work on the next; at most [`BackgroundFile::IN_FLIGHT`] buffers
-/// wait at a time. [`BackgroundFile::finish`] waits for the thread, which flushes the file
-/// to disk, and hands back the first write error.
+/// wait at a time. Written buffers come back emptied for [`BackgroundFile::buffer`] to hand
+/// out again (fresh memory costs a page fault per 4 KiB on first touch). [`BackgroundFile::finish`]
+/// waits for the thread, which flushes the file to disk, and hands back the first write error.
 struct BackgroundFile {
     sender: Option<SyncSender<Vec<u8>>>,
     thread: Option<JoinHandle<std::io::Result<()>>>,
+    spare: Arc<std::sync::Mutex<Vec<Vec<u8>>>>,
 }
 
 impl BackgroundFile {
@@ -224,18 +232,33 @@ impl BackgroundFile {
 
     fn new(file: File) -> BackgroundFile {
         let (sender, receiver) = sync_channel::<Vec<u8>>(Self::IN_FLIGHT);
+        let spare = Arc::new(std::sync::Mutex::new(Vec::<Vec<u8>>::new()));
+        let returned = Arc::clone(&spare);
         let thread = std::thread::spawn(move || {
             let mut file = file;
             let mut result = Ok(());
-            for buffer in receiver {
+            for mut buffer in receiver {
                 if result.is_ok() {
                     result = file.write_all(&buffer);
+                }
+                buffer.clear();
+                if let Ok(mut spare) = returned.lock()
+                    && spare.len() < 2 * Self::IN_FLIGHT
+                {
+                    spare.push(buffer);
                 }
             }
             result?;
             file.sync_all()
         });
-        BackgroundFile { sender: Some(sender), thread: Some(thread) }
+        BackgroundFile { sender: Some(sender), thread: Some(thread), spare }
+    }
+
+    /// An empty buffer with room for `capacity` bytes, a written one where one is spare.
+    fn buffer(&self, capacity: usize) -> Vec<u8> {
+        let mut buffer = self.spare.lock().ok().and_then(|mut spare| spare.pop()).unwrap_or_default();
+        buffer.reserve(capacity);
+        buffer
     }
 
     /// Queues `buffer` to be written after the ones before it.
@@ -394,12 +417,13 @@ impl CsvBlockWriter {
         const RUN: usize = 4096;
         // Room for the appended fields of a row (13 delay and time columns: ~250 bytes).
         const FIELD_BYTES_PER_ROW: usize = 320;
+        let spare = &self.out;
         let runs: Vec<Vec<u8>> = body
             .par_chunks(RUN)
             .enumerate()
             .map(|(k, chunk)| {
                 let length: usize = chunk.iter().map(|l| l.len()).sum();
-                let mut out = Vec::with_capacity(length + chunk.len() * (FIELD_BYTES_PER_ROW + 1));
+                let mut out = spare.buffer(length + chunk.len() * (FIELD_BYTES_PER_ROW + 1));
                 for (r, line) in chunk.iter().enumerate() {
                     out.extend_from_slice(line);
                     append(k * RUN + r, 1, &mut out);

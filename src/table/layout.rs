@@ -172,11 +172,19 @@ pub fn check_delimited_file(path: &Path, sep: char) -> Result<(), TableError> {
         1 << 20,
         std::fs::File::open(path).map_err(|e| fail(format!("cannot open: {e}")))?,
     );
+    let mut reader = reader;
     let mut names: Option<Vec<String>> = None;
     let mut row = 0usize;
     let mut pending = String::new();
-    for line in reader.split(b'\n') {
-        let bytes = line.map_err(|e| fail(format!("cannot read: {e}")))?;
+    let mut bytes = Vec::new();
+    loop {
+        bytes.clear();
+        if reader.read_until(b'\n', &mut bytes).map_err(|e| fail(format!("cannot read: {e}")))? == 0 {
+            break;
+        }
+        if bytes.last() == Some(&b'\n') {
+            bytes.pop();
+        }
         let Ok(text) = std::str::from_utf8(&bytes) else {
             return Err(match names {
                 None => fail("the header is not UTF-8 text; save the table as UTF-8".into()),
@@ -190,6 +198,19 @@ pub fn check_delimited_file(path: &Path, sep: char) -> Result<(), TableError> {
         };
         let text = clean_line(text);
         if pending.is_empty() && (text.trim().is_empty() || text.starts_with('#')) {
+            continue;
+        }
+        // The common case, a data row on one line without quotes: only its number of
+        // fields can be wrong (the same check as `check_record` makes of it).
+        if pending.is_empty()
+            && let Some(names) = &names
+            && !text.contains('"')
+        {
+            row += 1;
+            let fields = text.matches(sep).count() + 1;
+            if fields != names.len() {
+                return Err(field_count_error(&file, row, fields, names));
+            }
             continue;
         }
         if !pending.is_empty() {

@@ -73,6 +73,18 @@ pub struct SplitDecimal {
     pub fraction: f64,
 }
 
+/// The value of `0.<digits>` (ASCII digits), correctly rounded as `str::parse` rounds it,
+/// without an allocation for the usual lengths.
+fn parse_fraction_digits(digits: &str) -> Option<f64> {
+    let mut text = [0u8; 64];
+    if digits.len() + 2 > text.len() {
+        return format!("0.{digits}").parse().ok();
+    }
+    text[..2].copy_from_slice(b"0.");
+    text[2..2 + digits.len()].copy_from_slice(digits.as_bytes());
+    std::str::from_utf8(&text[..2 + digits.len()]).ok()?.parse().ok()
+}
+
 /// Reads a decimal string such as `-12.5`, `2460000.123456789012` or `1.5e3` into whole and
 /// fractional parts, keeping every digit of the fraction (to `f64` relative precision of the
 /// fraction alone). Exponent notation falls back to `f64` parsing.
@@ -109,7 +121,7 @@ pub fn parse_split_decimal(text: &str) -> Option<SplitDecimal> {
         return None;
     }
     let whole: i64 = if int_str.is_empty() { 0 } else { int_str.parse().ok()? };
-    let fraction: f64 = if frac_str.is_empty() { 0.0 } else { format!("0.{frac_str}").parse().ok()? };
+    let fraction: f64 = if frac_str.is_empty() { 0.0 } else { parse_fraction_digits(frac_str)? };
     Some(if !negative {
         SplitDecimal { whole, fraction }
     } else if fraction == 0.0 {
@@ -142,9 +154,10 @@ fn parse_day_number(text: &str, format: TimeFormat, scale: TimeScale) -> Result<
             .to_string(),
     };
     let trimmed = text.trim();
-    let lowered = trimmed.trim_start_matches(['+', '-']).to_ascii_lowercase();
-    if lowered == "nan" || lowered == "inf" || lowered == "infinity" {
-        let value = if lowered == "nan" {
+    let unsigned = trimmed.trim_start_matches(['+', '-']);
+    let is = |word: &str| unsigned.eq_ignore_ascii_case(word);
+    if is("nan") || is("inf") || is("infinity") {
+        let value = if is("nan") {
             f64::NAN
         } else if trimmed.starts_with('-') {
             f64::NEG_INFINITY
@@ -157,12 +170,14 @@ fn parse_day_number(text: &str, format: TimeFormat, scale: TimeScale) -> Result<
     // character (its full UTF-8 length, so that a multi-byte first character is no slice
     // inside a character).
     let first_len = trimmed.chars().next().map_or(0, char::len_utf8);
-    let parts: Vec<&str> = match trimmed[first_len..].find(['+', ' ', '\t']) {
+    let two_parts: [&str; 2];
+    let parts: &[&str] = match trimmed[first_len..].find(['+', ' ', '\t']) {
         Some(pos) if !trimmed[..pos + first_len].contains(['e', 'E']) => {
             let (a, b) = trimmed.split_at(pos + first_len);
-            vec![a, b.trim_start_matches(['+', ' ', '\t'])]
+            two_parts = [a, b.trim_start_matches(['+', ' ', '\t'])];
+            &two_parts
         }
-        _ => vec![trimmed],
+        _ => std::slice::from_ref(&trimmed),
     };
     // The range, checked on the value as a float before any integer arithmetic.
     let offset_d = format.to_mjd_offset_halfdays() as f64 / 2.0;
@@ -173,7 +188,7 @@ fn parse_day_number(text: &str, format: TimeFormat, scale: TimeScale) -> Result<
     }
     let mut whole = 0_i64;
     let mut fraction = 0.0_f64;
-    for p in &parts {
+    for p in parts {
         let d = parse_split_decimal(p).ok_or_else(bad)?;
         whole += d.whole;
         fraction += d.fraction;
@@ -306,6 +321,16 @@ pub fn day_number_f64(t: &Instant, format: TimeFormat) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn fraction_digits_parse_as_the_standard_library_parses_them() {
+        // Reference: Rust's `str::parse::<f64>` (correctly rounded) on the same text, for
+        // short and long digit strings (the long ones take the allocating path).
+        for digits in ["5", "123456789", "99999999999999999999", &"31415926535".repeat(7)] {
+            let expected: f64 = format!("0.{digits}").parse().unwrap();
+            assert_eq!(parse_fraction_digits(digits), Some(expected), "{digits}");
+        }
+    }
 
     fn table() -> LeapSecondTable {
         LeapSecondTable::builtin()
