@@ -261,7 +261,8 @@ fn against_astropy(box_only: bool) {
 /// Runs `benches/astropy_box_cascade.py` on the files in `dir`: (box search s, cascade s
 /// or NaN when the field was not written, astropy version).
 fn astropy_reference(dir: &std::path::Path) -> (f64, f64, String) {
-    let out = std::process::Command::new("python3")
+    let python = std::env::var("SKYCLOCK_BENCH_PYTHON").unwrap_or_else(|_| "python3".into());
+    let out = std::process::Command::new(&python)
         .arg("benches/astropy_box_cascade.py")
         .arg(dir)
         .env("OMP_NUM_THREADS", "1")
@@ -269,7 +270,7 @@ fn astropy_reference(dir: &std::path::Path) -> (f64, f64, String) {
     let out = match out {
         Ok(o) if o.status.success() => String::from_utf8_lossy(&o.stdout).to_string(),
         Ok(o) => panic!("the astropy reference failed (pip install astropy): {}", String::from_utf8_lossy(&o.stderr)),
-        Err(e) => panic!("python3 not found for the astropy reference: {e}"),
+        Err(e) => panic!("{python} not found for the astropy reference: {e}"),
     };
     let value = |key: &str| -> f64 {
         out.lines()
