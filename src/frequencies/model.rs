@@ -7,7 +7,7 @@
 //! with σ_N the (weighted) rms of the residuals and T the baseline.
 
 use crate::fit::{LevenbergOptions, LsqModel, levenberg_marquardt};
-use crate::periodogram::sums::cis_cycles;
+use crate::periodogram::turns::cis_turns_many;
 use crate::periodogram::{SearchError, Series};
 use std::f64::consts::TAU;
 
@@ -91,29 +91,42 @@ fn linear_start(model: &Model, p: &mut [f64]) -> Option<f64> {
     let q = nb + 2 * nc;
     let mut ata = vec![0.0; q * q];
     let mut atb = vec![0.0; q];
-    let mut row = vec![0.0; q];
-    let mut syy = 0.0;
-    for i in 0..model.t.len() {
-        row.iter_mut().for_each(|v| *v = 0.0);
-        row[model.band[i]] = 1.0;
-        for k in 0..nc {
-            let (c, s) = cis_cycles(p[nb + 3 * k] * model.t[i]);
-            row[nb + 2 * k] = c;
-            row[nb + 2 * k + 1] = s;
-        }
-        let (w, y) = (model.w[i], model.y[i]);
-        syy += w * y * y;
-        for a in 0..q {
-            let wa = w * row[a];
-            if wa == 0.0 {
-                continue;
+    let syy = if nc == 1 {
+        one_sinusoid_normal_equations(model, p[nb], &mut ata, &mut atb)
+    } else {
+        let mut syy = 0.0;
+        let mut row = vec![0.0; q];
+        let mut phases = vec![0.0; 2 * nc * PHASE_CHUNK];
+        for start in (0..model.t.len()).step_by(PHASE_CHUNK) {
+            let len = PHASE_CHUNK.min(model.t.len() - start);
+            for (k, pair) in phases.chunks_exact_mut(2 * PHASE_CHUNK).enumerate() {
+                let (c, s) = pair.split_at_mut(PHASE_CHUNK);
+                cis_turns_many(p[nb + 3 * k], &model.t[start..start + len], c, s);
             }
-            atb[a] += wa * y;
-            for b in 0..=a {
-                ata[a * q + b] += wa * row[b];
+            for j in 0..len {
+                let i = start + j;
+                row.iter_mut().for_each(|v| *v = 0.0);
+                row[model.band[i]] = 1.0;
+                for k in 0..nc {
+                    row[nb + 2 * k] = phases[2 * k * PHASE_CHUNK + j];
+                    row[nb + 2 * k + 1] = phases[(2 * k + 1) * PHASE_CHUNK + j];
+                }
+                let (w, y) = (model.w[i], model.y[i]);
+                syy += w * y * y;
+                for a in 0..q {
+                    let wa = w * row[a];
+                    if wa == 0.0 {
+                        continue;
+                    }
+                    atb[a] += wa * y;
+                    for b in 0..=a {
+                        ata[a * q + b] += wa * row[b];
+                    }
+                }
             }
         }
-    }
+        syy
+    };
     for a in 0..q {
         for b in 0..a {
             ata[b * q + a] = ata[a * q + b];
@@ -130,6 +143,63 @@ fn linear_start(model: &Model, p: &mut [f64]) -> Option<f64> {
     }
     // χ² of the linear solution: Σ w y² − xᵀ(Aᵀ W y)
     Some((syy - atb.iter().zip(&rhs).map(|(x, r)| x * r).sum::<f64>()).max(0.0))
+}
+
+/// Points per batch of phases (cos and sin computed together, see [`cis_turns_many`]).
+const PHASE_CHUNK: usize = 512;
+
+/// The lower triangle of AᵀWA and AᵀWy of [`linear_start`] for one sinusoid at `freq`
+/// (columns: one zero point per band, then cos and sin), accumulated as per-band and
+/// joint sums in one pass; returns Σ w y². Same normal equations as the general loop.
+fn one_sinusoid_normal_equations(model: &Model, freq: f64, ata: &mut [f64], atb: &mut [f64]) -> f64 {
+    let nb = model.n_bands;
+    let q = nb + 2;
+    let (mut band_w, mut band_c, mut band_s, mut band_y) = (vec![0.0; nb], vec![0.0; nb], vec![0.0; nb], vec![0.0; nb]);
+    let (mut scc, mut scs, mut sss, mut syc, mut sys, mut syy) = (0.0, 0.0, 0.0, 0.0, 0.0, 0.0);
+    let (mut cos, mut sin) = ([0.0; PHASE_CHUNK], [0.0; PHASE_CHUNK]);
+    for start in (0..model.t.len()).step_by(PHASE_CHUNK) {
+        let end = (start + PHASE_CHUNK).min(model.t.len());
+        let len = end - start;
+        cis_turns_many(freq, &model.t[start..end], &mut cos, &mut sin);
+        let (w, y) = (&model.w[start..end], &model.y[start..end]);
+        for j in 0..len {
+            let (wc, ws) = (w[j] * cos[j], w[j] * sin[j]);
+            scc += wc * cos[j];
+            scs += wc * sin[j];
+            sss += ws * sin[j];
+            syc += wc * y[j];
+            sys += ws * y[j];
+            syy += w[j] * y[j] * y[j];
+        }
+        if nb == 1 {
+            for j in 0..len {
+                band_w[0] += w[j];
+                band_c[0] += w[j] * cos[j];
+                band_s[0] += w[j] * sin[j];
+                band_y[0] += w[j] * y[j];
+            }
+        } else {
+            for j in 0..len {
+                let b = model.band[start + j];
+                band_w[b] += w[j];
+                band_c[b] += w[j] * cos[j];
+                band_s[b] += w[j] * sin[j];
+                band_y[b] += w[j] * y[j];
+            }
+        }
+    }
+    for b in 0..nb {
+        ata[b * q + b] = band_w[b];
+        ata[nb * q + b] = band_c[b];
+        ata[(nb + 1) * q + b] = band_s[b];
+        atb[b] = band_y[b];
+    }
+    ata[nb * q + nb] = scc;
+    ata[(nb + 1) * q + nb] = scs;
+    ata[(nb + 1) * q + nb + 1] = sss;
+    atb[nb] = syc;
+    atb[nb + 1] = sys;
+    syy
 }
 
 /// For one sinusoid: moves the frequency of `p` to the minimum of the projected χ²(f)
@@ -199,29 +269,41 @@ impl LsqModel for Model<'_> {
         self.t.len()
     }
     fn predict(&self, p: &[f64], out: &mut [f64]) {
-        for (i, o) in out.iter_mut().enumerate() {
-            let mut v = p[self.band[i]];
+        for (o, &b) in out.iter_mut().zip(self.band) {
+            *o = p[b];
+        }
+        let (mut cos, mut sin) = ([0.0; PHASE_CHUNK], [0.0; PHASE_CHUNK]);
+        for start in (0..self.t.len()).step_by(PHASE_CHUNK) {
+            let end = (start + PHASE_CHUNK).min(self.t.len());
             for k in 0..self.n_comp {
                 let q = &p[self.n_bands + 3 * k..self.n_bands + 3 * k + 3];
-                let (c, s) = cis_cycles(q[0] * self.t[i]);
-                v += q[1] * c + q[2] * s;
+                cis_turns_many(q[0], &self.t[start..end], &mut cos, &mut sin);
+                for (j, o) in out[start..end].iter_mut().enumerate() {
+                    *o += q[1] * cos[j] + q[2] * sin[j];
+                }
             }
-            *o = v;
         }
     }
     fn jacobian(&self, p: &[f64], jac: &mut [f64]) {
         let np = self.n_params();
-        for i in 0..self.t.len() {
-            let row = &mut jac[i * np..(i + 1) * np];
+        for (i, row) in jac.chunks_exact_mut(np).take(self.t.len()).enumerate() {
             row.iter_mut().for_each(|v| *v = 0.0);
             row[self.band[i]] = 1.0;
+        }
+        let (mut cos, mut sin) = ([0.0; PHASE_CHUNK], [0.0; PHASE_CHUNK]);
+        for start in (0..self.t.len()).step_by(PHASE_CHUNK) {
+            let end = (start + PHASE_CHUNK).min(self.t.len());
             for k in 0..self.n_comp {
                 let q = &p[self.n_bands + 3 * k..self.n_bands + 3 * k + 3];
-                let (c, s) = cis_cycles(q[0] * self.t[i]);
-                let j = self.n_bands + 3 * k;
-                row[j] = TAU * self.t[i] * (-q[1] * s + q[2] * c);
-                row[j + 1] = c;
-                row[j + 2] = s;
+                cis_turns_many(q[0], &self.t[start..end], &mut cos, &mut sin);
+                let col = self.n_bands + 3 * k;
+                for (j, i) in (start..end).enumerate() {
+                    let row = &mut jac[i * np..(i + 1) * np];
+                    let (c, s) = (cos[j], sin[j]);
+                    row[col] = TAU * self.t[i] * (-q[1] * s + q[2] * c);
+                    row[col + 1] = c;
+                    row[col + 2] = s;
+                }
             }
         }
     }

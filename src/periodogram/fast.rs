@@ -59,18 +59,26 @@ thread_local! {
     };
 }
 
+/// A plan cell per FFT length, filled once.
+type PlanCell = std::sync::Arc<std::sync::OnceLock<std::sync::Arc<dyn rustfft::Fft<f64>>>>;
+
 /// FFT plans shared by every thread: planning a transform of 2²² points (twiddle factors,
 /// AVX kernels) costs several times the transform itself, so the two threads that transform
 /// the weight and data sums of one periodogram at the same time, and every worker of a batch,
-/// use one plan per length (the planner keeps them). The lock is held while a plan is made,
-/// so a second thread asking for the same length waits for it instead of planning it again.
-static PLANNER: std::sync::LazyLock<std::sync::Mutex<FftPlanner<f64>>> =
-    std::sync::LazyLock::new(|| std::sync::Mutex::new(FftPlanner::new()));
+/// use one plan per length. The map's lock is held only to find a length's cell; the plan is
+/// made in the cell, so a thread asking for a length being planned waits for it instead of
+/// planning it again, while plans of two different lengths (the sums at f and at 2f) are
+/// made at the same time on two threads.
+static PLANS: std::sync::LazyLock<std::sync::Mutex<std::collections::HashMap<usize, PlanCell>>> =
+    std::sync::LazyLock::new(Default::default);
 
-/// The inverse FFT of length `nfft`, from the shared planner.
+/// The inverse FFT of length `nfft`, from the shared plans.
 fn inverse_plan(nfft: usize) -> std::sync::Arc<dyn rustfft::Fft<f64>> {
-    let mut planner = PLANNER.lock().unwrap_or_else(|poisoned| poisoned.into_inner());
-    planner.plan_fft_inverse(nfft)
+    let cell = {
+        let mut plans = PLANS.lock().unwrap_or_else(|poisoned| poisoned.into_inner());
+        plans.entry(nfft).or_default().clone()
+    };
+    cell.get_or_init(|| FftPlanner::new().plan_fft_inverse(nfft)).clone()
 }
 
 /// Gridding parameters for `modes` output modes with options `opt`:
@@ -311,17 +319,23 @@ pub fn fast_sums(t: &[f64], w: &[f64], h: &[f64], grid: &FrequencyGrid, opt: &Fa
     let ratio = f0 / df;
     let j0 = ratio.round();
     let packed = (ratio - j0).abs() < 1e-9 && j0 <= m as f64;
-    let first = || {
-        if packed {
-            trig_sum_pair(t, w, h, j0 as usize, df, m, opt)
-        } else {
-            let ((c, s), (yc, ys)) = (trig_sum(t, real(w), f0, df, m, opt), trig_sum(t, real(h), f0, df, m, opt));
-            [c, s, yc, ys]
-        }
+    if gridding_plan(m, opt).0 >= PARALLEL_FFT_LEN {
+        // A large grid: three transforms of one length (the weights at f, the data at f,
+        // the weights at 2f), shared out among the threads. They share one FFT plan, where
+        // the packed form would need a second plan of twice the length (its twiddle
+        // factors cost about as much as the transform).
+        let ((c, s), (yc, ys)) =
+            rayon::join(|| trig_sum(t, real(w), f0, df, m, opt), || trig_sum(t, real(h), f0, df, m, opt));
+        let (c2, s2) = trig_sum(t, real(w), 2.0 * f0, 2.0 * df, m, opt);
+        return TrigSums { c, s, yc, ys, c2, s2 };
+    }
+    let [c, s, yc, ys] = if packed {
+        trig_sum_pair(t, w, h, j0 as usize, df, m, opt)
+    } else {
+        let ((c, s), (yc, ys)) = (trig_sum(t, real(w), f0, df, m, opt), trig_sum(t, real(h), f0, df, m, opt));
+        [c, s, yc, ys]
     };
-    let second = || trig_sum(t, real(w), 2.0 * f0, 2.0 * df, m, opt);
-    let ([c, s, yc, ys], (c2, s2)) =
-        if gridding_plan(m, opt).0 >= PARALLEL_FFT_LEN { rayon::join(first, second) } else { (first(), second()) };
+    let (c2, s2) = trig_sum(t, real(w), 2.0 * f0, 2.0 * df, m, opt);
     TrigSums { c, s, yc, ys, c2, s2 }
 }
 

@@ -23,6 +23,7 @@ pub mod series;
 pub mod significance;
 pub mod special;
 pub mod sums;
+pub(crate) mod turns;
 pub mod window;
 
 pub use error::SearchError;

@@ -183,69 +183,87 @@ pub fn search_series(series: &Series, plan: &SearchPlan) -> Result<SearchOutcome
     let multiband = series.n_bands() > 1;
     let mut box_run: Option<(crate::periodogram::bls::BoxSpectrum, BoxOptions)> = None;
     let mut classification = None;
-    let spectrum = match &plan.method {
-        SearchMethod::Sinusoid if multiband => {
-            MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
-        }
-        SearchMethod::Sinusoid => GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?,
-        SearchMethod::ClassicalSinusoid => {
-            ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
-        }
-        SearchMethod::Harmonics(k) => {
-            if *k == 0 || *k > 20 {
-                return Err(SearchError::InvalidParameter { name: "harmonics", value: *k as f64, expected: "1 to 20" });
-            }
-            MultiHarmonic { harmonics: *k }.evaluate(series, &grid)?
-        }
-        SearchMethod::PhaseDispersion(b) => {
-            if *b < 2 || *b > 1000 {
-                return Err(SearchError::InvalidParameter {
-                    name: "phase bins",
-                    value: *b as f64,
-                    expected: "2 to 1000",
-                });
-            }
-            PhaseDispersion { n_bins: *b }.evaluate(series, &grid)?
-        }
-        SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
-            if *phase_bins < 2 || *value_bins < 2 || *phase_bins > 1000 || *value_bins > 1000 {
-                return Err(SearchError::InvalidParameter {
-                    name: "entropy bins",
-                    value: (*phase_bins).min(*value_bins) as f64,
-                    expected: "2 to 1000 phase and value bins",
-                });
-            }
-            ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }.evaluate(series, &grid)?
-        }
-        SearchMethod::Box { durations, values_are_magnitudes } => {
-            let options = BoxOptions {
-                durations: durations.clone(),
-                bins_per_duration: DEFAULT_BINS_PER_DURATION,
-                values_are_magnitudes: *values_are_magnitudes,
-            };
-            BoxFitPeriodogram { options: options.clone() }.check_series(series)?;
-            let bs = box_search(series, &grid, &options)?;
-            let spectrum = Spectrum { grid: bs.grid, power: bs.power.clone(), amplitude: None, algorithm: None };
-            box_run = Some((bs, options));
-            spectrum
-        }
-        SearchMethod::Cascade(options) => {
-            let mut c = classify_series(series, &grid, plan.algorithm, plan.grid.memory_limit_bytes, options)?;
-            let spectrum = std::mem::replace(
-                &mut c.spectrum,
-                Spectrum { grid, power: Vec::new(), amplitude: None, algorithm: None },
-            );
-            classification = Some(c);
-            spectrum
+    // The spectral window (a grid of its own) is computed alongside the spectrum, on the
+    // thread the spectrum's transforms leave idle.
+    let window_sidelobes = || {
+        if plan.window_sidelobes > 0 {
+            // on a grid of two points per resolution element, not the search grid
+            // (periodogram::window): the alias notes need a few sidelobe frequencies to 0.5/T
+            strongest_window_sidelobes(series, &grid, plan.window_sidelobes, plan.algorithm)
+        } else {
+            Ok(Vec::new())
         }
     };
-    let sidelobes = if plan.window_sidelobes > 0 {
-        // on a grid of two points per resolution element, not the search grid
-        // (periodogram::window): the alias notes need a few sidelobe frequencies to 0.5/T
-        strongest_window_sidelobes(series, &grid, plan.window_sidelobes, plan.algorithm)?
-    } else {
-        Vec::new()
-    };
+    let (spectrum, sidelobes) = rayon::join(
+        || -> Result<Spectrum, SearchError> {
+            Ok(match &plan.method {
+                SearchMethod::Sinusoid if multiband => {
+                    MultiBandLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
+                }
+                SearchMethod::Sinusoid => {
+                    GeneralisedLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
+                }
+                SearchMethod::ClassicalSinusoid => {
+                    ClassicalLombScargle { algorithm: plan.algorithm }.evaluate(series, &grid)?
+                }
+                SearchMethod::Harmonics(k) => {
+                    if *k == 0 || *k > 20 {
+                        return Err(SearchError::InvalidParameter {
+                            name: "harmonics",
+                            value: *k as f64,
+                            expected: "1 to 20",
+                        });
+                    }
+                    MultiHarmonic { harmonics: *k }.evaluate(series, &grid)?
+                }
+                SearchMethod::PhaseDispersion(b) => {
+                    if *b < 2 || *b > 1000 {
+                        return Err(SearchError::InvalidParameter {
+                            name: "phase bins",
+                            value: *b as f64,
+                            expected: "2 to 1000",
+                        });
+                    }
+                    PhaseDispersion { n_bins: *b }.evaluate(series, &grid)?
+                }
+                SearchMethod::ConditionalEntropy { phase_bins, value_bins } => {
+                    if *phase_bins < 2 || *value_bins < 2 || *phase_bins > 1000 || *value_bins > 1000 {
+                        return Err(SearchError::InvalidParameter {
+                            name: "entropy bins",
+                            value: (*phase_bins).min(*value_bins) as f64,
+                            expected: "2 to 1000 phase and value bins",
+                        });
+                    }
+                    ConditionalEntropy { n_phase: *phase_bins, n_value: *value_bins }.evaluate(series, &grid)?
+                }
+                SearchMethod::Box { durations, values_are_magnitudes } => {
+                    let options = BoxOptions {
+                        durations: durations.clone(),
+                        bins_per_duration: DEFAULT_BINS_PER_DURATION,
+                        values_are_magnitudes: *values_are_magnitudes,
+                    };
+                    BoxFitPeriodogram { options: options.clone() }.check_series(series)?;
+                    let bs = box_search(series, &grid, &options)?;
+                    let spectrum =
+                        Spectrum { grid: bs.grid, power: bs.power.clone(), amplitude: None, algorithm: None };
+                    box_run = Some((bs, options));
+                    spectrum
+                }
+                SearchMethod::Cascade(options) => {
+                    let mut c = classify_series(series, &grid, plan.algorithm, plan.grid.memory_limit_bytes, options)?;
+                    let spectrum = std::mem::replace(
+                        &mut c.spectrum,
+                        Spectrum { grid, power: Vec::new(), amplitude: None, algorithm: None },
+                    );
+                    classification = Some(c);
+                    spectrum
+                }
+            })
+        },
+        window_sidelobes,
+    );
+    let spectrum = spectrum?;
+    let sidelobes = sidelobes?;
     let refine_harmonics = match &plan.method {
         SearchMethod::Harmonics(k) => (*k).clamp(1, 10),
         _ => DEFAULT_REFINE_HARMONICS,
