@@ -22,7 +22,7 @@
 //! every trial frequency's within 1.2 % of the peak's (the test allows 2 % and 5 %); the
 //! peaks are measured on the unbinned points ([`box_detection`]) in any case.
 
-use super::box_fold::{FoldKernel, PhaseFolder, Scratch, bin_in_time};
+use super::box_fold::{FOLD_GROUP, FoldKernel, PhaseFolder, Scratch, bin_in_time};
 use super::{FrequencyGrid, Periodogram, SearchError, Series, Spectrum};
 use rayon::prelude::*;
 
@@ -412,64 +412,43 @@ pub(crate) fn box_search_with(
         Some((times, sums)) => PhaseFolder::new(times, sums),
         None => PhaseFolder::new(&dt, &wpair),
     };
-    let rows: Vec<(f64, f64, f64, f64)> = (0..grid.len)
+    let groups = grid.len.div_ceil(FOLD_GROUP);
+    let grouped: Vec<[(f64, f64, f64, f64); FOLD_GROUP]> = (0..groups)
         .into_par_iter()
         .map_init(
-            || (Vec::<[f64; 2]>::new(), Vec::<[f64; 2]>::new(), Scratch::default(), Vec::<f64>::new()),
-            |(cumbuf, bins, scratch, durs), k| {
-                let f = grid.freq_per_day(k);
-                let p = 1.0 / f;
-                let nb = options.bins_at(p);
-                options.durations.at_period(p, durs);
-                let q_max =
-                    durs.iter().map(|&d| ((d / p * nb as f64).round() as usize).clamp(1, nb - 1)).max().unwrap_or(1);
-                folder.fold(f, nb, kernel, bins, scratch);
-                // prefix sums over the wrapped bins with a leading zero, as far as the longest
-                // box reaches: cw[b] = Σ_{j<b} w_bin[j mod nb], so a window [s, s+q) sums to
-                // cw[s+q] − cw[s]
-                let len = nb + q_max;
-                cumbuf.clear();
-                cumbuf.resize(len + 1, [0.0; 2]);
-                for b in 0..len {
-                    let j = if b < nb { b } else { b - nb };
-                    cumbuf[b + 1] = [cumbuf[b][0] + bins[j][0], cumbuf[b][1] + bins[j][1]];
+            || {
+                (
+                    Vec::<[f64; 2]>::new(),
+                    vec![Vec::<[f64; 2]>::new(); FOLD_GROUP],
+                    Scratch::default(),
+                    Vec::<f64>::new(),
+                )
+            },
+            |(cumbuf, bins, scratch, durs), g| {
+                // FOLD_GROUP neighbouring trial frequencies folded in one pass over the points
+                let k0 = g * FOLD_GROUP;
+                let count = FOLD_GROUP.min(grid.len - k0);
+                let (mut fs, mut nbs) = ([0.0; FOLD_GROUP], [0usize; FOLD_GROUP]);
+                for j in 0..count {
+                    fs[j] = grid.freq_per_day(k0 + j);
+                    nbs[j] = options.bins_at(1.0 / fs[j]);
                 }
-                let cum: &[[f64; 2]] = cumbuf;
-                // Best box by cross-multiplication (no division in the loop): keep the
-                // numerator sy² and denominator r(1−r) of the best statistic.
-                let (mut best_num, mut best_den) = (0.0f64, 1.0f64);
-                let (mut best_s, mut best_q, mut best_sy, mut best_r) = (0usize, 0usize, 0.0, 0.0);
-                for &d in durs.iter() {
-                    let q = ((d / p * nb as f64).round() as usize).clamp(1, nb - 1);
-                    // each duration's edges at a tenth (1/bins_per_duration) of itself: longer
-                    // boxes slide in longer strides over the fine bins
-                    let stride = (q / options.bins_per_duration).max(1);
-                    for (s, (lo, hi)) in cum[..nb].iter().zip(&cum[q..q + nb]).enumerate().step_by(stride) {
-                        let r = hi[0] - lo[0];
-                        let sy = hi[1] - lo[1];
-                        let den = r * (1.0 - r);
-                        let num = sy * sy;
-                        if sign * sy > 0.0 && r > 1e-12 && r < 1.0 - 1e-12 && num * best_den > best_num * den {
-                            best_num = num;
-                            best_den = den;
-                            best_s = s;
-                            best_q = q;
-                            best_sy = sy;
-                            best_r = r;
-                        }
-                    }
+                folder.fold_group(&fs[..count], &nbs[..count], kernel, bins, scratch);
+                let mut out = [(0.0, 0.0, 0.0, 0.0); FOLD_GROUP];
+                for j in 0..count {
+                    let p = 1.0 / fs[j];
+                    options.durations.at_period(p, durs);
+                    let best = best_box(&bins[j], p, durs, options.bins_per_duration, sign, cumbuf);
+                    out[j] = match best {
+                        Some((power, depth, duration, phase_time)) => (power * w_raw, depth, duration, t0 + phase_time),
+                        None => (0.0, 0.0, 0.0, 0.0),
+                    };
                 }
-                let best = if best_num > 0.0 {
-                    let mid = (best_s as f64 + 0.5 * best_q as f64) / nb as f64;
-                    let den = best_r * (1.0 - best_r);
-                    (best_num / den, best_sy.abs() / den, best_q as f64 * p / nb as f64, t0 + (mid - mid.floor()) * p)
-                } else {
-                    (0.0, 0.0, 0.0, 0.0)
-                };
-                (best.0 * w_raw, best.1, best.2, best.3)
+                out
             },
         )
         .collect();
+    let rows: Vec<(f64, f64, f64, f64)> = grouped.into_iter().flatten().take(grid.len).collect();
     Ok(BoxSpectrum {
         grid: *grid,
         power: rows.iter().map(|r| r.0).collect(),
@@ -477,6 +456,71 @@ pub(crate) fn box_search_with(
         duration_d: rows.iter().map(|r| r.2).collect(),
         epoch_d: rows.iter().map(|r| r.3).collect(),
     })
+}
+
+/// The best box of one folded trial period `p` (days) over the durations `durs` (days),
+/// from the phase-bin sums `bins` (weights normalised to a total of 1): (Δχ² per unit total
+/// weight, depth, duration in days, mid-box phase time in days from the first point), or
+/// `None` when no box has the sign of `sign`. Box edges at 1/`bins_per_duration` of each
+/// duration; `cumbuf` is working space.
+fn best_box(
+    bins: &[[f64; 2]],
+    p: f64,
+    durs: &[f64],
+    bins_per_duration: usize,
+    sign: f64,
+    cumbuf: &mut Vec<[f64; 2]>,
+) -> Option<(f64, f64, f64, f64)> {
+    let nb = bins.len();
+    let q_max = durs.iter().map(|&d| ((d / p * nb as f64).round() as usize).clamp(1, nb - 1)).max().unwrap_or(1);
+    // prefix sums over the wrapped bins with a leading zero, as far as the longest box
+    // reaches: cw[b] = Σ_{j<b} w_bin[j mod nb], so a window [s, s+q) sums to cw[s+q] − cw[s]
+    let len = nb + q_max;
+    cumbuf.clear();
+    cumbuf.push([0.0; 2]);
+    // the running sum in registers (not re-read from the buffer each step)
+    let mut acc = [0.0f64; 2];
+    cumbuf.extend((0..len).map(|b| {
+        let bin = bins[if b < nb { b } else { b - nb }];
+        acc = [acc[0] + bin[0], acc[1] + bin[1]];
+        acc
+    }));
+    let cum: &[[f64; 2]] = cumbuf;
+    // Best box by cross-multiplication (no division in the loop): keep the numerator sy²
+    // and denominator r(1−r) of the best statistic.
+    let (mut best_num, mut best_den) = (0.0f64, 1.0f64);
+    let (mut best_s, mut best_q, mut best_sy, mut best_r) = (0usize, 0usize, 0.0, 0.0);
+    for &d in durs {
+        let q = ((d / p * nb as f64).round() as usize).clamp(1, nb - 1);
+        // each duration's edges at a tenth (1/bins_per_duration) of itself: longer boxes
+        // slide in longer strides over the fine bins
+        let stride = (q / bins_per_duration).max(1);
+        let (starts, ends) = (&cum[..nb], &cum[q..q + nb]);
+        for s in (0..nb).step_by(stride) {
+            let (lo, hi) = (starts[s], ends[s]);
+            let r = hi[0] - lo[0];
+            let sy = hi[1] - lo[1];
+            let den = r * (1.0 - r);
+            let num = sy * sy;
+            // one branch, rarely taken: the sign test alone is a coin flip per window, so
+            // the tests are combined without short-circuiting
+            if (sign * sy > 0.0) & (r > 1e-12) & (r < 1.0 - 1e-12) & (num * best_den > best_num * den) {
+                best_num = num;
+                best_den = den;
+                best_s = s;
+                best_q = q;
+                best_sy = sy;
+                best_r = r;
+            }
+        }
+    }
+    if best_num > 0.0 {
+        let mid = (best_s as f64 + 0.5 * best_q as f64) / nb as f64;
+        let den = best_r * (1.0 - best_r);
+        Some((best_num / den, best_sy.abs() / den, best_q as f64 * p / nb as f64, (mid - mid.floor()) * p))
+    } else {
+        None
+    }
 }
 
 /// Measures a box at period `period_d`, mid-event time `epoch_d` (days, the series'

@@ -1,7 +1,7 @@
 //! Phase folding for the box search ([`super::bls::box_search`]): the weight and the
 //! weighted value of every point summed into `nb` equal phase bins at one trial frequency.
-//! Two exact kernels give the same bin sums; [`PhaseFolder::fold`] takes the cheaper one
-//! for each trial frequency:
+//! Two exact kernels give the same bin sums; [`PhaseFolder::fold_group`] takes the cheaper
+//! one for each trial frequency:
 //!
 //! - **scatter**: each point's phase bin computed and its sums added to that bin, O(N) per
 //!   trial frequency;
@@ -104,16 +104,56 @@ impl<'a> PhaseFolder<'a> {
         }
     }
 
-    /// Sums of weight and weighted value per phase bin at frequency `f` (c/d, > 0) with `nb`
-    /// bins (2 ≤ nb ≤ 2²⁰; phase 0 at the first point) into `bins` (resized to `nb`),
-    /// with `scratch` as working space.
+    /// [`PhaseFolder::fold_group`] at one frequency (the tests' form).
+    #[cfg(test)]
     pub(crate) fn fold(&self, f: f64, nb: usize, kernel: FoldKernel, bins: &mut Vec<[f64; 2]>, scratch: &mut Scratch) {
-        let kernel = if kernel == FoldKernel::Cheaper { self.cheaper_kernel(f, nb) } else { kernel };
-        bins.clear();
-        bins.resize(nb, [0.0; 2]);
-        match kernel {
-            FoldKernel::EdgeCrossings => self.fold_crossings(f, nb, bins),
-            _ => self.fold_scatter(f, nb, bins, scratch),
+        self.fold_group(&[f], &[nb], kernel, std::slice::from_mut(bins), scratch);
+    }
+
+    /// Sums of weight and weighted value per phase bin at each frequency `fs[g]` (c/d, > 0)
+    /// with `nbs[g]` bins (2 ≤ nb ≤ 2²⁰; phase 0 at the first point) into `bins[g]`
+    /// (resized to `nbs[g]`), for as many frequencies as `fs` (at most [`FOLD_GROUP`]), with
+    /// `scratch` as working space. The frequencies folded by the scatter kernel share one
+    /// pass over the points (each point's time and sums read once for all of them); the
+    /// bin sums at a frequency do not depend on the others of its group.
+    pub(crate) fn fold_group(
+        &self,
+        fs: &[f64],
+        nbs: &[usize],
+        kernel: FoldKernel,
+        bins: &mut [Vec<[f64; 2]>],
+        scratch: &mut Scratch,
+    ) {
+        assert!(fs.len() <= FOLD_GROUP && nbs.len() == fs.len() && bins.len() >= fs.len());
+        let mut scattered = [(0.0, 0usize); FOLD_GROUP];
+        let mut count = 0;
+        for (g, (&f, &nb)) in fs.iter().zip(nbs).enumerate() {
+            let k = if kernel == FoldKernel::Cheaper { self.cheaper_kernel(f, nb) } else { kernel };
+            bins[g].clear();
+            bins[g].resize(nb, [0.0; 2]);
+            if k == FoldKernel::EdgeCrossings {
+                self.fold_crossings(f, nb, &mut bins[g]);
+            } else {
+                scattered[count] = (f, g);
+                count += 1;
+            }
+        }
+        // SCATTER_LANES histograms per frequency, point i into histogram i mod SCATTER_LANES:
+        // consecutive points of a dense light curve often share a phase bin, and a chain of
+        // additions to one memory cell waits on each store; two points apart, with the
+        // other frequencies' additions in between, they rarely do. Merged at the end.
+        let lanes = &mut scratch.lanes;
+        lanes.resize_with(FOLD_GROUP, Vec::new);
+        let mut freqs = [0.0; FOLD_GROUP];
+        let mut sizes = [0usize; FOLD_GROUP];
+        for (j, &(f, g)) in scattered[..count].iter().enumerate() {
+            lanes[j].clear();
+            lanes[j].resize(SCATTER_LANES * nbs[g], [0.0; 2]);
+            (freqs[j], sizes[j]) = (f, nbs[g]);
+        }
+        scatter_group(self.dt, self.pairs, &freqs[..count], &sizes[..count], &mut lanes[..count]);
+        for (j, &(_, g)) in scattered[..count].iter().enumerate() {
+            merge_lanes(&lanes[j], &mut bins[g]);
         }
     }
 
@@ -153,29 +193,111 @@ impl<'a> PhaseFolder<'a> {
         bins[j][0] += cur[0] - prev[0];
         bins[j][1] += cur[1] - prev[1];
     }
+}
 
-    fn fold_scatter(&self, f: f64, nb: usize, bins: &mut [[f64; 2]], scratch: &mut Scratch) {
-        // Four histograms, point i into histogram i mod 4: consecutive points of a dense
-        // light curve often share a phase bin, and a chain of additions to one memory cell
-        // waits on each store; four points apart they rarely do. Merged at the end.
-        let lanes = &mut scratch.lanes;
-        lanes.clear();
-        lanes.resize(SCATTER_LANES * nb, [0.0; 2]);
-        scatter_lanes(self.dt, self.pairs, f, nb, lanes);
-        for (j, out) in bins.iter_mut().enumerate() {
-            let (a, b, c, d) = (lanes[j], lanes[nb + j], lanes[2 * nb + j], lanes[3 * nb + j]);
-            *out = [(a[0] + b[0]) + (c[0] + d[0]), (a[1] + b[1]) + (c[1] + d[1])];
+/// Sums the [`SCATTER_LANES`] histograms of `lanes` (one after the other, `bins.len()`
+/// bins each) into `bins`.
+fn merge_lanes(lanes: &[[f64; 2]], bins: &mut [[f64; 2]]) {
+    let (first, second) = lanes.split_at(bins.len());
+    for ((out, a), b) in bins.iter_mut().zip(first).zip(second) {
+        *out = [a[0] + b[0], a[1] + b[1]];
+    }
+}
+
+/// Most frequencies [`PhaseFolder::fold_group`] folds in one pass. Two measured fastest on
+/// the development machine (2026-12-04, box benchmark of `benches/search_speed.rs`, one
+/// thread: 0.238 s one at a time with four histograms each, 0.205 s two at a time with two
+/// each; four at a time no faster, their histograms no longer fit the L1 cache).
+pub(crate) const FOLD_GROUP: usize = 2;
+
+/// Adds point i's `pairs[i]` to bin [`phase_bin`] of histogram i mod [`SCATTER_LANES`] of
+/// each frequency `fs[g]` with `nbs[g]` bins (`lanes[g]` holds that frequency's histograms
+/// one after the other), in one pass over the points where the CPU has AVX.
+fn scatter_group(dt: &[f64], pairs: &[[f64; 2]], fs: &[f64], nbs: &[usize], lanes: &mut [Vec<[f64; 2]>]) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx") {
+            // SAFETY: the CPU supports AVX (checked just above).
+            unsafe {
+                match fs.len() {
+                    2 => return scatter_group_avx::<2>(dt, pairs, fs, nbs, lanes),
+                    1 => return scatter_group_avx::<1>(dt, pairs, fs, nbs, lanes),
+                    _ => {}
+                }
+            }
         }
+    }
+    for ((&f, &nb), h) in fs.iter().zip(nbs).zip(lanes.iter_mut()) {
+        scatter_lanes_body(dt, pairs, f, nb, h, 0);
+    }
+}
+
+/// AVX form of [`scatter_group`] for `G` frequencies: per four points, the times and the
+/// four (weight, weighted value) pairs are loaded once; then, for each frequency, four
+/// phases at a time (packed multiply, truncation and f64 → i32 conversion, exact here:
+/// 0 ≤ bin < nb ≤ 2²⁰) and each pair added to its bin as one packed addition.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx")]
+unsafe fn scatter_group_avx<const G: usize>(
+    dt: &[f64],
+    pairs: &[[f64; 2]],
+    fs: &[f64],
+    nbs: &[usize],
+    lanes: &mut [Vec<[f64; 2]>],
+) {
+    use std::arch::x86_64::*;
+    let n = dt.len().min(pairs.len());
+    assert!(fs.len() == G && nbs.len() == G && lanes.len() == G);
+    for g in 0..G {
+        assert!(nbs[g] >= 1 && lanes[g].len() >= SCATTER_LANES * nbs[g]);
+    }
+    let n4 = n / 4 * 4;
+    let vf: [__m256d; G] = std::array::from_fn(|g| _mm256_set1_pd(fs[g]));
+    let vnb: [__m256d; G] = std::array::from_fn(|g| _mm256_set1_pd(nbs[g] as f64));
+    let vlast: [__m256d; G] = std::array::from_fn(|g| _mm256_set1_pd((nbs[g] - 1) as f64));
+    let h: [*mut f64; G] = std::array::from_fn(|g| lanes[g].as_mut_ptr() as *mut f64);
+    let p = pairs.as_ptr() as *const f64;
+    let mut i = 0;
+    while i < n4 {
+        // SAFETY: i + 4 ≤ n4 ≤ the lengths of `dt` and `pairs`; at each frequency every bin
+        // b lies in 0..nb (the phase is in [0, 1) and clamped to nb − 1; dt ≥ 0 and
+        // finite), so histogram l's bin b, at l·nb + b < 2·nb ≤ lanes[g].len(), is in bounds.
+        unsafe {
+            let d = _mm256_loadu_pd(dt.as_ptr().add(i));
+            let sums: [__m128d; 4] = std::array::from_fn(|k| _mm_loadu_pd(p.add(2 * (i + k))));
+            for g in 0..G {
+                let x = _mm256_mul_pd(d, vf[g]);
+                let ph = _mm256_sub_pd(x, _mm256_round_pd::<{ _MM_FROUND_TO_ZERO | _MM_FROUND_NO_EXC }>(x));
+                let b = _mm256_cvttpd_epi32(_mm256_min_pd(_mm256_mul_pd(ph, vnb[g]), vlast[g]));
+                let nb = nbs[g];
+                // point i + k into histogram k mod 2 (i is a multiple of 4)
+                let cells = [
+                    _mm_cvtsi128_si32(b) as usize,
+                    _mm_extract_epi32::<1>(b) as usize + nb,
+                    _mm_extract_epi32::<2>(b) as usize,
+                    _mm_extract_epi32::<3>(b) as usize + nb,
+                ];
+                for k in 0..4 {
+                    let cell = h[g].add(2 * cells[k]);
+                    _mm_storeu_pd(cell, _mm_add_pd(_mm_loadu_pd(cell), sums[k]));
+                }
+            }
+        }
+        i += 4;
+    }
+    for g in 0..G {
+        scatter_lanes_body(&dt[..n], &pairs[..n], fs[g], nbs[g], &mut lanes[g], n4);
     }
 }
 
 /// Histograms of the scatter kernel (point i into histogram i mod this).
-const SCATTER_LANES: usize = 4;
+const SCATTER_LANES: usize = 2;
 
-/// Working space of [`PhaseFolder::fold`], one per thread.
+/// Working space of [`PhaseFolder::fold_group`], one per thread.
 #[derive(Debug, Default)]
 pub(crate) struct Scratch {
-    lanes: Vec<[f64; 2]>,
+    /// The histograms of each frequency of a group ([`PhaseFolder::fold_group`]).
+    lanes: Vec<Vec<[f64; 2]>>,
 }
 
 /// Phase bin of a time offset `d` (days ≥ 0) at frequency `f` with `nb` bins:
@@ -187,20 +309,8 @@ fn phase_bin(d: f64, f: f64, nb: usize) -> usize {
     ((x - x.trunc()) * nb as f64).min((nb - 1) as f64) as usize
 }
 
-/// Adds point i's `pairs[i]` to bin [`phase_bin`] of histogram i mod [`SCATTER_LANES`]
-/// (`lanes` holds the histograms one after the other, `nb` bins each).
-fn scatter_lanes(dt: &[f64], pairs: &[[f64; 2]], f: f64, nb: usize, lanes: &mut [[f64; 2]]) {
-    #[cfg(target_arch = "x86_64")]
-    {
-        if std::arch::is_x86_feature_detected!("avx") {
-            // SAFETY: the CPU supports AVX (checked just above).
-            return unsafe { scatter_lanes_avx(dt, pairs, f, nb, lanes) };
-        }
-    }
-    scatter_lanes_body(dt, pairs, f, nb, lanes, 0)
-}
-
-/// Portable [`scatter_lanes`] from point `start` on.
+/// Portable scatter of one frequency into its [`SCATTER_LANES`] histograms (`lanes`, one
+/// after the other, `nb` bins each), from point `start` on.
 #[inline(always)]
 fn scatter_lanes_body(dt: &[f64], pairs: &[[f64; 2]], f: f64, nb: usize, lanes: &mut [[f64; 2]], start: usize) {
     for (i, (&d, p)) in dt.iter().zip(pairs).enumerate().skip(start) {
@@ -208,44 +318,6 @@ fn scatter_lanes_body(dt: &[f64], pairs: &[[f64; 2]], f: f64, nb: usize, lanes: 
         h[0] += p[0];
         h[1] += p[1];
     }
-}
-
-/// AVX twin of [`scatter_lanes_body`]: four phases at a time (packed multiply,
-/// truncation and f64 → i32 conversion, exact here: 0 ≤ bin < nb ≤ 2²⁰), each pair added
-/// to its bin as one packed addition.
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx")]
-unsafe fn scatter_lanes_avx(dt: &[f64], pairs: &[[f64; 2]], f: f64, nb: usize, lanes: &mut [[f64; 2]]) {
-    use std::arch::x86_64::*;
-    let n = dt.len().min(pairs.len());
-    assert!(lanes.len() >= SCATTER_LANES * nb && nb >= 1);
-    let n4 = n / 4 * 4;
-    let vf = _mm256_set1_pd(f);
-    let vnb = _mm256_set1_pd(nb as f64);
-    let vlast = _mm256_set1_pd((nb - 1) as f64);
-    let h = lanes.as_mut_ptr() as *mut f64;
-    let p = pairs.as_ptr() as *const f64;
-    let mut i = 0;
-    while i < n4 {
-        // SAFETY: i + 4 ≤ n4 ≤ the lengths of `dt` and `pairs`; every bin b lies in
-        // 0..nb (the phase is in [0, 1) and clamped to nb − 1; dt ≥ 0 and finite), so
-        // histogram l's bin b, at l·nb + b < 4·nb ≤ lanes.len(), is in bounds.
-        unsafe {
-            let x = _mm256_mul_pd(_mm256_loadu_pd(dt.as_ptr().add(i)), vf);
-            let ph = _mm256_sub_pd(x, _mm256_round_pd::<{ _MM_FROUND_TO_ZERO | _MM_FROUND_NO_EXC }>(x));
-            let b = _mm256_cvttpd_epi32(_mm256_min_pd(_mm256_mul_pd(ph, vnb), vlast));
-            let b0 = _mm_cvtsi128_si32(b) as usize;
-            let b1 = _mm_extract_epi32::<1>(b) as usize + nb;
-            let b2 = _mm_extract_epi32::<2>(b) as usize + 2 * nb;
-            let b3 = _mm_extract_epi32::<3>(b) as usize + 3 * nb;
-            for (k, bk) in [b0, b1, b2, b3].into_iter().enumerate() {
-                let cell = h.add(2 * bk);
-                _mm_storeu_pd(cell, _mm_add_pd(_mm_loadu_pd(cell), _mm_loadu_pd(p.add(2 * (i + k)))));
-            }
-        }
-        i += 4;
-    }
-    scatter_lanes_body(&dt[..n], &pairs[..n], f, nb, lanes, n4)
 }
 
 /// Sums of consecutive points within time bins of `width_d` days (bin k holds the offsets
