@@ -125,7 +125,12 @@ pub struct RowKey {
 impl RowKey {
     /// The key of row `r`; `observers[0]` must be the geocentre.
     pub fn of(corrector: &BarycentricCorrector, observers: &[Observer], r: &RowTime) -> RowKey {
-        let (table, slow) = row_slots(corrector, observers, r);
+        RowKey::from_key_tt(observers, r, key_tt(corrector, r))
+    }
+
+    /// As [`RowKey::of`] with the row's key TT ([`key_tt`]) already computed.
+    fn from_key_tt(observers: &[Observer], r: &RowTime, key: Option<Instant>) -> RowKey {
+        let (table, slow) = row_slots(observers, r, key);
         let table = table.map(|(group, slot, margin)| {
             let range = slots_used(slot);
             (group, range.start() - margin, range.end() + margin)
@@ -342,11 +347,14 @@ impl<'a> CorrectionPlan<'a> {
         if !self.active {
             return (exact(SlowParts::Exact), RowPath::Exact);
         }
-        let key = RowKey::of(self.corrector, self.observers, r);
+        // the reading's TT, once for the key and the interpolation
+        let tt = key_tt(self.corrector, r);
+        let key = RowKey::from_key_tt(self.observers, r, tt);
         if let Some((group, lo, hi)) = key.table
             && self.table.get(group).is_some_and(|c| c.pays(lo, hi))
+            && let Some(tt) = tt
         {
-            if let Some(c) = interpolate_row(self.corrector, &self.grids[0], &self.grids[group], r) {
+            if let Some(c) = interpolate_row(self.corrector, &self.grids[0], &self.grids[group], r, tt) {
                 return (Ok(c), RowPath::TableNodes);
             }
             return (exact(SlowParts::Exact), RowPath::Exact);
@@ -408,9 +416,9 @@ impl<'a> PreparedRows<'a> {
 /// approximately known from the key (times on TDB/TCB, heliocentric times).
 #[allow(clippy::type_complexity)]
 fn row_slots(
-    corrector: &BarycentricCorrector,
     observers: &[Observer],
     r: &RowTime,
+    key: Option<Instant>,
 ) -> (Option<(usize, i64, i64)>, Option<(i64, i64)>) {
     let on_tdb = matches!(r.time.scale(), TimeScale::Tdb | TimeScale::Tcb);
     let at_observer_on_tdb = on_tdb && r.reference != ReferencePoint::Barycentric;
@@ -429,16 +437,20 @@ fn row_slots(
     if group.is_none() && !slow_possible {
         return (None, None);
     }
-    let key = match r.time.scale() {
-        TimeScale::Tdb => r.time.relabel(TimeScale::Tt),
-        TimeScale::Tcb => tcb_to_tdb(&r.time).relabel(TimeScale::Tt),
-        _ => match corrector.converter().convert(&r.time, TimeScale::Tt) {
-            Ok(tt) => tt,
-            Err(_) => return (None, None),
-        },
-    };
+    let Some(key) = key else { return (None, None) };
     let margin = i64::from(on_tdb || r.reference == ReferencePoint::Heliocentric);
     (group.map(|g| (g, table_slot(&key).0, margin)), slow_possible.then(|| (slow_slot(&key).0, margin)))
+}
+
+/// The TT that places row `r` among the node slots: its reading converted to TT, or for a
+/// reading on TDB (TCB via TDB) the same number taken as TT (hence the margin of one node
+/// in [`row_slots`]); `None` where the reading cannot be converted.
+fn key_tt(corrector: &BarycentricCorrector, r: &RowTime) -> Option<Instant> {
+    match r.time.scale() {
+        TimeScale::Tdb => Some(r.time.relabel(TimeScale::Tt)),
+        TimeScale::Tcb => Some(tcb_to_tdb(&r.time).relabel(TimeScale::Tt)),
+        _ => corrector.converter().convert(&r.time, TimeScale::Tt).ok(),
+    }
 }
 
 /// TT for a reading on TDB, by the fixed-point iteration of the exact converter with the
@@ -453,12 +465,14 @@ fn tdb_to_tt(geocentre: &NodeGrid, tdb: &Instant) -> Option<Instant> {
 }
 
 /// One row through the nodes, term for term as [`BarycentricCorrector::correct`] computes
-/// it; `None` where the nodes cannot serve it.
+/// it; `None` where the nodes cannot serve it. `key` is the row's [`key_tt`]: for a reading
+/// on neither TDB nor TCB, its TT.
 fn interpolate_row(
     corrector: &BarycentricCorrector,
     geocentre: &NodeGrid,
     grid: &NodeGrid,
     r: &RowTime,
+    key: Instant,
 ) -> Option<Corrected> {
     match r.reference {
         ReferencePoint::Barycentric => {
@@ -469,7 +483,7 @@ fn interpolate_row(
                     (tdb_to_tt(geocentre, &tdb)?, tdb)
                 }
                 _ => {
-                    let tt = corrector.converter().convert(&r.time, TimeScale::Tt).ok()?;
+                    let tt = key;
                     let g = geocentre.interpolate(&tt)?.values[NodeTerms::EINSTEIN];
                     (tt, tt.add_seconds(g).relabel(TimeScale::Tdb))
                 }
@@ -487,7 +501,8 @@ fn interpolate_row(
                 observer_barycentric_km: None,
             })
         }
-        ReferencePoint::Observer => at_observer(corrector, grid, &r.time, 0.0),
+        // no key for a reading on TDB or TCB at an observer: such rows take the exact path
+        ReferencePoint::Observer => at_observer(grid, &r.time, key, 0.0),
         ReferencePoint::Heliocentric => {
             // The exact path's fixed-point iteration, with the heliocentric light time
             // (r_obs − r_Sun)·n̂/c interpolated.
@@ -499,18 +514,14 @@ fn interpolate_row(
                 helio = v[NodeTerms::ROEMER] - v[NodeTerms::SUN_PROJECTION];
                 obs_time = r.time.add_seconds(-helio);
             }
-            at_observer(corrector, grid, &obs_time, helio)
+            let tt = corrector.converter().convert(&obs_time, TimeScale::Tt).ok()?;
+            at_observer(grid, &obs_time, tt, helio)
         }
     }
 }
 
-fn at_observer(
-    corrector: &BarycentricCorrector,
-    grid: &NodeGrid,
-    clock: &Instant,
-    heliocentric_removed_s: f64,
-) -> Option<Corrected> {
-    let tt = corrector.converter().convert(clock, TimeScale::Tt).ok()?;
+/// The correction of the reading `clock` (its TT `tt`) at the observer of `grid`.
+fn at_observer(grid: &NodeGrid, clock: &Instant, tt: Instant, heliocentric_removed_s: f64) -> Option<Corrected> {
     let terms = grid.interpolate(&tt)?;
     let v = terms.values;
     let tdb = tt.add_seconds(v[NodeTerms::EINSTEIN]).relabel(TimeScale::Tdb);

@@ -389,8 +389,6 @@ impl RunningSummary {
         results: Vec<(Result<Corrected, ArrivalError>, RowPath)>,
         columns: &mut impl RowSink,
     ) -> Result<(), TableError> {
-        let leap = corrector.converter().leap_seconds();
-        let summary = &mut self.summary;
         for (k, (result, path)) in results.into_iter().enumerate() {
             let c = result.map_err(|e| TableError::Cell {
                 file: file.to_string(),
@@ -398,32 +396,75 @@ impl RunningSummary {
                 column: request.time_column.clone(),
                 message: e.to_string(),
             })?;
-            let (clock, input) = (&clocks[k], &rows[k].time);
-            summary.rows_interpolated += usize::from(path == RowPath::TableNodes);
-            summary.rows_with_interpolated_slow_terms += usize::from(path == RowPath::SlowTermNodes);
-            if input.scale() == TimeScale::Utc
-                && let Some(days) = leap.days_beyond_horizon(input.mjd_day())
-            {
-                summary.rows_beyond_leap_second_horizon += 1;
-                summary.max_days_beyond_leap_second_horizon = summary.max_days_beyond_leap_second_horizon.max(days);
-            }
-            if c.earth_orientation_from_table {
-                summary.rows_with_earth_orientation_table += 1;
-            }
             let d = &c.delays;
             let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
-            summary.min_total_correction_s = summary.min_total_correction_s.min(total);
-            summary.max_total_correction_s = summary.max_total_correction_s.max(total);
-            let label = match self.labels.iter().position(|(k, _)| k == clock) {
-                Some(j) => j,
-                None => {
-                    self.labels.push((*clock, clock_label(clock)));
-                    self.labels.len() - 1
-                }
-            };
+            let label = self.tally(corrector, &rows[k].time, &clocks[k], path, total, c.earth_orientation_from_table);
             columns.push(&c, total, label, &self.labels[label].1);
         }
         Ok(())
+    }
+
+    /// As [`RunningSummary::add_block`] for rows already turned into their output text
+    /// ([`RowOutcome::of`], in parallel), appended to `text`.
+    #[allow(clippy::too_many_arguments)]
+    fn add_outcomes(
+        &mut self,
+        file: &str,
+        request: &TableRequest,
+        corrector: &BarycentricCorrector,
+        first: usize,
+        rows: &[RowTime],
+        clocks: &[ClockSpec],
+        outcomes: Vec<(Result<RowOutcome, ArrivalError>, RowPath)>,
+        text: &mut AddedText,
+    ) -> Result<(), TableError> {
+        for (k, (result, path)) in outcomes.into_iter().enumerate() {
+            let mut outcome = result.map_err(|e| TableError::Cell {
+                file: file.to_string(),
+                row: first + k + 1,
+                column: request.time_column.clone(),
+                message: e.to_string(),
+            })?;
+            let total = outcome.text.values[9];
+            outcome.text.label =
+                self.tally(corrector, &rows[k].time, &clocks[k], path, total, outcome.earth_orientation_from_table);
+            text.rows.push(outcome.text);
+        }
+        Ok(())
+    }
+
+    /// Counts one corrected row (input time `input` in clock `clock`, corrected by `path`,
+    /// total correction `total` s) in the summary; returns the index of its clock label.
+    fn tally(
+        &mut self,
+        corrector: &BarycentricCorrector,
+        input: &Instant,
+        clock: &ClockSpec,
+        path: RowPath,
+        total: f64,
+        earth_orientation_from_table: bool,
+    ) -> usize {
+        let summary = &mut self.summary;
+        summary.rows_interpolated += usize::from(path == RowPath::TableNodes);
+        summary.rows_with_interpolated_slow_terms += usize::from(path == RowPath::SlowTermNodes);
+        if input.scale() == TimeScale::Utc
+            && let Some(days) = corrector.converter().leap_seconds().days_beyond_horizon(input.mjd_day())
+        {
+            summary.rows_beyond_leap_second_horizon += 1;
+            summary.max_days_beyond_leap_second_horizon = summary.max_days_beyond_leap_second_horizon.max(days);
+        }
+        if earth_orientation_from_table {
+            summary.rows_with_earth_orientation_table += 1;
+        }
+        summary.min_total_correction_s = summary.min_total_correction_s.min(total);
+        summary.max_total_correction_s = summary.max_total_correction_s.max(total);
+        match self.labels.iter().position(|(k, _)| k == clock) {
+            Some(j) => j,
+            None => {
+                self.labels.push((*clock, clock_label(clock)));
+                self.labels.len() - 1
+            }
+        }
     }
 
     /// The clock labels seen, sorted.
@@ -457,21 +498,33 @@ struct RowText {
     label: usize,
 }
 
+/// A corrected row as [`RunningSummary::add_outcomes`] takes it: its output text (the
+/// label still to be set) and whether its Earth orientation came from the table.
+struct RowOutcome {
+    text: RowText,
+    earth_orientation_from_table: bool,
+}
+
+impl RowOutcome {
+    fn of(c: &Corrected) -> RowOutcome {
+        let d = &c.delays;
+        let total = d.clock_to_tt_s + d.einstein_s + d.barycentric_s() - d.heliocentric_removed_s;
+        RowOutcome {
+            text: RowText {
+                bjd_tdb: jd_text_parts(&c.bjd_tdb),
+                observer_tdb: jd_text_parts(&c.observer_tdb),
+                values: output_values(c, total),
+                label: 0,
+            },
+            earth_orientation_from_table: c.earth_orientation_from_table,
+        }
+    }
+}
+
 /// The output values of a block of rows, written as text after the other columns.
 #[derive(Default)]
 struct AddedText {
     rows: Vec<RowText>,
-}
-
-impl RowSink for AddedText {
-    fn push(&mut self, c: &Corrected, total: f64, label: usize, _text: &str) {
-        self.rows.push(RowText {
-            bjd_tdb: jd_text_parts(&c.bjd_tdb),
-            observer_tdb: jd_text_parts(&c.observer_tdb),
-            values: output_values(c, total),
-            label,
-        });
-    }
 }
 
 impl AddedText {
@@ -485,13 +538,13 @@ impl AddedText {
             push_jd_text(out, r.bjd_tdb);
             for v in &r.values[..2] {
                 out.push(separator);
-                out.extend_from_slice(number.format(*v).as_bytes());
+                push_short(out, number.format(*v).as_bytes());
             }
             out.push(separator);
             push_jd_text(out, r.observer_tdb);
             for v in &r.values[2..] {
                 out.push(separator);
-                out.extend_from_slice(number.format(*v).as_bytes());
+                push_short(out, number.format(*v).as_bytes());
             }
             out.push(separator);
             out.extend_from_slice(labels[r.label].as_bytes());
@@ -672,9 +725,16 @@ pub fn correct_text_table_in_blocks(
             text.rows.clear();
             for start in (0..block.rows.len()).step_by(CORRECTED_RUN_ROWS) {
                 let run = start..(start + CORRECTED_RUN_ROWS).min(block.rows.len());
-                let results = plan.correct(&block.rows[run.clone()]);
                 let (rows, clocks) = (&block.rows[run.clone()], &block.clocks[run]);
-                summary.add_block(&file, request, corrector, first + start, rows, clocks, results, &mut text)?;
+                // corrected and turned into text in parallel; only the tally is in order
+                let outcomes: Vec<(Result<RowOutcome, ArrivalError>, RowPath)> = rows
+                    .par_iter()
+                    .map(|r| {
+                        let (result, path) = plan.correct_row(r);
+                        (result.map(|c| RowOutcome::of(&c)), path)
+                    })
+                    .collect();
+                summary.add_outcomes(&file, request, corrector, first + start, rows, clocks, outcomes, &mut text)?;
             }
             if let Some(e) = block.unreadable {
                 return Err(e);
@@ -766,6 +826,44 @@ fn write_jd_text(buffer: &mut String, t: &Instant) {
     buffer.push_str(&format!("{whole}.{digits:014}"));
 }
 
+/// Appends `bytes` to `out` (the same as `extend_from_slice`): 8 to 32 bytes, the length of
+/// a formatted number, as two fixed-size copies that may overlap instead of a call to
+/// `memcpy` for each of the ~12 fields of a row.
+#[inline(always)]
+fn push_short(out: &mut Vec<u8>, bytes: &[u8]) {
+    let n = bytes.len();
+    if !(8..=32).contains(&n) {
+        out.extend_from_slice(bytes);
+        return;
+    }
+    out.reserve(32);
+    let at = out.len();
+    let spare = out.spare_capacity_mut();
+    if n >= 16 {
+        let head: [u8; 16] = bytes[..16].try_into().unwrap_or([0; 16]);
+        let tail: [u8; 16] = bytes[n - 16..].try_into().unwrap_or([0; 16]);
+        for (d, b) in spare[..16].iter_mut().zip(head) {
+            d.write(b);
+        }
+        for (d, b) in spare[n - 16..n].iter_mut().zip(tail) {
+            d.write(b);
+        }
+    } else {
+        let head: [u8; 8] = bytes[..8].try_into().unwrap_or([0; 8]);
+        let tail: [u8; 8] = bytes[n - 8..].try_into().unwrap_or([0; 8]);
+        for (d, b) in spare[..8].iter_mut().zip(head) {
+            d.write(b);
+        }
+        for (d, b) in spare[n - 8..n].iter_mut().zip(tail) {
+            d.write(b);
+        }
+    }
+    // SAFETY: the n bytes after the old length were all written just above (the head and
+    // the tail copies together cover 0..n, since n ≤ 2 × their size), within the reserved
+    // capacity.
+    unsafe { out.set_len(at + n) };
+}
+
 /// Appends the JD text of `parts` ([`jd_text_parts`]) to `out`: the same characters as
 /// [`write_jd_text`].
 fn push_jd_text(out: &mut Vec<u8>, (whole, digits): (i64, u64)) {
@@ -783,7 +881,7 @@ fn push_jd_text(out: &mut Vec<u8>, (whole, digits): (i64, u64)) {
             break;
         }
     }
-    out.extend_from_slice(&text[k..]);
+    push_short(out, &text[k..]);
     out.push(b'.');
     let mut d = digits;
     let mut fraction = [b'0'; 14];
@@ -886,6 +984,20 @@ fn observers_per_row(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn short_copies_equal_extend_from_slice_at_every_length() {
+        let source: Vec<u8> = (0..40u8).map(|k| b'a' + k % 26).collect();
+        for prefix in [0usize, 1, 7, 31] {
+            for n in 0..=source.len() {
+                let mut ours = vec![b'#'; prefix];
+                let mut plain = ours.clone();
+                push_short(&mut ours, &source[..n]);
+                plain.extend_from_slice(&source[..n]);
+                assert_eq!(ours, plain, "prefix {prefix}, length {n}");
+            }
+        }
+    }
 
     #[test]
     fn clock_labels() {
