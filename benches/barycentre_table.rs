@@ -52,6 +52,13 @@ fn dense_table(path: &Path, nights: usize) {
             writeln!(out, "{day}.{},{:.5}", &digits[2..], 1.0 + 0.01 * rng.uniform()).unwrap();
         }
     }
+    settle(out);
+}
+
+/// Flushes a generated input to disk before it is timed: otherwise the kernel may still be
+/// writing it back while the first run (ours or astropy's) flushes its own output.
+fn settle(out: std::io::BufWriter<std::fs::File>) {
+    out.into_inner().expect("input written").sync_all().expect("input flushed");
 }
 
 fn sparse_table(path: &Path, rows: usize) {
@@ -66,6 +73,7 @@ fn sparse_table(path: &Path, rows: usize) {
         let digits = if digits.starts_with('1') { "0.999999999".to_string() } else { digits };
         writeln!(out, "{day}.{},{:.5}", &digits[2..], 1.0 + 0.01 * rng.uniform()).unwrap();
     }
+    settle(out);
 }
 
 /// Runs `program args`, timing the whole process; peak memory from /usr/bin/time if present.

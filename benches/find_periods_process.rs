@@ -92,6 +92,8 @@ fn write_csv(path: &Path, t: &[f64], y: &[f64], e: &[f64]) {
     for i in 0..t.len() {
         writeln!(out, "{:.9},{:.6},{}", 2_460_000.5 + t[i], y[i], e[i]).unwrap();
     }
+    // on disk before it is timed (no writeback of the input during the first runs)
+    out.into_inner().expect("input written").sync_all().expect("input flushed");
 }
 
 fn write_parquet(path: &Path, t: &[f64], y: &[f64], e: &[f64]) {

@@ -112,7 +112,7 @@ impl<'a> PhaseFolder<'a> {
 
     /// Sums of weight and weighted value per phase bin at each frequency `fs[g]` (c/d, > 0)
     /// with `nbs[g]` bins (2 ≤ nb ≤ 2²⁰; phase 0 at the first point) into `bins[g]`
-    /// (resized to `nbs[g]`), for as many frequencies as `fs` (at most [`FOLD_GROUP`]), with
+    /// (replacing what they held), for as many frequencies as `fs` (at most [`FOLD_GROUP`]), with
     /// `scratch` as working space. The frequencies folded by the scatter kernel share one
     /// pass over the points (each point's time and sums read once for all of them); the
     /// bin sums at a frequency do not depend on the others of its group.
@@ -130,8 +130,8 @@ impl<'a> PhaseFolder<'a> {
         for (g, (&f, &nb)) in fs.iter().zip(nbs).enumerate() {
             let k = if kernel == FoldKernel::Cheaper { self.cheaper_kernel(f, nb) } else { kernel };
             bins[g].clear();
-            bins[g].resize(nb, [0.0; 2]);
             if k == FoldKernel::EdgeCrossings {
+                bins[g].resize(nb, [0.0; 2]);
                 self.fold_crossings(f, nb, &mut bins[g]);
             } else {
                 scattered[count] = (f, g);
@@ -153,7 +153,7 @@ impl<'a> PhaseFolder<'a> {
         }
         scatter_group(self.dt, self.pairs, &freqs[..count], &sizes[..count], &mut lanes[..count]);
         for (j, &(_, g)) in scattered[..count].iter().enumerate() {
-            merge_lanes(&lanes[j], &mut bins[g]);
+            merge_lanes(&lanes[j], nbs[g], &mut bins[g]);
         }
     }
 
@@ -195,13 +195,11 @@ impl<'a> PhaseFolder<'a> {
     }
 }
 
-/// Sums the [`SCATTER_LANES`] histograms of `lanes` (one after the other, `bins.len()`
-/// bins each) into `bins`.
-fn merge_lanes(lanes: &[[f64; 2]], bins: &mut [[f64; 2]]) {
-    let (first, second) = lanes.split_at(bins.len());
-    for ((out, a), b) in bins.iter_mut().zip(first).zip(second) {
-        *out = [a[0] + b[0], a[1] + b[1]];
-    }
+/// Appends to `bins` the sums of the [`SCATTER_LANES`] histograms of `lanes` (one after
+/// the other, `nb` bins each).
+fn merge_lanes(lanes: &[[f64; 2]], nb: usize, bins: &mut Vec<[f64; 2]>) {
+    let (first, second) = lanes[..2 * nb].split_at(nb);
+    bins.extend(first.iter().zip(second).map(|(a, b)| [a[0] + b[0], a[1] + b[1]]));
 }
 
 /// Most frequencies [`PhaseFolder::fold_group`] folds in one pass. Two measured fastest on

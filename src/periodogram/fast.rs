@@ -21,7 +21,7 @@ use rustfft::{FftPlanner, num_complex::Complex64};
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FastOptions {
     /// Least ratio of FFT length to the number of modes computed (≥ 1.2; the FFT length is
-    /// the next power of two above, and the Gaussian width adapts to the ratio reached).
+    /// the next 2ᵃ·3ᵇ (b ≤ 3) above, and the Gaussian width adapts to the ratio reached).
     pub min_oversampling: f64,
     /// Target error of the gridding relative to Σ|weights| (sets the spreading width).
     pub tolerance: f64,
